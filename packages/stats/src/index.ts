@@ -1,0 +1,1 @@
+export { StatsInputError } from './errors.js';
