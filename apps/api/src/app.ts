@@ -1,0 +1,51 @@
+import { existsSync } from 'node:fs';
+import path from 'node:path';
+import { OpenAPIRegistry } from '@asteasolutions/zod-to-openapi';
+import cookieParser from 'cookie-parser';
+import express from 'express';
+import helmet from 'helmet';
+import { pinoHttp } from 'pino-http';
+import { auditRouter } from './audit/router.js';
+import { authenticate } from './auth/middleware.js';
+import { authRouter } from './auth/router.js';
+import type { Deps } from './deps.js';
+import { apiNotFound, errorHandler } from './errors.js';
+import { healthRouter } from './health/router.js';
+import { openApiRouter } from './openapi/router.js';
+import { sitesRouter } from './sites/router.js';
+import { usersRouter } from './users/router.js';
+
+/** Builds the Express app without listening; tests import this. */
+export function createApp(deps: Deps) {
+  const app = express();
+  app.disable('x-powered-by');
+  app.set('trust proxy', deps.config.trustProxy);
+  app.use(helmet({ contentSecurityPolicy: { directives: { 'upgrade-insecure-requests': deps.config.production ? [] : null } } }));
+  app.use(pinoHttp({ logger: deps.logger, autoLogging: { ignore: (req) => req.url === '/api/health' } }));
+
+  const registry = new OpenAPIRegistry();
+  const api = express.Router();
+  api.use(express.json({ limit: '1mb' }), cookieParser(), authenticate(deps));
+  for (const router of [
+    healthRouter(deps, registry),
+    authRouter(deps, registry),
+    usersRouter(deps, registry),
+    sitesRouter(deps, registry),
+    auditRouter(deps, registry),
+    openApiRouter(registry),
+  ]) {
+    api.use(router);
+  }
+  api.use(apiNotFound);
+  app.use('/api', api);
+
+  const web = deps.config.webDist;
+  if (web && existsSync(path.join(web, 'index.html'))) {
+    app.use(express.static(web, { index: false, maxAge: '1h' }));
+    // Client-side routes: every other GET gets the single-page app.
+    app.get('/{*splat}', (_req, res) => res.sendFile(path.join(web, 'index.html')));
+  }
+
+  app.use(errorHandler);
+  return app;
+}

@@ -1,0 +1,53 @@
+import type { EntityManager } from 'typeorm';
+import type { AuditEvent, AuditQuery } from '@evenhand/entities';
+import { AuditEventEntity, UserEntity } from '@evenhand/entities/orm';
+
+export interface AuditEntry {
+  actorId: string | null;
+  action: string;
+  entityType: string;
+  entityId?: string | null;
+  studyId?: string | null;
+  before?: unknown;
+  after?: unknown;
+}
+
+/** Records an audit event inside the caller's transaction, so the change and its record land together. */
+export async function recordAudit(manager: EntityManager, entry: AuditEntry): Promise<void> {
+  await manager.insert(AuditEventEntity, {
+    actorId: entry.actorId,
+    action: entry.action,
+    entityType: entry.entityType,
+    entityId: entry.entityId ?? null,
+    studyId: entry.studyId ?? null,
+    // jsonb columns take any JSON value; TypeORM's insert typing only knows objects.
+    before: (entry.before ?? null) as object,
+    after: (entry.after ?? null) as object,
+  });
+}
+
+export async function listAudit(manager: EntityManager, query: AuditQuery): Promise<{ items: AuditEvent[]; total: number }> {
+  const qb = manager
+    .createQueryBuilder(AuditEventEntity, 'e')
+    .leftJoin(UserEntity, 'u', 'u.id = e.actor_id')
+    .select(['e.id', 'e.at', 'e.action', 'e.entityType', 'e.entityId', 'e.studyId', 'e.before', 'e.after', 'e.actorId'])
+    .addSelect('u.email', 'actor_email')
+    .orderBy('e.at', 'DESC')
+    .addOrderBy('e.id', 'DESC')
+    .limit(query.limit)
+    .offset(query.offset);
+  if (query.studyId) qb.where('e.study_id = :studyId', { studyId: query.studyId });
+  const [{ entities, raw }, total] = await Promise.all([qb.getRawAndEntities(), qb.getCount()]);
+  const items = entities.map((e, i) => ({
+    id: e.id,
+    at: e.at.toISOString(),
+    actor: e.actorId ? { id: e.actorId, email: (raw[i] as { actor_email: string | null }).actor_email ?? '(deleted)' } : null,
+    action: e.action,
+    entityType: e.entityType,
+    entityId: e.entityId,
+    studyId: e.studyId,
+    before: e.before ?? null,
+    after: e.after ?? null,
+  }));
+  return { items, total };
+}

@@ -1,0 +1,78 @@
+import { timingSafeEqual } from 'node:crypto';
+import type { RequestHandler } from 'express';
+import type { SessionUser } from '@evenhand/entities';
+import type { Deps } from '../deps.js';
+import { AppError } from '../errors.js';
+import type { Access } from '../http/route.js';
+import { loadSessionUser } from './service.js';
+import { CSRF_COOKIE, CSRF_HEADER, SESSION_COOKIE, setSessionCookies, signSession, verifySession } from './session.js';
+
+declare global {
+  // eslint-disable-next-line @typescript-eslint/no-namespace
+  namespace Express {
+    interface Request {
+      user?: SessionUser;
+      /** How the caller proved who they are; cookie callers must also pass the CSRF check. */
+      authVia?: 'cookie' | 'bearer';
+      /** Why a presented credential was refused (forged, expired, deactivated account). */
+      authProblem?: string;
+    }
+  }
+}
+
+/** Reads the bearer token or the session cookie; never rejects by itself (routes decide, via `authorize`). */
+export function authenticate({ config, db }: Deps): RequestHandler {
+  return async (req, res, next) => {
+    const header = req.get('authorization');
+    const bearer = header?.match(/^Bearer\s+(\S+)$/i)?.[1];
+    const token = bearer ?? (req.cookies?.[SESSION_COOKIE] as string | undefined);
+    if (!token) return next();
+    const claims = verifySession(config, token);
+    if (!claims) {
+      req.authProblem = 'Your session is not valid or has expired; please sign in again';
+      return next();
+    }
+    const user = await loadSessionUser(db, claims.sub);
+    if (!user) {
+      req.authProblem = 'This account is no longer active';
+      return next();
+    }
+    req.user = user;
+    req.authVia = bearer ? 'bearer' : 'cookie';
+    // Sliding session for the browser: renew once half of the lifetime has passed.
+    const remaining = claims.exp * 1000 - Date.now();
+    if (req.authVia === 'cookie' && remaining < (config.sessionMinutes * 60 * 1000) / 2) {
+      setSessionCookies(res, config, signSession(config, user.id), req.cookies?.[CSRF_COOKIE]);
+    }
+    next();
+  };
+}
+
+const SAFE_METHODS = new Set(['GET', 'HEAD', 'OPTIONS']);
+
+function sameToken(a: string, b: string): boolean {
+  const x = Buffer.from(a);
+  const y = Buffer.from(b);
+  return x.length === y.length && timingSafeEqual(x, y);
+}
+
+/** Deny by default: every route names its access, and this is the one place that enforces it. */
+export function authorize(access: Access): RequestHandler {
+  return (req, _res, next) => {
+    if (access === 'anyone') return next();
+    if (!req.user) {
+      throw new AppError('unauthenticated', req.authProblem ?? 'Please sign in first');
+    }
+    if (req.authVia === 'cookie' && !SAFE_METHODS.has(req.method)) {
+      const header = req.get(CSRF_HEADER) ?? '';
+      const cookie = (req.cookies?.[CSRF_COOKIE] as string | undefined) ?? '';
+      if (!cookie || !sameToken(header, cookie)) {
+        throw new AppError('csrf_failed', 'The request is missing its security token; reload the page and try again');
+      }
+    }
+    if (access !== 'signed-in' && !req.user.roles.some((g) => access.includes(g.role))) {
+      throw AppError.forbidden();
+    }
+    next();
+  };
+}

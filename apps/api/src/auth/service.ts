@@ -1,0 +1,94 @@
+import { createHash, randomBytes } from 'node:crypto';
+import { IsNull, MoreThan, type DataSource, type EntityManager } from 'typeorm';
+import type { SessionUser } from '@evenhand/entities';
+import { AuthTokenEntity, UserEntity, type AuthTokenKind } from '@evenhand/entities/orm';
+import type { Deps } from '../deps.js';
+import { AppError } from '../errors.js';
+import { recordAudit } from '../audit/service.js';
+import { invitationMail, passwordResetMail } from '../mail/templates.js';
+import { burnPasswordCheck, checkPassword, hashPassword } from './passwords.js';
+
+const TOKEN_HOURS: Record<AuthTokenKind, number> = { password_reset: 1, invitation: 72 };
+
+export function toSessionUser(user: UserEntity): SessionUser {
+  return {
+    id: user.id,
+    email: user.email,
+    name: user.name,
+    roles: (user.grants ?? []).map((g) => ({ role: g.role, siteId: g.siteId })),
+  };
+}
+
+/** The signed-in user with their grants, or null if the account is gone or deactivated. */
+export async function loadSessionUser(db: DataSource, id: string): Promise<SessionUser | null> {
+  const user = await db.getRepository(UserEntity).findOne({ where: { id, active: true }, relations: { grants: true } });
+  return user ? toSessionUser(user) : null;
+}
+
+const WRONG_CREDENTIALS = 'The e-mail address or password is not right';
+
+export async function signIn({ db }: Deps, email: string, password: string): Promise<SessionUser> {
+  const user = await db.getRepository(UserEntity).findOne({ where: { email }, relations: { grants: true } });
+  // Unknown e-mail, no password yet and deactivated accounts all get the same answer and the same delay.
+  if (!user || !user.passwordHash || !user.active) {
+    await burnPasswordCheck(password);
+    throw new AppError('unauthenticated', WRONG_CREDENTIALS);
+  }
+  if (!(await checkPassword(password, user.passwordHash))) throw new AppError('unauthenticated', WRONG_CREDENTIALS);
+  await db.getRepository(UserEntity).update(user.id, { lastSignInAt: new Date() });
+  return toSessionUser(user);
+}
+
+const hashToken = (token: string) => createHash('sha256').update(token).digest('hex');
+
+/** Creates a single-use token; only its hash is stored, the plain value goes into the e-mail. */
+export async function issueToken(manager: EntityManager, userId: string, kind: AuthTokenKind): Promise<string> {
+  const token = randomBytes(32).toString('base64url');
+  await manager.insert(AuthTokenEntity, {
+    userId,
+    kind,
+    tokenHash: hashToken(token),
+    expiresAt: new Date(Date.now() + TOKEN_HOURS[kind] * 3600_000),
+  });
+  return token;
+}
+
+export function setPasswordLink(deps: Deps, token: string): string {
+  return `${deps.config.appUrl}/set-password?token=${encodeURIComponent(token)}`;
+}
+
+export async function sendInvitation(deps: Deps, user: { email: string; name: string }, token: string, invitedBy: string) {
+  await deps.mailer.send({ to: user.email, ...invitationMail({ name: user.name, invitedBy, link: setPasswordLink(deps, token) }) });
+}
+
+/** Always answers the same way, whether or not the address has an account. */
+export async function requestPasswordReset(deps: Deps, email: string): Promise<void> {
+  const user = await deps.db.getRepository(UserEntity).findOne({ where: { email, active: true } });
+  if (!user) return;
+  const token = await issueToken(deps.db.manager, user.id, 'password_reset');
+  await deps.mailer.send({ to: user.email, ...passwordResetMail({ name: user.name, link: setPasswordLink(deps, token) }) });
+}
+
+/** Sets a password from an invitation or reset token; the token works once, before it expires. */
+export async function confirmPasswordReset(deps: Deps, token: string, password: string): Promise<void> {
+  const passwordHash = await hashPassword(password);
+  await deps.db.transaction(async (manager) => {
+    const row = await manager.findOne(AuthTokenEntity, {
+      where: { tokenHash: hashToken(token), usedAt: IsNull(), expiresAt: MoreThan(new Date()) },
+      lock: { mode: 'pessimistic_write' },
+    });
+    if (!row) throw AppError.validation('This link has expired or has already been used; ask for a new one');
+    const user = await manager.findOne(UserEntity, { where: { id: row.userId, active: true } });
+    if (!user) throw AppError.validation('This account is no longer active');
+    await manager.update(AuthTokenEntity, row.id, { usedAt: new Date() });
+    // Any other open links for this account stop working too.
+    await manager.update(AuthTokenEntity, { userId: user.id, usedAt: IsNull() }, { usedAt: new Date() });
+    await manager.update(UserEntity, user.id, { passwordHash });
+    await recordAudit(manager, {
+      actorId: user.id,
+      action: row.kind === 'invitation' ? 'user.invitation_accepted' : 'user.password_reset',
+      entityType: 'user',
+      entityId: user.id,
+    });
+  });
+}

@@ -1,0 +1,4 @@
+// Migrations in the order they run; add each new one at the end.
+import { Foundation1796169600000 } from './1796169600000-foundation.js';
+
+export const migrations = [Foundation1796169600000];

@@ -1,0 +1,38 @@
+const escapeHtml = (s: string) =>
+  s.replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c]!);
+
+function layout(title: string, paragraphs: string[], action: { label: string; link: string }): string {
+  const body = paragraphs.map((p) => `<p style="margin:0 0 16px">${escapeHtml(p)}</p>`).join('');
+  return `<!doctype html><html><body style="margin:0;background:#faf7f2;font-family:'Source Sans 3',Arial,sans-serif;color:#1f2328">
+<div style="max-width:560px;margin:0 auto;padding:32px 24px">
+<h1 style="font-size:20px;margin:0 0 16px">${escapeHtml(title)}</h1>${body}
+<p style="margin:24px 0"><a href="${escapeHtml(action.link)}" style="background:#2f6f5e;color:#fff;padding:10px 18px;border-radius:6px;text-decoration:none">${escapeHtml(action.label)}</a></p>
+<p style="font-size:13px;color:#5b616b">If the button does not work, open this address: ${escapeHtml(action.link)}</p>
+</div></body></html>`;
+}
+
+export function invitationMail(v: { name: string; invitedBy: string; link: string }) {
+  const lines = [
+    `Hello ${v.name},`,
+    `${v.invitedBy} has invited you to Evenhand, where your district runs and reports its intervention studies.`,
+    'Choose a password to activate your account. The link works once and expires in 72 hours.',
+  ];
+  return {
+    subject: 'You are invited to Evenhand',
+    text: `${lines.join('\n\n')}\n\nSet your password: ${v.link}\n`,
+    html: layout('Welcome to Evenhand', lines, { label: 'Set your password', link: v.link }),
+  };
+}
+
+export function passwordResetMail(v: { name: string; link: string }) {
+  const lines = [
+    `Hello ${v.name},`,
+    'Someone asked to reset the password of your Evenhand account. If it was you, choose a new password below; the link works once and expires in one hour.',
+    'If it was not you, ignore this message: your password stays as it is.',
+  ];
+  return {
+    subject: 'Reset your Evenhand password',
+    text: `${lines.join('\n\n')}\n\nChoose a new password: ${v.link}\n`,
+    html: layout('Reset your password', lines, { label: 'Choose a new password', link: v.link }),
+  };
+}

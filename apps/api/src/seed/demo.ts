@@ -1,0 +1,62 @@
+import type { EntityManager } from 'typeorm';
+import type { Role } from '@evenhand/entities';
+import { RoleGrantEntity, SiteEntity, UserEntity } from '@evenhand/entities/orm';
+import { hashPassword } from '../auth/passwords.js';
+
+/** Every demo account signs in with this password (development and tests only). */
+export const DEMO_PASSWORD = 'evenhand-demo';
+
+/** Larkspur Valley is an invented district; its schools and people are made up. */
+export const demoSites = [
+  { code: 'ALD', name: 'Alder Street Elementary' },
+  { code: 'BRK', name: 'Brookfield Middle School' },
+  { code: 'CDH', name: 'Cedar Hollow Elementary' },
+  { code: 'DNP', name: 'Dunmore Park Elementary' },
+  { code: 'ELR', name: 'Elm Ridge Middle School' },
+  { code: 'FRN', name: 'Fernbank Elementary' },
+] as const;
+
+type DemoAccount = { email: string; name: string; grants: { role: Role; site?: string }[] };
+
+export const demoAccounts: DemoAccount[] = [
+  { email: 'admin@evenhand.test', name: 'Avery Okafor', grants: [{ role: 'admin' }] },
+  { email: 'coordinator@evenhand.test', name: 'Corin Delacroix', grants: [{ role: 'coordinator' }] },
+  { email: 'lead@evenhand.test', name: 'Leigh Marsh-Tanaka', grants: [{ role: 'research_lead' }] },
+  { email: 'teacher1@evenhand.test', name: 'Tomasz Ferreira', grants: [{ role: 'teacher', site: 'ALD' }] },
+  { email: 'teacher2@evenhand.test', name: 'Priya Lindqvist', grants: [{ role: 'teacher', site: 'ALD' }] },
+  { email: 'teacher3@evenhand.test', name: 'Jonah Abernethy', grants: [{ role: 'teacher', site: 'BRK' }] },
+  { email: 'teacher4@evenhand.test', name: 'Marisol Quinlan', grants: [{ role: 'teacher', site: 'BRK' }] },
+  { email: 'principal1@evenhand.test', name: 'Dr. Helena Voss', grants: [{ role: 'principal', site: 'ALD' }] },
+  { email: 'principal2@evenhand.test', name: 'Samuel Achterberg', grants: [{ role: 'principal', site: 'BRK' }] },
+  { email: 'reviewer@evenhand.test', name: 'Rowan Esterházy', grants: [{ role: 'reviewer' }] },
+];
+
+/** Idempotent: adds what is missing, leaves what exists (including changed passwords) alone. */
+export async function seedDemo(manager: EntityManager): Promise<{ created: number }> {
+  let created = 0;
+  const siteIds = new Map<string, string>();
+  for (const site of demoSites) {
+    await manager.createQueryBuilder().insert().into(SiteEntity).values(site).orIgnore().execute();
+    const row = await manager.findOneByOrFail(SiteEntity, { code: site.code });
+    siteIds.set(site.code, row.id);
+  }
+  const passwordHash = await hashPassword(DEMO_PASSWORD);
+  for (const account of demoAccounts) {
+    if (await manager.existsBy(UserEntity, { email: account.email })) continue;
+    const user = await manager.save(manager.create(UserEntity, { email: account.email, name: account.name, passwordHash, active: true }));
+    await manager.insert(
+      RoleGrantEntity,
+      account.grants.map((g) => ({ userId: user.id, role: g.role, siteId: g.site ? siteIds.get(g.site)! : null })),
+    );
+    created++;
+  }
+  return { created };
+}
+
+/** Empties every table but the migrations log (TRUNCATE also bypasses the audit trail's row triggers). */
+export async function resetDatabase(manager: EntityManager): Promise<void> {
+  const tables: { tablename: string }[] = await manager.query(
+    `SELECT tablename FROM pg_tables WHERE schemaname = 'public' AND tablename <> 'migrations'`,
+  );
+  if (tables.length) await manager.query(`TRUNCATE ${tables.map((t) => `"${t.tablename}"`).join(', ')} CASCADE`);
+}

@@ -1,0 +1,52 @@
+import type { OpenAPIRegistry } from '@asteasolutions/zod-to-openapi';
+import { idParamsSchema, inviteUserSchema, pageOf, updateUserSchema, userSchema, usersQuerySchema } from '@evenhand/entities';
+import type { Deps } from '../deps.js';
+import { ResourceRouter } from '../http/route.js';
+import { inviteUser, listUsers, updateUser } from './service.js';
+
+export function usersRouter(deps: Deps, registry: OpenAPIRegistry) {
+  const r = new ResourceRouter(registry);
+  const tag = 'Accounts';
+
+  r.route(
+    {
+      method: 'get',
+      path: '/users',
+      summary: 'List accounts (search, filter by role, sort, paginate)',
+      access: ['admin'],
+      tag,
+      query: usersQuerySchema,
+      responses: { 200: { description: 'A page of accounts', schema: pageOf(userSchema) } },
+    },
+    async ({ query }) => ({ body: await listUsers(deps, query) }),
+  );
+
+  r.route(
+    {
+      method: 'post',
+      path: '/users',
+      summary: 'Invite a person: creates the account and e-mails a set-password link',
+      access: ['admin'],
+      tag,
+      body: inviteUserSchema,
+      responses: { 201: { description: 'Invited', schema: userSchema } },
+    },
+    async ({ body, user }) => ({ status: 201, body: await inviteUser(deps, user!, body) }),
+  );
+
+  r.route(
+    {
+      method: 'patch',
+      path: '/users/:id',
+      summary: 'Rename, deactivate or reactivate an account, or change its role grants',
+      access: ['admin'],
+      tag,
+      params: idParamsSchema,
+      body: updateUserSchema,
+      responses: { 200: { description: 'The account as it is now', schema: userSchema } },
+    },
+    async ({ params, body, user }) => ({ body: await updateUser(deps, user!, params.id, body) }),
+  );
+
+  return r.router;
+}

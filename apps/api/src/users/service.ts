@@ -1,0 +1,112 @@
+import { In, type EntityManager } from 'typeorm';
+import type { InviteUser, RoleGrant, SessionUser, UpdateUser, User, UsersQuery } from '@evenhand/entities';
+import { RoleGrantEntity, SiteEntity, UserEntity } from '@evenhand/entities/orm';
+import type { Deps } from '../deps.js';
+import { AppError } from '../errors.js';
+import { recordAudit } from '../audit/service.js';
+import { issueToken, sendInvitation } from '../auth/service.js';
+
+function toUser(u: UserEntity): User {
+  return {
+    id: u.id,
+    email: u.email,
+    name: u.name,
+    active: u.active,
+    invitationPending: u.passwordHash === null,
+    roles: (u.grants ?? []).map((g) => ({ role: g.role, siteId: g.siteId })).sort(byGrant),
+    createdAt: u.createdAt.toISOString(),
+    lastSignInAt: u.lastSignInAt?.toISOString() ?? null,
+  };
+}
+
+const byGrant = (a: RoleGrant, b: RoleGrant) => `${a.role}:${a.siteId ?? ''}`.localeCompare(`${b.role}:${b.siteId ?? ''}`);
+
+const sortColumn: Record<UsersQuery['sort'], string> = {
+  name: 'u.name',
+  email: 'u.email',
+  createdAt: 'u.created_at',
+  lastSignInAt: 'u.last_sign_in_at',
+};
+
+export async function listUsers({ db }: Deps, query: UsersQuery): Promise<{ items: User[]; total: number }> {
+  const qb = db.getRepository(UserEntity).createQueryBuilder('u');
+  if (query.q) qb.andWhere('(u.name ILIKE :q OR u.email ILIKE :q)', { q: `%${query.q.replace(/[\\%_]/g, '\\$&')}%` });
+  if (query.role) qb.andWhere('EXISTS (SELECT 1 FROM role_grants g WHERE g.user_id = u.id AND g.role = :role)', { role: query.role });
+  const total = await qb.getCount();
+  const page = await qb
+    .orderBy(sortColumn[query.sort], query.order === 'asc' ? 'ASC' : 'DESC', 'NULLS LAST')
+    .addOrderBy('u.id', 'ASC')
+    .limit(query.limit)
+    .offset(query.offset)
+    .getMany();
+  const grants = page.length ? await db.getRepository(RoleGrantEntity).findBy({ userId: In(page.map((u) => u.id)) }) : [];
+  for (const u of page) u.grants = grants.filter((g) => g.userId === u.id);
+  return { items: page.map(toUser), total };
+}
+
+async function assertSitesExist(manager: EntityManager, grants: RoleGrant[]) {
+  const ids = [...new Set(grants.map((g) => g.siteId).filter((id): id is string => !!id))];
+  if (!ids.length) return;
+  const found = await manager.countBy(SiteEntity, { id: In(ids) });
+  if (found !== ids.length) throw AppError.validation('A role grant names a site that does not exist');
+}
+
+async function replaceGrants(manager: EntityManager, userId: string, grants: RoleGrant[]) {
+  await manager.delete(RoleGrantEntity, { userId });
+  if (grants.length) await manager.insert(RoleGrantEntity, grants.map((g) => ({ userId, role: g.role, siteId: g.siteId })));
+}
+
+/** Creates the account without a password and e-mails a set-password link. */
+export async function inviteUser(deps: Deps, actor: SessionUser, input: InviteUser): Promise<User> {
+  const { user, token } = await deps.db.transaction(async (manager) => {
+    if (await manager.existsBy(UserEntity, { email: input.email })) {
+      throw AppError.conflict('An account with this e-mail address already exists');
+    }
+    await assertSitesExist(manager, input.roles);
+    const created = await manager.save(manager.create(UserEntity, { email: input.email, name: input.name, passwordHash: null, active: true }));
+    await replaceGrants(manager, created.id, input.roles);
+    const token = await issueToken(manager, created.id, 'invitation');
+    await recordAudit(manager, {
+      actorId: actor.id,
+      action: 'user.invited',
+      entityType: 'user',
+      entityId: created.id,
+      after: { email: input.email, name: input.name, roles: input.roles },
+    });
+    created.grants = await manager.findBy(RoleGrantEntity, { userId: created.id });
+    return { user: created, token };
+  });
+  await sendInvitation(deps, user, token, actor.name);
+  return toUser(user);
+}
+
+export async function updateUser(deps: Deps, actor: SessionUser, id: string, input: UpdateUser): Promise<User> {
+  return deps.db.transaction(async (manager) => {
+    const user = await manager.findOne(UserEntity, { where: { id }, relations: { grants: true }, lock: { mode: 'pessimistic_write', tables: ['users'] } });
+    if (!user) throw AppError.notFound('The user');
+    const before = toUser(user);
+    if (id === actor.id && (input.active === false || (input.roles && !input.roles.some((g) => g.role === 'admin')))) {
+      throw AppError.conflict('You cannot deactivate yourself or remove your own admin role');
+    }
+    if (input.name !== undefined || input.active !== undefined) {
+      await manager.update(UserEntity, id, { name: input.name ?? user.name, active: input.active ?? user.active });
+    }
+    if (input.roles) {
+      await assertSitesExist(manager, input.roles);
+      await replaceGrants(manager, id, input.roles);
+    }
+    const updated = await manager.findOneOrFail(UserEntity, { where: { id }, relations: { grants: true } });
+    const after = toUser(updated);
+    const changes: [string, unknown, unknown][] = [
+      ['user.roles_changed', before.roles, after.roles],
+      ['user.activation_changed', before.active, after.active],
+      ['user.renamed', before.name, after.name],
+    ];
+    for (const [action, was, now] of changes) {
+      if (JSON.stringify(was) !== JSON.stringify(now)) {
+        await recordAudit(manager, { actorId: actor.id, action, entityType: 'user', entityId: id, before: was, after: now });
+      }
+    }
+    return after;
+  });
+}

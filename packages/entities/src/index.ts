@@ -1,0 +1,7 @@
+// Browser-safe: zod schemas and types shared by the web app and the API. Entities live under ./orm.
+export * from './schemas/common.js';
+export * from './schemas/roles.js';
+export * from './schemas/auth.js';
+export * from './schemas/users.js';
+export * from './schemas/audit.js';
+export * from './schemas/sites.js';

@@ -1,0 +1,47 @@
+import { z } from 'zod';
+
+export const idSchema = z.uuid();
+
+export const idParamsSchema = z.object({ id: idSchema });
+
+/** Every list accepts `?limit=&offset=` and answers `{ items, total }`. */
+export const paginationQuerySchema = z.object({
+  limit: z.coerce.number().int().min(1).max(500).default(50),
+  offset: z.coerce.number().int().min(0).default(0),
+});
+
+export function pageOf<T extends z.ZodType>(item: T) {
+  return z.object({ items: z.array(item), total: z.number().int().min(0) });
+}
+
+/** The one error shape of the API: `{ error: { code, message, details? } }`. */
+export const errorCodeSchema = z.enum([
+  'validation_failed',
+  'unauthenticated',
+  'forbidden',
+  'not_found',
+  'conflict',
+  'csrf_failed',
+  'rate_limited',
+  'payload_too_large',
+  'unavailable',
+  'internal',
+]);
+export type ErrorCode = z.infer<typeof errorCodeSchema>;
+
+export const fieldIssueSchema = z.object({ path: z.string(), message: z.string() });
+export type FieldIssue = z.infer<typeof fieldIssueSchema>;
+
+export const errorBodySchema = z
+  .object({
+    error: z.object({
+      code: errorCodeSchema,
+      message: z.string(),
+      details: z.unknown().optional(),
+    }),
+  })
+  .meta({ id: 'Error' });
+export type ErrorBody = z.infer<typeof errorBodySchema>;
+
+export const healthSchema = z.object({ status: z.enum(['ok', 'degraded']), db: z.enum(['ok', 'down']) });
+export type Health = z.infer<typeof healthSchema>;

@@ -1,0 +1,25 @@
+#!/usr/bin/env bash
+# npm run dev: the same services as npm start, then the API in watch mode and Vite's dev server
+# (http://127.0.0.1:5173, proxying /api to the API on :3000).
+set -euo pipefail
+source "$(dirname "$0")/lib.sh"
+cd "$ROOT"
+
+ensure_postgres
+ensure_node_modules
+trap stop_services EXIT
+trap 'exit 130' INT TERM
+
+pg_up pg 54329 evenhand
+maildev_up 1025 1080
+export DATABASE_URL="${DATABASE_URL:-$(database_url 54329 evenhand)}"
+export APP_URL="${APP_URL:-http://127.0.0.1:5173}"
+
+npm run build --silent -w packages/stats
+npm run migrate --silent -w apps/api
+npm run seed --silent -w apps/api
+npm run dev -w apps/api &
+STARTED_PIDS+=("$!")
+npm run dev -w apps/web &
+STARTED_PIDS+=("$!")
+wait -n
