@@ -1,0 +1,174 @@
+import jwt from 'jsonwebtoken';
+import request from 'supertest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { cookieValue, signIn, startTestApp, type TestApp } from '../../test/app.js';
+import { linkToken, mailTo, waitForMail } from '../../test/mail.js';
+import { issueToken } from './service.js';
+import { DEMO_PASSWORD } from '../seed/demo.js';
+
+let t: TestApp;
+beforeAll(async () => {
+  t = await startTestApp();
+});
+afterAll(() => t.close());
+
+describe('sign-in', () => {
+  it('when the password is right, then it sets an httpOnly SameSite=Lax session cookie, a readable CSRF cookie, and returns the user and a token', async () => {
+    const res = await request(t.app).post('/api/auth/login').send({ email: 'Lead@Evenhand.test', password: DEMO_PASSWORD });
+    expect(res.status).toBe(200);
+    expect(res.body.user).toMatchObject({ email: 'lead@evenhand.test', roles: [{ role: 'research_lead', siteId: null }] });
+    const cookies = res.headers['set-cookie'] as unknown as string[];
+    const session = cookies.find((c) => c.startsWith('evenhand_session='))!;
+    expect(session).toMatch(/HttpOnly/i);
+    expect(session).toMatch(/SameSite=Lax/i);
+    expect(session).not.toMatch(/Secure/i); // Secure only in production
+    const csrf = cookies.find((c) => c.startsWith('evenhand_csrf='))!;
+    expect(csrf).not.toMatch(/HttpOnly/i);
+    expect(cookieValue(cookies, 'evenhand_session')).toBe(res.body.token);
+    const claims = jwt.decode(res.body.token) as { sub: string; exp: number; iat: number };
+    expect(claims.sub).toBe(res.body.user.id);
+    expect(claims.exp - claims.iat).toBe(t.config.sessionMinutes * 60);
+  });
+
+  it('when the password is wrong or the e-mail unknown, then both get the same 401 answer', async () => {
+    const wrong = await request(t.app).post('/api/auth/login').send({ email: 'lead@evenhand.test', password: 'not-the-password' });
+    const unknown = await request(t.app).post('/api/auth/login').send({ email: 'nobody@evenhand.test', password: 'not-the-password' });
+    expect(wrong.status).toBe(401);
+    expect(unknown.status).toBe(401);
+    expect(wrong.body).toEqual(unknown.body);
+    expect(wrong.body.error).toEqual({ code: 'unauthenticated', message: 'The e-mail address or password is not right' });
+  });
+
+  it('when the body is malformed, then it answers 400 with field issues', async () => {
+    const res = await request(t.app).post('/api/auth/login').send({ email: 'not an address' });
+    expect(res.status).toBe(400);
+    expect(res.body.error.code).toBe('validation_failed');
+    expect(res.body.error.details.issues.map((i: { path: string }) => i.path).sort()).toEqual(['email', 'password']);
+  });
+
+  it('when the JSON is broken, then it answers 400 in the error shape', async () => {
+    const res = await request(t.app).post('/api/auth/login').set('content-type', 'application/json').send('{"email":');
+    expect(res.status).toBe(400);
+    expect(res.body.error.code).toBe('validation_failed');
+  });
+});
+
+describe('sessions', () => {
+  it('when a bearer token is sent, then /me answers with the user and no CSRF header is needed for writes', async () => {
+    const { token } = await signIn(t.app, 'coordinator@evenhand.test');
+    const me = await request(t.app).get('/api/auth/me').set('authorization', `Bearer ${token}`);
+    expect(me.status).toBe(200);
+    expect(me.body.user.email).toBe('coordinator@evenhand.test');
+    const out = await request(t.app).post('/api/auth/logout').set('authorization', `Bearer ${token}`);
+    expect(out.status).toBe(204);
+  });
+
+  it('when a token is forged with another secret, then it is refused with a clear 401', async () => {
+    const { userId } = await signIn(t.app, 'admin@evenhand.test');
+    const forged = jwt.sign({}, 'someone-elses-secret-of-enough-length!!', { subject: userId, expiresIn: 600 });
+    const res = await request(t.app).get('/api/users').set('authorization', `Bearer ${forged}`);
+    expect(res.status).toBe(401);
+    expect(res.body.error.message).toMatch(/not valid or has expired/);
+  });
+
+  it('when a token uses the "none" algorithm, then it is refused', async () => {
+    const { userId } = await signIn(t.app, 'admin@evenhand.test');
+    const unsigned = jwt.sign({ sub: userId }, '', { algorithm: 'none' });
+    const res = await request(t.app).get('/api/auth/me').set('authorization', `Bearer ${unsigned}`);
+    expect(res.status).toBe(401);
+  });
+
+  it('when a token has expired, then it is refused', async () => {
+    const { userId } = await signIn(t.app, 'admin@evenhand.test');
+    const old = jwt.sign({ iat: Math.floor(Date.now() / 1000) - 7200 }, t.config.jwtSecret, { subject: userId, expiresIn: 60 });
+    expect((await request(t.app).get('/api/auth/me').set('authorization', `Bearer ${old}`)).status).toBe(401);
+  });
+
+  it('when a cookie session writes without the CSRF header, then it is refused; with it, it passes', async () => {
+    const s = await signIn(t.app, 'reviewer@evenhand.test');
+    const missing = await s.agent.post('/api/auth/logout');
+    expect(missing.status).toBe(403);
+    expect(missing.body.error.code).toBe('csrf_failed');
+    const wrong = await s.agent.post('/api/auth/logout').set('x-csrf-token', 'guess');
+    expect(wrong.status).toBe(403);
+    const ok = await s.agent.post('/api/auth/logout').set('x-csrf-token', s.csrf);
+    expect(ok.status).toBe(204);
+    const cleared = (ok.headers['set-cookie'] as unknown as string[]).find((c) => c.startsWith('evenhand_session='))!;
+    expect(cleared).toMatch(/Expires=Thu, 01 Jan 1970/);
+  });
+
+  it('when the session cookie is cleared by sign-out, then the next request is not signed in', async () => {
+    const s = await signIn(t.app, 'reviewer@evenhand.test');
+    await s.agent.post('/api/auth/logout').set('x-csrf-token', s.csrf);
+    expect((await s.agent.get('/api/auth/me')).status).toBe(401);
+  });
+});
+
+describe('rate limiting of failed sign-ins', () => {
+  it('when one account fails 10 times, then the 11th attempt is refused with 429 even with the right password', async () => {
+    const app = t.freshApp(); // its own rate-limit counters
+    for (let i = 0; i < 10; i++) {
+      const res = await request(app).post('/api/auth/login').send({ email: 'teacher3@evenhand.test', password: `wrong-${i}` });
+      expect(res.status).toBe(401);
+    }
+    const blocked = await request(app).post('/api/auth/login').send({ email: 'teacher3@evenhand.test', password: DEMO_PASSWORD });
+    expect(blocked.status).toBe(429);
+    expect(blocked.body.error).toEqual({ code: 'rate_limited', message: expect.stringMatching(/wait 15 minutes/) });
+  });
+
+  it('when one address fails 10 times across different accounts, then it is refused with 429', async () => {
+    const app = t.freshApp(); // its own rate-limit counters
+    for (let i = 0; i < 10; i++) {
+      await request(app).post('/api/auth/login').send({ email: `guess${i}@evenhand.test`, password: 'wrong-password' });
+    }
+    const blocked = await request(app).post('/api/auth/login').send({ email: 'admin@evenhand.test', password: DEMO_PASSWORD });
+    expect(blocked.status).toBe(429);
+  });
+
+  it('when sign-ins succeed, then they do not count against the limit', async () => {
+    const app = t.freshApp(); // its own rate-limit counters
+    for (let i = 0; i < 12; i++) {
+      const res = await request(app).post('/api/auth/login').send({ email: 'principal1@evenhand.test', password: DEMO_PASSWORD });
+      expect(res.status).toBe(200);
+    }
+  });
+});
+
+describe('password reset', () => {
+  it('when asked for a known address, then a single-use link arrives that sets a new password', async () => {
+    const email = 'teacher4@evenhand.test';
+    const count = (await mailTo(email)).length;
+    const asked = await request(t.app).post('/api/auth/password-reset').send({ email });
+    expect(asked.status).toBe(202);
+    const mails = await waitForMail(email, count + 1);
+    const mail = mails[mails.length - 1];
+    expect(mail.subject).toBe('Reset your Evenhand password');
+    const token = linkToken(mail);
+    expect(mail.text).toContain(`${t.config.appUrl}/set-password?token=`);
+
+    const set = await request(t.app).post('/api/auth/password-reset/confirm').send({ token, password: 'a-brand-new-password' });
+    expect(set.status).toBe(200);
+    expect((await request(t.app).post('/api/auth/login').send({ email, password: 'a-brand-new-password' })).status).toBe(200);
+    expect((await request(t.app).post('/api/auth/login').send({ email, password: DEMO_PASSWORD })).status).toBe(401);
+
+    const again = await request(t.app).post('/api/auth/password-reset/confirm').send({ token, password: 'yet-another-password' });
+    expect(again.status).toBe(400);
+    expect(again.body.error.message).toMatch(/expired or has already been used/);
+  });
+
+  it('when asked for an unknown address, then the answer is the same and no mail is sent', async () => {
+    const known = await request(t.app).post('/api/auth/password-reset').send({ email: 'admin@evenhand.test' });
+    const unknown = await request(t.app).post('/api/auth/password-reset').send({ email: 'ghost@evenhand.test' });
+    expect(unknown.status).toBe(202);
+    expect(unknown.body).toEqual(known.body);
+    expect(await mailTo('ghost@evenhand.test')).toHaveLength(0);
+  });
+
+  it('when the token has expired, then it is refused', async () => {
+    const user = await t.db.query(`SELECT id FROM users WHERE email = 'teacher2@evenhand.test'`);
+    const token = await issueToken(t.db.manager, user[0].id, 'password_reset');
+    await t.db.query(`UPDATE auth_tokens SET expires_at = now() - interval '1 minute' WHERE user_id = $1`, [user[0].id]);
+    const res = await request(t.app).post('/api/auth/password-reset/confirm').send({ token, password: 'another-new-password' });
+    expect(res.status).toBe(400);
+  });
+});

@@ -1,0 +1,16 @@
+import { createDataSource } from '../src/db/data-source.js';
+import { seedDemo } from '../src/seed/demo.js';
+import { TEMPLATE_DB, urlForDatabase, withAdminClient } from './database.js';
+
+/** Builds the template every test file clones: all migrations applied, demo accounts seeded. */
+export default async function setup() {
+  await withAdminClient(async (client) => {
+    await client.query(`DROP DATABASE IF EXISTS ${TEMPLATE_DB} WITH (FORCE)`);
+    await client.query(`CREATE DATABASE ${TEMPLATE_DB}`);
+  });
+  const db = createDataSource(urlForDatabase(TEMPLATE_DB));
+  await db.initialize();
+  await db.runMigrations({ transaction: 'each' });
+  await db.transaction((manager) => seedDemo(manager));
+  await db.destroy();
+}
