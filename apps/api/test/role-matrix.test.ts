@@ -1,0 +1,88 @@
+import request from 'supertest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { roles, type Role } from '@evenhand/entities';
+import { signIn, startTestApp, type TestApp } from './app.js';
+
+/**
+ * Who may call each route, written out here on purpose rather than read from the routes: a route
+ * added without a line below fails this test, and a route whose access drifts fails it too.
+ */
+const expectedAccess: Record<string, 'anyone' | 'signed-in' | Role[]> = {
+  'GET /api/health': 'anyone',
+  'GET /api/openapi.json': 'anyone',
+  'POST /api/auth/login': 'anyone',
+  'POST /api/auth/logout': 'signed-in',
+  'GET /api/auth/me': 'signed-in',
+  'POST /api/auth/password-reset': 'anyone',
+  'POST /api/auth/password-reset/confirm': 'anyone',
+  'GET /api/users': ['admin'],
+  'POST /api/users': ['admin'],
+  'PATCH /api/users/{id}': ['admin'],
+  'GET /api/sites': ['admin', 'coordinator', 'research_lead'],
+  'GET /api/audit': ['admin', 'research_lead', 'reviewer'],
+};
+
+const demoEmail: Record<Role, string> = {
+  admin: 'admin@evenhand.test',
+  coordinator: 'coordinator@evenhand.test',
+  research_lead: 'lead@evenhand.test',
+  teacher: 'teacher1@evenhand.test',
+  principal: 'principal1@evenhand.test',
+  reviewer: 'reviewer@evenhand.test',
+};
+
+let t: TestApp;
+let routes: string[];
+const tokens = {} as Record<Role, string>;
+beforeAll(async () => {
+  t = await startTestApp();
+  const doc = (await request(t.app).get('/api/openapi.json')).body as { paths: Record<string, Record<string, unknown>> };
+  routes = Object.entries(doc.paths).flatMap(([path, ops]) => Object.keys(ops).map((m) => `${m.toUpperCase()} ${path}`));
+  for (const role of roles) tokens[role] = (await signIn(t.app, demoEmail[role])).token;
+});
+afterAll(() => t.close());
+
+function call(route: string, token?: string) {
+  const [method, path] = route.split(' ');
+  // Path parameters get a well-formed id that exists nowhere; bodies are empty.
+  const url = path.replace(/\{\w+\}/g, '00000000-0000-4000-8000-000000000000');
+  const req = request(t.app)[method.toLowerCase() as 'get' | 'post' | 'put' | 'patch' | 'delete'](url);
+  if (token) req.set('authorization', `Bearer ${token}`);
+  return method === 'GET' ? req : req.send({});
+}
+
+describe('role matrix', () => {
+  it('has an expected-access entry for every route in the OpenAPI document, and no stale entries', () => {
+    expect(routes.length).toBeGreaterThan(0);
+    expect(routes.filter((r) => !(r in expectedAccess))).toEqual([]);
+    expect(Object.keys(expectedAccess).filter((r) => !routes.includes(r))).toEqual([]);
+  });
+
+  it('documents the same access as the table (x-access) for every route', async () => {
+    const doc = (await request(t.app).get('/api/openapi.json')).body as { paths: Record<string, Record<string, { 'x-access': unknown }>> };
+    for (const route of routes) {
+      const [method, path] = route.split(' ');
+      const documented = doc.paths[path][method.toLowerCase()]['x-access'];
+      const expected = expectedAccess[route];
+      expect([route, Array.isArray(documented) ? [...documented].sort() : documented]).toEqual([
+        route,
+        Array.isArray(expected) ? [...expected].sort() : expected,
+      ]);
+    }
+  });
+
+  it('answers every route for every role as the table says (deny by default)', async () => {
+    const mismatches: string[] = [];
+    for (const route of routes) {
+      const access = expectedAccess[route];
+      for (const caller of ['anonymous', ...roles] as const) {
+        const res = await call(route, caller === 'anonymous' ? undefined : tokens[caller]);
+        const allowed = access === 'anyone' || (caller !== 'anonymous' && (access === 'signed-in' || access.includes(caller)));
+        const expected = allowed ? 'not 401/403' : caller === 'anonymous' ? '401' : '403';
+        const ok = allowed ? res.status !== 401 && res.status !== 403 : res.status === Number(expected);
+        if (!ok) mismatches.push(`${route} as ${caller}: expected ${expected}, got ${res.status}`);
+      }
+    }
+    expect(mismatches).toEqual([]);
+  });
+});
