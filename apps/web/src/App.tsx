@@ -1,0 +1,5 @@
+import { AppProviders } from '@/app/providers';
+
+export function App() {
+  return <AppProviders />;
+}

@@ -1,0 +1,55 @@
+import {
+  pageOf,
+  siteSchema,
+  userSchema,
+  type InviteUser,
+  type UpdateUser,
+  type UsersQuery,
+} from '@evenhand/entities';
+import { keepPreviousData, queryOptions, useMutation, useQueryClient } from '@tanstack/react-query';
+import { apiRequest } from '@/lib/api-client';
+
+const usersPageSchema = pageOf(userSchema);
+const sitesPageSchema = pageOf(siteSchema);
+
+// No details/detail(id) keys: the API has no single-account read, and the table's rows carry all an edit needs.
+export const accountKeys = {
+  all: ['accounts'] as const,
+  lists: () => [...accountKeys.all, 'list'] as const,
+  list: (query: UsersQuery) => [...accountKeys.lists(), query] as const,
+  sites: () => [...accountKeys.all, 'sites'] as const,
+};
+
+export function accountsQueryOptions(query: UsersQuery) {
+  return queryOptions({
+    queryKey: accountKeys.list(query),
+    queryFn: ({ signal }) => apiRequest('/users', { query, schema: usersPageSchema, signal }),
+    placeholderData: keepPreviousData,
+  });
+}
+
+/** The schools a teacher or principal grant can name. */
+export function siteChoicesQueryOptions() {
+  return queryOptions({
+    queryKey: accountKeys.sites(),
+    queryFn: ({ signal }) => apiRequest('/sites', { schema: sitesPageSchema, signal }),
+    staleTime: 10 * 60_000,
+  });
+}
+
+export function useInviteAccount() {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: (input: InviteUser) => apiRequest('/users', { method: 'POST', body: input, schema: userSchema }),
+    onSuccess: () => queryClient.invalidateQueries({ queryKey: accountKeys.lists() }),
+  });
+}
+
+export function useUpdateAccount() {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: ({ id, changes }: { id: string; changes: UpdateUser }) =>
+      apiRequest(`/users/${id}`, { method: 'PATCH', body: changes, schema: userSchema }),
+    onSuccess: () => queryClient.invalidateQueries({ queryKey: accountKeys.lists() }),
+  });
+}

@@ -1,0 +1,63 @@
+import { updateUserSchema, type Site, type UpdateUser, type User } from '@evenhand/entities';
+import { zodResolver } from '@hookform/resolvers/zod';
+import { useState } from 'react';
+import { FormProvider, useForm } from 'react-hook-form';
+import { Button } from '@/components/ui/button';
+import { Field, TextInput } from '@/components/ui/field';
+import { FormProblemAlert } from '@/components/ui/form-problem-alert';
+import { GrantsFieldset } from '@/features/accounts/components/grants-fieldset';
+import { applyApiError, type FormProblem } from '@/lib/form-errors';
+
+interface EditAccountFormProps {
+  user: User;
+  sites: Site[];
+  onSave: (changes: UpdateUser) => Promise<unknown>;
+  onCancel: () => void;
+}
+
+export function EditAccountForm({ user, sites, onSave, onCancel }: EditAccountFormProps) {
+  const [problem, setProblem] = useState<FormProblem | null>(null);
+  const form = useForm({
+    resolver: zodResolver(updateUserSchema),
+    defaultValues: { name: user.name, roles: user.roles },
+  });
+  const {
+    register,
+    handleSubmit,
+    setError,
+    formState: { errors, isSubmitting, isDirty },
+  } = form;
+
+  const onSubmit = handleSubmit(async (changes) => {
+    if (!isDirty) return onCancel();
+    setProblem(null);
+    try {
+      await onSave(changes);
+    } catch (error) {
+      setProblem(applyApiError(error, setError, ['name', 'roles']));
+    }
+  });
+
+  return (
+    <FormProvider {...form}>
+      <form noValidate onSubmit={onSubmit} className="space-y-5">
+        {problem && <FormProblemAlert problem={problem} />}
+        <p>
+          <span className="font-semibold">E-mail address:</span> {user.email}
+        </p>
+        <Field label="Name" error={errors.name?.message}>
+          {(control) => <TextInput {...control} autoComplete="off" {...register('name')} />}
+        </Field>
+        <GrantsFieldset sites={sites} />
+        <div className="flex flex-wrap gap-3 pt-2">
+          <Button type="submit" busy={isSubmitting}>
+            Save changes
+          </Button>
+          <Button variant="secondary" onClick={onCancel}>
+            Cancel
+          </Button>
+        </div>
+      </form>
+    </FormProvider>
+  );
+}

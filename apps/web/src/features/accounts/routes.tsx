@@ -1,0 +1,173 @@
+import { usersQuerySchema, type User, type UsersQuery } from '@evenhand/entities';
+import { useQuery, type QueryClient } from '@tanstack/react-query';
+import { useCallback, useState } from 'react';
+import { useSearchParams, type LoaderFunctionArgs, type ShouldRevalidateFunction } from 'react-router-dom';
+import { Alert } from '@/components/ui/alert';
+import { Button } from '@/components/ui/button';
+import { Dialog } from '@/components/ui/dialog';
+import { PageHeader } from '@/components/ui/page-header';
+import { accountsQueryOptions, siteChoicesQueryOptions, useInviteAccount, useUpdateAccount } from '@/features/accounts/api';
+import { AccountsTable } from '@/features/accounts/components/accounts-table';
+import { EditAccountForm } from '@/features/accounts/components/edit-account-form';
+import { InviteForm } from '@/features/accounts/components/invite-form';
+import { ApiError } from '@/lib/api-client';
+
+const PAGE_SIZE = 25;
+const defaults = usersQuerySchema.parse({ limit: PAGE_SIZE });
+
+/** The table's state lives in the address (?q=&role=&sort=&order=&page=), so it survives reloads and can be shared. */
+function queryFromSearch(params: URLSearchParams): UsersQuery {
+  const page = Math.max(1, Math.floor(Number(params.get('page'))) || 1);
+  const parsed = usersQuerySchema.safeParse({
+    q: params.get('q') || undefined,
+    role: params.get('role') || undefined,
+    sort: params.get('sort') || undefined,
+    order: params.get('order') || undefined,
+    limit: PAGE_SIZE,
+    offset: (page - 1) * PAGE_SIZE,
+  });
+  return parsed.success ? parsed.data : defaults;
+}
+
+function searchFromQuery(query: UsersQuery): Record<string, string> {
+  const search: Record<string, string> = {};
+  if (query.q) search.q = query.q;
+  if (query.role) search.role = query.role;
+  if (query.sort !== defaults.sort || query.order !== defaults.order) {
+    search.sort = query.sort;
+    search.order = query.order;
+  }
+  if (query.offset > 0) search.page = String(query.offset / query.limit + 1);
+  return search;
+}
+
+export function accountsLoader(queryClient: QueryClient) {
+  return async ({ request }: LoaderFunctionArgs) => {
+    const query = queryFromSearch(new URL(request.url).searchParams);
+    await Promise.all([
+      queryClient.ensureQueryData(accountsQueryOptions(query)),
+      queryClient.ensureQueryData(siteChoicesQueryOptions()),
+    ]);
+    return null;
+  };
+}
+
+/** Sorting, filtering and paging re-query through the table, which keeps the old rows visible meanwhile. */
+export const accountsShouldRevalidate: ShouldRevalidateFunction = ({ currentUrl, nextUrl }) =>
+  currentUrl.pathname !== nextUrl.pathname;
+
+type Notice = { tone: 'success' | 'error'; text: string };
+
+export function AccountsPage() {
+  const [params, setParams] = useSearchParams();
+  const query = queryFromSearch(params);
+  const accounts = useQuery(accountsQueryOptions(query));
+  const sites = useQuery(siteChoicesQueryOptions());
+  const invite = useInviteAccount();
+  const update = useUpdateAccount();
+  const [inviting, setInviting] = useState(false);
+  const [editing, setEditing] = useState<User | null>(null);
+  const [notice, setNotice] = useState<Notice | null>(null);
+
+  const onQueryChange = (changes: Partial<UsersQuery>) => setParams(searchFromQuery({ ...query, ...changes }));
+
+  const updateAccount = update.mutate;
+  const onSetActive = useCallback(
+    (user: User, active: boolean) => {
+      setNotice(null);
+      updateAccount(
+        { id: user.id, changes: { active } },
+        {
+          onSuccess: () =>
+            setNotice({
+              tone: 'success',
+              text: active ? `${user.name} can sign in again.` : `${user.name} is deactivated and can no longer sign in.`,
+            }),
+          onError: (error) =>
+            setNotice({ tone: 'error', text: error instanceof ApiError ? error.message : 'The change could not be saved.' }),
+        },
+      );
+    },
+    [updateAccount],
+  );
+
+  const onEdit = useCallback((user: User) => {
+    setNotice(null);
+    setEditing(user);
+  }, []);
+
+  const siteList = sites.data?.items ?? [];
+
+  return (
+    <>
+      <PageHeader
+        title="Accounts"
+        description="Everyone who can sign in to Evenhand in your district, and what their roles let them do."
+        actions={
+          <Button
+            onClick={() => {
+              setNotice(null);
+              setInviting(true);
+            }}
+          >
+            Invite a person
+          </Button>
+        }
+      />
+
+      <div aria-live="polite" className={notice?.tone === 'success' ? 'mb-6' : undefined}>
+        {notice?.tone === 'success' && <Alert tone="success">{notice.text}</Alert>}
+      </div>
+      {notice?.tone === 'error' && (
+        <div className="mb-6">
+          <Alert tone="error">{notice.text}</Alert>
+        </div>
+      )}
+
+      <AccountsTable
+        page={accounts.data}
+        loading={accounts.isPending}
+        refreshing={accounts.isPlaceholderData}
+        error={accounts.error}
+        query={query}
+        onQueryChange={onQueryChange}
+        sites={siteList}
+        onEdit={onEdit}
+        onSetActive={onSetActive}
+        changingId={update.isPending && update.variables.changes.active !== undefined ? update.variables.id : null}
+      />
+
+      <Dialog
+        open={inviting}
+        title="Invite a person"
+        description="They receive an e-mail with a link to choose their password. The link works once, within 72 hours."
+        onClose={() => setInviting(false)}
+      >
+        <InviteForm
+          sites={siteList}
+          onCancel={() => setInviting(false)}
+          onInvite={async (input) => {
+            const user = await invite.mutateAsync(input);
+            setInviting(false);
+            setNotice({ tone: 'success', text: `An invitation is on its way to ${user.name} at ${user.email}.` });
+          }}
+        />
+      </Dialog>
+
+      <Dialog open={editing !== null} title={`Edit ${editing?.name ?? 'account'}`} onClose={() => setEditing(null)}>
+        {editing && (
+          <EditAccountForm
+            user={editing}
+            sites={siteList}
+            onCancel={() => setEditing(null)}
+            onSave={async (changes) => {
+              const user = await update.mutateAsync({ id: editing.id, changes });
+              setEditing(null);
+              setNotice({ tone: 'success', text: `The changes to ${user.name}'s account are saved.` });
+            }}
+          />
+        )}
+      </Dialog>
+    </>
+  );
+}

@@ -1,0 +1,84 @@
+import {
+  loginResponseSchema,
+  meResponseSchema,
+  messageResponseSchema,
+  type LoginRequest,
+  type PasswordResetConfirm,
+  type SessionUser,
+} from '@evenhand/entities';
+import { queryOptions, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
+import { useNavigate } from 'react-router-dom';
+import { ApiError, apiRequest } from '@/lib/api-client';
+
+export const authKeys = {
+  all: ['auth'] as const,
+  session: () => [...authKeys.all, 'session'] as const,
+};
+
+/** The signed-in person, or null when nobody is signed in (the API answers 401). */
+async function fetchSessionUser(signal: AbortSignal): Promise<SessionUser | null> {
+  try {
+    const { user } = await apiRequest('/auth/me', { schema: meResponseSchema, signal });
+    return user;
+  } catch (error) {
+    if (error instanceof ApiError && error.status === 401) return null;
+    throw error;
+  }
+}
+
+export function sessionQueryOptions() {
+  return queryOptions({
+    queryKey: authKeys.session(),
+    queryFn: ({ signal }) => fetchSessionUser(signal),
+    staleTime: 5 * 60_000,
+  });
+}
+
+export function useSession() {
+  return useQuery(sessionQueryOptions());
+}
+
+export function useSignIn() {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: (credentials: LoginRequest) =>
+      apiRequest('/auth/login', { method: 'POST', body: credentials, schema: loginResponseSchema }),
+    onSuccess: ({ user }) => {
+      queryClient.setQueryData(authKeys.session(), user);
+    },
+  });
+}
+
+export function useSignOut() {
+  const queryClient = useQueryClient();
+  const navigate = useNavigate();
+  return useMutation({
+    mutationFn: async () => {
+      try {
+        await apiRequest('/auth/logout', { method: 'POST' });
+      } catch (error) {
+        // An expired session is already signed out.
+        if (!(error instanceof ApiError && error.status === 401)) throw error;
+      }
+    },
+    onSuccess: async () => {
+      // Leave the signed-in pages first, so none of them refetches while the cache empties.
+      await navigate('/sign-in', { replace: true });
+      queryClient.removeQueries();
+    },
+  });
+}
+
+export function useRequestPasswordReset() {
+  return useMutation({
+    mutationFn: (email: string) =>
+      apiRequest('/auth/password-reset', { method: 'POST', body: { email }, schema: messageResponseSchema }),
+  });
+}
+
+export function useConfirmPasswordReset() {
+  return useMutation({
+    mutationFn: (input: PasswordResetConfirm) =>
+      apiRequest('/auth/password-reset/confirm', { method: 'POST', body: input, schema: messageResponseSchema }),
+  });
+}

@@ -1,0 +1,70 @@
+import { loginRequestSchema, type SessionUser } from '@evenhand/entities';
+import { zodResolver } from '@hookform/resolvers/zod';
+import { useRef, useState } from 'react';
+import { useForm } from 'react-hook-form';
+import { Link } from 'react-router-dom';
+import { Button } from '@/components/ui/button';
+import { FormProblemAlert } from '@/components/ui/form-problem-alert';
+import { Field, TextInput } from '@/components/ui/field';
+import { AuthCard } from '@/features/auth/components/auth-card';
+import { DemoAccounts } from '@/features/auth/components/demo-accounts';
+import { useSignIn } from '@/features/auth/api';
+import { applyApiError, type FormProblem } from '@/lib/form-errors';
+
+const showDemoAccounts = import.meta.env.VITE_DEMO !== 'false';
+
+export function SignInForm({ onSignedIn }: { onSignedIn: (user: SessionUser) => void }) {
+  const signIn = useSignIn();
+  const [problem, setProblem] = useState<FormProblem | null>(null);
+  const submitRef = useRef<HTMLButtonElement>(null);
+  const {
+    register,
+    handleSubmit,
+    setError,
+    setValue,
+    formState: { errors },
+  } = useForm({ resolver: zodResolver(loginRequestSchema), defaultValues: { email: '', password: '' } });
+
+  const onSubmit = handleSubmit(async (credentials) => {
+    setProblem(null);
+    try {
+      const { user } = await signIn.mutateAsync(credentials);
+      onSignedIn(user);
+    } catch (error) {
+      setProblem(applyApiError(error, setError, ['email', 'password']));
+    }
+  });
+
+  return (
+    <div className="grid gap-8 lg:grid-cols-[28rem_20rem] lg:items-start">
+      <AuthCard title="Sign in" intro="Use the e-mail address your district registered for you.">
+        <form noValidate onSubmit={onSubmit} className="space-y-5">
+          {problem && <FormProblemAlert problem={problem} />}
+          <Field label="E-mail address" error={errors.email?.message}>
+            {(control) => <TextInput {...control} type="email" autoComplete="username" {...register('email')} />}
+          </Field>
+          <Field label="Password" error={errors.password?.message}>
+            {(control) => <TextInput {...control} type="password" autoComplete="current-password" {...register('password')} />}
+          </Field>
+          <div className="flex flex-wrap items-center justify-between gap-4 pt-1">
+            <Button ref={submitRef} type="submit" busy={signIn.isPending}>
+              Sign in
+            </Button>
+            <Link to="/forgot-password">Forgot your password?</Link>
+          </div>
+        </form>
+      </AuthCard>
+
+      {showDemoAccounts && (
+        <DemoAccounts
+          onPick={(email, password) => {
+            setValue('email', email, { shouldValidate: true });
+            setValue('password', password, { shouldValidate: true });
+            setProblem(null);
+            submitRef.current?.focus();
+          }}
+        />
+      )}
+    </div>
+  );
+}

@@ -1,0 +1,73 @@
+import { EmptyState } from '@/components/ui/empty-state';
+import { PageHeader } from '@/components/ui/page-header';
+
+export function MyClassesPage() {
+  return (
+    <>
+      <PageHeader title="My classes" description="The classrooms you teach that take part in a study." />
+      <EmptyState title="None of your classes is in a study yet">
+        <p>
+          When the study coordinator adds one of your classrooms to a study, it appears here with a score sheet for each
+          data-collection window: a pretest before the intervention starts and a posttest at the end.
+        </p>
+        <p>
+          There is nothing for you to do yet. Once a score sheet opens, you will enter each student's score by student code —
+          never a student's name — in a form or from a CSV file.
+        </p>
+      </EmptyState>
+    </>
+  );
+}
+
+export function MySchoolPage() {
+  return (
+    <>
+      <PageHeader title="My school" description="How your school's part of the district's studies is going." />
+      <EmptyState title="Your school is not in a study yet">
+        <p>
+          When your school takes part in a study, this page shows how many of its classrooms take part and how complete their
+          scores are. Once the research lead locks a result, it appears here in plain language, and you also receive it as an
+          e-mailed digest.
+        </p>
+        <p>There is nothing for you to do now. If you expected to see a study here, ask your district's study coordinator.</p>
+      </EmptyState>
+    </>
+  );
+}
+
+export function StudiesPage() {
+  return (
+    <>
+      <PageHeader
+        title="Studies"
+        description="Each study tests one intervention against a comparison condition, across the district's schools."
+      />
+      <EmptyState title="No studies yet">
+        <p>
+          Every study will be listed here with its state — from drafting its plan to reporting its result — and open onto its
+          plan, sites and classes, draw, score sheets, checks and comparisons.
+        </p>
+        <p>
+          Studies cannot be created in this version of Evenhand yet. When they can, the research lead starts a study and seals
+          its plan; the coordinator then enrols schools and classrooms and runs the draw; reviewers can read a study once its
+          plan is sealed.
+        </p>
+      </EmptyState>
+    </>
+  );
+}
+
+/** Home for an account whose roles were all taken away: it can sign in but opens nothing. */
+export function NoRolePage() {
+  return (
+    <>
+      <PageHeader title="Welcome to Evenhand" />
+      <EmptyState title="Your account has no role yet">
+        <p>
+          Roles decide what you can see and do here — for example teaching a class in a study, or following your school's
+          results. Ask your district admin to give you the role your work needs, then sign in again.
+        </p>
+      </EmptyState>
+    </>
+  );
+}

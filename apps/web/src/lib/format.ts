@@ -1,0 +1,14 @@
+const dateTime = new Intl.DateTimeFormat(undefined, { dateStyle: 'medium', timeStyle: 'short' });
+const date = new Intl.DateTimeFormat(undefined, { dateStyle: 'medium' });
+
+export function formatDateTime(iso: string): string {
+  return dateTime.format(new Date(iso));
+}
+
+export function formatDate(iso: string): string {
+  return date.format(new Date(iso));
+}
+
+export function formatCount(n: number, one: string, many: string): string {
+  return `${n.toLocaleString()} ${n === 1 ? one : many}`;
+}
