@@ -6,6 +6,11 @@ import express from 'express';
 import helmet from 'helmet';
 import { pinoHttp } from 'pino-http';
 import { auditRouter } from './audit/router.js';
+import { classroomsRouter } from './classrooms/router.js';
+import { drawsRouter } from './draws/router.js';
+import { measuresRouter } from './measures/router.js';
+import { plansRouter } from './plans/router.js';
+import { studiesRouter } from './studies/router.js';
 import { authenticate } from './auth/middleware.js';
 import { authRouter } from './auth/router.js';
 import type { Deps } from './deps.js';
@@ -30,7 +35,12 @@ export function createApp(deps: Deps) {
     healthRouter(deps, registry),
     authRouter(deps, registry),
     usersRouter(deps, registry),
+    studiesRouter(deps, registry),
+    plansRouter(deps, registry),
+    measuresRouter(deps, registry),
     sitesRouter(deps, registry),
+    classroomsRouter(deps, registry),
+    drawsRouter(deps, registry),
     auditRouter(deps, registry),
     openApiRouter(registry),
   ]) {

@@ -5,3 +5,7 @@ export * from './schemas/auth.js';
 export * from './schemas/users.js';
 export * from './schemas/audit.js';
 export * from './schemas/sites.js';
+export * from './schemas/studies.js';
+export * from './schemas/plan.js';
+export * from './schemas/classrooms.js';
+export * from './schemas/draws.js';

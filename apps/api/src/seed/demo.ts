@@ -16,6 +16,13 @@ export const demoSites = [
   { code: 'FRN', name: 'Fernbank Elementary' },
 ] as const;
 
+const extraTeacherNames = [
+  'Wendell Osei', 'Marguerite Lindahl', 'Castor Villanueva', 'Yetunde Harrow',
+  'Piers Kowalczyk', 'Anneliese Mbeki', 'Ruairi Santangelo', 'Delphine Okonkwo',
+  'Tobias Vantongeren', 'Keziah Rothfield', 'Emeric Oyelaran', 'Solveig Marchetti',
+  'Lucius Adebayo', 'Hollis Szymanski', 'Noor Castellanos', 'Fintan Abiodun',
+];
+
 type DemoAccount = { email: string; name: string; grants: { role: Role; site?: string }[] };
 
 export const demoAccounts: DemoAccount[] = [
@@ -29,6 +36,18 @@ export const demoAccounts: DemoAccount[] = [
   { email: 'principal1@evenhand.test', name: 'Dr. Helena Voss', grants: [{ role: 'principal', site: 'ALD' }] },
   { email: 'principal2@evenhand.test', name: 'Samuel Achterberg', grants: [{ role: 'principal', site: 'BRK' }] },
   { email: 'reviewer@evenhand.test', name: 'Rowan Esterházy', grants: [{ role: 'reviewer' }] },
+  // The other schools' staff, so every demo classroom has a teacher and every school a principal.
+  { email: 'principal3@evenhand.test', name: 'Oksana Treadwell', grants: [{ role: 'principal', site: 'CDH' }] },
+  { email: 'principal4@evenhand.test', name: 'Bartholomew Nwosu', grants: [{ role: 'principal', site: 'DNP' }] },
+  { email: 'principal5@evenhand.test', name: 'Greta Halvorsen', grants: [{ role: 'principal', site: 'ELR' }] },
+  { email: 'principal6@evenhand.test', name: 'Idris Calloway', grants: [{ role: 'principal', site: 'FRN' }] },
+  ...['CDH', 'DNP', 'ELR', 'FRN'].flatMap((site, i) =>
+    [0, 1, 2, 3].map((j) => ({
+      email: `teacher${5 + i * 4 + j}@evenhand.test`,
+      name: extraTeacherNames[i * 4 + j],
+      grants: [{ role: 'teacher' as const, site }],
+    })),
+  ),
 ];
 
 /** Idempotent: adds what is missing, leaves what exists (including changed passwords) alone. */

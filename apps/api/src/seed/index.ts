@@ -1,6 +1,9 @@
 import { loadConfig } from '../config.js';
 import { createDataSource } from '../db/data-source.js';
+import { createLogger } from '../logger.js';
+import { createMailer } from '../mail/mailer.js';
 import { resetDatabase, seedDemo } from './demo.js';
+import { seedDemoStudies } from './demo-study.js';
 
 const reset = process.argv.includes('--reset');
 const config = loadConfig();
@@ -11,5 +14,8 @@ const { created } = await db.transaction(async (manager) => {
   if (reset) await resetDatabase(manager);
   return seedDemo(manager);
 });
-console.log(created ? `Demo district seeded (${created} accounts added)` : 'Demo district already present');
+const mailer = createMailer(config);
+const studies = await seedDemoStudies({ config, db, mailer, logger: createLogger({ logLevel: 'warn' }) });
+mailer.close();
+console.log(created || studies ? `Demo district seeded (${created} accounts, ${studies ? 'demo studies' : 'no new studies'})` : 'Demo district already present');
 await db.destroy();

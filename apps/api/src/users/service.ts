@@ -76,7 +76,7 @@ export async function inviteUser(deps: Deps, actor: SessionUser, input: InviteUs
     created.grants = await manager.findBy(RoleGrantEntity, { userId: created.id });
     return { user: created, token };
   });
-  await sendInvitation(deps, user, token, actor.name);
+  await sendInvitations(deps, actor, [{ email: user.email, name: user.name, token }]);
   return toUser(user);
 }
 
@@ -109,4 +109,45 @@ export async function updateUser(deps: Deps, actor: SessionUser, id: string, inp
     }
     return after;
   });
+}
+
+export interface PendingInvitation {
+  email: string;
+  name: string;
+  token: string;
+}
+
+/**
+ * Makes sure a person has an account with the given grant: an existing account gets the grant
+ * added; a new address gets an account without a password and an invitation to send after commit.
+ */
+export async function ensurePerson(
+  manager: EntityManager,
+  actor: SessionUser,
+  person: { email: string; name: string },
+  grant: RoleGrant,
+  studyId: string | null,
+): Promise<{ userId: string; invitation: PendingInvitation | null }> {
+  const existing = await manager.findOneBy(UserEntity, { email: person.email });
+  const user = existing ?? (await manager.save(manager.create(UserEntity, { email: person.email, name: person.name, passwordHash: null, active: true })));
+  const inserted = await manager.query(
+    `INSERT INTO role_grants (user_id, role, site_id) VALUES ($1, $2, $3) ON CONFLICT DO NOTHING RETURNING id`,
+    [user.id, grant.role, grant.siteId],
+  );
+  if (!existing || inserted.length) {
+    await recordAudit(manager, {
+      actorId: actor.id,
+      studyId,
+      action: existing ? 'user.roles_changed' : 'user.invited',
+      entityType: 'user',
+      entityId: user.id,
+      after: { email: user.email, added: grant },
+    });
+  }
+  if (existing) return { userId: user.id, invitation: null };
+  return { userId: user.id, invitation: { email: user.email, name: user.name, token: await issueToken(manager, user.id, 'invitation') } };
+}
+
+export async function sendInvitations(deps: Deps, actor: SessionUser, invitations: (PendingInvitation | null)[]) {
+  for (const i of invitations) if (i) await sendInvitation(deps, i, i.token, actor.name);
 }

@@ -13,6 +13,10 @@ export class SiteEntity {
   @Column({ type: 'varchar', length: 20, unique: true })
   code!: string;
 
+  /** The principal who receives this school's digests. */
+  @Column({ name: 'principal_id', type: 'uuid', nullable: true })
+  principalId!: string | null;
+
   @CreateDateColumn({ name: 'created_at', type: 'timestamptz' })
   createdAt!: Date;
 }

@@ -1,4 +1,5 @@
 // Migrations in the order they run; add each new one at the end.
 import { Foundation1796169600000 } from './1796169600000-foundation.js';
+import { StudyRegistry1796173200000 } from './1796173200000-study-registry.js';
 
-export const migrations = [Foundation1796169600000];
+export const migrations = [Foundation1796169600000, StudyRegistry1796173200000];

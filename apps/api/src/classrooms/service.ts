@@ -1,0 +1,219 @@
+import type { DataSource, EntityManager } from 'typeorm';
+import {
+  classroomCsvColumns,
+  classroomCsvRowSchema,
+  type Classroom,
+  type Cohort,
+  type CreateClassroom,
+  type CsvRowIssue,
+  type SessionUser,
+  type UpdateClassroom,
+} from '@evenhand/entities';
+import { ClassroomEntity, CohortEntity, DrawEntity, StudySiteEntity } from '@evenhand/entities/orm';
+import { recordAudit } from '../audit/service.js';
+import type { Deps } from '../deps.js';
+import { AppError } from '../errors.js';
+import { parseCsv } from '../lib/csv.js';
+import { findVisibleStudy, hasRole, sitesOf } from '../studies/access.js';
+import { ensurePerson, sendInvitations, type PendingInvitation } from '../users/service.js';
+
+interface ClassroomRow {
+  id: string;
+  study_id: string;
+  site_id: string;
+  site_name: string;
+  cohort_id: string;
+  cohort_name: string;
+  name: string;
+  grade: string;
+  expected_size: number;
+  teacher_id: string;
+  teacher_name: string;
+  teacher_email: string;
+  teacher_pending: boolean;
+  arm: Classroom['arm'];
+}
+
+const toClassroom = (r: ClassroomRow): Classroom => ({
+  id: r.id,
+  studyId: r.study_id,
+  siteId: r.site_id,
+  siteName: r.site_name,
+  cohortId: r.cohort_id,
+  cohortName: r.cohort_name,
+  name: r.name,
+  grade: r.grade,
+  expectedSize: r.expected_size,
+  teacher: { id: r.teacher_id, name: r.teacher_name, email: r.teacher_email, invitationPending: r.teacher_pending },
+  arm: r.arm,
+});
+
+const classroomSelect = `SELECT c.id, c.study_id, c.site_id, s.name AS site_name, c.cohort_id, h.name AS cohort_name, c.name, c.grade,
+    c.expected_size, c.teacher_id, u.name AS teacher_name, u.email AS teacher_email, (u.password_hash IS NULL) AS teacher_pending, c.arm
+  FROM classrooms c JOIN sites s ON s.id = c.site_id JOIN cohorts h ON h.id = c.cohort_id JOIN users u ON u.id = c.teacher_id`;
+
+/** Teachers see their own classrooms, principals their school's; district roles all of the study's. */
+export async function listClassrooms(db: DataSource, user: SessionUser, studyId: string): Promise<{ items: Classroom[]; total: number }> {
+  await findVisibleStudy(db.manager, user, studyId);
+  const districtWide = hasRole(user, 'coordinator', 'research_lead', 'reviewer', 'admin');
+  const rows: ClassroomRow[] = await db.query(
+    `${classroomSelect} WHERE c.study_id = $1 AND ($2 OR c.teacher_id = $3 OR c.site_id = ANY($4))
+     ORDER BY s.name, h.name, c.name`,
+    [studyId, districtWide, user.id, sitesOf(user, 'principal')],
+  );
+  return { items: rows.map(toClassroom), total: rows.length };
+}
+
+async function classroomById(manager: EntityManager, id: string): Promise<Classroom> {
+  const rows: ClassroomRow[] = await manager.query(`${classroomSelect} WHERE c.id = $1`, [id]);
+  if (!rows.length) throw AppError.notFound('The classroom');
+  return toClassroom(rows[0]);
+}
+
+async function refuseAfterDraw(manager: EntityManager, studyId: string) {
+  if (await manager.existsBy(DrawEntity, { studyId })) {
+    throw AppError.conflict('The draw is committed: classrooms can no longer be added to this study');
+  }
+}
+
+export async function listCohorts(db: DataSource, user: SessionUser, studyId: string): Promise<{ items: Cohort[]; total: number }> {
+  await findVisibleStudy(db.manager, user, studyId);
+  const rows = await db.getRepository(CohortEntity).find({ where: { studyId }, order: { name: 'ASC' } });
+  return { items: rows.map(({ id, studyId: s, name }) => ({ id, studyId: s, name })), total: rows.length };
+}
+
+export async function createCohort(db: DataSource, user: SessionUser, studyId: string, name: string): Promise<Cohort> {
+  return db.transaction(async (manager) => {
+    await findVisibleStudy(manager, user, studyId, true);
+    const clash = await manager.query(`SELECT 1 FROM cohorts WHERE study_id = $1 AND lower(name) = lower($2)`, [studyId, name]);
+    if (clash.length) throw AppError.conflict(`This study already has a cohort named “${name}”`);
+    const cohort = await manager.save(manager.create(CohortEntity, { studyId, name }));
+    await recordAudit(manager, { actorId: user.id, studyId, action: 'cohort.created', entityType: 'cohort', entityId: cohort.id, after: { name } });
+    return { id: cohort.id, studyId, name };
+  });
+}
+
+async function insertClassroom(manager: EntityManager, actor: SessionUser, studyId: string, input: CreateClassroom) {
+  const { userId, invitation } = await ensurePerson(manager, actor, input.teacher, { role: 'teacher', siteId: input.siteId }, studyId);
+  const clash = await manager.query(`SELECT 1 FROM classrooms WHERE study_id = $1 AND site_id = $2 AND lower(name) = lower($3)`, [studyId, input.siteId, input.name]);
+  if (clash.length) throw AppError.conflict(`This site already has a classroom named “${input.name}”`, { issues: [{ path: 'name', message: 'Already used at this site' }] });
+  const saved = await manager.save(
+    manager.create(ClassroomEntity, {
+      studyId,
+      siteId: input.siteId,
+      cohortId: input.cohortId,
+      teacherId: userId,
+      name: input.name,
+      grade: input.grade,
+      expectedSize: input.expectedSize,
+      arm: null,
+    }),
+  );
+  await recordAudit(manager, { actorId: actor.id, studyId, action: 'classroom.created', entityType: 'classroom', entityId: saved.id, after: input });
+  return { id: saved.id, invitation };
+}
+
+export async function createClassroom(deps: Deps, actor: SessionUser, studyId: string, input: CreateClassroom): Promise<Classroom> {
+  const { classroom, invitation } = await deps.db.transaction(async (manager) => {
+    await findVisibleStudy(manager, actor, studyId, true);
+    await refuseAfterDraw(manager, studyId);
+    const issues = [];
+    if (!(await manager.existsBy(StudySiteEntity, { studyId, siteId: input.siteId }))) issues.push({ path: 'siteId', message: 'Enrol this site in the study first' });
+    if (!(await manager.existsBy(CohortEntity, { studyId, id: input.cohortId }))) issues.push({ path: 'cohortId', message: 'Choose one of this study’s cohorts' });
+    if (issues.length) throw AppError.validation('The classroom refers to a site or cohort outside this study', issues);
+    const { id, invitation } = await insertClassroom(manager, actor, studyId, input);
+    return { classroom: await classroomById(manager, id), invitation };
+  });
+  await sendInvitations(deps, actor, [invitation]);
+  return classroom;
+}
+
+/** Bulk add from CSV: every row is checked first; one bad row and nothing is written. */
+export async function importClassrooms(deps: Deps, actor: SessionUser, studyId: string, file: Buffer): Promise<{ created: number; classrooms: Classroom[] }> {
+  const { rows } = parseCsv(file, classroomCsvColumns);
+  if (rows.length > 2000) throw AppError.validation('Import at most 2,000 classrooms at a time');
+  const { created, invitations } = await deps.db.transaction(async (manager) => {
+    await findVisibleStudy(manager, actor, studyId, true);
+    await refuseAfterDraw(manager, studyId);
+    const enrolled: { id: string; code: string }[] = await manager.query(
+      `SELECT s.id, s.code FROM sites s JOIN study_sites ss ON ss.site_id = s.id WHERE ss.study_id = $1`,
+      [studyId],
+    );
+    const siteByCode = new Map(enrolled.map((s) => [s.code.toUpperCase(), s.id]));
+    const problems: CsvRowIssue[] = [];
+    const seen = new Map<string, number>();
+    const valid = rows.flatMap(({ line, values }) => {
+      const parsed = classroomCsvRowSchema.safeParse(values);
+      if (!parsed.success) {
+        for (const i of parsed.error.issues) problems.push({ row: line, column: String(i.path[0] ?? ''), message: i.message });
+        return [];
+      }
+      const r = parsed.data;
+      const siteId = siteByCode.get(r.site_code.toUpperCase());
+      if (!siteId) problems.push({ row: line, column: 'site_code', message: `No site with code ${r.site_code} is enrolled in this study` });
+      const key = `${r.site_code.toUpperCase()}|${r.classroom.toLowerCase()}`;
+      if (seen.has(key)) problems.push({ row: line, column: 'classroom', message: `Same site and classroom as row ${seen.get(key)}` });
+      seen.set(key, line);
+      return siteId ? [{ line, siteId, ...r }] : [];
+    });
+    if (problems.length) throw new AppError('validation_failed', `${problems.length} problem(s) in the file; nothing was imported`, { rows: problems });
+
+    const cohortIds = new Map<string, string>();
+    for (const c of await manager.findBy(CohortEntity, { studyId })) cohortIds.set(c.name.toLowerCase(), c.id);
+    const invitations: (PendingInvitation | null)[] = [];
+    for (const r of valid) {
+      let cohortId = cohortIds.get(r.cohort.toLowerCase());
+      if (!cohortId) {
+        cohortId = (await manager.save(manager.create(CohortEntity, { studyId, name: r.cohort }))).id;
+        cohortIds.set(r.cohort.toLowerCase(), cohortId);
+      }
+      try {
+        const { invitation } = await insertClassroom(manager, actor, studyId, {
+          siteId: r.siteId,
+          cohortId,
+          name: r.classroom,
+          grade: r.grade,
+          expectedSize: r.expected_size,
+          teacher: { email: r.teacher_email, name: r.teacher_name },
+        });
+        invitations.push(invitation);
+      } catch (err) {
+        if (err instanceof AppError && err.code === 'conflict') {
+          throw new AppError('validation_failed', '1 problem in the file; nothing was imported', { rows: [{ row: r.line, column: 'classroom', message: err.message }] });
+        }
+        throw err;
+      }
+    }
+    return { created: valid.length, invitations };
+  });
+  await sendInvitations(deps, actor, invitations);
+  return { created, classrooms: (await listClassrooms(deps.db, actor, studyId)).items };
+}
+
+export async function updateClassroom(deps: Deps, actor: SessionUser, id: string, input: UpdateClassroom): Promise<Classroom> {
+  const { classroom, invitation } = await deps.db.transaction(async (manager) => {
+    const before = await classroomById(manager, id);
+    await findVisibleStudy(manager, actor, before.studyId, true);
+    if (input.cohortId && !(await manager.existsBy(CohortEntity, { studyId: before.studyId, id: input.cohortId }))) {
+      throw AppError.validation('Choose one of this study’s cohorts', [{ path: 'cohortId', message: 'Not a cohort of this study' }]);
+    }
+    let invitation: PendingInvitation | null = null;
+    let teacherId: string | undefined;
+    if (input.teacher) {
+      ({ userId: teacherId, invitation } = await ensurePerson(manager, actor, input.teacher, { role: 'teacher', siteId: before.siteId }, before.studyId));
+    }
+    await manager.update(ClassroomEntity, id, {
+      ...(input.name !== undefined ? { name: input.name } : {}),
+      ...(input.grade !== undefined ? { grade: input.grade } : {}),
+      ...(input.expectedSize !== undefined ? { expectedSize: input.expectedSize } : {}),
+      ...(input.cohortId !== undefined ? { cohortId: input.cohortId } : {}),
+      ...(teacherId ? { teacherId } : {}),
+    });
+    const after = await classroomById(manager, id);
+    await recordAudit(manager, { actorId: actor.id, studyId: before.studyId, action: 'classroom.updated', entityType: 'classroom', entityId: id, before, after });
+    return { classroom: after, invitation };
+  });
+  await sendInvitations(deps, actor, [invitation]);
+  return classroom;
+}
+

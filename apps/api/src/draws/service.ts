@@ -1,0 +1,204 @@
+import { randomBytes } from 'node:crypto';
+import type { DataSource, EntityManager } from 'typeorm';
+import { blockedDraw } from '@evenhand/stats';
+import type { Arm, BalanceRow, Draw, DrawRequest, Reassignment, SessionUser } from '@evenhand/entities';
+import { ClassroomEntity, DrawEntity, DrawReassignmentEntity, PlanVersionEntity, StudyEntity } from '@evenhand/entities/orm';
+import { recordAudit } from '../audit/service.js';
+import { AppError } from '../errors.js';
+import { findVisibleStudy } from '../studies/access.js';
+
+interface UnitRow {
+  classroom_id: string;
+  classroom_name: string;
+  site_id: string;
+  site_name: string;
+  expected_size: number;
+}
+
+interface DrawDesign {
+  unit: 'classroom' | 'school';
+  blocks: { blockId: string; unitIds: string[] }[];
+  classrooms: UnitRow[];
+  names: Map<string, string>;
+}
+
+/** Classrooms are drawn within their site (the block); whole schools are drawn in one district block. */
+async function design(manager: EntityManager, study: StudyEntity): Promise<DrawDesign> {
+  if (study.unitOfAssignment === 'student') {
+    throw AppError.conflict('Student-level assignment needs class rosters, which Evenhand does not hold; assign classrooms or schools');
+  }
+  const classrooms: UnitRow[] = await manager.query(
+    `SELECT c.id AS classroom_id, c.name AS classroom_name, s.id AS site_id, s.name AS site_name, c.expected_size
+       FROM classrooms c JOIN sites s ON s.id = c.site_id WHERE c.study_id = $1 ORDER BY s.name, c.name`,
+    [study.id],
+  );
+  const names = new Map<string, string>();
+  const bySite = new Map<string, string[]>();
+  for (const c of classrooms) {
+    names.set(c.classroom_id, `${c.classroom_name} (${c.site_name})`);
+    names.set(c.site_id, c.site_name);
+    bySite.set(c.site_id, [...(bySite.get(c.site_id) ?? []), c.classroom_id]);
+  }
+  if (study.unitOfAssignment === 'school') {
+    const sites = [...bySite.keys()];
+    if (sites.length < 2) throw AppError.conflict('A draw of schools needs at least two enrolled sites with classrooms');
+    return { unit: 'school', blocks: [{ blockId: 'district', unitIds: sites }], classrooms, names };
+  }
+  if (classrooms.length < 2) throw AppError.conflict('A draw needs at least two classrooms');
+  return { unit: 'classroom', blocks: [...bySite].map(([blockId, unitIds]) => ({ blockId, unitIds })), classrooms, names };
+}
+
+function balance(d: DrawDesign, armOf: (c: UnitRow) => Arm | null): BalanceRow[] {
+  const rows = new Map<string, BalanceRow>();
+  for (const c of d.classrooms) {
+    const row = rows.get(c.site_id) ?? {
+      siteId: c.site_id,
+      siteName: c.site_name,
+      intervention: { units: 0, expectedStudents: 0 },
+      comparison: { units: 0, expectedStudents: 0 },
+    };
+    const arm = armOf(c);
+    if (arm) {
+      // For school assignment the unit is the site: count it once.
+      if (d.unit === 'classroom' || row[arm].units === 0) row[arm].units += 1;
+      row[arm].expectedStudents += c.expected_size;
+    }
+    rows.set(c.site_id, row);
+  }
+  return [...rows.values()];
+}
+
+function run(seed: string, blocks: DrawDesign['blocks']) {
+  return blockedDraw({ seed, blocks, arms: ['intervention', 'comparison'] });
+}
+
+const sameAssignments = (a: { unitId: string; arm: string }[], b: { unitId: string; arm: string }[]) =>
+  a.length === b.length && a.every((x, i) => x.unitId === b[i].unitId && x.arm === b[i].arm);
+
+async function refuseUnlessSealed(manager: EntityManager, studyId: string) {
+  if (!(await manager.existsBy(PlanVersionEntity, { studyId }))) throw AppError.conflict('Seal the plan before the draw');
+}
+
+/** Previews the assignment (nothing stored) or commits it; a committed draw can never change. */
+export async function drawAssignment(db: DataSource, user: SessionUser, studyId: string, input: DrawRequest): Promise<Draw> {
+  return db.transaction(async (manager) => {
+    const study = await findVisibleStudy(manager, user, studyId, true);
+    await refuseUnlessSealed(manager, studyId);
+    if (await manager.existsBy(DrawEntity, { studyId })) throw AppError.conflict('The draw for this study is already committed');
+    const d = await design(manager, study);
+    const seed = input.seed ?? randomBytes(16).toString('hex');
+    const result = run(seed, d.blocks);
+    const armOfUnit = new Map(result.assignments.map((a) => [a.unitId, a.arm as Arm]));
+    const armOf = (c: UnitRow) => armOfUnit.get(d.unit === 'school' ? c.site_id : c.classroom_id) ?? null;
+    const draw: Draw = {
+      id: null,
+      studyId,
+      committed: false,
+      seed,
+      algorithm: result.algorithm,
+      algorithmVersion: result.version,
+      unit: d.unit,
+      blocks: d.blocks,
+      assignments: result.assignments.map((a) => ({ blockId: a.blockId, unitId: a.unitId, unitName: d.names.get(a.unitId) ?? a.unitId, arm: a.arm as Arm })),
+      balance: balance(d, armOf),
+      committedAt: null,
+      committedBy: null,
+      verified: true,
+      reassignments: [],
+    };
+    if (!input.commit) return draw;
+
+    const saved = await manager.save(
+      manager.create(DrawEntity, {
+        studyId,
+        seed,
+        algorithm: result.algorithm,
+        algorithmVersion: result.version,
+        unit: d.unit,
+        blocks: d.blocks,
+        assignments: result.assignments.map(({ blockId, unitId, arm }) => ({ blockId, unitId, arm: arm as Arm })),
+        committedBy: user.id,
+      }),
+    );
+    for (const c of d.classrooms) await manager.update(ClassroomEntity, c.classroom_id, { arm: armOf(c) });
+    await recordAudit(manager, {
+      actorId: user.id,
+      studyId,
+      action: 'draw.committed',
+      entityType: 'draw',
+      entityId: saved.id,
+      after: { seed, algorithm: result.algorithm, version: result.version, assignments: saved.assignments },
+    });
+    return { ...draw, id: saved.id, committed: true, committedAt: saved.committedAt.toISOString(), committedBy: { id: user.id, name: user.name } };
+  });
+}
+
+/** The committed draw, re-derived from its seed on every read so anyone can see it is what the seed gives. */
+export async function listDraws(db: DataSource, user: SessionUser, studyId: string): Promise<{ items: Draw[]; total: number }> {
+  const study = await findVisibleStudy(db.manager, user, studyId);
+  const saved = await db.manager.findOneBy(DrawEntity, { studyId });
+  if (!saved) return { items: [], total: 0 };
+  const d = await design(db.manager, study);
+  const names = d.names;
+  const rederived = run(saved.seed, saved.blocks);
+  const reassignments: (DrawReassignmentEntity & { by_name: string })[] = await db.manager.query(
+    `SELECT r.id, r.classroom_id AS "classroomId", r.from_arm AS "fromArm", r.to_arm AS arm, r.reason, r.by_user AS by, r.at, u.name AS by_name
+       FROM draw_reassignments r JOIN users u ON u.id = r.by_user WHERE r.draw_id = $1 ORDER BY r.at`,
+    [saved.id],
+  );
+  const committedBy: { name: string }[] = await db.manager.query(`SELECT name FROM users WHERE id = $1`, [saved.committedBy]);
+  const currentArm = new Map(
+    (await db.manager.findBy(ClassroomEntity, { studyId })).map((c) => [c.id, c.arm]),
+  );
+  const draw: Draw = {
+    id: saved.id,
+    studyId,
+    committed: true,
+    seed: saved.seed,
+    algorithm: saved.algorithm,
+    algorithmVersion: saved.algorithmVersion,
+    unit: saved.unit,
+    blocks: saved.blocks,
+    assignments: saved.assignments.map((a) => ({ ...a, unitName: names.get(a.unitId) ?? a.unitId })),
+    balance: balance(d, (c) => currentArm.get(c.classroom_id) ?? null),
+    committedAt: saved.committedAt.toISOString(),
+    committedBy: { id: saved.committedBy, name: committedBy[0]?.name ?? '(unknown)' },
+    verified: rederived.algorithm === saved.algorithm && rederived.version === saved.algorithmVersion && sameAssignments(rederived.assignments, saved.assignments),
+    reassignments: reassignments.map((r) => ({
+      id: r.id,
+      classroomId: r.classroomId,
+      arm: r.arm,
+      fromArm: r.fromArm,
+      reason: r.reason,
+      by: { id: r.by, name: r.by_name },
+      at: new Date(r.at).toISOString(),
+    })),
+  };
+  return { items: [draw], total: 1 };
+}
+
+/** A manual change of one classroom's arm: needs a reason, is audited, and makes the study quasi-experimental. */
+export async function reassign(db: DataSource, user: SessionUser, drawId: string, input: Reassignment): Promise<Draw> {
+  const studyId = await db.transaction(async (manager) => {
+    const saved = await manager.findOneBy(DrawEntity, { id: drawId });
+    if (!saved) throw AppError.notFound('The draw');
+    await findVisibleStudy(manager, user, saved.studyId, true);
+    const classroom = await manager.findOneBy(ClassroomEntity, { id: input.classroomId, studyId: saved.studyId });
+    if (!classroom) throw AppError.validation('Choose a classroom of this study', [{ path: 'classroomId', message: 'Not a classroom of this study' }]);
+    if (classroom.arm === input.arm) throw AppError.validation(`This classroom is already in the ${input.arm} arm`, [{ path: 'arm', message: 'No change' }]);
+    await manager.insert(DrawReassignmentEntity, { drawId, classroomId: classroom.id, fromArm: classroom.arm!, arm: input.arm, reason: input.reason, by: user.id });
+    await manager.update(ClassroomEntity, classroom.id, { arm: input.arm });
+    await manager.update(StudyEntity, saved.studyId, { quasiExperimental: true });
+    await recordAudit(manager, {
+      actorId: user.id,
+      studyId: saved.studyId,
+      action: 'draw.reassigned',
+      entityType: 'classroom',
+      entityId: classroom.id,
+      before: { arm: classroom.arm },
+      after: { arm: input.arm, reason: input.reason },
+    });
+    return saved.studyId;
+  });
+  return (await listDraws(db, user, studyId)).items[0];
+}

@@ -1,0 +1,72 @@
+import type { Express } from 'express';
+import { expect } from 'vitest';
+import type { SignedIn } from './app.js';
+import { signIn } from './app.js';
+import { uniqueAddress } from './mail.js';
+
+/** Sends a state-changing request with the session's CSRF header and checks the status. */
+export async function send(s: SignedIn, method: 'post' | 'put' | 'patch', url: string, body: object, status: number) {
+  const res = await s.agent[method](url).set('x-csrf-token', s.csrf).send(body);
+  if (res.status !== status) throw new Error(`${method.toUpperCase()} ${url} answered ${res.status}, expected ${status}: ${JSON.stringify(res.body)}`);
+  return res.body;
+}
+
+export const samplePlan = (measureId: string, waveId: string) => ({
+  primaryMeasureId: measureId,
+  primaryWaveId: waveId,
+  hypothesis: 'Classrooms using the practice reach higher spring reading scores than business-as-usual classrooms.',
+  plannedSites: 2,
+  plannedClassrooms: 8,
+  plannedStudentsPerClassroom: 22,
+});
+
+export interface StudySetup {
+  lead: SignedIn;
+  coordinator: SignedIn;
+  studyId: string;
+  measureId: string;
+  baselineId: string;
+  outcomeId: string;
+}
+
+/** A study with a measure, baseline and outcome waves, and (optionally) a sealed plan. */
+export async function createStudy(app: Express, { seal = true, unitOfAssignment = 'classroom' } = {}): Promise<StudySetup> {
+  const lead = await signIn(app, 'lead@evenhand.test');
+  const coordinator = await signIn(app, 'coordinator@evenhand.test');
+  const study = await send(lead, 'post', '/api/studies', {
+    title: 'Paired reading in grade 4',
+    intervention: 'Twice-weekly paired reading sessions',
+    comparisonCondition: 'Business-as-usual reading block',
+    unitOfAssignment,
+  }, 201);
+  const measure = await send(lead, 'post', `/api/studies/${study.id}/measures`, { name: 'Reading fluency', minScore: 0, maxScore: 200, kind: 'achievement' }, 201);
+  const baseline = await send(lead, 'post', `/api/studies/${study.id}/waves`, { kind: 'baseline', name: 'Autumn', opensOn: '2026-09-01', closesOn: '2026-09-30' }, 201);
+  const outcome = await send(lead, 'post', `/api/studies/${study.id}/waves`, { kind: 'outcome', name: 'Spring', opensOn: '2027-05-01', closesOn: '2027-05-31' }, 201);
+  await send(lead, 'put', `/api/studies/${study.id}/plan`, samplePlan(measure.id, outcome.id), 200);
+  if (seal) await send(lead, 'post', `/api/studies/${study.id}/plan/seal`, {}, 200);
+  return { lead, coordinator, studyId: study.id, measureId: measure.id, baselineId: baseline.id, outcomeId: outcome.id };
+}
+
+/** Enrols `sites` new schools with `perSite` classrooms each, all in one cohort. */
+export async function enrolClassrooms(s: StudySetup, sites: number, perSite: number) {
+  const cohort = await send(s.coordinator, 'post', `/api/studies/${s.studyId}/cohorts`, { name: 'Grade 4, 2026–27' }, 201);
+  const classrooms: { id: string; siteId: string; teacherEmail: string }[] = [];
+  for (let i = 0; i < sites; i++) {
+    const code = `T${Math.random().toString(36).slice(2, 8).toUpperCase()}`;
+    const site = await send(s.coordinator, 'post', `/api/studies/${s.studyId}/sites`, { name: `Test School ${code}`, code }, 201);
+    for (let j = 0; j < perSite; j++) {
+      const teacherEmail = uniqueAddress('teacher');
+      const c = await send(s.coordinator, 'post', `/api/studies/${s.studyId}/classrooms`, {
+        siteId: site.id,
+        cohortId: cohort.id,
+        name: `Room ${j + 1}`,
+        grade: '4',
+        expectedSize: 20 + j,
+        teacher: { email: teacherEmail, name: `Teacher ${i}-${j}` },
+      }, 201);
+      classrooms.push({ id: c.id, siteId: site.id, teacherEmail });
+    }
+  }
+  expect(classrooms).toHaveLength(sites * perSite);
+  return { cohortId: cohort.id, classrooms };
+}
