@@ -10,6 +10,7 @@ import { classroomsRouter } from './classrooms/router.js';
 import { drawsRouter } from './draws/router.js';
 import { measuresRouter } from './measures/router.js';
 import { plansRouter } from './plans/router.js';
+import { scoreSheetsRouter } from './score-sheets/router.js';
 import { studiesRouter } from './studies/router.js';
 import { authenticate } from './auth/middleware.js';
 import { authRouter } from './auth/router.js';
@@ -41,6 +42,7 @@ export function createApp(deps: Deps) {
     sitesRouter(deps, registry),
     classroomsRouter(deps, registry),
     drawsRouter(deps, registry),
+    scoreSheetsRouter(deps, registry),
     auditRouter(deps, registry),
     openApiRouter(registry),
   ]) {

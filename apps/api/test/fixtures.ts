@@ -29,7 +29,9 @@ export interface StudySetup {
   outcomeId: string;
 }
 
-/** A study with a measure, baseline and outcome waves, and (optionally) a sealed plan. */
+const isoDay = (offsetDays: number) => new Date(Date.now() + offsetDays * 86_400_000).toISOString().slice(0, 10);
+
+/** A study with a measure, a baseline wave open today, a later outcome wave, and (optionally) a sealed plan. */
 export async function createStudy(app: Express, { seal = true, unitOfAssignment = 'classroom' } = {}): Promise<StudySetup> {
   const lead = await signIn(app, 'lead@evenhand.test');
   const coordinator = await signIn(app, 'coordinator@evenhand.test');
@@ -40,22 +42,22 @@ export async function createStudy(app: Express, { seal = true, unitOfAssignment 
     unitOfAssignment,
   }, 201);
   const measure = await send(lead, 'post', `/api/studies/${study.id}/measures`, { name: 'Reading fluency', minScore: 0, maxScore: 200, kind: 'achievement' }, 201);
-  const baseline = await send(lead, 'post', `/api/studies/${study.id}/waves`, { kind: 'baseline', name: 'Autumn', opensOn: '2026-09-01', closesOn: '2026-09-30' }, 201);
-  const outcome = await send(lead, 'post', `/api/studies/${study.id}/waves`, { kind: 'outcome', name: 'Spring', opensOn: '2027-05-01', closesOn: '2027-05-31' }, 201);
+  const baseline = await send(lead, 'post', `/api/studies/${study.id}/waves`, { kind: 'baseline', name: 'Autumn', opensOn: isoDay(-10), closesOn: isoDay(20) }, 201);
+  const outcome = await send(lead, 'post', `/api/studies/${study.id}/waves`, { kind: 'outcome', name: 'Spring', opensOn: isoDay(150), closesOn: isoDay(180) }, 201);
   await send(lead, 'put', `/api/studies/${study.id}/plan`, samplePlan(measure.id, outcome.id), 200);
   if (seal) await send(lead, 'post', `/api/studies/${study.id}/plan/seal`, {}, 200);
   return { lead, coordinator, studyId: study.id, measureId: measure.id, baselineId: baseline.id, outcomeId: outcome.id };
 }
 
-/** Enrols `sites` new schools with `perSite` classrooms each, all in one cohort. */
-export async function enrolClassrooms(s: StudySetup, sites: number, perSite: number) {
+/** Enrols `sites` new schools with `perSite` classrooms each, all in one cohort; teachers are new unless named. */
+export async function enrolClassrooms(s: StudySetup, sites: number, perSite: number, teacherEmails: string[] = []) {
   const cohort = await send(s.coordinator, 'post', `/api/studies/${s.studyId}/cohorts`, { name: 'Grade 4, 2026–27' }, 201);
   const classrooms: { id: string; siteId: string; teacherEmail: string }[] = [];
   for (let i = 0; i < sites; i++) {
     const code = `T${Math.random().toString(36).slice(2, 8).toUpperCase()}`;
     const site = await send(s.coordinator, 'post', `/api/studies/${s.studyId}/sites`, { name: `Test School ${code}`, code }, 201);
     for (let j = 0; j < perSite; j++) {
-      const teacherEmail = uniqueAddress('teacher');
+      const teacherEmail = teacherEmails[i * perSite + j] ?? uniqueAddress('teacher');
       const c = await send(s.coordinator, 'post', `/api/studies/${s.studyId}/classrooms`, {
         siteId: site.id,
         cohortId: cohort.id,

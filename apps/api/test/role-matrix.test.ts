@@ -44,6 +44,16 @@ const expectedAccess: Record<string, 'anyone' | 'signed-in' | Role[]> = {
   'POST /api/studies/{id}/draws': ['coordinator'],
   'GET /api/studies/{id}/draws': ['coordinator', 'research_lead', 'reviewer'],
   'POST /api/draws/{id}/reassignments': ['coordinator'],
+  'GET /api/score-sheets': ['teacher', 'coordinator', 'research_lead'],
+  'GET /api/score-sheets/{id}': ['teacher', 'coordinator', 'research_lead'],
+  'PUT /api/score-sheets/{id}': ['teacher'],
+  'PUT /api/score-sheets/{id}/summary': ['teacher'],
+  'POST /api/score-sheets/{id}/upload': ['teacher'],
+  'POST /api/score-sheets/{id}/submit': ['teacher'],
+  'POST /api/score-sheets/{id}/accept': ['coordinator'],
+  'POST /api/score-sheets/{id}/return': ['coordinator'],
+  'GET /api/studies/{id}/completion': ['coordinator', 'research_lead'],
+  'POST /api/studies/{id}/reminders': ['coordinator'],
   'GET /api/audit': ['admin', 'research_lead', 'reviewer'],
 };
 

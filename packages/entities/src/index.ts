@@ -9,3 +9,4 @@ export * from './schemas/studies.js';
 export * from './schemas/plan.js';
 export * from './schemas/classrooms.js';
 export * from './schemas/draws.js';
+export * from './schemas/score-sheets.js';

@@ -36,3 +36,17 @@ export function passwordResetMail(v: { name: string; link: string }) {
     html: layout('Reset your password', lines, { label: 'Choose a new password', link: v.link }),
   };
 }
+
+export function reminderMail(v: { name: string; studyTitle: string; missing: string[]; link: string }) {
+  const lines = [
+    `Hello ${v.name},`,
+    `These score sheets for “${v.studyTitle}” are still waiting for you:`,
+    ...v.missing.map((m) => `• ${m}`),
+    'Enter the scores in Evenhand, or upload a CSV, then press Submit. Thank you — every classroom counts.',
+  ];
+  return {
+    subject: `Score sheets waiting: ${v.studyTitle}`,
+    text: `${lines.join('\n')}\n\nOpen My classes: ${v.link}\n`,
+    html: layout('Score sheets waiting for you', lines, { label: 'Open My classes', link: v.link }),
+  };
+}

@@ -58,6 +58,7 @@ export async function seedDemoStudies(deps: Deps): Promise<boolean> {
     plannedClassrooms: 24,
     plannedStudentsPerClassroom: 25,
     shareIntervention: 0.5,
+    summaryEntryAllowed: false,
     covariateR2: 0.5,
   };
   await saveDraft(deps.db, lead, study.id, plan);

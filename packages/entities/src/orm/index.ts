@@ -7,6 +7,7 @@ import { DrawEntity, DrawReassignmentEntity } from './draw.entity.js';
 import { MeasureEntity } from './measure.entity.js';
 import { PlanDraftEntity, PlanVersionEntity } from './plan.entity.js';
 import { RoleGrantEntity } from './role-grant.entity.js';
+import { ScoreSheetEntity } from './score-sheet.entity.js';
 import { SiteEntity } from './site.entity.js';
 import { StudyEntity } from './study.entity.js';
 import { UserEntity } from './user.entity.js';
@@ -23,6 +24,7 @@ export {
   PlanDraftEntity,
   PlanVersionEntity,
   RoleGrantEntity,
+  ScoreSheetEntity,
   SiteEntity,
   StudyEntity,
   StudySiteEntity,
@@ -47,4 +49,5 @@ export const entities = [
   ClassroomEntity,
   DrawEntity,
   DrawReassignmentEntity,
+  ScoreSheetEntity,
 ];

@@ -33,6 +33,8 @@ export const planContentSchema = z
     plannedStudentsPerClassroom: z.number().int().min(1).max(1000),
     /** Share of units assigned to the intervention. */
     shareIntervention: z.number().gt(0).lt(1).default(0.5),
+    /** Whether classrooms may report only n, mean and SD instead of per-student scores. */
+    summaryEntryAllowed: z.boolean().default(false),
     /** Expected R² of the baseline covariate (student level), for the power calculation. */
     covariateR2: z.number().min(0).lt(1).default(0),
   })

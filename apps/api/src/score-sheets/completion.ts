@@ -1,0 +1,87 @@
+import type { DataSource } from 'typeorm';
+import type { SessionUser, SheetState } from '@evenhand/entities';
+import type { Deps } from '../deps.js';
+import { reminderMail } from '../mail/templates.js';
+import { findVisibleStudy } from '../studies/access.js';
+import { ensureSheets } from './service.js';
+
+interface CellRow {
+  sheet_id: string;
+  classroom_id: string;
+  classroom_name: string;
+  site_id: string;
+  site_name: string;
+  teacher_id: string;
+  teacher_name: string;
+  teacher_email: string;
+  arm: string | null;
+  wave_id: string;
+  wave_name: string;
+  measure_id: string;
+  measure_name: string;
+  state: SheetState;
+  rows: number;
+  left_count: number;
+  wave_started: boolean;
+}
+
+async function cells(db: DataSource, studyId: string): Promise<CellRow[]> {
+  await ensureSheets(db.manager, studyId);
+  return db.query(
+    `SELECT sh.id AS sheet_id, c.id AS classroom_id, c.name AS classroom_name, s.id AS site_id, s.name AS site_name,
+            u.id AS teacher_id, u.name AS teacher_name, u.email AS teacher_email, c.arm,
+            w.id AS wave_id, w.name AS wave_name, m.id AS measure_id, m.name AS measure_name, sh.state,
+            (CASE WHEN sh.mode = 'summary' THEN sh.summary_n ELSE (SELECT count(*) FROM scores x WHERE x.sheet_id = sh.id) END)::int AS rows,
+            (SELECT count(*) FROM scores x WHERE x.sheet_id = sh.id AND x.left_study)::int AS left_count,
+            (w.opens_on <= current_date) AS wave_started
+       FROM score_sheets sh
+       JOIN classrooms c ON c.id = sh.classroom_id JOIN sites s ON s.id = c.site_id JOIN users u ON u.id = c.teacher_id
+       JOIN waves w ON w.id = sh.wave_id JOIN measures m ON m.id = sh.measure_id
+      WHERE sh.study_id = $1
+      ORDER BY s.name, c.name, w.opens_on, m.name`,
+    [studyId],
+  );
+}
+
+/** The coordinator's matrix: one row per classroom, one cell per wave and measure. */
+export async function completionMatrix(db: DataSource, user: SessionUser, studyId: string) {
+  await findVisibleStudy(db.manager, user, studyId);
+  const all = await cells(db, studyId);
+  const waves = [...new Map(all.map((c) => [c.wave_id, { id: c.wave_id, name: c.wave_name }])).values()];
+  const measures = [...new Map(all.map((c) => [c.measure_id, { id: c.measure_id, name: c.measure_name }])).values()];
+  const rows = new Map<string, { classroomId: string; classroomName: string; siteId: string; siteName: string; teacherName: string; arm: string | null; cells: object[] }>();
+  for (const c of all) {
+    const row = rows.get(c.classroom_id) ?? {
+      classroomId: c.classroom_id,
+      classroomName: c.classroom_name,
+      siteId: c.site_id,
+      siteName: c.site_name,
+      teacherName: c.teacher_name,
+      arm: c.arm,
+      cells: [],
+    };
+    row.cells.push({ sheetId: c.sheet_id, waveId: c.wave_id, measureId: c.measure_id, state: c.state, rows: c.rows, left: c.left_count });
+    rows.set(c.classroom_id, row);
+  }
+  const totals = { open: 0, submitted: 0, accepted: 0, returned: 0 } as Record<SheetState, number>;
+  for (const c of all) totals[c.state]++;
+  return { waves, measures, rows: [...rows.values()], totals };
+}
+
+/** One e-mail per teacher listing every sheet still open or returned in waves that have begun. */
+export async function sendReminders(deps: Deps, user: SessionUser, studyId: string, waveId?: string) {
+  const study = await findVisibleStudy(deps.db.manager, user, studyId);
+  const missing = (await cells(deps.db, studyId)).filter(
+    (c) => c.wave_started && (c.state === 'open' || c.state === 'returned') && (!waveId || c.wave_id === waveId),
+  );
+  const byTeacher = new Map<string, { email: string; name: string; items: string[] }>();
+  for (const c of missing) {
+    const t = byTeacher.get(c.teacher_id) ?? { email: c.teacher_email, name: c.teacher_name, items: [] };
+    t.items.push(`${c.classroom_name} (${c.site_name}) — ${c.wave_name}, ${c.measure_name}${c.state === 'returned' ? ' (returned for corrections)' : ''}`);
+    byTeacher.set(c.teacher_id, t);
+  }
+  for (const t of byTeacher.values()) {
+    await deps.mailer.send({ to: t.email, ...reminderMail({ name: t.name, studyTitle: study.title, missing: t.items, link: `${deps.config.appUrl}/my-classes` }) });
+  }
+  return { teachersReminded: byTeacher.size, sheetsMissing: missing.length };
+}

@@ -1,0 +1,219 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { signIn, startTestApp, type SignedIn, type TestApp } from '../../test/app.js';
+import { createStudy, enrolClassrooms, send, type StudySetup } from '../../test/fixtures.js';
+import { mailTo, waitForMail } from '../../test/mail.js';
+
+let t: TestApp;
+let s: StudySetup;
+let teacher1: SignedIn;
+let teacher2: SignedIn;
+let sheet1: string; // teacher1's baseline sheet
+let sheet2: string; // teacher2's baseline sheet
+let outcomeSheet1: string;
+
+beforeAll(async () => {
+  t = await startTestApp();
+  s = await createStudy(t.app);
+  await enrolClassrooms(s, 1, 2, ['teacher1@evenhand.test', 'teacher2@evenhand.test']);
+  teacher1 = await signIn(t.app, 'teacher1@evenhand.test');
+  teacher2 = await signIn(t.app, 'teacher2@evenhand.test');
+  const mine = (await teacher1.agent.get(`/api/score-sheets?studyId=${s.studyId}`)).body.items;
+  sheet1 = mine.find((x: { waveId: string }) => x.waveId === s.baselineId).id;
+  outcomeSheet1 = mine.find((x: { waveId: string }) => x.waveId === s.outcomeId).id;
+  sheet2 = (await teacher2.agent.get(`/api/score-sheets?studyId=${s.studyId}&waveId=${s.baselineId}`)).body.items[0].id;
+});
+afterAll(() => t.close());
+
+const scores = async (sheetId: string) => (await t.db.query(`SELECT student_code, score::float8 AS score, left_study FROM scores WHERE sheet_id = $1 ORDER BY student_code`, [sheetId]));
+const put = (who: SignedIn, id: string, rows: object[]) => who.agent.put(`/api/score-sheets/${id}`).set('x-csrf-token', who.csrf).send({ rows });
+const upload = (who: SignedIn, id: string, body: Buffer | string, query = '') =>
+  who.agent.post(`/api/score-sheets/${id}/upload${query}`).set('x-csrf-token', who.csrf).attach('file', Buffer.isBuffer(body) ? body : Buffer.from(body), 'scores.csv');
+
+describe('teacher entry by form', () => {
+  it('lists only the teacher’s own sheets, one per wave and measure', async () => {
+    const mine = (await teacher1.agent.get(`/api/score-sheets?studyId=${s.studyId}`)).body;
+    expect(mine.total).toBe(2);
+    expect(new Set(mine.items.map((x: { teacherName: string }) => x.teacherName))).toEqual(new Set(['Tomasz Ferreira']));
+    expect(mine.items.find((x: { id: string }) => x.id === sheet1)).toMatchObject({ state: 'open', editable: true, minScore: 0, maxScore: 200 });
+    expect(mine.items.find((x: { id: string }) => x.id === outcomeSheet1).editable).toBe(false); // its wave has not opened
+  });
+
+  it('saves rows as numbers, with attrition marks, and audits every change old → new', async () => {
+    const res = await put(teacher1, sheet1, [
+      { studentCode: 'LV-0001', score: 81.5 },
+      { studentCode: 'LV-0002', score: 64 },
+      { studentCode: 'LV-0003', score: null, left: true, note: 'moved away in October' },
+    ]);
+    expect(res.status).toBe(200);
+    expect(res.body.counts).toEqual({ rows: 3, scored: 2, left: 1 });
+    expect(await scores(sheet1)).toEqual([
+      { student_code: 'LV-0001', score: 81.5, left_study: false },
+      { student_code: 'LV-0002', score: 64, left_study: false },
+      { student_code: 'LV-0003', score: null, left_study: true },
+    ]);
+    await put(teacher1, sheet1, [
+      { studentCode: 'LV-0001', score: 82 },
+      { studentCode: 'LV-0002', score: 64 },
+      { studentCode: 'LV-0003', score: null, left: true },
+    ]).expect(200);
+    const [last] = await t.db.query(`SELECT actor_id, after FROM audit_events WHERE action = 'scores.changed' AND entity_id = $1 ORDER BY at DESC LIMIT 1`, [sheet1]);
+    expect(last.actor_id).toBe(teacher1.userId);
+    expect(last.after.changes).toEqual([{ studentCode: 'LV-0001', from: { score: 81.5, left: false }, to: { score: 82, left: false } }]);
+  });
+
+  it('when rows are out of range, duplicated or missing a score, then every problem is listed by row and nothing changes', async () => {
+    const before = await scores(sheet1);
+    const res = await put(teacher1, sheet1, [
+      { studentCode: 'LV-0001', score: 250 },
+      { studentCode: 'LV-0004', score: null },
+      { studentCode: 'lv-0001', score: 70 },
+    ]);
+    expect(res.status).toBe(400);
+    expect(res.body.error.details.rows).toEqual([
+      { row: 1, column: 'score', message: "The score 250 is outside the measure's range 0–200" },
+      { row: 2, column: 'score', message: 'Enter a score, or mark the student as having left the study' },
+      { row: 3, column: 'student_code', message: 'Student code lv-0001 is also on row 1' },
+    ]);
+    expect(await scores(sheet1)).toEqual(before);
+  });
+
+  it('when a score is not a number or a code looks like a name, then it answers 400', async () => {
+    const text = await put(teacher1, sheet1, [{ studentCode: 'LV-0001', score: 'eighty' }]);
+    expect(text.status).toBe(400);
+    const name = await put(teacher1, sheet1, [{ studentCode: 'Maria Lopez', score: 50 }]);
+    expect(name.status).toBe(400);
+    expect(name.body.error.details.issues[0].message).toMatch(/not a name/);
+  });
+
+  it('when a code already belongs to another classroom of the study, then it is refused', async () => {
+    const res = await put(teacher2, sheet2, [{ studentCode: 'LV-0002', score: 50 }]);
+    expect(res.status).toBe(400);
+    expect(res.body.error.details.rows[0].message).toMatch(/belongs to another classroom of this study \(Room 1\)/);
+  });
+
+  it('when a teacher opens or writes another teacher’s sheet, then it answers 404; a coordinator cannot enter scores', async () => {
+    expect((await teacher2.agent.get(`/api/score-sheets/${sheet1}`)).status).toBe(404);
+    expect((await put(teacher2, sheet1, [{ studentCode: 'X1', score: 1 }])).status).toBe(404);
+    expect((await put(s.coordinator, sheet1, [{ studentCode: 'X1', score: 1 }])).status).toBe(403);
+  });
+
+  it('when the wave has not opened, then writing answers 409', async () => {
+    const res = await put(teacher1, outcomeSheet1, [{ studentCode: 'LV-0001', score: 90 }]);
+    expect(res.status).toBe(409);
+    expect(res.body.error.message).toMatch(/wave is closed/);
+  });
+});
+
+describe('the sheet’s workflow', () => {
+  it('submit → return with reasons → fix → submit → accept; then it is read-only', async () => {
+    const submitted = await send(teacher1, 'post', `/api/score-sheets/${sheet1}/submit`, {}, 200);
+    expect(submitted.state).toBe('submitted');
+    expect((await put(teacher1, sheet1, [{ studentCode: 'LV-0001', score: 1 }])).status).toBe(409);
+    expect((await teacher1.agent.post(`/api/score-sheets/${sheet1}/accept`).set('x-csrf-token', teacher1.csrf)).status).toBe(403);
+    const returned = await send(s.coordinator, 'post', `/api/score-sheets/${sheet1}/return`, { reasons: 'LV-0002 looks like a typing slip; please check.' }, 200);
+    expect(returned).toMatchObject({ state: 'returned', returnReasons: 'LV-0002 looks like a typing slip; please check.', editable: true });
+    await put(teacher1, sheet1, [
+      { studentCode: 'LV-0001', score: 82 },
+      { studentCode: 'LV-0002', score: 46 },
+      { studentCode: 'LV-0003', score: null, left: true },
+    ]).expect(200);
+    await send(teacher1, 'post', `/api/score-sheets/${sheet1}/submit`, {}, 200);
+    const accepted = await send(s.coordinator, 'post', `/api/score-sheets/${sheet1}/accept`, {}, 200);
+    expect(accepted).toMatchObject({ state: 'accepted', editable: false });
+    const late = await put(teacher1, sheet1, [{ studentCode: 'LV-0001', score: 99 }]);
+    expect(late.status).toBe(409);
+    expect(late.body.error.message).toBe('This score sheet was accepted and is read-only');
+  });
+
+  it('when a sheet is locked, then the API and the database both refuse changes', async () => {
+    await t.db.query(`UPDATE score_sheets SET locked = true WHERE id = $1`, [sheet1]);
+    const res = await s.coordinator.agent.post(`/api/score-sheets/${sheet1}/return`).set('x-csrf-token', s.coordinator.csrf).send({ reasons: 'Trying to reopen it' });
+    expect(res.status).toBe(409);
+    await expect(t.db.query(`UPDATE scores SET score = 1 WHERE sheet_id = $1`, [sheet1])).rejects.toThrow(/locked by a confirmatory run/);
+    await expect(t.db.query(`DELETE FROM scores WHERE sheet_id = $1`, [sheet1])).rejects.toThrow(/locked/);
+    await expect(t.db.query(`UPDATE score_sheets SET state = 'open' WHERE id = $1`, [sheet1])).rejects.toThrow(/locked/);
+  });
+});
+
+describe('CSV upload', () => {
+  const header = 'student_code;score;left;note\r\n';
+
+  it('checks a dry run without writing, then writes it; UTF-8 BOM, semicolons, CRLF and decimal commas are understood', async () => {
+    const csv = `\uFEFF${header}LV-0101;71,5;;\r\nLV-0102;66;no;\r\nLV-0103;;yes;left in March\r\n`;
+    const dry = await upload(teacher2, sheet2, csv, '?dryRun=true');
+    expect(dry.status).toBe(200);
+    expect(dry.body).toMatchObject({ dryRun: true, rows: 3, sheet: null });
+    expect(dry.body.preview[0]).toEqual({ studentCode: 'LV-0101', score: 71.5, left: false, note: '' });
+    expect(await scores(sheet2)).toEqual([]);
+    const real = await upload(teacher2, sheet2, csv);
+    expect(real.status).toBe(200);
+    expect(real.body.sheet.counts).toEqual({ rows: 3, scored: 2, left: 1 });
+  });
+
+  it('when the sheet has rows, then a re-upload needs confirmation and then replaces them', async () => {
+    const csv = `student_code,score\nLV-0101,70\n`;
+    const unconfirmed = await upload(teacher2, sheet2, csv);
+    expect(unconfirmed.status).toBe(409);
+    expect(unconfirmed.body.error.details).toEqual({ needsConfirmation: true });
+    const confirmed = await upload(teacher2, sheet2, csv, '?replace=true');
+    expect(confirmed.status).toBe(200);
+    expect(await scores(sheet2)).toEqual([{ student_code: 'LV-0101', score: 70, left_study: false }]);
+  });
+
+  it('lists every bad line by its line number, keeps formulas as invalid values, and writes nothing', async () => {
+    const before = await scores(sheet2);
+    const csv = 'student_code,score\nLV-0201,=HYPERLINK("http://x","y")\nLV-0202,abc\nLV-0203,-5\nLV-0204,50\nLV-0204,51\n';
+    const res = await upload(teacher2, sheet2, csv, '?replace=true');
+    expect(res.status).toBe(400);
+    expect(res.body.error.details.rows).toEqual([
+      { row: 2, column: 'score', message: 'This looks like a spreadsheet formula, not a score' },
+      { row: 3, column: 'score', message: '“abc” is not a number' },
+      { row: 4, column: 'score', message: "The score -5 is outside the measure's range 0–200" },
+      { row: 6, column: 'student_code', message: 'Student code LV-0204 is also on row 5' },
+    ]);
+    expect(await scores(sheet2)).toEqual(before);
+  });
+
+  it.each([
+    ['empty', '', 400, /empty/],
+    ['header only', 'student_code,score\n', 400, /no data rows/],
+    ['missing the score column', 'student_code,points\nA1,4\n', 400, /lacks the column\(s\) score/],
+    ['binary', Buffer.from([0xff, 0xd8, 0xff, 0x00, 0x10]), 400, /binary/],
+    ['not UTF-8', Buffer.from([0x73, 0x63, 0x6f, 0x72, 0x65, 0xe9, 0x0a]), 400, /not UTF-8/],
+    ['over 10 MB', Buffer.alloc(10 * 1024 * 1024 + 1, 'a'), 413, /larger than the 10 MB limit/],
+  ])('when the file is %s, then it answers %s and writes nothing', async (_label, body, status, message) => {
+    const before = await scores(sheet2);
+    const res = await upload(teacher2, sheet2, body, '?replace=true');
+    expect(res.status).toBe(status);
+    expect(res.body.error.message).toMatch(message);
+    expect(await scores(sheet2)).toEqual(before);
+  });
+
+  it('when the plan does not allow class summaries, then a summary is refused', async () => {
+    const res = await teacher2.agent.put(`/api/score-sheets/${sheet2}/summary`).set('x-csrf-token', teacher2.csrf).send({ summary: { n: 20, mean: 50, sd: 10 } });
+    expect(res.status).toBe(409);
+  });
+});
+
+describe('the coordinator’s completion matrix and reminders', () => {
+  it('shows every classroom × wave × measure with its state and counts', async () => {
+    const res = await s.coordinator.agent.get(`/api/studies/${s.studyId}/completion`);
+    expect(res.status).toBe(200);
+    expect(res.body.waves.map((w: { name: string }) => w.name)).toEqual(['Autumn', 'Spring']);
+    expect(res.body.rows).toHaveLength(2);
+    const room2 = res.body.rows.find((r: { teacherName: string }) => r.teacherName === 'Priya Lindqvist');
+    expect(room2.cells.find((c: { waveId: string }) => c.waveId === s.baselineId)).toMatchObject({ state: 'open', rows: 1 });
+  });
+
+  it('sends one e-mail per teacher listing what is missing in waves that have begun', async () => {
+    const before = (await mailTo('teacher2@evenhand.test')).length;
+    const res = await send(s.coordinator, 'post', `/api/studies/${s.studyId}/reminders`, {}, 200);
+    // teacher1's baseline sheet is accepted; teacher2's is open; the outcome wave has not begun.
+    expect(res).toEqual({ teachersReminded: 1, sheetsMissing: 1 });
+    const mails = await waitForMail('teacher2@evenhand.test', before + 1);
+    const mail = mails[mails.length - 1];
+    expect(mail.subject).toBe('Score sheets waiting: Paired reading in grade 4');
+    expect(mail.text).toContain('Room 2');
+    expect(mail.text).toContain('Autumn, Reading fluency');
+  });
+});

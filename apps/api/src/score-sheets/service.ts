@@ -1,0 +1,321 @@
+import type { DataSource, EntityManager } from 'typeorm';
+import type { RowIssue, ScoreRow, ScoreSheet, ScoreSheetDetail, SessionUser, SheetSummary } from '@evenhand/entities';
+import { ScoreSheetEntity } from '@evenhand/entities/orm';
+import { recordAudit } from '../audit/service.js';
+import { AppError } from '../errors.js';
+import { parseCsv } from '../lib/csv.js';
+import { currentPlan } from '../plans/service.js';
+import { findVisibleStudy, hasRole } from '../studies/access.js';
+import { checkRows, rowFromCsv, rowsRefused } from './rows.js';
+
+interface SheetRow {
+  id: string;
+  study_id: string;
+  classroom_id: string;
+  classroom_name: string;
+  site_id: string;
+  site_name: string;
+  teacher_id: string;
+  teacher_name: string;
+  arm: ScoreSheet['arm'];
+  wave_id: string;
+  wave_name: string;
+  wave_kind: ScoreSheet['waveKind'];
+  opens_on: string;
+  closes_on: string;
+  measure_id: string;
+  measure_name: string;
+  min_score: string;
+  max_score: string;
+  state: ScoreSheet['state'];
+  mode: ScoreSheet['mode'];
+  locked: boolean;
+  return_reasons: string | null;
+  summary_n: number | null;
+  summary_mean: string | null;
+  summary_sd: string | null;
+  updated_at: Date;
+  submitted_at: Date | null;
+  rows: number;
+  scored: number;
+  left_count: number;
+  wave_open: boolean;
+}
+
+// Counts come from the scores table; the window is judged on the database's calendar date.
+const sheetSelect = `
+  SELECT sh.*, c.name AS classroom_name, c.site_id, s.name AS site_name, c.teacher_id, u.name AS teacher_name, c.arm,
+         w.name AS wave_name, w.kind AS wave_kind, to_char(w.opens_on, 'YYYY-MM-DD') AS opens_on, to_char(w.closes_on, 'YYYY-MM-DD') AS closes_on,
+         m.name AS measure_name, m.min_score, m.max_score,
+         (current_date BETWEEN w.opens_on AND w.closes_on) AS wave_open,
+         coalesce(k.rows, 0)::int AS rows, coalesce(k.scored, 0)::int AS scored, coalesce(k.left_count, 0)::int AS left_count
+    FROM score_sheets sh
+    JOIN classrooms c ON c.id = sh.classroom_id
+    JOIN sites s ON s.id = c.site_id
+    JOIN users u ON u.id = c.teacher_id
+    JOIN waves w ON w.id = sh.wave_id
+    JOIN measures m ON m.id = sh.measure_id
+    LEFT JOIN LATERAL (
+      SELECT count(*) AS rows, count(score) AS scored, count(*) FILTER (WHERE left_study) AS left_count FROM scores WHERE sheet_id = sh.id
+    ) k ON true`;
+
+function editable(r: SheetRow): boolean {
+  if (r.locked || r.state === 'submitted' || r.state === 'accepted') return false;
+  // A returned sheet can be fixed after its wave closed; a new one only while the wave is open.
+  return r.state === 'returned' || r.wave_open;
+}
+
+function toSheet(r: SheetRow): ScoreSheet {
+  return {
+    id: r.id,
+    studyId: r.study_id,
+    classroomId: r.classroom_id,
+    classroomName: r.classroom_name,
+    siteId: r.site_id,
+    siteName: r.site_name,
+    teacherName: r.teacher_name,
+    arm: r.arm,
+    waveId: r.wave_id,
+    waveName: r.wave_name,
+    waveKind: r.wave_kind,
+    opensOn: r.opens_on,
+    closesOn: r.closes_on,
+    measureId: r.measure_id,
+    measureName: r.measure_name,
+    minScore: Number(r.min_score),
+    maxScore: Number(r.max_score),
+    state: r.state,
+    mode: r.mode,
+    editable: editable(r),
+    locked: r.locked,
+    returnReasons: r.return_reasons,
+    counts: { rows: r.mode === 'summary' ? (r.summary_n ?? 0) : r.rows, scored: r.mode === 'summary' ? (r.summary_n ?? 0) : r.scored, left: r.left_count },
+    summary: r.mode === 'summary' ? { n: r.summary_n!, mean: Number(r.summary_mean), sd: Number(r.summary_sd) } : null,
+    updatedAt: new Date(r.updated_at).toISOString(),
+    submittedAt: r.submitted_at ? new Date(r.submitted_at).toISOString() : null,
+  };
+}
+
+/** Every classroom has one sheet per wave and measure; missing ones are created on first look. */
+export async function ensureSheets(manager: EntityManager, studyId: string): Promise<void> {
+  await manager.query(
+    `INSERT INTO score_sheets (study_id, classroom_id, wave_id, measure_id)
+     SELECT c.study_id, c.id, w.id, m.id FROM classrooms c
+       JOIN waves w ON w.study_id = c.study_id JOIN measures m ON m.study_id = c.study_id
+      WHERE c.study_id = $1
+     ON CONFLICT (classroom_id, wave_id, measure_id) DO NOTHING`,
+    [studyId],
+  );
+}
+
+const seesWholeStudy = (user: SessionUser) => hasRole(user, 'coordinator', 'research_lead');
+
+export async function listSheets(db: DataSource, user: SessionUser, q: { studyId: string; classroomId?: string; waveId?: string; state?: string }) {
+  await findVisibleStudy(db.manager, user, q.studyId);
+  await ensureSheets(db.manager, q.studyId);
+  const rows: SheetRow[] = await db.query(
+    `${sheetSelect}
+     WHERE sh.study_id = $1 AND ($2::uuid IS NULL OR sh.classroom_id = $2) AND ($3::uuid IS NULL OR sh.wave_id = $3)
+       AND ($4::text IS NULL OR sh.state = $4) AND ($5 OR c.teacher_id = $6)
+     ORDER BY s.name, c.name, w.opens_on, m.name`,
+    [q.studyId, q.classroomId ?? null, q.waveId ?? null, q.state ?? null, seesWholeStudy(user), user.id],
+  );
+  return { items: rows.map(toSheet), total: rows.length };
+}
+
+/** The sheet if the user may see it: teachers their own classrooms' only; others' IDs answer 404. */
+async function loadSheet(manager: EntityManager, user: SessionUser, id: string, lock = false): Promise<SheetRow> {
+  if (lock) await manager.query(`SELECT 1 FROM score_sheets WHERE id = $1 FOR UPDATE`, [id]);
+  const [row]: SheetRow[] = await manager.query(`${sheetSelect} WHERE sh.id = $1`, [id]);
+  if (!row || (!seesWholeStudy(user) && row.teacher_id !== user.id)) throw AppError.notFound('The score sheet');
+  await findVisibleStudy(manager, user, row.study_id);
+  return row;
+}
+
+async function readRows(manager: EntityManager, sheetId: string): Promise<ScoreRow[]> {
+  const rows: { student_code: string; score: string | null; left_study: boolean; note: string }[] = await manager.query(
+    `SELECT student_code, score, left_study, note FROM scores WHERE sheet_id = $1 ORDER BY student_code`,
+    [sheetId],
+  );
+  return rows.map((r) => ({ studentCode: r.student_code, score: r.score === null ? null : Number(r.score), left: r.left_study, note: r.note }));
+}
+
+export async function getSheet(db: DataSource, user: SessionUser, id: string): Promise<ScoreSheetDetail> {
+  const row = await loadSheet(db.manager, user, id);
+  return { ...toSheet(row), rows: await readRows(db.manager, id) };
+}
+
+function assertEditable(row: SheetRow, user: SessionUser) {
+  if (row.teacher_id !== user.id) throw AppError.forbidden('Only the classroom’s teacher enters its scores');
+  if (row.locked) throw AppError.conflict('This score sheet was used by a locked result and can no longer change');
+  if (row.state === 'accepted') throw AppError.conflict('This score sheet was accepted and is read-only');
+  if (row.state === 'submitted') throw AppError.conflict('This score sheet is submitted; it can change again only if the coordinator returns it');
+  if (!editable(row)) throw AppError.conflict(`The ${row.wave_name} wave is closed (${row.opens_on} to ${row.closes_on}); ask the coordinator to reopen it`);
+}
+
+const CHUNK = 10_000;
+
+type ScoreValue = { score: number | null; left: boolean } | null;
+const valueOf = (r: ScoreRow | undefined): ScoreValue => (r ? { score: r.score, left: r.left } : null);
+const sameValue = (a: ScoreValue, b: ScoreValue) => JSON.stringify(a) === JSON.stringify(b);
+
+/**
+ * Replaces a sheet's rows in one transaction: all rows or none. Codes already registered to another
+ * classroom of the study are refused; every changed score is recorded as old → new in the audit trail.
+ */
+async function writeRows(manager: EntityManager, user: SessionUser, row: SheetRow, rows: ScoreRow[], lineOf?: (i: number) => number): Promise<void> {
+  const issues: RowIssue[] = checkRows(rows, { minScore: Number(row.min_score), maxScore: Number(row.max_score) }, lineOf);
+  const codes = rows.map((r) => r.studentCode);
+  const elsewhere: { student_code: string; classroom_name: string }[] = await manager.query(
+    `SELECT st.student_code, c.name AS classroom_name FROM students st JOIN classrooms c ON c.id = st.classroom_id
+      WHERE st.study_id = $1 AND st.student_code = ANY($2) AND st.classroom_id <> $3`,
+    [row.study_id, codes, row.classroom_id],
+  );
+  const where = new Map(elsewhere.map((e) => [e.student_code, e.classroom_name]));
+  rows.forEach((r, i) => {
+    const other = where.get(r.studentCode);
+    if (other) issues.push({ row: (lineOf ?? ((x) => x + 1))(i), column: 'student_code', message: `Student code ${r.studentCode} belongs to another classroom of this study (${other})` });
+  });
+  if (issues.length) throw rowsRefused(issues.sort((a, b) => a.row - b.row));
+
+  const before = new Map((await readRows(manager, row.id)).map((r) => [r.studentCode, r]));
+  const after = new Map(rows.map((r) => [r.studentCode, r]));
+  const changes: { studentCode: string; from: ScoreValue; to: ScoreValue }[] = [];
+  for (const code of new Set([...before.keys(), ...after.keys()])) {
+    const from = valueOf(before.get(code));
+    const to = valueOf(after.get(code));
+    if (!sameValue(from, to)) changes.push({ studentCode: code, from, to });
+  }
+
+  await manager.query(`DELETE FROM scores WHERE sheet_id = $1`, [row.id]);
+  for (let i = 0; i < rows.length; i += CHUNK) {
+    const part = rows.slice(i, i + CHUNK);
+    const partCodes = part.map((r) => r.studentCode);
+    await manager.query(
+      `INSERT INTO students (study_id, student_code, classroom_id) SELECT $1, code, $2 FROM unnest($3::varchar[]) AS code
+       ON CONFLICT (study_id, student_code) DO NOTHING`,
+      [row.study_id, row.classroom_id, partCodes],
+    );
+    await manager.query(
+      `INSERT INTO scores (sheet_id, study_id, classroom_id, wave_id, measure_id, student_code, score, left_study, note)
+       SELECT $1, $2, $3, $4, $5, t.code, t.score, t.left_study, t.note
+         FROM unnest($6::varchar[], $7::numeric[], $8::boolean[], $9::varchar[]) AS t(code, score, left_study, note)`,
+      [row.id, row.study_id, row.classroom_id, row.wave_id, row.measure_id, partCodes, part.map((r) => r.score), part.map((r) => r.left), part.map((r) => r.note)],
+    );
+  }
+  // Codes no longer on any of this classroom's sheets are free for another classroom again.
+  await manager.query(
+    `DELETE FROM students st WHERE st.study_id = $1 AND st.classroom_id = $2
+       AND NOT EXISTS (SELECT 1 FROM scores s WHERE s.study_id = st.study_id AND s.student_code = st.student_code)`,
+    [row.study_id, row.classroom_id],
+  );
+  await manager.query(`UPDATE score_sheets SET mode = 'rows', summary_n = NULL, summary_mean = NULL, summary_sd = NULL, updated_at = now() WHERE id = $1`, [row.id]);
+  if (changes.length) {
+    await recordAudit(manager, {
+      actorId: user.id,
+      studyId: row.study_id,
+      action: 'scores.changed',
+      entityType: 'score_sheet',
+      entityId: row.id,
+      after: { rows: rows.length, changes },
+    });
+  }
+}
+
+export async function saveRows(db: DataSource, user: SessionUser, id: string, rows: ScoreRow[]): Promise<ScoreSheetDetail> {
+  await db.transaction(async (manager) => {
+    const row = await loadSheet(manager, user, id, true);
+    assertEditable(row, user);
+    await writeRows(manager, user, row, rows);
+  });
+  return getSheet(db, user, id);
+}
+
+export const UPLOAD_LIMIT_BYTES = 10 * 1024 * 1024;
+
+/** Parses and checks an uploaded CSV; writes only when not a dry run, and replaces rows only when told to. */
+export async function uploadRows(db: DataSource, user: SessionUser, id: string, file: Buffer, opts: { dryRun: boolean; replace: boolean }) {
+  const { rows: records } = parseCsv(file, ['student_code', 'score']);
+  const issues: RowIssue[] = [];
+  const rows: ScoreRow[] = [];
+  const lines: number[] = [];
+  for (const { line, values } of records) {
+    const parsed = rowFromCsv(values, line);
+    issues.push(...parsed.issues);
+    if (parsed.row) {
+      rows.push(parsed.row);
+      lines.push(line);
+    }
+  }
+  return db.transaction(async (manager) => {
+    const sheet = await loadSheet(manager, user, id, true);
+    assertEditable(sheet, user);
+    const rangeIssues = checkRows(rows, { minScore: Number(sheet.min_score), maxScore: Number(sheet.max_score) }, (i) => lines[i]);
+    const all = [...issues, ...rangeIssues].sort((a, b) => a.row - b.row);
+    if (all.length) throw rowsRefused(all);
+    if (opts.dryRun) return { dryRun: true, rows: rows.length, preview: rows.slice(0, 50), sheet: null };
+    if (sheet.rows > 0 && !opts.replace) {
+      throw AppError.conflict(`The sheet already has ${sheet.rows} rows; confirm to replace them with the file's ${rows.length}`, { needsConfirmation: true });
+    }
+    await writeRows(manager, user, sheet, rows, (i) => lines[i]);
+    const [updated]: SheetRow[] = await manager.query(`${sheetSelect} WHERE sh.id = $1`, [id]);
+    return { dryRun: false, rows: rows.length, preview: rows.slice(0, 50), sheet: toSheet(updated) };
+  });
+}
+
+export async function saveSummary(db: DataSource, user: SessionUser, id: string, summary: SheetSummary): Promise<ScoreSheetDetail> {
+  await db.transaction(async (manager) => {
+    const row = await loadSheet(manager, user, id, true);
+    assertEditable(row, user);
+    const plan = await currentPlan(manager, row.study_id);
+    if (!plan?.content.summaryEntryAllowed) throw AppError.conflict('The study’s plan asks for per-student scores, not class summaries');
+    if (summary.mean < Number(row.min_score) || summary.mean > Number(row.max_score)) {
+      throw AppError.validation('The mean is outside the measure’s range', [{ path: 'summary.mean', message: `Use a mean between ${row.min_score} and ${row.max_score}` }]);
+    }
+    await manager.query(`DELETE FROM scores WHERE sheet_id = $1`, [id]);
+    await manager.query(`UPDATE score_sheets SET mode = 'summary', summary_n = $2, summary_mean = $3, summary_sd = $4, updated_at = now() WHERE id = $1`, [id, summary.n, summary.mean, summary.sd]);
+    await recordAudit(manager, { actorId: user.id, studyId: row.study_id, action: 'scores.summary_saved', entityType: 'score_sheet', entityId: id, after: summary });
+  });
+  return getSheet(db, user, id);
+}
+
+type Transition = 'submit' | 'accept' | 'return';
+
+/** The sheet's workflow: open → submitted → accepted, or returned (with reasons) → submitted … */
+export async function moveSheet(db: DataSource, user: SessionUser, id: string, step: Transition, reasons?: string): Promise<ScoreSheet> {
+  await db.transaction(async (manager) => {
+    const row = await loadSheet(manager, user, id, true);
+    if (row.locked) throw AppError.conflict('This score sheet was used by a locked result and can no longer change');
+    const patch: Partial<ScoreSheetEntity> = {};
+    if (step === 'submit') {
+      if (row.teacher_id !== user.id) throw AppError.forbidden('Only the classroom’s teacher submits its scores');
+      if (row.state !== 'open' && row.state !== 'returned') throw AppError.conflict(`A ${row.state} sheet cannot be submitted`);
+      if (!editable(row)) throw AppError.conflict(`The ${row.wave_name} wave is closed; ask the coordinator to reopen it`);
+      if (row.mode === 'rows' && row.rows === 0) throw AppError.conflict('Enter at least one student before submitting');
+      Object.assign(patch, { state: 'submitted', submittedAt: new Date(), submittedBy: user.id });
+    } else {
+      if (!hasRole(user, 'coordinator')) throw AppError.forbidden('Only the coordinator accepts or returns score sheets');
+      if (step === 'accept' && row.state !== 'submitted') throw AppError.conflict(`Only a submitted sheet can be accepted; this one is ${row.state}`);
+      if (step === 'return' && row.state !== 'submitted' && row.state !== 'accepted') throw AppError.conflict(`A ${row.state} sheet cannot be returned`);
+      Object.assign(patch, {
+        state: step === 'accept' ? 'accepted' : 'returned',
+        reviewedAt: new Date(),
+        reviewedBy: user.id,
+        returnReasons: step === 'return' ? reasons! : row.return_reasons,
+      });
+    }
+    await manager.update(ScoreSheetEntity, id, patch);
+    await recordAudit(manager, {
+      actorId: user.id,
+      studyId: row.study_id,
+      action: `score_sheet.${step === 'submit' ? 'submitted' : step === 'accept' ? 'accepted' : 'returned'}`,
+      entityType: 'score_sheet',
+      entityId: id,
+      before: { state: row.state },
+      after: { state: patch.state, ...(reasons ? { reasons } : {}) },
+    });
+  });
+  const [updated]: SheetRow[] = await db.query(`${sheetSelect} WHERE sh.id = $1`, [id]);
+  return toSheet(updated);
+}
+

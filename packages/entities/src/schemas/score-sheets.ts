@@ -1,0 +1,110 @@
+import { z } from 'zod';
+import { idSchema } from './common.js';
+import { armSchema, waveKindSchema } from './studies.js';
+
+export const sheetStates = ['open', 'submitted', 'accepted', 'returned'] as const;
+export const sheetStateSchema = z.enum(sheetStates);
+export type SheetState = z.infer<typeof sheetStateSchema>;
+
+/**
+ * A student code: letters, digits, dash, underscore or dot, up to 40 characters. Never a name —
+ * spaces are refused, which catches most names typed by mistake.
+ */
+export const studentCodeSchema = z
+  .string()
+  .trim()
+  .min(1, 'Enter the student code')
+  .max(40, 'Student codes are at most 40 characters')
+  .regex(/^[A-Za-z0-9][A-Za-z0-9._-]*$/, 'Use the student code (letters, digits, - _ .), not a name');
+
+/** One row as the grid or an upload sends it; range checks need the measure, so they run on the server too. */
+export const scoreRowSchema = z.object({
+  studentCode: studentCodeSchema,
+  score: z.number({ message: 'Enter a number' }).finite().nullable(),
+  left: z.boolean().default(false),
+  note: z.string().trim().max(500).default(''),
+});
+export type ScoreRow = z.infer<typeof scoreRowSchema>;
+export type ScoreRowInput = z.input<typeof scoreRowSchema>;
+
+export const MAX_SHEET_ROWS = 200_000;
+
+export const saveSheetSchema = z.object({ rows: z.array(scoreRowSchema).max(MAX_SHEET_ROWS) });
+export type SaveSheet = z.infer<typeof saveSheetSchema>;
+
+/** Class-level aggregates, for sites that may report only summaries (when the plan allows it). */
+export const sheetSummarySchema = z.object({
+  n: z.number().int().min(2, 'A summary needs at least 2 students'),
+  mean: z.number().finite(),
+  sd: z.number().finite().min(0, 'The SD cannot be negative'),
+});
+export type SheetSummary = z.infer<typeof sheetSummarySchema>;
+
+export const saveSummarySchema = z.object({ summary: sheetSummarySchema });
+
+export const returnSheetSchema = z.object({ reasons: z.string().trim().min(5, 'Say what the teacher should fix').max(4000) });
+
+export const rowIssueSchema = z.object({ row: z.number().int(), column: z.string().nullable(), message: z.string() });
+export type RowIssue = z.infer<typeof rowIssueSchema>;
+
+export const scoreSheetSchema = z
+  .object({
+    id: idSchema,
+    studyId: idSchema,
+    classroomId: idSchema,
+    classroomName: z.string(),
+    siteId: idSchema,
+    siteName: z.string(),
+    teacherName: z.string(),
+    arm: armSchema.nullable(),
+    waveId: idSchema,
+    waveName: z.string(),
+    waveKind: waveKindSchema,
+    opensOn: z.string(),
+    closesOn: z.string(),
+    measureId: idSchema,
+    measureName: z.string(),
+    minScore: z.number(),
+    maxScore: z.number(),
+    state: sheetStateSchema,
+    /** Rows entered per student, or a class summary. */
+    mode: z.enum(['rows', 'summary']),
+    /** Whether a person may still edit it now (state, wave window, lock). */
+    editable: z.boolean(),
+    locked: z.boolean(),
+    returnReasons: z.string().nullable(),
+    counts: z.object({ rows: z.number().int(), scored: z.number().int(), left: z.number().int() }),
+    summary: sheetSummarySchema.nullable(),
+    updatedAt: z.iso.datetime({ offset: true }),
+    submittedAt: z.iso.datetime({ offset: true }).nullable(),
+  })
+  .meta({ id: 'ScoreSheet' });
+export type ScoreSheet = z.infer<typeof scoreSheetSchema>;
+
+export const scoreSheetDetailSchema = scoreSheetSchema
+  .extend({ rows: z.array(scoreRowSchema) })
+  .meta({ id: 'ScoreSheetDetail' });
+export type ScoreSheetDetail = z.infer<typeof scoreSheetDetailSchema>;
+
+export const scoreSheetsQuerySchema = z.object({
+  studyId: idSchema,
+  classroomId: idSchema.optional(),
+  waveId: idSchema.optional(),
+  state: sheetStateSchema.optional(),
+});
+
+export const uploadQuerySchema = z.object({
+  /** true: parse and check only, write nothing. */
+  dryRun: z.enum(['true', 'false']).default('false').transform((v) => v === 'true'),
+  /** Must be true to replace rows already on the sheet. */
+  replace: z.enum(['true', 'false']).default('false').transform((v) => v === 'true'),
+});
+
+export const uploadResultSchema = z.object({
+  dryRun: z.boolean(),
+  rows: z.number().int(),
+  preview: z.array(scoreRowSchema),
+  sheet: scoreSheetSchema.nullable(),
+});
+
+export const reminderResultSchema = z.object({ teachersReminded: z.number().int(), sheetsMissing: z.number().int() });
