@@ -126,12 +126,12 @@ describe('classrooms', () => {
   });
 
   it.each([
-    ['an empty file', '', /empty/],
-    ['a header only', 'site_code,cohort,classroom,grade,expected_size,teacher_email,teacher_name\n', /no data rows/],
-    ['a missing column', 'site_code,cohort,classroom\nALD,G4,R1\n', /lacks the column\(s\) grade, expected_size, teacher_email, teacher_name/],
-    ['a binary file', Buffer.from([0x50, 0x4b, 0x03, 0x04, 0x00, 0x00]), /binary/],
-    ['10 000 columns', `${Array.from({ length: 10_000 }, (_, i) => `c${i}`).join(',')}\n1\n`, /more than 200 columns/],
-  ])('when the CSV is %s, then it answers 400 and writes nothing', async (_label, body, message) => {
+    { label: 'an empty file', body: '', message: /empty/ },
+    { label: 'a header only', body: 'site_code,cohort,classroom,grade,expected_size,teacher_email,teacher_name\n', message: /no data rows/ },
+    { label: 'a missing column', body: 'site_code,cohort,classroom\nALD,G4,R1\n', message: /lacks the column\(s\) grade, expected_size, teacher_email, teacher_name/ },
+    { label: 'a binary file', body: Buffer.from([0x50, 0x4b, 0x03, 0x04, 0x00, 0x00]), message: /binary/ },
+    { label: '10 000 columns', body: `${Array.from({ length: 10_000 }, (_, i) => `c${i}`).join(',')}\n1\n`, message: /more than 200 columns/ },
+  ])('when the CSV is $label, then it answers 400 and writes nothing', async ({ body, message }) => {
     const before = await count('classrooms');
     const res = await s.coordinator.agent
       .post(`/api/studies/${s.studyId}/classrooms/import`)

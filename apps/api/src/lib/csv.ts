@@ -23,7 +23,7 @@ export function parseCsv(buffer: Buffer, requiredColumns: string[]): { columns: 
   let records: { record: string[]; info: { lines: number } }[];
   try {
     // With `info`, each record comes with the line it ends on.
-    records = parse(text, { bom: true, delimiter, skip_empty_lines: true, relax_column_count: true, trim: true, info: true }) as unknown as typeof records;
+    records = parse(text, { bom: true, delimiter, skip_empty_lines: true, relax_column_count: true, relax_quotes: true, trim: true, info: true }) as unknown as typeof records;
   } catch (err) {
     throw AppError.validation(`The CSV could not be read: ${(err as Error).message}`);
   }

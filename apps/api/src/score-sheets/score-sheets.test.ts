@@ -162,7 +162,7 @@ describe('CSV upload', () => {
 
   it('lists every bad line by its line number, keeps formulas as invalid values, and writes nothing', async () => {
     const before = await scores(sheet2);
-    const csv = 'student_code,score\nLV-0201,=HYPERLINK("http://x","y")\nLV-0202,abc\nLV-0203,-5\nLV-0204,50\nLV-0204,51\n';
+    const csv = 'student_code,score\nLV-0201,"=HYPERLINK(""http://x"",""y"")"\nLV-0202,abc\nLV-0203,-5\nLV-0204,50\nLV-0204,51\n';
     const res = await upload(teacher2, sheet2, csv, '?replace=true');
     expect(res.status).toBe(400);
     expect(res.body.error.details.rows).toEqual([
@@ -175,13 +175,13 @@ describe('CSV upload', () => {
   });
 
   it.each([
-    ['empty', '', 400, /empty/],
-    ['header only', 'student_code,score\n', 400, /no data rows/],
-    ['missing the score column', 'student_code,points\nA1,4\n', 400, /lacks the column\(s\) score/],
-    ['binary', Buffer.from([0xff, 0xd8, 0xff, 0x00, 0x10]), 400, /binary/],
-    ['not UTF-8', Buffer.from([0x73, 0x63, 0x6f, 0x72, 0x65, 0xe9, 0x0a]), 400, /not UTF-8/],
-    ['over 10 MB', Buffer.alloc(10 * 1024 * 1024 + 1, 'a'), 413, /larger than the 10 MB limit/],
-  ])('when the file is %s, then it answers %s and writes nothing', async (_label, body, status, message) => {
+    { label: 'empty', body: '', status: 400, message: /empty/ },
+    { label: 'header only', body: 'student_code,score\n', status: 400, message: /no data rows/ },
+    { label: 'missing the score column', body: 'student_code,points\nA1,4\n', status: 400, message: /lacks the column\(s\) score/ },
+    { label: 'binary', body: Buffer.from([0xff, 0xd8, 0xff, 0x00, 0x10]), status: 400, message: /binary/ },
+    { label: 'not UTF-8', body: Buffer.from([0x73, 0x63, 0x6f, 0x72, 0x65, 0xe9, 0x0a]), status: 400, message: /not UTF-8/ },
+    { label: 'over 10 MB', body: Buffer.alloc(10 * 1024 * 1024 + 1, 'a'), status: 413, message: /larger than the 10 MB limit/ },
+  ])('when the file is $label, then it answers $status and writes nothing', async ({ body, status, message }) => {
     const before = await scores(sheet2);
     const res = await upload(teacher2, sheet2, body, '?replace=true');
     expect(res.status).toBe(status);

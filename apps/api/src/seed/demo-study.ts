@@ -9,6 +9,7 @@ import { amendPlan, saveDraft, sealPlan } from '../plans/service.js';
 import { enrolSite } from '../sites/service.js';
 import { createStudy } from '../studies/service.js';
 import { demoAccounts, demoSites } from './demo.js';
+import { seedDemoScores } from './demo-scores.js';
 
 export const DEMO_STUDY_TITLE = 'Lantern Reading Routine in grades 3 and 4';
 export const DRAFT_STUDY_TITLE = 'Number Journal Prompts in grade 5';
@@ -100,6 +101,7 @@ export async function seedDemoStudies(deps: Deps): Promise<boolean> {
     }
   }
   await drawAssignment(deps.db, coordinator, study.id, { seed: DEMO_DRAW_SEED, commit: true });
+  await seedDemoScores(deps.db, study.id);
 
   // A second study, still drafting, to show the planning calculator.
   const draft = await createStudy(deps.db, lead, {

@@ -2,6 +2,7 @@ import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { signIn, startTestApp, type SignedIn, type TestApp } from '../../test/app.js';
 import { linkToken, uniqueAddress, waitForMail } from '../../test/mail.js';
+import { demoAccounts } from '../seed/demo.js';
 
 let t: TestApp;
 let admin: SignedIn;
@@ -20,16 +21,11 @@ describe('accounts (admin)', () => {
   it('lists accounts with a total, filters by role and text, sorts and paginates', async () => {
     const all = await admin.agent.get('/api/users?limit=100');
     expect(all.status).toBe(200);
-    expect(all.body.total).toBe(10);
-    const teachers = await admin.agent.get('/api/users?role=teacher&sort=email&order=desc');
-    expect(teachers.body.items.map((u: { email: string }) => u.email)).toEqual([
-      'teacher4@evenhand.test',
-      'teacher3@evenhand.test',
-      'teacher2@evenhand.test',
-      'teacher1@evenhand.test',
-    ]);
-    const page = await admin.agent.get('/api/users?role=teacher&sort=email&limit=2&offset=2');
-    expect(page.body).toMatchObject({ total: 4, items: [{ email: 'teacher3@evenhand.test' }, { email: 'teacher4@evenhand.test' }] });
+    expect(all.body.total).toBe(demoAccounts.length);
+    const principals = await admin.agent.get('/api/users?role=principal&sort=email&order=desc');
+    expect(principals.body.items.map((u: { email: string }) => u.email)).toEqual([6, 5, 4, 3, 2, 1].map((i) => `principal${i}@evenhand.test`));
+    const page = await admin.agent.get('/api/users?role=principal&sort=email&limit=2&offset=2');
+    expect(page.body).toMatchObject({ total: 6, items: [{ email: 'principal3@evenhand.test' }, { email: 'principal4@evenhand.test' }] });
     const search = await admin.agent.get('/api/users?q=PRINCIPAL2');
     expect(search.body.items.map((u: { email: string }) => u.email)).toEqual(['principal2@evenhand.test']);
     expect((await admin.agent.get('/api/users?q=%25')).body.total).toBe(0); // a literal %, not a wildcard

@@ -23,9 +23,14 @@ export const createStudySchema = z.object({
 });
 export type CreateStudy = z.infer<typeof createStudySchema>;
 
-export const updateStudySchema = createStudySchema
-  .partial()
-  .extend({ archived: z.boolean().optional() })
+export const updateStudySchema = z
+  .object({
+    title: text('a title', 160).optional(),
+    intervention: text('the intervention', 2000).optional(),
+    comparisonCondition: text('the comparison condition', 2000).optional(),
+    unitOfAssignment: unitOfAssignmentSchema.optional(),
+    archived: z.boolean().optional(),
+  })
   .refine((v) => Object.keys(v).length > 0, 'Change at least one field');
 export type UpdateStudy = z.infer<typeof updateStudySchema>;
 

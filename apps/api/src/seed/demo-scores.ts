@@ -1,0 +1,80 @@
+import seedrandom from 'seedrandom';
+import type { DataSource } from 'typeorm';
+import { ensureSheets } from '../score-sheets/service.js';
+
+/**
+ * Invented scores for the demo study, from a fixed seed: pupils vary within classrooms and
+ * classrooms vary around their arm (ICC about .15), with a modest true effect of the routine and a
+ * little more attrition in the intervention arm. Written straight to the tables, since the demo's
+ * waves closed long ago.
+ */
+export async function seedDemoScores(db: DataSource, studyId: string): Promise<void> {
+  const [already] = await db.query(`SELECT 1 FROM scores WHERE study_id = $1 LIMIT 1`, [studyId]);
+  if (already) return;
+  await ensureSheets(db.manager, studyId);
+  const random = seedrandom('larkspur-valley-scores');
+  const normal = () => Math.sqrt(-2 * Math.log(1 - random())) * Math.cos(2 * Math.PI * random());
+  const clamp = (x: number, lo: number, hi: number) => Math.min(hi, Math.max(lo, x));
+
+  const classrooms: { id: string; name: string; site_code: string; grade: string; expected_size: number; arm: string; teacher_email: string }[] = await db.query(
+    `SELECT c.id, c.name, s.code AS site_code, c.grade, c.expected_size, c.arm, u.email AS teacher_email
+       FROM classrooms c JOIN sites s ON s.id = c.site_id JOIN users u ON u.id = c.teacher_id
+      WHERE c.study_id = $1 ORDER BY s.code, c.name`,
+    [studyId],
+  );
+  const waves: { id: string; kind: string }[] = await db.query(`SELECT id, kind FROM waves WHERE study_id = $1`, [studyId]);
+  const measures: { id: string; kind: string }[] = await db.query(`SELECT id, kind FROM measures WHERE study_id = $1`, [studyId]);
+  const baseline = waves.find((w) => w.kind === 'baseline')!.id;
+  const outcome = waves.find((w) => w.kind === 'outcome')!.id;
+  const fluency = measures.find((m) => m.kind === 'achievement')!.id;
+  const engagement = measures.find((m) => m.kind === 'behaviour')!.id;
+
+  // The sheets that tell the collection story: one returned for corrections, one awaiting review, two never entered.
+  const story = new Map<string, 'returned' | 'submitted' | 'missing'>([
+    [`ALD|Room 3B|${fluency}`, 'returned'],
+    [`BRK|Room 4A|${fluency}`, 'submitted'],
+    [`FRN|Room 3A|${fluency}`, 'missing'],
+    [`FRN|Room 3A|${engagement}`, 'missing'],
+  ]);
+
+  let pupil = 0;
+  for (const c of classrooms) {
+    const treated = c.arm === 'intervention';
+    const classEffect = { fluency: normal() * 11.6, engagement: normal() * 0.27 }; // ICC ≈ .15 of the SD 30 / 0.7
+    const rows: Record<string, { code: string; score: number | null; left: boolean; note: string }[]> = {};
+    for (let k = 0; k < c.expected_size; k++) {
+      pupil++;
+      const code = `LV-${String(pupil).padStart(4, '0')}`;
+      const gradeShift = c.grade === '4' ? 20 : 0;
+      const f0 = clamp(Math.round(82 + gradeShift + classEffect.fluency * 0.6 + normal() * 27), 0, 250);
+      const e0 = clamp(Math.round((3.2 + classEffect.engagement * 0.6 + normal() * 0.62) * 10) / 10, 1, 5);
+      const left = random() < (treated ? 0.11 : 0.08);
+      const f1 = clamp(Math.round(0.75 * f0 + 42 + gradeShift * 0.25 + classEffect.fluency + (treated ? 7.5 : 0) + normal() * 19), 0, 250);
+      const e1 = clamp(Math.round((0.6 * e0 + 1.35 + classEffect.engagement + (treated ? 0.12 : 0) + normal() * 0.5) * 10) / 10, 1, 5);
+      (rows[`${baseline}|${fluency}`] ??= []).push({ code, score: f0, left: false, note: '' });
+      (rows[`${baseline}|${engagement}`] ??= []).push({ code, score: e0, left: false, note: '' });
+      (rows[`${outcome}|${fluency}`] ??= []).push({ code, score: left ? null : f1, left, note: left ? 'moved to another district' : '' });
+      (rows[`${outcome}|${engagement}`] ??= []).push({ code, score: left ? null : e1, left, note: '' });
+    }
+    await db.query(`INSERT INTO students (study_id, student_code, classroom_id) SELECT $1, unnest($2::varchar[]), $3`, [studyId, rows[`${baseline}|${fluency}`].map((r) => r.code), c.id]);
+    for (const [key, list] of Object.entries(rows)) {
+      const [waveId, measureId] = key.split('|');
+      const role = waveId === outcome ? story.get(`${c.site_code}|${c.name}|${measureId}`) : undefined;
+      if (role === 'missing') continue;
+      const [sheet] = await db.query(`SELECT id FROM score_sheets WHERE classroom_id = $1 AND wave_id = $2 AND measure_id = $3`, [c.id, waveId, measureId]);
+      // The slip the coordinator spotted: a spring score far below the pupil's autumn one.
+      if (role === 'returned') list[3].score = 12;
+      await db.query(
+        `INSERT INTO scores (sheet_id, study_id, classroom_id, wave_id, measure_id, student_code, score, left_study, note)
+         SELECT $1, $2, $3, $4, $5, t.code, t.score, t.left_study, t.note
+           FROM unnest($6::varchar[], $7::numeric[], $8::boolean[], $9::varchar[]) AS t(code, score, left_study, note)`,
+        [sheet.id, studyId, c.id, waveId, measureId, list.map((r) => r.code), list.map((r) => r.score), list.map((r) => r.left), list.map((r) => r.note)],
+      );
+      const state = role ?? 'accepted';
+      await db.query(
+        `UPDATE score_sheets SET state = $2, submitted_at = now(), return_reasons = $3, reviewed_at = CASE WHEN $2 IN ('accepted', 'returned') THEN now() END WHERE id = $1`,
+        [sheet.id, state, state === 'returned' ? `${list[3].code} reads 12 words per minute in spring, far below autumn — please check the recording.` : null],
+      );
+    }
+  }
+}
