@@ -1,5 +1,5 @@
 import seedrandom from 'seedrandom';
-import type { DataSource } from 'typeorm';
+import type { DataSource, EntityManager } from 'typeorm';
 import { ensureSheets } from '../score-sheets/service.js';
 
 /**
@@ -8,10 +8,14 @@ import { ensureSheets } from '../score-sheets/service.js';
  * little more attrition in the intervention arm. Written straight to the tables, since the demo's
  * waves closed long ago.
  */
-export async function seedDemoScores(db: DataSource, studyId: string): Promise<void> {
+export async function seedDemoScores(dataSource: DataSource, studyId: string): Promise<void> {
+  await dataSource.transaction((manager) => writeScores(manager, studyId));
+}
+
+async function writeScores(db: EntityManager, studyId: string): Promise<void> {
   const [already] = await db.query(`SELECT 1 FROM scores WHERE study_id = $1 LIMIT 1`, [studyId]);
   if (already) return;
-  await ensureSheets(db.manager, studyId);
+  await ensureSheets(db, studyId);
   const random = seedrandom('larkspur-valley-scores');
   const normal = () => Math.sqrt(-2 * Math.log(1 - random())) * Math.cos(2 * Math.PI * random());
   const clamp = (x: number, lo: number, hi: number) => Math.min(hi, Math.max(lo, x));
@@ -72,7 +76,7 @@ export async function seedDemoScores(db: DataSource, studyId: string): Promise<v
       );
       const state = role ?? 'accepted';
       await db.query(
-        `UPDATE score_sheets SET state = $2, submitted_at = now(), return_reasons = $3, reviewed_at = CASE WHEN $2 IN ('accepted', 'returned') THEN now() END WHERE id = $1`,
+        `UPDATE score_sheets SET state = $2::varchar, submitted_at = now(), return_reasons = $3, reviewed_at = CASE WHEN $2::varchar IN ('accepted', 'returned') THEN now() END WHERE id = $1`,
         [sheet.id, state, state === 'returned' ? `${list[3].code} reads 12 words per minute in spring, far below autumn — please check the recording.` : null],
       );
     }

@@ -27,7 +27,11 @@ async function actor(deps: Deps, email: string): Promise<SessionUser> {
  * six schools, two cohorts, 24 classrooms, a sealed plan with one amendment and a committed draw.
  */
 export async function seedDemoStudies(deps: Deps): Promise<boolean> {
-  if (await deps.db.manager.existsBy(StudyEntity, { title: DEMO_STUDY_TITLE })) return false;
+  const existing = await deps.db.manager.findOneBy(StudyEntity, { title: DEMO_STUDY_TITLE });
+  if (existing) {
+    await seedDemoScores(deps.db, existing.id);
+    return false;
+  }
   const lead = await actor(deps, 'lead@evenhand.test');
   const coordinator = await actor(deps, 'coordinator@evenhand.test');
 
