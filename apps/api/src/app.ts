@@ -6,10 +6,12 @@ import express from 'express';
 import helmet from 'helmet';
 import { pinoHttp } from 'pino-http';
 import { auditRouter } from './audit/router.js';
+import { checksRouter } from './checks/router.js';
 import { classroomsRouter } from './classrooms/router.js';
 import { drawsRouter } from './draws/router.js';
 import { measuresRouter } from './measures/router.js';
 import { plansRouter } from './plans/router.js';
+import { runsRouter } from './runs/router.js';
 import { scoreSheetsRouter } from './score-sheets/router.js';
 import { studiesRouter } from './studies/router.js';
 import { authenticate } from './auth/middleware.js';
@@ -43,6 +45,8 @@ export function createApp(deps: Deps) {
     classroomsRouter(deps, registry),
     drawsRouter(deps, registry),
     scoreSheetsRouter(deps, registry),
+    runsRouter(deps, registry),
+    checksRouter(deps, registry),
     auditRouter(deps, registry),
     openApiRouter(registry),
   ]) {

@@ -22,6 +22,8 @@ const envSchema = z
     WEB_DIST: z.string().optional(),
     LOG_LEVEL: z.enum(['fatal', 'error', 'warn', 'info', 'debug', 'trace', 'silent']).default('info'),
     TRUST_PROXY: z.coerce.number().int().min(0).default(0),
+    /** Run job handlers inside the API process too (set false when `npm run worker` processes do it). */
+    WORKERS_IN_PROCESS: bool.default(true),
   })
   .superRefine((env, ctx) => {
     if (env.NODE_ENV === 'production' && !env.JWT_SECRET) {
@@ -59,5 +61,6 @@ export function loadConfig(env: Record<string, string | undefined> = process.env
     webDist: e.WEB_DIST,
     logLevel: e.LOG_LEVEL,
     trustProxy: e.TRUST_PROXY,
+    workersInProcess: e.WORKERS_IN_PROCESS,
   };
 }

@@ -1,5 +1,6 @@
 import type { DataSource } from 'typeorm';
 import type { Config } from './config.js';
+import type { JobQueue } from './jobs/queue.js';
 import type { Logger } from './logger.js';
 import type { Mailer } from './mail/mailer.js';
 
@@ -9,4 +10,5 @@ export interface Deps {
   db: DataSource;
   mailer: Mailer;
   logger: Logger;
+  jobs: JobQueue;
 }

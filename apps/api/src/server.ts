@@ -2,6 +2,8 @@ import { setTimeout as sleep } from 'node:timers/promises';
 import { createApp } from './app.js';
 import { loadConfig } from './config.js';
 import { createDataSource } from './db/data-source.js';
+import { startQueue } from './jobs/queue.js';
+import { startWorkers } from './jobs/workers.js';
 import { createLogger } from './logger.js';
 import { createMailer } from './mail/mailer.js';
 
@@ -20,7 +22,9 @@ for (let attempt = 1; !db.isInitialized; attempt++) {
   }
 }
 
-const app = createApp({ config, db, mailer, logger });
+const jobs = await startQueue(config.databaseUrl, logger);
+if (config.workersInProcess) await startWorkers(jobs, db, logger);
+const app = createApp({ config, db, mailer, logger, jobs });
 const server = app.listen(config.port, config.host, () => {
   logger.info(`Evenhand is listening on http://${config.host}:${config.port}`);
 });
@@ -33,6 +37,7 @@ async function shutdown(signal: string) {
   server.close();
   server.closeIdleConnections();
   mailer.close();
+  await jobs.stop().catch(() => undefined);
   await db.destroy().catch(() => undefined);
   process.exit(0);
 }

@@ -6,6 +6,8 @@ import { createApp } from '../src/app.js';
 import { loadConfig, type Config } from '../src/config.js';
 import { createDataSource } from '../src/db/data-source.js';
 import { createLogger } from '../src/logger.js';
+import { startQueue, type JobQueue } from '../src/jobs/queue.js';
+import { startWorkers } from '../src/jobs/workers.js';
 import { createMailer } from '../src/mail/mailer.js';
 import { DEMO_PASSWORD } from '../src/seed/demo.js';
 import { TEMPLATE_DB, urlForDatabase, withAdminClient } from './database.js';
@@ -15,6 +17,7 @@ export interface TestApp {
   db: DataSource;
   config: Config;
   databaseUrl: string;
+  jobs: JobQueue;
   /** Another app on the same database, with its own in-memory state (rate-limit counters). */
   freshApp(): Express;
   close(): Promise<void>;
@@ -32,7 +35,7 @@ export function testConfig(databaseUrl: string, overrides: Record<string, string
 }
 
 /** A fresh database cloned from the template and the real app on top of it. */
-export async function startTestApp(overrides: { databaseUrl?: string } = {}): Promise<TestApp> {
+export async function startTestApp(overrides: { databaseUrl?: string; workers?: boolean } = {}): Promise<TestApp> {
   const name = `evenhand_t_${randomBytes(6).toString('hex')}`;
   await withAdminClient((c) => c.query(`CREATE DATABASE ${name} TEMPLATE ${TEMPLATE_DB}`));
   const databaseUrl = overrides.databaseUrl ?? urlForDatabase(name);
@@ -40,8 +43,12 @@ export async function startTestApp(overrides: { databaseUrl?: string } = {}): Pr
   const db = createDataSource(databaseUrl);
   await db.initialize();
   const mailer = createMailer(config);
-  const deps = { config, db, mailer, logger: createLogger(config) };
+  const logger = createLogger(config);
+  const jobs = await startQueue(databaseUrl, logger);
+  if (overrides.workers) await startWorkers(jobs, db, logger, 0.5);
+  const deps = { config, db, mailer, logger, jobs };
   return {
+    jobs,
     app: createApp(deps),
     freshApp: () => createApp(deps),
     db,
@@ -49,6 +56,7 @@ export async function startTestApp(overrides: { databaseUrl?: string } = {}): Pr
     databaseUrl: urlForDatabase(name),
     async close() {
       mailer.close();
+      await jobs.stop();
       await db.destroy();
       await withAdminClient((c) => c.query(`DROP DATABASE ${name} WITH (FORCE)`));
     },

@@ -1,4 +1,6 @@
 import { createDataSource } from '../src/db/data-source.js';
+import { startQueue } from '../src/jobs/queue.js';
+import { createLogger } from '../src/logger.js';
 import { seedDemo } from '../src/seed/demo.js';
 import { TEMPLATE_DB, urlForDatabase, withAdminClient } from './database.js';
 
@@ -13,4 +15,7 @@ export default async function setup() {
   await db.runMigrations({ transaction: 'each' });
   await db.transaction((manager) => seedDemo(manager));
   await db.destroy();
+  // Install the job queue's schema once, so every cloned database already has it.
+  const queue = await startQueue(urlForDatabase(TEMPLATE_DB), createLogger({ logLevel: 'silent' }));
+  await queue.stop();
 }

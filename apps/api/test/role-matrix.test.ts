@@ -54,6 +54,13 @@ const expectedAccess: Record<string, 'anyone' | 'signed-in' | Role[]> = {
   'POST /api/score-sheets/{id}/return': ['coordinator'],
   'GET /api/studies/{id}/completion': ['coordinator', 'research_lead'],
   'POST /api/studies/{id}/reminders': ['coordinator'],
+  'GET /api/studies/{id}/checks': ['research_lead', 'reviewer'],
+  'GET /api/studies/{id}/comparisons': ['research_lead', 'reviewer'],
+  'POST /api/studies/{id}/comparisons': ['research_lead'],
+  'POST /api/comparisons/{id}/runs': ['research_lead'],
+  'GET /api/runs/{id}': ['research_lead', 'reviewer', 'coordinator', 'principal'],
+  'POST /api/runs/{id}/lock': ['research_lead'],
+  'GET /api/runs/{id}/bundle': ['research_lead', 'reviewer'],
   'GET /api/audit': ['admin', 'research_lead', 'reviewer'],
 };
 

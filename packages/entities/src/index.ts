@@ -10,3 +10,4 @@ export * from './schemas/plan.js';
 export * from './schemas/classrooms.js';
 export * from './schemas/draws.js';
 export * from './schemas/score-sheets.js';
+export * from './schemas/runs.js';

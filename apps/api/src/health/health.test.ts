@@ -56,7 +56,7 @@ describe('GET /api/health', () => {
     const db = createDataSource(config.databaseUrl);
     await db.initialize();
     const mailer = createMailer(config);
-    const app = createApp({ config, db, mailer, logger: createLogger(config) });
+    const app = createApp({ config, db, mailer, logger: createLogger(config), jobs: t.jobs });
     try {
       expect((await request(app).get('/api/health')).status).toBe(200);
       await gate.down();

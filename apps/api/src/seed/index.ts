@@ -1,6 +1,8 @@
 import { loadConfig } from '../config.js';
 import { createDataSource } from '../db/data-source.js';
 import { createLogger } from '../logger.js';
+import { startQueue } from '../jobs/queue.js';
+import { startWorkers } from '../jobs/workers.js';
 import { createMailer } from '../mail/mailer.js';
 import { resetDatabase, seedDemo } from './demo.js';
 import { seedDemoStudies } from './demo-study.js';
@@ -15,7 +17,11 @@ const { created } = await db.transaction(async (manager) => {
   return seedDemo(manager);
 });
 const mailer = createMailer(config);
-const studies = await seedDemoStudies({ config, db, mailer, logger: createLogger({ logLevel: 'warn' }) });
+const logger = createLogger({ logLevel: 'warn' });
+const jobs = await startQueue(config.databaseUrl, logger);
+await startWorkers(jobs, db, logger, 0.5);
+const studies = await seedDemoStudies({ config, db, mailer, logger, jobs });
+await jobs.stop();
 mailer.close();
 console.log(created || studies ? `Demo district seeded (${created} accounts, ${studies ? 'demo studies' : 'no new studies'})` : 'Demo district already present');
 await db.destroy();

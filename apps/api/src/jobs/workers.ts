@@ -1,0 +1,11 @@
+import type { DataSource } from 'typeorm';
+import type { Logger } from '../logger.js';
+import { executeRun } from '../runs/service.js';
+import { RUN_QUEUE, type JobQueue } from './queue.js';
+
+/** Starts the job handlers; any number of processes may run them against one database. */
+export async function startWorkers(queue: JobQueue, db: DataSource, logger: Logger, pollingIntervalSeconds = 2): Promise<void> {
+  await queue.boss.work<{ runId: string }>(RUN_QUEUE, { batchSize: 1, pollingIntervalSeconds }, async ([job]) => {
+    await executeRun(db, logger, job.data.runId);
+  });
+}

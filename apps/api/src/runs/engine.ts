@@ -1,0 +1,228 @@
+import {
+  ENGINE_VERSION,
+  DEFAULT_ICC_ACHIEVEMENT,
+  DEFAULT_ICC_BEHAVIOR,
+  ancova,
+  clusterAdjusted,
+  hedgesGFromSummary,
+  iccFromSummaries,
+  improvementIndex,
+  isSubstantivelyImportant,
+  levene,
+  mannWhitney,
+  mergeAllSummaries,
+  randomEffects,
+  shapiroWilk,
+  studentTFromSummary,
+  varianceRatioFFromSummary,
+  welchT,
+  welchTFromSummary,
+  type Summary,
+} from '@evenhand/stats';
+import { arms, type Arm, type PlanContent, type RunResults } from '@evenhand/entities';
+import type { ClassroomAggregate, Gathered } from './gather.js';
+
+export interface AnalysisContext {
+  kind: 'monitoring' | 'confirmatory';
+  plan: PlanContent;
+  planVersion: number | null;
+  unitOfAssignment: 'student' | 'classroom' | 'school';
+  quasiExperimental: boolean;
+  comparison: { unitOfAnalysis: 'student' | 'classroom' | 'school'; primaryTest: 'welch' | 'student'; covariate: 'baseline' | 'none' };
+  measure: { id: string; name: string; kind: 'achievement' | 'behaviour'; higherIsBetter: boolean };
+  wave: { id: string; name: string };
+}
+
+/** A run that cannot be computed (too few students, no variation…) fails with this message. */
+export class AnalysisError extends Error {}
+
+const sdOf = (s: Summary) => Math.sqrt(s.m2 / (s.n - 1));
+const toGroup = (s: Summary) => ({ n: s.n, mean: s.mean, sd: sdOf(s) });
+const summaryOf = (c: ClassroomAggregate): Summary => ({ n: c.n, mean: c.mean ?? 0, m2: c.m2 ?? 0 });
+
+function armSummary(classrooms: ClassroomAggregate[], arm: Arm): Summary | null {
+  const parts = classrooms.filter((c) => c.arm === arm && c.n > 0).map(summaryOf);
+  return parts.length ? mergeAllSummaries(parts) : null;
+}
+
+const armLabel: Record<Arm, string> = { intervention: 'intervention', comparison: 'comparison' };
+
+/**
+ * Computes a comparison from what `gather` read: the pre-registered primary test first, then effect size,
+ * clustering correction, sensitivity checks, diagnostics, per-site estimates and their pooled estimate.
+ */
+export function analyse(ctx: AnalysisContext, data: Gathered): RunResults {
+  const { plan } = ctx;
+  const s1 = armSummary(data.classrooms, 'intervention');
+  const s2 = armSummary(data.classrooms, 'comparison');
+  for (const [arm, s] of [['intervention', s1], ['comparison', s2]] as const) {
+    if (!s || s.n < 2) throw new AnalysisError(`The ${armLabel[arm]} arm has fewer than 2 students with an outcome score in the sheets this run may use`);
+    if (!(s.m2 > 0)) throw new AnalysisError(`Every student in the ${armLabel[arm]} arm has the same score; the comparison is undefined`);
+  }
+  const a = s1!;
+  const b = s2!;
+  const opts = { alternative: plan.alternative, confidence: 1 - plan.alpha };
+  const ci95 = { alternative: plan.alternative, confidence: 0.95 };
+  const welch = welchTFromSummary(toGroup(a), toGroup(b), ci95);
+  const student = studentTFromSummary(toGroup(a), toGroup(b), ci95);
+  const g = hedgesGFromSummary(toGroup(a), toGroup(b));
+  const notes: string[] = [];
+  const cautions: string[] = [];
+
+  const perClass = (arm: Arm) => data.classrooms.filter((c) => c.arm === arm && c.n > 0);
+  const meansOf = (arm: Arm) => perClass(arm).map((c) => c.mean as number);
+  const classroomMeans = meansOf('intervention').length >= 2 && meansOf('comparison').length >= 2 ? welchT(meansOf('intervention'), meansOf('comparison'), ci95) : null;
+
+  // The primary test as registered, at the registered unit of analysis.
+  let primaryBase;
+  if (ctx.comparison.unitOfAnalysis === 'student') {
+    primaryBase = (ctx.comparison.primaryTest === 'student' ? studentTFromSummary : welchTFromSummary)(toGroup(a), toGroup(b), opts);
+  } else {
+    if (!classroomMeans) throw new AnalysisError('A classroom-level analysis needs at least 2 classrooms with scores in each arm');
+    primaryBase = welchT(meansOf('intervention'), meansOf('comparison'), opts);
+  }
+  const primary = { ...primaryBase, test: ctx.comparison.primaryTest, significant: primaryBase.p < plan.alpha };
+
+  // Clustering: classrooms or schools were assigned but students analysed.
+  let clustering: RunResults['clustering'] = null;
+  const clusters = data.classrooms.filter((c) => c.n > 0);
+  let observedIcc: number | null = null;
+  if (clusters.length >= 3 && clusters.every((c) => c.n >= 2)) {
+    try {
+      observedIcc = iccFromSummaries(clusters.map(summaryOf)).icc;
+    } catch {
+      notes.push('The observed ICC could not be estimated from these classrooms.');
+    }
+  }
+  if (ctx.unitOfAssignment !== 'student' && ctx.comparison.unitOfAnalysis === 'student') {
+    const fallback = ctx.measure.kind === 'achievement' ? DEFAULT_ICC_ACHIEVEMENT : DEFAULT_ICC_BEHAVIOR;
+    let icc = plan.iccSource === 'assumed' && plan.icc !== null ? plan.icc : fallback;
+    let iccSource = plan.iccSource;
+    if (plan.iccSource === 'observed') {
+      if (observedIcc === null) {
+        iccSource = 'default';
+        notes.push('The observed ICC was not available, so the standard default was used.');
+      } else icc = Math.max(0, observedIcc);
+    }
+    const clusterCount = (arm: Arm) => new Set(perClass(arm).map((c) => (ctx.unitOfAssignment === 'school' ? c.siteId : c.classroomId))).size;
+    const adj = clusterAdjusted({ g: g.g, n1: a.n, n2: b.n, clusters1: clusterCount('intervention'), clusters2: clusterCount('comparison'), icc });
+    clustering = {
+      icc,
+      iccSource,
+      tAdjusted: adj.tAdjusted,
+      df: adj.df,
+      p: adj.p,
+      significant: adj.p < plan.alpha,
+      averageClusterSize: adj.averageClusterSize,
+      designEffect: adj.designEffect,
+      observedIcc,
+    };
+  }
+
+  // Distribution-based checks need every value; they are bounded so memory stays flat.
+  let mw: RunResults['sensitivity']['mannWhitney'] = null;
+  let leveneMean: RunResults['diagnostics']['leveneMean'] = null;
+  let leveneMedian: RunResults['diagnostics']['leveneMedian'] = null;
+  let shapiro: RunResults['diagnostics']['shapiroWilk'] = null;
+  let adjusted: RunResults['sensitivity']['ancova'] = null;
+  if (data.values) {
+    const v1 = data.values.intervention;
+    const v2 = data.values.comparison;
+    const m = mannWhitney(v1, v2, { alternative: plan.alternative });
+    mw = { u: m.u, z: m.z, p: m.p, method: m.method };
+    const lm = levene([v1, v2], { center: 'mean' });
+    const lmed = levene([v1, v2], { center: 'median' });
+    leveneMean = { statistic: lm.statistic, df1: lm.df1, df2: lm.df2, p: lm.p };
+    leveneMedian = { statistic: lmed.statistic, df1: lmed.df1, df2: lmed.df2, p: lmed.p };
+    if (v1.length >= 3 && v1.length <= 5000 && v2.length >= 3 && v2.length <= 5000) {
+      shapiro = arms.map((arm) => ({ arm, ...shapiroWilk(data.values![arm]) }));
+    } else notes.push('Shapiro–Wilk is defined for 3 to 5 000 values per arm; it was not computed.');
+    if (ctx.comparison.covariate === 'baseline' && data.pairs) {
+      const rows = [...data.pairs.intervention.map((p) => [1, ...p]), ...data.pairs.comparison.map((p) => [0, ...p])];
+      const n1 = data.pairs.intervention.length;
+      const n2 = data.pairs.comparison.length;
+      if (n1 >= 2 && n2 >= 2) {
+        const r = ancova(rows.map((x) => x[1]), rows.map((x) => x[0]), rows.map((x) => x[2]), ci95);
+        adjusted = { adjustedDifference: r.adjustedDifference, se: r.se, t: r.t, df: r.df, p: r.p, ci: r.ci, g: r.g, n: n1 + n2 };
+        if (n1 + n2 < a.n + b.n) notes.push(`The baseline adjustment uses the ${n1 + n2} students who also have a baseline score.`);
+      } else notes.push('Too few students have a baseline score for the baseline-adjusted estimate.');
+    }
+  } else {
+    notes.push(`With more than ${data.analysed.toLocaleString('en-US')} students, rank, median and normality checks and the baseline adjustment are not computed.`);
+  }
+  if (data.classrooms.some((c) => c.fromSummary)) notes.push('Some classrooms reported only a summary (n, mean, SD); they count in the t tests and effect sizes but not in rank, median, normality or baseline-adjusted checks.');
+
+  // Per-site estimates and their random-effects pooled estimate.
+  const siteIds = [...new Set(data.classrooms.map((c) => c.siteId))];
+  const siteRows = siteIds.flatMap((siteId) => {
+    const rows = data.classrooms.filter((c) => c.siteId === siteId);
+    const x = armSummary(rows, 'intervention');
+    const y = armSummary(rows, 'comparison');
+    if (!x || !y || x.n < 2 || y.n < 2 || !(x.m2 + y.m2 > 0)) return [];
+    const e = hedgesGFromSummary(toGroup(x), toGroup(y));
+    return [{ siteId, siteName: rows[0].siteName, n1: x.n, n2: y.n, mean1: x.mean, mean2: y.mean, g: e.g, se: e.se, ci: e.ci as [number, number], weight: 0 }];
+  });
+  let pooled: RunResults['pooled'] = null;
+  if (siteRows.length >= 2) {
+    const re = randomEffects(siteRows.map((s) => ({ y: s.g, v: s.se * s.se })));
+    re.weights.forEach((w, i) => (siteRows[i].weight = w));
+    pooled = { estimate: re.estimate, se: re.se, ci: re.ci, p: re.p, tau2: re.tau2, q: re.q, df: re.df, pQ: re.pQ, i2: re.i2 };
+  } else notes.push('Fewer than two sites have both arms, so no pooled estimate across sites.');
+
+  const flow = arms.map((arm) => {
+    const rows = data.classrooms.filter((c) => c.arm === arm);
+    return {
+      arm,
+      classroomsAllocated: rows.length,
+      studentsAllocated: rows.reduce((t, c) => t + c.allocated, 0),
+      studentsFollowedUp: rows.reduce((t, c) => t + c.n, 0),
+      classroomsAnalysed: rows.filter((c) => c.n > 0).length,
+      studentsAnalysed: rows.reduce((t, c) => t + c.n, 0),
+    };
+  });
+
+  cautions.push('A p-value is not the size or the importance of an effect: read it with the effect size and its interval.');
+  cautions.push('These results describe groups of students, not individual students or teachers: do not use them to evaluate teachers or to place students.');
+  if (ctx.kind === 'monitoring') cautions.unshift('Interim — not confirmatory. This monitoring run may change as data arrive and must not be reported as the study’s result.');
+  if (ctx.quasiExperimental) cautions.push('Assignment was changed by hand after the random draw, so this is a quasi-experimental comparison: baseline equivalence must be shown before any causal reading.');
+  if (a.n < 30 || b.n < 30 || perClass('intervention').length < 5 || perClass('comparison').length < 5) {
+    cautions.push('The samples are small: the estimate is imprecise and conclusions are limited.');
+  }
+  cautions.push('Student records are protected by law and district policy; share these results as your district’s data-privacy rules and research review board allow.');
+
+  return {
+    engineVersion: ENGINE_VERSION,
+    planVersion: ctx.planVersion,
+    measure: ctx.measure,
+    wave: ctx.wave,
+    alpha: plan.alpha,
+    descriptives: arms.map((arm) => {
+      const s = arm === 'intervention' ? a : b;
+      const q = data.quantiles[arm];
+      return {
+        arm,
+        classrooms: perClass(arm).length,
+        students: s.n,
+        mean: s.mean,
+        sd: sdOf(s),
+        se: sdOf(s) / Math.sqrt(s.n),
+        quantiles: q ? { min: q[0], q1: q[1], median: q[2], q3: q[3], max: q[4] } : null,
+      };
+    }),
+    primary,
+    effectSize: { g: g.g, ci: g.ci as [number, number], se: g.se, improvementIndex: improvementIndex(g.g), substantivelyImportant: isSubstantivelyImportant(g.g) },
+    clustering,
+    sensitivity: {
+      student,
+      welch,
+      mannWhitney: mw,
+      ancova: adjusted,
+      classroomMeans: classroomMeans ? { ...classroomMeans, classrooms1: meansOf('intervention').length, classrooms2: meansOf('comparison').length } : null,
+    },
+    diagnostics: { leveneMean, leveneMedian, varianceRatio: varianceRatioFFromSummary(toGroup(a), toGroup(b)), shapiroWilk: shapiro, notes },
+    sites: siteRows,
+    pooled,
+    flow,
+    cautions,
+  };
+}

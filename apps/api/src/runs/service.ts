@@ -1,0 +1,323 @@
+import type { DataSource, EntityManager } from 'typeorm';
+import { benjaminiHochberg } from '@evenhand/stats';
+import type { Comparison, CreateComparison, PlanContent, QueueRun, Run, RunResults, SessionUser } from '@evenhand/entities';
+import { recordAudit } from '../audit/service.js';
+import type { Deps } from '../deps.js';
+import { AppError } from '../errors.js';
+import type { Logger } from '../logger.js';
+import { currentPlan } from '../plans/service.js';
+import { findVisibleStudy, hasRole, sitesOf } from '../studies/access.js';
+import { AnalysisError, analyse } from './engine.js';
+import { canonicalRowsSql, gather, sheetStatesFor } from './gather.js';
+
+interface ComparisonRow {
+  id: string;
+  study_id: string;
+  measure_id: string;
+  measure_name: string;
+  measure_kind: 'achievement' | 'behaviour';
+  higher_is_better: boolean;
+  wave_id: string;
+  wave_name: string;
+  label: string;
+  unit_of_analysis: Comparison['unitOfAnalysis'];
+  primary_test: Comparison['primaryTest'];
+  covariate: Comparison['covariate'];
+  prespecified: boolean;
+  is_primary: boolean;
+  schedule_cron: string | null;
+}
+
+interface RunRow {
+  id: string;
+  comparison_id: string;
+  study_id: string;
+  kind: Run['kind'];
+  state: Run['state'];
+  reason: string | null;
+  plan_version: number | null;
+  engine_version: string | null;
+  data_sha256: string | null;
+  input_sheet_ids: string[];
+  results: RunResults | null;
+  error: string | null;
+  queued_at: Date;
+  finished_at: Date | null;
+  locked_at: Date | null;
+}
+
+const comparisonSelect = `
+  SELECT k.*, m.name AS measure_name, m.kind AS measure_kind, m.higher_is_better, w.name AS wave_name
+    FROM comparisons k JOIN measures m ON m.id = k.measure_id JOIN waves w ON w.id = k.wave_id`;
+
+function toRun(r: RunRow, multiplicity: Run['multiplicity'] = null): Run {
+  return {
+    id: r.id,
+    comparisonId: r.comparison_id,
+    studyId: r.study_id,
+    kind: r.kind,
+    state: r.state,
+    reason: r.reason,
+    planVersion: r.plan_version,
+    engineVersion: r.engine_version,
+    dataSha256: r.data_sha256,
+    results: r.results,
+    error: r.error,
+    queuedAt: new Date(r.queued_at).toISOString(),
+    finishedAt: r.finished_at ? new Date(r.finished_at).toISOString() : null,
+    lockedAt: r.locked_at ? new Date(r.locked_at).toISOString() : null,
+    multiplicity,
+  };
+}
+
+/** The sealed plan's comparisons: one per measure at the plan's primary wave, the primary measure first. */
+async function ensurePrespecified(manager: EntityManager, studyId: string): Promise<void> {
+  const plan = await currentPlan(manager, studyId);
+  if (!plan) return;
+  const p = plan.content;
+  await manager.query(
+    `INSERT INTO comparisons (study_id, measure_id, wave_id, label, unit_of_analysis, primary_test, covariate, prespecified, is_primary, created_by)
+     SELECT $1, m.id, $2, m.name || ' at ' || w.name, $3, $4, $5, true, m.id = $6, $7
+       FROM measures m JOIN waves w ON w.id = $2 WHERE m.study_id = $1
+     ON CONFLICT (study_id, measure_id, wave_id) WHERE prespecified DO NOTHING`,
+    [studyId, p.primaryWaveId, p.unitOfAnalysis, p.primaryTest, p.covariate, p.primaryMeasureId, plan.createdBy],
+  );
+}
+
+export async function listComparisons(db: DataSource, user: SessionUser, studyId: string): Promise<{ items: Comparison[]; total: number }> {
+  await findVisibleStudy(db.manager, user, studyId);
+  await ensurePrespecified(db.manager, studyId);
+  const rows: ComparisonRow[] = await db.query(`${comparisonSelect} WHERE k.study_id = $1 ORDER BY k.prespecified DESC, k.is_primary DESC, k.created_at`, [studyId]);
+  const runs: RunRow[] = await db.query(
+    `SELECT DISTINCT ON (comparison_id) id, comparison_id, study_id, kind, state, reason, plan_version, engine_version, data_sha256,
+            input_sheet_ids, NULL AS results, error, queued_at, finished_at, locked_at
+       FROM runs WHERE study_id = $1 ORDER BY comparison_id, queued_at DESC`,
+    [studyId],
+  );
+  const locked: { comparison_id: string; id: string }[] = await db.query(`SELECT comparison_id, id FROM runs WHERE study_id = $1 AND state = 'locked'`, [studyId]);
+  return {
+    items: rows.map((k) => {
+      const latest = runs.find((r) => r.comparison_id === k.id);
+      const { results: _omit, ...latestRun } = latest ? toRun(latest) : { results: null };
+      return {
+        id: k.id,
+        studyId: k.study_id,
+        measureId: k.measure_id,
+        measureName: k.measure_name,
+        waveId: k.wave_id,
+        waveName: k.wave_name,
+        label: k.label,
+        unitOfAnalysis: k.unit_of_analysis,
+        primaryTest: k.primary_test,
+        covariate: k.covariate,
+        prespecified: k.prespecified,
+        isPrimary: k.is_primary,
+        scheduleCron: k.schedule_cron,
+        latestRun: latest ? (latestRun as Comparison['latestRun']) : null,
+        lockedRunId: locked.find((l) => l.comparison_id === k.id)?.id ?? null,
+      };
+    }),
+    total: rows.length,
+  };
+}
+
+/** Comparisons added after sealing are exploratory, and marked so everywhere. */
+export async function createComparison(db: DataSource, user: SessionUser, studyId: string, input: CreateComparison): Promise<Comparison> {
+  const id = await db.transaction(async (manager) => {
+    await findVisibleStudy(manager, user, studyId, true);
+    if (!(await currentPlan(manager, studyId))) throw AppError.conflict('Seal the plan first: its comparisons are the pre-specified ones');
+    const [m] = await manager.query(`SELECT name FROM measures WHERE id = $1 AND study_id = $2`, [input.measureId, studyId]);
+    const [w] = await manager.query(`SELECT name, kind FROM waves WHERE id = $1 AND study_id = $2`, [input.waveId, studyId]);
+    const issues = [];
+    if (!m) issues.push({ path: 'measureId', message: 'Choose one of this study’s measures' });
+    if (!w) issues.push({ path: 'waveId', message: 'Choose one of this study’s waves' });
+    else if (w.kind === 'baseline') issues.push({ path: 'waveId', message: 'Compare outcomes after baseline' });
+    if (issues.length) throw AppError.validation('The comparison refers to things outside this study', issues);
+    const [row] = await manager.query(
+      `INSERT INTO comparisons (study_id, measure_id, wave_id, label, unit_of_analysis, primary_test, covariate, prespecified, schedule_cron, created_by)
+       VALUES ($1, $2, $3, $4, $5, $6, $7, false, $8, $9) RETURNING id`,
+      [studyId, input.measureId, input.waveId, input.label ?? `${m.name} at ${w.name} (exploratory)`, input.unitOfAnalysis, input.primaryTest, input.covariate, input.scheduleCron, user.id],
+    );
+    await recordAudit(manager, { actorId: user.id, studyId, action: 'comparison.created', entityType: 'comparison', entityId: row.id, after: input });
+    return row.id as string;
+  });
+  return (await listComparisons(db, user, studyId)).items.find((c) => c.id === id)!;
+}
+
+export async function queueRun(deps: Deps, user: SessionUser, comparisonId: string, input: QueueRun): Promise<Run> {
+  const run = await deps.db.transaction(async (manager) => {
+    const [k]: ComparisonRow[] = await manager.query(`${comparisonSelect} WHERE k.id = $1`, [comparisonId]);
+    if (!k) throw AppError.notFound('The comparison');
+    await findVisibleStudy(manager, user, k.study_id, true);
+    const plan = await currentPlan(manager, k.study_id);
+    if (!plan) throw AppError.conflict('Seal the plan before running comparisons');
+    if (input.kind === 'confirmatory' && !k.prespecified) throw AppError.conflict('Only a pre-specified comparison can have a confirmatory run; exploratory ones run as monitoring');
+    const [locked] = await manager.query(`SELECT 1 FROM runs WHERE comparison_id = $1 AND state = 'locked'`, [comparisonId]);
+    if (locked && !(input.reason && input.reason.length >= 10)) {
+      throw AppError.validation('This comparison already has a locked result; say why it is analysed again', [{ path: 'reason', message: 'Give the reason for the re-analysis' }]);
+    }
+    const [row]: RunRow[] = await manager.query(
+      `INSERT INTO runs (comparison_id, study_id, kind, reason, plan_version, queued_by) VALUES ($1, $2, $3, $4, $5, $6) RETURNING *`,
+      [comparisonId, k.study_id, input.kind, input.reason ?? null, plan.version, user.id],
+    );
+    await deps.jobs.enqueueRun(manager, row.id);
+    await recordAudit(manager, { actorId: user.id, studyId: k.study_id, action: 'run.queued', entityType: 'run', entityId: row.id, after: input });
+    return row;
+  });
+  return toRun(run);
+}
+
+/**
+ * Executes a queued run once: the state moves queued → running only for the first worker that gets it,
+ * so a job delivered twice (or to two workers) computes once.
+ */
+export async function executeRun(db: DataSource, logger: Logger, runId: string): Promise<void> {
+  const [claimed]: RunRow[] = await db.query(`UPDATE runs SET state = 'running', started_at = now() WHERE id = $1 AND state = 'queued' RETURNING *`, [runId]);
+  if (!claimed) return;
+  try {
+    const results = await db.transaction('REPEATABLE READ', async (manager) => {
+      const [k]: ComparisonRow[] = await manager.query(`${comparisonSelect} WHERE k.id = $1`, [claimed.comparison_id]);
+      const [study] = await manager.query(`SELECT unit_of_assignment, quasi_experimental FROM studies WHERE id = $1`, [k.study_id]);
+      const [planRow] = await manager.query(`SELECT content FROM plan_versions WHERE study_id = $1 AND version = $2`, [k.study_id, claimed.plan_version]);
+      const plan = planRow.content as PlanContent;
+      const [baseline] = await manager.query(`SELECT id FROM waves WHERE study_id = $1 AND kind = 'baseline' LIMIT 1`, [k.study_id]);
+      const data = await gather(manager, {
+        studyId: k.study_id,
+        measureId: k.measure_id,
+        waveId: k.wave_id,
+        baselineWaveId: k.covariate === 'baseline' ? (baseline?.id ?? null) : null,
+        states: sheetStatesFor(claimed.kind),
+      });
+      const computed = analyse(
+        {
+          kind: claimed.kind,
+          plan,
+          planVersion: claimed.plan_version,
+          unitOfAssignment: study.unit_of_assignment,
+          quasiExperimental: study.quasi_experimental,
+          comparison: { unitOfAnalysis: k.unit_of_analysis, primaryTest: k.primary_test, covariate: k.covariate },
+          measure: { id: k.measure_id, name: k.measure_name, kind: k.measure_kind, higherIsBetter: k.higher_is_better },
+          wave: { id: k.wave_id, name: k.wave_name },
+        },
+        data,
+      );
+      return { computed, data };
+    });
+    await db.query(
+      `UPDATE runs SET state = 'finished', finished_at = now(), results = $2, engine_version = $3, data_sha256 = $4, input_sheet_ids = $5 WHERE id = $1`,
+      [runId, results.computed, results.computed.engineVersion, results.data.dataSha256, results.data.sheetIds],
+    );
+  } catch (err) {
+    const known = err instanceof AnalysisError || (err as Error).name === 'StatsInputError';
+    if (!known) logger.error({ err, runId }, 'run failed unexpectedly');
+    const message = known ? (err as Error).message : 'The run failed on our side; the error has been logged';
+    await db.query(`UPDATE runs SET state = 'failed', finished_at = now(), error = $2 WHERE id = $1`, [runId, message]);
+  }
+}
+
+async function loadRun(manager: EntityManager, user: SessionUser, runId: string): Promise<RunRow> {
+  const [run]: RunRow[] = await manager.query(`SELECT * FROM runs WHERE id = $1`, [runId]);
+  if (!run) throw AppError.notFound('The run');
+  await findVisibleStudy(manager, user, run.study_id);
+  return run;
+}
+
+/** Benjamini–Hochberg across the study's confirmatory comparisons, using each one's locked (else latest finished) run. */
+async function multiplicityFor(manager: EntityManager, run: RunRow): Promise<Run['multiplicity']> {
+  if (run.kind !== 'confirmatory' || !run.results) return null;
+  const rows: { id: string; p: number }[] = await manager.query(
+    `SELECT DISTINCT ON (r.comparison_id) r.id, (r.results->'primary'->>'p')::float8 AS p
+       FROM runs r JOIN comparisons k ON k.id = r.comparison_id
+      WHERE r.study_id = $1 AND r.kind = 'confirmatory' AND r.state IN ('finished', 'locked') AND k.prespecified
+      ORDER BY r.comparison_id, (r.state = 'locked') DESC, r.finished_at DESC`,
+    [run.study_id],
+  );
+  if (!rows.some((r) => r.id === run.id)) rows.push({ id: run.id, p: run.results.primary.p });
+  const bh = benjaminiHochberg(rows.map((r) => r.p), run.results.alpha);
+  const i = rows.findIndex((r) => r.id === run.id);
+  return { adjustedP: bh.adjusted[i], rejected: bh.rejected[i], comparisons: rows.length };
+}
+
+/** A principal sees a locked result only, with figures for their own school and no cell under 10 students. */
+function forPrincipal(run: Run, siteIds: string[]): Run {
+  if (!run.results) return run;
+  const r = run.results;
+  return {
+    ...run,
+    results: {
+      ...r,
+      sites: r.sites.filter((s) => siteIds.includes(s.siteId) && s.n1 >= 10 && s.n2 >= 10),
+      descriptives: r.descriptives.filter((d) => d.students >= 10),
+    },
+  };
+}
+
+export async function getRun(db: DataSource, user: SessionUser, runId: string): Promise<Run> {
+  const run = await loadRun(db.manager, user, runId);
+  const full = toRun(run, await multiplicityFor(db.manager, run));
+  if (hasRole(user, 'research_lead', 'reviewer', 'coordinator')) return full;
+  if (run.state !== 'locked') throw AppError.notFound('The run');
+  return forPrincipal(full, sitesOf(user, 'principal'));
+}
+
+/** Freezes a finished confirmatory run and every score sheet it read; the database refuses any later change. */
+export async function lockRun(db: DataSource, user: SessionUser, runId: string): Promise<Run> {
+  await db.transaction(async (manager) => {
+    await manager.query(`SELECT 1 FROM runs WHERE id = $1 FOR UPDATE`, [runId]);
+    const run = await loadRun(manager, user, runId);
+    if (run.state === 'locked') throw AppError.conflict('This run is already locked');
+    if (run.kind !== 'confirmatory') throw AppError.conflict('Only a confirmatory run can be locked; monitoring runs are interim');
+    if (run.state !== 'finished') throw AppError.conflict(`Only a finished run can be locked; this one is ${run.state}`);
+    const [other] = await manager.query(`SELECT id FROM runs WHERE comparison_id = $1 AND state = 'locked'`, [run.comparison_id]);
+    if (other) throw AppError.conflict('This comparison already has a locked result; a re-analysis stays unlocked');
+    await manager.query(`UPDATE score_sheets SET locked = true WHERE id = ANY($1) AND NOT locked`, [run.input_sheet_ids]);
+    await manager.query(`UPDATE runs SET state = 'locked', locked_at = now(), locked_by = $2 WHERE id = $1`, [runId, user.id]);
+    await recordAudit(manager, {
+      actorId: user.id,
+      studyId: run.study_id,
+      action: 'run.locked',
+      entityType: 'run',
+      entityId: runId,
+      after: { dataSha256: run.data_sha256, engineVersion: run.engine_version, planVersion: run.plan_version },
+    });
+  });
+  return getRun(db, user, runId);
+}
+
+const README = `Evenhand reproducibility bundle
+
+This file holds everything needed to recompute a locked comparison:
+- plan: the sealed plan version the run followed (alpha, sidedness, primary test, covariate, ICC rule);
+- draw: the seeded random assignment (seed, algorithm, blocks, result) and any recorded reassignments;
+- rows: one line per analysed student, "classroom_id,arm,student_code,outcome,pretest" (pretest empty when
+  missing), sorted as text. Student codes only, never names;
+- results: the numbers Evenhand computed, with the statistics engine's version.
+
+To check the data: the SHA-256 of the rows joined with a newline ("\\n") must equal dataSha256.
+To check the numbers: group the rows by arm and recompute with the same engine version of @evenhand/stats
+(for example welchTFromSummary on each arm's n, mean and SD, hedgesG, clusterAdjusted with the plan's ICC),
+or with any statistics library: Welch's t with the Welch–Satterthwaite degrees of freedom, Hedges' g with the
+exact small-sample correction, and the clustering correction of Hedges (2007).`;
+
+export async function runBundle(db: DataSource, user: SessionUser, runId: string) {
+  const run = await loadRun(db.manager, user, runId);
+  if (run.state !== 'locked' && run.state !== 'finished') throw AppError.conflict('Only a finished or locked run has a bundle');
+  const [k]: ComparisonRow[] = await db.query(`${comparisonSelect} WHERE k.id = $1`, [run.comparison_id]);
+  const [plan] = await db.query(`SELECT version, content, sha256, created_at FROM plan_versions WHERE study_id = $1 AND version = $2`, [run.study_id, run.plan_version]);
+  const [draw] = await db.query(`SELECT seed, algorithm, algorithm_version, unit, blocks, assignments, committed_at FROM draws WHERE study_id = $1`, [run.study_id]);
+  const reassignments = draw ? await db.query(`SELECT classroom_id, from_arm, to_arm, reason, at FROM draw_reassignments r JOIN draws d ON d.id = r.draw_id WHERE d.study_id = $1 ORDER BY at`, [run.study_id]) : [];
+  const baselineIds: { id: string }[] = await db.query(`SELECT id FROM score_sheets WHERE id = ANY($1) AND wave_id <> $2`, [run.input_sheet_ids, k.wave_id]);
+  const outcomeIds = run.input_sheet_ids.filter((id) => !baselineIds.some((b) => b.id === id));
+  const lines: { line: string }[] = await db.query(`SELECT line FROM (${canonicalRowsSql}) rows ORDER BY line`, [outcomeIds, baselineIds.map((b) => b.id)]);
+  return {
+    readme: README,
+    run: { id: run.id, kind: run.kind, state: run.state, lockedAt: run.locked_at, reason: run.reason },
+    comparison: { id: k.id, label: k.label, measure: k.measure_name, wave: k.wave_name, unitOfAnalysis: k.unit_of_analysis, primaryTest: k.primary_test, covariate: k.covariate, prespecified: k.prespecified },
+    engineVersion: run.engine_version,
+    dataSha256: run.data_sha256,
+    plan,
+    draw: draw ? { ...draw, reassignments } : null,
+    rows: lines.map((l) => l.line),
+    results: run.results,
+  };
+}

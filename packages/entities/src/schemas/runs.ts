@@ -1,0 +1,166 @@
+import { z } from 'zod';
+import { idSchema } from './common.js';
+import { armSchema } from './studies.js';
+
+export const createComparisonSchema = z.object({
+  measureId: idSchema,
+  waveId: idSchema,
+  label: z.string().trim().min(3).max(200).optional(),
+  unitOfAnalysis: z.enum(['student', 'classroom', 'school']).default('student'),
+  primaryTest: z.enum(['welch', 'student']).default('welch'),
+  covariate: z.enum(['baseline', 'none']).default('baseline'),
+  /** A cron expression (minute hour day month weekday) for automatic monitoring runs while the wave is open. */
+  scheduleCron: z
+    .string()
+    .trim()
+    .regex(/^(\S+\s+){4}\S+$/, 'Use five cron fields, e.g. “0 2 * * *” for 02:00 every night')
+    .nullable()
+    .default(null),
+});
+export type CreateComparison = z.infer<typeof createComparisonSchema>;
+
+export const runKinds = ['monitoring', 'confirmatory'] as const;
+export const runStates = ['queued', 'running', 'finished', 'failed', 'locked'] as const;
+
+export const queueRunSchema = z.object({
+  kind: z.enum(runKinds),
+  /** Required when the comparison already has a locked run: why the data are analysed again. */
+  reason: z.string().trim().max(4000).optional(),
+});
+export type QueueRun = z.infer<typeof queueRunSchema>;
+
+const tTest = z.object({
+  t: z.number(),
+  df: z.number(),
+  p: z.number(),
+  meanDifference: z.number(),
+  se: z.number(),
+  ci: z.tuple([z.number(), z.number()]),
+  confidence: z.number(),
+  alternative: z.string(),
+});
+
+const quantiles = z.object({ min: z.number(), q1: z.number(), median: z.number(), q3: z.number(), max: z.number() });
+
+export const armDescriptivesSchema = z.object({
+  arm: armSchema,
+  classrooms: z.number().int(),
+  students: z.number().int(),
+  mean: z.number(),
+  sd: z.number(),
+  se: z.number(),
+  quantiles: quantiles.nullable(),
+});
+
+export const siteEstimateSchema = z.object({
+  siteId: idSchema,
+  siteName: z.string(),
+  n1: z.number().int(),
+  n2: z.number().int(),
+  mean1: z.number(),
+  mean2: z.number(),
+  g: z.number(),
+  se: z.number(),
+  ci: z.tuple([z.number(), z.number()]),
+  weight: z.number(),
+});
+
+export const runResultsSchema = z
+  .object({
+    engineVersion: z.string(),
+    planVersion: z.number().int().nullable(),
+    measure: z.object({ id: idSchema, name: z.string(), kind: z.string(), higherIsBetter: z.boolean() }),
+    wave: z.object({ id: idSchema, name: z.string() }),
+    alpha: z.number(),
+    descriptives: z.array(armDescriptivesSchema),
+    primary: tTest.extend({ test: z.enum(['welch', 'student']), significant: z.boolean() }),
+    effectSize: z.object({
+      g: z.number(),
+      ci: z.tuple([z.number(), z.number()]),
+      se: z.number(),
+      improvementIndex: z.number(),
+      substantivelyImportant: z.boolean(),
+    }),
+    clustering: z
+      .object({
+        icc: z.number(),
+        iccSource: z.enum(['observed', 'default', 'assumed']),
+        tAdjusted: z.number(),
+        df: z.number(),
+        p: z.number(),
+        significant: z.boolean(),
+        averageClusterSize: z.number(),
+        designEffect: z.number(),
+        observedIcc: z.number().nullable(),
+      })
+      .nullable(),
+    sensitivity: z.object({
+      student: tTest,
+      welch: tTest,
+      mannWhitney: z.object({ u: z.number(), z: z.number(), p: z.number(), method: z.string() }).nullable(),
+      ancova: z
+        .object({ adjustedDifference: z.number(), se: z.number(), t: z.number(), df: z.number(), p: z.number(), ci: z.tuple([z.number(), z.number()]), g: z.number(), n: z.number().int() })
+        .nullable(),
+      classroomMeans: tTest.extend({ classrooms1: z.number().int(), classrooms2: z.number().int() }).nullable(),
+    }),
+    diagnostics: z.object({
+      leveneMean: z.object({ statistic: z.number(), df1: z.number(), df2: z.number(), p: z.number() }).nullable(),
+      leveneMedian: z.object({ statistic: z.number(), df1: z.number(), df2: z.number(), p: z.number() }).nullable(),
+      varianceRatio: z.object({ f: z.number(), df1: z.number(), df2: z.number(), p: z.number() }),
+      shapiroWilk: z.array(z.object({ arm: armSchema, w: z.number(), p: z.number() })).nullable(),
+      notes: z.array(z.string()),
+    }),
+    sites: z.array(siteEstimateSchema),
+    pooled: z
+      .object({ estimate: z.number(), se: z.number(), ci: z.tuple([z.number(), z.number()]), p: z.number(), tau2: z.number(), q: z.number(), df: z.number(), pQ: z.number(), i2: z.number() })
+      .nullable(),
+    flow: z.array(
+      z.object({ arm: armSchema, classroomsAllocated: z.number().int(), studentsAllocated: z.number().int(), studentsFollowedUp: z.number().int(), classroomsAnalysed: z.number().int(), studentsAnalysed: z.number().int() }),
+    ),
+    cautions: z.array(z.string()),
+  })
+  .meta({ id: 'RunResults' });
+export type RunResults = z.infer<typeof runResultsSchema>;
+
+export const runSchema = z
+  .object({
+    id: idSchema,
+    comparisonId: idSchema,
+    studyId: idSchema,
+    kind: z.enum(runKinds),
+    state: z.enum(runStates),
+    reason: z.string().nullable(),
+    planVersion: z.number().int().nullable(),
+    engineVersion: z.string().nullable(),
+    dataSha256: z.string().nullable(),
+    results: runResultsSchema.nullable(),
+    error: z.string().nullable(),
+    queuedAt: z.iso.datetime({ offset: true }),
+    finishedAt: z.iso.datetime({ offset: true }).nullable(),
+    lockedAt: z.iso.datetime({ offset: true }).nullable(),
+    /** Benjamini–Hochberg across the study's locked/finished confirmatory comparisons (null for monitoring). */
+    multiplicity: z.object({ adjustedP: z.number(), rejected: z.boolean(), comparisons: z.number().int() }).nullable(),
+  })
+  .meta({ id: 'Run' });
+export type Run = z.infer<typeof runSchema>;
+
+export const comparisonSchema = z
+  .object({
+    id: idSchema,
+    studyId: idSchema,
+    measureId: idSchema,
+    measureName: z.string(),
+    waveId: idSchema,
+    waveName: z.string(),
+    label: z.string(),
+    unitOfAnalysis: z.enum(['student', 'classroom', 'school']),
+    primaryTest: z.enum(['welch', 'student']),
+    covariate: z.enum(['baseline', 'none']),
+    prespecified: z.boolean(),
+    isPrimary: z.boolean(),
+    scheduleCron: z.string().nullable(),
+    latestRun: runSchema.omit({ results: true }).nullable(),
+    lockedRunId: idSchema.nullable(),
+  })
+  .meta({ id: 'Comparison' });
+export type Comparison = z.infer<typeof comparisonSchema>;
