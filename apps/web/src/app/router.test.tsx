@@ -1,6 +1,6 @@
 import type { SessionUser } from '@evenhand/entities';
 import { QueryClientProvider } from '@tanstack/react-query';
-import { render, screen } from '@testing-library/react';
+import { fireEvent, render, screen } from '@testing-library/react';
 import { createMemoryRouter, RouterProvider } from 'react-router-dom';
 import { afterEach, describe, expect, it, vi } from 'vitest';
 import { createQueryClient } from '@/app/query-client';
@@ -17,10 +17,11 @@ function answer(status: number, body: unknown) {
   return new Response(JSON.stringify(body), { status, headers: { 'Content-Type': 'application/json' } });
 }
 
-function openAt(path: string, me: Response) {
+function openAt(path: string, me: Response, others: Record<string, () => Response> = {}) {
   const fetchMock = vi.fn<typeof fetch>(async (input) => {
-    if (String(input) === '/api/auth/me') return me;
-    return answer(500, { error: { code: 'internal', message: `unexpected request ${String(input)}` } });
+    const url = String(input);
+    if (url === '/api/auth/me') return me;
+    return others[url]?.() ?? answer(500, { error: { code: 'internal', message: `unexpected request ${url}` } });
   });
   vi.stubGlobal('fetch', fetchMock);
   const queryClient = createQueryClient();
@@ -57,5 +58,23 @@ describe('routing', () => {
     expect(await screen.findByRole('heading', { level: 1, name: 'My classes' })).toBeInTheDocument();
     expect(router.state.location.pathname).toBe('/my-classes');
     expect(screen.getByRole('button', { name: 'Sign out' })).toBeInTheDocument();
+  });
+
+  it('shows a visitor who is not signed in the not-found page for an unknown address', async () => {
+    openAt('/no-such-page', answer(401, { error: { code: 'unauthenticated', message: 'Please sign in first' } }));
+    expect(await screen.findByRole('heading', { level: 1, name: 'Page not found' })).toBeInTheDocument();
+    expect(screen.getByText('/no-such-page')).toBeInTheDocument();
+  });
+
+  it("shows the API's message, as an alert, when the password is wrong", async () => {
+    const signedOut = answer(401, { error: { code: 'unauthenticated', message: 'Please sign in first' } });
+    openAt('/sign-in', signedOut, {
+      '/api/auth/login': () =>
+        answer(401, { error: { code: 'unauthenticated', message: 'The e-mail address or password is not right' } }),
+    });
+    fireEvent.change(await screen.findByLabelText('E-mail address'), { target: { value: 'lead@evenhand.test' } });
+    fireEvent.change(screen.getByLabelText('Password'), { target: { value: 'not-my-password' } });
+    fireEvent.click(screen.getByRole('button', { name: 'Sign in' }));
+    expect(await screen.findByRole('alert')).toHaveTextContent('The e-mail address or password is not right');
   });
 });

@@ -1,13 +1,14 @@
 import type { QueryClient } from '@tanstack/react-query';
 import type { RouteObject } from 'react-router-dom';
 import { guardArea, homeLoader, requireUser } from '@/app/guards';
-import { NotFoundPage } from '@/app/not-found-page';
+import { NotFoundRoute } from '@/app/not-found-page';
 import { PublicLayout } from '@/app/public-layout';
 import { RouteError } from '@/app/route-error';
 import { SignedInLayout } from '@/app/signed-in-layout';
 import { Loading } from '@/components/ui/spinner';
 import { AccountsPage, accountsLoader, accountsShouldRevalidate } from '@/features/accounts/routes';
 import { AuditPage, auditLoader, auditShouldRevalidate } from '@/features/audit/routes';
+import { sessionQueryOptions } from '@/features/auth/api';
 import { ForgotPasswordPage, SetPasswordPage, SignInPage } from '@/features/auth/routes';
 import { MyClassesPage, MySchoolPage, NoRolePage, StudiesPage } from '@/features/home/routes';
 import { areas } from '@/lib/navigation';
@@ -61,10 +62,18 @@ export function createRoutes(queryClient: QueryClient): RouteObject[] {
                   shouldRevalidate: auditShouldRevalidate,
                   Component: AuditPage,
                 },
-                { path: '*', Component: NotFoundPage },
               ],
             },
           ],
+        },
+        {
+          path: '*',
+          loader: async () => {
+            // Only to choose the frame; a failing session check must not hide the not-found page.
+            await queryClient.ensureQueryData(sessionQueryOptions()).catch(() => null);
+            return null;
+          },
+          Component: NotFoundRoute,
         },
       ],
     },

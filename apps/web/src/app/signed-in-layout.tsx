@@ -1,19 +1,15 @@
-import { roleLabels } from '@evenhand/entities';
+import { roleLabels, type SessionUser } from '@evenhand/entities';
+import type { ReactNode } from 'react';
 import { Navigate, NavLink, Outlet, useLocation, useNavigation } from 'react-router-dom';
 import { SkipLink, Wordmark } from '@/app/chrome';
 import { Button } from '@/components/ui/button';
 import { useSession, useSignOut } from '@/features/auth/api';
 import { navigationFor, signInPath } from '@/lib/navigation';
 
-export function SignedInLayout() {
-  const { data: user } = useSession();
-  const location = useLocation();
+/** The frame of every signed-in page: the person's navigation, who they are, and Sign out. */
+export function SignedInFrame({ user, children }: { user: SessionUser; children: ReactNode }) {
   const navigation = useNavigation();
   const signOut = useSignOut();
-
-  // The session can end while a page is open (it expired, or the account was deactivated).
-  if (!user) return <Navigate to={signInPath(location.pathname + location.search)} replace />;
-
   const roleNames = [...new Set(user.roles.map((g) => roleLabels[g.role]))].join(', ');
 
   return (
@@ -24,7 +20,7 @@ export function SignedInLayout() {
         className={`fixed inset-x-0 top-0 h-1 bg-accent transition-opacity ${navigation.state === 'loading' ? 'animate-pulse opacity-100' : 'opacity-0'}`}
       />
       <header className="border-b border-line bg-surface">
-        <div className="mx-auto flex max-w-6xl flex-wrap items-center gap-x-10 gap-y-3 px-6 py-4">
+        <div className="mx-auto flex max-w-7xl flex-wrap items-center gap-x-10 gap-y-3 px-6 py-4">
           <Wordmark to="/" />
           <nav aria-label="Main" className="flex-1">
             <ul className="flex flex-wrap gap-2">
@@ -55,14 +51,26 @@ export function SignedInLayout() {
           </div>
         </div>
         {signOut.error && (
-          <p role="alert" className="mx-auto max-w-6xl px-6 pb-3 text-sm font-semibold text-danger">
+          <p role="alert" className="mx-auto max-w-7xl px-6 pb-3 text-sm font-semibold text-danger">
             {signOut.error.message}
           </p>
         )}
       </header>
-      <main id="main" tabIndex={-1} className="mx-auto max-w-6xl px-6 py-10 focus:outline-none">
-        <Outlet />
+      <main id="main" tabIndex={-1} className="mx-auto max-w-7xl px-6 py-10 focus:outline-none">
+        {children}
       </main>
     </div>
+  );
+}
+
+export function SignedInLayout() {
+  const { data: user } = useSession();
+  const location = useLocation();
+  // The session can end while a page is open (it expired, or the account was deactivated).
+  if (!user) return <Navigate to={signInPath(location.pathname + location.search)} replace />;
+  return (
+    <SignedInFrame user={user}>
+      <Outlet />
+    </SignedInFrame>
   );
 }

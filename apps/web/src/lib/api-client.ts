@@ -77,7 +77,7 @@ interface Schema<T> {
 
 type Method = 'GET' | 'POST' | 'PUT' | 'PATCH' | 'DELETE';
 
-export interface RequestOptions<T> {
+interface RequestOptions<T> {
   method?: Method;
   query?: Record<string, string | number | undefined>;
   body?: unknown;

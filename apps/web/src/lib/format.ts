@@ -8,7 +8,3 @@ export function formatDateTime(iso: string): string {
 export function formatDate(iso: string): string {
   return date.format(new Date(iso));
 }
-
-export function formatCount(n: number, one: string, many: string): string {
-  return `${n.toLocaleString()} ${n === 1 ? one : many}`;
-}

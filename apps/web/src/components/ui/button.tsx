@@ -16,7 +16,7 @@ const sizes: Record<Size, string> = {
   sm: 'px-3 py-1 text-sm',
 };
 
-export function buttonClasses(variant: Variant = 'primary', size: Size = 'md'): string {
+function buttonClasses(variant: Variant = 'primary', size: Size = 'md'): string {
   return `inline-flex items-center justify-center gap-2 rounded-md font-semibold no-underline transition-colors disabled:cursor-not-allowed disabled:opacity-60 ${variants[variant]} ${sizes[size]}`;
 }
 

@@ -25,7 +25,7 @@ export function Dialog({ open, title, description, onClose, children }: DialogPr
       ref={ref}
       aria-labelledby={titleId}
       onClose={onClose}
-      className="m-auto w-[min(40rem,calc(100vw-2rem))] rounded-lg border border-line bg-paper p-0 text-ink shadow-xl"
+      className="m-auto w-[min(44rem,calc(100vw-2rem))] rounded-lg border border-line bg-paper p-0 text-ink shadow-xl"
     >
       {open && (
         <div className="p-6 sm:p-8">

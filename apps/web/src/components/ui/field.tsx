@@ -1,6 +1,6 @@
 import { useId, type ComponentProps, type ReactNode } from 'react';
 
-export interface ControlProps {
+interface ControlProps {
   id: string;
   'aria-describedby'?: string;
   'aria-invalid'?: true;

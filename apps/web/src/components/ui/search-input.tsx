@@ -28,7 +28,7 @@ export function SearchInput({ label, value, onChange, placeholder }: SearchInput
   }, [text, value]);
 
   return (
-    <Field label={label} className="min-w-64 flex-1">
+    <Field label={label} className="w-full max-w-md">
       {(control) => (
         <TextInput
           {...control}

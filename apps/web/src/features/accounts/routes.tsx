@@ -7,10 +7,10 @@ import { Button } from '@/components/ui/button';
 import { Dialog } from '@/components/ui/dialog';
 import { PageHeader } from '@/components/ui/page-header';
 import { accountsQueryOptions, siteChoicesQueryOptions, useInviteAccount, useUpdateAccount } from '@/features/accounts/api';
+import { AccountAccess } from '@/features/accounts/components/account-access';
 import { AccountsTable } from '@/features/accounts/components/accounts-table';
 import { EditAccountForm } from '@/features/accounts/components/edit-account-form';
 import { InviteForm } from '@/features/accounts/components/invite-form';
-import { ApiError } from '@/lib/api-client';
 
 const PAGE_SIZE = 25;
 const defaults = usersQuerySchema.parse({ limit: PAGE_SIZE });
@@ -56,8 +56,6 @@ export function accountsLoader(queryClient: QueryClient) {
 export const accountsShouldRevalidate: ShouldRevalidateFunction = ({ currentUrl, nextUrl }) =>
   currentUrl.pathname !== nextUrl.pathname;
 
-type Notice = { tone: 'success' | 'error'; text: string };
-
 export function AccountsPage() {
   const [params, setParams] = useSearchParams();
   const query = queryFromSearch(params);
@@ -67,29 +65,9 @@ export function AccountsPage() {
   const update = useUpdateAccount();
   const [inviting, setInviting] = useState(false);
   const [editing, setEditing] = useState<User | null>(null);
-  const [notice, setNotice] = useState<Notice | null>(null);
+  const [notice, setNotice] = useState<string | null>(null);
 
   const onQueryChange = (changes: Partial<UsersQuery>) => setParams(searchFromQuery({ ...query, ...changes }));
-
-  const updateAccount = update.mutate;
-  const onSetActive = useCallback(
-    (user: User, active: boolean) => {
-      setNotice(null);
-      updateAccount(
-        { id: user.id, changes: { active } },
-        {
-          onSuccess: () =>
-            setNotice({
-              tone: 'success',
-              text: active ? `${user.name} can sign in again.` : `${user.name} is deactivated and can no longer sign in.`,
-            }),
-          onError: (error) =>
-            setNotice({ tone: 'error', text: error instanceof ApiError ? error.message : 'The change could not be saved.' }),
-        },
-      );
-    },
-    [updateAccount],
-  );
 
   const onEdit = useCallback((user: User) => {
     setNotice(null);
@@ -115,14 +93,9 @@ export function AccountsPage() {
         }
       />
 
-      <div aria-live="polite" className={notice?.tone === 'success' ? 'mb-6' : undefined}>
-        {notice?.tone === 'success' && <Alert tone="success">{notice.text}</Alert>}
+      <div aria-live="polite" className={notice ? 'mb-6' : undefined}>
+        {notice && <Alert tone="success">{notice}</Alert>}
       </div>
-      {notice?.tone === 'error' && (
-        <div className="mb-6">
-          <Alert tone="error">{notice.text}</Alert>
-        </div>
-      )}
 
       <AccountsTable
         page={accounts.data}
@@ -133,8 +106,6 @@ export function AccountsPage() {
         onQueryChange={onQueryChange}
         sites={siteList}
         onEdit={onEdit}
-        onSetActive={onSetActive}
-        changingId={update.isPending && update.variables.changes.active !== undefined ? update.variables.id : null}
       />
 
       <Dialog
@@ -149,7 +120,7 @@ export function AccountsPage() {
           onInvite={async (input) => {
             const user = await invite.mutateAsync(input);
             setInviting(false);
-            setNotice({ tone: 'success', text: `An invitation is on its way to ${user.name} at ${user.email}.` });
+            setNotice(`An invitation is on its way to ${user.name} at ${user.email}.`);
           }}
         />
       </Dialog>
@@ -163,7 +134,17 @@ export function AccountsPage() {
             onSave={async (changes) => {
               const user = await update.mutateAsync({ id: editing.id, changes });
               setEditing(null);
-              setNotice({ tone: 'success', text: `The changes to ${user.name}'s account are saved.` });
+              setNotice(`The changes to ${user.name}'s account are saved.`);
+            }}
+          />
+        )}
+        {editing && (
+          <AccountAccess
+            user={editing}
+            onSetActive={async (active) => {
+              const user = await update.mutateAsync({ id: editing.id, changes: { active } });
+              setEditing(null);
+              setNotice(active ? `${user.name} can sign in again.` : `${user.name} is deactivated and can no longer sign in.`);
             }}
           />
         )}

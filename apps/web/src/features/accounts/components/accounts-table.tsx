@@ -18,9 +18,6 @@ interface AccountsTableProps {
   onQueryChange: (changes: Partial<UsersQuery>) => void;
   sites: Site[];
   onEdit: (user: User) => void;
-  onSetActive: (user: User, active: boolean) => void;
-  /** The account whose activation is being changed right now. */
-  changingId: string | null;
 }
 
 function StatusBadge({ user }: { user: User }) {
@@ -30,23 +27,23 @@ function StatusBadge({ user }: { user: User }) {
 }
 
 export function AccountsTable(props: AccountsTableProps) {
-  const { page, loading, refreshing, error, query, onQueryChange, sites, onEdit, onSetActive, changingId } = props;
+  const { page, loading, refreshing, error, query, onQueryChange, sites, onEdit } = props;
 
   const columns = useMemo(() => {
     const siteNames = new Map(sites.map((s) => [s.id, s.name]));
     return [
       column.accessor('name', {
         header: 'Name',
-        cell: ({ getValue }) => <span className="font-semibold">{getValue()}</span>,
+        cell: ({ getValue }) => <span className="font-semibold whitespace-nowrap">{getValue()}</span>,
       }),
-      column.accessor('email', { header: 'E-mail address', cell: ({ getValue }) => <span className="break-all">{getValue()}</span> }),
+      column.accessor('email', { header: 'E-mail address', cell: ({ getValue }) => <span className="whitespace-nowrap">{getValue()}</span> }),
       column.accessor('roles', {
         header: 'Roles',
         enableSorting: false,
         cell: ({ getValue }) => (
-          <ul className="space-y-0.5">
+          <ul className="min-w-52 space-y-0.5">
             {getValue().map((g) => (
-              <li key={`${g.role}:${g.siteId ?? ''}`} className="whitespace-nowrap">
+              <li key={`${g.role}:${g.siteId ?? ''}`}>
                 {roleLabels[g.role]}
                 {g.siteId && <span className="text-ink-muted"> · {siteNames.get(g.siteId) ?? 'Unknown school'}</span>}
               </li>
@@ -71,28 +68,14 @@ export function AccountsTable(props: AccountsTableProps) {
       column.display({
         id: 'actions',
         header: () => <span className="sr-only">Actions</span>,
-        cell: ({ row }) => {
-          const user = row.original;
-          return (
-            <div className="flex justify-end gap-2">
-              <Button variant="secondary" size="sm" onClick={() => onEdit(user)}>
-                Edit<span className="sr-only"> {user.name}</span>
-              </Button>
-              <Button
-                variant={user.active ? 'danger' : 'secondary'}
-                size="sm"
-                busy={changingId === user.id}
-                onClick={() => onSetActive(user, !user.active)}
-              >
-                {user.active ? 'Deactivate' : 'Reactivate'}
-                <span className="sr-only"> {user.name}</span>
-              </Button>
-            </div>
-          );
-        },
+        cell: ({ row }) => (
+          <Button variant="secondary" size="sm" onClick={() => onEdit(row.original)}>
+            Edit<span className="sr-only"> {row.original.name}</span>
+          </Button>
+        ),
       }),
     ];
-  }, [sites, onEdit, onSetActive, changingId]);
+  }, [sites, onEdit]);
 
   const sorting: SortingState = [{ id: query.sort, desc: query.order === 'desc' }];
   const filtered = Boolean(query.q || query.role);

@@ -23,7 +23,7 @@ export function GrantsFieldset({ sites }: { sites: Site[] }) {
   return (
     <fieldset className="space-y-3">
       <legend className="font-semibold">Roles</legend>
-      <p className="text-sm text-ink-muted">What this person may do. A teacher or principal role belongs to one school.</p>
+      <p className="-mt-2 text-sm text-ink-muted">What this person may do. A teacher or principal role belongs to one school.</p>
       {fields.map((field, i) => {
         const siteScoped = siteScopedRoles.includes(grants?.[i]?.role ?? field.role);
         const rowErrors = errors.roles?.[i];
