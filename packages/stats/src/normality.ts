@@ -35,6 +35,10 @@ export function shapiroWilk(values: Sample): ShapiroWilkResult {
   const x = copyChecked(values, 'values', 3).sort();
   const n = x.length;
   if (n > 5000) throw new StatsInputError(`shapiroWilk supports 3 to 5000 values (got ${n}); Royston's approximation is not validated beyond`);
+  // Centre on the middle value first (as SciPy does with the median): x/range below then keeps its digits for data
+  // far from zero, such as 1e9 + noise.
+  const centre = x[n >> 1];
+  for (let i = 0; i < n; i++) x[i] -= centre;
   const range = x[n - 1] - x[0];
   if (!(range > 0)) throw new StatsInputError('shapiroWilk: all values are identical; W is undefined');
   const nn2 = n >> 1;

@@ -46,20 +46,13 @@ function deviationsTwoPass(x: Sample, centre: number, residual: number): Deviati
   return { n, zMean: zMean + corr / n, zSs: Math.max(0, ss - (corr * corr) / n) };
 }
 
-/** Mean-centred deviations: one pass for the mean, one for z (with its own fallback when ill-conditioned). */
+/**
+ * Mean-centred deviations: one pass for the mean, then the corrected two-pass over z. When the arms' spreads are nearly
+ * equal, W depends on a small difference of mean deviations, so their rounding is removed rather than risked.
+ */
 function meanDeviations(x: Sample, label: string): Deviations {
   const m = moments(x, label);
-  const n = m.n;
-  let s1 = 0;
-  let s2 = 0;
-  for (let i = 0; i < n; i++) {
-    const z = Math.abs(x[i] - m.mean - m.meanResidual);
-    s1 += z;
-    s2 += z * z;
-  }
-  const ss = s2 - (s1 * s1) / n;
-  if (!(ss * 1e4 >= s2)) return deviationsTwoPass(x, m.mean, m.meanResidual);
-  return { n, zMean: s1 / n, zSs: Math.max(0, ss) };
+  return deviationsTwoPass(x, m.mean, m.meanResidual);
 }
 
 /** Median-centred deviations for small groups: copy, Hoare selection, then two passes over z. */
@@ -80,10 +73,14 @@ function medianDeviationsSmall(x: Sample, label: string): Deviations {
 /** Outputs of scanForMedianDeviations: Σu, Σu², Σ|u|, count below lo. */
 const scanOut = new Float64Array(4);
 
+const SCAN_BLOCK = 256;
+
 /**
  * The single data pass of medianDeviationsLarge, kept in its own small function so the JIT compiles the loop well.
  * Two values per step; comparisons as 0/1 and every value written at band[m], with m advancing only inside [lo, hi],
- * so nothing branches on the data. Returns the band size, or −1 if the band overflowed.
+ * so nothing branches on the data. Sums run in blocks of 256 whose totals are added with Neumaier's compensation
+ * (Neumaier 1974), so the error does not grow with n: Levene's W can hinge on a tiny difference of mean deviations.
+ * Returns the band size, or −1 if the band overflowed.
  */
 function scanForMedianDeviations(
   x: Sample,
@@ -94,46 +91,65 @@ function scanForMedianDeviations(
   capacity: number,
 ): number {
   const n = x.length;
-  let a0 = 0;
-  let a1 = 0;
-  let b0 = 0;
-  let b1 = 0;
-  let c0 = 0;
-  let c1 = 0;
+  let s1 = 0;
+  let e1 = 0;
+  let s2 = 0;
+  let e2 = 0;
+  let sa = 0;
+  let ea = 0;
   let below = 0;
   let m = 0;
   let i = 0;
-  for (; i + 1 < n; i += 2) {
-    const v0 = x[i];
-    const v1 = x[i + 1];
-    const u0 = v0 - shift;
-    const u1 = v1 - shift;
-    a0 += u0;
-    a1 += u1;
-    b0 += u0 * u0;
-    b1 += u1 * u1;
-    c0 += Math.abs(u0);
-    c1 += Math.abs(u1);
-    below += +(v0 < lo) + +(v1 < lo);
-    band[m] = v0;
-    m += +(v0 >= lo) & +(v0 <= hi);
-    band[m] = v1;
-    m += +(v1 >= lo) & +(v1 <= hi);
-    if (m >= capacity) return -1;
+  while (i < n) {
+    const end = Math.min(n, i + SCAN_BLOCK);
+    let a0 = 0;
+    let a1 = 0;
+    let b0 = 0;
+    let b1 = 0;
+    let c0 = 0;
+    let c1 = 0;
+    for (; i + 1 < end; i += 2) {
+      const v0 = x[i];
+      const v1 = x[i + 1];
+      const u0 = v0 - shift;
+      const u1 = v1 - shift;
+      a0 += u0;
+      a1 += u1;
+      b0 += u0 * u0;
+      b1 += u1 * u1;
+      c0 += Math.abs(u0);
+      c1 += Math.abs(u1);
+      below += +(v0 < lo) + +(v1 < lo);
+      band[m] = v0;
+      m += +(v0 >= lo) & +(v0 <= hi);
+      band[m] = v1;
+      m += +(v1 >= lo) & +(v1 <= hi);
+    }
+    if (i < end) {
+      const v = x[i];
+      const u = v - shift;
+      a0 += u;
+      b0 += u * u;
+      c0 += Math.abs(u);
+      below += +(v < lo);
+      band[m] = v;
+      m += +(v >= lo) & +(v <= hi);
+      i++;
+    }
+    if (m >= capacity - SCAN_BLOCK) return -1;
+    let t = s1 + (a0 + a1);
+    e1 += Math.abs(s1) >= Math.abs(a0 + a1) ? s1 - t + (a0 + a1) : a0 + a1 - t + s1;
+    s1 = t;
+    t = s2 + (b0 + b1);
+    e2 += s2 >= b0 + b1 ? s2 - t + (b0 + b1) : b0 + b1 - t + s2;
+    s2 = t;
+    t = sa + (c0 + c1);
+    ea += sa >= c0 + c1 ? sa - t + (c0 + c1) : c0 + c1 - t + sa;
+    sa = t;
   }
-  if (i < n) {
-    const v = x[i];
-    const u = v - shift;
-    a0 += u;
-    b0 += u * u;
-    c0 += Math.abs(u);
-    below += +(v < lo);
-    band[m] = v;
-    m += +(v >= lo) & +(v <= hi);
-  }
-  scanOut[0] = a0 + a1;
-  scanOut[1] = b0 + b1;
-  scanOut[2] = c0 + c1;
+  scanOut[0] = s1 + e1;
+  scanOut[1] = s2 + e2;
+  scanOut[2] = sa + ea;
   scanOut[3] = below;
   return m;
 }
@@ -155,7 +171,7 @@ function medianDeviationsLarge(x: Sample, label: string): Deviations {
   const plan = planBand(x, k, kHigh);
   const { lo, hi, capacity } = plan;
   const shift = plan.centre;
-  const band = new Float64Array(capacity + 2);
+  const band = new Float64Array(capacity + SCAN_BLOCK + 2);
   const m = scanForMedianDeviations(x, lo, hi, shift, band, capacity);
   if (m < 0) return medianDeviationsSmall(x, label);
   const [s1, s2, sa, below] = scanOut;

@@ -32,6 +32,14 @@ export interface TTestRef {
   ci: [Ref, Ref];
 }
 
+/** SciPy's single-precision W and p, and the float64 transcription of AS R94 from make-fixtures.py. */
+export interface ShapiroRef {
+  w: number;
+  p: number;
+  wDouble: number;
+  pDouble: number;
+}
+
 export interface TwoSampleCase {
   id: string;
   description: string;
@@ -46,7 +54,7 @@ export interface TwoSampleCase {
     student: TTestRef | null;
     levene: { mean: { statistic: Ref; p: Ref } | null; median: { statistic: Ref; p: Ref } | null };
     varianceRatio: { f: Ref; p: Ref } | null;
-    shapiro: { a: { w: number; p: number } | null; b: { w: number; p: number } | null };
+    shapiro: { a: ShapiroRef | null; b: ShapiroRef | null };
     mannWhitney: { u: number; p: number; method: 'exact' | 'normal' };
     hedges: { g: number; d: number; j: number; se: number; ci: [number, number]; gApproximate: number } | null;
     describe: {
