@@ -218,7 +218,7 @@ def pick(name, scipy_value, exact_value, rel, absolute=0.0, notes=None):
     s = num(scipy_value)
     e = num(exact_value)
     if close(s, e, rel, absolute):
-        return {'value': s, 'source': 'scipy'}
+        return {'value': s, 'source': 'scipy', 'exact': e}
     if notes is not None:
         notes.append(f'{name}: SciPy {s!r} vs exact {e!r}')
     return {'value': e, 'source': 'exact', 'scipy': s}
@@ -629,7 +629,7 @@ def distribution_points():
         'fSf': [[f, a, b, num(f_sf(f, a, b))] for f, a, b in f_points],
         'chiSquareSf': [[x, k, num(mp.gammainc(mp.mpf(k) / 2, mp.mpf(x) / 2, mp.inf, regularized=True))] for x, k in chi_points],
         'tQuantile': [[p, df, num(t_quantile(p, df))] for p, df in t_quantiles],
-        'normalQuantile': [[p, num(mp.sqrt(2) * mp.erfinv(2 * mp.mpf(p) - 1))] for p in normal_quantiles],
+        'normalQuantile': [[p, num(mp.findroot(lambda x: mp.ncdf(x) - mp.mpf(p), float(stats.norm.ppf(p))))] for p in normal_quantiles],
         'logGamma': [[x, num(mp.loggamma(x))] for x in [0.5, 1e-10, 1, 2, 3.7, 9.99, 14.9, 15, 100, 1e5, 1e8]],
     }
 

@@ -21,6 +21,8 @@ export interface Ref {
   value: number | null;
   source: 'scipy' | 'exact';
   scipy?: number | null;
+  /** The exact value (fractions + mpmath), recorded beside SciPy's. */
+  exact?: number | null;
 }
 
 export interface TTestRef {
