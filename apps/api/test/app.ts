@@ -28,7 +28,7 @@ export function testConfig(databaseUrl: string, overrides: Record<string, string
     NODE_ENV: 'test',
     DATABASE_URL: databaseUrl,
     SMTP_PORT: process.env.SMTP_PORT ?? '1025',
-    LOG_LEVEL: 'silent',
+    LOG_LEVEL: process.env.TEST_LOG_LEVEL ?? 'silent',
     APP_URL: 'http://127.0.0.1:3999',
     ...overrides,
   });

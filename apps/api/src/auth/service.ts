@@ -10,19 +10,22 @@ import { burnPasswordCheck, checkPassword, hashPassword } from './passwords.js';
 
 const TOKEN_HOURS: Record<AuthTokenKind, number> = { password_reset: 1, invitation: 72 };
 
-export function toSessionUser(user: UserEntity): SessionUser {
+async function toSessionUser(db: DataSource, user: UserEntity): Promise<SessionUser> {
+  const grants = user.grants ?? [];
+  const siteIds = grants.map((g) => g.siteId).filter((x): x is string => !!x);
+  const sites: { id: string; name: string }[] = siteIds.length ? await db.query(`SELECT id, name FROM sites WHERE id = ANY($1)`, [siteIds]) : [];
   return {
     id: user.id,
     email: user.email,
     name: user.name,
-    roles: (user.grants ?? []).map((g) => ({ role: g.role, siteId: g.siteId })),
+    roles: grants.map((g) => ({ role: g.role, siteId: g.siteId, siteName: sites.find((s) => s.id === g.siteId)?.name ?? null })),
   };
 }
 
 /** The signed-in user with their grants, or null if the account is gone or deactivated. */
 export async function loadSessionUser(db: DataSource, id: string): Promise<SessionUser | null> {
   const user = await db.getRepository(UserEntity).findOne({ where: { id, active: true }, relations: { grants: true } });
-  return user ? toSessionUser(user) : null;
+  return user ? toSessionUser(db, user) : null;
 }
 
 const WRONG_CREDENTIALS = 'The e-mail address or password is not right';
@@ -36,7 +39,7 @@ export async function signIn({ db }: Deps, email: string, password: string): Pro
   }
   if (!(await checkPassword(password, user.passwordHash))) throw new AppError('unauthenticated', WRONG_CREDENTIALS);
   await db.getRepository(UserEntity).update(user.id, { lastSignInAt: new Date() });
-  return toSessionUser(user);
+  return toSessionUser(db, user);
 }
 
 const hashToken = (token: string) => createHash('sha256').update(token).digest('hex');

@@ -22,7 +22,7 @@ describe('sites', () => {
     const [mail] = await waitForMail(email);
     await request(t.app).post('/api/auth/password-reset/confirm').send({ token: linkToken(mail), password: 'principal-password' }).expect(200);
     const principal = await signIn(t.app, email, 'principal-password');
-    expect((await principal.agent.get('/api/auth/me')).body.user.roles).toEqual([{ role: 'principal', siteId: site.id }]);
+    expect((await principal.agent.get('/api/auth/me')).body.user.roles).toEqual([{ role: 'principal', siteId: site.id, siteName: 'Quarry Lane Elementary' }]);
     expect((await principal.agent.get(`/api/sites/${site.id}`)).status).toBe(200);
     expect((await s.lead.agent.get(`/api/studies/${s.studyId}`)).body.status).toBe('enrolling');
   });

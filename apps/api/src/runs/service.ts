@@ -172,7 +172,9 @@ export async function queueRun(deps: Deps, user: SessionUser, comparisonId: stri
  * so a job delivered twice (or to two workers) computes once.
  */
 export async function executeRun(db: DataSource, logger: Logger, runId: string): Promise<void> {
-  const [claimed]: RunRow[] = await db.query(`UPDATE runs SET state = 'running', started_at = now() WHERE id = $1 AND state = 'queued' RETURNING *`, [runId]);
+  // TypeORM answers an UPDATE … RETURNING with [rows, affected].
+  const [claimedRows]: [RunRow[], number] = await db.query(`UPDATE runs SET state = 'running', started_at = now() WHERE id = $1 AND state = 'queued' RETURNING *`, [runId]);
+  const claimed = claimedRows[0];
   if (!claimed) return;
   try {
     const results = await db.transaction('REPEATABLE READ', async (manager) => {

@@ -60,7 +60,7 @@ async function replaceGrants(manager: EntityManager, userId: string, grants: Rol
 export async function inviteUser(deps: Deps, actor: SessionUser, input: InviteUser): Promise<User> {
   const { user, token } = await deps.db.transaction(async (manager) => {
     if (await manager.existsBy(UserEntity, { email: input.email })) {
-      throw AppError.conflict('An account with this e-mail address already exists');
+      throw AppError.conflict('An account with this e-mail address already exists', { issues: [{ path: 'email', message: 'This address already has an account' }] });
     }
     await assertSitesExist(manager, input.roles);
     const created = await manager.save(manager.create(UserEntity, { email: input.email, name: input.name, passwordHash: null, active: true }));

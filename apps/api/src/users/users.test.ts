@@ -51,7 +51,7 @@ describe('accounts (admin)', () => {
     expect(accept.status).toBe(200);
     const teacher = await signIn(t.app, email, 'my-classroom-password');
     const me = await teacher.agent.get('/api/auth/me');
-    expect(me.body.user.roles).toEqual([{ role: 'teacher', siteId }]);
+    expect(me.body.user.roles).toEqual([{ role: 'teacher', siteId, siteName: 'Cedar Hollow Elementary' }]);
 
     expect((await audit(res.body.id)).map((e: { action: string }) => e.action)).toEqual(['user.invited', 'user.invitation_accepted']);
   });

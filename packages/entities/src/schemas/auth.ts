@@ -21,7 +21,8 @@ export const sessionUserSchema = z
     id: idSchema,
     email: z.string(),
     name: z.string(),
-    roles: z.array(roleGrantSchema),
+    /** Each grant, with the school's name for site-scoped ones. */
+    roles: z.array(roleGrantSchema.extend({ siteName: z.string().nullable() })),
   })
   .meta({ id: 'SessionUser' });
 export type SessionUser = z.infer<typeof sessionUserSchema>;

@@ -1,0 +1,204 @@
+import { createHash } from 'node:crypto';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { hedgesG, welchT, studentT } from '@evenhand/stats';
+import { signIn, startTestApp, type SignedIn, type TestApp } from '../../test/app.js';
+import { createStudy, enrolClassrooms, send, type StudySetup } from '../../test/fixtures.js';
+import { startQueue } from '../jobs/queue.js';
+import { startWorkers } from '../jobs/workers.js';
+import { createLogger } from '../logger.js';
+
+let t: TestApp;
+let s: StudySetup;
+let reviewer: SignedIn;
+const values: Record<string, number[]> = { intervention: [], comparison: [] };
+
+/** Writes scores straight into sheets (the outcome wave of the fixture opens later) and accepts them. */
+async function fill(classroomId: string, waveId: string, measureId: string, scores: (number | null)[], codePrefix: string) {
+  const [sheet] = await t.db.query(`SELECT id, study_id FROM score_sheets WHERE classroom_id = $1 AND wave_id = $2 AND measure_id = $3`, [classroomId, waveId, measureId]);
+  const codes = scores.map((_, i) => `${codePrefix}-${i}`);
+  await t.db.query(`INSERT INTO students (study_id, student_code, classroom_id) SELECT $1, unnest($2::varchar[]), $3 ON CONFLICT DO NOTHING`, [sheet.study_id, codes, classroomId]);
+  await t.db.query(
+    `INSERT INTO scores (sheet_id, study_id, classroom_id, wave_id, measure_id, student_code, score, left_study)
+     SELECT $1, $2, $3, $4, $5, c, v, v IS NULL FROM unnest($6::varchar[], $7::numeric[]) AS t(c, v)`,
+    [sheet.id, sheet.study_id, classroomId, waveId, measureId, codes, scores],
+  );
+  await t.db.query(`UPDATE score_sheets SET state = 'accepted' WHERE id = $1`, [sheet.id]);
+}
+
+async function waitFor(runId: string, who: SignedIn, states = ['finished', 'failed']) {
+  for (let i = 0; i < 100; i++) {
+    const res = await who.agent.get(`/api/runs/${runId}`);
+    if (states.includes(res.body.state)) return res.body;
+    await new Promise((r) => setTimeout(r, 200));
+  }
+  throw new Error(`run ${runId} did not finish`);
+}
+
+let primaryComparison: string;
+
+beforeAll(async () => {
+  t = await startTestApp({ workers: true });
+  s = await createStudy(t.app);
+  await send(s.lead, 'post', `/api/studies/${s.studyId}/measures`, { name: 'Extra', minScore: 0, maxScore: 10 }, 409); // sealed: no new measures
+  const { classrooms } = await enrolClassrooms(s, 2, 4);
+  await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draws`, { seed: 'runs-test', commit: true }, 201);
+  await s.coordinator.agent.get(`/api/studies/${s.studyId}/completion`).expect(200); // creates the score sheets
+  const arms: { id: string; arm: string }[] = await t.db.query(`SELECT id, arm FROM classrooms WHERE study_id = $1 ORDER BY name, id`, [s.studyId]);
+  let k = 0;
+  for (const c of classrooms) {
+    const arm = arms.find((a) => a.id === c.id)!.arm;
+    // Deterministic, varied scores with a modest difference between arms and one leaver per classroom.
+    const pre = Array.from({ length: 12 }, (_, i) => 60 + ((i * 37 + k * 11) % 41));
+    const post = pre.map((p, i) => (i === 11 ? null : Math.round((p * 0.8 + 25 + (arm === 'intervention' ? 6 : 0) + ((i * 13 + k * 7) % 17) - 8) * 10) / 10));
+    await fill(c.id, s.baselineId, s.measureId, pre, `K${k}`);
+    await fill(c.id, s.outcomeId, s.measureId, post, `K${k}`);
+    values[arm].push(...(post.filter((v) => v !== null) as number[]));
+    k++;
+  }
+  reviewer = await signIn(t.app, 'reviewer@evenhand.test');
+  const list = (await s.lead.agent.get(`/api/studies/${s.studyId}/comparisons`)).body.items;
+  primaryComparison = list.find((c: { isPrimary: boolean }) => c.isPrimary).id;
+});
+afterAll(() => t.close());
+
+describe('comparison runs', () => {
+  it('lists the sealed plan’s comparison as pre-specified and primary', async () => {
+    const list = (await s.lead.agent.get(`/api/studies/${s.studyId}/comparisons`)).body;
+    expect(list.items).toHaveLength(1);
+    expect(list.items[0]).toMatchObject({ prespecified: true, isPrimary: true, primaryTest: 'welch', covariate: 'baseline', latestRun: null });
+  });
+
+  let runId: string;
+  it('queues a confirmatory run (202) that a worker computes with the engine’s own numbers', async () => {
+    const res = await s.lead.agent.post(`/api/comparisons/${primaryComparison}/runs`).set('x-csrf-token', s.lead.csrf).send({ kind: 'confirmatory' });
+    expect(res.status).toBe(202);
+    expect(res.body.run.state).toBe('queued');
+    runId = res.body.run.id;
+    const run = await waitFor(runId, s.lead);
+    expect(run.state).toBe('finished');
+    const r = run.results;
+    // The engine is checked against SciPy in packages/stats; here the run must equal it on the raw rows.
+    const w = welchT(values.intervention, values.comparison);
+    expect(r.primary.t).toBeCloseTo(w.t, 9);
+    expect(r.primary.df).toBeCloseTo(w.df, 9);
+    expect(r.primary.p).toBeCloseTo(w.p, 12);
+    expect(r.sensitivity.student.t).toBeCloseTo(studentT(values.intervention, values.comparison).t, 9);
+    expect(r.effectSize.g).toBeCloseTo(hedgesG(values.intervention, values.comparison).g, 9);
+    expect(r.descriptives.map((d: { students: number }) => d.students)).toEqual([values.intervention.length, values.comparison.length]);
+    expect(r.clustering).toMatchObject({ iccSource: 'default', icc: 0.2 });
+    expect(r.sensitivity.ancova.n).toBe(values.intervention.length + values.comparison.length);
+    expect(r.sites).toHaveLength(2);
+    expect(r.pooled).not.toBeNull();
+    expect(r.diagnostics.leveneMedian.df2).toBe(values.intervention.length + values.comparison.length - 2);
+    expect(r.cautions.join(' ')).toMatch(/not the size or the importance/);
+    expect(run.dataSha256).toMatch(/^[0-9a-f]{64}$/);
+    expect(run.multiplicity).toMatchObject({ comparisons: 1, adjustedP: r.primary.p });
+  });
+
+  it('gives a bundle whose rows hash to the run’s data hash and recompute the same primary result', async () => {
+    const bundle = (await reviewer.agent.get(`/api/runs/${runId}/bundle`)).body;
+    expect(createHash('sha256').update(bundle.rows.join('\n')).digest('hex')).toBe(bundle.dataSha256);
+    const byArm: Record<string, number[]> = { intervention: [], comparison: [] };
+    for (const line of bundle.rows as string[]) {
+      const [, arm, code, outcome] = line.split(',');
+      expect(code).toMatch(/^K\d+-\d+$/);
+      byArm[arm].push(Number(outcome));
+    }
+    const again = welchT(byArm.intervention, byArm.comparison);
+    expect(again.t).toBeCloseTo(bundle.results.primary.t, 10);
+    expect(bundle.plan.version).toBe(1);
+    expect(bundle.draw.seed).toBe('runs-test');
+    expect(bundle.readme).toMatch(/SHA-256/);
+  });
+
+  it('hides unlocked runs from principals', async () => {
+    const principal = await signIn(t.app, 'principal1@evenhand.test');
+    expect((await principal.agent.get(`/api/runs/${runId}`)).status).toBe(404);
+  });
+
+  it('locks the run: inputs frozen in the API and in the database; a re-analysis needs a reason and stays unlocked', async () => {
+    const locked = await send(s.lead, 'post', `/api/runs/${runId}/lock`, {}, 200);
+    expect(locked.state).toBe('locked');
+    expect((await s.lead.agent.post(`/api/runs/${runId}/lock`).set('x-csrf-token', s.lead.csrf)).status).toBe(409);
+    await expect(t.db.query(`UPDATE runs SET results = '{}' WHERE id = $1`, [runId])).rejects.toThrow(/locked and cannot change/);
+    await expect(t.db.query(`UPDATE scores SET score = 0 WHERE study_id = $1 AND wave_id = $2`, [s.studyId, s.outcomeId])).rejects.toThrow(/locked by a confirmatory run/);
+    const noReason = await s.lead.agent.post(`/api/comparisons/${primaryComparison}/runs`).set('x-csrf-token', s.lead.csrf).send({ kind: 'confirmatory' });
+    expect(noReason.status).toBe(400);
+    const again = await s.lead.agent
+      .post(`/api/comparisons/${primaryComparison}/runs`)
+      .set('x-csrf-token', s.lead.csrf)
+      .send({ kind: 'confirmatory', reason: 'Re-analysis requested by the external reviewer.' });
+    expect(again.status).toBe(202);
+    const re = await waitFor(again.body.run.id, s.lead);
+    expect(re.results.primary.t).toBe(locked.results.primary.t);
+    expect((await s.lead.agent.post(`/api/runs/${re.id}/lock`).set('x-csrf-token', s.lead.csrf)).status).toBe(409);
+  });
+
+  it('shows a locked run to a principal with only their own school’s figures', async () => {
+    const [site] = await t.db.query(`SELECT site_id FROM classrooms WHERE study_id = $1 LIMIT 1`, [s.studyId]);
+    const email = `principal-${Date.now()}@example.org`;
+    await send(s.coordinator, 'patch', `/api/sites/${site.site_id}`, { principal: { email, name: 'P. Tester' } }, 200);
+    await t.db.query(`UPDATE users SET password_hash = (SELECT password_hash FROM users WHERE email = 'principal1@evenhand.test') WHERE email = $1`, [email]);
+    const principal = await signIn(t.app, email);
+    const run = (await principal.agent.get(`/api/runs/${runId}`)).body;
+    expect(run.state).toBe('locked');
+    expect(run.results.sites.every((x: { siteId: string }) => x.siteId === site.site_id)).toBe(true);
+  });
+
+  it('marks monitoring runs as interim and refuses to lock them', async () => {
+    const res = await send(s.lead, 'post', `/api/comparisons/${primaryComparison}/runs`, { kind: 'monitoring', reason: 'Interim look for the steering group.' }, 202);
+    const run = await waitFor(res.run.id, s.lead);
+    expect(run.results.cautions[0]).toMatch(/^Interim — not confirmatory/);
+    expect((await s.lead.agent.post(`/api/runs/${run.id}/lock`).set('x-csrf-token', s.lead.csrf)).status).toBe(409);
+  });
+
+  it('ends a run whose arm has one student as failed, with a clear message', async () => {
+    const other = await createStudy(t.app);
+    const { classrooms } = await enrolClassrooms(other, 1, 2);
+    await send(other.coordinator, 'post', `/api/studies/${other.studyId}/draws`, { commit: true }, 201);
+    await other.coordinator.agent.get(`/api/studies/${other.studyId}/completion`).expect(200);
+    const [a, b] = await t.db.query(`SELECT id FROM classrooms WHERE study_id = $1 ORDER BY arm`, [other.studyId]);
+    await fill(a.id, other.outcomeId, other.measureId, [50, 60, 70], 'F1');
+    await fill(b.id, other.outcomeId, other.measureId, [55], 'F2');
+    expect(classrooms).toHaveLength(2);
+    const [k] = (await other.lead.agent.get(`/api/studies/${other.studyId}/comparisons`)).body.items;
+    const res = await send(other.lead, 'post', `/api/comparisons/${k.id}/runs`, { kind: 'confirmatory' }, 202);
+    const run = await waitFor(res.run.id, other.lead);
+    expect(run.state).toBe('failed');
+    expect(run.error).toMatch(/arm has fewer than 2 students/);
+  });
+
+  it('runs each job exactly once with two worker processes on one database', async () => {
+    const logger = createLogger({ logLevel: 'silent' });
+    const second = await startQueue(t.databaseUrl, logger);
+    await startWorkers(second, t.db, logger, 0.5);
+    try {
+      const ids: string[] = [];
+      for (let i = 0; i < 6; i++) {
+        const res = await send(s.lead, 'post', `/api/comparisons/${primaryComparison}/runs`, { kind: 'monitoring', reason: `Parallel check number ${i}` }, 202);
+        ids.push(res.run.id);
+      }
+      for (const id of ids) expect((await waitFor(id, s.lead)).state).toBe('finished');
+      const jobs = await t.db.query(`SELECT data->>'runId' AS run, state, retry_count FROM pgboss.job WHERE name = 'comparison-run' AND data->>'runId' = ANY($1)`, [ids]);
+      expect(jobs).toHaveLength(ids.length);
+      expect(jobs.every((j: { state: string; retry_count: number }) => j.state === 'completed' && j.retry_count === 0)).toBe(true);
+    } finally {
+      await second.stop();
+    }
+  });
+});
+
+describe('checks', () => {
+  it('reports attrition against both boundaries and baseline equivalence on the analytic sample', async () => {
+    const res = await s.lead.agent.get(`/api/studies/${s.studyId}/checks`);
+    expect(res.status).toBe(200);
+    const m = res.body.measures[0];
+    // 8 classrooms × 12 students, one leaver each: 8.33 % overall, 0 differential.
+    expect(m.attrition.students.overall).toBeCloseTo(100 / 12, 10);
+    expect(m.attrition.students.differential).toBeCloseTo(0, 10);
+    expect(m.attrition.students.cautious).toMatchObject({ band: 'low', interpolated: true });
+    expect(['satisfies', 'requires-adjustment', 'fails']).toContain(m.baselineEquivalence.band);
+    expect(m.quality.find((q: { waveId: string }) => q.waveId === s.outcomeId)).toMatchObject({ accepted: 8, left: 8 });
+    expect(m.boxPlots.some((b: { siteId: string | null }) => b.siteId === null)).toBe(true);
+  });
+});
