@@ -693,11 +693,18 @@ def meta_cases():
         ci = r.conf_int(alpha=0.05)
         q = float(r.q)
         df = len(y) - 1
-        out.append({'id': name, 'estimates': [{'y': a, 'v': b} for a, b in zip(y, v)], 'expected': {
-            'fixed': {'estimate': float(r.mean_effect_fe), 'se': float(r.sd_eff_w_fe), 'ci': [float(ci[0][0]), float(ci[0][1])]},
-            'random': {'estimate': float(r.mean_effect_re), 'se': float(r.sd_eff_w_re), 'ci': [float(ci[1][0]), float(ci[1][1])],
-                       'tau2': float(r.tau2)},
-            'q': q, 'i2': float(r.i2), 'pQ': float(stats.chi2.sf(q, df))}})
+        fixed = {'estimate': float(r.mean_effect_fe), 'se': float(r.sd_eff_w_fe), 'ci': [float(ci[0][0]), float(ci[0][1])]}
+        random = {'estimate': float(r.mean_effect_re), 'se': float(r.sd_eff_w_re), 'ci': [float(ci[1][0]), float(ci[1][1])],
+                  'tau2': float(r.tau2)}
+        note = None
+        if r.tau2 < 0:
+            # statsmodels 0.13.5 leaves the DL moment estimate negative when Q < k − 1; DerSimonian & Laird (1986)
+            # truncate it at 0, which makes the random-effects result the fixed-effect one.
+            note = f'statsmodels tau2 = {float(r.tau2)!r} (not truncated); expected values use tau2 = 0'
+            random = dict(fixed, tau2=0.0)
+        out.append({'id': name, 'estimates': [{'y': a, 'v': b} for a, b in zip(y, v)], 'note': note, 'expected': {
+            'fixed': fixed, 'random': random,
+            'q': q, 'i2': max(0.0, float(r.i2)), 'pQ': float(stats.chi2.sf(q, df))}})
     return out
 
 

@@ -26,7 +26,8 @@ export function benjaminiHochberg(pValues: readonly number[], q = 0.05): Benjami
   let running = 1;
   for (let r = m - 1; r >= 0; r--) {
     const i = order[r];
-    running = Math.min(running, (m * pValues[i]) / (r + 1));
+    // p·(m/j) rather than m·p/j: m/j ≥ 1 exactly, so the adjusted value can never round below the raw one.
+    running = Math.min(running, pValues[i] * (m / (r + 1)));
     adjusted[i] = Math.min(1, running);
   }
   const rejected = adjusted.map((p) => p <= q);
