@@ -11,3 +11,4 @@ export * from './schemas/classrooms.js';
 export * from './schemas/draws.js';
 export * from './schemas/score-sheets.js';
 export * from './schemas/runs.js';
+export * from './schemas/checks.js';

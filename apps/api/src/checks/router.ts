@@ -1,5 +1,5 @@
 import type { OpenAPIRegistry } from '@asteasolutions/zod-to-openapi';
-import { studyParamsSchema } from '@evenhand/entities';
+import { studyChecksSchema, studyParamsSchema } from '@evenhand/entities';
 import type { Deps } from '../deps.js';
 import { ResourceRouter } from '../http/route.js';
 import { studyChecks } from './service.js';
@@ -14,7 +14,7 @@ export function checksRouter(deps: Deps, registry: OpenAPIRegistry) {
       access: ['research_lead', 'reviewer'],
       tag: 'Checks',
       params: studyParamsSchema,
-      responses: { 200: { description: 'The checks' } },
+      responses: { 200: { description: 'The checks', schema: studyChecksSchema } },
     },
     async ({ user, params }) => ({ body: await studyChecks(deps.db, user!, params.id) }),
   );
