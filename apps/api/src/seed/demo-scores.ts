@@ -16,14 +16,14 @@ async function writeScores(db: EntityManager, studyId: string): Promise<void> {
   const [already] = await db.query(`SELECT 1 FROM scores WHERE study_id = $1 LIMIT 1`, [studyId]);
   if (already) return;
   await ensureSheets(db, studyId);
-  const random = seedrandom('larkspur-valley-scores');
+  let random = seedrandom('larkspur-valley-scores');
   const normal = () => Math.sqrt(-2 * Math.log(1 - random())) * Math.cos(2 * Math.PI * random());
   const clamp = (x: number, lo: number, hi: number) => Math.min(hi, Math.max(lo, x));
 
   const classrooms: { id: string; name: string; site_code: string; grade: string; expected_size: number; arm: string; teacher_email: string }[] = await db.query(
     `SELECT c.id, c.name, s.code AS site_code, c.grade, c.expected_size, c.arm, u.email AS teacher_email
        FROM classrooms c JOIN sites s ON s.id = c.site_id JOIN users u ON u.id = c.teacher_id
-      WHERE c.study_id = $1 ORDER BY s.code, c.name`,
+      WHERE c.study_id = $1 ORDER BY c.arm, s.code, c.name`,
     [studyId],
   );
   const waves: { id: string; kind: string }[] = await db.query(`SELECT id, kind FROM waves WHERE study_id = $1`, [studyId]);
@@ -41,20 +41,26 @@ async function writeScores(db: EntityManager, studyId: string): Promise<void> {
     [`FRN|Room 3A|${engagement}`, 'missing'],
   ]);
 
+  // Each classroom draws from its own stream, keyed by its place within its arm, so the story is the same whichever
+  // classrooms the draw (seeded, but over fresh UUIDs) put in each arm.
   let pupil = 0;
+  const placeInArm = new Map<string, number>();
   for (const c of classrooms) {
+    const place = placeInArm.get(c.arm) ?? 0;
+    placeInArm.set(c.arm, place + 1);
+    random = seedrandom(`larkspur-valley-scores|${c.arm}|${place}`);
     const treated = c.arm === 'intervention';
-    const classEffect = { fluency: normal() * 11.6, engagement: normal() * 0.27 }; // ICC ≈ .15 of the SD 30 / 0.7
+    const classEffect = { fluency: normal() * 8, engagement: normal() * 0.2 }; // outcome ICC about .15
     const rows: Record<string, { code: string; score: number | null; left: boolean; note: string }[]> = {};
     for (let k = 0; k < c.expected_size; k++) {
       pupil++;
       const code = `LV-${String(pupil).padStart(4, '0')}`;
-      const gradeShift = c.grade === '4' ? 20 : 0;
-      const f0 = clamp(Math.round(82 + gradeShift + classEffect.fluency * 0.6 + normal() * 27), 0, 250);
+      const gradeShift = c.grade === '4' ? 8 : 0;
+      const f0 = clamp(Math.round(82 + gradeShift + classEffect.fluency * 0.5 + normal() * 27), 0, 250);
       const e0 = clamp(Math.round((3.2 + classEffect.engagement * 0.6 + normal() * 0.62) * 10) / 10, 1, 5);
       const left = random() < (treated ? 0.11 : 0.08);
-      const f1 = clamp(Math.round(0.75 * f0 + 42 + gradeShift * 0.25 + classEffect.fluency + (treated ? 7.5 : 0) + normal() * 19), 0, 250);
-      const e1 = clamp(Math.round((0.6 * e0 + 1.35 + classEffect.engagement + (treated ? 0.12 : 0) + normal() * 0.5) * 10) / 10, 1, 5);
+      const f1 = clamp(Math.round(0.75 * f0 + 42 + gradeShift * 0.25 + classEffect.fluency + (treated ? 8 : 0) + normal() * 19), 0, 250);
+      const e1 = clamp(Math.round((0.6 * e0 + 1.35 + classEffect.engagement + (treated ? 0.22 : 0) + normal() * 0.5) * 10) / 10, 1, 5);
       (rows[`${baseline}|${fluency}`] ??= []).push({ code, score: f0, left: false, note: '' });
       (rows[`${baseline}|${engagement}`] ??= []).push({ code, score: e0, left: false, note: '' });
       (rows[`${outcome}|${fluency}`] ??= []).push({ code, score: left ? null : f1, left, note: left ? 'moved to another district' : '' });

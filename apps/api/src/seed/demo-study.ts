@@ -9,6 +9,7 @@ import { amendPlan, saveDraft, sealPlan } from '../plans/service.js';
 import { enrolSite } from '../sites/service.js';
 import { createStudy } from '../studies/service.js';
 import { demoAccounts, demoSites } from './demo.js';
+import { seedDemoRuns } from './demo-runs.js';
 import { seedDemoScores } from './demo-scores.js';
 
 export const DEMO_STUDY_TITLE = 'Lantern Reading Routine in grades 3 and 4';
@@ -28,11 +29,12 @@ async function actor(deps: Deps, email: string): Promise<SessionUser> {
  */
 export async function seedDemoStudies(deps: Deps): Promise<boolean> {
   const existing = await deps.db.manager.findOneBy(StudyEntity, { title: DEMO_STUDY_TITLE });
+  const lead = await actor(deps, 'lead@evenhand.test');
   if (existing) {
     await seedDemoScores(deps.db, existing.id);
+    await seedDemoRuns(deps, lead, existing.id);
     return false;
   }
-  const lead = await actor(deps, 'lead@evenhand.test');
   const coordinator = await actor(deps, 'coordinator@evenhand.test');
 
   const study = await createStudy(deps.db, lead, {
@@ -106,6 +108,7 @@ export async function seedDemoStudies(deps: Deps): Promise<boolean> {
   }
   await drawAssignment(deps.db, coordinator, study.id, { seed: DEMO_DRAW_SEED, commit: true });
   await seedDemoScores(deps.db, study.id);
+  await seedDemoRuns(deps, lead, study.id);
 
   // A second study, still drafting, to show the planning calculator.
   const draft = await createStudy(deps.db, lead, {
