@@ -1,4 +1,5 @@
 import jstat from 'jstat';
+import * as ss from 'simple-statistics';
 import { describe, expect, it } from 'vitest';
 import { expectClose, fixture } from '../test/fixtures.js';
 import {
@@ -123,6 +124,15 @@ describe('the libraries we checked (why this file exists)', () => {
     const ref = D.normalSf.find(([z]) => z === 8.5)![1];
     expect(rel(jStat.normal.cdf(-8.5, 0, 1), ref)).toBeGreaterThan(1e-8);
     expect(rel(normalCdf(-8.5), ref)).toBeLessThan(1e-13);
+  });
+
+  it('simple-statistics normal functions are table/approximation based (errors 6e-8 to 4e-2); ours are exact to 1e-14', () => {
+    const tail3 = D.normalSf.find(([z]) => z === 3)![1];
+    expect(rel(ss.cumulativeStdNormalProbability(-3), tail3)).toBeGreaterThan(1e-3);
+    expect(rel(ss.probit(0.975), 1.959963984540054)).toBeGreaterThan(1e-4);
+    expect(rel(ss.errorFunction(0.5), 0.5204998778130465)).toBeGreaterThan(1e-8);
+    expect(rel(normalCdf(-3), tail3)).toBeLessThan(1e-14);
+    expect(rel(normalQuantile(0.975), 1.959963984540054)).toBeLessThan(1e-15);
   });
 
   it('jstat studentt.pdf fails at very large df; ours tends to the normal density', () => {
