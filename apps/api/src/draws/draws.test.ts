@@ -52,7 +52,8 @@ describe('the draw', () => {
   it('when a draw is committed twice, then the second is refused, and the database refuses any change to it', async () => {
     const s = await createStudy(t.app);
     await enrolClassrooms(s, 1, 2);
-    await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draws`, { commit: true }, 201);
+    const committed = await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draws`, { commit: true }, 201);
+    expect((await s.lead.agent.get(`/api/studies/${s.studyId}`)).body.drawCommittedAt).toBe(committed.committedAt);
     const again = await s.coordinator.agent.post(`/api/studies/${s.studyId}/draws`).set('x-csrf-token', s.coordinator.csrf).send({ commit: true });
     expect(again.status).toBe(409);
     await expect(t.db.query(`UPDATE draws SET seed = 'other' WHERE study_id = $1`, [s.studyId])).rejects.toThrow(/cannot be changed/);

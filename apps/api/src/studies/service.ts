@@ -17,6 +17,7 @@ interface StudyRow {
   created_at: Date;
   plan_version: number | null;
   sealed_at: Date | null;
+  draw_committed_at: Date | null;
   sites: number;
   classrooms: number;
   measures: number;
@@ -26,6 +27,7 @@ interface StudyRow {
 const summaryColumns = `
   (SELECT max(version) FROM plan_versions pv WHERE pv.study_id = s.id) AS plan_version,
   (SELECT created_at FROM plan_versions pv WHERE pv.study_id = s.id AND version = 1) AS sealed_at,
+  (SELECT committed_at FROM draws d WHERE d.study_id = s.id) AS draw_committed_at,
   (SELECT count(*)::int FROM study_sites x WHERE x.study_id = s.id) AS sites,
   (SELECT count(*)::int FROM classrooms x WHERE x.study_id = s.id) AS classrooms,
   (SELECT count(*)::int FROM measures x WHERE x.study_id = s.id) AS measures,
@@ -42,6 +44,7 @@ function toStudy(r: StudyRow): Study {
     quasiExperimental: r.quasi_experimental,
     planVersion: r.plan_version,
     sealedAt: r.sealed_at ? new Date(r.sealed_at).toISOString() : null,
+    drawCommittedAt: r.draw_committed_at ? new Date(r.draw_committed_at).toISOString() : null,
     counts: { sites: r.sites, classrooms: r.classrooms, measures: r.measures, waves: r.waves },
     createdAt: new Date(r.created_at).toISOString(),
   };

@@ -12,7 +12,7 @@ describe('studies', () => {
   it('when a lead starts a study, then it is drafting, audited, and listed with its counts', async () => {
     const lead = await signIn(t.app, 'lead@evenhand.test');
     const study = await send(lead, 'post', '/api/studies', { title: 'Number talks', intervention: 'Daily number talks', comparisonCondition: 'Usual warm-up' }, 201);
-    expect(study).toMatchObject({ status: 'drafting', unitOfAssignment: 'classroom', quasiExperimental: false, planVersion: null, counts: { sites: 0, classrooms: 0, measures: 0, waves: 0 } });
+    expect(study).toMatchObject({ status: 'drafting', unitOfAssignment: 'classroom', quasiExperimental: false, planVersion: null, drawCommittedAt: null, counts: { sites: 0, classrooms: 0, measures: 0, waves: 0 } });
     const list = await lead.agent.get('/api/studies');
     expect(list.body.items.map((s: { id: string }) => s.id)).toContain(study.id);
     const [audit] = await t.db.query(`SELECT action FROM audit_events WHERE study_id = $1`, [study.id]);

@@ -46,6 +46,8 @@ export const studySchema = z
     quasiExperimental: z.boolean(),
     planVersion: z.number().int().nullable(),
     sealedAt: z.iso.datetime({ offset: true }).nullable(),
+    /** When the draw was committed; null before. */
+    drawCommittedAt: z.iso.datetime({ offset: true }).nullable(),
     counts: z.object({ sites: z.number().int(), classrooms: z.number().int(), measures: z.number().int(), waves: z.number().int() }),
     createdAt: z.iso.datetime({ offset: true }),
   })
