@@ -1,6 +1,7 @@
 import type { OpenAPIRegistry } from '@asteasolutions/zod-to-openapi';
 import { z } from 'zod';
 import {
+  completionMatrixSchema,
   idParamsSchema,
   pageOf,
   reminderResultSchema,
@@ -126,7 +127,7 @@ export function scoreSheetsRouter(deps: Deps, registry: OpenAPIRegistry) {
       access: ['coordinator', 'research_lead'],
       tag,
       params: studyParamsSchema,
-      responses: { 200: { description: 'The matrix' } },
+      responses: { 200: { description: 'The matrix', schema: completionMatrixSchema } },
     },
     async ({ user, params }) => ({ body: await completionMatrix(deps.db, user!, params.id) }),
   );

@@ -1,6 +1,7 @@
+import { completionMatrixSchema } from '@evenhand/entities';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { signIn, startTestApp, type SignedIn, type TestApp } from '../../test/app.js';
-import { createStudy, enrolClassrooms, send, type StudySetup } from '../../test/fixtures.js';
+import { createStudy, enrolClassrooms, samplePlan, send, type StudySetup } from '../../test/fixtures.js';
 import { mailTo, waitForMail } from '../../test/mail.js';
 
 let t: TestApp;
@@ -34,7 +35,7 @@ describe('teacher entry by form', () => {
     const mine = (await teacher1.agent.get(`/api/score-sheets?studyId=${s.studyId}`)).body;
     expect(mine.total).toBe(2);
     expect(new Set(mine.items.map((x: { teacherName: string }) => x.teacherName))).toEqual(new Set(['Tomasz Ferreira']));
-    expect(mine.items.find((x: { id: string }) => x.id === sheet1)).toMatchObject({ state: 'open', editable: true, minScore: 0, maxScore: 200 });
+    expect(mine.items.find((x: { id: string }) => x.id === sheet1)).toMatchObject({ state: 'open', editable: true, minScore: 0, maxScore: 200, summaryAllowed: false });
     expect(mine.items.find((x: { id: string }) => x.id === outcomeSheet1).editable).toBe(false); // its wave has not opened
   });
 
@@ -193,12 +194,25 @@ describe('CSV upload', () => {
     const res = await teacher2.agent.put(`/api/score-sheets/${sheet2}/summary`).set('x-csrf-token', teacher2.csrf).send({ summary: { n: 20, mean: 50, sd: 10 } });
     expect(res.status).toBe(409);
   });
+
+  it('when the plan allows class summaries, then the sheet says so and takes one', async () => {
+    const other = await createStudy(t.app, { seal: false });
+    await send(other.lead, 'put', `/api/studies/${other.studyId}/plan`, { ...samplePlan(other.measureId, other.outcomeId), summaryEntryAllowed: true }, 200);
+    await send(other.lead, 'post', `/api/studies/${other.studyId}/plan/seal`, {}, 200);
+    await enrolClassrooms(other, 1, 1, ['teacher3@evenhand.test']);
+    const teacher3 = await signIn(t.app, 'teacher3@evenhand.test');
+    const [sheet] = (await teacher3.agent.get(`/api/score-sheets?studyId=${other.studyId}&waveId=${other.baselineId}`)).body.items;
+    expect(sheet).toMatchObject({ summaryAllowed: true, mode: 'rows' });
+    const saved = await send(teacher3, 'put', `/api/score-sheets/${sheet.id}/summary`, { summary: { n: 21, mean: 88.5, sd: 14 } }, 200);
+    expect(saved).toMatchObject({ mode: 'summary', summary: { n: 21, mean: 88.5, sd: 14 }, counts: { rows: 21, scored: 21, left: 0 } });
+  });
 });
 
 describe('the coordinator’s completion matrix and reminders', () => {
   it('shows every classroom × wave × measure with its state and counts', async () => {
     const res = await s.coordinator.agent.get(`/api/studies/${s.studyId}/completion`);
     expect(res.status).toBe(200);
+    expect(completionMatrixSchema.parse(res.body)).toEqual(res.body);
     expect(res.body.waves.map((w: { name: string }) => w.name)).toEqual(['Autumn', 'Spring']);
     expect(res.body.rows).toHaveLength(2);
     const room2 = res.body.rows.find((r: { teacherName: string }) => r.teacherName === 'Priya Lindqvist');

@@ -40,6 +40,7 @@ interface SheetRow {
   scored: number;
   left_count: number;
   wave_open: boolean;
+  summary_allowed: boolean;
 }
 
 // Counts come from the scores table; the window is judged on the database's calendar date.
@@ -48,6 +49,8 @@ const sheetSelect = `
          w.name AS wave_name, w.kind AS wave_kind, to_char(w.opens_on, 'YYYY-MM-DD') AS opens_on, to_char(w.closes_on, 'YYYY-MM-DD') AS closes_on,
          m.name AS measure_name, m.min_score, m.max_score,
          (current_date BETWEEN w.opens_on AND w.closes_on) AS wave_open,
+         coalesce((SELECT (pv.content->>'summaryEntryAllowed')::boolean FROM plan_versions pv
+                    WHERE pv.study_id = sh.study_id ORDER BY pv.version DESC LIMIT 1), false) AS summary_allowed,
          coalesce(k.rows, 0)::int AS rows, coalesce(k.scored, 0)::int AS scored, coalesce(k.left_count, 0)::int AS left_count
     FROM score_sheets sh
     JOIN classrooms c ON c.id = sh.classroom_id
@@ -86,6 +89,7 @@ function toSheet(r: SheetRow): ScoreSheet {
     maxScore: Number(r.max_score),
     state: r.state,
     mode: r.mode,
+    summaryAllowed: r.summary_allowed,
     editable: editable(r),
     locked: r.locked,
     returnReasons: r.return_reasons,

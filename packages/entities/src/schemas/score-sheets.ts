@@ -69,6 +69,8 @@ export const scoreSheetSchema = z
     state: sheetStateSchema,
     /** Rows entered per student, or a class summary. */
     mode: z.enum(['rows', 'summary']),
+    /** Whether the study's plan lets this sheet be a class summary (n, mean, SD) instead of rows. */
+    summaryAllowed: z.boolean(),
     /** Whether a person may still edit it now (state, wave window, lock). */
     editable: z.boolean(),
     locked: z.boolean(),
@@ -106,5 +108,37 @@ export const uploadResultSchema = z.object({
   preview: z.array(scoreRowSchema),
   sheet: scoreSheetSchema.nullable(),
 });
+
+/** One cell of the completion matrix: a classroom's sheet for one wave and measure. */
+export const completionCellSchema = z.object({
+  sheetId: idSchema,
+  waveId: idSchema,
+  measureId: idSchema,
+  state: sheetStateSchema,
+  rows: z.number().int(),
+  left: z.number().int(),
+});
+export type CompletionCell = z.infer<typeof completionCellSchema>;
+
+export const completionRowSchema = z.object({
+  classroomId: idSchema,
+  classroomName: z.string(),
+  siteId: idSchema,
+  siteName: z.string(),
+  teacherName: z.string(),
+  arm: armSchema.nullable(),
+  cells: z.array(completionCellSchema),
+});
+export type CompletionRow = z.infer<typeof completionRowSchema>;
+
+export const completionMatrixSchema = z
+  .object({
+    waves: z.array(z.object({ id: idSchema, name: z.string() })),
+    measures: z.array(z.object({ id: idSchema, name: z.string() })),
+    rows: z.array(completionRowSchema),
+    totals: z.record(sheetStateSchema, z.number().int()),
+  })
+  .meta({ id: 'CompletionMatrix' });
+export type CompletionMatrix = z.infer<typeof completionMatrixSchema>;
 
 export const reminderResultSchema = z.object({ teachersReminded: z.number().int(), sheetsMissing: z.number().int() });
