@@ -10,7 +10,8 @@ import { startQueue, type JobQueue } from '../src/jobs/queue.js';
 import { startWorkers } from '../src/jobs/workers.js';
 import { createMailer } from '../src/mail/mailer.js';
 import { DEMO_PASSWORD } from '../src/seed/demo.js';
-import { TEMPLATE_DB, urlForDatabase, withAdminClient } from './database.js';
+import { inject } from 'vitest';
+import { urlForDatabase, withAdminClient } from './database.js';
 
 export interface TestApp {
   app: Express;
@@ -37,7 +38,7 @@ export function testConfig(databaseUrl: string, overrides: Record<string, string
 /** A fresh database cloned from the template and the real app on top of it. */
 export async function startTestApp(overrides: { databaseUrl?: string; workers?: boolean } = {}): Promise<TestApp> {
   const name = `evenhand_t_${randomBytes(6).toString('hex')}`;
-  await withAdminClient((c) => c.query(`CREATE DATABASE ${name} TEMPLATE ${TEMPLATE_DB}`));
+  await withAdminClient((c) => c.query(`CREATE DATABASE ${name} TEMPLATE ${inject('templateDb')}`));
   const databaseUrl = overrides.databaseUrl ?? urlForDatabase(name);
   const config = testConfig(databaseUrl);
   const db = createDataSource(databaseUrl);

@@ -1,7 +1,5 @@
 import pg from 'pg';
 
-export const TEMPLATE_DB = 'evenhand_test_template';
-
 /** The test cluster's URL, set by `npm test` (scripts/test.sh), which also starts the cluster. */
 export function testDatabaseUrl(): URL {
   const url = process.env.TEST_DATABASE_URL;
