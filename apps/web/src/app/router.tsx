@@ -10,8 +10,18 @@ import { AccountsPage, accountsLoader, accountsShouldRevalidate } from '@/featur
 import { AuditPage, auditLoader, auditShouldRevalidate } from '@/features/audit/routes';
 import { sessionQueryOptions } from '@/features/auth/api';
 import { ForgotPasswordPage, SetPasswordPage, SignInPage } from '@/features/auth/routes';
-import { MyClassesPage, MySchoolPage, NoRolePage, StudiesPage } from '@/features/home/routes';
-import { areas } from '@/lib/navigation';
+import { MyClassesPage, MySchoolPage, NoRolePage } from '@/features/home/routes';
+import {
+  ComingSoonTab,
+  StudiesPage,
+  studiesLoader,
+  studiesShouldRevalidate,
+  StudyLayout,
+  studyIndexLoader,
+  studyLoader,
+  StudyOverviewPage,
+} from '@/features/studies/routes';
+import { areas, studyTabs } from '@/lib/navigation';
 
 export function createRoutes(queryClient: QueryClient): RouteObject[] {
   return [
@@ -49,7 +59,37 @@ export function createRoutes(queryClient: QueryClient): RouteObject[] {
                 { index: true, loader: homeLoader(queryClient), Component: NoRolePage },
                 { path: areas.myClasses.path, loader: guardArea(queryClient, areas.myClasses), Component: MyClassesPage },
                 { path: areas.mySchool.path, loader: guardArea(queryClient, areas.mySchool), Component: MySchoolPage },
-                { path: areas.studies.path, loader: guardArea(queryClient, areas.studies), Component: StudiesPage },
+                {
+                  path: areas.studies.path,
+                  loader: guardArea(queryClient, areas.studies, studiesLoader(queryClient)),
+                  shouldRevalidate: studiesShouldRevalidate,
+                  Component: StudiesPage,
+                },
+                {
+                  // A study's tabs: each guarded by the role table in lib/navigation.ts (studyTabs).
+                  // To add a tab's page, replace its ComingSoonTab and give it a loader through guardArea.
+                  path: `${areas.studies.path}/:studyId`,
+                  loader: guardArea(queryClient, areas.studies, studyLoader(queryClient)),
+                  Component: StudyLayout,
+                  children: [
+                    {
+                      // Inside the study, so a refused tab keeps the study's header and tabs.
+                      errorElement: <RouteError />,
+                      children: [
+                        { index: true, loader: studyIndexLoader },
+                        { path: studyTabs.overview.path, loader: guardArea(queryClient, studyTabs.overview), Component: StudyOverviewPage },
+                        { path: studyTabs.plan.path, loader: guardArea(queryClient, studyTabs.plan), Component: ComingSoonTab },
+                        { path: studyTabs.sites.path, loader: guardArea(queryClient, studyTabs.sites), Component: ComingSoonTab },
+                        { path: studyTabs.draw.path, loader: guardArea(queryClient, studyTabs.draw), Component: ComingSoonTab },
+                        { path: studyTabs.scoreSheets.path, loader: guardArea(queryClient, studyTabs.scoreSheets), Component: ComingSoonTab },
+                        { path: studyTabs.checks.path, loader: guardArea(queryClient, studyTabs.checks), Component: ComingSoonTab },
+                        { path: studyTabs.comparisons.path, loader: guardArea(queryClient, studyTabs.comparisons), Component: ComingSoonTab },
+                        { path: studyTabs.digests.path, loader: guardArea(queryClient, studyTabs.digests), Component: ComingSoonTab },
+                        { path: studyTabs.audit.path, loader: guardArea(queryClient, studyTabs.audit), Component: ComingSoonTab },
+                      ],
+                    },
+                  ],
+                },
                 {
                   path: areas.accounts.path,
                   loader: guardArea(queryClient, areas.accounts, accountsLoader(queryClient)),

@@ -1,6 +1,6 @@
 import type { Role, RoleGrant } from '@evenhand/entities';
 import { describe, expect, it } from 'vitest';
-import { homePathFor, navigationFor, safeReturnPath, signInPath } from '@/lib/navigation';
+import { homePathFor, navigationFor, safeReturnPath, signInPath, studyPath, studyTabsFor } from '@/lib/navigation';
 
 const site = '7f1c1f0e-3b1a-4c59-9a56-2f3b7b9d0a11';
 const grant = (role: Role): RoleGrant => ({ role, siteId: role === 'teacher' || role === 'principal' ? site : null });
@@ -28,7 +28,7 @@ describe('homePathFor', () => {
 
 describe('navigationFor', () => {
   it.each([
-    ['admin', ['Accounts', 'Audit']],
+    ['admin', ['Studies', 'Accounts', 'Audit']],
     ['coordinator', ['Studies']],
     ['research_lead', ['Studies', 'Audit']],
     ['teacher', ['My classes']],
@@ -40,6 +40,22 @@ describe('navigationFor', () => {
 
   it('lists an area once for a person whose roles both open it', () => {
     expect(navigationFor([grant('admin'), grant('research_lead')]).map((a) => a.label)).toEqual(['Studies', 'Accounts', 'Audit']);
+  });
+});
+
+describe('studyTabsFor', () => {
+  it.each([
+    ['admin', ['Overview', 'Audit']],
+    ['coordinator', ['Overview', 'Plan', 'Sites & classes', 'Draw', 'Score sheets', 'Digests']],
+    ['research_lead', ['Overview', 'Plan', 'Sites & classes', 'Draw', 'Score sheets', 'Checks', 'Comparisons', 'Digests', 'Audit']],
+    ['reviewer', ['Overview', 'Plan', 'Sites & classes', 'Draw', 'Checks', 'Comparisons', 'Audit']],
+    ['teacher', []],
+  ] as const)('shows a %s the tabs %j', (role, labels) => {
+    expect(studyTabsFor([grant(role)]).map((t) => t.label)).toEqual(labels);
+  });
+
+  it('builds the address of a tab', () => {
+    expect(studyPath('s1', 'scoreSheets')).toBe('/studies/s1/score-sheets');
   });
 });
 

@@ -52,3 +52,7 @@ export function TextInput({ className = '', ...props }: ComponentProps<'input'>)
 export function Select({ className = '', ...props }: ComponentProps<'select'>) {
   return <select className={`${controlClasses} pr-8 ${className}`} {...props} />;
 }
+
+export function TextArea({ className = '', ...props }: ComponentProps<'textarea'>) {
+  return <textarea className={`${controlClasses} ${className}`} {...props} />;
+}

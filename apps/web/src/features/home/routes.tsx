@@ -35,28 +35,6 @@ export function MySchoolPage() {
   );
 }
 
-export function StudiesPage() {
-  return (
-    <>
-      <PageHeader
-        title="Studies"
-        description="Each study tests one intervention against a comparison condition, across the district's schools."
-      />
-      <EmptyState title="No studies yet">
-        <p>
-          Every study will be listed here with its state — from drafting its plan to reporting its result — and open onto its
-          plan, sites and classes, draw, score sheets, checks and comparisons.
-        </p>
-        <p>
-          Studies cannot be created in this version of Evenhand yet. When they can, the research lead starts a study and seals
-          its plan; the coordinator then enrols schools and classrooms and runs the draw; reviewers can read a study once its
-          plan is sealed.
-        </p>
-      </EmptyState>
-    </>
-  );
-}
-
 /** Home for an account whose roles were all taken away: it can sign in but opens nothing. */
 export function NoRolePage() {
   return (
