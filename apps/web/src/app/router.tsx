@@ -9,6 +9,7 @@ import { Loading } from '@/components/ui/spinner';
 import { AccountsPage, accountsLoader, accountsShouldRevalidate } from '@/features/accounts/routes';
 import { AuditPage, auditLoader, auditShouldRevalidate } from '@/features/audit/routes';
 import { sessionQueryOptions } from '@/features/auth/api';
+import { ChecksPage, checksLoader } from '@/features/checks/routes';
 import { ForgotPasswordPage, SetPasswordPage, SignInPage } from '@/features/auth/routes';
 import { MyClassesPage, MySchoolPage, NoRolePage } from '@/features/home/routes';
 import {
@@ -82,7 +83,7 @@ export function createRoutes(queryClient: QueryClient): RouteObject[] {
                         { path: studyTabs.sites.path, loader: guardArea(queryClient, studyTabs.sites), Component: ComingSoonTab },
                         { path: studyTabs.draw.path, loader: guardArea(queryClient, studyTabs.draw), Component: ComingSoonTab },
                         { path: studyTabs.scoreSheets.path, loader: guardArea(queryClient, studyTabs.scoreSheets), Component: ComingSoonTab },
-                        { path: studyTabs.checks.path, loader: guardArea(queryClient, studyTabs.checks), Component: ComingSoonTab },
+                        { path: studyTabs.checks.path, loader: guardArea(queryClient, studyTabs.checks, checksLoader(queryClient)), Component: ChecksPage },
                         { path: studyTabs.comparisons.path, loader: guardArea(queryClient, studyTabs.comparisons), Component: ComingSoonTab },
                         { path: studyTabs.digests.path, loader: guardArea(queryClient, studyTabs.digests), Component: ComingSoonTab },
                         { path: studyTabs.audit.path, loader: guardArea(queryClient, studyTabs.audit), Component: ComingSoonTab },
