@@ -54,8 +54,11 @@ describe('routing', () => {
   });
 
   it("takes a signed-in teacher from the start page to My classes", async () => {
-    const { router } = openAt('/', answer(200, { user: teacher }));
+    const { router } = openAt('/', answer(200, { user: teacher }), {
+      '/api/studies?limit=100&offset=0': () => answer(200, { items: [], total: 0 }),
+    });
     expect(await screen.findByRole('heading', { level: 1, name: 'My classes' })).toBeInTheDocument();
+    expect(screen.getByText('None of your classes is in a study yet')).toBeInTheDocument();
     expect(router.state.location.pathname).toBe('/my-classes');
     expect(screen.getByRole('button', { name: 'Sign out' })).toBeInTheDocument();
   });

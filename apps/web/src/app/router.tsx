@@ -11,7 +11,17 @@ import { AuditPage, auditLoader, auditShouldRevalidate } from '@/features/audit/
 import { sessionQueryOptions } from '@/features/auth/api';
 import { ChecksPage, checksLoader } from '@/features/checks/routes';
 import { ForgotPasswordPage, SetPasswordPage, SignInPage } from '@/features/auth/routes';
-import { MyClassesPage, MySchoolPage, NoRolePage } from '@/features/home/routes';
+import { MySchoolPage, NoRolePage } from '@/features/home/routes';
+import {
+  MyClassesPage,
+  myClassesLoader,
+  ScoreSheetPage,
+  scoreSheetLoader,
+  StudyScoreSheetsPage,
+  studyScoreSheetsLoader,
+  StudySheetPage,
+  studySheetLoader,
+} from '@/features/score-sheets/routes';
 import {
   ComingSoonTab,
   StudiesPage,
@@ -58,7 +68,8 @@ export function createRoutes(queryClient: QueryClient): RouteObject[] {
               errorElement: <RouteError />,
               children: [
                 { index: true, loader: homeLoader(queryClient), Component: NoRolePage },
-                { path: areas.myClasses.path, loader: guardArea(queryClient, areas.myClasses), Component: MyClassesPage },
+                { path: areas.myClasses.path, loader: guardArea(queryClient, areas.myClasses, myClassesLoader(queryClient)), Component: MyClassesPage },
+                { path: areas.scoreSheet.path, loader: guardArea(queryClient, areas.scoreSheet, scoreSheetLoader(queryClient)), Component: ScoreSheetPage },
                 { path: areas.mySchool.path, loader: guardArea(queryClient, areas.mySchool), Component: MySchoolPage },
                 {
                   path: areas.studies.path,
@@ -82,7 +93,16 @@ export function createRoutes(queryClient: QueryClient): RouteObject[] {
                         { path: studyTabs.plan.path, loader: guardArea(queryClient, studyTabs.plan), Component: ComingSoonTab },
                         { path: studyTabs.sites.path, loader: guardArea(queryClient, studyTabs.sites), Component: ComingSoonTab },
                         { path: studyTabs.draw.path, loader: guardArea(queryClient, studyTabs.draw), Component: ComingSoonTab },
-                        { path: studyTabs.scoreSheets.path, loader: guardArea(queryClient, studyTabs.scoreSheets), Component: ComingSoonTab },
+                        {
+                          path: studyTabs.scoreSheets.path,
+                          loader: guardArea(queryClient, studyTabs.scoreSheets, studyScoreSheetsLoader(queryClient)),
+                          Component: StudyScoreSheetsPage,
+                        },
+                        {
+                          path: `${studyTabs.scoreSheets.path}/:sheetId`,
+                          loader: guardArea(queryClient, studyTabs.scoreSheets, studySheetLoader(queryClient)),
+                          Component: StudySheetPage,
+                        },
                         { path: studyTabs.checks.path, loader: guardArea(queryClient, studyTabs.checks, checksLoader(queryClient)), Component: ChecksPage },
                         { path: studyTabs.comparisons.path, loader: guardArea(queryClient, studyTabs.comparisons), Component: ComingSoonTab },
                         { path: studyTabs.digests.path, loader: guardArea(queryClient, studyTabs.digests), Component: ComingSoonTab },

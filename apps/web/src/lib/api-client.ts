@@ -48,7 +48,14 @@ function readCookie(name: string): string | undefined {
   return entry === undefined ? undefined : decodeURIComponent(entry.slice(name.length + 1));
 }
 
-async function errorFrom(response: Response): Promise<ApiError> {
+/** The header a state-changing request carries: the readable CSRF cookie, sent back (double submit). */
+export function csrfHeader(): Record<string, string> {
+  const csrf = readCookie(CSRF_COOKIE);
+  return csrf ? { [CSRF_HEADER]: csrf } : {};
+}
+
+/** The ApiError for a failed answer, from the API's error shape or, failing that, its status. */
+export async function errorFrom(response: Response): Promise<ApiError> {
   const text = await response.text().catch(() => '');
   let json: unknown;
   try {

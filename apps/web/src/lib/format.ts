@@ -60,3 +60,21 @@ export function formatAlpha(alpha: number): string {
 export function formatCount(n: number): string {
   return n.toLocaleString('en-US');
 }
+
+const time = new Intl.DateTimeFormat(undefined, { timeStyle: 'short' });
+
+export function formatTime(value: Date | string): string {
+  return time.format(typeof value === 'string' ? new Date(value) : value);
+}
+
+/** A calendar day given as YYYY-MM-DD (a wave's dates), read in local time so it never shifts by a day. */
+export function formatDay(day: string): string {
+  const [y, m, d] = day.split('-').map(Number);
+  return date.format(new Date(y, m - 1, d));
+}
+
+/** Today as YYYY-MM-DD in local time, to compare with calendar days. */
+export function today(): string {
+  const now = new Date();
+  return `${now.getFullYear()}-${String(now.getMonth() + 1).padStart(2, '0')}-${String(now.getDate()).padStart(2, '0')}`;
+}

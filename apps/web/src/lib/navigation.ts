@@ -16,6 +16,8 @@ export const areas = {
   studies: { path: '/studies', label: 'Studies', roles: ['coordinator', 'research_lead', 'reviewer', 'admin'], homeFor: ['coordinator', 'research_lead', 'reviewer'] },
   accounts: { path: '/accounts', label: 'Accounts', roles: ['admin'] },
   audit: { path: '/audit', label: 'Audit', roles: ['admin', 'research_lead', 'reviewer'] },
+  // Not in the navigation: a teacher opens a sheet from My classes, the others from a study's Score sheets.
+  scoreSheet: { path: '/score-sheets/:sheetId', label: 'Score sheet', roles: ['teacher', 'coordinator', 'research_lead'] },
 } satisfies Record<string, Area>;
 
 /** In navigation order; a person's home is the first area their roles open. */

@@ -1,24 +1,6 @@
 import { EmptyState } from '@/components/ui/empty-state';
 import { PageHeader } from '@/components/ui/page-header';
 
-export function MyClassesPage() {
-  return (
-    <>
-      <PageHeader title="My classes" description="The classrooms you teach that take part in a study." />
-      <EmptyState title="None of your classes is in a study yet">
-        <p>
-          When the study coordinator adds one of your classrooms to a study, it appears here with a score sheet for each
-          data-collection window: a pretest before the intervention starts and a posttest at the end.
-        </p>
-        <p>
-          There is nothing for you to do yet. Once a score sheet opens, you will enter each student's score by student code —
-          never a student's name — in a form or from a CSV file.
-        </p>
-      </EmptyState>
-    </>
-  );
-}
-
 export function MySchoolPage() {
   return (
     <>
