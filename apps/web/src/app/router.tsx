@@ -10,6 +10,8 @@ import { AccountsPage, accountsLoader, accountsShouldRevalidate } from '@/featur
 import { AuditPage, auditLoader, auditShouldRevalidate } from '@/features/audit/routes';
 import { sessionQueryOptions } from '@/features/auth/api';
 import { ChecksPage, checksLoader } from '@/features/checks/routes';
+import { ComparisonsPage, comparisonsLoader, RunResultsPage, runLoader } from '@/features/comparisons/routes';
+import { reportLoader, StudyReportPage } from '@/features/report/routes';
 import { ForgotPasswordPage, SetPasswordPage, SignInPage } from '@/features/auth/routes';
 import { MySchoolPage, NoRolePage } from '@/features/home/routes';
 import {
@@ -104,7 +106,22 @@ export function createRoutes(queryClient: QueryClient): RouteObject[] {
                           Component: StudySheetPage,
                         },
                         { path: studyTabs.checks.path, loader: guardArea(queryClient, studyTabs.checks, checksLoader(queryClient)), Component: ChecksPage },
-                        { path: studyTabs.comparisons.path, loader: guardArea(queryClient, studyTabs.comparisons), Component: ComingSoonTab },
+                        {
+                          path: studyTabs.comparisons.path,
+                          loader: guardArea(queryClient, studyTabs.comparisons, comparisonsLoader(queryClient)),
+                          Component: ComparisonsPage,
+                        },
+                        {
+                          path: `${studyTabs.comparisons.path}/runs/:runId`,
+                          loader: guardArea(queryClient, studyTabs.comparisons, runLoader(queryClient)),
+                          Component: RunResultsPage,
+                        },
+                        {
+                          // The printable report reads the same results as the Comparisons tab, for the same roles.
+                          path: 'report',
+                          loader: guardArea(queryClient, studyTabs.comparisons, reportLoader(queryClient)),
+                          Component: StudyReportPage,
+                        },
                         { path: studyTabs.digests.path, loader: guardArea(queryClient, studyTabs.digests), Component: ComingSoonTab },
                         { path: studyTabs.audit.path, loader: guardArea(queryClient, studyTabs.audit), Component: ComingSoonTab },
                       ],

@@ -1,0 +1,90 @@
+import {
+  comparisonSchema,
+  measureSchema,
+  pageOf,
+  runSchema,
+  waveSchema,
+  type CreateComparison,
+  type QueueRun,
+  type Run,
+} from '@evenhand/entities';
+import { queryOptions, useMutation, useQueryClient } from '@tanstack/react-query';
+import { z } from 'zod';
+import { apiRequest } from '@/lib/api-client';
+
+const comparisonsPageSchema = pageOf(comparisonSchema);
+const queuedRunSchema = z.object({ run: runSchema });
+
+// A comparison has no single read of its own; its runs do, so runs are this feature's details.
+export const comparisonKeys = {
+  all: ['comparisons'] as const,
+  lists: () => [...comparisonKeys.all, 'list'] as const,
+  list: (studyId: string) => [...comparisonKeys.lists(), studyId] as const,
+  details: () => [...comparisonKeys.all, 'run'] as const,
+  detail: (runId: string) => [...comparisonKeys.details(), runId] as const,
+  choices: (studyId: string) => [...comparisonKeys.all, 'choices', studyId] as const,
+};
+
+export function comparisonsQueryOptions(studyId: string) {
+  return queryOptions({
+    queryKey: comparisonKeys.list(studyId),
+    queryFn: ({ signal }) => apiRequest(`/studies/${studyId}/comparisons`, { schema: comparisonsPageSchema, signal }),
+  });
+}
+
+export const inProgress = (state: Run['state'] | undefined) => state === 'queued' || state === 'running';
+
+/** One run; asked again every second and a half while it waits or runs, until it finishes or fails. */
+export function runQueryOptions(runId: string) {
+  return queryOptions({
+    queryKey: comparisonKeys.detail(runId),
+    queryFn: ({ signal }) => apiRequest(`/runs/${runId}`, { schema: runSchema, signal }),
+    refetchInterval: (query) => (inProgress(query.state.data?.state) ? 1_500 : false),
+  });
+}
+
+/** The measures and the waves after baseline an exploratory comparison can use. */
+export function comparisonChoicesQueryOptions(studyId: string) {
+  return queryOptions({
+    queryKey: comparisonKeys.choices(studyId),
+    queryFn: async ({ signal }) => {
+      const [measures, waves] = await Promise.all([
+        apiRequest(`/studies/${studyId}/measures`, { schema: pageOf(measureSchema), signal }),
+        apiRequest(`/studies/${studyId}/waves`, { schema: pageOf(waveSchema), signal }),
+      ]);
+      return { measures: measures.items, waves: waves.items.filter((w) => w.kind !== 'baseline') };
+    },
+    staleTime: 5 * 60_000,
+  });
+}
+
+export function useQueueRun(studyId: string) {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: ({ comparisonId, input }: { comparisonId: string; input: QueueRun }) =>
+      apiRequest(`/comparisons/${comparisonId}/runs`, { method: 'POST', body: input, schema: queuedRunSchema }),
+    onSuccess: ({ run }) => {
+      queryClient.setQueryData(comparisonKeys.detail(run.id), run);
+      return queryClient.invalidateQueries({ queryKey: comparisonKeys.list(studyId) });
+    },
+  });
+}
+
+export function useLockRun(studyId: string) {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: (runId: string) => apiRequest(`/runs/${runId}/lock`, { method: 'POST', schema: runSchema }),
+    onSuccess: (run) => {
+      queryClient.setQueryData(comparisonKeys.detail(run.id), run);
+      return queryClient.invalidateQueries({ queryKey: comparisonKeys.list(studyId) });
+    },
+  });
+}
+
+export function useCreateComparison(studyId: string) {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: (input: CreateComparison) => apiRequest(`/studies/${studyId}/comparisons`, { method: 'POST', body: input, schema: comparisonSchema }),
+    onSuccess: () => queryClient.invalidateQueries({ queryKey: comparisonKeys.list(studyId) }),
+  });
+}

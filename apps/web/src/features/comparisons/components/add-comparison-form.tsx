@@ -1,0 +1,127 @@
+import { createComparisonSchema, type CreateComparison, type Measure, type Wave } from '@evenhand/entities';
+import { zodResolver } from '@hookform/resolvers/zod';
+import { useState } from 'react';
+import { useForm } from 'react-hook-form';
+import { Button } from '@/components/ui/button';
+import { Field, Select, TextInput } from '@/components/ui/field';
+import { FormProblemAlert } from '@/components/ui/form-problem-alert';
+import { applyApiError, type FormProblem } from '@/lib/form-errors';
+
+interface AddComparisonFormProps {
+  measures: Measure[];
+  /** Waves after baseline: an outcome is compared after the intervention began. */
+  waves: Wave[];
+  onAdd: (input: CreateComparison) => Promise<unknown>;
+  onCancel: () => void;
+}
+
+const emptyToUndefined = (v: unknown) => (typeof v === 'string' && v.trim() === '' ? undefined : v);
+const emptyToNull = (v: unknown) => (typeof v === 'string' && v.trim() === '' ? null : v);
+
+const fields = ['measureId', 'waveId', 'label', 'unitOfAnalysis', 'primaryTest', 'covariate', 'scheduleCron'] as const;
+
+/** An analysis the sealed plan did not name. It is marked exploratory everywhere and can only run as a monitoring check. */
+export function AddComparisonForm({ measures, waves, onAdd, onCancel }: AddComparisonFormProps) {
+  const [problem, setProblem] = useState<FormProblem | null>(null);
+  const {
+    register,
+    handleSubmit,
+    setError,
+    formState: { errors, isSubmitting },
+  } = useForm({
+    resolver: zodResolver(createComparisonSchema),
+    defaultValues: {
+      measureId: measures[0]?.id ?? '',
+      waveId: waves[0]?.id ?? '',
+      label: undefined,
+      unitOfAnalysis: 'student' as const,
+      primaryTest: 'welch' as const,
+      covariate: 'baseline' as const,
+      scheduleCron: null,
+    },
+  });
+
+  const onSubmit = handleSubmit(async (input) => {
+    setProblem(null);
+    try {
+      await onAdd(input);
+    } catch (error) {
+      setProblem(applyApiError(error, setError, fields));
+    }
+  });
+
+  return (
+    <form noValidate onSubmit={onSubmit} className="space-y-5">
+      {problem && <FormProblemAlert problem={problem} />}
+      <div className="grid gap-5 sm:grid-cols-2">
+        <Field label="Measure" error={errors.measureId?.message}>
+          {(control) => (
+            <Select {...control} {...register('measureId')}>
+              {measures.map((m) => (
+                <option key={m.id} value={m.id}>
+                  {m.name}
+                </option>
+              ))}
+            </Select>
+          )}
+        </Field>
+        <Field label="Wave" hint="Outcome and follow-up waves only." error={errors.waveId?.message}>
+          {(control) => (
+            <Select {...control} {...register('waveId')}>
+              {waves.map((w) => (
+                <option key={w.id} value={w.id}>
+                  {w.name}
+                </option>
+              ))}
+            </Select>
+          )}
+        </Field>
+      </div>
+      <Field label="Name (optional)" hint="Left empty, it is named after the measure and wave, marked exploratory." error={errors.label?.message}>
+        {(control) => <TextInput {...control} autoComplete="off" {...register('label', { setValueAs: emptyToUndefined })} />}
+      </Field>
+      <div className="grid gap-5 sm:grid-cols-3">
+        <Field label="Compare" error={errors.unitOfAnalysis?.message}>
+          {(control) => (
+            <Select {...control} {...register('unitOfAnalysis')}>
+              <option value="student">Students</option>
+              <option value="classroom">Classroom averages</option>
+              <option value="school">School averages</option>
+            </Select>
+          )}
+        </Field>
+        <Field label="Main test" error={errors.primaryTest?.message}>
+          {(control) => (
+            <Select {...control} {...register('primaryTest')}>
+              <option value="welch">Welch’s t test</option>
+              <option value="student">Student’s pooled t test</option>
+            </Select>
+          )}
+        </Field>
+        <Field label="Baseline adjustment" error={errors.covariate?.message}>
+          {(control) => (
+            <Select {...control} {...register('covariate')}>
+              <option value="baseline">Adjust for the baseline score</option>
+              <option value="none">No adjustment</option>
+            </Select>
+          )}
+        </Field>
+      </div>
+      <Field
+        label="Automatic monitoring checks (optional)"
+        hint="Five cron fields, e.g. “0 2 * * *” for 02:00 every night while the wave is open. Leave empty to run by hand."
+        error={errors.scheduleCron?.message}
+      >
+        {(control) => <TextInput {...control} autoComplete="off" className="font-mono" {...register('scheduleCron', { setValueAs: emptyToNull })} />}
+      </Field>
+      <div className="flex flex-wrap gap-3">
+        <Button type="submit" busy={isSubmitting}>
+          Add the exploratory comparison
+        </Button>
+        <Button variant="secondary" onClick={onCancel}>
+          Cancel
+        </Button>
+      </div>
+    </form>
+  );
+}

@@ -1,0 +1,112 @@
+import type { Comparison, Run, RunResults } from '@evenhand/entities';
+import { Badge } from '@/components/ui/badge';
+import { formatAlpha, formatInterval, formatNumber, formatPStatement, formatSigned } from '@/lib/format';
+import { confidenceLabel, iccSourceWords, resultHeadline, testNames } from '@/lib/result-wording';
+
+/** Hedges' g with its 95% CI and the improvement index: shown beside every p-value of the page. */
+export function EffectSize({ results }: { results: RunResults }) {
+  const e = results.effectSize;
+  return (
+    <>
+      Hedges’ g = {formatNumber(e.g, 2)} (95% CI {formatInterval(e.ci, 2)}); improvement index {formatSigned(e.improvementIndex, 1)} percentile
+      points
+    </>
+  );
+}
+
+/** The plain-language headline, then the primary test as registered, with its effect size beside it. */
+export function PrimaryResult({ results, unit }: { results: RunResults; unit: Comparison['unitOfAnalysis'] }) {
+  const h = resultHeadline(results, unit);
+  const p = results.primary;
+  const e = results.effectSize;
+  return (
+    <section aria-labelledby="primary-result" className="rounded-lg border border-accent/50 bg-surface p-6">
+      <div className="flex flex-wrap items-center gap-3">
+        <h3 id="primary-result" className="text-xl font-semibold">
+          The primary result
+        </h3>
+        <Badge tone={h.met ? 'accent' : 'muted'}>{h.met ? 'Meets the pre-registered test' : 'Does not meet the pre-registered test'}</Badge>
+      </div>
+      <p className="mt-3 max-w-prose text-xl leading-snug" data-testid="headline">
+        {h.finding}
+      </p>
+      {h.favours && <p className="mt-2 max-w-prose">{h.favours}</p>}
+      <p className="mt-2 max-w-prose font-semibold">{h.verdict}</p>
+      {h.clustering && <p className="mt-2 max-w-prose">{h.clustering}</p>}
+
+      <div className="mt-5 grid gap-4 md:grid-cols-2">
+        <div className="rounded-md bg-sunken px-4 py-3">
+          <p className="text-sm font-semibold text-ink-muted">{testNames[p.test]}, as registered</p>
+          <p className="mt-1 tabular-nums" data-testid="primary-test">
+            t = {formatNumber(p.t, 2)}, df = {formatNumber(p.df, 1)}, {formatPStatement(p.p)}; difference {formatSigned(p.meanDifference, 2)} (
+            {confidenceLabel(p.confidence)} CI {formatInterval(p.ci, 2)})
+          </p>
+          <p className="mt-1 text-sm text-ink-muted">
+            Alpha {formatAlpha(results.alpha)}, {p.alternative === 'two-sided' ? 'two-sided' : `one-sided (${p.alternative})`}.
+          </p>
+        </div>
+        <div className="rounded-md bg-sunken px-4 py-3">
+          <p className="text-sm font-semibold text-ink-muted">Effect size</p>
+          <p className="mt-1 tabular-nums" data-testid="effect-size">
+            <EffectSize results={results} />
+          </p>
+          <p className="mt-1 text-sm text-ink-muted">
+            {e.substantivelyImportant
+              ? 'At least 0.25 standard deviations: large enough to count as substantively important, whatever the p-value.'
+              : 'Smaller than 0.25 standard deviations, the usual mark of a substantively important effect.'}
+          </p>
+        </div>
+      </div>
+    </section>
+  );
+}
+
+/** The significance of the difference when classrooms (or schools) were assigned but students analysed. */
+export function ClusteringResult({ results }: { results: RunResults }) {
+  const c = results.clustering;
+  if (!c) return null;
+  return (
+    <section aria-labelledby="clustering" className="space-y-2">
+      <h3 id="clustering" className="text-xl font-semibold">
+        Allowing for classrooms
+      </h3>
+      <p className="max-w-prose text-ink-muted">
+        Classrooms were assigned to the arms, but students were compared. Students in one classroom resemble each other, so the plain t
+        test overstates the evidence; this correction (Hedges, 2007) widens it by the intraclass correlation (ICC). The effect size itself is
+        unchanged.
+      </p>
+      <p className="tabular-nums" data-testid="clustering">
+        Clustering-corrected: t = {formatNumber(c.tAdjusted, 2)}, df h = {formatNumber(c.df, 1)}, {formatPStatement(c.p)} —{' '}
+        {c.significant ? 'statistically significant' : 'not statistically significant'} at alpha {formatAlpha(results.alpha)}; <EffectSize results={results} />.
+      </p>
+      <p className="text-sm text-ink-muted">
+        ICC {formatNumber(c.icc, 2)}, {iccSourceWords[c.iccSource]}
+        {c.observedIcc !== null && c.iccSource !== 'observed' ? ` (observed in these data: ${formatNumber(c.observedIcc, 2)})` : ''}; average
+        classroom size {formatNumber(c.averageClusterSize, 1)}; design effect {formatNumber(c.designEffect, 2)}.
+      </p>
+    </section>
+  );
+}
+
+/** Benjamini–Hochberg across the study's confirmatory comparisons; monitoring runs have none. */
+export function MultiplicityResult({ run }: { run: Run }) {
+  if (run.kind !== 'confirmatory' || !run.multiplicity || !run.results) return null;
+  const m = run.multiplicity;
+  return (
+    <section aria-labelledby="multiplicity" className="space-y-2">
+      <h3 id="multiplicity" className="text-xl font-semibold">
+        Across the study’s confirmatory comparisons
+      </h3>
+      <p className="tabular-nums" data-testid="multiplicity">
+        Benjamini–Hochberg adjusted {formatPStatement(m.adjustedP)} across {m.comparisons} confirmatory{' '}
+        {m.comparisons === 1 ? 'comparison' : 'comparisons'} —{' '}
+        {m.rejected ? `still significant at alpha ${formatAlpha(run.results.alpha)}` : `not significant at alpha ${formatAlpha(run.results.alpha)} once adjusted`}
+        ; <EffectSize results={run.results} />.
+      </p>
+      <p className="max-w-prose text-sm text-ink-muted">
+        Testing several measures raises the chance that one looks significant by luck. The adjustment controls the share of false
+        discoveries among the study’s confirmatory comparisons, using each one’s locked (else latest finished) confirmatory run.
+      </p>
+    </section>
+  );
+}

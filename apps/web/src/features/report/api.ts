@@ -1,0 +1,45 @@
+import { comparisonSchema, pageOf, planSchema, runSchema, studyChecksSchema, type Comparison, type Run } from '@evenhand/entities';
+import { queryOptions } from '@tanstack/react-query';
+import { apiRequest } from '@/lib/api-client';
+
+// The report is one read-only document per study, assembled from several reads: there is no list to key.
+export const reportKeys = {
+  all: ['report'] as const,
+  details: () => [...reportKeys.all, 'detail'] as const,
+  detail: (studyId: string) => [...reportKeys.details(), studyId] as const,
+};
+
+/** The run a report shows for a comparison: its locked run, else its latest run if that finished. */
+export function reportedRunId(c: Comparison): string | null {
+  if (c.lockedRunId) return c.lockedRunId;
+  return c.latestRun && c.latestRun.state === 'finished' ? c.latestRun.id : null;
+}
+
+export interface ReportedComparison {
+  comparison: Comparison;
+  run: Run | null;
+}
+
+async function fetchReport(studyId: string, signal: AbortSignal) {
+  const [plan, comparisons, checks] = await Promise.all([
+    apiRequest(`/studies/${studyId}/plan`, { schema: planSchema, signal }),
+    apiRequest(`/studies/${studyId}/comparisons`, { schema: pageOf(comparisonSchema), signal }),
+    apiRequest(`/studies/${studyId}/checks`, { schema: studyChecksSchema, signal }),
+  ]);
+  const reported: ReportedComparison[] = await Promise.all(
+    comparisons.items.map(async (comparison) => {
+      const runId = reportedRunId(comparison);
+      return { comparison, run: runId ? await apiRequest(`/runs/${runId}`, { schema: runSchema, signal }) : null };
+    }),
+  );
+  return { plan, checks, comparisons: reported };
+}
+
+export type StudyReport = Awaited<ReturnType<typeof fetchReport>>;
+
+export function studyReportQueryOptions(studyId: string) {
+  return queryOptions({
+    queryKey: reportKeys.detail(studyId),
+    queryFn: ({ signal }) => fetchReport(studyId, signal),
+  });
+}

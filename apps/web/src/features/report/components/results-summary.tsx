@@ -1,0 +1,102 @@
+import * as Plot from '@observablehq/plot';
+import { useMemo } from 'react';
+import { Badge } from '@/components/ui/badge';
+import { Chart, chartColors } from '@/components/ui/chart';
+import { FigureTable } from '@/components/ui/figure-table';
+import type { ReportedComparison } from '@/features/report/api';
+import { formatCount, formatInterval, formatNumber, formatP, formatSigned } from '@/lib/format';
+
+function runStatus({ comparison, run }: ReportedComparison) {
+  if (!run) return <span className="text-ink-muted">No finished run yet</span>;
+  if (run.state === 'locked') return <Badge tone="accent">Locked</Badge>;
+  if (run.kind === 'monitoring') return <Badge tone="caution">Interim — not confirmatory</Badge>;
+  return <Badge tone="muted">{comparison.prespecified ? 'Finished, not locked' : 'Finished'}</Badge>;
+}
+
+/** Every comparison with its effect size and 95% CI: pre-specified first, exploratory marked. */
+export function ResultsTable({ items }: { items: ReportedComparison[] }) {
+  return (
+    <FigureTable
+      caption="Results of every comparison"
+      hideCaption
+      columns={[
+        { key: 'comparison', header: 'Comparison' },
+        { key: 'status', header: 'Result' },
+        { key: 'n', header: 'Students (I / C)', numeric: true },
+        { key: 'difference', header: 'Difference (CI)', numeric: true },
+        { key: 'g', header: 'Hedges’ g (95% CI)', numeric: true },
+        { key: 'p', header: 'p', numeric: true },
+        { key: 'clustered', header: 'p, clustering-corrected', numeric: true },
+        { key: 'bh', header: 'p, Benjamini–Hochberg', numeric: true },
+      ]}
+      rows={items.map((item) => {
+        const r = item.run?.results;
+        const students = r?.descriptives.map((d) => formatCount(d.students)).join(' / ');
+        return {
+          id: item.comparison.id,
+          comparison: (
+            <>
+              {item.comparison.label}
+              <span className="mt-1 flex flex-wrap gap-1">
+                {item.comparison.prespecified ? <Badge tone="accent">Pre-specified</Badge> : <Badge tone="caution">Exploratory</Badge>}
+                {item.comparison.isPrimary && <Badge tone="muted">Primary outcome</Badge>}
+              </span>
+            </>
+          ),
+          status: runStatus(item),
+          n: students ?? '—',
+          difference: r ? `${formatSigned(r.primary.meanDifference, 2)} ${formatInterval(r.primary.ci, 2)}` : '—',
+          g: r ? `${formatNumber(r.effectSize.g, 2)} ${formatInterval(r.effectSize.ci, 2)}` : '—',
+          p: r ? formatP(r.primary.p) : '—',
+          clustered: r?.clustering ? formatP(r.clustering.p) : '—',
+          bh: item.run?.kind === 'confirmatory' && item.run.multiplicity ? formatP(item.run.multiplicity.adjustedP) : '—',
+        };
+      })}
+    />
+  );
+}
+
+/** The comparisons' effect sizes side by side: a dot and its 95% CI per comparison. */
+export function EffectSizeChart({ items }: { items: ReportedComparison[] }) {
+  const rows = useMemo(
+    () =>
+      items
+        .filter((i) => i.run?.results)
+        .map((i) => ({
+          label: `${i.comparison.label}${i.comparison.prespecified ? '' : ' (exploratory)'}`,
+          g: i.run!.results!.effectSize.g,
+          lo: i.run!.results!.effectSize.ci[0],
+          hi: i.run!.results!.effectSize.ci[1],
+          kind: i.comparison.prespecified ? 'Pre-specified' : 'Exploratory',
+        })),
+    [items],
+  );
+  const plot = useMemo(
+    () =>
+      (width: number): Plot.PlotOptions => ({
+        width,
+        height: 70 + 40 * rows.length,
+        marginLeft: Math.min(360, width / 2),
+        marginBottom: 42,
+        x: { label: 'Hedges’ g (intervention − comparison), 95% CI', labelAnchor: 'center', labelArrow: 'none', grid: true, nice: true },
+        y: { domain: rows.map((r) => r.label), label: null, tickFormat: (d: string) => (d.length > 48 ? `${d.slice(0, 46)}…` : d) },
+        color: { domain: ['Pre-specified', 'Exploratory'], range: [chartColors.intervention, chartColors.comparison], legend: true },
+        marks: [
+          Plot.ruleX([0], { stroke: chartColors.muted, strokeDasharray: '4 3' }),
+          Plot.ruleY(rows, { y: 'label', x1: 'lo', x2: 'hi', stroke: 'kind', strokeWidth: 2 }),
+          Plot.dot(rows, { y: 'label', x: 'g', fill: 'kind', r: 6 }),
+        ],
+      }),
+    [rows],
+  );
+  if (rows.length === 0) return null;
+  return (
+    <Chart
+      plot={plot}
+      summary={`Effect sizes of ${rows.length} comparisons with their 95% confidence intervals: ${rows
+        .map((r) => `${r.label}, g ${formatNumber(r.g, 2)} from ${formatNumber(r.lo, 2)} to ${formatNumber(r.hi, 2)}`)
+        .join('; ')}.`}
+      caption="Each dot is a comparison’s Hedges’ g with its 95% confidence interval; right of the dashed line favours the intervention arm. The same numbers are in the table above."
+    />
+  );
+}
