@@ -13,7 +13,12 @@ import { ChecksPage, checksLoader } from '@/features/checks/routes';
 import { ComparisonsPage, comparisonsLoader, RunResultsPage, runLoader } from '@/features/comparisons/routes';
 import { reportLoader, StudyReportPage } from '@/features/report/routes';
 import { ForgotPasswordPage, SetPasswordPage, SignInPage } from '@/features/auth/routes';
-import { MySchoolPage, NoRolePage } from '@/features/home/routes';
+import { DigestsPage, digestsLoader, digestsShouldRevalidate, EmailPreferencesPage } from '@/features/digests/routes';
+import { NoRolePage } from '@/features/home/routes';
+import { MySchoolPage, mySchoolLoader } from '@/features/my-school/routes';
+import { DrawPage, drawLoader } from '@/features/draw/routes';
+import { PlanPage, planLoader } from '@/features/plan/routes';
+import { SitesPage, sitesLoader } from '@/features/sites/routes';
 import {
   MyClassesPage,
   myClassesLoader,
@@ -56,6 +61,8 @@ export function createRoutes(queryClient: QueryClient): RouteObject[] {
             { path: 'sign-in', Component: SignInPage },
             { path: 'forgot-password', Component: ForgotPasswordPage },
             { path: 'set-password', Component: SetPasswordPage },
+            // Opened from a digest's links, signed in or not.
+            { path: 'email-preferences', Component: EmailPreferencesPage },
           ],
         },
         {
@@ -72,7 +79,7 @@ export function createRoutes(queryClient: QueryClient): RouteObject[] {
                 { index: true, loader: homeLoader(queryClient), Component: NoRolePage },
                 { path: areas.myClasses.path, loader: guardArea(queryClient, areas.myClasses, myClassesLoader(queryClient)), Component: MyClassesPage },
                 { path: areas.scoreSheet.path, loader: guardArea(queryClient, areas.scoreSheet, scoreSheetLoader(queryClient)), Component: ScoreSheetPage },
-                { path: areas.mySchool.path, loader: guardArea(queryClient, areas.mySchool), Component: MySchoolPage },
+                { path: areas.mySchool.path, loader: guardArea(queryClient, areas.mySchool, mySchoolLoader(queryClient)), Component: MySchoolPage },
                 {
                   path: areas.studies.path,
                   loader: guardArea(queryClient, areas.studies, studiesLoader(queryClient)),
@@ -92,9 +99,9 @@ export function createRoutes(queryClient: QueryClient): RouteObject[] {
                       children: [
                         { index: true, loader: studyIndexLoader },
                         { path: studyTabs.overview.path, loader: guardArea(queryClient, studyTabs.overview), Component: StudyOverviewPage },
-                        { path: studyTabs.plan.path, loader: guardArea(queryClient, studyTabs.plan), Component: ComingSoonTab },
-                        { path: studyTabs.sites.path, loader: guardArea(queryClient, studyTabs.sites), Component: ComingSoonTab },
-                        { path: studyTabs.draw.path, loader: guardArea(queryClient, studyTabs.draw), Component: ComingSoonTab },
+                        { path: studyTabs.plan.path, loader: guardArea(queryClient, studyTabs.plan, planLoader(queryClient)), Component: PlanPage },
+                        { path: studyTabs.sites.path, loader: guardArea(queryClient, studyTabs.sites, sitesLoader(queryClient)), Component: SitesPage },
+                        { path: studyTabs.draw.path, loader: guardArea(queryClient, studyTabs.draw, drawLoader(queryClient)), Component: DrawPage },
                         {
                           path: studyTabs.scoreSheets.path,
                           loader: guardArea(queryClient, studyTabs.scoreSheets, studyScoreSheetsLoader(queryClient)),
@@ -122,7 +129,12 @@ export function createRoutes(queryClient: QueryClient): RouteObject[] {
                           loader: guardArea(queryClient, studyTabs.comparisons, reportLoader(queryClient)),
                           Component: StudyReportPage,
                         },
-                        { path: studyTabs.digests.path, loader: guardArea(queryClient, studyTabs.digests), Component: ComingSoonTab },
+                        {
+                          path: studyTabs.digests.path,
+                          loader: guardArea(queryClient, studyTabs.digests, digestsLoader(queryClient)),
+                          shouldRevalidate: digestsShouldRevalidate,
+                          Component: DigestsPage,
+                        },
                         { path: studyTabs.audit.path, loader: guardArea(queryClient, studyTabs.audit), Component: ComingSoonTab },
                       ],
                     },

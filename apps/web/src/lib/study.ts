@@ -1,4 +1,4 @@
-import { pageOf, studySchema, type Arm, type Study, type StudyStatus, type UnitOfAssignment } from '@evenhand/entities';
+import { classroomSchema, pageOf, studySchema, type Arm, type Study, type StudyStatus, type UnitOfAssignment } from '@evenhand/entities';
 import { keepPreviousData, queryOptions, useSuspenseQuery } from '@tanstack/react-query';
 import { useParams } from 'react-router-dom';
 import { apiRequest } from '@/lib/api-client';
@@ -68,3 +68,16 @@ export const unitLabels: Record<UnitOfAssignment, { singular: string; plural: st
 };
 
 export const armLabels: Record<Arm, string> = { intervention: 'Intervention', comparison: 'Comparison' };
+
+const classroomsPageSchema = pageOf(classroomSchema);
+
+/**
+ * The study's classrooms (teachers see their own, principals their school's). Keyed under the study,
+ * so whatever invalidates the study — a draw, a reassignment — refreshes them too.
+ */
+export function studyClassroomsQueryOptions(studyId: string) {
+  return queryOptions({
+    queryKey: [...studyKeys.detail(studyId), 'classrooms'] as const,
+    queryFn: ({ signal }) => apiRequest(`/studies/${studyId}/classrooms`, { schema: classroomsPageSchema, signal }),
+  });
+}

@@ -1,11 +1,12 @@
 import type { ReactNode } from 'react';
 
-type Tone = 'error' | 'success' | 'info';
+type Tone = 'error' | 'success' | 'info' | 'caution';
 
 const tones: Record<Tone, string> = {
   error: 'border-danger/50 bg-danger-soft text-ink',
   success: 'border-accent/40 bg-accent-soft text-ink',
   info: 'border-line bg-sunken text-ink',
+  caution: 'border-caution/50 bg-caution-soft text-ink',
 };
 
 /** Errors interrupt (role="alert"); confirmations and notes wait their turn (role="status"). */

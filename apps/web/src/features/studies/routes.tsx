@@ -244,7 +244,7 @@ export function StudyOverviewPage() {
               <li>{study.drawCommittedAt ? `The draw was committed on ${formatDateTime(study.drawCommittedAt)}.` : 'The draw has not been run yet.'}</li>
             </ul>
             {study.quasiExperimental && (
-              <Alert tone="info" title="Quasi-experimental">
+              <Alert tone="caution" title="Quasi-experimental">
                 A classroom was moved to the other arm by hand after the random draw. Results must show baseline equivalence
                 before anyone reads them as the effect of the intervention.
               </Alert>

@@ -1,0 +1,206 @@
+import {
+  createMeasureSchema,
+  createWaveSchema,
+  measureKinds,
+  waveKinds,
+  type CreateMeasure,
+  type CreateWave,
+  type Measure,
+  type Wave,
+} from '@evenhand/entities';
+import { zodResolver } from '@hookform/resolvers/zod';
+import { useState } from 'react';
+import { useForm } from 'react-hook-form';
+import { Button } from '@/components/ui/button';
+import { Field, Select, TextInput } from '@/components/ui/field';
+import { FigureTable } from '@/components/ui/figure-table';
+import { FormProblemAlert } from '@/components/ui/form-problem-alert';
+import { formatDay } from '@/lib/format';
+import { applyApiError, type FormProblem } from '@/lib/form-errors';
+import { plainMessages } from '@/lib/form-messages';
+
+const kindLabels: Record<Measure['kind'], string> = { achievement: 'Achievement', behaviour: 'Behaviour' };
+const waveKindLabels: Record<Wave['kind'], string> = { baseline: 'Baseline', outcome: 'Outcome', 'follow-up': 'Follow-up' };
+
+export function MeasuresList({ measures }: { measures: Measure[] }) {
+  if (measures.length === 0) return <p className="text-ink-muted">No measures yet.</p>;
+  return (
+    <FigureTable
+      caption="Measures"
+      hideCaption
+      columns={[
+        { key: 'name', header: 'Measure' },
+        { key: 'range', header: 'Score range', numeric: true },
+        { key: 'direction', header: 'Better scores are' },
+        { key: 'kind', header: 'Kind' },
+      ]}
+      rows={measures.map((m) => ({
+        id: m.id,
+        name: m.name,
+        range: `${m.minScore} to ${m.maxScore}`,
+        direction: m.higherIsBetter ? 'Higher' : 'Lower',
+        kind: kindLabels[m.kind],
+      }))}
+    />
+  );
+}
+
+export function WavesList({ waves }: { waves: Wave[] }) {
+  if (waves.length === 0) return <p className="text-ink-muted">No waves yet.</p>;
+  return (
+    <FigureTable
+      caption="Waves"
+      hideCaption
+      columns={[
+        { key: 'name', header: 'Wave' },
+        { key: 'kind', header: 'Kind' },
+        { key: 'opens', header: 'Opens' },
+        { key: 'closes', header: 'Closes' },
+      ]}
+      rows={waves.map((w) => ({ id: w.id, name: w.name, kind: waveKindLabels[w.kind], opens: formatDay(w.opensOn), closes: formatDay(w.closesOn) }))}
+    />
+  );
+}
+
+export function AddMeasureForm({ onAdd }: { onAdd: (input: CreateMeasure) => Promise<unknown> }) {
+  const [problem, setProblem] = useState<FormProblem | null>(null);
+  const [added, setAdded] = useState<string | null>(null);
+  const {
+    register,
+    handleSubmit,
+    setError,
+    reset,
+    formState: { errors, isSubmitting },
+  } = useForm({
+    resolver: zodResolver(createMeasureSchema, plainMessages),
+    defaultValues: { name: '', higherIsBetter: true, kind: 'achievement' as const },
+  });
+
+  const onSubmit = handleSubmit(async (input) => {
+    setProblem(null);
+    setAdded(null);
+    try {
+      await onAdd(input);
+      reset();
+      setAdded(`${input.name} is added.`);
+    } catch (error) {
+      setProblem(applyApiError(error, setError, ['name', 'minScore', 'maxScore', 'higherIsBetter', 'kind']));
+    }
+  });
+
+  return (
+    <form noValidate onSubmit={onSubmit} aria-label="Add a measure" className="space-y-4 rounded-lg border border-line bg-surface p-5">
+      <h4 className="font-semibold">Add a measure</h4>
+      {problem && <FormProblemAlert problem={problem} />}
+      <Field label="Measure name" hint="E.g. Oral reading fluency (words correct per minute)." error={errors.name?.message}>
+        {(control) => <TextInput {...control} autoComplete="off" {...register('name')} />}
+      </Field>
+      <div className="grid gap-4 sm:grid-cols-2">
+        <Field label="Lowest possible score" error={errors.minScore?.message}>
+          {(control) => <TextInput {...control} type="number" step="any" {...register('minScore', { valueAsNumber: true })} />}
+        </Field>
+        <Field label="Highest possible score" error={errors.maxScore?.message}>
+          {(control) => <TextInput {...control} type="number" step="any" {...register('maxScore', { valueAsNumber: true })} />}
+        </Field>
+        <Field label="Better scores are" error={errors.higherIsBetter?.message}>
+          {(control) => (
+            <Select {...control} {...register('higherIsBetter', { setValueAs: (v: string | boolean) => v === true || v === 'true' })}>
+              <option value="true">Higher</option>
+              <option value="false">Lower</option>
+            </Select>
+          )}
+        </Field>
+        <Field label="Kind" hint="Sets the standard default ICC." error={errors.kind?.message}>
+          {(control) => (
+            <Select {...control} {...register('kind')}>
+              {measureKinds.map((k) => (
+                <option key={k} value={k}>
+                  {kindLabels[k]}
+                </option>
+              ))}
+            </Select>
+          )}
+        </Field>
+      </div>
+      <div className="flex flex-wrap items-center gap-3">
+        <Button type="submit" variant="secondary" busy={isSubmitting}>
+          Add the measure
+        </Button>
+        <p aria-live="polite" className="text-sm text-ink-muted">
+          {added}
+        </p>
+      </div>
+    </form>
+  );
+}
+
+/** The kind a new wave most likely is: the baseline first, then the outcome, then follow-ups. */
+function nextWaveKind(waves: Wave[]): Wave['kind'] {
+  if (!waves.some((w) => w.kind === 'baseline')) return 'baseline';
+  if (!waves.some((w) => w.kind === 'outcome')) return 'outcome';
+  return 'follow-up';
+}
+
+export function AddWaveForm({ waves, onAdd }: { waves: Wave[]; onAdd: (input: CreateWave) => Promise<unknown> }) {
+  const [problem, setProblem] = useState<FormProblem | null>(null);
+  const [added, setAdded] = useState<string | null>(null);
+  const {
+    register,
+    handleSubmit,
+    setError,
+    reset,
+    formState: { errors, isSubmitting },
+  } = useForm({
+    resolver: zodResolver(createWaveSchema, plainMessages),
+    defaultValues: { kind: nextWaveKind(waves), name: '', opensOn: '', closesOn: '' },
+  });
+
+  const onSubmit = handleSubmit(async (input) => {
+    setProblem(null);
+    setAdded(null);
+    try {
+      await onAdd(input);
+      reset({ kind: nextWaveKind([...waves, { kind: input.kind } as Wave]), name: '', opensOn: '', closesOn: '' });
+      setAdded(`${input.name} is added.`);
+    } catch (error) {
+      setProblem(applyApiError(error, setError, ['kind', 'name', 'opensOn', 'closesOn']));
+    }
+  });
+
+  return (
+    <form noValidate onSubmit={onSubmit} aria-label="Add a wave" className="space-y-4 rounded-lg border border-line bg-surface p-5">
+      <h4 className="font-semibold">Add a wave</h4>
+      {problem && <FormProblemAlert problem={problem} />}
+      <div className="grid gap-4 sm:grid-cols-2">
+        <Field label="Wave kind" error={errors.kind?.message}>
+          {(control) => (
+            <Select {...control} {...register('kind')}>
+              {waveKinds.map((k) => (
+                <option key={k} value={k}>
+                  {waveKindLabels[k]}
+                </option>
+              ))}
+            </Select>
+          )}
+        </Field>
+        <Field label="Wave name" hint="E.g. Autumn 2026." error={errors.name?.message}>
+          {(control) => <TextInput {...control} autoComplete="off" {...register('name')} />}
+        </Field>
+        <Field label="Opens on" error={errors.opensOn?.message}>
+          {(control) => <TextInput {...control} type="date" {...register('opensOn')} />}
+        </Field>
+        <Field label="Closes on" error={errors.closesOn?.message}>
+          {(control) => <TextInput {...control} type="date" {...register('closesOn')} />}
+        </Field>
+      </div>
+      <div className="flex flex-wrap items-center gap-3">
+        <Button type="submit" variant="secondary" busy={isSubmitting}>
+          Add the wave
+        </Button>
+        <p aria-live="polite" className="text-sm text-ink-muted">
+          {added}
+        </p>
+      </div>
+    </form>
+  );
+}

@@ -1,0 +1,436 @@
+import {
+  alternatives,
+  amendmentSchema,
+  planContentSchema,
+  primaryTests,
+  type Amendment,
+  type Measure,
+  type PlanContent,
+  type PlanContentInput,
+  type UnitOfAssignment,
+  type Wave,
+} from '@evenhand/entities';
+import { zodResolver } from '@hookform/resolvers/zod';
+import { useState } from 'react';
+import { FormProvider, useForm, useFormContext, useWatch, type Resolver } from 'react-hook-form';
+import { Button } from '@/components/ui/button';
+import { Checkbox, ChoiceGroup } from '@/components/ui/choice-group';
+import { Dialog } from '@/components/ui/dialog';
+import { Field, Select, TextArea, TextInput } from '@/components/ui/field';
+import { FormProblemAlert } from '@/components/ui/form-problem-alert';
+import { PlanningPanel } from '@/features/plan/components/planning-panel';
+import {
+  alternativeLabels,
+  covariateLabels,
+  iccSourceLabels,
+  planFieldLabels,
+  primaryTestLabels,
+  unitOfAnalysisLabels,
+} from '@/features/plan/plan-labels';
+import { defaultIcc } from '@/features/plan/planning';
+import { formatTime } from '@/lib/format';
+import { applyApiError, type FormProblem } from '@/lib/form-errors';
+import { plainMessages } from '@/lib/form-messages';
+
+/** The amendment form: the whole plan plus the reason, checked by the same schemas the API uses. */
+const amendFormSchema = planContentSchema.safeExtend({ reason: amendmentSchema.shape.reason });
+type FormValues = PlanContentInput & { reason?: string };
+const formFields = [...Object.keys(planContentSchema.shape), 'reason'];
+
+const asNumber = { valueAsNumber: true } as const;
+const numberProps = { type: 'number', inputMode: 'decimal', step: 'any' } as const;
+
+/** Leaves out what a choice made irrelevant (a reason for a test not chosen), so the plan records only what applies. */
+function tidy(plan: PlanContent): PlanContent {
+  return {
+    ...plan,
+    alternativeJustification: plan.alternative === 'two-sided' ? '' : plan.alternativeJustification,
+    primaryTestReason: plan.primaryTest === 'student' ? plan.primaryTestReason : '',
+    icc: plan.iccSource === 'assumed' ? plan.icc : null,
+    covariateR2: plan.covariate === 'baseline' ? plan.covariateR2 : 0,
+  };
+}
+
+export function blankPlan(waves: Wave[]): FormValues {
+  return {
+    primaryMeasureId: '',
+    primaryWaveId: '',
+    hypothesis: '',
+    alpha: 0.05,
+    alternative: 'two-sided',
+    alternativeJustification: '',
+    primaryTest: 'welch',
+    primaryTestReason: '',
+    covariate: waves.some((w) => w.kind === 'baseline') ? 'baseline' : 'none',
+    unitOfAnalysis: 'student',
+    iccSource: 'default',
+    icc: null,
+    smallestEffectOfInterest: 0.25,
+    plannedSites: undefined as unknown as number,
+    plannedClassrooms: undefined as unknown as number,
+    plannedStudentsPerClassroom: undefined as unknown as number,
+    shareIntervention: 0.5,
+    summaryEntryAllowed: false,
+    covariateR2: 0,
+  };
+}
+
+interface RefsProps {
+  measures: Measure[];
+  waves: Wave[];
+  unit: UnitOfAssignment;
+}
+
+function PlanFields({ measures, waves, unit }: RefsProps) {
+  const {
+    register,
+    control,
+    formState: { errors },
+  } = useFormContext<FormValues>();
+  const [alternative, primaryTest, covariate, iccSource, primaryMeasureId] = useWatch({
+    control,
+    name: ['alternative', 'primaryTest', 'covariate', 'iccSource', 'primaryMeasureId'],
+  });
+  const measure = measures.find((m) => m.id === primaryMeasureId) ?? null;
+  const outcomeWaves = waves.filter((w) => w.kind !== 'baseline');
+  const hasBaseline = waves.some((w) => w.kind === 'baseline');
+  const clustered = unit !== 'student';
+
+  return (
+    <>
+      <fieldset className="space-y-5">
+        <legend className="text-lg font-semibold">The primary outcome</legend>
+        <Field
+          label={planFieldLabels.primaryMeasureId}
+          hint={measures.length === 0 ? 'Add a measure above first.' : 'The one measure the confirmatory result is about.'}
+          error={errors.primaryMeasureId?.message}
+        >
+          {(control) => (
+            <Select {...control} {...register('primaryMeasureId')} disabled={measures.length === 0}>
+              <option value="">Choose a measure</option>
+              {measures.map((m) => (
+                <option key={m.id} value={m.id}>
+                  {m.name}
+                </option>
+              ))}
+            </Select>
+          )}
+        </Field>
+        <Field
+          label={planFieldLabels.primaryWaveId}
+          hint={outcomeWaves.length === 0 ? 'Add an outcome wave above first.' : 'When the outcome is measured (not the baseline).'}
+          error={errors.primaryWaveId?.message}
+        >
+          {(control) => (
+            <Select {...control} {...register('primaryWaveId')} disabled={outcomeWaves.length === 0}>
+              <option value="">Choose a wave</option>
+              {outcomeWaves.map((w) => (
+                <option key={w.id} value={w.id}>
+                  {w.name}
+                </option>
+              ))}
+            </Select>
+          )}
+        </Field>
+        <Field
+          label={planFieldLabels.hypothesis}
+          hint="What you expect, in a sentence or two: which arm, which measure, when."
+          error={errors.hypothesis?.message}
+        >
+          {(control) => <TextArea {...control} rows={3} {...register('hypothesis')} />}
+        </Field>
+      </fieldset>
+
+      <fieldset className="space-y-5">
+        <legend className="text-lg font-semibold">The test</legend>
+        <Field label={planFieldLabels.alpha} hint="The chance of a false positive you accept; .05 is usual." error={errors.alpha?.message} className="max-w-xs">
+          {(control) => <TextInput {...control} {...numberProps} {...register('alpha', asNumber)} />}
+        </Field>
+        <ChoiceGroup
+          legend={planFieldLabels.alternative}
+          error={errors.alternative?.message}
+          input={register('alternative')}
+          choices={alternatives.map((a) => ({
+            value: a,
+            label: alternativeLabels[a],
+            hint: a === 'two-sided' ? 'Recommended: it reports a difference in either direction.' : undefined,
+          }))}
+        />
+        {alternative !== 'two-sided' && (
+          <Field
+            label={planFieldLabels.alternativeJustification}
+            hint="A one-sided test ignores a difference in the other direction; say why that is acceptable here."
+            error={errors.alternativeJustification?.message}
+          >
+            {(control) => <TextArea {...control} rows={2} {...register('alternativeJustification')} />}
+          </Field>
+        )}
+        <ChoiceGroup
+          legend={planFieldLabels.primaryTest}
+          error={errors.primaryTest?.message}
+          input={register('primaryTest')}
+          choices={primaryTests.map((t) => ({
+            value: t,
+            label: primaryTestLabels[t],
+            hint: t === 'welch' ? 'Recommended: it stays accurate when the arms’ spreads differ.' : undefined,
+          }))}
+        />
+        {primaryTest === 'student' && (
+          <Field
+            label={planFieldLabels.primaryTestReason}
+            hint="The pooled test assumes both arms vary equally; say why you expect that."
+            error={errors.primaryTestReason?.message}
+          >
+            {(control) => <TextArea {...control} rows={2} {...register('primaryTestReason')} />}
+          </Field>
+        )}
+        <ChoiceGroup
+          legend={planFieldLabels.covariate}
+          hint={hasBaseline ? undefined : 'Adjusting for the baseline score needs a baseline wave.'}
+          error={errors.covariate?.message}
+          input={register('covariate')}
+          choices={(['baseline', 'none'] as const).map((c) => ({ value: c, label: covariateLabels[c] }))}
+        />
+      </fieldset>
+
+      <fieldset className="space-y-5">
+        <legend className="text-lg font-semibold">Clustering</legend>
+        <Field
+          label={planFieldLabels.unitOfAnalysis}
+          hint="Students are usually analysed even when classrooms are assigned; the ICC below then corrects for clustering."
+          error={errors.unitOfAnalysis?.message}
+          className="max-w-md"
+        >
+          {(control) => (
+            <Select {...control} {...register('unitOfAnalysis')}>
+              {(['student', 'classroom', 'school'] as const).map((u) => (
+                <option key={u} value={u}>
+                  {unitOfAnalysisLabels[u]}
+                </option>
+              ))}
+            </Select>
+          )}
+        </Field>
+        <ChoiceGroup
+          legend={planFieldLabels.iccSource}
+          hint={clustered ? 'How alike students of one classroom are (the intraclass correlation).' : 'Only used if classrooms or schools are assigned.'}
+          error={errors.iccSource?.message}
+          input={register('iccSource')}
+          choices={(['default', 'observed', 'assumed'] as const).map((s) => ({
+            value: s,
+            label: iccSourceLabels[s],
+            hint:
+              s === 'default'
+                ? `${defaultIcc(measure?.kind ?? null).toFixed(2)} for ${measure?.kind === 'behaviour' ? 'a behaviour' : 'an achievement'} measure (0.20 achievement, 0.10 behaviour).`
+                : s === 'observed'
+                  ? 'From the scores at analysis; the standard default if it cannot be estimated.'
+                  : undefined,
+          }))}
+        />
+        {iccSource === 'assumed' && (
+          <Field label={planFieldLabels.icc} hint="From earlier data of your district, e.g. 0.15." error={errors.icc?.message} className="max-w-xs">
+            {(control) => (
+              <TextInput
+                {...control}
+                {...numberProps}
+                {...register('icc', { setValueAs: (v: string) => (v === '' || v === null ? null : Number(v)) })}
+              />
+            )}
+          </Field>
+        )}
+      </fieldset>
+
+      <fieldset className="space-y-5">
+        <legend className="text-lg font-semibold">Planned numbers</legend>
+        <Field
+          label={planFieldLabels.smallestEffectOfInterest}
+          hint="The smallest difference, in standard deviations, worth acting on; 0.25 is a common benchmark."
+          error={errors.smallestEffectOfInterest?.message}
+          className="max-w-xs"
+        >
+          {(control) => <TextInput {...control} {...numberProps} {...register('smallestEffectOfInterest', asNumber)} />}
+        </Field>
+        <div className="grid gap-5 sm:grid-cols-3">
+          <Field label={planFieldLabels.plannedSites} error={errors.plannedSites?.message}>
+            {(control) => <TextInput {...control} type="number" inputMode="numeric" min={1} {...register('plannedSites', asNumber)} />}
+          </Field>
+          <Field label={planFieldLabels.plannedClassrooms} error={errors.plannedClassrooms?.message}>
+            {(control) => <TextInput {...control} type="number" inputMode="numeric" min={2} {...register('plannedClassrooms', asNumber)} />}
+          </Field>
+          <Field label={planFieldLabels.plannedStudentsPerClassroom} error={errors.plannedStudentsPerClassroom?.message}>
+            {(control) => <TextInput {...control} type="number" inputMode="numeric" min={1} {...register('plannedStudentsPerClassroom', asNumber)} />}
+          </Field>
+        </div>
+        <div className="grid gap-5 sm:grid-cols-2">
+          <Field
+            label={planFieldLabels.shareIntervention}
+            hint="As a proportion: 0.5 puts half in each arm."
+            error={errors.shareIntervention?.message}
+          >
+            {(control) => <TextInput {...control} {...numberProps} {...register('shareIntervention', asNumber)} />}
+          </Field>
+          {covariate === 'baseline' && (
+            <Field
+              label={planFieldLabels.covariateR2}
+              hint="How much of the outcome the pretest explains, 0 to 1; reading pretests often reach 0.5."
+              error={errors.covariateR2?.message}
+            >
+              {(control) => <TextInput {...control} {...numberProps} {...register('covariateR2', asNumber)} />}
+            </Field>
+          )}
+        </div>
+      </fieldset>
+
+      <fieldset className="space-y-3">
+        <legend className="text-lg font-semibold">Data entry</legend>
+        <Checkbox
+          label={planFieldLabels.summaryEntryAllowed}
+          hint="Lets a classroom report only its number of students, mean and SD instead of each student’s score. Fewer analyses are then possible."
+          {...register('summaryEntryAllowed')}
+        />
+      </fieldset>
+    </>
+  );
+}
+
+function LivePlanningPanel({ unit, measures }: { unit: UnitOfAssignment; measures: Measure[] }) {
+  const values = useWatch<FormValues>() as FormValues;
+  const measure = measures.find((m) => m.id === values.primaryMeasureId);
+  return <PlanningPanel values={values} context={{ unit, measureKind: measure?.kind ?? null }} />;
+}
+
+interface PlanFormProps extends RefsProps {
+  initial: FormValues;
+  /** Draft mode: save the draft, or seal it after a confirmation. */
+  onSaveDraft?: (plan: PlanContent) => Promise<unknown>;
+  onSeal?: (plan: PlanContent) => Promise<unknown>;
+  /** Amendment mode: the whole plan with a reason. */
+  onAmend?: (amendment: Amendment) => Promise<unknown>;
+  onCancel?: () => void;
+}
+
+export function PlanForm({ initial, measures, waves, unit, onSaveDraft, onSeal, onAmend, onCancel }: PlanFormProps) {
+  const amending = onAmend !== undefined;
+  const [problem, setProblem] = useState<FormProblem | null>(null);
+  const [saved, setSaved] = useState<string | null>(null);
+  const [sealing, setSealing] = useState<PlanContent | null>(null);
+  const [sealBusy, setSealBusy] = useState(false);
+  const form = useForm<FormValues>({
+    resolver: (amending ? zodResolver(amendFormSchema, plainMessages) : zodResolver(planContentSchema, plainMessages)) as unknown as Resolver<FormValues>,
+    defaultValues: initial,
+  });
+  const {
+    register,
+    handleSubmit,
+    setError,
+    reset,
+    formState: { errors, isSubmitting, isDirty },
+  } = form;
+
+  const fail = (error: unknown) => setProblem(applyApiError(error, setError, formFields));
+
+  const save = handleSubmit(async (values) => {
+    setProblem(null);
+    setSaved(null);
+    const plan = tidy(values as PlanContent);
+    try {
+      if (amending) {
+        await onAmend({ reason: values.reason ?? '', plan });
+      } else {
+        await onSaveDraft?.(plan);
+        reset(plan);
+        setSaved(`Draft saved at ${formatTime(new Date())}.`);
+      }
+    } catch (error) {
+      fail(error);
+    }
+  });
+
+  const askToSeal = handleSubmit((values) => {
+    setProblem(null);
+    setSaved(null);
+    setSealing(tidy(values as PlanContent));
+  });
+
+  return (
+    <FormProvider {...form}>
+      <div className="grid gap-8 xl:grid-cols-[minmax(0,3fr)_minmax(0,2fr)]">
+        <form noValidate onSubmit={save} className="space-y-8" aria-label={amending ? 'Amendment' : 'Plan'}>
+          {problem && <FormProblemAlert problem={problem} />}
+          {amending && (
+            <Field
+              label="Reason for the amendment"
+              hint="Why the registered plan must change. It is kept with the new version for everyone to read."
+              error={errors.reason?.message}
+            >
+              {(control) => <TextArea {...control} rows={3} {...register('reason')} />}
+            </Field>
+          )}
+          <PlanFields measures={measures} waves={waves} unit={unit} />
+          <div className="flex flex-wrap items-center gap-3 border-t border-line pt-6">
+            {amending ? (
+              <>
+                <Button type="submit" busy={isSubmitting}>
+                  File the amendment
+                </Button>
+                {onCancel && (
+                  <Button variant="secondary" onClick={onCancel}>
+                    Cancel
+                  </Button>
+                )}
+              </>
+            ) : (
+              <>
+                <Button type="submit" variant="secondary" busy={isSubmitting}>
+                  Save draft
+                </Button>
+                {onSeal && <Button onClick={askToSeal}>Seal the plan…</Button>}
+              </>
+            )}
+            <p aria-live="polite" className="text-sm text-ink-muted">
+              {saved ?? (isDirty && !amending ? 'Unsaved changes.' : '')}
+            </p>
+          </div>
+        </form>
+        <aside aria-label="Power and minimum detectable effect" className="xl:sticky xl:top-6 xl:self-start">
+          <LivePlanningPanel unit={unit} measures={measures} />
+        </aside>
+      </div>
+
+      <Dialog
+        open={sealing !== null}
+        title="Seal the plan?"
+        description="Sealing registers the plan as it is now. It is final: Evenhand stores its time and a SHA-256 fingerprint, and any later change becomes a numbered amendment with a reason that reviewers can read."
+        onClose={() => setSealing(null)}
+      >
+        <ul className="list-disc space-y-1 pl-5">
+          <li>The measures can no longer change once the plan is sealed.</li>
+          <li>The draw of classrooms can run once it is sealed.</li>
+        </ul>
+        <div className="mt-6 flex flex-wrap gap-3">
+          <Button
+            busy={sealBusy}
+            onClick={async () => {
+              if (!sealing || !onSeal) return;
+              setSealBusy(true);
+              try {
+                await onSeal(sealing);
+                setSealing(null);
+              } catch (error) {
+                setSealing(null);
+                fail(error);
+              } finally {
+                setSealBusy(false);
+              }
+            }}
+          >
+            Seal the plan
+          </Button>
+          <Button variant="secondary" onClick={() => setSealing(null)}>
+            Keep editing
+          </Button>
+        </div>
+      </Dialog>
+    </FormProvider>
+  );
+}

@@ -1,0 +1,202 @@
+import type { Classroom } from '@evenhand/entities';
+import { useQuery, type QueryClient } from '@tanstack/react-query';
+import { useCallback, useState, type ReactNode } from 'react';
+import type { LoaderFunctionArgs } from 'react-router-dom';
+import { Alert } from '@/components/ui/alert';
+import { Button } from '@/components/ui/button';
+import { Dialog } from '@/components/ui/dialog';
+import { useSession } from '@/features/auth/api';
+import {
+  cohortsQueryOptions,
+  districtSitesQueryOptions,
+  studySitesQueryOptions,
+  useAddClassroom,
+  useAddCohort,
+  useEnrolSite,
+  useImportClassrooms,
+  useUpdateClassroom,
+} from '@/features/sites/api';
+import { AddClassroomForm, AddCohortForm, EditClassroomForm } from '@/features/sites/components/classroom-form';
+import { ClassroomImport } from '@/features/sites/components/classroom-import';
+import { ClassroomsTable } from '@/features/sites/components/classrooms-table';
+import { EnrolSiteForm } from '@/features/sites/components/enrol-site-form';
+import { SitesTable } from '@/features/sites/components/sites-table';
+import { hasRole } from '@/lib/navigation';
+import { studyClassroomsQueryOptions, useCurrentStudy } from '@/lib/study';
+
+export function sitesLoader(queryClient: QueryClient) {
+  return async ({ params }: LoaderFunctionArgs) => {
+    const studyId = params.studyId!;
+    await Promise.all([
+      queryClient.ensureQueryData(studySitesQueryOptions(studyId)),
+      queryClient.ensureQueryData(cohortsQueryOptions(studyId)),
+      queryClient.ensureQueryData(studyClassroomsQueryOptions(studyId)),
+    ]);
+    return null;
+  };
+}
+
+function Section({ id, title, description, actions, children }: { id: string; title: string; description?: ReactNode; actions?: ReactNode; children: ReactNode }) {
+  return (
+    <section aria-labelledby={id} className="space-y-4">
+      <div className="flex flex-wrap items-end justify-between gap-4">
+        <div className="max-w-prose">
+          <h2 id={id} className="text-xl font-semibold">
+            {title}
+          </h2>
+          {description && <p className="mt-1 text-ink-muted">{description}</p>}
+        </div>
+        {actions && <div className="flex flex-wrap gap-3">{actions}</div>}
+      </div>
+      {children}
+    </section>
+  );
+}
+
+type Open = 'enrol' | 'classroom' | 'import' | null;
+
+export function SitesPage() {
+  const study = useCurrentStudy();
+  const grants = useSession().data?.roles ?? [];
+  const coordinator = hasRole(grants, 'coordinator');
+  const sites = useQuery(studySitesQueryOptions(study.id));
+  const cohorts = useQuery(cohortsQueryOptions(study.id));
+  const classrooms = useQuery(studyClassroomsQueryOptions(study.id));
+  const district = useQuery({ ...districtSitesQueryOptions(), enabled: coordinator });
+  const enrol = useEnrolSite(study.id);
+  const addCohort = useAddCohort(study.id);
+  const addClassroom = useAddClassroom(study.id);
+  const updateClassroom = useUpdateClassroom(study.id);
+  const importClassrooms = useImportClassrooms(study.id);
+  const [open, setOpen] = useState<Open>(null);
+  const [editing, setEditing] = useState<Classroom | null>(null);
+  const [notice, setNotice] = useState<string | null>(null);
+  const onEdit = useCallback((c: Classroom) => {
+    setNotice(null);
+    setEditing(c);
+  }, []);
+
+  const siteList = sites.data?.items ?? [];
+  const cohortList = cohorts.data?.items ?? [];
+  const enrolled = new Set(siteList.map((s) => s.id));
+  const available = (district.data?.items ?? []).filter((s) => !enrolled.has(s.id));
+  const drawn = study.drawCommittedAt !== null;
+  const show = (which: Open) => {
+    setNotice(null);
+    setOpen(which);
+  };
+
+  return (
+    <div className="space-y-12">
+      <div aria-live="polite">{notice && <Alert tone="success">{notice}</Alert>}</div>
+
+      <Section
+        id="sites-sites"
+        title="Sites"
+        description="The schools taking part, each with its principal."
+        actions={coordinator && <Button onClick={() => show('enrol')}>Enrol a site</Button>}
+      >
+        <SitesTable sites={siteList} loading={sites.isPending} error={sites.error} />
+      </Section>
+
+      <Section
+        id="sites-classrooms"
+        title="Classrooms"
+        description={
+          drawn
+            ? 'The draw is committed, so classrooms can no longer be added; each shows the arm it is in.'
+            : 'Each classroom with its cohort and teacher. The draw assigns them to an arm, within each site.'
+        }
+        actions={
+          coordinator &&
+          !drawn && (
+            <>
+              <Button variant="secondary" onClick={() => show('import')} disabled={siteList.length === 0}>
+                Add from a CSV file
+              </Button>
+              <Button onClick={() => show('classroom')} disabled={siteList.length === 0}>
+                Add a classroom
+              </Button>
+            </>
+          )
+        }
+      >
+        {coordinator && !drawn && siteList.length === 0 && <p className="text-ink-muted">Enrol a site first; classrooms belong to one.</p>}
+        <ClassroomsTable
+          classrooms={classrooms.data?.items ?? []}
+          sites={siteList}
+          loading={classrooms.isPending}
+          error={classrooms.error}
+          onEdit={coordinator ? onEdit : undefined}
+        />
+      </Section>
+
+      <Section id="sites-cohorts" title="Cohorts" description="Groups of classrooms followed together, such as a grade in a school year.">
+        {cohortList.length === 0 ? (
+          <p className="text-ink-muted">No cohorts yet.</p>
+        ) : (
+          <ul className="flex flex-wrap gap-2">
+            {cohortList.map((c) => (
+              <li key={c.id} className="rounded-full border border-line bg-surface px-3 py-1">
+                {c.name}
+              </li>
+            ))}
+          </ul>
+        )}
+        {coordinator && !drawn && <AddCohortForm onAdd={(name) => addCohort.mutateAsync(name)} />}
+      </Section>
+
+      <Dialog open={open === 'enrol'} title="Enrol a site" onClose={() => setOpen(null)}>
+        <EnrolSiteForm
+          available={available}
+          onCancel={() => setOpen(null)}
+          onEnrol={async (input) => {
+            const site = await enrol.mutateAsync(input);
+            setOpen(null);
+            setNotice(
+              site.principal?.invitationPending
+                ? `${site.name} is enrolled; ${site.principal.name} is invited by e-mail.`
+                : `${site.name} is enrolled.`,
+            );
+          }}
+        />
+      </Dialog>
+
+      <Dialog open={open === 'classroom'} title="Add a classroom" onClose={() => setOpen(null)}>
+        <AddClassroomForm
+          sites={siteList}
+          cohorts={cohortList}
+          onCancel={() => setOpen(null)}
+          onAdd={async (input) => {
+            const classroom = await addClassroom.mutateAsync(input);
+            setOpen(null);
+            setNotice(
+              classroom.teacher.invitationPending
+                ? `${classroom.name} at ${classroom.siteName} is added; ${classroom.teacher.name} is invited by e-mail.`
+                : `${classroom.name} at ${classroom.siteName} is added.`,
+            );
+          }}
+        />
+      </Dialog>
+
+      <Dialog open={open === 'import'} title="Add classrooms from a CSV file" onClose={() => setOpen(null)}>
+        <ClassroomImport sites={siteList} onImport={(file) => importClassrooms.mutateAsync(file)} onClose={() => setOpen(null)} />
+      </Dialog>
+
+      <Dialog open={editing !== null} title={`Edit ${editing?.name ?? 'classroom'}`} onClose={() => setEditing(null)}>
+        {editing && (
+          <EditClassroomForm
+            classroom={editing}
+            cohorts={cohortList}
+            onCancel={() => setEditing(null)}
+            onSave={async (changes) => {
+              const classroom = await updateClassroom.mutateAsync({ id: editing.id, changes });
+              setEditing(null);
+              setNotice(`The changes to ${classroom.name} at ${classroom.siteName} are saved.`);
+            }}
+          />
+        )}
+      </Dialog>
+    </div>
+  );
+}
