@@ -7,7 +7,7 @@ import { RouteError } from '@/app/route-error';
 import { SignedInLayout } from '@/app/signed-in-layout';
 import { Loading } from '@/components/ui/spinner';
 import { AccountsPage, accountsLoader, accountsShouldRevalidate } from '@/features/accounts/routes';
-import { AuditPage, auditLoader, auditShouldRevalidate } from '@/features/audit/routes';
+import { AuditPage, auditLoader, auditShouldRevalidate, StudyAuditPage, studyAuditLoader } from '@/features/audit/routes';
 import { sessionQueryOptions } from '@/features/auth/api';
 import { ChecksPage, checksLoader } from '@/features/checks/routes';
 import { ComparisonsPage, comparisonsLoader, RunResultsPage, runLoader } from '@/features/comparisons/routes';
@@ -135,7 +135,12 @@ export function createRoutes(queryClient: QueryClient): RouteObject[] {
                           shouldRevalidate: digestsShouldRevalidate,
                           Component: DigestsPage,
                         },
-                        { path: studyTabs.audit.path, loader: guardArea(queryClient, studyTabs.audit), Component: ComingSoonTab },
+                        {
+                          path: studyTabs.audit.path,
+                          loader: guardArea(queryClient, studyTabs.audit, studyAuditLoader(queryClient)),
+                          shouldRevalidate: auditShouldRevalidate,
+                          Component: StudyAuditPage,
+                        },
                       ],
                     },
                   ],

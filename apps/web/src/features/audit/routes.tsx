@@ -1,6 +1,6 @@
 import { auditQuerySchema, type AuditQuery } from '@evenhand/entities';
 import { useQuery, type QueryClient } from '@tanstack/react-query';
-import { useSearchParams, type LoaderFunctionArgs, type ShouldRevalidateFunction } from 'react-router-dom';
+import { useParams, useSearchParams, type LoaderFunctionArgs, type ShouldRevalidateFunction } from 'react-router-dom';
 import { PageHeader } from '@/components/ui/page-header';
 import { auditQueryOptions } from '@/features/audit/api';
 import { AuditTable } from '@/features/audit/components/audit-table';
@@ -41,5 +41,42 @@ export function AuditPage() {
         onPageChange={(offset) => setParams(offset > 0 ? { page: String(offset / PAGE_SIZE + 1) } : {})}
       />
     </>
+  );
+}
+
+function studyQueryFromSearch(studyId: string, params: URLSearchParams): AuditQuery {
+  return { ...queryFromSearch(params), studyId };
+}
+
+export function studyAuditLoader(queryClient: QueryClient) {
+  return async ({ request, params }: LoaderFunctionArgs) => {
+    await queryClient.ensureQueryData(auditQueryOptions(studyQueryFromSearch(params.studyId!, new URL(request.url).searchParams)));
+    return null;
+  };
+}
+
+/** The Audit tab of a study: the same trail, only this study's entries. */
+export function StudyAuditPage() {
+  const { studyId } = useParams();
+  const [params, setParams] = useSearchParams();
+  const query = studyQueryFromSearch(studyId!, params);
+  const audit = useQuery(auditQueryOptions(query));
+  return (
+    <section aria-labelledby="study-audit-title" className="space-y-4">
+      <div className="max-w-prose">
+        <h2 id="study-audit-title" className="text-xl font-semibold">
+          Audit trail of this study
+        </h2>
+        <p className="mt-1 text-ink-muted">Every change to the study, its plan, sites, classrooms and draw: who made it and when, newest first.</p>
+      </div>
+      <AuditTable
+        page={audit.data}
+        loading={audit.isPending}
+        refreshing={audit.isPlaceholderData}
+        error={audit.error}
+        query={query}
+        onPageChange={(offset) => setParams(offset > 0 ? { page: String(offset / PAGE_SIZE + 1) } : {})}
+      />
+    </section>
   );
 }
