@@ -23,7 +23,7 @@ for (let attempt = 1; !db.isInitialized; attempt++) {
 }
 
 const jobs = await startQueue(config.databaseUrl, logger);
-if (config.workersInProcess) await startWorkers(jobs, db, logger);
+if (config.workersInProcess) await startWorkers(jobs, db, logger, undefined, { mailer, config });
 const app = createApp({ config, db, mailer, logger, jobs });
 const server = app.listen(config.port, config.host, () => {
   logger.info(`Evenhand is listening on http://${config.host}:${config.port}`);

@@ -61,6 +61,15 @@ const expectedAccess: Record<string, 'anyone' | 'signed-in' | Role[]> = {
   'GET /api/runs/{id}': ['research_lead', 'reviewer', 'coordinator', 'principal'],
   'POST /api/runs/{id}/lock': ['research_lead'],
   'GET /api/runs/{id}/bundle': ['research_lead', 'reviewer'],
+  'GET /api/studies/{id}/digests': ['research_lead', 'coordinator'],
+  'POST /api/studies/{id}/digests/send': ['research_lead', 'coordinator'],
+  'GET /api/digests/{id}': ['research_lead', 'coordinator'],
+  'GET /api/studies/{id}/digest-schedule': ['research_lead', 'coordinator'],
+  'PUT /api/studies/{id}/digest-schedule': ['research_lead', 'coordinator'],
+  'GET /api/my-school': ['principal'],
+  'GET /api/digest-preferences': 'anyone',
+  'PUT /api/digest-preferences': 'anyone',
+  'POST /api/digest-preferences/one-click': 'anyone',
   'GET /api/audit': ['admin', 'research_lead', 'reviewer'],
 };
 

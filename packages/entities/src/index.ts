@@ -12,3 +12,4 @@ export * from './schemas/draws.js';
 export * from './schemas/score-sheets.js';
 export * from './schemas/runs.js';
 export * from './schemas/checks.js';
+export * from './schemas/digests.js';

@@ -3,10 +3,16 @@ import type { EntityManager } from 'typeorm';
 import type { Logger } from '../logger.js';
 
 export const RUN_QUEUE = 'comparison-run';
+/** One job per delivery attempt of a digest in the outbox. */
+export const DIGEST_SEND_QUEUE = 'digest-send';
+/** The schedule's tick: makes the weekly digests that are due and re-queues any stuck in the outbox. */
+export const DIGEST_TICK_QUEUE = 'digest-tick';
 
 export interface JobQueue {
   /** Enqueues a run inside the caller's transaction: the run row and its job commit together or not at all. */
   enqueueRun(manager: EntityManager, runId: string): Promise<void>;
+  /** Enqueues a digest's delivery inside the caller's transaction, optionally after a delay (a retry). */
+  enqueueDigest(manager: EntityManager, digestId: string, afterSeconds?: number): Promise<void>;
   boss: PgBoss;
   stop(): Promise<void>;
 }
@@ -17,11 +23,18 @@ export async function startQueue(databaseUrl: string, logger: Logger): Promise<J
   boss.on('error', (err) => logger.error({ err }, 'job queue error'));
   await boss.start();
   await boss.createQueue(RUN_QUEUE, { name: RUN_QUEUE, retryLimit: 2, retryDelay: 5, retryBackoff: true, expireInMinutes: 30 });
+  // SMTP failures are retried by the digest service itself; these retries only cover a worker that died mid-job.
+  await boss.createQueue(DIGEST_SEND_QUEUE, { name: DIGEST_SEND_QUEUE, retryLimit: 5, retryDelay: 30, retryBackoff: true, expireInMinutes: 5 });
+  await boss.createQueue(DIGEST_TICK_QUEUE, { name: DIGEST_TICK_QUEUE, retryLimit: 1, expireInMinutes: 10 });
+  const inTransaction = (manager: EntityManager) => ({ executeSql: async (text: string, values: unknown[]) => ({ rows: await manager.query(text, values) }) });
   return {
     boss,
     async enqueueRun(manager, runId) {
       const db = { executeSql: async (text: string, values: unknown[]) => ({ rows: await manager.query(text, values) }) };
       await boss.send(RUN_QUEUE, { runId }, { db, singletonKey: runId });
+    },
+    async enqueueDigest(manager, digestId, afterSeconds) {
+      await boss.send(DIGEST_SEND_QUEUE, { digestId }, { db: inTransaction(manager), singletonKey: digestId, ...(afterSeconds ? { startAfter: afterSeconds } : {}) });
     },
     stop: () => boss.stop({ graceful: true, timeout: 10_000 }),
   };

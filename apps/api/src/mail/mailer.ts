@@ -6,6 +6,9 @@ export interface OutgoingMail {
   subject: string;
   text: string;
   html: string;
+  /** Set by callers that must be able to recognise a repeat (a digest's Message-ID comes from its id). */
+  messageId?: string;
+  headers?: Record<string, string>;
 }
 
 export interface Mailer {

@@ -72,7 +72,7 @@ export function runsRouter(deps: Deps, registry: OpenAPIRegistry) {
       params: idParamsSchema,
       responses: { 200: { description: 'Locked', schema: runSchema } },
     },
-    async ({ user, params }) => ({ body: await lockRun(deps.db, user!, params.id) }),
+    async ({ user, params }) => ({ body: await lockRun(deps, user!, params.id) }),
   );
 
   r.route(

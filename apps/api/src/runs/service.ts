@@ -3,6 +3,7 @@ import { benjaminiHochberg } from '@evenhand/stats';
 import type { Comparison, CreateComparison, PlanContent, QueueRun, Run, RunResults, SessionUser } from '@evenhand/entities';
 import { recordAudit } from '../audit/service.js';
 import type { Deps } from '../deps.js';
+import { createLockDigests } from '../digests/service.js';
 import { AppError } from '../errors.js';
 import type { Logger } from '../logger.js';
 import { currentPlan } from '../plans/service.js';
@@ -262,8 +263,12 @@ export async function getRun(db: DataSource, user: SessionUser, runId: string): 
   return forPrincipal(full, sitesOf(user, 'principal'));
 }
 
-/** Freezes a finished confirmatory run and every score sheet it read; the database refuses any later change. */
-export async function lockRun(db: DataSource, user: SessionUser, runId: string): Promise<Run> {
+/**
+ * Freezes a finished confirmatory run and every score sheet it read; the database refuses any later change.
+ * The principals' digests go into the outbox in the same transaction, so a lock is never announced twice or not at all.
+ */
+export async function lockRun(deps: Pick<Deps, 'db' | 'config' | 'jobs'>, user: SessionUser, runId: string): Promise<Run> {
+  const { db } = deps;
   await db.transaction(async (manager) => {
     await manager.query(`SELECT 1 FROM runs WHERE id = $1 FOR UPDATE`, [runId]);
     const run = await loadRun(manager, user, runId);
@@ -282,6 +287,7 @@ export async function lockRun(db: DataSource, user: SessionUser, runId: string):
       entityId: runId,
       after: { dataSha256: run.data_sha256, engineVersion: run.engine_version, planVersion: run.plan_version },
     });
+    await createLockDigests(manager, deps, run.study_id, runId);
   });
   return getRun(db, user, runId);
 }

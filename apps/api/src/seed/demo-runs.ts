@@ -24,6 +24,6 @@ export async function seedDemoRuns(deps: Deps, lead: SessionUser, studyId: strin
   for (const comparison of items.filter((c) => c.prespecified)) {
     const run = await queueRun(deps, lead, comparison.id, { kind: 'confirmatory' });
     await finished(deps, run.id);
-    await lockRun(deps.db, lead, run.id);
+    await lockRun(deps, lead, run.id);
   }
 }

@@ -3,6 +3,7 @@ import { createDataSource } from '../db/data-source.js';
 import { createLogger } from '../logger.js';
 import { startQueue } from '../jobs/queue.js';
 import { startWorkers } from '../jobs/workers.js';
+import { waitForOutbox } from '../digests/service.js';
 import { createMailer } from '../mail/mailer.js';
 import { resetDatabase, seedDemo } from './demo.js';
 import { seedDemoStudies } from './demo-study.js';
@@ -19,8 +20,17 @@ const { created } = await db.transaction(async (manager) => {
 const mailer = createMailer(config);
 const logger = createLogger({ logLevel: 'warn' });
 const jobs = await startQueue(config.databaseUrl, logger);
-await startWorkers(jobs, db, logger, 0.5);
+await startWorkers(jobs, db, logger, 0.5, { mailer, config, schedule: false });
 const studies = await seedDemoStudies({ config, db, mailer, logger, jobs });
+// Locking the demo runs put digests for the principals in the outbox: send them before exiting.
+const outbox = await waitForOutbox(db, 60_000);
+if (outbox.sent) console.log(`Digests sent: ${outbox.sent} (see the mail catcher)`);
+if (outbox.queued || outbox.retrying) {
+  console.warn(
+    `${outbox.queued + outbox.retrying} digest(s) could not be sent yet (${outbox.lastError ?? 'no answer in time'}). Is the SMTP server ` +
+      `(maildev) running on ${config.smtp.host}:${config.smtp.port}? They stay in the outbox; the API's workers retry them.`,
+  );
+}
 await jobs.stop();
 mailer.close();
 console.log(created || studies ? `Demo district seeded (${created} accounts, ${studies ? 'demo studies' : 'no new studies'})` : 'Demo district already present');

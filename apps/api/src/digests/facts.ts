@@ -1,0 +1,218 @@
+import type { EntityManager } from 'typeorm';
+import { SUPPRESSED_WORDS, type Arm, type RunResults, type SiteFacts, type SiteResult } from '@evenhand/entities';
+import { AppError } from '../errors.js';
+import { countWords, formatAlpha, formatNumber, formatPStatement, formatSigned, suppressCounts } from './wording.js';
+
+const testNames = { welch: 'Welch’s t test', student: 'Student’s pooled t test' } as const;
+const sidedness: Record<string, string> = { 'two-sided': 'two-sided', greater: 'one-sided', less: 'one-sided' };
+const armOrder = (arm: Arm | null) => (arm === 'intervention' ? 0 : arm === 'comparison' ? 1 : 2);
+
+interface LockedRunRow {
+  id: string;
+  results: RunResults;
+  locked_at: Date;
+  label: string;
+  is_primary: boolean;
+}
+
+/** The plain-language result a principal reads, from the run's own numbers. */
+export function resultSentences(r: RunResults, favours: SiteResult['district']['favours'], met: boolean, clusteringP: number | null): string[] {
+  const g = r.effectSize.g;
+  const where = `on ${r.measure.name} at ${r.wave.name}`;
+  const same = formatNumber(g, 2) === formatNumber(0, 2);
+  const finding = same
+    ? `Across all schools in the study, students in intervention classrooms and students in comparison classrooms scored about the same ${where}.`
+    : `Across all schools in the study, students in intervention classrooms scored ${g > 0 ? 'higher' : 'lower'} ${where} than students in comparison classrooms. ${
+        r.measure.higherIsBetter ? 'Higher' : 'Lower'
+      } scores are better on this measure, so the difference favours the ${favours === 'intervention' ? 'intervention' : 'comparison'}.`;
+  const ii = r.effectSize.improvementIndex;
+  const iiWords = formatSigned(ii, 0);
+  const rank =
+    formatNumber(ii, 0) === '0'
+      ? 'an average student in comparison classrooms would be expected to rank about the same with the intervention'
+      : `an average student in comparison classrooms would be expected to rank about ${formatNumber(Math.abs(ii), 0)} percentile points ${ii > 0 ? 'higher' : 'lower'} with the intervention`;
+  const size = `The size of the difference is Hedges’ g = ${formatNumber(g, 2)} (95% interval ${formatNumber(r.effectSize.ci[0], 2)} to ${formatNumber(r.effectSize.ci[1], 2)}), an improvement index of ${iiWords}: ${rank}. ${
+    r.effectSize.substantivelyImportant
+      ? 'That is at least the 0.25 the published evidence standard counts as substantively important.'
+      : 'That is below the 0.25 the published evidence standard counts as substantively important.'
+  }`;
+  const p = r.primary;
+  const test = `${testNames[p.test]}, ${sidedness[p.alternative] ?? p.alternative}, at alpha ${formatAlpha(r.alpha)}`;
+  const verdict = `${met ? 'It meets' : 'It does not meet'} the test registered in the plan before the data were in (${test}): ${formatPStatement(p.p)}. A p-value is not the size of the effect: read it with g and its interval.`;
+  const sentences = [finding, size, verdict];
+  if (clusteringP !== null) {
+    sentences.push(
+      `Allowing for students being grouped in classrooms, ${formatPStatement(clusteringP)}: the difference is ${clusteringP < r.alpha ? 'still' : 'not'} statistically significant at alpha ${formatAlpha(r.alpha)}.`,
+    );
+  }
+  return sentences;
+}
+
+function siteResult(run: LockedRunRow, siteId: string): SiteResult {
+  const r = run.results;
+  const g = r.effectSize.g;
+  const same = formatNumber(g, 2) === formatNumber(0, 2);
+  const favours: SiteResult['district']['favours'] = same ? 'neither' : (g > 0) === r.measure.higherIsBetter ? 'intervention' : 'comparison';
+  const met = r.primary.significant;
+  const clusteringP = r.clustering?.p ?? null;
+  const districtStudents = suppressCounts(r.descriptives.map((d) => d.students)).total;
+  const own = r.sites.find((s) => s.siteId === siteId);
+  let site: SiteResult['site'] = null;
+  if (own) {
+    const counts = suppressCounts([own.n1, own.n2]);
+    site = {
+      arms: [
+        { arm: 'intervention', students: counts.cells[0], mean: counts.cells[0].suppressed ? null : own.mean1 },
+        { arm: 'comparison', students: counts.cells[1], mean: counts.cells[1].suppressed ? null : own.mean2 },
+      ],
+      totalStudents: counts.total,
+      note: counts.hidden
+        ? `Your school’s figures for each group are not shown: one group has ${SUPPRESSED_WORDS}, and showing the other would reveal it.`
+        : 'One school’s figures are too few to judge the practice by; the result for all schools together is the one the study was designed to answer.',
+    };
+  }
+  return {
+    runId: run.id,
+    label: run.label,
+    measureName: r.measure.name,
+    waveName: r.wave.name,
+    isPrimary: run.is_primary,
+    lockedAt: new Date(run.locked_at).toISOString(),
+    district: {
+      g,
+      gCi: r.effectSize.ci,
+      improvementIndex: r.effectSize.improvementIndex,
+      substantivelyImportant: r.effectSize.substantivelyImportant,
+      favours,
+      p: r.primary.p,
+      alpha: r.alpha,
+      test: r.primary.test,
+      alternative: r.primary.alternative,
+      met,
+      clusteringP,
+      students: districtStudents,
+      classrooms: r.descriptives.reduce((t, d) => t + d.classrooms, 0),
+    },
+    sentences: resultSentences(r, favours, met, clusteringP),
+    site,
+  };
+}
+
+/**
+ * Everything a principal is told about one school in one study, with small cells suppressed. The digest
+ * e-mail and the My school page are both built from this, so they always say the same thing.
+ * Reads through the caller's manager, so inside a lock it sees the run as locked.
+ */
+export async function buildSiteFacts(manager: EntityManager, studyId: string, siteId: string): Promise<SiteFacts> {
+  const [study] = await manager.query(
+    `SELECT s.id, s.title, s.intervention, s.comparison_condition, s.status, s.unit_of_assignment, s.quasi_experimental, x.name AS site_name
+       FROM studies s JOIN study_sites ss ON ss.study_id = s.id AND ss.site_id = $2 JOIN sites x ON x.id = ss.site_id
+      WHERE s.id = $1`,
+    [studyId, siteId],
+  );
+  if (!study) throw AppError.notFound('The school in this study');
+
+  const armRows: { arm: Arm | null; classrooms: number; students: number }[] = await manager.query(
+    `SELECT c.arm, count(DISTINCT c.id)::int AS classrooms, count(st.student_code)::int AS students
+       FROM classrooms c LEFT JOIN students st ON st.study_id = c.study_id AND st.classroom_id = c.id
+      WHERE c.study_id = $1 AND c.site_id = $2
+      GROUP BY c.arm`,
+    [studyId, siteId],
+  );
+  armRows.sort((a, b) => armOrder(a.arm) - armOrder(b.arm));
+  const counts = suppressCounts(armRows.map((a) => a.students));
+
+  const waves: { id: string; name: string; kind: SiteFacts['waves'][number]['kind']; opens_on: string; closes_on: string; status: 'upcoming' | 'open' | 'closed' }[] =
+    await manager.query(
+      `SELECT id, name, kind, to_char(opens_on, 'YYYY-MM-DD') AS opens_on, to_char(closes_on, 'YYYY-MM-DD') AS closes_on,
+              CASE WHEN current_date < opens_on THEN 'upcoming' WHEN current_date > closes_on THEN 'closed' ELSE 'open' END AS status
+         FROM waves WHERE study_id = $1 ORDER BY opens_on, name`,
+      [studyId],
+    );
+  // Every classroom owes one sheet per wave and measure, whether or not its row exists yet.
+  const sheets: { wave_id: string; classroom_name: string; measure_name: string; state: string }[] = await manager.query(
+    `SELECT w.id AS wave_id, c.name AS classroom_name, m.name AS measure_name, coalesce(sh.state, 'open') AS state
+       FROM classrooms c
+       JOIN measures m ON m.study_id = c.study_id
+       JOIN waves w ON w.study_id = c.study_id
+       LEFT JOIN score_sheets sh ON sh.classroom_id = c.id AND sh.measure_id = m.id AND sh.wave_id = w.id
+      WHERE c.study_id = $1 AND c.site_id = $2
+      ORDER BY c.name, m.name`,
+    [studyId, siteId],
+  );
+
+  const runs: LockedRunRow[] = await manager.query(
+    `SELECT r.id, r.results, r.locked_at, k.label, k.is_primary
+       FROM runs r JOIN comparisons k ON k.id = r.comparison_id
+      WHERE r.study_id = $1 AND r.state = 'locked' AND r.results IS NOT NULL
+      ORDER BY k.is_primary DESC, r.locked_at, r.id`,
+    [studyId],
+  );
+  const results = runs.map((run) => siteResult(run, siteId));
+
+  const cautions: string[] = [];
+  const anyHidden = counts.hidden || results.some((r) => r.site?.arms.some((a) => a.students.suppressed) || r.site?.totalStudents.suppressed);
+  if (results.length) {
+    cautions.push('A p-value is not the size or the importance of an effect: the effect size (Hedges’ g) and its interval are given beside it.');
+  }
+  cautions.push('These figures describe groups of students, never individual students or teachers: they are not for evaluating teachers or for placing students.');
+  if (results.some((r) => runs.find((x) => x.id === r.runId)!.results.cautions.some((c) => c.startsWith('The samples are small')))) {
+    cautions.push('The samples are small: the estimate is imprecise and conclusions are limited.');
+  }
+  if (study.quasi_experimental) {
+    cautions.push('Classrooms were not all assigned at random (the draw was changed by hand), so the result shows a difference between groups, not necessarily what the practice caused.');
+  }
+  if (anyHidden) cautions.push(`To protect students’ privacy, any figure based on ${SUPPRESSED_WORDS} is not shown.`);
+  cautions.push('Student records are protected by law and district policy: follow your district’s data-privacy rules and its research review board before sharing these figures.');
+
+  return {
+    generatedAt: new Date().toISOString(),
+    study: {
+      id: study.id,
+      title: study.title,
+      intervention: study.intervention,
+      comparisonCondition: study.comparison_condition,
+      status: study.status,
+      unitOfAssignment: study.unit_of_assignment,
+      quasiExperimental: study.quasi_experimental,
+    },
+    site: { id: siteId, name: study.site_name },
+    participation: {
+      arms: armRows.map((a, i) => ({ arm: a.arm, classrooms: a.classrooms, students: counts.cells[i] })),
+      classrooms: armRows.reduce((t, a) => t + a.classrooms, 0),
+      students: counts.total,
+      note: counts.hidden
+        ? counts.total.suppressed
+          ? `Student numbers are not shown: your school has ${SUPPRESSED_WORDS} with scores so far.`
+          : `Student numbers by group are not shown: one group has ${SUPPRESSED_WORDS}, and showing the other would reveal it. Your school has ${countWords(counts.total)} in all.`
+        : null,
+    },
+    waves: waves.map((w) => {
+      const mine = sheets.filter((s) => s.wave_id === w.id);
+      const accepted = mine.filter((s) => s.state === 'accepted').length;
+      const submitted = mine.filter((s) => s.state === 'submitted').length;
+      return {
+        id: w.id,
+        name: w.name,
+        kind: w.kind,
+        opensOn: w.opens_on,
+        closesOn: w.closes_on,
+        status: w.status,
+        sheets: mine.length,
+        accepted,
+        submitted,
+        waiting: mine.length - accepted - submitted,
+        percentAccepted: mine.length ? (100 * accepted) / mine.length : 0,
+      };
+    }),
+    late: waves
+      .filter((w) => w.status === 'closed')
+      .flatMap((w) =>
+        sheets
+          .filter((s) => s.wave_id === w.id && (s.state === 'open' || s.state === 'returned'))
+          .map((s) => ({ classroomName: s.classroom_name, waveName: w.name, measureName: s.measure_name, returned: s.state === 'returned', closedOn: w.closes_on })),
+      ),
+    results,
+    cautions,
+  };
+}

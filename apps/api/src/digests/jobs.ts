@@ -1,0 +1,29 @@
+import type { DataSource } from 'typeorm';
+import type { Config } from '../config.js';
+import { DIGEST_SEND_QUEUE, DIGEST_TICK_QUEUE, type JobQueue } from '../jobs/queue.js';
+import type { Logger } from '../logger.js';
+import type { Mailer } from '../mail/mailer.js';
+import { defaultDelivery, deliverDigest, runDigestTick, type DeliveryPolicy } from './service.js';
+
+export interface DigestWorkerOptions {
+  mailer: Mailer;
+  config: Config;
+  delivery?: DeliveryPolicy;
+  /** Register the schedule's tick (every 15 minutes); tests call the tick themselves instead. */
+  schedule?: boolean;
+}
+
+export const DIGEST_TICK_CRON = '*/15 * * * *';
+
+/** The outbox's sender and the schedule's tick; safe to run in any number of processes. */
+export async function startDigestWorkers(queue: JobQueue, db: DataSource, logger: Logger, pollingIntervalSeconds: number, options: DigestWorkerOptions): Promise<void> {
+  const ctx = { db, mailer: options.mailer, config: options.config, jobs: queue, logger, delivery: options.delivery ?? defaultDelivery };
+  await queue.boss.work<{ digestId: string }>(DIGEST_SEND_QUEUE, { batchSize: 1, pollingIntervalSeconds }, async ([job]) => {
+    await deliverDigest(ctx, job.data.digestId);
+  });
+  await queue.boss.work(DIGEST_TICK_QUEUE, { batchSize: 1, pollingIntervalSeconds: Math.max(pollingIntervalSeconds, 5) }, async () => {
+    const done = await runDigestTick(ctx);
+    if (done.weekly || done.requeued) logger.info(done, 'digest tick');
+  });
+  if (options.schedule ?? true) await queue.boss.schedule(DIGEST_TICK_QUEUE, DIGEST_TICK_CRON, {}, { tz: 'UTC' });
+}
