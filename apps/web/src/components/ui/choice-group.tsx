@@ -41,14 +41,14 @@ export function ChoiceGroup({ legend, hint, error, choices, input, className = '
               aria-describedby={choice.hint ? `${id}-${i}-hint` : undefined}
               className="mt-1 size-4 accent-[var(--color-accent)]"
             />
-            <label htmlFor={`${id}-${i}`}>
-              {choice.label}
+            <div>
+              <label htmlFor={`${id}-${i}`}>{choice.label}</label>
               {choice.hint && (
-                <span id={`${id}-${i}-hint`} className="block text-sm text-ink-muted">
+                <p id={`${id}-${i}-hint`} className="text-sm text-ink-muted">
                   {choice.hint}
-                </span>
+                </p>
               )}
-            </label>
+            </div>
           </div>
         ))}
       </div>
@@ -67,14 +67,16 @@ export function Checkbox({ label, hint, ...props }: Omit<ComponentProps<'input'>
   return (
     <div className="flex items-start gap-2">
       <input {...props} id={id} type="checkbox" aria-describedby={hint ? `${id}-hint` : undefined} className="mt-1 size-4 accent-[var(--color-accent)]" />
-      <label htmlFor={id}>
-        <span className="font-semibold">{label}</span>
+      <div>
+        <label htmlFor={id} className="font-semibold">
+          {label}
+        </label>
         {hint && (
-          <span id={`${id}-hint`} className="block text-sm text-ink-muted">
+          <p id={`${id}-hint`} className="text-sm text-ink-muted">
             {hint}
-          </span>
+          </p>
         )}
-      </label>
+      </div>
     </div>
   );
 }

@@ -17,6 +17,20 @@ export type PlanningValues = Pick<
   | 'icc'
 >;
 
+export const planningFields = [
+  'alpha',
+  'alternative',
+  'shareIntervention',
+  'smallestEffectOfInterest',
+  'plannedSites',
+  'plannedClassrooms',
+  'plannedStudentsPerClassroom',
+  'covariate',
+  'covariateR2',
+  'iccSource',
+  'icc',
+] as const satisfies readonly (keyof PlanningValues)[];
+
 export interface PlanningContext {
   unit: UnitOfAssignment;
   /** The primary measure's kind, which sets the standard default ICC; null before one is chosen. */

@@ -27,7 +27,7 @@ import {
   primaryTestLabels,
   unitOfAnalysisLabels,
 } from '@/features/plan/plan-labels';
-import { defaultIcc } from '@/features/plan/planning';
+import { defaultIcc, planningFields, type PlanningValues } from '@/features/plan/planning';
 import { formatTime } from '@/lib/format';
 import { applyApiError, type FormProblem } from '@/lib/form-errors';
 import { plainMessages } from '@/lib/form-messages';
@@ -293,9 +293,12 @@ function PlanFields({ measures, waves, unit }: RefsProps) {
   );
 }
 
+/** Watches only what the calculation reads, so typing the hypothesis does not recompute it. */
 function LivePlanningPanel({ unit, measures }: { unit: UnitOfAssignment; measures: Measure[] }) {
-  const values = useWatch<FormValues>() as FormValues;
-  const measure = measures.find((m) => m.id === values.primaryMeasureId);
+  const { control } = useFormContext<FormValues>();
+  const watched = useWatch({ control, name: [...planningFields, 'primaryMeasureId'] });
+  const values = Object.fromEntries(planningFields.map((f, i) => [f, watched[i]])) as PlanningValues;
+  const measure = measures.find((m) => m.id === watched[planningFields.length]);
   return <PlanningPanel values={values} context={{ unit, measureKind: measure?.kind ?? null }} />;
 }
 

@@ -2,7 +2,7 @@ import * as Plot from '@observablehq/plot';
 import { useCallback, useMemo } from 'react';
 import { Chart, chartColors } from '@/components/ui/chart';
 import { FigureTable } from '@/components/ui/figure-table';
-import { curveUnit, planningFigures, type CurvePoint, type PlanningContext, type PlanningValues } from '@/features/plan/planning';
+import { curveUnit, planningFields, planningFigures, type CurvePoint, type PlanningContext, type PlanningValues } from '@/features/plan/planning';
 
 const sd = (v: number) => v.toFixed(2);
 const percent = (v: number) => `${Math.round(v * 100)}%`;
@@ -32,7 +32,7 @@ interface PlanningPanelProps {
 /** Minimum detectable effect size and power for the planned numbers, recomputed as the plan is typed. */
 export function PlanningPanel({ values, context }: PlanningPanelProps) {
   // The form hands over a new object on every keystroke; recompute (and redraw) only when a number changed.
-  const key = JSON.stringify([values, context]);
+  const key = JSON.stringify([planningFields.map((f) => values[f] ?? null), context]);
   const figures = useMemo(() => planningFigures(values, context), [key]);
   const unit = curveUnit(context.unit);
   const cluster = context.unit !== 'student';
