@@ -52,6 +52,12 @@ export function Chart({ plot, summary, caption, children, className = '' }: Char
       ...plot(width),
       width,
     });
+    // The frame is the image (role="img" with the summary): Plot's own labels on <g> elements are not allowed there.
+    for (const labelled of figure.querySelectorAll('[aria-label], [aria-description]')) {
+      labelled.removeAttribute('aria-label');
+      labelled.removeAttribute('aria-description');
+    }
+    figure.setAttribute('aria-hidden', 'true');
     node.replaceChildren(figure);
     return () => figure.remove();
   }, [plot, width]);
