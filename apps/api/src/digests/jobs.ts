@@ -18,8 +18,12 @@ export const DIGEST_TICK_CRON = '*/15 * * * *';
 /** The outbox's sender and the schedule's tick; safe to run in any number of processes. */
 export async function startDigestWorkers(queue: JobQueue, db: DataSource, logger: Logger, pollingIntervalSeconds: number, options: DigestWorkerOptions): Promise<void> {
   const ctx = { db, mailer: options.mailer, config: options.config, jobs: queue, logger, delivery: options.delivery ?? defaultDelivery };
-  await queue.boss.work<{ digestId: string }>(DIGEST_SEND_QUEUE, { batchSize: 1, pollingIntervalSeconds }, async ([job]) => {
-    await deliverDigest(ctx, job.data.digestId);
+  // pg-boss waits a polling interval after every fetch, so a lock's digests for many schools go out in batches.
+  await queue.boss.work<{ digestId: string }>(DIGEST_SEND_QUEUE, { batchSize: 10, pollingIntervalSeconds }, async (jobs) => {
+    const failed: unknown[] = [];
+    for (const job of jobs) await deliverDigest(ctx, job.data.digestId).catch((err: unknown) => failed.push(err));
+    // Failing the batch makes pg-boss run it again; digests already sent are skipped by their state.
+    if (failed.length) throw failed[0];
   });
   await queue.boss.work(DIGEST_TICK_QUEUE, { batchSize: 1, pollingIntervalSeconds: Math.max(pollingIntervalSeconds, 5) }, async () => {
     const done = await runDigestTick(ctx);

@@ -1,22 +1,6 @@
 import { EmptyState } from '@/components/ui/empty-state';
 import { PageHeader } from '@/components/ui/page-header';
 
-export function MySchoolPage() {
-  return (
-    <>
-      <PageHeader title="My school" description="How your school's part of the district's studies is going." />
-      <EmptyState title="Your school is not in a study yet">
-        <p>
-          When your school takes part in a study, this page shows how many of its classrooms take part and how complete their
-          scores are. Once the research lead locks a result, it appears here in plain language, and you also receive it as an
-          e-mailed digest.
-        </p>
-        <p>There is nothing for you to do now. If you expected to see a study here, ask your district's study coordinator.</p>
-      </EmptyState>
-    </>
-  );
-}
-
 /** Home for an account whose roles were all taken away: it can sign in but opens nothing. */
 export function NoRolePage() {
   return (
