@@ -63,6 +63,7 @@ function cellFor(row: CompletionRow, waveId: string, measureId: string): Complet
 export function CompletionTable({ view, waveDates = [], highlight, sheetHref }: CompletionTableProps) {
   const day = today();
   const notBegun = new Set(waveDates.filter((w) => w.opensOn > day).map((w) => w.id));
+  const closed = new Set(waveDates.filter((w) => w.closesOn < day).map((w) => w.id));
   const columns = view.waves.flatMap((wave) => view.measures.map((measure) => ({ wave, measure })));
   const span = 3 + columns.length;
 
@@ -122,6 +123,7 @@ export function CompletionTable({ view, waveDates = [], highlight, sheetHref }: 
                           href={sheetHref(cell.sheetId)}
                           context={`${row.classroomName}, ${wave.name}, ${measure.name}`}
                           notDue={notBegun.has(wave.id) && cell.state === 'open' && cell.rows === 0}
+                          late={closed.has(wave.id) && cell.state === 'open'}
                           dimmed={highlight !== undefined && cell.state !== highlight}
                         />
                       ) : (
@@ -155,16 +157,28 @@ export function CompletionTable({ view, waveDates = [], highlight, sheetHref }: 
   );
 }
 
-function MatrixCell({ cell, href, context, notDue, dimmed }: { cell: CompletionCell; href: string; context: string; notDue: boolean; dimmed: boolean }) {
+interface MatrixCellProps {
+  cell: CompletionCell;
+  href: string;
+  context: string;
+  /** Its wave has not begun. */
+  notDue: boolean;
+  /** Its wave closed while the sheet is still open. */
+  late: boolean;
+  dimmed: boolean;
+}
+
+function MatrixCell({ cell, href, context, notDue, late, dimmed }: MatrixCellProps) {
   const label = notDue ? 'Not due yet' : sheetStateLabels[cell.state];
-  const counts = cell.rows === 0 ? 'no rows' : `${cell.rows} row${cell.rows === 1 ? '' : 's'}${cell.left ? ` · ${cell.left} left` : ''}`;
+  const counts = `${cell.rows === 0 ? 'no rows' : `${cell.rows} row${cell.rows === 1 ? '' : 's'}${cell.left ? ` · ${cell.left} left` : ''}`}${late ? ' · wave closed' : ''}`;
   return (
     <Link
       to={href}
-      className={`block rounded-md px-2 py-1.5 no-underline hover:bg-sunken ${dimmed ? 'opacity-45' : ''} ${cell.state === 'returned' ? 'bg-caution-soft' : ''}`}
+      className={`block rounded-md px-2 py-1.5 no-underline hover:bg-sunken ${cell.state === 'returned' && !dimmed ? 'bg-caution-soft' : ''}`}
     >
       <span className="sr-only">{context}: </span>
-      <span className={`flex items-center gap-1.5 font-semibold ${notDue ? 'text-ink-muted' : cellTones[cell.state]}`}>
+      {/* Cells outside the state filter fade to the muted ink, which keeps its contrast, instead of turning transparent. */}
+      <span className={`flex items-center gap-1.5 ${dimmed ? 'font-normal text-ink-muted' : `font-semibold ${notDue ? 'text-ink-muted' : cellTones[cell.state]}`}`}>
         <SheetStateMark state={cell.state} />
         {label}
       </span>

@@ -1,0 +1,208 @@
+import AxeBuilder from '@axe-core/playwright';
+import { expect, request as playwrightRequest, test, type APIRequestContext, type Page } from '@playwright/test';
+
+const PASSWORD = 'evenhand-demo';
+const DEMO_STUDY = 'Lantern Reading Routine in grades 3 and 4';
+const MAILDEV = process.env.MAILDEV_URL ?? 'http://127.0.0.1:1080';
+
+async function signIn(page: Page, email: string) {
+  await page.goto('/sign-in');
+  await page.getByLabel('E-mail address').fill(email);
+  await page.getByLabel('Password', { exact: true }).fill(PASSWORD);
+  await page.getByRole('button', { name: 'Sign in' }).click();
+  // Password hashing is slow on purpose; on a busy machine signing in can take several seconds.
+  await expect(page).not.toHaveURL(/\/sign-in/, { timeout: 20_000 });
+}
+
+async function signOut(page: Page) {
+  await page.getByRole('button', { name: 'Sign out' }).click();
+  await expect(page.getByRole('button', { name: 'Sign in' })).toBeVisible();
+}
+
+/** No serious or critical accessibility problems on the page as it is now. */
+async function expectAccessible(page: Page) {
+  const results = await new AxeBuilder({ page }).analyze();
+  const bad = results.violations.filter((v) => v.impact === 'serious' || v.impact === 'critical');
+  expect(bad.map((v) => `${v.id}: ${v.nodes.map((n) => n.target.join(' ')).join(', ')}`)).toEqual([]);
+}
+
+/** An API session for set-up, authenticated with the bearer token (no CSRF header needed). */
+async function apiAs(baseURL: string, email: string): Promise<APIRequestContext> {
+  const anonymous = await playwrightRequest.newContext({ baseURL });
+  const login = await anonymous.post('/api/auth/login', { data: { email, password: PASSWORD } });
+  expect(login.status()).toBe(200);
+  const { token } = await login.json();
+  await anonymous.dispose();
+  return playwrightRequest.newContext({ baseURL, extraHTTPHeaders: { Authorization: `Bearer ${token}` } });
+}
+
+async function created<T = { id: string }>(response: Promise<import('@playwright/test').APIResponse>, status = 201): Promise<T> {
+  const res = await response;
+  expect(res.status(), await res.text()).toBe(status);
+  return res.json() as Promise<T>;
+}
+
+const isoDay = (offsetDays: number) => new Date(Date.now() + offsetDays * 86_400_000).toISOString().slice(0, 10);
+
+interface OwnStudy {
+  id: string;
+  title: string;
+}
+
+/** A study of this file's own, with a baseline wave open today and teacher1's classroom in it. */
+async function createOpenStudy(baseURL: string): Promise<OwnStudy> {
+  const lead = await apiAs(baseURL, 'lead@evenhand.test');
+  const coordinator = await apiAs(baseURL, 'coordinator@evenhand.test');
+  const suffix = Math.random().toString(36).slice(2, 7).toUpperCase();
+  const title = `Score sheet journeys ${suffix}`;
+  const study = await created(
+    lead.post('/api/studies', {
+      data: { title, intervention: 'Paired reading twice a week', comparisonCondition: 'Business-as-usual reading block', unitOfAssignment: 'classroom' },
+    }),
+  );
+  const measure = await created(lead.post(`/api/studies/${study.id}/measures`, { data: { name: 'Words read correctly', minScore: 0, maxScore: 200, kind: 'achievement' } }));
+  await created(lead.post(`/api/studies/${study.id}/waves`, { data: { kind: 'baseline', name: 'Pretest', opensOn: isoDay(-5), closesOn: isoDay(20) } }));
+  const outcome = await created(lead.post(`/api/studies/${study.id}/waves`, { data: { kind: 'outcome', name: 'Posttest', opensOn: isoDay(120), closesOn: isoDay(150) } }));
+  await created(
+    lead.put(`/api/studies/${study.id}/plan`, {
+      data: {
+        primaryMeasureId: measure.id,
+        primaryWaveId: outcome.id,
+        hypothesis: 'Classrooms with paired reading read more words correctly at the posttest than business-as-usual classrooms.',
+        plannedSites: 1,
+        plannedClassrooms: 2,
+        plannedStudentsPerClassroom: 20,
+      },
+    }),
+    200,
+  );
+  await created(lead.post(`/api/studies/${study.id}/plan/seal`, { data: {} }), 200);
+  const cohort = await created(coordinator.post(`/api/studies/${study.id}/cohorts`, { data: { name: 'Grade 3, this year' } }));
+  const site = await created(coordinator.post(`/api/studies/${study.id}/sites`, { data: { name: `Juniper Lane ${suffix}`, code: `J${suffix}` } }));
+  await created(
+    coordinator.post(`/api/studies/${study.id}/classrooms`, {
+      data: { siteId: site.id, cohortId: cohort.id, name: 'Room 12', grade: '3', expectedSize: 20, teacher: { email: 'teacher1@evenhand.test', name: 'Tomasz Ferreira' } },
+    }),
+  );
+  await lead.dispose();
+  await coordinator.dispose();
+  return { id: study.id, title };
+}
+
+let own: OwnStudy;
+
+test.beforeAll(async ({ baseURL }) => {
+  test.setTimeout(60_000);
+  own = await createOpenStudy(baseURL!);
+});
+
+test('a teacher fixes the sheet the coordinator returned and resubmits it; the coordinator accepts it from the matrix', async ({ page }) => {
+  test.setTimeout(90_000); // two sign-ins and three accessibility scans
+  await signIn(page, 'teacher1@evenhand.test');
+  await expect(page.getByRole('heading', { level: 1, name: 'My classes', exact: true })).toBeVisible();
+  const demo = page.getByRole('region', { name: DEMO_STUDY });
+  const room3b = demo.getByRole('region', { name: /Room 3B/ });
+  await expect(room3b.getByText(/Returned: LV-\d{4} reads 12 words per minute in spring/)).toBeVisible();
+  await expectAccessible(page);
+
+  const reason = await room3b.getByText(/Returned: LV-\d{4}/).textContent();
+  const code = /LV-\d{4}/.exec(reason ?? '')![0];
+
+  await room3b.getByRole('link', { name: /Fix and resubmit/ }).click();
+  await expect(page.getByRole('heading', { name: 'Returned by the coordinator' })).toBeVisible();
+  const flagged = page.getByRole('row').filter({ has: page.getByRole('rowheader', { name: /named in the coordinator’s reasons/ }) });
+  await expect(flagged).toHaveCount(1);
+  await expect(flagged.getByRole('textbox', { name: /^Student code, row/ })).toHaveValue(code);
+  const score = flagged.getByRole('textbox', { name: /^Score, row/ });
+  await expect(score).toHaveValue('12');
+  await expectAccessible(page);
+
+  await score.fill('96');
+  await expect(page.getByText(/Saved at \d/)).toBeVisible();
+  await page.getByRole('button', { name: 'Submit again' }).click();
+  const confirm = page.getByRole('dialog', { name: 'Submit this score sheet?' });
+  await confirm.getByRole('button', { name: 'Submit to the coordinator' }).click();
+  await expect(page.getByText(/This sheet was submitted on .* and is waiting for the coordinator/)).toBeVisible();
+  await expect(page.getByRole('row', { name: `${code} 96 No` })).toBeVisible();
+  await signOut(page);
+
+  await signIn(page, 'coordinator@evenhand.test');
+  await page.getByRole('link', { name: DEMO_STUDY }).click();
+  await page.getByRole('navigation', { name: 'Study' }).getByRole('link', { name: 'Score sheets' }).click();
+  await expect(page.getByRole('heading', { name: 'Score sheets', level: 2 })).toBeVisible();
+  await page.getByLabel('School').selectOption({ label: 'Alder Street Elementary' });
+  await page.getByLabel('State').selectOption({ label: 'Submitted' });
+  await expectAccessible(page);
+  await page.getByRole('link', { name: /^Room 3B, Spring 2026, Oral reading fluency.*: Submitted/ }).click();
+  await expect(page.getByRole('heading', { name: 'Room 3B · Spring 2026' })).toBeVisible();
+  await page.getByRole('button', { name: 'Accept' }).click();
+  await expect(page.getByText("Accepted. Room 3B's sheet is now read-only.")).toBeVisible();
+  await page.getByRole('link', { name: 'All score sheets' }).click();
+  await page.getByLabel('School').selectOption({ label: 'Alder Street Elementary' });
+  await expect(page.getByRole('link', { name: /^Room 3B, Spring 2026, Oral reading fluency.*: Accepted/ })).toBeVisible();
+});
+
+test('a CSV with one bad row is refused with its line number and changes nothing; a good one replaces the rows after a preview', async ({ page }) => {
+  test.setTimeout(60_000);
+  await signIn(page, 'teacher1@evenhand.test');
+  const study = page.getByRole('region', { name: own.title });
+  await study.getByRole('link', { name: /^Enter scores — Pretest/ }).click();
+  await expect(page.getByRole('heading', { level: 1, name: 'Room 12 · Pretest' })).toBeVisible();
+
+  await page.getByRole('textbox', { name: 'Student code, row 1' }).click();
+  await page.keyboard.type('JL-001');
+  await page.keyboard.press('Tab');
+  await page.keyboard.type('50');
+  await page.keyboard.press('Enter');
+  await page.keyboard.type('JL-002');
+  await page.keyboard.press('Tab');
+  await page.keyboard.type('60');
+  await expect(page.getByText(/Saved at \d/)).toBeVisible();
+  await expectAccessible(page);
+
+  await page.getByLabel('CSV file', { exact: true }).setInputFiles({
+    name: 'pretest.csv',
+    mimeType: 'text/csv',
+    buffer: Buffer.from('student_code;score;left\r\nJL-001;55;no\r\nJL-002;999;no\r\nJL-003;70;no\r\n'),
+  });
+  await expect(page.getByText('pretest.csv was not used; the sheet has not changed')).toBeVisible();
+  const problems = page.getByRole('table', { name: 'Problems in pretest.csv, by line' });
+  await expect(problems.getByRole('row', { name: /^3 score The score 999 is outside the measure's range 0–200$/ })).toBeVisible();
+  await expect(page.getByRole('textbox', { name: 'Score, row 2' })).toHaveValue('60');
+  const sheetId = new URL(page.url()).pathname.split('/').pop();
+  const unchanged = await (await page.request.get(`/api/score-sheets/${sheetId}`)).json();
+  expect(unchanged.rows.map((r: { studentCode: string; score: number }) => [r.studentCode, r.score])).toEqual([
+    ['JL-001', 50],
+    ['JL-002', 60],
+  ]);
+
+  await page.getByRole('button', { name: 'Choose another file' }).click();
+  await page.getByLabel('CSV file', { exact: true }).setInputFiles({
+    name: 'pretest.csv',
+    mimeType: 'text/csv',
+    buffer: Buffer.from('\uFEFFstudent_code,score,left,note\r\nJL-001,55,no,\r\nJL-002,61,no,\r\nJL-003,,yes,moved away\r\n'),
+  });
+  await expect(page.getByText('pretest.csv is ready: 3 rows, no problems found')).toBeVisible();
+  await page.getByRole('button', { name: 'Replace the sheet with these 3 rows' }).click();
+  await page.getByRole('dialog', { name: 'Replace the rows on this sheet?' }).getByRole('button', { name: 'Replace the rows' }).click();
+  await expect(page.getByText("The sheet now holds the file's rows")).toBeVisible();
+  await expect(page.getByRole('textbox', { name: 'Student code, row 3' })).toHaveValue('JL-003');
+  await expect(page.getByRole('checkbox', { name: 'Left the study, row 3' })).toBeChecked();
+});
+
+test('the coordinator sends reminders, and the teacher receives one listing the missing sheet', async ({ page }) => {
+  await signIn(page, 'coordinator@evenhand.test');
+  await page.goto(`/studies/${own.id}/score-sheets`);
+  await expect(page.getByRole('link', { name: /^Room 12, Pretest, Words read correctly: Open/ })).toBeVisible();
+  await expect(page.getByRole('link', { name: /^Room 12, Posttest, Words read correctly: Not due yet/ })).toBeVisible();
+  await page.getByRole('button', { name: 'Send reminders' }).click();
+  await page.getByRole('dialog', { name: 'Send reminders to teachers' }).getByRole('button', { name: 'Send the reminders' }).click();
+  await expect(page.getByText('Reminded 1 teacher about 1 sheet.')).toBeVisible();
+
+  await expect
+    .poll(async () => {
+      const all = (await (await page.request.get(`${MAILDEV}/api/email`)).json()) as { subject: string; text: string; to: { address: string }[] }[];
+      return all.find((m) => m.subject === `Score sheets waiting: ${own.title}` && m.to.some((t) => t.address === 'teacher1@evenhand.test'))?.text;
+    })
+    .toContain('Room 12');
+});
