@@ -35,7 +35,7 @@ describe('resultHeadline', () => {
     const r = demoResults();
     r.measure = { ...r.measure, name: 'Behaviour incidents per week', higherIsBetter: false };
     r.alpha = 0.025;
-    r.primary = { ...r.primary, alternative: 'less', confidence: 0.975, meanDifference: -1.2, ci: [-1e308, -0.4], p: 0.0004, significant: true };
+    r.primary = { ...r.primary, alternative: 'less', confidence: 0.975, meanDifference: -1.2, ci: [null, -0.4], p: 0.0004, significant: true };
     const h = resultHeadline(r);
     expect(h.finding).toContain('scored 1.20 lower than students in the comparison arm on Behaviour incidents per week');
     expect(h.finding).toContain('97.5% confidence bound: the difference is at most \u22120.40');
@@ -45,7 +45,7 @@ describe('resultHeadline', () => {
 
   it('says a one-sided "less" test was not met when the intervention arm scored higher', () => {
     const r = demoResults();
-    r.primary = { ...r.primary, alternative: 'less', meanDifference: 3, ci: [-1e308, 8.1], p: 0.91, significant: false };
+    r.primary = { ...r.primary, alternative: 'less', meanDifference: 3, ci: [null, 8.1], p: 0.91, significant: false };
     const h = resultHeadline(r);
     expect(h.met).toBe(false);
     expect(h.verdict).toContain('The data do not show the intervention arm scoring lower.');

@@ -29,13 +29,19 @@ export const queueRunSchema = z.object({
 });
 export type QueueRun = z.infer<typeof queueRunSchema>;
 
+/**
+ * A confidence interval whose open end, under a one-sided test, is stored as null: the engine's ±Infinity
+ * becomes null in JSON (and in the runs table's jsonb).
+ */
+const openInterval = z.tuple([z.number().nullable(), z.number().nullable()]);
+
 const tTest = z.object({
   t: z.number(),
   df: z.number(),
   p: z.number(),
   meanDifference: z.number(),
   se: z.number(),
-  ci: z.tuple([z.number(), z.number()]),
+  ci: openInterval,
   confidence: z.number(),
   alternative: z.string(),
 });
@@ -99,7 +105,7 @@ export const runResultsSchema = z
       welch: tTest,
       mannWhitney: z.object({ u: z.number(), z: z.number(), p: z.number(), method: z.string() }).nullable(),
       ancova: z
-        .object({ adjustedDifference: z.number(), se: z.number(), t: z.number(), df: z.number(), p: z.number(), ci: z.tuple([z.number(), z.number()]), g: z.number(), n: z.number().int() })
+        .object({ adjustedDifference: z.number(), se: z.number(), t: z.number(), df: z.number(), p: z.number(), ci: openInterval, g: z.number(), n: z.number().int() })
         .nullable(),
       classroomMeans: tTest.extend({ classrooms1: z.number().int(), classrooms2: z.number().int() }).nullable(),
     }),

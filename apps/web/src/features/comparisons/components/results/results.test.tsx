@@ -23,7 +23,7 @@ describe('PrimaryResult', () => {
 
   it('names a one-sided "less" test and the direction it tested', () => {
     const r = demoResults();
-    r.primary = { ...r.primary, alternative: 'less', meanDifference: -4, ci: [-1e308, -1.5], p: 0.004, significant: true };
+    r.primary = { ...r.primary, alternative: 'less', meanDifference: -4, ci: [null, -1.5], p: 0.004, significant: true };
     render(<PrimaryResult results={r} unit="student" />);
     expect(screen.getByTestId('headline')).toHaveTextContent('scored 4.00 lower than students in the comparison arm');
     expect(screen.getByText(/one-sided \(intervention lower\)/)).toBeInTheDocument();
