@@ -218,8 +218,9 @@ export function RunResultsPage() {
   return (
     <div className="space-y-8">
       <header className="space-y-3">
-        <p className="text-sm print:hidden">
+        <p className="flex flex-wrap gap-x-6 text-sm print:hidden">
           <Link to={studyPath(studyId, 'comparisons')}>All comparisons</Link>
+          <Link to={reportPath(studyId)}>The study report</Link>
         </p>
         <div className="flex flex-wrap items-center gap-2">
           {comparison && <ComparisonBadges comparison={comparison} />}
@@ -227,7 +228,11 @@ export function RunResultsPage() {
           <RunStateBadge state={run.state} />
         </div>
         <h2 className="text-2xl font-semibold tracking-tight">{comparison?.label ?? run.results?.measure.name ?? 'Comparison'}</h2>
-        <p className="text-ink-muted">{runKindLabels[run.kind]}</p>
+        <p className="text-ink-muted">
+          {run.kind === 'confirmatory'
+            ? `${runKindLabels.confirmatory}: accepted score sheets only, following plan version ${run.planVersion ?? '—'}.`
+            : `${runKindLabels.monitoring}: the score sheets submitted or accepted when it ran.`}
+        </p>
         <RunFacts run={run} />
       </header>
 

@@ -1,0 +1,70 @@
+import type { Comparison } from '@evenhand/entities';
+import { QueryClientProvider } from '@tanstack/react-query';
+import { fireEvent, render, screen, waitFor } from '@testing-library/react';
+import { MemoryRouter } from 'react-router-dom';
+import { beforeAll, describe, expect, it, vi } from 'vitest';
+import { createQueryClient } from '@/app/query-client';
+import { ComparisonCard } from '@/features/comparisons/components/comparison-card';
+
+const comparison: Comparison = {
+  id: '529d2883-2949-401e-bb2b-85800c4103a5',
+  studyId: 'c40f0c41-126b-4104-bf98-f984f59883c5',
+  measureId: 'edb03069-b06f-4d5e-8fd8-259910f2635c',
+  measureName: 'Oral reading fluency',
+  waveId: '60960c7e-9499-4073-b98b-7b4fda541b68',
+  waveName: 'Spring 2026',
+  label: 'Oral reading fluency at Spring 2026',
+  unitOfAnalysis: 'student',
+  primaryTest: 'welch',
+  covariate: 'baseline',
+  prespecified: true,
+  isPrimary: true,
+  scheduleCron: null,
+  latestRun: null,
+  lockedRunId: null,
+};
+
+function renderCard(overrides: Partial<Comparison>, onQueue = vi.fn(async () => undefined)) {
+  render(
+    <QueryClientProvider client={createQueryClient()}>
+      <MemoryRouter>
+        <ComparisonCard studyId={comparison.studyId} comparison={{ ...comparison, ...overrides }} canRun onQueue={onQueue} queueError={null} queueing={null} />
+      </MemoryRouter>
+    </QueryClientProvider>,
+  );
+  return onQueue;
+}
+
+beforeAll(() => {
+  // jsdom has no modal dialogs.
+  HTMLDialogElement.prototype.showModal ??= function showModal(this: HTMLDialogElement) {
+    this.setAttribute('open', '');
+  };
+  HTMLDialogElement.prototype.close ??= function close(this: HTMLDialogElement) {
+    this.removeAttribute('open');
+  };
+});
+
+describe('ComparisonCard', () => {
+  it('queues a confirmatory run of a pre-specified comparison straight away when nothing is locked', () => {
+    const onQueue = renderCard({});
+    fireEvent.click(screen.getByRole('button', { name: 'Run confirmatory' }));
+    expect(onQueue).toHaveBeenCalledWith({ kind: 'confirmatory' });
+  });
+
+  it('offers no confirmatory run for an exploratory comparison, and marks it exploratory', () => {
+    renderCard({ prespecified: false, isPrimary: false });
+    expect(screen.queryByRole('button', { name: 'Run confirmatory' })).not.toBeInTheDocument();
+    expect(screen.getByRole('button', { name: 'Run a monitoring check' })).toBeInTheDocument();
+    expect(screen.getByText('Exploratory')).toBeInTheDocument();
+  });
+
+  it('asks for the reason before re-analysing a comparison whose result is locked', async () => {
+    const onQueue = renderCard({ lockedRunId: '047a627e-ad19-407c-a49f-c5661803f170' });
+    fireEvent.click(screen.getByRole('button', { name: 'Run confirmatory' }));
+    expect(onQueue).not.toHaveBeenCalled();
+    fireEvent.change(await screen.findByLabelText('Why are the data analysed again?'), { target: { value: 'Two sheets were corrected after the lock.' } });
+    fireEvent.click(screen.getByRole('button', { name: 'Queue the re-analysis' }));
+    await waitFor(() => expect(onQueue).toHaveBeenCalledWith({ kind: 'confirmatory', reason: 'Two sheets were corrected after the lock.' }));
+  });
+});
