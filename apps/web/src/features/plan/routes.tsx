@@ -110,7 +110,7 @@ export function PlanPage() {
         >
           {lead ? (
             <PlanForm
-              initial={draft ?? blankPlan(refs.waves)}
+              initial={draft ?? blankPlan()}
               {...refs}
               unit={study.unitOfAssignment}
               onSaveDraft={(content) => saveDraft.mutateAsync(content)}

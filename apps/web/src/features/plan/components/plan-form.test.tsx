@@ -15,7 +15,7 @@ const waves: Wave[] = [
 ];
 
 function renderForm(onSaveDraft = vi.fn().mockResolvedValue(undefined)) {
-  render(<PlanForm initial={blankPlan(waves)} measures={measures} waves={waves} unit="classroom" onSaveDraft={onSaveDraft} onSeal={vi.fn()} />);
+  render(<PlanForm initial={blankPlan()} measures={measures} waves={waves} unit="classroom" onSaveDraft={onSaveDraft} onSeal={vi.fn()} />);
   return onSaveDraft;
 }
 

@@ -51,7 +51,7 @@ function tidy(plan: PlanContent): PlanContent {
   };
 }
 
-export function blankPlan(waves: Wave[]): FormValues {
+export function blankPlan(): FormValues {
   return {
     primaryMeasureId: '',
     primaryWaveId: '',
@@ -61,7 +61,8 @@ export function blankPlan(waves: Wave[]): FormValues {
     alternativeJustification: '',
     primaryTest: 'welch',
     primaryTestReason: '',
-    covariate: waves.some((w) => w.kind === 'baseline') ? 'baseline' : 'none',
+    // The schema's default; the API asks for a baseline wave if there is none yet.
+    covariate: 'baseline',
     unitOfAnalysis: 'student',
     iccSource: 'default',
     icc: null,
@@ -318,6 +319,8 @@ export function PlanForm({ initial, measures, waves, unit, onSaveDraft, onSeal, 
   const [saved, setSaved] = useState<string | null>(null);
   const [sealing, setSealing] = useState<PlanContent | null>(null);
   const [sealBusy, setSealBusy] = useState(false);
+  // Tracked by hand: react-hook-form's isDirty reads dirty on mount under StrictMode.
+  const [edited, setEdited] = useState(false);
   const form = useForm<FormValues>({
     resolver: (amending ? zodResolver(amendFormSchema, plainMessages) : zodResolver(planContentSchema, plainMessages)) as unknown as Resolver<FormValues>,
     defaultValues: initial,
@@ -327,7 +330,7 @@ export function PlanForm({ initial, measures, waves, unit, onSaveDraft, onSeal, 
     handleSubmit,
     setError,
     reset,
-    formState: { errors, isSubmitting, isDirty },
+    formState: { errors, isSubmitting },
   } = form;
 
   const fail = (error: unknown) => setProblem(applyApiError(error, setError, formFields));
@@ -342,6 +345,7 @@ export function PlanForm({ initial, measures, waves, unit, onSaveDraft, onSeal, 
       } else {
         await onSaveDraft?.(plan);
         reset(plan);
+        setEdited(false);
         setSaved(`Draft saved at ${formatTime(new Date())}.`);
       }
     } catch (error) {
@@ -358,7 +362,16 @@ export function PlanForm({ initial, measures, waves, unit, onSaveDraft, onSeal, 
   return (
     <FormProvider {...form}>
       <div className="grid gap-8 xl:grid-cols-[minmax(0,3fr)_minmax(0,2fr)]">
-        <form noValidate onSubmit={save} className="space-y-8" aria-label={amending ? 'Amendment' : 'Plan'}>
+        <form
+          noValidate
+          onSubmit={save}
+          onChange={() => {
+            setEdited(true);
+            setSaved(null);
+          }}
+          className="space-y-8"
+          aria-label={amending ? 'Amendment' : 'Plan'}
+        >
           {problem && <FormProblemAlert problem={problem} />}
           {amending && (
             <Field
@@ -391,7 +404,7 @@ export function PlanForm({ initial, measures, waves, unit, onSaveDraft, onSeal, 
               </>
             )}
             <p aria-live="polite" className="text-sm text-ink-muted">
-              {saved ?? (isDirty && !amending ? 'Unsaved changes.' : '')}
+              {saved ?? (edited && !amending ? 'Unsaved changes.' : '')}
             </p>
           </div>
         </form>

@@ -42,10 +42,11 @@ export function PlanningPanel({ values, context }: PlanningPanelProps) {
       if (!figures.ok) return { marks: [] };
       const planned = nearest(figures.curve, figures.unitsPerArm);
       return {
-        height: 220,
+        height: 240,
         width,
         marginLeft: 48,
-        x: { label: `${capitalise(unit.plural)} per arm →`, grid: true },
+        marginBottom: 44,
+        x: { label: `${capitalise(unit.plural)} per arm →`, labelAnchor: 'center', labelOffset: 38, grid: true },
         y: { label: '↑ MDES (SD)', grid: true, zero: true },
         marks: [
           Plot.line(figures.curve, { x: 'unitsPerArm', y: 'mdes', stroke: chartColors.intervention, strokeWidth: 2 }),
