@@ -30,7 +30,6 @@ import {
   studySheetLoader,
 } from '@/features/score-sheets/routes';
 import {
-  ComingSoonTab,
   StudiesPage,
   studiesLoader,
   studiesShouldRevalidate,
@@ -88,7 +87,6 @@ export function createRoutes(queryClient: QueryClient): RouteObject[] {
                 },
                 {
                   // A study's tabs: each guarded by the role table in lib/navigation.ts (studyTabs).
-                  // To add a tab's page, replace its ComingSoonTab and give it a loader through guardArea.
                   path: `${areas.studies.path}/:studyId`,
                   loader: guardArea(queryClient, areas.studies, studyLoader(queryClient)),
                   Component: StudyLayout,

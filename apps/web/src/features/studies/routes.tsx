@@ -25,7 +25,7 @@ import { StudiesTable } from '@/features/studies/components/studies-table';
 import { StudyBadges, StudyStatusSteps } from '@/features/studies/components/study-status';
 import { formatDate, formatDateTime } from '@/lib/format';
 import { hasRole, studyPath, studyTabs, studyTabsFor } from '@/lib/navigation';
-import { studiesQueryOptions, studyQueryOptions, studyStatusLabels, unitLabels, useCurrentStudy, useStudyId, type StudiesFilter } from '@/lib/study';
+import { studiesQueryOptions, studyQueryOptions, studyStatusLabels, unitLabels, useCurrentStudy, type StudiesFilter } from '@/lib/study';
 
 const PAGE_SIZE = 25;
 
@@ -274,20 +274,5 @@ export function StudyOverviewPage() {
         </div>
       </section>
     </div>
-  );
-}
-
-/** A tab whose page is not built yet: says what it will hold, so the navigation never leads nowhere. */
-export function ComingSoonTab() {
-  const { pathname } = useLocation();
-  const studyId = useStudyId();
-  const tab = Object.values(studyTabs).find((t) => t.path === pathname.split('/')[3]);
-  return (
-    <EmptyState title={`${tab?.label ?? 'This tab'} is coming soon`}>
-      <p>This part of the study is not available in this version of Evenhand yet.</p>
-      <p>
-        <NavLink to={studyPath(studyId, 'overview')}>Back to the overview</NavLink>
-      </p>
-    </EmptyState>
   );
 }
