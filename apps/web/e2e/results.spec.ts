@@ -42,7 +42,7 @@ async function csrfHeader(page: Page): Promise<Record<string, string>> {
 test('the research lead reads the Checks: data quality, attrition against both boundaries, baseline equivalence and box plots', async ({ page }) => {
   await signIn(page, 'lead@evenhand.test');
   await openDemoStudyTab(page, 'Checks');
-  const measure = page.getByRole('region', { name: 'Oral reading fluency (words correct per minute)' });
+  const measure = page.getByRole('region', { name: 'Oral reading fluency (words correct per minute)', exact: true });
   await expect(measure.getByRole('heading', { name: 'Data quality' })).toBeVisible();
   await expect(measure.getByRole('table', { name: /Score sheets and scores by wave/ })).toBeVisible();
   await expect(measure.getByRole('heading', { name: 'Students', level: 4 })).toBeVisible();
@@ -64,7 +64,7 @@ test('the research lead runs the primary comparison, reads its result, locks or 
   // The demo seed may already hold a locked result: then this is a re-analysis, with a reason, that can never be locked.
   const reanalysis = primary.lockedRunId !== null;
 
-  const card = page.getByRole('article', { name: primary.label });
+  const card = page.getByRole('article', { name: primary.label, exact: true });
   await expect(card.getByText('Pre-specified')).toBeVisible();
   await card.getByRole('button', { name: 'Run confirmatory' }).click();
   if (reanalysis) {
@@ -137,7 +137,7 @@ test('the research lead runs the primary comparison, reads its result, locks or 
   await page.getByRole('link', { name: 'Open the study report' }).click();
   await expect(page.getByRole('heading', { name: 'Study report' })).toBeVisible();
   await expect(page.getByRole('heading', { name: 'Participant flow' })).toBeVisible();
-  await expect(page.getByRole('region', { name: 'Intervention arm' })).toContainText('Allocated');
+  await expect(page.getByRole('region', { name: 'Intervention arm', exact: true })).toContainText('Allocated');
   await expectNoSeriousAxeViolations(page);
 
   await page.emulateMedia({ media: 'print' });
@@ -156,7 +156,7 @@ test('a monitoring check is marked interim and has no Benjamini–Hochberg line 
   const studyId = await openDemoStudyTab(page, 'Comparisons');
   const comparisons = await (await page.request.get(`/api/studies/${studyId}/comparisons`)).json();
   const second = comparisons.items.find((c: { prespecified: boolean; isPrimary: boolean }) => c.prespecified && !c.isPrimary);
-  const card = page.getByRole('article', { name: second.label });
+  const card = page.getByRole('article', { name: second.label, exact: true });
   await card.getByRole('button', { name: 'Run a monitoring check' }).click();
   if (second.lockedRunId) {
     const dialog = page.getByRole('dialog', { name: 'Analyse this comparison again' });

@@ -64,7 +64,7 @@ export function Chart({ plot, summary, caption, children, className = '' }: Char
 
   return (
     <figure className={`chart ${className}`}>
-      <div ref={frame} role="img" aria-label={summary} className="w-full overflow-x-auto" />
+      <div ref={frame} role="img" aria-label={summary} className="w-full" />
       {caption && <figcaption className="mt-2 text-sm text-ink-muted">{caption}</figcaption>}
       {children && <div className="mt-3">{children}</div>}
     </figure>

@@ -1,4 +1,4 @@
-import type { ReactNode } from 'react';
+import { useId, type ReactNode } from 'react';
 
 export interface FigureColumn<K extends string = string> {
   key: K;
@@ -24,12 +24,21 @@ interface FigureTableProps<K extends string> {
  * and filter on the server use DataTable instead.
  */
 export function FigureTable<K extends string>({ caption, hideCaption = false, columns, rows, footer, className = '' }: FigureTableProps<K>) {
+  const captionId = useId();
   const cell = (column: FigureColumn<K>, i: number) =>
     `px-3 py-2 align-top ${column.numeric ? 'text-right tabular-nums whitespace-nowrap' : 'text-left'} ${i === 0 ? 'font-semibold' : ''}`;
   return (
-    <div className={`figure-table overflow-x-auto rounded-lg border border-line bg-surface ${className}`}>
+    // Focusable and named like DataTable's frame, so a table wider than the screen can be scrolled from the keyboard.
+    <div
+      role="region"
+      aria-labelledby={captionId}
+      tabIndex={0}
+      className={`figure-table overflow-x-auto rounded-lg border border-line bg-surface ${className}`}
+    >
       <table className="w-full border-collapse text-sm">
-        <caption className={hideCaption ? 'sr-only' : 'px-3 pt-3 pb-1 text-left font-semibold'}>{caption}</caption>
+        <caption id={captionId} className={hideCaption ? 'sr-only' : 'px-3 pt-3 pb-1 text-left font-semibold'}>
+          {caption}
+        </caption>
         <thead className="bg-sunken">
           <tr>
             {columns.map((column) => (
