@@ -4,6 +4,7 @@ import type { ReactNode } from 'react';
 import { Link, type LoaderFunctionArgs } from 'react-router-dom';
 import { Alert } from '@/components/ui/alert';
 import { Button } from '@/components/ui/button';
+import { EmptyState } from '@/components/ui/empty-state';
 import { FigureTable } from '@/components/ui/figure-table';
 import { studyReportQueryOptions, type StudyReport } from '@/features/report/api';
 import { FlowDiagram } from '@/features/report/components/flow-diagram';
@@ -69,6 +70,9 @@ function BaselineTable({ measures }: { measures: MeasureChecks[] }) {
 
 function AttritionTable({ measures }: { measures: MeasureChecks[] }) {
   const rating = (band: 'low' | 'high') => (band === 'low' ? 'low' : 'high');
+  if (!measures.some((m) => m.attrition.students || m.attrition.classrooms)) {
+    return <p className="text-ink-muted">Attrition can be worked out once both arms have outcome scores.</p>;
+  }
   return (
     <FigureTable
       caption="Attrition against the published boundaries (cautious / optimistic)"
@@ -187,7 +191,7 @@ export function StudyReportPage() {
         </div>
       </header>
 
-      {!allLocked && (
+      {plan && !allLocked && (
         <Alert tone="info" title="Not final">
           {prespecified.length === 0
             ? 'The plan has no pre-specified comparisons yet.'
@@ -230,98 +234,110 @@ export function StudyReportPage() {
         </dl>
       </ReportSection>
 
-      <ReportSection id="report-flow" title="Participant flow">
-        {primaryResults && primary?.run ? (
-          <FlowDiagram
-            study={study}
-            flow={primaryResults.flow}
-            source={`From the ${primary.run.state === 'locked' ? 'locked' : 'latest finished'} run of ${primary.comparison.label}.`}
-          />
-        ) : (
-          <p className="text-ink-muted">The flow is drawn from the primary comparison’s result, which has no finished run yet.</p>
-        )}
-        <AttritionTable measures={report.checks.measures} />
-      </ReportSection>
+      {!plan ? (
+        <EmptyState title="Nothing to report yet">
+          <p>The report follows the sealed plan: its flow, baseline table and results appear once the plan is sealed and the comparisons have run.</p>
+        </EmptyState>
+      ) : (
+        <>
+          <ReportSection id="report-flow" title="Participant flow">
+            {primaryResults && primary?.run ? (
+              <FlowDiagram
+                study={study}
+                flow={primaryResults.flow}
+                source={`From the ${primary.run.state === 'locked' ? 'locked' : 'latest finished'} run of ${primary.comparison.label}.`}
+              />
+            ) : (
+              <p className="text-ink-muted">The flow is drawn from the primary comparison’s result, which has no finished run yet.</p>
+            )}
+            <AttritionTable measures={report.checks.measures} />
+          </ReportSection>
 
-      <ReportSection id="report-baseline" title="The arms at baseline">
-        <BaselineTable measures={report.checks.measures} />
-        <p className="max-w-prose text-sm text-ink-muted">
-          Equivalent: |g| ≤ 0.05. Equivalent if adjusted: 0.05 &lt; |g| ≤ 0.25, provided the analysis adjusts for the baseline score. Not
-          equivalent: |g| &gt; 0.25.
-        </p>
-      </ReportSection>
-
-      <ReportSection id="report-results" title="Results">
-        {primaryResults && primary && (
-          <div className="rounded-lg border border-accent/50 bg-surface p-5">
-            <h4 className="font-semibold">Primary outcome: {primary.comparison.label}</h4>
-            <p className="mt-2 max-w-prose">{resultHeadline(primaryResults, primary.comparison.unitOfAnalysis).finding}</p>
-            <p className="mt-1 max-w-prose font-semibold">{resultHeadline(primaryResults, primary.comparison.unitOfAnalysis).verdict}</p>
-            <p className="mt-1 max-w-prose">
-              Hedges’ g = {formatNumber(primaryResults.effectSize.g, 2)} (95% CI {formatInterval(primaryResults.effectSize.ci, 2)}).{' '}
-              <Link to={runPath(studyId, primary.run!.id)} className="print:hidden">
-                Read the full result
-              </Link>
+          <ReportSection id="report-baseline" title="The arms at baseline">
+            <BaselineTable measures={report.checks.measures} />
+            <p className="max-w-prose text-sm text-ink-muted">
+              Equivalent: |g| ≤ 0.05. Equivalent if adjusted: 0.05 &lt; |g| ≤ 0.25, provided the analysis adjusts for the baseline score. Not
+              equivalent: |g| &gt; 0.25.
             </p>
-          </div>
-        )}
-        <ResultsTable items={[...prespecified, ...exploratory]} />
-        <EffectSizeChart items={[...prespecified, ...exploratory]} />
-        <div className="space-y-2">
-          <h4 className="font-semibold">Pre-specified and exploratory</h4>
-          <p className="max-w-prose">
-            {prespecified.length} {prespecified.length === 1 ? 'comparison was' : 'comparisons were'} pre-specified in the sealed plan
-            {exploratory.length > 0
-              ? `; ${exploratory.length} ${exploratory.length === 1 ? 'was' : 'were'} added afterwards and are exploratory: they can suggest questions for another study but do not test the registered hypothesis.`
-              : '; none was added afterwards.'}
-          </p>
-          <h4 className="pt-2 font-semibold">Multiple comparisons</h4>
-          <p className="max-w-prose">
-            {confirmatory.length > 1
-              ? `The study tests ${confirmatory.length} pre-specified measures, which raises the chance that one looks significant by luck. The Benjamini–Hochberg adjustment across them is shown beside each p-value; read the unadjusted p-values with that in mind.`
-              : 'The study has one confirmatory comparison, so no adjustment for multiple comparisons applies.'}{' '}
-            Exploratory comparisons are not adjusted and are not part of the confirmatory result.
-          </p>
-        </div>
-      </ReportSection>
+          </ReportSection>
 
-      <ReportSection id="report-clustering" title="How clustering was handled">
-        <p className="max-w-prose">
-          The draw assigned whole {unitLabels[study.unitOfAssignment].plural} to the arms
-          {study.unitOfAssignment === 'classroom' ? ', blocked by site' : ''}, and the primary test compares{' '}
-          {primary?.comparison.unitOfAnalysis === 'student' ? 'students' : 'classroom averages'}.
-          {clustering
-            ? ` Because students in one classroom resemble each other, the significance is also given corrected for clustering (Hedges, 2007), using an intraclass correlation (ICC) of ${formatNumber(
-                clustering.icc,
-                2,
-              )}, ${iccSourceWords[clustering.iccSource]}${
-                clustering.observedIcc !== null ? `; the ICC observed in these data is ${formatNumber(clustering.observedIcc, 2)}` : ''
-              }. The average classroom has ${formatNumber(clustering.averageClusterSize, 1)} analysed students, a design effect of ${formatNumber(
-                clustering.designEffect,
-                2,
-              )}.`
-            : ' No clustering correction applies to this design.'}
-        </p>
-        {plan && (
-          <p className="max-w-prose text-ink-muted">
-            The plan sized the study for {formatCount(plan.plannedClassrooms)} classrooms of about {formatCount(plan.plannedStudentsPerClassroom)}{' '}
-            students, with the ICC taken from {plan.iccSource === 'assumed' && plan.icc !== null ? `an assumed value of ${formatNumber(plan.icc, 2)}` : plan.iccSource === 'observed' ? 'the data' : 'the standard default'}.
-          </p>
-        )}
-      </ReportSection>
+          <ReportSection id="report-results" title="Results">
+            {primaryResults && primary && (
+              <div className="rounded-lg border border-accent/50 bg-surface p-5">
+                <h4 className="font-semibold">Primary outcome: {primary.comparison.label}</h4>
+                <p className="mt-2 max-w-prose">{resultHeadline(primaryResults, primary.comparison.unitOfAnalysis).finding}</p>
+                <p className="mt-1 max-w-prose font-semibold">{resultHeadline(primaryResults, primary.comparison.unitOfAnalysis).verdict}</p>
+                <p className="mt-1 max-w-prose">
+                  Hedges’ g = {formatNumber(primaryResults.effectSize.g, 2)} (95% CI {formatInterval(primaryResults.effectSize.ci, 2)}).{' '}
+                  <Link to={runPath(studyId, primary.run!.id)} className="print:hidden">
+                    Read the full result
+                  </Link>
+                </p>
+              </div>
+            )}
+            <ResultsTable items={[...prespecified, ...exploratory]} />
+            <EffectSizeChart items={[...prespecified, ...exploratory]} />
+            <div className="space-y-2">
+              <h4 className="font-semibold">Pre-specified and exploratory</h4>
+              <p className="max-w-prose">
+                {prespecified.length} {prespecified.length === 1 ? 'comparison was' : 'comparisons were'} pre-specified in the sealed plan
+                {exploratory.length > 0
+                  ? `; ${exploratory.length} ${exploratory.length === 1 ? 'was' : 'were'} added afterwards and are exploratory: they can suggest questions for another study but do not test the registered hypothesis.`
+                  : '; none was added afterwards.'}
+              </p>
+              <h4 className="pt-2 font-semibold">Multiple comparisons</h4>
+              <p className="max-w-prose">
+                {confirmatory.length > 1
+                  ? `The study tests ${confirmatory.length} pre-specified measures, which raises the chance that one looks significant by luck. The Benjamini–Hochberg adjustment across them is shown beside each p-value; read the unadjusted p-values with that in mind.`
+                  : confirmatory.length === 1
+                    ? 'The study has one confirmatory comparison, so no adjustment for multiple comparisons applies.'
+                    : 'No confirmatory comparison has finished yet.'}{' '}
+                Exploratory comparisons are not adjusted and are not part of the confirmatory result.
+              </p>
+            </div>
+          </ReportSection>
 
-      <ReportSection id="report-registration" title="Registration and amendments">
-        <Registration versions={report.plan.versions} />
-      </ReportSection>
+          <ReportSection id="report-clustering" title="How clustering was handled">
+            <p className="max-w-prose">
+              The draw assigned whole {unitLabels[study.unitOfAssignment].plural} to the arms
+              {study.unitOfAssignment === 'classroom' ? ', blocked by site' : ''}, and the primary test compares{' '}
+              {(primary?.comparison.unitOfAnalysis ?? plan?.unitOfAnalysis) === 'student' ? 'students' : 'classroom or school averages'}.
+              {clustering
+                ? ` Because students in one classroom resemble each other, the significance is also given corrected for clustering (Hedges, 2007), using an intraclass correlation (ICC) of ${formatNumber(
+                    clustering.icc,
+                    2,
+                  )}, ${iccSourceWords[clustering.iccSource]}${
+                    clustering.observedIcc !== null ? `; the ICC observed in these data is ${formatNumber(clustering.observedIcc, 2)}` : ''
+                  }. The average classroom has ${formatNumber(clustering.averageClusterSize, 1)} analysed students, a design effect of ${formatNumber(
+                    clustering.designEffect,
+                    2,
+                  )}.`
+                : primaryResults
+                  ? ' No clustering correction applies to this design.'
+                  : ' How clustering affects the result is reported once the primary comparison has a finished run.'}
+            </p>
+            {plan && (
+              <p className="max-w-prose text-ink-muted">
+                The plan sized the study for {formatCount(plan.plannedClassrooms)} classrooms of about {formatCount(plan.plannedStudentsPerClassroom)}{' '}
+                students, with the ICC taken from {plan.iccSource === 'assumed' && plan.icc !== null ? `an assumed value of ${formatNumber(plan.icc, 2)}` : plan.iccSource === 'observed' ? 'the data' : 'the standard default'}.
+              </p>
+            )}
+          </ReportSection>
 
-      <ReportSection id="report-cautions" title="Cautions">
-        <ul className="list-disc space-y-2 pl-5">
-          {cautions.map((c) => (
-            <li key={c}>{c}</li>
-          ))}
-          <li>Exploratory comparisons and monitoring checks are not the study’s result.</li>
-        </ul>
-      </ReportSection>
+          <ReportSection id="report-registration" title="Registration and amendments">
+            <Registration versions={report.plan.versions} />
+          </ReportSection>
+
+          <ReportSection id="report-cautions" title="Cautions">
+            <ul className="list-disc space-y-2 pl-5">
+              {cautions.map((c) => (
+                <li key={c}>{c}</li>
+              ))}
+              <li>Exploratory comparisons and monitoring checks are not the study’s result.</li>
+            </ul>
+          </ReportSection>
+        </>
+      )}
     </article>
   );
 }

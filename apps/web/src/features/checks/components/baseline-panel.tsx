@@ -32,7 +32,9 @@ export function BaselinePanel({ measure, quasiExperimental }: { measure: Measure
     ? 'Required for this study: assignment was changed by hand after the random draw, so the arms were not formed at random.'
     : highAttrition
       ? 'Required for this study: student attrition is high under the cautious boundary, so the students who remain may no longer be alike.'
-      : 'Not strictly required (random assignment with low attrition), and shown for completeness.';
+      : measure.attrition.students
+        ? 'Not strictly required (random assignment with low attrition), and shown for completeness.'
+        : 'Whether it is required depends on attrition, which cannot be worked out until both arms have outcome scores.';
 
   return (
     <div className="rounded-lg border border-line bg-surface p-5">
