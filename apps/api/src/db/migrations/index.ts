@@ -3,6 +3,7 @@ import { Foundation1796169600000 } from './1796169600000-foundation.js';
 import { StudyRegistry1796173200000 } from './1796173200000-study-registry.js';
 import { ScoreSheets1796176800000 } from './1796176800000-score-sheets.js';
 import { ComparisonRuns1796180400000 } from './1796180400000-comparison-runs.js';
+import { ScoreStudentIndex1796182200000 } from './1796182200000-score-student-index.js';
 import { Digests1796184000000 } from './1796184000000-digests.js';
 
-export const migrations = [Foundation1796169600000, StudyRegistry1796173200000, ScoreSheets1796176800000, ComparisonRuns1796180400000, Digests1796184000000];
+export const migrations = [Foundation1796169600000, StudyRegistry1796173200000, ScoreSheets1796176800000, ComparisonRuns1796180400000, ScoreStudentIndex1796182200000, Digests1796184000000];
