@@ -149,7 +149,7 @@ export function ScoreSheetPage() {
       <p className="mb-2 text-sm font-semibold">
         {teacher ? <Link to={areas.myClasses.path}>My classes</Link> : <Link to={studyPath(sheet.studyId, 'scoreSheets')}>Score sheets of the study</Link>}
       </p>
-      <PageHeader title={`${sheet.classroomName} · ${sheet.waveName}`} description={<SheetFacts sheet={sheet} />} />
+      <PageHeader title={`${sheet.classroomName} · ${sheet.waveName}`} description={`The ${sheet.measureName.replace(/ \(.*\)$/, '').toLowerCase()} score sheet of ${sheet.classroomName} for the ${sheet.waveName} wave.`} />
       <SheetBody key={sheet.id} sheet={sheet} role={teacher ? 'teacher' : holds(grants, 'coordinator') ? 'coordinator' : 'reader'} />
     </>
   );
@@ -165,34 +165,31 @@ export function StudySheetPage() {
       <p className="mb-2 text-sm font-semibold">
         <Link to={studyPath(studyId, 'scoreSheets')}>All score sheets</Link>
       </p>
-      <div className="mb-8">
-        <h2 className="text-2xl font-semibold">
-          {sheet.classroomName} · {sheet.waveName}
-        </h2>
-        <div className="mt-2 text-ink-muted">
-          <SheetFacts sheet={sheet} />
-        </div>
-      </div>
+      <h2 className="mb-6 text-2xl font-semibold">
+        {sheet.classroomName} · {sheet.waveName}
+      </h2>
       <SheetBody key={sheet.id} sheet={sheet} role={holds(grants, 'coordinator') ? 'coordinator' : 'reader'} />
     </>
   );
 }
 
 function SheetFacts({ sheet }: { sheet: ScoreSheet }) {
+  const facts: [string, string][] = [
+    ['Measure', sheet.measureName],
+    ['Scores', `${sheet.minScore} to ${sheet.maxScore}`],
+    ['School', sheet.siteName],
+    ['Teacher', sheet.teacherName],
+    ['Wave', `${formatDay(sheet.opensOn)} – ${formatDay(sheet.closesOn)}`],
+  ];
   return (
-    <span className="flex flex-wrap items-center gap-x-3 gap-y-1">
-      <span>
-        {sheet.measureName}, scores {sheet.minScore}–{sheet.maxScore}
-      </span>
-      <span aria-hidden="true">·</span>
-      <span>
-        {sheet.siteName}, {sheet.teacherName}
-      </span>
-      <span aria-hidden="true">·</span>
-      <span>
-        Wave {formatDay(sheet.opensOn)} – {formatDay(sheet.closesOn)}
-      </span>
-    </span>
+    <dl className="flex flex-wrap gap-x-8 gap-y-3">
+      {facts.map(([term, value]) => (
+        <div key={term}>
+          <dt className="text-sm text-ink-muted">{term}</dt>
+          <dd className="font-semibold">{value}</dd>
+        </div>
+      ))}
+    </dl>
   );
 }
 
@@ -203,9 +200,12 @@ function SheetBody({ sheet, role }: { sheet: ScoreSheetDetail; role: Viewer }) {
   const editing = role === 'teacher' && sheet.editable;
   return (
     <div className="space-y-8">
-      <div className="flex flex-wrap items-center gap-3">
-        <SheetStateBadge state={sheet.state} />
-        <span className="text-ink-muted">{countsText(sheet.counts, sheet.mode)}</span>
+      <div className="space-y-4">
+        <SheetFacts sheet={sheet} />
+        <div className="flex flex-wrap items-center gap-3">
+          <SheetStateBadge state={sheet.state} />
+          <span className="text-ink-muted">{countsText(sheet.counts, sheet.mode)}</span>
+        </div>
       </div>
 
       {sheet.state === 'returned' && sheet.returnReasons && (

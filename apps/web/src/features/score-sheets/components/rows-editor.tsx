@@ -99,7 +99,7 @@ export function RowsEditor({ sheet, initialRows, saveDelay }: RowsEditorProps) {
     }
   }, []);
 
-  const onActiveRowChange = useCallback((rowId: string) => {
+  const onActiveRowChange = useCallback((rowId: string | null) => {
     setEditingRow((current) => (current === rowId ? current : null));
   }, []);
 

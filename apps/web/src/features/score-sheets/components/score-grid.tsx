@@ -23,8 +23,8 @@ interface ScoreGridProps {
   issues: Map<string, CellIssues>;
   /** Every change goes through here; `editedRowId` is the row typed into, if one was. */
   onRowsChange: (update: RowsUpdate, editedRowId?: string) => void;
-  /** The row that holds the focus changed. */
-  onActiveRowChange?: (rowId: string) => void;
+  /** The row that holds the focus changed; null when the focus left the grid. */
+  onActiveRowChange?: (rowId: string | null) => void;
   /** A block of cells was pasted: how many rows it filled. */
   onPasted?: (rows: number) => void;
   range: { minScore: number; maxScore: number };
@@ -186,34 +186,46 @@ export function ScoreGrid({ label, rows, issues, onRowsChange, onActiveRowChange
           aria-labelledby={captionId}
           aria-describedby={helpId}
           aria-rowcount={rows.length + 1}
-          className="w-full border-collapse text-left"
+          // Fixed layout: a keystroke or a message in one cell must not make the browser re-measure every row.
+          className="w-full min-w-[44rem] table-fixed border-collapse text-left"
           onKeyDown={onKeyDown}
           onPaste={onPaste}
+          onBlur={(event) => {
+            if (!event.currentTarget.contains(event.relatedTarget as Node | null)) latest.current.onActiveRowChange?.(null);
+          }}
         >
           <caption id={captionId} className="sr-only">
             {label}
           </caption>
+          <colgroup>
+            <col className="w-16" />
+            <col className="w-[26%]" />
+            <col className="w-44" />
+            <col className="w-36" />
+            <col />
+            <col className="w-24" />
+          </colgroup>
           <thead className="bg-sunken text-sm">
             <tr>
-              <th scope="col" className="w-14 border-b border-line px-3 py-2 font-semibold">
+              <th scope="col" className="border-b border-line px-3 py-2 font-semibold">
                 Row
               </th>
               <th scope="col" className="border-b border-line px-3 py-2 font-semibold">
                 {columnLabels.studentCode}
               </th>
-              <th scope="col" className="w-40 border-b border-line px-3 py-2 font-semibold">
+              <th scope="col" className="border-b border-line px-3 py-2 font-semibold">
                 {columnLabels.score}{' '}
                 <span className="font-normal text-ink-muted">
                   ({range.minScore}–{range.maxScore})
                 </span>
               </th>
-              <th scope="col" className="w-32 border-b border-line px-3 py-2 font-semibold">
+              <th scope="col" className="border-b border-line px-3 py-2 font-semibold">
                 {columnLabels.left}
               </th>
               <th scope="col" className="border-b border-line px-3 py-2 font-semibold">
                 {columnLabels.note}
               </th>
-              <th scope="col" className="w-24 border-b border-line px-3 py-2 font-semibold">
+              <th scope="col" className="border-b border-line px-3 py-2 font-semibold">
                 <span className="sr-only">Remove</span>
               </th>
             </tr>

@@ -1,4 +1,4 @@
-import { saveSummarySchema, type ScoreSheetDetail } from '@evenhand/entities';
+import { saveSummarySchema, sheetSummarySchema, type ScoreSheetDetail } from '@evenhand/entities';
 import { zodResolver } from '@hookform/resolvers/zod';
 import { useMemo, useState } from 'react';
 import { useForm } from 'react-hook-form';
@@ -20,14 +20,12 @@ export function SummaryForm({ sheet }: { sheet: ScoreSheetDetail }) {
   const [problem, setProblem] = useState<FormProblem | null>(null);
   const [savedAt, setSavedAt] = useState<string | null>(null);
   const save = useSaveSummary(sheet.id);
-  const schema = useMemo(
-    () =>
-      saveSummarySchema.refine((v) => v.summary.mean >= sheet.minScore && v.summary.mean <= sheet.maxScore, {
-        path: ['summary', 'mean'],
-        message: `Use a mean from ${sheet.minScore} to ${sheet.maxScore}, the measure's range`,
-      }),
-    [sheet.minScore, sheet.maxScore],
-  );
+  // The shared schema, with the measure's range on the mean, so it is checked even while other fields are empty.
+  const schema = useMemo(() => {
+    const message = `Use a mean from ${sheet.minScore} to ${sheet.maxScore}, the measure's range`;
+    const mean = sheetSummarySchema.shape.mean.min(sheet.minScore, message).max(sheet.maxScore, message);
+    return saveSummarySchema.extend({ summary: sheetSummarySchema.extend({ mean }) });
+  }, [sheet.minScore, sheet.maxScore]);
   const {
     register,
     handleSubmit,
