@@ -1,6 +1,6 @@
 import type { Draw } from '@evenhand/entities';
 import { useQuery, useQueryClient, type QueryClient } from '@tanstack/react-query';
-import { useState, type ReactNode } from 'react';
+import { useState } from 'react';
 import type { LoaderFunctionArgs } from 'react-router-dom';
 import { Alert } from '@/components/ui/alert';
 import { Button } from '@/components/ui/button';
@@ -8,6 +8,7 @@ import { Dialog } from '@/components/ui/dialog';
 import { EmptyState } from '@/components/ui/empty-state';
 import { Field, TextInput } from '@/components/ui/field';
 import { Loading } from '@/components/ui/spinner';
+import { Section } from '@/components/ui/section';
 import { useSession } from '@/features/auth/api';
 import { drawQueryOptions, useCommitDraw, usePreviewDraw, useReassign } from '@/features/draw/api';
 import { AssignmentsTable, BalanceTable } from '@/features/draw/components/draw-tables';
@@ -23,20 +24,6 @@ export function drawLoader(queryClient: QueryClient) {
     await Promise.all([queryClient.ensureQueryData(drawQueryOptions(studyId)), queryClient.ensureQueryData(studyClassroomsQueryOptions(studyId))]);
     return null;
   };
-}
-
-function Section({ id, title, description, children }: { id: string; title: string; description?: ReactNode; children: ReactNode }) {
-  return (
-    <section aria-labelledby={id} className="space-y-4">
-      <div className="max-w-prose">
-        <h2 id={id} className="text-xl font-semibold">
-          {title}
-        </h2>
-        {description && <p className="mt-1 text-ink-muted">{description}</p>}
-      </div>
-      {children}
-    </section>
-  );
 }
 
 function DrawFacts({ draw }: { draw: Draw }) {
@@ -187,7 +174,6 @@ export function DrawPage() {
   if (!committed) {
     return (
       <Section
-        id="draw-run"
         title="The draw"
         description={`Evenhand assigns ${unitLabels[study.unitOfAssignment].plural} at random to the intervention or the comparison${study.unitOfAssignment === 'classroom' ? ', within each site, so every school has both' : ''}. Preview it first; once committed it can never change.`}
       >
@@ -205,7 +191,6 @@ export function DrawPage() {
   return (
     <div className="space-y-12">
       <Section
-        id="draw-committed"
         title="The committed draw"
         description="Recorded once and immutable. Anyone can re-derive it from its seed and check that it is exactly what the seed gives."
       >
@@ -216,7 +201,6 @@ export function DrawPage() {
       </Section>
 
       <Section
-        id="draw-reassignments"
         title="Manual reassignments"
         description="Classrooms moved to the other arm by hand after the draw, with the reason. The balance table above shows the arms as they are now."
       >

@@ -6,6 +6,7 @@ import { Alert } from '@/components/ui/alert';
 import { Button } from '@/components/ui/button';
 import { EmptyState } from '@/components/ui/empty-state';
 import { Loading } from '@/components/ui/spinner';
+import { Section } from '@/components/ui/section';
 import { useSession } from '@/features/auth/api';
 import {
   measuresQueryOptions,
@@ -37,20 +38,6 @@ export function planLoader(queryClient: QueryClient) {
   };
 }
 
-function Section({ id, title, description, children }: { id: string; title: string; description?: string; children: ReactNode }) {
-  return (
-    <section aria-labelledby={id} className="space-y-4">
-      <div>
-        <h2 id={id} className="text-xl font-semibold">
-          {title}
-        </h2>
-        {description && <p className="mt-1 max-w-prose text-ink-muted">{description}</p>}
-      </div>
-      {children}
-    </section>
-  );
-}
-
 export function PlanPage() {
   const study = useCurrentStudy();
   const grants = useSession().data?.roles ?? [];
@@ -76,7 +63,6 @@ export function PlanPage() {
 
   const measuresSection = (
     <Section
-      id="plan-measures"
       title="Measures"
       description={sealed ? 'The outcome instruments the plan registered.' : 'The outcome instruments, each with its score range and direction.'}
     >
@@ -85,7 +71,7 @@ export function PlanPage() {
     </Section>
   );
   const wavesSection = (
-    <Section id="plan-waves" title="Waves" description="The data-collection windows: a baseline before the intervention starts, an outcome after it.">
+    <Section title="Waves" description="The data-collection windows: a baseline before the intervention starts, an outcome after it.">
       <WavesList waves={refs.waves} />
       {lead && <AddWaveForm waves={refs.waves} onAdd={(input) => addWave.mutateAsync(input)} />}
     </Section>
@@ -100,7 +86,6 @@ export function PlanPage() {
           {wavesSection}
         </div>
         <Section
-          id="plan-draft"
           title="The plan"
           description={
             lead
@@ -137,7 +122,7 @@ export function PlanPage() {
     <div className="space-y-12">
       <div aria-live="polite">{notice && <Alert tone="success">{notice}</Alert>}</div>
       {current && (
-        <Section id="plan-current" title={`The plan in force: version ${current.version}`}>
+        <Section title={`The plan in force: version ${current.version}`}>
           <PlanWithPanel plan={current.content} refs={refs} unit={study.unitOfAssignment}>
             <p>
               {current.version === 1 ? 'Sealed' : 'Amended'} on {formatDateTime(current.createdAt)} by {current.createdBy.name}
@@ -163,7 +148,6 @@ export function PlanPage() {
 
       {lead && amending && current && (
         <Section
-          id="plan-amend"
           title="Amend the plan"
           description="An amendment is a new version of the whole plan with the reason for the change. Earlier versions stay readable, and reviewers see what changed."
         >
@@ -181,7 +165,7 @@ export function PlanPage() {
         </Section>
       )}
 
-      <Section id="plan-history" title="Version history" description="Every sealed version, newest first, with what each amendment changed and why.">
+      <Section title="Version history" description="Every sealed version, newest first, with what each amendment changed and why.">
         <VersionHistory versions={versions} {...refs} />
       </Section>
 

@@ -1,10 +1,11 @@
 import type { Classroom } from '@evenhand/entities';
 import { useQuery, type QueryClient } from '@tanstack/react-query';
-import { useCallback, useState, type ReactNode } from 'react';
+import { useCallback, useState } from 'react';
 import type { LoaderFunctionArgs } from 'react-router-dom';
 import { Alert } from '@/components/ui/alert';
 import { Button } from '@/components/ui/button';
 import { Dialog } from '@/components/ui/dialog';
+import { Section } from '@/components/ui/section';
 import { useSession } from '@/features/auth/api';
 import {
   cohortsQueryOptions,
@@ -34,23 +35,6 @@ export function sitesLoader(queryClient: QueryClient) {
     ]);
     return null;
   };
-}
-
-function Section({ id, title, description, actions, children }: { id: string; title: string; description?: ReactNode; actions?: ReactNode; children: ReactNode }) {
-  return (
-    <section aria-labelledby={id} className="space-y-4">
-      <div className="flex flex-wrap items-end justify-between gap-4">
-        <div className="max-w-prose">
-          <h2 id={id} className="text-xl font-semibold">
-            {title}
-          </h2>
-          {description && <p className="mt-1 text-ink-muted">{description}</p>}
-        </div>
-        {actions && <div className="flex flex-wrap gap-3">{actions}</div>}
-      </div>
-      {children}
-    </section>
-  );
 }
 
 type Open = 'enrol' | 'classroom' | 'import' | null;
@@ -91,7 +75,6 @@ export function SitesPage() {
       <div aria-live="polite">{notice && <Alert tone="success">{notice}</Alert>}</div>
 
       <Section
-        id="sites-sites"
         title="Sites"
         description="The schools taking part, each with its principal."
         actions={coordinator && <Button onClick={() => show('enrol')}>Enrol a site</Button>}
@@ -100,7 +83,6 @@ export function SitesPage() {
       </Section>
 
       <Section
-        id="sites-classrooms"
         title="Classrooms"
         description={
           drawn
@@ -131,7 +113,7 @@ export function SitesPage() {
         />
       </Section>
 
-      <Section id="sites-cohorts" title="Cohorts" description="Groups of classrooms followed together, such as a grade in a school year.">
+      <Section title="Cohorts" description="Groups of classrooms followed together, such as a grade in a school year.">
         {cohortList.length === 0 ? (
           <p className="text-ink-muted">No cohorts yet.</p>
         ) : (
