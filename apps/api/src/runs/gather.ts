@@ -92,8 +92,8 @@ export async function gather(manager: EntityManager, scope: Scope): Promise<Gath
 
   const quantileRows: { arm: Arm; q: number[] }[] = await manager.query(
     `SELECT c.arm, percentile_cont(ARRAY[0, 0.25, 0.5, 0.75, 1]) WITHIN GROUP (ORDER BY x.score::float8) AS q
-       FROM scores x JOIN classrooms c ON c.id = x.classroom_id
-      WHERE x.sheet_id = ANY($1) AND x.score IS NOT NULL GROUP BY c.arm`,
+       FROM unnest($1::uuid[]) AS ids(id) JOIN scores x ON x.sheet_id = ids.id JOIN classrooms c ON c.id = x.classroom_id
+      WHERE x.score IS NOT NULL GROUP BY c.arm`,
     [sheets.map((s) => s.id)],
   );
   const quantiles = { intervention: null, comparison: null } as Gathered['quantiles'];
@@ -111,9 +111,10 @@ export async function gather(manager: EntityManager, scope: Scope): Promise<Gath
   if (analysed <= VALUE_LIMIT) {
     const rows: { arm: Arm; y: number; x: number | null }[] = await manager.query(
       `SELECT c.arm, o.score::float8 AS y, b.score::float8 AS x
-         FROM scores o JOIN classrooms c ON c.id = o.classroom_id
-         LEFT JOIN scores b ON b.sheet_id = ANY($2) AND b.student_code = o.student_code AND b.classroom_id = o.classroom_id AND b.score IS NOT NULL
-        WHERE o.sheet_id = ANY($1) AND o.score IS NOT NULL
+         FROM unnest($1::uuid[]) AS ids(id) JOIN scores o ON o.sheet_id = ids.id JOIN classrooms c ON c.id = o.classroom_id
+         LEFT JOIN (SELECT x.* FROM unnest($2::uuid[]) AS bids(id) JOIN scores x ON x.sheet_id = bids.id) b
+           ON b.student_code = o.student_code AND b.classroom_id = o.classroom_id AND b.score IS NOT NULL
+        WHERE o.score IS NOT NULL
         ORDER BY c.arm, o.classroom_id, o.student_code`,
       [sheets.map((s) => s.id), baselineSheets.map((s) => s.id)],
     );
@@ -146,12 +147,15 @@ export async function gather(manager: EntityManager, scope: Scope): Promise<Gath
   };
 }
 
+// Sheet IDs arrive as arrays joined through unnest rather than `= ANY(…)`, which PostgreSQL tests row by row.
+
 /**
  * One text line per analysed student: classroom_id,arm,student_code,outcome,pretest (pretest empty when missing),
  * scores as PostgreSQL prints numeric. The bundle ships these lines; their sorted SHA-256 is the run's data hash.
  */
 export const canonicalRowsSql = `
   SELECT concat_ws(',', o.classroom_id, c.arm, o.student_code, o.score::text, coalesce(b.score::text, '')) AS line
-    FROM scores o JOIN classrooms c ON c.id = o.classroom_id
-    LEFT JOIN scores b ON b.sheet_id = ANY($2) AND b.student_code = o.student_code AND b.classroom_id = o.classroom_id AND b.score IS NOT NULL
-   WHERE o.sheet_id = ANY($1) AND o.score IS NOT NULL`;
+    FROM unnest($1::uuid[]) AS ids(id) JOIN scores o ON o.sheet_id = ids.id JOIN classrooms c ON c.id = o.classroom_id
+    LEFT JOIN (SELECT x.* FROM unnest($2::uuid[]) AS bids(id) JOIN scores x ON x.sheet_id = bids.id) b
+      ON b.student_code = o.student_code AND b.classroom_id = o.classroom_id AND b.score IS NOT NULL
+   WHERE o.score IS NOT NULL`;

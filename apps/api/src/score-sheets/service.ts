@@ -171,8 +171,10 @@ async function writeRows(manager: EntityManager, user: SessionUser, row: SheetRo
   const issues: RowIssue[] = checkRows(rows, { minScore: Number(row.min_score), maxScore: Number(row.max_score) }, lineOf);
   const codes = rows.map((r) => r.studentCode);
   const elsewhere: { student_code: string; classroom_name: string }[] = await manager.query(
-    `SELECT st.student_code, c.name AS classroom_name FROM students st JOIN classrooms c ON c.id = st.classroom_id
-      WHERE st.study_id = $1 AND st.student_code = ANY($2) AND st.classroom_id <> $3`,
+    `SELECT st.student_code, c.name AS classroom_name
+       FROM unnest($2::varchar[]) AS codes(code) JOIN students st ON st.study_id = $1 AND st.student_code = codes.code
+       JOIN classrooms c ON c.id = st.classroom_id
+      WHERE st.classroom_id <> $3`,
     [row.study_id, codes, row.classroom_id],
   );
   const where = new Map(elsewhere.map((e) => [e.student_code, e.classroom_name]));
