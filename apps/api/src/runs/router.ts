@@ -1,4 +1,5 @@
 import type { OpenAPIRegistry } from '@asteasolutions/zod-to-openapi';
+import { z } from 'zod';
 import { comparisonSchema, createComparisonSchema, idParamsSchema, pageOf, queueRunSchema, runSchema, studyParamsSchema } from '@evenhand/entities';
 import type { Deps } from '../deps.js';
 import { ResourceRouter } from '../http/route.js';
@@ -44,7 +45,7 @@ export function runsRouter(deps: Deps, registry: OpenAPIRegistry) {
       tag,
       params: idParamsSchema,
       body: queueRunSchema,
-      responses: { 202: { description: 'Queued', schema: runSchema } },
+      responses: { 202: { description: 'Queued', schema: z.object({ run: runSchema }) } },
     },
     async ({ user, params, body }) => ({ status: 202, body: { run: await queueRun(deps, user!, params.id, body) } }),
   );
