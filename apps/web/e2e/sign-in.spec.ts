@@ -52,7 +52,7 @@ test('a visitor who is not signed in is sent to sign-in and returned to the page
   await page.getByRole('button', { name: 'Sign in' }).click();
   await expect(page).toHaveURL(/\/accounts$/);
   await expect(page.getByRole('heading', { level: 1, name: 'Accounts' })).toBeVisible();
-  await expect(page.getByRole('cell', { name: 'teacher1@evenhand.test' })).toBeVisible();
+  await expect(page.getByRole('cell', { name: 'admin@evenhand.test' })).toBeVisible();
 });
 
 test('an unknown page shows the not-found page', async ({ page }) => {
