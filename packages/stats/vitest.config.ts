@@ -1,5 +1,5 @@
 import { defineConfig } from 'vitest/config';
 
 export default defineConfig({
-  test: { include: ['src/**/*.test.ts', 'test/**/*.test.ts'] },
+  test: { include: ['src/**/*.test.ts', 'test/**/*.test.ts'], setupFiles: ['test/fast-check-setup.ts'] },
 });
