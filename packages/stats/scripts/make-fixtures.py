@@ -258,7 +258,7 @@ def shapiro_p_from_w(w, n):
 
 
 def shapiro_double(x):
-    """W and p of AS R94 (Royston 1995) transcribed to float64 NumPy: W as the squared correlation of the sorted data
+    """W and p of AS R94 (Royston 1995) ported to float64 NumPy: W as the squared correlation of the sorted data
     with Royston's coefficients. SciPy runs the same algorithm in single precision."""
     x = np.sort(np.asarray(x, dtype=np.float64))
     n = len(x)

@@ -6,7 +6,7 @@ import { shapiroWilk } from './normality.js';
  * SciPy 1.10's shapiro runs the AS R94 Fortran in single precision, so its W is good to about 1e-6 (setup-notes.md; up
  * to 6e-6 seen at n = 5000); ours is double precision. W is compared with SciPy to 1e-5 absolute. Because p moves
  * steeply with W near 1 (at n = 5000 a 6e-6 change in W moves p by 0.016), p is compared with the fixture's float64
- * transcription of the same algorithm (make-fixtures.py `shapiro_double`, which the script checks against SciPy: same W
+ * port of the same algorithm (make-fixtures.py `shapiro_double`, which the script checks against SciPy: same W
  * to 1e-5, and SciPy's p recovered from SciPy's W to 5e-4), to 1e-9 relative, and W to it at 1e-12.
  */
 const W_ABS = 1e-5;

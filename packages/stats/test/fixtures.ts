@@ -34,7 +34,7 @@ export interface TTestRef {
   ci: [Ref, Ref];
 }
 
-/** SciPy's single-precision W and p, and the float64 transcription of AS R94 from make-fixtures.py. */
+/** SciPy's single-precision W and p, and the float64 port of AS R94 from make-fixtures.py. */
 export interface ShapiroRef {
   w: number;
   p: number;
