@@ -1,0 +1,8 @@
+// `npm run bench -w apps/api [-- upload|run …]`: the API benchmarks, each a ratio to a baseline measured
+// in the same run (never a timed test). With no names, all of them.
+import { benchRun } from './run.js';
+import { benchUpload } from './upload.js';
+
+const all: Record<string, () => Promise<void>> = { upload: benchUpload, run: benchRun };
+const chosen = process.argv.slice(2).filter((a) => a in all);
+for (const name of chosen.length ? chosen : Object.keys(all)) await all[name]();
