@@ -18,7 +18,8 @@ export async function benchUpload() {
   const { db, app } = b;
   // One classroom per round, so every upload writes a fresh sheet (a teacher's first upload).
   const s = await b.study(ROUNDS, 1);
-  const sheets: { id: string; classroom_id: string }[] = await db.query(
+  // An UPDATE … RETURNING answers [rows, count] through TypeORM.
+  const [sheets]: [{ id: string; classroom_id: string }[], number] = await db.query(
     `UPDATE score_sheets SET state = 'open' WHERE study_id = $1 RETURNING id, classroom_id`,
     [s.studyId],
   );
