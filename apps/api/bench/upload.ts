@@ -50,7 +50,7 @@ export async function benchUpload() {
 
     const client = new pg.Client({ connectionString: b.url });
     await client.connect();
-    const like = codes.map((c, i) => `${sheet.id},${s.studyId},${sheet.classroom_id},${s.waveId},${s.measureId},${c},${scores[i]},f,`).join('\n') + '\n';
+    const like = codes.map((c, i) => `${sheet.id},${s.studyId},${sheet.classroom_id},${s.waveId},${s.measureId},${c},${scores[i]},f,""`).join('\n') + '\n';
     likeTimes.push(await time(() => pipeline(Readable.from([like]), client.query(copyFrom(`COPY bench_like_scores FROM STDIN WITH (FORMAT csv)`)))));
     const bare = codes.map((c, i) => `${c},${scores[i]}`).join('\n') + '\n';
     bareTimes.push(await time(() => pipeline(Readable.from([bare]), client.query(copyFrom(`COPY bench_bare FROM STDIN WITH (FORMAT csv)`)))));
