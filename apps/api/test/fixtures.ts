@@ -1,4 +1,5 @@
 import type { Express } from 'express';
+import type { DataSource } from 'typeorm';
 import { expect } from 'vitest';
 import type { SignedIn } from './app.js';
 import { signIn } from './app.js';
@@ -71,4 +72,23 @@ export async function enrolClassrooms(s: StudySetup, sites: number, perSite: num
   }
   expect(classrooms).toHaveLength(sites * perSite);
   return { cohortId: cohort.id, classrooms };
+}
+
+/** Writes scores straight into a classroom's sheet (whatever its wave's dates) and moves the sheet to `state`. */
+export async function fillSheet(
+  db: DataSource,
+  sheet: { classroomId: string; waveId: string; measureId: string },
+  scores: (number | null)[],
+  codePrefix: string,
+  state: 'accepted' | 'submitted' = 'accepted',
+) {
+  const [row] = await db.query(`SELECT id, study_id FROM score_sheets WHERE classroom_id = $1 AND wave_id = $2 AND measure_id = $3`, [sheet.classroomId, sheet.waveId, sheet.measureId]);
+  const codes = scores.map((_, i) => `${codePrefix}-${i}`);
+  await db.query(`INSERT INTO students (study_id, student_code, classroom_id) SELECT $1, unnest($2::varchar[]), $3 ON CONFLICT DO NOTHING`, [row.study_id, codes, sheet.classroomId]);
+  await db.query(
+    `INSERT INTO scores (sheet_id, study_id, classroom_id, wave_id, measure_id, student_code, score, left_study)
+     SELECT $1, $2, $3, $4, $5, c, v, v IS NULL FROM unnest($6::varchar[], $7::numeric[]) AS t(c, v)`,
+    [row.id, row.study_id, sheet.classroomId, sheet.waveId, sheet.measureId, codes, scores],
+  );
+  await db.query(`UPDATE score_sheets SET state = $2 WHERE id = $1`, [row.id, state]);
 }

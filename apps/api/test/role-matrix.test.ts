@@ -58,6 +58,7 @@ const expectedAccess: Record<string, 'anyone' | 'signed-in' | Role[]> = {
   'GET /api/studies/{id}/comparisons': ['research_lead', 'reviewer'],
   'POST /api/studies/{id}/comparisons': ['research_lead'],
   'POST /api/comparisons/{id}/runs': ['research_lead'],
+  'PUT /api/comparisons/{id}/schedule': ['research_lead'],
   'GET /api/runs/{id}': ['research_lead', 'reviewer', 'coordinator', 'principal'],
   'POST /api/runs/{id}/lock': ['research_lead'],
   'GET /api/runs/{id}/bundle': ['research_lead', 'reviewer'],

@@ -6,6 +6,7 @@ import { ClassroomEntity, DrawEntity, DrawReassignmentEntity, PlanVersionEntity,
 import { recordAudit } from '../audit/service.js';
 import { AppError } from '../errors.js';
 import { findVisibleStudy } from '../studies/access.js';
+import { advanceStatus } from '../studies/service.js';
 
 interface UnitRow {
   classroom_id: string;
@@ -129,6 +130,8 @@ export async function drawAssignment(db: DataSource, user: SessionUser, studyId:
       entityId: saved.id,
       after: { seed, algorithm: result.algorithm, version: result.version, assignments: saved.assignments },
     });
+    // Classrooms know their arms: the study collects from here on.
+    await advanceStatus(manager, studyId, 'collecting', user.id);
     return { ...draw, id: saved.id, committed: true, committedAt: saved.committedAt.toISOString(), committedBy: { id: user.id, name: user.name } };
   });
 }

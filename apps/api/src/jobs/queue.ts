@@ -7,6 +7,8 @@ export const RUN_QUEUE = 'comparison-run';
 export const DIGEST_SEND_QUEUE = 'digest-send';
 /** The schedule's tick: makes the weekly digests that are due and re-queues any stuck in the outbox. */
 export const DIGEST_TICK_QUEUE = 'digest-tick';
+/** The schedule's tick for monitoring runs: queues each comparison's run when its own cron says it is due. */
+export const MONITORING_TICK_QUEUE = 'monitoring-tick';
 
 export interface JobQueue {
   /** Enqueues a run inside the caller's transaction: the run row and its job commit together or not at all. */
@@ -17,15 +19,23 @@ export interface JobQueue {
   stop(): Promise<void>;
 }
 
+/** pg-boss's own clock: how often it checks its schedules and moves their jobs; tests shorten both to a second. */
+export interface QueueTiming {
+  cronMonitorIntervalSeconds?: number;
+  cronWorkerIntervalSeconds?: number;
+}
+
 /** The job queue lives in the same PostgreSQL (schema pgboss), so a queued job is as durable as the data. */
-export async function startQueue(databaseUrl: string, logger: Logger): Promise<JobQueue> {
-  const boss = new PgBoss({ connectionString: databaseUrl, schema: 'pgboss', max: 4, application_name: 'evenhand-jobs' });
+export async function startQueue(databaseUrl: string, logger: Logger, timing: QueueTiming = {}): Promise<JobQueue> {
+  const boss = new PgBoss({ connectionString: databaseUrl, schema: 'pgboss', max: 4, application_name: 'evenhand-jobs', ...timing });
   boss.on('error', (err) => logger.error({ err }, 'job queue error'));
   await boss.start();
   await boss.createQueue(RUN_QUEUE, { name: RUN_QUEUE, retryLimit: 2, retryDelay: 5, retryBackoff: true, expireInMinutes: 30 });
   // SMTP failures are retried by the digest service itself; these retries only cover a worker that died mid-job.
   await boss.createQueue(DIGEST_SEND_QUEUE, { name: DIGEST_SEND_QUEUE, retryLimit: 5, retryDelay: 30, retryBackoff: true, expireInMinutes: 5 });
   await boss.createQueue(DIGEST_TICK_QUEUE, { name: DIGEST_TICK_QUEUE, retryLimit: 1, expireInMinutes: 10 });
+  // A missed tick is made up by the next one (the slot stays due for a while), so no retries.
+  await boss.createQueue(MONITORING_TICK_QUEUE, { name: MONITORING_TICK_QUEUE, retryLimit: 0, expireInMinutes: 5 });
   const inTransaction = (manager: EntityManager) => ({ executeSql: async (text: string, values: unknown[]) => ({ rows: await manager.query(text, values) }) });
   return {
     boss,

@@ -81,7 +81,7 @@ export async function sealPlan(db: DataSource, user: SessionUser, studyId: strin
     const sha256 = canonicalSha256(draft.content);
     await manager.insert(PlanVersionEntity, { studyId, version: 1, content: draft.content, sha256, reason: null, changes: [], createdBy: user.id });
     await manager.delete(PlanDraftEntity, { studyId });
-    await advanceStatus(manager, studyId, 'registered');
+    await advanceStatus(manager, studyId, 'registered', user.id);
     await recordAudit(manager, { actorId: user.id, studyId, action: 'plan.sealed', entityType: 'plan', entityId: studyId, after: { version: 1, sha256 } });
   });
   return getPlan(db, user, studyId);

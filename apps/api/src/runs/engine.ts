@@ -106,13 +106,16 @@ export function analyse(ctx: AnalysisContext, data: Gathered): RunResults {
     }
     const clusterCount = (arm: Arm) => new Set(perClass(arm).map((c) => (ctx.unitOfAssignment === 'school' ? c.siteId : c.classroomId))).size;
     const adj = clusterAdjusted({ g: g.g, n1: a.n, n2: b.n, clusters1: clusterCount('intervention'), clusters2: clusterCount('comparison'), icc });
+    // It decides the result, so it follows the plan's sidedness: by the t distribution's symmetry the one-sided p is
+    // half the two-sided one in the registered direction, and one minus that half against it.
+    const p = plan.alternative === 'two-sided' ? adj.p : (plan.alternative === 'greater') === adj.tAdjusted > 0 ? adj.p / 2 : 1 - adj.p / 2;
     clustering = {
       icc,
       iccSource,
       tAdjusted: adj.tAdjusted,
       df: adj.df,
-      p: adj.p,
-      significant: adj.p < plan.alpha,
+      p,
+      significant: p < plan.alpha,
       averageClusterSize: adj.averageClusterSize,
       designEffect: adj.designEffect,
       observedIcc,

@@ -75,9 +75,11 @@ export async function gather(manager: EntityManager, scope: Scope): Promise<Gath
           agg AS (
             SELECT x.classroom_id, count(*)::int AS n, avg(x.score::float8) AS mean, (var_pop(x.score::float8) * count(*)) AS m2
               FROM scores x JOIN sh ON sh.id = x.sheet_id WHERE x.score IS NOT NULL AND sh.mode = 'rows'
-             GROUP BY x.classroom_id)
+             GROUP BY x.classroom_id),
+          -- One pass over the registry: the students table has no index by classroom, so a per-classroom count scanned it 8 000 times.
+          allocated AS (SELECT classroom_id, count(*) AS allocated FROM students WHERE study_id = $1 GROUP BY classroom_id)
      SELECT c.id AS classroom_id, c.site_id, s.name AS site_name, c.arm,
-            (SELECT count(*)::int FROM students st WHERE st.study_id = c.study_id AND st.classroom_id = c.id) AS allocated,
+            coalesce(st.allocated, 0)::int AS allocated,
             coalesce(CASE WHEN sh.mode = 'summary' THEN sh.summary_n ELSE agg.n END, 0)::int AS n,
             CASE WHEN sh.mode = 'summary' THEN sh.summary_mean::float8 ELSE agg.mean END AS mean,
             CASE WHEN sh.mode = 'summary' THEN (sh.summary_sd::float8 ^ 2) * (sh.summary_n - 1) ELSE agg.m2 END AS m2,
@@ -85,6 +87,7 @@ export async function gather(manager: EntityManager, scope: Scope): Promise<Gath
        FROM classrooms c JOIN sites s ON s.id = c.site_id
        LEFT JOIN sh ON sh.classroom_id = c.id
        LEFT JOIN agg ON agg.classroom_id = c.id
+       LEFT JOIN allocated st ON st.classroom_id = c.id
       WHERE c.study_id = $1 AND c.arm IS NOT NULL
       ORDER BY s.name, c.name`,
     p,
@@ -99,10 +102,11 @@ export async function gather(manager: EntityManager, scope: Scope): Promise<Gath
   const quantiles = { intervention: null, comparison: null } as Gathered['quantiles'];
   for (const r of quantileRows) quantiles[r.arm] = r.q as Gathered['quantiles'][Arm];
 
-  // The canonical input rows, hashed where they live: classroom, arm, student code, outcome, pretest.
+  // The canonical input, hashed where it lives: the student rows, then the summary-only classrooms.
   const [{ sha, analysed }]: { sha: string; analysed: number }[] = await manager.query(
-    `SELECT encode(sha256(convert_to(coalesce(string_agg(line, E'\\n' ORDER BY line), ''), 'UTF8')), 'hex') AS sha, count(*)::int AS analysed
-       FROM (${canonicalRowsSql}) rows`,
+    `SELECT encode(sha256(convert_to(concat_ws(E'\\n', r.body, s.body), 'UTF8')), 'hex') AS sha, r.analysed
+       FROM (SELECT string_agg(line, E'\\n' ORDER BY line) AS body, count(*)::int AS analysed FROM (${canonicalRowsSql}) x) r,
+            (SELECT string_agg(line, E'\\n' ORDER BY line) AS body FROM (${canonicalSummariesSql}) y) s`,
     [sheets.map((s) => s.id), baselineSheets.map((s) => s.id)],
   );
 
@@ -159,3 +163,12 @@ export const canonicalRowsSql = `
     LEFT JOIN (SELECT x.* FROM unnest($2::uuid[]) AS bids(id) JOIN scores x ON x.sheet_id = bids.id) b
       ON b.student_code = o.student_code AND b.classroom_id = o.classroom_id AND b.score IS NOT NULL
    WHERE o.score IS NOT NULL`;
+
+/**
+ * One text line per classroom that reported only a summary of the outcome: summary,classroom_id,arm,n,mean,sd. They count
+ * in the t tests and effect sizes, so they are part of the data hash and of the bundle. $1: the outcome sheets.
+ */
+export const canonicalSummariesSql = `
+  SELECT concat_ws(',', 'summary', sh.classroom_id, c.arm, sh.summary_n::text, sh.summary_mean::text, sh.summary_sd::text) AS line
+    FROM unnest($1::uuid[]) AS ids(id) JOIN score_sheets sh ON sh.id = ids.id JOIN classrooms c ON c.id = sh.classroom_id
+   WHERE sh.mode = 'summary' AND c.arm IS NOT NULL`;

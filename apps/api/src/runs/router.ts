@@ -1,9 +1,9 @@
 import type { OpenAPIRegistry } from '@asteasolutions/zod-to-openapi';
 import { z } from 'zod';
-import { comparisonSchema, createComparisonSchema, idParamsSchema, pageOf, queueRunSchema, runSchema, studyParamsSchema } from '@evenhand/entities';
+import { comparisonScheduleSchema, comparisonSchema, createComparisonSchema, idParamsSchema, pageOf, queueRunSchema, runSchema, studyParamsSchema } from '@evenhand/entities';
 import type { Deps } from '../deps.js';
 import { ResourceRouter } from '../http/route.js';
-import { createComparison, getRun, listComparisons, lockRun, queueRun, runBundle } from './service.js';
+import { createComparison, getRun, listComparisons, lockRun, queueRun, runBundle, setSchedule } from './service.js';
 
 export function runsRouter(deps: Deps, registry: OpenAPIRegistry) {
   const r = new ResourceRouter(registry);
@@ -34,6 +34,20 @@ export function runsRouter(deps: Deps, registry: OpenAPIRegistry) {
       responses: { 201: { description: 'Created', schema: comparisonSchema } },
     },
     async ({ user, params, body }) => ({ status: 201, body: await createComparison(deps.db, user!, params.id, body) }),
+  );
+
+  r.route(
+    {
+      method: 'put',
+      path: '/comparisons/:id/schedule',
+      summary: 'Set, change or (with a null cron) remove the comparison’s automatic monitoring runs while its wave is open',
+      access: ['research_lead'],
+      tag,
+      params: idParamsSchema,
+      body: comparisonScheduleSchema,
+      responses: { 200: { description: 'The comparison with its next scheduled run', schema: comparisonSchema } },
+    },
+    async ({ user, params, body }) => ({ body: await setSchedule(deps.db, user!, params.id, body) }),
   );
 
   r.route(

@@ -1,8 +1,9 @@
 import { createHash } from 'node:crypto';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { decidingTest } from '@evenhand/entities';
 import { hedgesG, welchT, studentT } from '@evenhand/stats';
 import { signIn, startTestApp, type SignedIn, type TestApp } from '../../test/app.js';
-import { createStudy, enrolClassrooms, send, type StudySetup } from '../../test/fixtures.js';
+import { createStudy, enrolClassrooms, fillSheet, send, type StudySetup } from '../../test/fixtures.js';
 import { startQueue } from '../jobs/queue.js';
 import { startWorkers } from '../jobs/workers.js';
 import { createLogger } from '../logger.js';
@@ -12,18 +13,8 @@ let s: StudySetup;
 let reviewer: SignedIn;
 const values: Record<string, number[]> = { intervention: [], comparison: [] };
 
-/** Writes scores straight into sheets (the outcome wave of the fixture opens later) and accepts them. */
-async function fill(classroomId: string, waveId: string, measureId: string, scores: (number | null)[], codePrefix: string) {
-  const [sheet] = await t.db.query(`SELECT id, study_id FROM score_sheets WHERE classroom_id = $1 AND wave_id = $2 AND measure_id = $3`, [classroomId, waveId, measureId]);
-  const codes = scores.map((_, i) => `${codePrefix}-${i}`);
-  await t.db.query(`INSERT INTO students (study_id, student_code, classroom_id) SELECT $1, unnest($2::varchar[]), $3 ON CONFLICT DO NOTHING`, [sheet.study_id, codes, classroomId]);
-  await t.db.query(
-    `INSERT INTO scores (sheet_id, study_id, classroom_id, wave_id, measure_id, student_code, score, left_study)
-     SELECT $1, $2, $3, $4, $5, c, v, v IS NULL FROM unnest($6::varchar[], $7::numeric[]) AS t(c, v)`,
-    [sheet.id, sheet.study_id, classroomId, waveId, measureId, codes, scores],
-  );
-  await t.db.query(`UPDATE score_sheets SET state = 'accepted' WHERE id = $1`, [sheet.id]);
-}
+const fill = (classroomId: string, waveId: string, measureId: string, scores: (number | null)[], codePrefix: string) =>
+  fillSheet(t.db, { classroomId, waveId, measureId }, scores, codePrefix);
 
 async function waitFor(runId: string, who: SignedIn, states = ['finished', 'failed']) {
   for (let i = 0; i < 100; i++) {
@@ -92,7 +83,21 @@ describe('comparison runs', () => {
     expect(r.diagnostics.leveneMedian.df2).toBe(values.intervention.length + values.comparison.length - 2);
     expect(r.cautions.join(' ')).toMatch(/not the size or the importance/);
     expect(run.dataSha256).toMatch(/^[0-9a-f]{64}$/);
-    expect(run.multiplicity).toMatchObject({ comparisons: 1, adjustedP: r.primary.p });
+    // Classrooms were assigned and students compared: the clustering-corrected p decides, in the multiplicity step too.
+    expect(decidingTest(r)).toEqual({ basis: 'clustering', p: r.clustering.p, significant: r.clustering.p < r.alpha });
+    expect(run.multiplicity).toMatchObject({ comparisons: 1, adjustedP: r.clustering.p });
+  });
+
+  it('lists the latest finished run beside the latest run, so a failed or waiting newest run does not hide the results', async () => {
+    let [k] = (await s.lead.agent.get(`/api/studies/${s.studyId}/comparisons`)).body.items;
+    expect(k).toMatchObject({ latestFinishedRunId: runId, latestRun: { id: runId, state: 'finished' } });
+    // A newer run that no worker will take (no job), as if the queue were slow.
+    const [waiting] = await t.db.query(`INSERT INTO runs (comparison_id, study_id, kind, plan_version) VALUES ($1, $2, 'monitoring', 1) RETURNING id`, [primaryComparison, s.studyId]);
+    [k] = (await s.lead.agent.get(`/api/studies/${s.studyId}/comparisons`)).body.items;
+    expect(k).toMatchObject({ latestFinishedRunId: runId, latestRun: { id: waiting.id, state: 'queued' } });
+    await t.db.query(`UPDATE runs SET state = 'failed', error = 'test' WHERE id = $1`, [waiting.id]);
+    [k] = (await s.lead.agent.get(`/api/studies/${s.studyId}/comparisons`)).body.items;
+    expect(k).toMatchObject({ latestFinishedRunId: runId, latestRun: { id: waiting.id, state: 'failed' } });
   });
 
   it('gives a bundle whose rows hash to the run’s data hash and recompute the same primary result', async () => {
@@ -132,6 +137,28 @@ describe('comparison runs', () => {
     const re = await waitFor(again.body.run.id, s.lead);
     expect(re.results.primary.t).toBe(locked.results.primary.t);
     expect((await s.lead.agent.post(`/api/runs/${re.id}/lock`).set('x-csrf-token', s.lead.csrf)).status).toBe(409);
+  });
+
+  it('moves the study from collecting (draw) to analysing (first confirmatory run) to reported (every pre-specified comparison locked), audited', async () => {
+    const [study] = await t.db.query(`SELECT status FROM studies WHERE id = $1`, [s.studyId]);
+    expect(study.status).toBe('reported');
+    const moves = await t.db.query(
+      `SELECT actor_id, before->>'status' AS before, after->>'status' AS after FROM audit_events WHERE study_id = $1 AND action = 'study.status_changed' ORDER BY at, id`,
+      [s.studyId],
+    );
+    expect(moves.map((m: { before: string; after: string }) => `${m.before}→${m.after}`)).toEqual([
+      'drafting→registered',
+      'registered→enrolling',
+      'enrolling→collecting',
+      'collecting→analysing',
+      'analysing→reported',
+    ]);
+    expect(moves.every((m: { actor_id: string | null }) => m.actor_id !== null)).toBe(true);
+    // Rows written by one transaction share its id (xmin): each move was written with its event.
+    const xmin = async (action: string, status?: string) =>
+      (await t.db.query(`SELECT xmin::text AS x FROM audit_events WHERE study_id = $1 AND action = $2 AND ($3::text IS NULL OR after->>'status' = $3)`, [s.studyId, action, status ?? null]))[0].x;
+    expect(await xmin('study.status_changed', 'reported')).toBe(await xmin('run.locked'));
+    expect(await xmin('study.status_changed', 'collecting')).toBe(await xmin('draw.committed'));
   });
 
   it('shows a locked run to a principal with only their own school’s figures', async () => {

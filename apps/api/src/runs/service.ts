@@ -1,6 +1,6 @@
 import type { DataSource, EntityManager } from 'typeorm';
 import { benjaminiHochberg } from '@evenhand/stats';
-import type { Comparison, CreateComparison, PlanContent, QueueRun, Run, RunResults, SessionUser } from '@evenhand/entities';
+import { decidingTest, type Comparison, type ComparisonSchedule, type CreateComparison, type PlanContent, type QueueRun, type Run, type RunResults, type SessionUser } from '@evenhand/entities';
 import { recordAudit } from '../audit/service.js';
 import type { Deps } from '../deps.js';
 import { createLockDigests } from '../digests/service.js';
@@ -8,8 +8,10 @@ import { AppError } from '../errors.js';
 import type { Logger } from '../logger.js';
 import { currentPlan } from '../plans/service.js';
 import { findVisibleStudy, hasRole, sitesOf } from '../studies/access.js';
+import { advanceStatus } from '../studies/service.js';
 import { AnalysisError, analyse } from './engine.js';
-import { canonicalRowsSql, gather, sheetStatesFor } from './gather.js';
+import { canonicalRowsSql, canonicalSummariesSql, gather, sheetStatesFor } from './gather.js';
+import { checkSchedule, nextSlot, windowOf } from './schedule.js';
 
 interface ComparisonRow {
   id: string;
@@ -27,6 +29,10 @@ interface ComparisonRow {
   prespecified: boolean;
   is_primary: boolean;
   schedule_cron: string | null;
+  schedule_timezone: string;
+  schedule_set_at: Date | null;
+  opens_on: string;
+  closes_on: string;
 }
 
 interface RunRow {
@@ -45,10 +51,12 @@ interface RunRow {
   queued_at: Date;
   finished_at: Date | null;
   locked_at: Date | null;
+  scheduled_for: Date | null;
 }
 
 const comparisonSelect = `
-  SELECT k.*, m.name AS measure_name, m.kind AS measure_kind, m.higher_is_better, w.name AS wave_name
+  SELECT k.*, m.name AS measure_name, m.kind AS measure_kind, m.higher_is_better, w.name AS wave_name,
+         w.opens_on::text AS opens_on, w.closes_on::text AS closes_on
     FROM comparisons k JOIN measures m ON m.id = k.measure_id JOIN waves w ON w.id = k.wave_id`;
 
 function toRun(r: RunRow, multiplicity: Run['multiplicity'] = null): Run {
@@ -67,6 +75,7 @@ function toRun(r: RunRow, multiplicity: Run['multiplicity'] = null): Run {
     queuedAt: new Date(r.queued_at).toISOString(),
     finishedAt: r.finished_at ? new Date(r.finished_at).toISOString() : null,
     lockedAt: r.locked_at ? new Date(r.locked_at).toISOString() : null,
+    scheduledFor: r.scheduled_for ? new Date(r.scheduled_for).toISOString() : null,
     multiplicity,
   };
 }
@@ -91,15 +100,22 @@ export async function listComparisons(db: DataSource, user: SessionUser, studyId
   const rows: ComparisonRow[] = await db.query(`${comparisonSelect} WHERE k.study_id = $1 ORDER BY k.prespecified DESC, k.is_primary DESC, k.created_at`, [studyId]);
   const runs: RunRow[] = await db.query(
     `SELECT DISTINCT ON (comparison_id) id, comparison_id, study_id, kind, state, reason, plan_version, engine_version, data_sha256,
-            input_sheet_ids, NULL AS results, error, queued_at, finished_at, locked_at
+            input_sheet_ids, NULL AS results, error, queued_at, finished_at, locked_at, scheduled_for
        FROM runs WHERE study_id = $1 ORDER BY comparison_id, queued_at DESC`,
     [studyId],
   );
   const locked: { comparison_id: string; id: string }[] = await db.query(`SELECT comparison_id, id FROM runs WHERE study_id = $1 AND state = 'locked'`, [studyId]);
+  const finished: { comparison_id: string; id: string }[] = await db.query(
+    `SELECT DISTINCT ON (comparison_id) comparison_id, id FROM runs WHERE study_id = $1 AND state IN ('finished', 'locked') ORDER BY comparison_id, queued_at DESC`,
+    [studyId],
+  );
+  const [study]: { status: string }[] = await db.query(`SELECT status FROM studies WHERE id = $1`, [studyId]);
+  const now = new Date();
   return {
     items: rows.map((k) => {
       const latest = runs.find((r) => r.comparison_id === k.id);
       const { results: _omit, ...latestRun } = latest ? toRun(latest) : { results: null };
+      const lockedRunId = locked.find((l) => l.comparison_id === k.id)?.id ?? null;
       return {
         id: k.id,
         studyId: k.study_id,
@@ -114,12 +130,25 @@ export async function listComparisons(db: DataSource, user: SessionUser, studyId
         prespecified: k.prespecified,
         isPrimary: k.is_primary,
         scheduleCron: k.schedule_cron,
+        scheduleTimezone: k.schedule_timezone,
+        nextMonitoringRunAt: nextMonitoringRun(k, lockedRunId === null && study.status !== 'archived', now),
         latestRun: latest ? (latestRun as Comparison['latestRun']) : null,
-        lockedRunId: locked.find((l) => l.comparison_id === k.id)?.id ?? null,
+        latestFinishedRunId: finished.find((f) => f.comparison_id === k.id)?.id ?? null,
+        lockedRunId,
       };
     }),
     total: rows.length,
   };
+}
+
+/** What the web app shows beside a schedule; the tick decides from the same rules (see schedule.ts). */
+function nextMonitoringRun(k: ComparisonRow, running: boolean, now: Date): string | null {
+  if (!k.schedule_cron || !k.schedule_set_at || !running) return null;
+  try {
+    return nextSlot(windowOf({ ...k, schedule_cron: k.schedule_cron, schedule_set_at: k.schedule_set_at }), now)?.toISOString() ?? null;
+  } catch {
+    return null;
+  }
 }
 
 /** Comparisons added after sealing are exploratory, and marked so everywhere. */
@@ -134,15 +163,44 @@ export async function createComparison(db: DataSource, user: SessionUser, studyI
     if (!w) issues.push({ path: 'waveId', message: 'Choose one of this study’s waves' });
     else if (w.kind === 'baseline') issues.push({ path: 'waveId', message: 'Compare outcomes after baseline' });
     if (issues.length) throw AppError.validation('The comparison refers to things outside this study', issues);
+    checkSchedule(input.scheduleCron, input.scheduleTimezone);
     const [row] = await manager.query(
-      `INSERT INTO comparisons (study_id, measure_id, wave_id, label, unit_of_analysis, primary_test, covariate, prespecified, schedule_cron, created_by)
-       VALUES ($1, $2, $3, $4, $5, $6, $7, false, $8, $9) RETURNING id`,
-      [studyId, input.measureId, input.waveId, input.label ?? `${m.name} at ${w.name} (exploratory)`, input.unitOfAnalysis, input.primaryTest, input.covariate, input.scheduleCron, user.id],
+      `INSERT INTO comparisons (study_id, measure_id, wave_id, label, unit_of_analysis, primary_test, covariate, prespecified, schedule_cron, schedule_timezone, schedule_set_at, created_by)
+       VALUES ($1, $2, $3, $4, $5, $6, $7, false, $8, $9, CASE WHEN $8::varchar IS NULL THEN NULL ELSE now() END, $10) RETURNING id`,
+      [studyId, input.measureId, input.waveId, input.label ?? `${m.name} at ${w.name} (exploratory)`, input.unitOfAnalysis, input.primaryTest, input.covariate, input.scheduleCron, input.scheduleTimezone, user.id],
     );
     await recordAudit(manager, { actorId: user.id, studyId, action: 'comparison.created', entityType: 'comparison', entityId: row.id, after: input });
     return row.id as string;
   });
   return (await listComparisons(db, user, studyId)).items.find((c) => c.id === id)!;
+}
+
+/**
+ * Sets, changes or removes a comparison's automatic monitoring runs. The tick reads the comparisons table each minute,
+ * so the new cron takes effect from its next slot; slots before now never fire.
+ */
+export async function setSchedule(db: DataSource, user: SessionUser, comparisonId: string, input: ComparisonSchedule): Promise<Comparison> {
+  const studyId = await db.transaction(async (manager) => {
+    const [k]: ComparisonRow[] = await manager.query(`${comparisonSelect} WHERE k.id = $1 FOR UPDATE OF k`, [comparisonId]);
+    if (!k) throw AppError.notFound('The comparison');
+    await findVisibleStudy(manager, user, k.study_id, true);
+    checkSchedule(input.scheduleCron, input.scheduleTimezone);
+    await manager.query(
+      `UPDATE comparisons SET schedule_cron = $2, schedule_timezone = $3, schedule_set_at = CASE WHEN $2::varchar IS NULL THEN NULL ELSE now() END WHERE id = $1`,
+      [comparisonId, input.scheduleCron, input.scheduleTimezone],
+    );
+    await recordAudit(manager, {
+      actorId: user.id,
+      studyId: k.study_id,
+      action: input.scheduleCron ? 'comparison.schedule_set' : 'comparison.schedule_removed',
+      entityType: 'comparison',
+      entityId: comparisonId,
+      before: { scheduleCron: k.schedule_cron, scheduleTimezone: k.schedule_timezone },
+      after: input,
+    });
+    return k.study_id;
+  });
+  return (await listComparisons(db, user, studyId)).items.find((c) => c.id === comparisonId)!;
 }
 
 export async function queueRun(deps: Deps, user: SessionUser, comparisonId: string, input: QueueRun): Promise<Run> {
@@ -163,6 +221,8 @@ export async function queueRun(deps: Deps, user: SessionUser, comparisonId: stri
     );
     await deps.jobs.enqueueRun(manager, row.id);
     await recordAudit(manager, { actorId: user.id, studyId: k.study_id, action: 'run.queued', entityType: 'run', entityId: row.id, after: input });
+    // The first confirmatory run starts the analysis of the study.
+    if (input.kind === 'confirmatory') await advanceStatus(manager, k.study_id, 'analysing', user.id);
     return row;
   });
   return toRun(run);
@@ -225,17 +285,20 @@ async function loadRun(manager: EntityManager, user: SessionUser, runId: string)
   return run;
 }
 
-/** Benjamini–Hochberg across the study's confirmatory comparisons, using each one's locked (else latest finished) run. */
+/**
+ * Benjamini–Hochberg across the study's confirmatory comparisons, using each one's locked (else latest finished) run
+ * and the p that decides it (clustering-corrected when clusters were assigned).
+ */
 async function multiplicityFor(manager: EntityManager, run: RunRow): Promise<Run['multiplicity']> {
   if (run.kind !== 'confirmatory' || !run.results) return null;
   const rows: { id: string; p: number }[] = await manager.query(
-    `SELECT DISTINCT ON (r.comparison_id) r.id, (r.results->'primary'->>'p')::float8 AS p
+    `SELECT DISTINCT ON (r.comparison_id) r.id, coalesce(r.results->'clustering'->>'p', r.results->'primary'->>'p')::float8 AS p
        FROM runs r JOIN comparisons k ON k.id = r.comparison_id
       WHERE r.study_id = $1 AND r.kind = 'confirmatory' AND r.state IN ('finished', 'locked') AND k.prespecified
       ORDER BY r.comparison_id, (r.state = 'locked') DESC, r.finished_at DESC`,
     [run.study_id],
   );
-  if (!rows.some((r) => r.id === run.id)) rows.push({ id: run.id, p: run.results.primary.p });
+  if (!rows.some((r) => r.id === run.id)) rows.push({ id: run.id, p: decidingTest(run.results).p });
   const bh = benjaminiHochberg(rows.map((r) => r.p), run.results.alpha);
   const i = rows.findIndex((r) => r.id === run.id);
   return { adjustedP: bh.adjusted[i], rejected: bh.rejected[i], comparisons: rows.length };
@@ -288,6 +351,12 @@ export async function lockRun(deps: Pick<Deps, 'db' | 'config' | 'jobs'>, user: 
       after: { dataSha256: run.data_sha256, engineVersion: run.engine_version, planVersion: run.plan_version },
     });
     await createLockDigests(manager, deps, run.study_id, runId);
+    // Every pre-specified comparison locked: the study's result is reported.
+    const [open] = await manager.query(
+      `SELECT 1 FROM comparisons k WHERE k.study_id = $1 AND k.prespecified AND NOT EXISTS (SELECT 1 FROM runs r WHERE r.comparison_id = k.id AND r.state = 'locked') LIMIT 1`,
+      [run.study_id],
+    );
+    if (!open) await advanceStatus(manager, run.study_id, 'reported', user.id);
   });
   return getRun(db, user, runId);
 }
@@ -299,10 +368,15 @@ This file holds everything needed to recompute a locked comparison:
 - draw: the seeded random assignment (seed, algorithm, blocks, result) and any recorded reassignments;
 - rows: one line per analysed student, "classroom_id,arm,student_code,outcome,pretest" (pretest empty when
   missing), sorted as text. Student codes only, never names;
+- summaries: one line per classroom that reported only a summary of the outcome,
+  "summary,classroom_id,arm,n,mean,sd", sorted as text. They count in the t tests and effect sizes, not in the
+  rank, median, normality or baseline-adjusted checks;
 - results: the numbers Evenhand computed, with the statistics engine's version.
 
-To check the data: the SHA-256 of the rows joined with a newline ("\\n") must equal dataSha256.
-To check the numbers: group the rows by arm and recompute with the same engine version of @evenhand/stats
+To check the data: the SHA-256 of the rows followed by the summaries, all joined with a newline ("\\n"), must
+equal dataSha256.
+To check the numbers: per arm, merge the rows' n, mean and sum of squared deviations with each summary's
+(n, mean, (n − 1)·sd²), and recompute with the same engine version of @evenhand/stats
 (for example welchTFromSummary on each arm's n, mean and SD, hedgesG, clusterAdjusted with the plan's ICC),
 or with any statistics library: Welch's t with the Welch–Satterthwaite degrees of freedom, Hedges' g with the
 exact small-sample correction, and the clustering correction of Hedges (2007).`;
@@ -317,6 +391,7 @@ export async function runBundle(db: DataSource, user: SessionUser, runId: string
   const baselineIds: { id: string }[] = await db.query(`SELECT id FROM score_sheets WHERE id = ANY($1) AND wave_id <> $2`, [run.input_sheet_ids, k.wave_id]);
   const outcomeIds = run.input_sheet_ids.filter((id) => !baselineIds.some((b) => b.id === id));
   const lines: { line: string }[] = await db.query(`SELECT line FROM (${canonicalRowsSql}) rows ORDER BY line`, [outcomeIds, baselineIds.map((b) => b.id)]);
+  const summaries: { line: string }[] = await db.query(`SELECT line FROM (${canonicalSummariesSql}) summaries ORDER BY line`, [outcomeIds]);
   return {
     readme: README,
     run: { id: run.id, kind: run.kind, state: run.state, lockedAt: run.locked_at, reason: run.reason },
@@ -326,6 +401,7 @@ export async function runBundle(db: DataSource, user: SessionUser, runId: string
     plan,
     draw: draw ? { ...draw, reassignments } : null,
     rows: lines.map((l) => l.line),
+    summaries: summaries.map((l) => l.line),
     results: run.results,
   };
 }

@@ -79,7 +79,7 @@ export async function enrolSite(deps: Deps, actor: SessionUser, studyId: string,
     if (await manager.existsBy(StudySiteEntity, { studyId, siteId })) throw AppError.conflict('This site is already enrolled in the study');
     await manager.insert(StudySiteEntity, { studyId, siteId });
     const invitation = await assignPrincipal(manager, actor, siteId, input.principal, studyId);
-    await advanceStatus(manager, studyId, 'enrolling');
+    await advanceStatus(manager, studyId, 'enrolling', actor.id);
     const site = await siteById(manager, siteId);
     await recordAudit(manager, { actorId: actor.id, studyId, action: 'site.enrolled', entityType: 'site', entityId: siteId, after: site });
     return { site, invitation };

@@ -102,9 +102,16 @@ export async function updateStudy(db: DataSource, user: SessionUser, id: string,
   });
 }
 
-/** Moves a study forward through its states, never back. */
-export async function advanceStatus(manager: EntityManager, studyId: string, to: StudyStatus): Promise<void> {
+/**
+ * Moves a study forward through its states, never back, inside the caller's transaction; a move is audited with the
+ * state it left. Answers whether it moved.
+ */
+export async function advanceStatus(manager: EntityManager, studyId: string, to: StudyStatus, actorId: string | null): Promise<boolean> {
   const order: StudyStatus[] = ['drafting', 'registered', 'enrolling', 'collecting', 'analysing', 'reported', 'archived'];
   const lower = order.slice(0, order.indexOf(to));
-  await manager.query(`UPDATE studies SET status = $2, updated_at = now() WHERE id = $1 AND status = ANY($3)`, [studyId, to, lower]);
+  const [row]: { status: StudyStatus }[] = await manager.query(`SELECT status FROM studies WHERE id = $1 FOR UPDATE`, [studyId]);
+  if (!row || !lower.includes(row.status)) return false;
+  await manager.query(`UPDATE studies SET status = $2, updated_at = now() WHERE id = $1`, [studyId, to]);
+  await recordAudit(manager, { actorId, studyId, action: 'study.status_changed', entityType: 'study', entityId: studyId, before: { status: row.status }, after: { status: to } });
+  return true;
 }

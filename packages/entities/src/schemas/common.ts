@@ -2,6 +2,23 @@ import { z } from 'zod';
 
 export const idSchema = z.uuid();
 
+function isTimeZone(name: string): boolean {
+  try {
+    new Intl.DateTimeFormat('en-US', { timeZone: name });
+    return true;
+  } catch {
+    return false;
+  }
+}
+
+/** An IANA time-zone name, as the browser and Node know them. */
+export const timeZoneSchema = z
+  .string()
+  .trim()
+  .min(1, 'Enter a time zone')
+  .max(64)
+  .refine(isTimeZone, 'Use a time-zone name such as America/Chicago or UTC');
+
 export const idParamsSchema = z.object({ id: idSchema });
 
 /** Every list accepts `?limit=&offset=` and answers `{ items, total }`. */

@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { idSchema, paginationQuerySchema } from './common.js';
+import { idSchema, paginationQuerySchema, timeZoneSchema } from './common.js';
 import { armSchema, studyStatusSchema, unitOfAssignmentSchema, waveKindSchema } from './studies.js';
 
 /** Figures based on fewer students than this are never shown to principals (NCES 2011-603: 10 is the most common minimum). */
@@ -157,27 +157,13 @@ export type SendDigestsResult = z.infer<typeof sendDigestsResultSchema>;
 /** ISO weekday numbers: 1 is Monday, 7 is Sunday. */
 export const weekdayNames = ['Monday', 'Tuesday', 'Wednesday', 'Thursday', 'Friday', 'Saturday', 'Sunday'] as const;
 
-function isTimeZone(name: string): boolean {
-  try {
-    new Intl.DateTimeFormat('en-US', { timeZone: name });
-    return true;
-  } catch {
-    return false;
-  }
-}
-
 /** When the weekly digest goes out while a wave is open; the hour is in the study's time zone. */
 export const digestScheduleSchema = z
   .object({
     weeklyEnabled: z.boolean(),
     weekday: z.number({ message: 'Choose a day' }).int().min(1).max(7),
     hour: z.number({ message: 'Choose an hour' }).int().min(0).max(23),
-    timezone: z
-      .string()
-      .trim()
-      .min(1, 'Enter a time zone')
-      .max(64)
-      .refine(isTimeZone, 'Use a time-zone name such as America/Chicago or UTC'),
+    timezone: timeZoneSchema,
   })
   .meta({ id: 'DigestSchedule' });
 export type DigestSchedule = z.infer<typeof digestScheduleSchema>;

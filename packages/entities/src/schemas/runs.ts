@@ -1,6 +1,14 @@
 import { z } from 'zod';
-import { idSchema } from './common.js';
+import { idSchema, timeZoneSchema } from './common.js';
 import { armSchema } from './studies.js';
+
+/** A cron expression (minute hour day month weekday) for automatic monitoring runs while the wave is open. */
+const scheduleCronSchema = z
+  .string()
+  .trim()
+  .regex(/^(\S+\s+){4}\S+$/, 'Use five cron fields, e.g. “0 2 * * *” for 02:00 every night')
+  .nullable()
+  .default(null);
 
 export const createComparisonSchema = z.object({
   measureId: idSchema,
@@ -9,15 +17,18 @@ export const createComparisonSchema = z.object({
   unitOfAnalysis: z.enum(['student', 'classroom', 'school']).default('student'),
   primaryTest: z.enum(['welch', 'student']).default('welch'),
   covariate: z.enum(['baseline', 'none']).default('baseline'),
-  /** A cron expression (minute hour day month weekday) for automatic monitoring runs while the wave is open. */
-  scheduleCron: z
-    .string()
-    .trim()
-    .regex(/^(\S+\s+){4}\S+$/, 'Use five cron fields, e.g. “0 2 * * *” for 02:00 every night')
-    .nullable()
-    .default(null),
+  scheduleCron: scheduleCronSchema,
+  /** The time zone the cron's hours are read in. */
+  scheduleTimezone: timeZoneSchema.default('UTC'),
 });
 export type CreateComparison = z.infer<typeof createComparisonSchema>;
+
+/** Sets, changes or (with a null cron) removes a comparison's automatic monitoring runs. */
+export const comparisonScheduleSchema = z.object({
+  scheduleCron: scheduleCronSchema,
+  scheduleTimezone: timeZoneSchema.default('UTC'),
+});
+export type ComparisonSchedule = z.infer<typeof comparisonScheduleSchema>;
 
 export const runKinds = ['monitoring', 'confirmatory'] as const;
 export const runStates = ['queued', 'running', 'finished', 'failed', 'locked'] as const;
@@ -144,6 +155,8 @@ export const runSchema = z
     queuedAt: z.iso.datetime({ offset: true }),
     finishedAt: z.iso.datetime({ offset: true }).nullable(),
     lockedAt: z.iso.datetime({ offset: true }).nullable(),
+    /** The schedule's slot a monitoring run was made for; null when someone queued it. */
+    scheduledFor: z.iso.datetime({ offset: true }).nullable(),
     /** Benjamini–Hochberg across the study's locked/finished confirmatory comparisons (null for monitoring). */
     multiplicity: z.object({ adjustedP: z.number(), rejected: z.boolean(), comparisons: z.number().int() }).nullable(),
   })
@@ -165,8 +178,29 @@ export const comparisonSchema = z
     prespecified: z.boolean(),
     isPrimary: z.boolean(),
     scheduleCron: z.string().nullable(),
+    scheduleTimezone: z.string(),
+    /** When the schedule's next monitoring run is due: null without a schedule, once the wave has closed, or after the lock. */
+    nextMonitoringRunAt: z.iso.datetime({ offset: true }).nullable(),
     latestRun: runSchema.omit({ results: true }).nullable(),
+    /** The newest run with results (finished or locked), for when the latest one failed or is still waiting. */
+    latestFinishedRunId: idSchema.nullable(),
     lockedRunId: idSchema.nullable(),
   })
   .meta({ id: 'Comparison' });
 export type Comparison = z.infer<typeof comparisonSchema>;
+
+export interface DecidingTest {
+  /** `clustering` when classrooms or schools were assigned but students compared; else the registered primary test. */
+  basis: 'clustering' | 'primary';
+  p: number;
+  significant: boolean;
+}
+
+/**
+ * Which result decides whether a run meets the pre-registered test. When clusters were assigned but students
+ * analysed, the plain student-level t test overstates the evidence, so the clustering-corrected p decides.
+ */
+export function decidingTest(r: Pick<RunResults, 'primary' | 'clustering'>): DecidingTest {
+  if (r.clustering) return { basis: 'clustering', p: r.clustering.p, significant: r.clustering.significant };
+  return { basis: 'primary', p: r.primary.p, significant: r.primary.significant };
+}
