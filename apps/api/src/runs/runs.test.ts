@@ -1,7 +1,7 @@
 import { createHash } from 'node:crypto';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { decidingTest } from '@evenhand/entities';
-import { hedgesG, welchT, studentT } from '@evenhand/stats';
+import { hedgesG, mergeAllSummaries, welchT, welchTFromSummary, studentT, type Summary } from '@evenhand/stats';
 import { signIn, startTestApp, type SignedIn, type TestApp } from '../../test/app.js';
 import { createStudy, enrolClassrooms, fillSheet, send, type StudySetup } from '../../test/fixtures.js';
 import { startQueue } from '../jobs/queue.js';
@@ -193,6 +193,66 @@ describe('comparison runs', () => {
     const run = await waitFor(res.run.id, other.lead);
     expect(run.state).toBe('failed');
     expect(run.error).toMatch(/arm has fewer than 2 students/);
+  });
+
+  it('puts a summary-only classroom in the bundle and the data hash, and the bundle alone recomputes the primary result', async () => {
+    const other = await createStudy(t.app);
+    await enrolClassrooms(other, 2, 2);
+    await send(other.coordinator, 'post', `/api/studies/${other.studyId}/draws`, { seed: 'summary-bundle', commit: true }, 201);
+    await other.coordinator.agent.get(`/api/studies/${other.studyId}/completion`).expect(200);
+    const rooms: { id: string; arm: string }[] = await t.db.query(`SELECT id, arm FROM classrooms WHERE study_id = $1 ORDER BY arm, name, id`, [other.studyId]);
+    const raw: Record<string, number[]> = { intervention: [], comparison: [] };
+    for (const [k, c] of rooms.entries()) {
+      const scores = Array.from({ length: 9 }, (_, i) => 40 + ((i * 11 + k * 17) % 29) + (c.arm === 'intervention' ? 4 : 0));
+      raw[c.arm].push(...scores);
+      if (k === 0) {
+        // This classroom reports only n, mean and SD (sample SD, n − 1) of the same scores.
+        const mean = scores.reduce((a, b) => a + b, 0) / scores.length;
+        const sd = Math.sqrt(scores.reduce((a, b) => a + (b - mean) ** 2, 0) / (scores.length - 1));
+        await t.db.query(`UPDATE score_sheets SET mode = 'summary', summary_n = $2, summary_mean = $3, summary_sd = $4, state = 'accepted' WHERE classroom_id = $1 AND wave_id = $5`, [c.id, scores.length, mean, sd, other.outcomeId]);
+      } else await fill(c.id, other.outcomeId, other.measureId, scores, `M${k}`);
+    }
+    const [k] = (await other.lead.agent.get(`/api/studies/${other.studyId}/comparisons`)).body.items;
+    const queued = await send(other.lead, 'post', `/api/comparisons/${k.id}/runs`, { kind: 'confirmatory' }, 202);
+    const run = await waitFor(queued.run.id, other.lead);
+    expect(run.state).toBe('finished');
+    // Against Welch's t on every raw score, the summary classroom's included (the engine is checked against SciPy in packages/stats).
+    const all = welchT(raw.intervention, raw.comparison);
+    expect(run.results.primary.t).toBeCloseTo(all.t, 9);
+    expect(run.results.primary.df).toBeCloseTo(all.df, 9);
+
+    const bundle = (await other.lead.agent.get(`/api/runs/${run.id}/bundle`)).body;
+    expect(bundle.summaries).toHaveLength(1);
+    expect(bundle.summaries[0]).toMatch(new RegExp(`^summary,${rooms[0].id},${rooms[0].arm},9,`));
+    expect(bundle.rows).toHaveLength(27);
+    expect(bundle.rows.some((line: string) => line.startsWith(rooms[0].id))).toBe(false);
+    const sha = (lines: string[]) => createHash('sha256').update(lines.join('\n')).digest('hex');
+    expect(sha([...bundle.rows, ...bundle.summaries])).toBe(bundle.dataSha256);
+    expect(sha(bundle.rows)).not.toBe(bundle.dataSha256);
+
+    // From the bundle alone: per arm, the rows' summary merged with the summary-only classroom's.
+    const parts: Record<string, Summary[]> = { intervention: [], comparison: [] };
+    const byArm: Record<string, number[]> = { intervention: [], comparison: [] };
+    for (const line of bundle.rows as string[]) {
+      const [, arm, , outcome] = line.split(',');
+      byArm[arm].push(Number(outcome));
+    }
+    for (const arm of ['intervention', 'comparison']) {
+      const v = byArm[arm];
+      const mean = v.reduce((a, b) => a + b, 0) / v.length;
+      parts[arm].push({ n: v.length, mean, m2: v.reduce((a, b) => a + (b - mean) ** 2, 0) });
+    }
+    for (const line of bundle.summaries as string[]) {
+      const [, , arm, n, mean, sd] = line.split(',');
+      parts[arm].push({ n: Number(n), mean: Number(mean), m2: Number(sd) ** 2 * (Number(n) - 1) });
+    }
+    const group = (arm: string) => {
+      const m = mergeAllSummaries(parts[arm]);
+      return { n: m.n, mean: m.mean, sd: Math.sqrt(m.m2 / (m.n - 1)) };
+    };
+    const again = welchTFromSummary(group('intervention'), group('comparison'));
+    expect(again.t).toBeCloseTo(bundle.results.primary.t, 10);
+    expect(again.p).toBeCloseTo(bundle.results.primary.p, 12);
   });
 
   it('runs each job exactly once with two worker processes on one database', async () => {
