@@ -13,7 +13,7 @@ import { ClassroomEntity, CohortEntity, DrawEntity, StudySiteEntity } from '@eve
 import { recordAudit } from '../audit/service.js';
 import type { Deps } from '../deps.js';
 import { AppError } from '../errors.js';
-import { parseCsv } from '../lib/csv.js';
+import { readSmallCsv } from '../lib/csv.js';
 import { findVisibleStudy, hasRole, sitesOf } from '../studies/access.js';
 import { ensurePerson, sendInvitations, type PendingInvitation } from '../users/service.js';
 
@@ -130,8 +130,7 @@ export async function createClassroom(deps: Deps, actor: SessionUser, studyId: s
 
 /** Bulk add from CSV: every row is checked first; one bad row and nothing is written. */
 export async function importClassrooms(deps: Deps, actor: SessionUser, studyId: string, file: Buffer): Promise<{ created: number; classrooms: Classroom[] }> {
-  const { rows } = parseCsv(file, classroomCsvColumns);
-  if (rows.length > 2000) throw AppError.validation('Import at most 2,000 classrooms at a time');
+  const rows = await readSmallCsv(file, classroomCsvColumns, 2000, 'classrooms');
   const { created, invitations } = await deps.db.transaction(async (manager) => {
     await findVisibleStudy(manager, actor, studyId, true);
     await refuseAfterDraw(manager, studyId);

@@ -1,39 +1,12 @@
 import { scoreRowSchema, type RowIssue, type ScoreRow } from '@evenhand/entities';
 import { AppError } from '../errors.js';
 
-export interface MeasureRange {
-  minScore: number;
-  maxScore: number;
+/** The whole write refused, with the problems found (the first few hundred) and how many there were. */
+export function rowsRefused(issues: RowIssue[], total = issues.length): AppError {
+  return new AppError('validation_failed', `${total} problem(s) found; nothing was saved`, { rows: issues.slice(0, 500), total });
 }
 
 const FORMULA = /^[=+\-@\t\r]/;
-
-/**
- * Checks every row against the measure's range and for duplicate codes; returns all problems at
- * once (row numbers are the grid's 1-based rows, or the CSV's line numbers when given).
- */
-export function checkRows(rows: ScoreRow[], range: MeasureRange, lineOf: (index: number) => number = (i) => i + 1): RowIssue[] {
-  const issues: RowIssue[] = [];
-  const firstSeen = new Map<string, number>();
-  rows.forEach((r, i) => {
-    const row = lineOf(i);
-    const key = r.studentCode.toUpperCase();
-    const earlier = firstSeen.get(key);
-    if (earlier !== undefined) issues.push({ row, column: 'student_code', message: `Student code ${r.studentCode} is also on row ${earlier}` });
-    else firstSeen.set(key, row);
-    if (r.score === null) {
-      if (!r.left) issues.push({ row, column: 'score', message: 'Enter a score, or mark the student as having left the study' });
-    } else if (r.score < range.minScore || r.score > range.maxScore) {
-      issues.push({ row, column: 'score', message: `The score ${r.score} is outside the measure's range ${range.minScore}–${range.maxScore}` });
-    }
-  });
-  return issues;
-}
-
-export function rowsRefused(issues: RowIssue[]): AppError {
-  return new AppError('validation_failed', `${issues.length} problem(s) found; nothing was saved`, { rows: issues.slice(0, 500), total: issues.length });
-}
-
 const truthy = new Set(['1', 'true', 'yes', 'y', 'x', 'left']);
 const falsy = new Set(['', '0', 'false', 'no', 'n']);
 

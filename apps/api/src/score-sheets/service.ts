@@ -1,12 +1,13 @@
 import type { DataSource, EntityManager } from 'typeorm';
-import type { RowIssue, ScoreRow, ScoreSheet, ScoreSheetDetail, SessionUser, SheetSummary } from '@evenhand/entities';
+import type { ScoreRow, ScoreSheet, ScoreSheetDetail, SessionUser, SheetSummary } from '@evenhand/entities';
 import { ScoreSheetEntity } from '@evenhand/entities/orm';
 import { recordAudit } from '../audit/service.js';
 import { AppError } from '../errors.js';
-import { parseCsv } from '../lib/csv.js';
+import { csvRecords } from '../lib/csv.js';
 import { currentPlan } from '../plans/service.js';
 import { findVisibleStudy, hasRole } from '../studies/access.js';
-import { checkRows, rowFromCsv, rowsRefused } from './rows.js';
+import { rowFromCsv } from './rows.js';
+import { applyStaged, stageRows, type SheetKeys } from './write.js';
 
 interface SheetRow {
   id: string;
@@ -157,116 +158,58 @@ function assertEditable(row: SheetRow, user: SessionUser) {
   if (!editable(row)) throw AppError.conflict(`The ${row.wave_name} wave is closed (${row.opens_on} to ${row.closes_on}); ask the coordinator to reopen it`);
 }
 
-const CHUNK = 10_000;
-
-type ScoreValue = { score: number | null; left: boolean } | null;
-const valueOf = (r: ScoreRow | undefined): ScoreValue => (r ? { score: r.score, left: r.left } : null);
-const sameValue = (a: ScoreValue, b: ScoreValue) => JSON.stringify(a) === JSON.stringify(b);
-
-/**
- * Replaces a sheet's rows in one transaction: all rows or none. Codes already registered to another
- * classroom of the study are refused; every changed score is recorded as old → new in the audit trail.
- */
-async function writeRows(manager: EntityManager, user: SessionUser, row: SheetRow, rows: ScoreRow[], lineOf?: (i: number) => number): Promise<void> {
-  const issues: RowIssue[] = checkRows(rows, { minScore: Number(row.min_score), maxScore: Number(row.max_score) }, lineOf);
-  const codes = rows.map((r) => r.studentCode);
-  const elsewhere: { student_code: string; classroom_name: string }[] = await manager.query(
-    `SELECT st.student_code, c.name AS classroom_name
-       FROM unnest($2::varchar[]) AS codes(code) JOIN students st ON st.study_id = $1 AND st.student_code = codes.code
-       JOIN classrooms c ON c.id = st.classroom_id
-      WHERE st.classroom_id <> $3`,
-    [row.study_id, codes, row.classroom_id],
-  );
-  const where = new Map(elsewhere.map((e) => [e.student_code, e.classroom_name]));
-  rows.forEach((r, i) => {
-    const other = where.get(r.studentCode);
-    if (other) issues.push({ row: (lineOf ?? ((x) => x + 1))(i), column: 'student_code', message: `Student code ${r.studentCode} belongs to another classroom of this study (${other})` });
-  });
-  if (issues.length) throw rowsRefused(issues.sort((a, b) => a.row - b.row));
-
-  const before = new Map((await readRows(manager, row.id)).map((r) => [r.studentCode, r]));
-  const after = new Map(rows.map((r) => [r.studentCode, r]));
-  const changes: { studentCode: string; from: ScoreValue; to: ScoreValue }[] = [];
-  for (const code of new Set([...before.keys(), ...after.keys()])) {
-    const from = valueOf(before.get(code));
-    const to = valueOf(after.get(code));
-    if (!sameValue(from, to)) changes.push({ studentCode: code, from, to });
-  }
-
-  await manager.query(`DELETE FROM scores WHERE sheet_id = $1`, [row.id]);
-  for (let i = 0; i < rows.length; i += CHUNK) {
-    const part = rows.slice(i, i + CHUNK);
-    const partCodes = part.map((r) => r.studentCode);
-    await manager.query(
-      `INSERT INTO students (study_id, student_code, classroom_id) SELECT $1, code, $2 FROM unnest($3::varchar[]) AS code
-       ON CONFLICT (study_id, student_code) DO NOTHING`,
-      [row.study_id, row.classroom_id, partCodes],
-    );
-    await manager.query(
-      `INSERT INTO scores (sheet_id, study_id, classroom_id, wave_id, measure_id, student_code, score, left_study, note)
-       SELECT $1, $2, $3, $4, $5, t.code, t.score, t.left_study, t.note
-         FROM unnest($6::varchar[], $7::numeric[], $8::boolean[], $9::varchar[]) AS t(code, score, left_study, note)`,
-      [row.id, row.study_id, row.classroom_id, row.wave_id, row.measure_id, partCodes, part.map((r) => r.score), part.map((r) => r.left), part.map((r) => r.note)],
-    );
-  }
-  // Codes no longer on any of this classroom's sheets are free for another classroom again.
-  await manager.query(
-    `DELETE FROM students st WHERE st.study_id = $1 AND st.classroom_id = $2
-       AND NOT EXISTS (SELECT 1 FROM scores s WHERE s.study_id = st.study_id AND s.student_code = st.student_code)`,
-    [row.study_id, row.classroom_id],
-  );
-  await manager.query(`UPDATE score_sheets SET mode = 'rows', summary_n = NULL, summary_mean = NULL, summary_sd = NULL, updated_at = now() WHERE id = $1`, [row.id]);
-  if (changes.length) {
-    await recordAudit(manager, {
-      actorId: user.id,
-      studyId: row.study_id,
-      action: 'scores.changed',
-      entityType: 'score_sheet',
-      entityId: row.id,
-      after: { rows: rows.length, changes },
-    });
-  }
-}
+/** The sheet's keys as the write path needs them. */
+const keysOf = (r: SheetRow): SheetKeys => r;
 
 export async function saveRows(db: DataSource, user: SessionUser, id: string, rows: ScoreRow[]): Promise<ScoreSheetDetail> {
   await db.transaction(async (manager) => {
-    const row = await loadSheet(manager, user, id, true);
-    assertEditable(row, user);
-    await writeRows(manager, user, row, rows);
+    const sheet = await loadSheet(manager, user, id, true);
+    assertEditable(sheet, user);
+    const staged = await stageRows(manager, keysOf(sheet), rows.map((row, i) => ({ line: i + 1, row, issues: [] })));
+    await applyStaged(manager, user.id, keysOf(sheet), staged.rows, sheet.rows === 0);
+    await markMode(manager, id, null);
   });
   return getSheet(db, user, id);
 }
 
 export const UPLOAD_LIMIT_BYTES = 10 * 1024 * 1024;
 
-/** Parses and checks an uploaded CSV; writes only when not a dry run, and replaces rows only when told to. */
-export async function uploadRows(db: DataSource, user: SessionUser, id: string, file: Buffer, opts: { dryRun: boolean; replace: boolean }) {
-  const { rows: records } = parseCsv(file, ['student_code', 'score']);
-  const issues: RowIssue[] = [];
-  const rows: ScoreRow[] = [];
-  const lines: number[] = [];
-  for (const { line, values } of records) {
-    const parsed = rowFromCsv(values, line);
-    issues.push(...parsed.issues);
-    if (parsed.row) {
-      rows.push(parsed.row);
-      lines.push(line);
-    }
+/** The file's records as rows, each with its line and what is wrong with it. */
+async function* rowsOfCsv(file: Buffer, seen: { records: number }) {
+  for await (const { line, values } of csvRecords(file, ['student_code', 'score'])) {
+    seen.records += 1;
+    yield { line, ...rowFromCsv(values, line) };
   }
+}
+
+/**
+ * Reads and checks an uploaded CSV as it streams into the staging table; writes only when not a dry
+ * run, and replaces rows already on the sheet only when told to. All rows or none.
+ */
+export async function uploadRows(db: DataSource, user: SessionUser, id: string, file: Buffer, opts: { dryRun: boolean; replace: boolean }) {
   return db.transaction(async (manager) => {
     const sheet = await loadSheet(manager, user, id, true);
     assertEditable(sheet, user);
-    const rangeIssues = checkRows(rows, { minScore: Number(sheet.min_score), maxScore: Number(sheet.max_score) }, (i) => lines[i]);
-    const all = [...issues, ...rangeIssues].sort((a, b) => a.row - b.row);
-    if (all.length) throw rowsRefused(all);
-    if (opts.dryRun) return { dryRun: true, rows: rows.length, preview: rows.slice(0, 50), sheet: null };
+    const seen = { records: 0 };
+    const staged = await stageRows(manager, keysOf(sheet), rowsOfCsv(file, seen));
+    if (!seen.records) throw AppError.validation('The file has a header row but no data rows');
+    if (opts.dryRun) return { dryRun: true, rows: staged.rows, preview: staged.preview, sheet: null };
     if (sheet.rows > 0 && !opts.replace) {
-      throw AppError.conflict(`The sheet already has ${sheet.rows} rows; confirm to replace them with the file's ${rows.length}`, { needsConfirmation: true });
+      throw AppError.conflict(`The sheet already has ${sheet.rows} rows; confirm to replace them with the file's ${staged.rows}`, { needsConfirmation: true });
     }
-    await writeRows(manager, user, sheet, rows, (i) => lines[i]);
+    await applyStaged(manager, user.id, keysOf(sheet), staged.rows, sheet.rows === 0);
+    await markMode(manager, id, null);
     const [updated]: SheetRow[] = await manager.query(`${sheetSelect} WHERE sh.id = $1`, [id]);
-    return { dryRun: false, rows: rows.length, preview: rows.slice(0, 50), sheet: toSheet(updated) };
+    return { dryRun: false, rows: staged.rows, preview: staged.preview, sheet: toSheet(updated) };
   });
+}
+
+/** Rows, or a class summary instead of rows. */
+async function markMode(manager: EntityManager, id: string, summary: SheetSummary | null) {
+  await manager.query(
+    `UPDATE score_sheets SET mode = $2, summary_n = $3, summary_mean = $4, summary_sd = $5, updated_at = now() WHERE id = $1`,
+    [id, summary ? 'summary' : 'rows', summary?.n ?? null, summary?.mean ?? null, summary?.sd ?? null],
+  );
 }
 
 export async function saveSummary(db: DataSource, user: SessionUser, id: string, summary: SheetSummary): Promise<ScoreSheetDetail> {
@@ -278,8 +221,10 @@ export async function saveSummary(db: DataSource, user: SessionUser, id: string,
     if (summary.mean < Number(row.min_score) || summary.mean > Number(row.max_score)) {
       throw AppError.validation('The mean is outside the measure’s range', [{ path: 'summary.mean', message: `Use a mean between ${row.min_score} and ${row.max_score}` }]);
     }
-    await manager.query(`DELETE FROM scores WHERE sheet_id = $1`, [id]);
-    await manager.query(`UPDATE score_sheets SET mode = 'summary', summary_n = $2, summary_mean = $3, summary_sd = $4, updated_at = now() WHERE id = $1`, [id, summary.n, summary.mean, summary.sd]);
+    // A summary replaces the rows: removing them is audited and releases their codes like any write.
+    await stageRows(manager, keysOf(row), []);
+    await applyStaged(manager, user.id, keysOf(row), 0, row.rows === 0);
+    await markMode(manager, id, summary);
     await recordAudit(manager, { actorId: user.id, studyId: row.study_id, action: 'scores.summary_saved', entityType: 'score_sheet', entityId: id, after: summary });
   });
   return getSheet(db, user, id);

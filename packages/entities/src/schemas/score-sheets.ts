@@ -27,6 +27,22 @@ export const scoreRowSchema = z.object({
 export type ScoreRow = z.infer<typeof scoreRowSchema>;
 export type ScoreRowInput = z.input<typeof scoreRowSchema>;
 
+/** A measure's score range, inclusive. */
+export interface MeasureRange {
+  minScore: number;
+  maxScore: number;
+}
+
+/**
+ * What is wrong with a row's score, or null: a score is needed unless the student left the study,
+ * and it must lie within the measure's range. The grid and the API both check rows with it.
+ */
+export function scoreProblem(row: { score: number | null; left: boolean }, range: MeasureRange): string | null {
+  if (row.score === null) return row.left ? null : 'Enter a score, or mark the student as having left the study';
+  if (row.score < range.minScore || row.score > range.maxScore) return `The score ${row.score} is outside the measure's range ${range.minScore}–${range.maxScore}`;
+  return null;
+}
+
 export const MAX_SHEET_ROWS = 200_000;
 
 export const saveSheetSchema = z.object({ rows: z.array(scoreRowSchema).max(MAX_SHEET_ROWS) });

@@ -1,4 +1,4 @@
-import { scoreRowSchema, type RowIssue, type ScoreRow, type ScoreRowInput } from '@evenhand/entities';
+import { scoreProblem, scoreRowSchema, type MeasureRange, type RowIssue, type ScoreRow, type ScoreRowInput } from '@evenhand/entities';
 import { toCsv } from '@/lib/csv';
 
 /** One row of the grid as typed: the score stays text, so "eighty" or "12,5" are kept until fixed. */
@@ -23,11 +23,6 @@ export const columnLabels: Record<GridColumn, string> = {
 
 /** What is wrong with each cell of a row; absent cells are fine. */
 export type CellIssues = Partial<Record<GridColumn, string>>;
-
-export interface MeasureRange {
-  minScore: number;
-  maxScore: number;
-}
 
 let lastId = 0;
 export function newRowId(): string {
@@ -78,8 +73,8 @@ const schemaColumn: Record<string, GridColumn> = { studentCode: 'studentCode', s
 
 /**
  * Every problem of every row, keyed by row id: the shared row schema, the measure's range, a score
- * unless the student left, and student codes used twice (flagged on both rows). The API runs the
- * same checks and refuses the whole sheet if one fails.
+ * unless the student left (the shared `scoreProblem`), and student codes used twice (flagged on both
+ * rows). The API runs the same checks and refuses the whole sheet if one fails.
  */
 export function checkGrid(rows: readonly GridRow[], range: MeasureRange): Map<string, CellIssues> {
   const issues = new Map<string, CellIssues>();
@@ -99,9 +94,9 @@ export function checkGrid(rows: readonly GridRow[], range: MeasureRange): Map<st
         if (column) add(row, column, column === 'score' ? 'Enter a number' : issue.message);
       }
     }
-    if (score === null && !row.left) add(row, 'score', 'Enter a score, or tick “left the study”');
-    if (score !== null && Number.isFinite(score) && (score < range.minScore || score > range.maxScore)) {
-      add(row, 'score', `Use a score from ${range.minScore} to ${range.maxScore}`);
+    if (score === null || Number.isFinite(score)) {
+      const problem = scoreProblem({ score, left: row.left }, range);
+      if (problem) add(row, 'score', problem);
     }
     const code = row.studentCode.trim().toUpperCase();
     if (code) byCode.set(code, [...(byCode.get(code) ?? []), i]);

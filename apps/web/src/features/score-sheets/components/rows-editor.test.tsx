@@ -31,7 +31,7 @@ describe('RowsEditor', () => {
       />,
     );
     expect(cell('Score', 1)).toHaveAttribute('aria-invalid', 'true');
-    expect(cell('Score', 1)).toHaveAccessibleDescription('Use a score from 0 to 250');
+    expect(cell('Score', 1)).toHaveAccessibleDescription("The score 300 is outside the measure's range 0–250");
     expect(cell('Student code', 2)).toHaveAccessibleDescription(/also on row 3/);
     expect(cell('Student code', 3)).toHaveAccessibleDescription(/also on row 2/);
     expect(cell('Score', 2)).not.toHaveAttribute('aria-invalid');
