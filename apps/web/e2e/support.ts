@@ -1,0 +1,48 @@
+import AxeBuilder from '@axe-core/playwright';
+import { expect, type Page } from '@playwright/test';
+import pg from 'pg';
+
+/** The seed's shared password and its study (apps/api/src/seed). */
+export const DEMO_PASSWORD = 'evenhand-demo';
+export const DEMO_STUDY = 'Lantern Reading Routine in grades 3 and 4';
+/** Student codes as the demo seed writes them; a name in their place would be a privacy failure. */
+export const STUDENT_CODE = /^LV-\d{4}$/;
+
+export async function signIn(page: Page, email: string, password = DEMO_PASSWORD) {
+  await page.goto('/sign-in');
+  await page.getByLabel('E-mail address').fill(email);
+  await page.getByLabel('Password', { exact: true }).fill(password);
+  await page.getByRole('button', { name: 'Sign in' }).click();
+  await expect(page).not.toHaveURL(/\/sign-in/);
+}
+
+/** No serious or critical accessibility problems on the page as it is now. */
+export async function expectAccessible(page: Page) {
+  const { violations } = await new AxeBuilder({ page }).analyze();
+  const bad = violations.filter((v) => v.impact === 'serious' || v.impact === 'critical');
+  expect(bad.map((v) => `${v.id}: ${v.nodes.map((n) => n.target.join(' ')).join(', ')}`)).toEqual([]);
+}
+
+/** Every student count in the page's tables (columns whose header mentions students), as shown. */
+export async function studentCountsShown(page: Page): Promise<string[]> {
+  return page.evaluate(() =>
+    [...document.querySelectorAll('main table')].flatMap((table) => {
+      const heads = [...table.querySelectorAll('thead th')].map((th) => th.textContent ?? '');
+      const columns = heads.flatMap((h, i) => (/students/i.test(h) ? [i] : []));
+      return [...table.querySelectorAll('tbody tr, tfoot tr')].flatMap((tr) => columns.map((i) => tr.children[i]?.textContent?.trim() ?? ''));
+    }),
+  );
+}
+
+/** Queries the end-to-end database directly, to recompute what the pages show from the rows themselves. */
+export async function queryDatabase<T>(sql: string, params: unknown[] = []): Promise<T[]> {
+  const url = process.env.E2E_DATABASE_URL;
+  if (!url) throw new Error('E2E_DATABASE_URL is not set');
+  const client = new pg.Client({ connectionString: url });
+  await client.connect();
+  try {
+    return (await client.query(sql, params)).rows as T[];
+  } finally {
+    await client.end();
+  }
+}

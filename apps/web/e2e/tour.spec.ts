@@ -1,0 +1,390 @@
+import { clusterAdjusted, hedgesG, improvementIndex, studentT, welchT } from '@evenhand/stats';
+import { expect, test, type Locator, type Page } from '@playwright/test';
+import { formatCount, formatInterval, formatNumber, formatPStatement, formatSigned } from '../src/lib/format';
+import { areas, homePathFor, navigationFor, studyTabs, studyTabsFor, type Area, type StudyTab } from '../src/lib/navigation';
+import { DEMO_PASSWORD, DEMO_STUDY, STUDENT_CODE, expectAccessible, queryDatabase, studentCountsShown } from './support';
+
+/**
+ * The demo tour: every demo role signs in with the keyboard alone, then opens its home, every other area it has
+ * and every tab of the demo study it may read, checking real content and accessibility on each. The numbers of
+ * the locked results are recomputed here with the statistics engine from the score rows in the database.
+ */
+
+type Role = 'admin' | 'coordinator' | 'research_lead' | 'teacher' | 'principal' | 'reviewer';
+
+const tour: { role: Role; email: string; label: string }[] = [
+  { role: 'admin', email: 'admin@evenhand.test', label: 'the district admin' },
+  { role: 'coordinator', email: 'coordinator@evenhand.test', label: 'the coordinator' },
+  { role: 'research_lead', email: 'lead@evenhand.test', label: 'the research lead' },
+  { role: 'teacher', email: 'teacher1@evenhand.test', label: 'a teacher' },
+  { role: 'principal', email: 'principal1@evenhand.test', label: 'a principal' },
+  { role: 'reviewer', email: 'reviewer@evenhand.test', label: 'the reviewer' },
+];
+
+const grantsOf = (role: Role) => [{ role, siteId: null }];
+
+// ---------------------------------------------------------------------------------------------------------------
+// The seeded rows and the numbers recomputed from them.
+
+interface ScoreRow {
+  arm: 'intervention' | 'comparison';
+  classroom_id: string;
+  site_name: string;
+  score: number;
+}
+
+interface LockedRun {
+  id: string;
+  study_id: string;
+  label: string;
+  is_primary: boolean;
+  alpha: number;
+  alternative: 'two-sided' | 'greater' | 'less';
+  icc: number;
+  rows: ScoreRow[];
+}
+
+/** The demo study's locked runs, each with the outcome rows of the sheets it froze (classroom arms as drawn). */
+async function lockedRuns(): Promise<LockedRun[]> {
+  const runs = await queryDatabase<Omit<LockedRun, 'rows'>>(
+    `SELECT r.id, r.study_id, k.label, k.is_primary, (p.content->>'alpha')::float8 AS alpha, p.content->>'alternative' AS alternative,
+            (p.content->>'icc')::float8 AS icc
+       FROM runs r JOIN comparisons k ON k.id = r.comparison_id JOIN studies s ON s.id = r.study_id
+       JOIN plan_versions p ON p.study_id = r.study_id AND p.version = r.plan_version
+      WHERE s.title = $1 AND r.state = 'locked'`,
+    [DEMO_STUDY],
+  );
+  return Promise.all(
+    runs.map(async (run) => ({
+      ...run,
+      rows: await queryDatabase<ScoreRow>(
+        `SELECT c.arm, c.id AS classroom_id, si.name AS site_name, o.score::float8 AS score
+           FROM runs r JOIN comparisons k ON k.id = r.comparison_id
+           JOIN score_sheets sh ON sh.id = ANY (r.input_sheet_ids) AND sh.wave_id = k.wave_id AND sh.measure_id = k.measure_id
+           JOIN scores o ON o.sheet_id = sh.id AND o.score IS NOT NULL
+           JOIN classrooms c ON c.id = o.classroom_id JOIN sites si ON si.id = c.site_id
+          WHERE r.id = $1`,
+        [run.id],
+      ),
+    })),
+  );
+}
+
+function recompute(run: LockedRun) {
+  const arm = (a: ScoreRow['arm']) => run.rows.filter((r) => r.arm === a);
+  const scores = (a: ScoreRow['arm']) => arm(a).map((r) => r.score);
+  const classrooms = (a: ScoreRow['arm']) => new Set(arm(a).map((r) => r.classroom_id)).size;
+  const [a, b] = [scores('intervention'), scores('comparison')];
+  const ci95 = { alternative: run.alternative, confidence: 0.95 };
+  const primary = welchT(a, b, { alternative: run.alternative, confidence: 1 - run.alpha });
+  const g = hedgesG(a, b);
+  const clustering = clusterAdjusted({ g: g.g, n1: a.length, n2: b.length, clusters1: classrooms('intervention'), clusters2: classrooms('comparison'), icc: run.icc });
+  return { a, b, primary, student: studentT(a, b, ci95), g, clustering, classrooms };
+}
+
+const mean = (xs: number[]) => xs.reduce((s, x) => s + x, 0) / xs.length;
+const sd = (xs: number[]) => Math.sqrt(xs.reduce((s, x) => s + (x - mean(xs)) ** 2, 0) / (xs.length - 1));
+const effectSizeText = (g: ReturnType<typeof hedgesG>) =>
+  `Hedges’ g = ${formatNumber(g.g, 2)} (95% CI ${formatInterval(g.ci, 2)}); improvement index ${formatSigned(improvementIndex(g.g), 1)} percentile points`;
+
+// ---------------------------------------------------------------------------------------------------------------
+// What each screen must show.
+
+interface Visit {
+  page: Page;
+  role: Role;
+  runs: LockedRun[];
+}
+
+const main = (page: Page) => page.getByRole('main');
+const table = (page: Page, name: string | RegExp) => main(page).getByRole('table', { name, exact: typeof name === 'string' });
+/** Body rows of a table (rows with a cell), not its header. */
+const bodyRows = (t: Locator) => t.getByRole('row').filter({ has: t.page().getByRole('cell') });
+
+async function expectStudentCodesOnly(page: Page) {
+  const codes = await main(page).getByRole('table').first().getByRole('rowheader').allTextContents();
+  expect(codes.length).toBeGreaterThan(0);
+  for (const code of codes) expect(code.trim()).toMatch(STUDENT_CODE);
+}
+
+async function openDemoStudy(page: Page) {
+  await page.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'Studies' }).click();
+  await main(page).getByRole('link', { name: DEMO_STUDY }).click();
+  await expect(page.getByRole('heading', { level: 1, name: DEMO_STUDY })).toBeVisible();
+}
+
+async function openTab(page: Page, tab: StudyTab) {
+  await page.getByRole('navigation', { name: 'Study' }).getByRole('link', { name: studyTabs[tab].label, exact: true }).click();
+  await expect(page).toHaveURL(new RegExp(`/studies/[0-9a-f-]+/${studyTabs[tab].path}$`));
+}
+
+const areaChecks: Partial<Record<keyof typeof areas, (v: Visit) => Promise<void>>> = {
+  async accounts({ page }) {
+    await expect(page.getByRole('heading', { level: 1, name: 'Accounts' })).toBeVisible();
+    const accounts = table(page, 'Accounts');
+    await expect(bodyRows(accounts).first()).toBeVisible();
+    await expect(accounts.getByRole('row').filter({ hasText: 'admin@evenhand.test' })).toContainText('District admin');
+  },
+  async studies({ page }) {
+    await expect(page.getByRole('heading', { level: 1, name: 'Studies' })).toBeVisible();
+    const row = table(page, 'Studies').getByRole('row').filter({ hasText: DEMO_STUDY });
+    const [{ sites, classrooms }] = await queryDatabase<{ sites: number; classrooms: number }>(
+      `SELECT (SELECT count(*)::int FROM study_sites x WHERE x.study_id = s.id) AS sites, (SELECT count(*)::int FROM classrooms c WHERE c.study_id = s.id) AS classrooms
+         FROM studies s WHERE s.title = $1`,
+      [DEMO_STUDY],
+    );
+    await expect(row.getByRole('cell').nth(4)).toHaveText(String(sites));
+    await expect(row.getByRole('cell').nth(5)).toHaveText(String(classrooms));
+  },
+  async audit({ page }) {
+    await expect(page.getByRole('heading', { level: 1, name: 'Audit' })).toBeVisible();
+    await expect(bodyRows(table(page, 'Audit trail')).first()).toBeVisible();
+  },
+  async myClasses({ page }) {
+    await expect(page.getByRole('heading', { level: 1, name: 'My classes' })).toBeVisible();
+    const study = main(page).getByRole('region', { name: DEMO_STUDY, exact: true });
+    const room = study.getByRole('region', { name: 'Room 3A · Alder Street Elementary' });
+    await expect(bodyRows(room.getByRole('table'))).toHaveCount(4);
+    // Only this teacher's classrooms: both of them at Alder Street, none elsewhere.
+    await expect(study.getByRole('heading', { level: 3 })).toHaveText(['Room 3A · Alder Street Elementary', 'Room 3B · Alder Street Elementary']);
+    await room.getByRole('link', { name: /^View the Autumn 2025 Oral reading fluency/ }).click();
+    await expect(page.getByRole('heading', { level: 1, name: 'Room 3A · Autumn 2025' })).toBeVisible();
+    await expect(main(page)).toContainText('Alder Street Elementary');
+    await expectStudentCodesOnly(page);
+    await expectAccessibleOnce(page);
+    await page.getByRole('link', { name: 'My classes' }).first().click();
+    await expect(page.getByRole('heading', { level: 1, name: 'My classes' })).toBeVisible();
+  },
+  async mySchool({ page, runs }) {
+    await expect(page.getByRole('heading', { level: 1, name: 'My school' })).toBeVisible();
+    const school = main(page).getByRole('region', { name: 'Alder Street Elementary', exact: true });
+    await expect(school).toContainText(DEMO_STUDY);
+    for (const other of ['Brookfield Middle School', 'Cedar Hollow Elementary', 'Fernbank Elementary']) await expect(main(page)).not.toContainText(other);
+    // The locked primary result in plain words, with the recomputed effect size and p.
+    const primary = runs.find((r) => r.is_primary)!;
+    const { g, primary: welch, a, b } = recompute(primary);
+    const result = school.getByRole('article', { name: primary.label, exact: true });
+    await expect(result).toContainText(`Hedges’ g = ${formatNumber(g.g, 2)} (95% interval ${formatNumber(g.ci[0], 2)} to ${formatNumber(g.ci[1], 2)})`);
+    await expect(result).toContainText(formatPStatement(welch.p));
+    expect(a.length + b.length).toBeGreaterThan(0);
+    // The school's own arms, recomputed from its rows; any group under 10 students must not show its count.
+    const own = primary.rows.filter((r) => r.site_name === 'Alder Street Elementary');
+    const ownTable = result.getByRole('table', { name: 'Alder Street Elementary on its own' });
+    for (const [arm, label] of [['intervention', 'Intervention classrooms'], ['comparison', 'Comparison classrooms']] as const) {
+      const values = own.filter((r) => r.arm === arm).map((r) => r.score);
+      const row = ownTable.getByRole('row').filter({ has: page.getByRole('rowheader', { name: label }) });
+      if (values.length >= 10) await expect(row.getByRole('cell')).toHaveText([formatCount(values.length), formatNumber(mean(values), 1)]);
+      else await expect(row).toContainText('fewer than 10 students');
+    }
+    const counts = await studentCountsShown(page);
+    expect(counts.length).toBeGreaterThan(0);
+    for (const value of counts) {
+      if (value === '' || value === 'fewer than 10 students') continue;
+      expect(Number(value.replace(/,/g, ''))).toBeGreaterThanOrEqual(10);
+    }
+  },
+};
+
+const tabChecks: Record<StudyTab, (v: Visit) => Promise<void>> = {
+  async overview({ page }) {
+    const numbers = main(page).getByRole('region', { name: 'In numbers' });
+    await expect(numbers.getByRole('definition')).toHaveText(['6', '24', '2', '2']);
+    await expect(main(page).getByRole('region', { name: 'Where it stands' })).toContainText('version 2 is in force');
+    await expect(main(page).getByRole('region', { name: 'Next steps for you' }).getByRole('listitem').first()).toBeVisible();
+  },
+  async plan({ page }) {
+    const plan = main(page).getByRole('region', { name: 'The plan in force: version 2' });
+    await expect(plan).toContainText('Oral reading fluency (words correct per minute)');
+    await expect(plan).toContainText('Welch’s t test');
+    await expect(main(page).getByRole('region', { name: 'Version history' })).toContainText('Version 2 · amendment');
+    // The power chart's text equivalent: its name says what it shows and a table lists its points.
+    await expect(plan.getByRole('img', { name: /minimum detectable effect size falls/ })).toBeVisible();
+    await expect(bodyRows(plan.getByRole('table', { name: 'MDES by classrooms per arm' })).first()).toBeVisible();
+  },
+  async sites({ page }) {
+    await expect(bodyRows(table(page, 'Enrolled sites'))).toHaveCount(6);
+    await expect(table(page, 'Enrolled sites')).toContainText('Dr. Helena Voss');
+    await expect(bodyRows(table(page, 'Classrooms'))).toHaveCount(24);
+    await expect(main(page).getByRole('region', { name: 'Cohorts' })).toContainText('Grade 3, 2025–26');
+  },
+  async draw({ page }) {
+    const draw = main(page).getByRole('region', { name: 'The committed draw' });
+    await expect(draw).toContainText('larkspur-valley-2025');
+    await expect(bodyRows(draw.getByRole('table', { name: 'Assignments' }))).toHaveCount(24);
+    await expect(bodyRows(draw.getByRole('table', { name: /^Balance/ })).first()).toBeVisible();
+  },
+  async scoreSheets({ page }) {
+    await expect(main(page)).toContainText('24 classrooms, 96 sheets');
+    const matrix = table(page, /^Completion of score sheets/);
+    await expect(matrix.getByRole('rowheader', { name: 'Alder Street Elementary · 4 classrooms' })).toBeVisible();
+    await matrix.getByRole('link', { name: 'Room 3A, Autumn 2025, Oral reading fluency (words correct per minute): Accepted 22 rows' }).first().click();
+    await expect(page.getByRole('heading', { level: 2, name: 'Room 3A · Autumn 2025' })).toBeVisible();
+    await expectStudentCodesOnly(page);
+    await expectAccessibleOnce(page);
+    await page.getByRole('link', { name: 'All score sheets' }).click();
+    await expect(matrix).toBeVisible();
+  },
+  async checks({ page }) {
+    const fluency = main(page).getByRole('region', { name: 'Oral reading fluency (words correct per minute)', exact: true });
+    await expect(bodyRows(fluency.getByRole('table', { name: /^Score sheets and scores by wave/ })).first()).toBeVisible();
+    await expect(fluency.getByRole('table', { name: 'Students: attrition against the published boundaries' })).toContainText(/Cautious boundary/);
+    // Box plots carry their medians in words, and a table of every box's quantiles.
+    await expect(fluency.getByRole('img', { name: /^Box plots of Oral reading fluency .* by arm and wave\. Autumn 2025: intervention median \d/ })).toBeVisible();
+    await expect(fluency.getByRole('img', { name: /the table below lists every box’s quantiles/ })).toBeVisible();
+  },
+  async comparisons({ page, runs }) {
+    const prespecified = main(page).getByRole('region', { name: 'Pre-specified in the sealed plan' });
+    await expect(prespecified.getByRole('article')).toHaveCount(runs.length);
+    // Each card links its locked run: as its latest run, or beside a later re-analysis or monitoring check.
+    const lockedLink = (run: LockedRun) => prespecified.getByRole('article', { name: run.label, exact: true }).locator(`a[href$="/comparisons/runs/${run.id}"]`);
+    for (const run of runs) await expect(lockedLink(run)).toHaveText(/^Read the (locked result|results)$/);
+    await expectAccessibleOnce(page);
+
+    // The locked primary result: every number recomputed from the rows the run froze.
+    const primary = runs.find((r) => r.is_primary)!;
+    const x = recompute(primary);
+    await lockedLink(primary).click();
+    await expect(page).toHaveURL(new RegExp(`/comparisons/runs/${primary.id}$`));
+    await expect(page.getByTestId('primary-test')).toHaveText(
+      `t = ${formatNumber(x.primary.t, 2)}, df = ${formatNumber(x.primary.df, 1)}, ${formatPStatement(x.primary.p)}; difference ` +
+        `${formatSigned(x.primary.meanDifference, 2)} (${Math.round((1 - primary.alpha) * 100)}% CI ${formatInterval(x.primary.ci, 2)})`,
+    );
+    await expect(page.getByTestId('headline')).toContainText(`${formatNumber(Math.abs(x.primary.meanDifference), 2)} higher`);
+    await expect(page.getByTestId('effect-size')).toHaveText(effectSizeText(x.g));
+    await expect(page.getByTestId('clustering')).toContainText(
+      `t = ${formatNumber(x.clustering.tAdjusted, 2)}, df h = ${formatNumber(x.clustering.df, 1)}, ${formatPStatement(x.clustering.p)}`,
+    );
+    const arms = table(page, `${primary.label}, by arm`);
+    for (const [arm, values] of [['Intervention', x.a], ['Comparison', x.b]] as const) {
+      const cells = [formatCount(values.length), String(x.classrooms(arm === 'Intervention' ? 'intervention' : 'comparison')), formatNumber(mean(values), 2), formatNumber(sd(values), 2), formatNumber(sd(values) / Math.sqrt(values.length), 2)];
+      await expect(arms.getByRole('row').filter({ has: page.getByRole('rowheader', { name: arm, exact: true }) }).getByRole('cell')).toHaveText([...cells, /./, /./, /./, /./, /./]);
+    }
+    await expect(table(page, 'Sensitivity checks').getByRole('row').filter({ hasText: 'Student’s pooled t test' })).toContainText(
+      `t = ${formatNumber(x.student.t, 2)}, df = ${formatNumber(x.student.df, 1)}`,
+    );
+    await expect(page.getByText('SHA-256 of the data')).toBeVisible();
+    await expect(page.getByRole('button', { name: 'Lock this result' })).toHaveCount(0);
+    await expectAccessibleOnce(page);
+
+    // The printable report, on paper: no navigation, the flow diagram and the charts kept.
+    await page.getByRole('link', { name: 'All comparisons' }).click();
+    await page.getByRole('link', { name: 'Open the study report' }).click();
+    await expect(page.getByRole('heading', { name: 'Study report' })).toBeVisible();
+    const results = table(page, 'Results of every comparison');
+    await expect(results.getByRole('row').filter({ hasText: primary.label })).toContainText(`${formatNumber(x.g.g, 2)}`);
+    await expect(main(page).getByRole('region', { name: 'Intervention arm', exact: true })).toContainText(formatCount(x.a.length));
+    await expectAccessibleOnce(page);
+    await page.emulateMedia({ media: 'print' });
+    await expect(page.getByRole('navigation', { name: 'Main' })).toBeHidden();
+    await expect(page.getByRole('navigation', { name: 'Study' })).toBeHidden();
+    await expect(page.getByRole('button', { name: 'Print the report' })).toBeHidden();
+    await expect(page.getByRole('heading', { name: 'Participant flow' })).toBeVisible();
+    await expect(page.getByRole('img', { name: /^Effect sizes of \d+ comparisons/ })).toBeVisible();
+    const shot = test.info().outputPath('study-report-print.png');
+    await page.screenshot({ path: shot, fullPage: true });
+    await test.info().attach('study report, print media', { path: shot, contentType: 'image/png' });
+    await page.emulateMedia({ media: 'screen' });
+  },
+  async digests({ page }) {
+    const outbox = table(page, 'Digests of this study');
+    await expect(outbox.getByRole('row').filter({ hasText: 'principal1@evenhand.test' }).first()).toContainText('Sent');
+    await expect(main(page).getByRole('region', { name: 'Weekly schedule' })).toBeVisible();
+  },
+  async audit({ page }) {
+    const trail = main(page).getByRole('region', { name: 'Audit trail of this study' });
+    await expect(bodyRows(trail.getByRole('table')).first()).toBeVisible();
+  },
+};
+
+// ---------------------------------------------------------------------------------------------------------------
+
+const scannedViews = new Set<string>();
+
+/**
+ * The axe check, once per distinct view: a screen that several roles see with the same controls in its content is
+ * the same page, so it is scanned for the first of them; a role that sees other buttons, links or fields there gets
+ * its own scan. Each role's home and study overview are always scanned, which covers its own navigation.
+ */
+async function expectAccessibleOnce(page: Page) {
+  const view = await page.evaluate(() => {
+    const path = location.pathname.replace(/[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}/g, ':id');
+    const inContent = [...document.querySelectorAll('main :is(button, a[href], input, select, textarea)')].filter((el) => !el.closest('nav'));
+    const controls = inContent.map(
+      (el) => `${el.tagName}:${el.getAttribute('aria-label') ?? el.textContent?.trim() ?? ''}`,
+    );
+    return `${path}|${controls.join('|')}`;
+  });
+  if (scannedViews.has(view)) return;
+  await expectAccessible(page);
+  scannedViews.add(view);
+}
+
+/** Presses Tab until the target has the focus, as someone without a mouse would. */
+async function tabTo(page: Page, target: Locator, presses = 25) {
+  for (let i = 0; i < presses; i++) {
+    if (await target.evaluate((el) => el === document.activeElement)) return;
+    await page.keyboard.press('Tab');
+  }
+  await expect(target).toBeFocused();
+}
+
+async function signInWithKeyboard(page: Page, email: string) {
+  await page.goto('/sign-in');
+  await tabTo(page, page.getByLabel('E-mail address'));
+  await page.keyboard.type(email);
+  await page.keyboard.press('Tab');
+  await expect(page.getByLabel('Password', { exact: true })).toBeFocused();
+  await page.keyboard.type(DEMO_PASSWORD);
+  await page.keyboard.press('Enter');
+  await expect(page).not.toHaveURL(/\/sign-in/);
+}
+
+let runs: LockedRun[] = [];
+test.beforeAll(async () => {
+  runs = await lockedRuns();
+  expect(runs.length).toBeGreaterThan(0);
+  expect(runs.filter((r) => r.is_primary)).toHaveLength(1);
+});
+
+for (const { role, email, label } of tour) {
+  test(`the tour: ${label} signs in with the keyboard and opens every screen of their role`, async ({ page }) => {
+    test.setTimeout(120_000);
+    const grants = grantsOf(role);
+    const mine: Area[] = navigationFor(grants);
+    const home = mine.find((a) => a.path === homePathFor(grants))!;
+    const visit: Visit = { page, role, runs };
+
+    await test.step('sign in with the keyboard only', async () => {
+      await signInWithKeyboard(page, email);
+      await expect(page.getByRole('heading', { level: 1, name: home.label, exact: true })).toBeVisible();
+      await expect(page.getByRole('navigation', { name: 'Main' }).getByRole('link')).toHaveText(mine.map((a) => a.label));
+    });
+
+    // Home first, then the rest in the navigation's order.
+    for (const area of [home, ...mine.filter((a) => a !== home)]) {
+      const key = (Object.keys(areas) as (keyof typeof areas)[]).find((k) => areas[k] === area)!;
+      await test.step(`${area.label}${area === home ? ' (home)' : ''}`, async () => {
+        if (area !== home) await page.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: area.label, exact: true }).click();
+        await expect(page).toHaveURL(new RegExp(`${area.path}$`));
+        await areaChecks[key]!(visit);
+        await (area === home ? expectAccessible(page) : expectAccessibleOnce(page));
+      });
+    }
+
+    const tabs = studyTabsFor(grants);
+    if (tabs.length === 0) return;
+    await test.step('open the demo study', async () => {
+      await openDemoStudy(page);
+      await expect(page.getByRole('navigation', { name: 'Study' }).getByRole('link')).toHaveText(tabs.map((t) => t.label));
+    });
+    for (const key of Object.keys(studyTabs) as StudyTab[]) {
+      if (!tabs.includes(studyTabs[key])) continue;
+      await test.step(`study tab ${studyTabs[key].label}`, async () => {
+        await openTab(page, key);
+        await tabChecks[key](visit);
+        if (key === 'overview') await expectAccessible(page);
+        else if (key !== 'comparisons') await expectAccessibleOnce(page);
+      });
+    }
+  });
+}
