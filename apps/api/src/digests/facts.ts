@@ -1,5 +1,5 @@
 import type { EntityManager } from 'typeorm';
-import { SUPPRESSED_WORDS, type Arm, type RunResults, type SiteFacts, type SiteResult } from '@evenhand/entities';
+import { SUPPRESSED_WORDS, decidingTest, type Arm, type RunResults, type SiteFacts, type SiteResult } from '@evenhand/entities';
 import { AppError } from '../errors.js';
 import { countWords, formatAlpha, formatNumber, formatPStatement, formatSigned, suppressCounts } from './wording.js';
 
@@ -38,14 +38,10 @@ export function resultSentences(r: RunResults, favours: SiteResult['district']['
   }`;
   const p = r.primary;
   const test = `${testNames[p.test]}, ${sidedness[p.alternative] ?? p.alternative}, at alpha ${formatAlpha(r.alpha)}`;
-  const verdict = `${met ? 'It meets' : 'It does not meet'} the test registered in the plan before the data were in (${test}): ${formatPStatement(p.p)}. A p-value is not the size of the effect: read it with g and its interval.`;
-  const sentences = [finding, size, verdict];
-  if (clusteringP !== null) {
-    sentences.push(
-      `Allowing for students being grouped in classrooms, ${formatPStatement(clusteringP)}: the difference is ${clusteringP < r.alpha ? 'still' : 'not'} statistically significant at alpha ${formatAlpha(r.alpha)}.`,
-    );
-  }
-  return sentences;
+  // When classrooms or schools were assigned, the clustering-corrected p decides (see decidingTest).
+  const decided = clusteringP === null ? formatPStatement(p.p) : `allowing for students being grouped in classrooms, ${formatPStatement(clusteringP)}`;
+  const verdict = `${met ? 'It meets' : 'It does not meet'} the test registered in the plan before the data were in (${test}): ${decided}. A p-value is not the size of the effect: read it with g and its interval.`;
+  return [finding, size, verdict];
 }
 
 function siteResult(run: LockedRunRow, siteId: string): SiteResult {
@@ -53,7 +49,7 @@ function siteResult(run: LockedRunRow, siteId: string): SiteResult {
   const g = r.effectSize.g;
   const same = formatNumber(g, 2) === formatNumber(0, 2);
   const favours: SiteResult['district']['favours'] = same ? 'neither' : (g > 0) === r.measure.higherIsBetter ? 'intervention' : 'comparison';
-  const met = r.primary.significant;
+  const met = decidingTest(r).significant;
   const clusteringP = r.clustering?.p ?? null;
   const districtStudents = suppressCounts(r.descriptives.map((d) => d.students)).total;
   const own = r.sites.find((s) => s.siteId === siteId);

@@ -1,4 +1,4 @@
-import type { RunResults } from '@evenhand/entities';
+import { decidingTest, type RunResults } from '@evenhand/entities';
 import { formatAlpha, formatNumber, formatPStatement } from '@/lib/format';
 
 export const testNames: Record<RunResults['primary']['test'], string> = {
@@ -30,6 +30,8 @@ export interface Headline {
   /** Whether the pre-registered test was met, at the plan's alpha and sidedness. */
   verdict: string;
   met: boolean;
+  /** Which p-value decided `met`: the clustering-corrected one when classrooms or schools were assigned. */
+  decidedBy: string;
   /** The clustering-corrected reading, when classrooms or schools were assigned. */
   clustering: string | null;
 }
@@ -66,8 +68,12 @@ export function resultHeadline(r: RunResults, unit: 'student' | 'classroom' | 's
 
   const test = `${testNames[p.test]}, ${sidedness[p.alternative] ?? p.alternative}, at alpha ${formatAlpha(r.alpha)}`;
   const pText = formatPStatement(p.p);
+  const decision = decidingTest(r);
   let verdict: string;
-  if (p.significant) {
+  if (decision.basis === 'clustering') {
+    const corrected = `allowing for students being grouped in classrooms: clustering-corrected ${formatPStatement(decision.p)}, against ${pText} had each student been assigned on their own`;
+    verdict = `${decision.significant ? 'This meets' : 'This does not meet'} the pre-registered test (${test}) ${corrected}.`;
+  } else if (p.significant) {
     verdict = `This meets the pre-registered test (${test}): ${pText}.`;
   } else {
     const why =
@@ -88,5 +94,9 @@ export function resultHeadline(r: RunResults, unit: 'student' | 'classroom' | 's
       : `${grouping}, the difference is not statistically significant: ${formatPStatement(c.p)}.`;
   }
 
-  return { finding, favours, verdict, met: p.significant, clustering };
+  const decidedBy =
+    decision.basis === 'clustering'
+      ? `Decided by the clustering-corrected p-value (${formatPStatement(decision.p)}): whole classrooms or schools were assigned to the arms but students compared, so the student-level ${pText} overstates the evidence.`
+      : `Decided by the p-value of ${testNames[p.test]} as registered (${pText}).`;
+  return { finding, favours, verdict, met: decision.significant, decidedBy, clustering };
 }

@@ -331,6 +331,7 @@ const run: Omit<Run, 'results'> = {
   queuedAt: '2026-12-02T01:44:10.986Z',
   finishedAt: '2026-12-02T01:44:11.431Z',
   lockedAt: null,
+  scheduledFor: null,
   multiplicity: {
     adjustedP: 0.003942889337640965,
     rejected: true,

@@ -9,10 +9,9 @@ export const reportKeys = {
   detail: (studyId: string) => [...reportKeys.details(), studyId] as const,
 };
 
-/** The run a report shows for a comparison: its locked run, else its latest run if that finished. */
+/** The run a report shows for a comparison: its locked run, else its latest finished one (a newer run may have failed or still wait). */
 export function reportedRunId(c: Comparison): string | null {
-  if (c.lockedRunId) return c.lockedRunId;
-  return c.latestRun && c.latestRun.state === 'finished' ? c.latestRun.id : null;
+  return c.lockedRunId ?? c.latestFinishedRunId;
 }
 
 export interface ReportedComparison {

@@ -5,6 +5,7 @@ import { MemoryRouter } from 'react-router-dom';
 import { beforeAll, describe, expect, it, vi } from 'vitest';
 import { createQueryClient } from '@/app/query-client';
 import { ComparisonCard } from '@/features/comparisons/components/comparison-card';
+import { formatDateTime } from '@/lib/format';
 
 const comparison: Comparison = {
   id: '529d2883-2949-401e-bb2b-85800c4103a5',
@@ -20,8 +21,30 @@ const comparison: Comparison = {
   prespecified: true,
   isPrimary: true,
   scheduleCron: null,
+  scheduleTimezone: 'UTC',
+  nextMonitoringRunAt: null,
   latestRun: null,
+  latestFinishedRunId: null,
   lockedRunId: null,
+};
+
+const finishedRunId = '7c0e54a1-5d56-4c84-a3c4-2f3f3c4f1b10';
+const failedRun: NonNullable<Comparison['latestRun']> = {
+  id: 'e2c9b0f4-3a53-4cfa-9b8a-8f1de3a2c6d7',
+  comparisonId: comparison.id,
+  studyId: comparison.studyId,
+  kind: 'monitoring',
+  state: 'failed',
+  reason: null,
+  planVersion: 1,
+  engineVersion: null,
+  dataSha256: null,
+  error: 'The comparison arm has fewer than 2 students',
+  queuedAt: '2026-05-04T02:00:00.000Z',
+  finishedAt: '2026-05-04T02:00:05.000Z',
+  lockedAt: null,
+  scheduledFor: '2026-05-04T02:00:00.000Z',
+  multiplicity: null,
 };
 
 function renderCard(overrides: Partial<Comparison>, onQueue = vi.fn(async () => undefined)) {
@@ -57,6 +80,24 @@ describe('ComparisonCard', () => {
     expect(screen.queryByRole('button', { name: 'Run confirmatory' })).not.toBeInTheDocument();
     expect(screen.getByRole('button', { name: 'Run a monitoring check' })).toBeInTheDocument();
     expect(screen.getByText('Exploratory')).toBeInTheDocument();
+  });
+
+  it('shows the monitoring schedule with its next run, or says none is left once the wave is over', () => {
+    const next = '2026-05-05T02:00:00.000Z';
+    renderCard({ scheduleCron: '0 2 * * *', scheduleTimezone: 'America/Chicago', nextMonitoringRunAt: next });
+    const line = screen.getByTestId('schedule');
+    expect(line).toHaveTextContent('0 2 * * * (America/Chicago)');
+    expect(line).toHaveTextContent(`next ${formatDateTime(next)}`);
+  });
+
+  it('says no scheduled run is left when the schedule has no next run', () => {
+    renderCard({ scheduleCron: '0 2 * * *', nextMonitoringRunAt: null });
+    expect(screen.getByTestId('schedule')).toHaveTextContent('none left in this wave');
+  });
+
+  it('when the newest run failed, then it links the latest finished results', () => {
+    renderCard({ latestRun: failedRun, latestFinishedRunId: finishedRunId });
+    expect(screen.getByRole('link', { name: 'Read the latest finished results' })).toHaveAttribute('href', expect.stringContaining(finishedRunId));
   });
 
   it('asks for the reason before re-analysing a comparison whose result is locked', async () => {

@@ -7,6 +7,7 @@ import { inProgress } from '@/features/comparisons/api';
 import { ComparisonBadges, covariateLabels, unitOfAnalysisLabels } from '@/features/comparisons/components/comparison-badges';
 import { ReanalysisForm } from '@/features/comparisons/components/reanalysis-form';
 import { LatestRunLine } from '@/features/comparisons/components/run-state';
+import { formatDateTime } from '@/lib/format';
 import { runPath } from '@/lib/results';
 import { testNames } from '@/lib/result-wording';
 
@@ -43,13 +44,14 @@ export function ComparisonCard({ studyId, comparison: c, canRun, onQueue, queueE
             {c.label !== `${c.measureName} at ${c.waveName}` && `${c.measureName} at ${c.waveName} · `}
             Compares {unitOfAnalysisLabels[c.unitOfAnalysis]} · {testNames[c.primaryTest]} ·{' '}
             {covariateLabels[c.covariate]}
-            {c.scheduleCron && (
-              <>
-                {' '}
-                · automatic monitoring checks <code className="font-mono">{c.scheduleCron}</code>
-              </>
-            )}
           </p>
+          {c.scheduleCron && (
+            <p className="text-sm" data-testid="schedule">
+              Automatic monitoring checks <code className="font-mono">{c.scheduleCron}</code> ({c.scheduleTimezone}) while the wave is open
+              {' · '}
+              {c.nextMonitoringRunAt ? `next ${formatDateTime(c.nextMonitoringRunAt)}` : c.lockedRunId ? 'none now the result is locked' : 'none left in this wave'}
+            </p>
+          )}
         </div>
         {canRun && (
           <div className="flex flex-wrap gap-2">
@@ -70,6 +72,12 @@ export function ComparisonCard({ studyId, comparison: c, canRun, onQueue, queueE
           <LatestRunLine studyId={studyId} run={c.latestRun} />
         ) : (
           <p className="text-ink-muted">Not run yet.</p>
+        )}
+        {!c.lockedRunId && c.latestFinishedRunId && c.latestFinishedRunId !== c.latestRun?.id && (
+          <p>
+            <Link to={runPath(studyId, c.latestFinishedRunId)}>Read the latest finished results</Link>
+            <span className="text-sm text-ink-muted"> — the newest run has not finished.</span>
+          </p>
         )}
         {c.lockedRunId && c.lockedRunId !== c.latestRun?.id && (
           <p>

@@ -27,6 +27,9 @@ export function PrimaryResult({ results, unit }: { results: RunResults; unit: Co
         </h3>
         <Badge tone={h.met ? 'accent' : 'muted'}>{h.met ? 'Meets the pre-registered test' : 'Does not meet the pre-registered test'}</Badge>
       </div>
+      <p className="mt-1 text-sm text-ink-muted" data-testid="decided-by">
+        {h.decidedBy}
+      </p>
       <p className="mt-3 max-w-prose text-xl leading-snug" data-testid="headline">
         {h.finding}
       </p>

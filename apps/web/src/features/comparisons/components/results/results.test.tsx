@@ -6,15 +6,26 @@ import { demoResults, demoRun } from '@/test-fixtures/run-results';
 
 describe('PrimaryResult', () => {
   it('leads with the plain-language headline of a significant result, with the test line and effect size beside it', () => {
-    render(<PrimaryResult results={demoResults()} unit="student" />);
+    const r = demoResults();
+    r.clustering = null;
+    render(<PrimaryResult results={r} unit="student" />);
     expect(screen.getByTestId('headline')).toHaveTextContent('scored 9.99 higher than students in the comparison arm');
     expect(screen.getByText('Meets the pre-registered test')).toBeInTheDocument();
     expect(screen.getByTestId('primary-test')).toHaveTextContent('t = 3.11, df = 467.4, p = .002; difference +9.99 (95% CI [3.68, 16.29])');
     expect(screen.getByTestId('effect-size')).toHaveTextContent('Hedges’ g = 0.29 (95% CI [0.10, 0.47]); improvement index +11.2 percentile points');
   });
 
+  it('when classrooms were assigned, the badge follows the clustering-corrected p and the page says which p decided', () => {
+    // Student-level p = .002, clustering-corrected p = .138 in the fixture.
+    render(<PrimaryResult results={demoResults()} unit="student" />);
+    expect(screen.getByText('Does not meet the pre-registered test')).toBeInTheDocument();
+    expect(screen.queryByText('Meets the pre-registered test')).not.toBeInTheDocument();
+    expect(screen.getByTestId('decided-by')).toHaveTextContent('Decided by the clustering-corrected p-value (p = .138)');
+  });
+
   it('says plainly when a result does not meet the pre-registered test', () => {
     const r = demoResults();
+    r.clustering = null;
     r.primary = { ...r.primary, meanDifference: 1.2, ci: [-5.1, 7.5], p: 0.71, significant: false };
     render(<PrimaryResult results={r} unit="student" />);
     expect(screen.getByText('Does not meet the pre-registered test')).toBeInTheDocument();
