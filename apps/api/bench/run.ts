@@ -27,6 +27,7 @@ export async function benchRun() {
     const runTimes: number[] = [];
     const scanTimes: number[] = [];
     let peak = 0;
+    let notes: string[] = [];
     const base = process.memoryUsage().rss;
     for (let i = 0; i < 3; i++) {
       scanTimes.push(
@@ -42,10 +43,11 @@ export async function benchRun() {
       const watch = setInterval(() => (peak = Math.max(peak, process.memoryUsage().rss - base)), 10);
       runTimes.push(await time(() => executeRun(db, logger, run.id)));
       clearInterval(watch);
-      const [done] = await db.query(`SELECT state, error FROM runs WHERE id = $1`, [run.id]);
+      const [done] = await db.query(`SELECT state, error, results->'diagnostics'->'notes' AS notes FROM runs WHERE id = $1`, [run.id]);
       if (done.state !== 'finished') throw new Error(`bench run ${done.state}: ${done.error}`);
+      notes = done.notes;
     }
-    return { rows: classrooms * perClass, run: median(runTimes), scan: median(scanTimes), peak };
+    return { rows: classrooms * perClass, run: median(runTimes), scan: median(scanTimes), peak, notes };
   }
 
   const small = await runBench(800, 250);
@@ -56,6 +58,8 @@ export async function benchRun() {
     console.log(`  full run:                   ${r.run.toFixed(0)} ms`);
     console.log(`  ratio:                      ${(r.run / r.scan).toFixed(2)}×   (goal ≤ 4×)`);
     console.log(`  peak extra RSS during run:  ${(r.peak / 2 ** 20).toFixed(0)} MB`);
+    // What the run did not compute at this size, in its own words.
+    for (const note of r.notes) console.log(`  note: ${note}`);
   }
   console.log(`\nmemory growth when the rows grow 10×: ${(large.peak / Math.max(small.peak, 1)).toFixed(2)}× the smaller run's peak extra RSS`);
 
