@@ -11,6 +11,7 @@ const expectedAccess: Record<string, 'anyone' | 'signed-in' | Role[]> = {
   'GET /api/health': 'anyone',
   'GET /api/openapi.json': 'anyone',
   'POST /api/auth/login': 'anyone',
+  'GET /api/auth/sign-in-options': 'anyone',
   'POST /api/auth/logout': 'signed-in',
   'GET /api/auth/me': 'signed-in',
   'POST /api/auth/password-reset': 'anyone',

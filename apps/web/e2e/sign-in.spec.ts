@@ -59,3 +59,19 @@ test('an unknown page shows the not-found page', async ({ page }) => {
   await page.goto('/no-such-page');
   await expect(page.getByRole('heading', { level: 1 })).toContainText(/not found/i);
 });
+
+test('outside production the sign-in page lists the demo accounts, and one is picked and signed in with the keyboard alone', async ({ page }) => {
+  await page.goto('/sign-in');
+  const panel = page.getByRole('complementary', { name: 'Demo accounts' });
+  await expect(panel).toContainText(PASSWORD);
+  for (const { email } of homes) await expect(panel.getByRole('button', { name: email })).toBeVisible();
+  const principal = panel.getByRole('button', { name: /Principal · Alder Street Elementary/ });
+  for (let i = 0; i < 30 && !(await principal.evaluate((el) => el === document.activeElement)); i++) await page.keyboard.press('Tab');
+  await expect(principal).toBeFocused();
+  await page.keyboard.press('Enter');
+  await expect(page.getByLabel('E-mail address')).toHaveValue('principal1@evenhand.test');
+  // Picking moves the focus to Sign in, so the next key signs in.
+  await expect(page.getByRole('button', { name: 'Sign in' })).toBeFocused();
+  await page.keyboard.press('Enter');
+  await expect(page.getByRole('heading', { level: 1, name: 'My school' })).toBeVisible();
+});

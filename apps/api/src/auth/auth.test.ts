@@ -1,10 +1,13 @@
 import jwt from 'jsonwebtoken';
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { cookieValue, signIn, startTestApp, type TestApp } from '../../test/app.js';
+import { createApp } from '../app.js';
+import { createLogger } from '../logger.js';
+import { createMailer } from '../mail/mailer.js';
+import { cookieValue, signIn, startTestApp, testConfig, type TestApp } from '../../test/app.js';
 import { linkToken, mailTo, waitForMail } from '../../test/mail.js';
 import { issueToken } from './service.js';
-import { DEMO_PASSWORD } from '../seed/demo.js';
+import { DEMO_PASSWORD, featuredDemoAccounts } from '../seed/demo.js';
 
 let t: TestApp;
 beforeAll(async () => {
@@ -170,5 +173,41 @@ describe('password reset', () => {
     await t.db.query(`UPDATE auth_tokens SET expires_at = now() - interval '1 minute' WHERE user_id = $1`, [user[0].id]);
     const res = await request(t.app).post('/api/auth/password-reset/confirm').send({ token, password: 'another-new-password' });
     expect(res.status).toBe(400);
+  });
+});
+
+describe('sign-in options', () => {
+  it('when the API does not run in production, then it lists the seeded demo accounts with their shared password', async () => {
+    const res = await request(t.app).get('/api/auth/sign-in-options');
+    expect(res.status).toBe(200);
+    expect(res.body.demo.password).toBe(DEMO_PASSWORD);
+    expect(res.body.demo.accounts.map((a: { email: string }) => a.email)).toEqual(featuredDemoAccounts.map((a) => a.email));
+    expect(res.body.demo.accounts[0]).toEqual({ email: 'admin@evenhand.test', name: 'Avery Okafor', role: 'admin', siteName: null });
+    expect(res.body.demo.accounts.find((a: { email: string }) => a.email === 'principal1@evenhand.test')).toMatchObject({ role: 'principal', siteName: 'Alder Street Elementary' });
+  });
+
+  it('when a demo account is deactivated, then it is not offered', async () => {
+    await t.db.query(`UPDATE users SET active = false WHERE email = 'teacher4@evenhand.test'`);
+    try {
+      const res = await request(t.app).get('/api/auth/sign-in-options');
+      expect(res.body.demo.accounts.map((a: { email: string }) => a.email)).not.toContain('teacher4@evenhand.test');
+      expect(res.body.demo.accounts).toHaveLength(featuredDemoAccounts.length - 1);
+    } finally {
+      await t.db.query(`UPDATE users SET active = true WHERE email = 'teacher4@evenhand.test'`);
+    }
+  });
+
+  it('when the API runs in production, then it lists no demo account, even with the demo accounts in its database', async () => {
+    const config = testConfig(t.databaseUrl, { NODE_ENV: 'production', JWT_SECRET: 'a-production-secret-of-at-least-32-characters' });
+    const mailer = createMailer(config);
+    try {
+      const production = createApp({ config, db: t.db, mailer, logger: createLogger(config), jobs: t.jobs });
+      const res = await request(production).get('/api/auth/sign-in-options');
+      expect(res.status).toBe(200);
+      expect(res.body).toEqual({ demo: null });
+      expect(JSON.stringify(res.body)).not.toContain(DEMO_PASSWORD);
+    } finally {
+      mailer.close();
+    }
   });
 });

@@ -6,11 +6,12 @@ import {
   messageResponseSchema,
   passwordResetConfirmSchema,
   passwordResetRequestSchema,
+  signInOptionsSchema,
 } from '@evenhand/entities';
 import type { Deps } from '../deps.js';
 import { ResourceRouter } from '../http/route.js';
 import { passwordResetLimiter, signInLimiters } from './rate-limit.js';
-import { confirmPasswordReset, requestPasswordReset, signIn } from './service.js';
+import { confirmPasswordReset, requestPasswordReset, signIn, signInOptions } from './service.js';
 import { clearSessionCookies, setSessionCookies, signSession } from './session.js';
 
 export function authRouter(deps: Deps, registry: OpenAPIRegistry) {
@@ -34,6 +35,18 @@ export function authRouter(deps: Deps, registry: OpenAPIRegistry) {
       setSessionCookies(res, deps.config, token);
       return { body: { user, token } };
     },
+  );
+
+  r.route(
+    {
+      method: 'get',
+      path: '/auth/sign-in-options',
+      summary: 'What the sign-in page offers: the demo accounts outside production',
+      access: 'anyone',
+      tag,
+      responses: { 200: { description: 'The options', schema: signInOptionsSchema } },
+    },
+    async () => ({ body: await signInOptions(deps) }),
   );
 
   r.route(

@@ -1,11 +1,12 @@
 import { createHash, randomBytes } from 'node:crypto';
 import { IsNull, MoreThan, type DataSource, type EntityManager } from 'typeorm';
-import type { SessionUser } from '@evenhand/entities';
+import type { Role, SessionUser, SignInOptions } from '@evenhand/entities';
 import { AuthTokenEntity, UserEntity, type AuthTokenKind } from '@evenhand/entities/orm';
 import type { Deps } from '../deps.js';
 import { AppError } from '../errors.js';
 import { recordAudit } from '../audit/service.js';
 import { invitationMail, passwordResetMail } from '../mail/templates.js';
+import { DEMO_PASSWORD, featuredDemoAccounts } from '../seed/demo.js';
 import { burnPasswordCheck, checkPassword, hashPassword } from './passwords.js';
 
 const TOKEN_HOURS: Record<AuthTokenKind, number> = { password_reset: 1, invitation: 72 };
@@ -94,4 +95,24 @@ export async function confirmPasswordReset(deps: Deps, token: string, password: 
       entityId: user.id,
     });
   });
+}
+
+/**
+ * The demo accounts for the sign-in page: never in production, and only those the demo seed created and that can
+ * still sign in, so an unseeded database offers nothing.
+ */
+export async function signInOptions({ config, db }: Pick<Deps, 'config' | 'db'>): Promise<SignInOptions> {
+  if (config.production) return { demo: null };
+  const emails = featuredDemoAccounts.map((a) => a.email);
+  const rows: { email: string; name: string; role: Role; site_name: string | null }[] = await db.query(
+    `SELECT DISTINCT ON (u.email) u.email, u.name, g.role, s.name AS site_name
+       FROM users u JOIN role_grants g ON g.user_id = u.id LEFT JOIN sites s ON s.id = g.site_id
+      WHERE u.email = ANY($1) AND u.active
+      ORDER BY u.email, g.role`,
+    [emails],
+  );
+  const accounts = rows
+    .sort((a, b) => emails.indexOf(a.email) - emails.indexOf(b.email))
+    .map((r) => ({ email: r.email, name: r.name, role: r.role, siteName: r.site_name }));
+  return { demo: accounts.length ? { password: DEMO_PASSWORD, accounts } : null };
 }

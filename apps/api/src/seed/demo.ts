@@ -25,7 +25,8 @@ const extraTeacherNames = [
 
 type DemoAccount = { email: string; name: string; grants: { role: Role; site?: string }[] };
 
-export const demoAccounts: DemoAccount[] = [
+/** One account per role and the staff of the first two schools: the ones the sign-in page offers. */
+export const featuredDemoAccounts: DemoAccount[] = [
   { email: 'admin@evenhand.test', name: 'Avery Okafor', grants: [{ role: 'admin' }] },
   { email: 'coordinator@evenhand.test', name: 'Corin Delacroix', grants: [{ role: 'coordinator' }] },
   { email: 'lead@evenhand.test', name: 'Leigh Marsh-Tanaka', grants: [{ role: 'research_lead' }] },
@@ -36,6 +37,10 @@ export const demoAccounts: DemoAccount[] = [
   { email: 'principal1@evenhand.test', name: 'Dr. Helena Voss', grants: [{ role: 'principal', site: 'ALD' }] },
   { email: 'principal2@evenhand.test', name: 'Samuel Achterberg', grants: [{ role: 'principal', site: 'BRK' }] },
   { email: 'reviewer@evenhand.test', name: 'Rowan Esterházy', grants: [{ role: 'reviewer' }] },
+];
+
+export const demoAccounts: DemoAccount[] = [
+  ...featuredDemoAccounts,
   // The other schools' staff, so every demo classroom has a teacher and every school a principal.
   { email: 'principal3@evenhand.test', name: 'Oksana Treadwell', grants: [{ role: 'principal', site: 'CDH' }] },
   { email: 'principal4@evenhand.test', name: 'Bartholomew Nwosu', grants: [{ role: 'principal', site: 'DNP' }] },

@@ -1,6 +1,6 @@
 import { z } from 'zod';
 import { idSchema } from './common.js';
-import { roleGrantSchema } from './roles.js';
+import { roleGrantSchema, roleSchema } from './roles.js';
 
 export const emailSchema = z.string().trim().toLowerCase().pipe(z.email({ message: 'Enter a valid e-mail address' }).max(254));
 
@@ -50,3 +50,17 @@ export const setPasswordFormSchema = z
   .refine((v) => v.password === v.repeat, { path: ['repeat'], message: 'The two passwords differ' });
 
 export const messageResponseSchema = z.object({ message: z.string() });
+
+/** What the sign-in page may offer before anyone signs in. */
+export const signInOptionsSchema = z
+  .object({
+    /** The seeded demo accounts and their shared password; null in production or when no demo account exists. */
+    demo: z
+      .object({
+        password: z.string(),
+        accounts: z.array(z.object({ email: z.string(), name: z.string(), role: roleSchema, siteName: z.string().nullable() })),
+      })
+      .nullable(),
+  })
+  .meta({ id: 'SignInOptions' });
+export type SignInOptions = z.infer<typeof signInOptionsSchema>;

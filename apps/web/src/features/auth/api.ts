@@ -2,6 +2,7 @@ import {
   loginResponseSchema,
   meResponseSchema,
   messageResponseSchema,
+  signInOptionsSchema,
   type LoginRequest,
   type PasswordResetConfirm,
   type SessionUser,
@@ -13,7 +14,17 @@ import { ApiError, apiRequest } from '@/lib/api-client';
 export const authKeys = {
   all: ['auth'] as const,
   session: () => [...authKeys.all, 'session'] as const,
+  signInOptions: () => [...authKeys.all, 'sign-in-options'] as const,
 };
+
+/** What the API lets the sign-in page offer (the demo accounts outside production); it does not change while the API runs. */
+export function signInOptionsQueryOptions() {
+  return queryOptions({
+    queryKey: authKeys.signInOptions(),
+    queryFn: ({ signal }) => apiRequest('/auth/sign-in-options', { schema: signInOptionsSchema, signal }),
+    staleTime: Infinity,
+  });
+}
 
 /** The signed-in person, or null when nobody is signed in (the API answers 401). */
 async function fetchSessionUser(signal: AbortSignal): Promise<SessionUser | null> {

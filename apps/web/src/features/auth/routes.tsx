@@ -1,4 +1,6 @@
+import { useQuery } from '@tanstack/react-query';
 import { Link, useNavigate, useSearchParams } from 'react-router-dom';
+import { signInOptionsQueryOptions } from '@/features/auth/api';
 import { AuthCard } from '@/features/auth/components/auth-card';
 import { ForgotPasswordForm } from '@/features/auth/components/forgot-password-form';
 import { SetPasswordForm } from '@/features/auth/components/set-password-form';
@@ -8,8 +10,11 @@ import { homePathFor, safeReturnPath } from '@/lib/navigation';
 export function SignInPage() {
   const navigate = useNavigate();
   const [params] = useSearchParams();
+  // Only the API knows whether it runs in production: the same build serves both.
+  const options = useQuery(signInOptionsQueryOptions());
   return (
     <SignInForm
+      demo={options.data?.demo ?? null}
       onSignedIn={(user) => {
         navigate(safeReturnPath(params.get('next')) ?? homePathFor(user.roles) ?? '/', { replace: true });
       }}

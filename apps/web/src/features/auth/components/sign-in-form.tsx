@@ -1,4 +1,4 @@
-import { loginRequestSchema, type SessionUser } from '@evenhand/entities';
+import { loginRequestSchema, type SessionUser, type SignInOptions } from '@evenhand/entities';
 import { zodResolver } from '@hookform/resolvers/zod';
 import { useRef, useState } from 'react';
 import { useForm } from 'react-hook-form';
@@ -11,9 +11,7 @@ import { DemoAccounts } from '@/features/auth/components/demo-accounts';
 import { useSignIn } from '@/features/auth/api';
 import { applyApiError, type FormProblem } from '@/lib/form-errors';
 
-const showDemoAccounts = import.meta.env.VITE_DEMO !== 'false';
-
-export function SignInForm({ onSignedIn }: { onSignedIn: (user: SessionUser) => void }) {
+export function SignInForm({ onSignedIn, demo }: { onSignedIn: (user: SessionUser) => void; demo: SignInOptions['demo'] }) {
   const signIn = useSignIn();
   const [problem, setProblem] = useState<FormProblem | null>(null);
   const submitRef = useRef<HTMLButtonElement>(null);
@@ -55,8 +53,9 @@ export function SignInForm({ onSignedIn }: { onSignedIn: (user: SessionUser) => 
         </form>
       </AuthCard>
 
-      {showDemoAccounts && (
+      {demo && (
         <DemoAccounts
+          demo={demo}
           onPick={(email, password) => {
             setValue('email', email, { shouldValidate: true });
             setValue('password', password, { shouldValidate: true });
