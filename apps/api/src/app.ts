@@ -20,6 +20,7 @@ import { authRouter } from './auth/router.js';
 import type { Deps } from './deps.js';
 import { apiNotFound, errorHandler } from './errors.js';
 import { healthRouter } from './health/router.js';
+import { homeRouter } from './home/router.js';
 import { openApiRouter } from './openapi/router.js';
 import { sitesRouter } from './sites/router.js';
 import { usersRouter } from './users/router.js';
@@ -50,6 +51,7 @@ export function createApp(deps: Deps) {
     checksRouter(deps, registry),
     digestsRouter(deps, registry),
     auditRouter(deps, registry),
+    homeRouter(deps, registry),
     openApiRouter(registry),
   ]) {
     api.use(router);

@@ -73,6 +73,7 @@ const expectedAccess: Record<string, 'anyone' | 'signed-in' | Role[]> = {
   'PUT /api/digest-preferences': 'anyone',
   'POST /api/digest-preferences/one-click': 'anyone',
   'GET /api/audit': ['admin', 'research_lead', 'reviewer'],
+  'GET /api/to-do': ['coordinator', 'research_lead', 'reviewer', 'admin'],
 };
 
 const demoEmail: Record<Role, string> = {

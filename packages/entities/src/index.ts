@@ -13,3 +13,4 @@ export * from './schemas/score-sheets.js';
 export * from './schemas/runs.js';
 export * from './schemas/checks.js';
 export * from './schemas/digests.js';
+export * from './schemas/home.js';
