@@ -118,15 +118,45 @@ async function openTab(page: Page, tab: StudyTab) {
   await expect(page).toHaveURL(new RegExp(`/studies/[0-9a-f-]+/${studyTabs[tab].path}$`));
 }
 
+const DRAFT_STUDY = 'Number Journal Prompts in grade 5';
+
+/** The home's "Waiting for you": what the seed leaves for each role, counted from the database. */
+async function expectToDo({ page, role }: Visit) {
+  const panel = main(page).getByRole('region', { name: 'Waiting for you' });
+  const item = (title: string | RegExp, study: string) => panel.getByRole('listitem').filter({ hasText: study }).filter({ has: page.getByRole('link', { name: title }) });
+  if (role === 'coordinator') {
+    await expect(item('Enrol the schools', DRAFT_STUDY).getByRole('link')).toHaveAttribute('href', /\/sites$/);
+    // The seed leaves the Fernbank Room 3A spring sheets unentered after their wave closed.
+    const late = item(/^\d+ score sheets are late$/, DEMO_STUDY).getByRole('link');
+    await expect(late).toHaveAttribute('href', /\/score-sheets$/);
+    expect(Number((await late.textContent())!.split(' ')[0])).toBeGreaterThanOrEqual(2);
+  } else if (role === 'research_lead') {
+    await expect(item('Seal the plan', DRAFT_STUDY).getByRole('link')).toHaveAttribute('href', /\/plan$/);
+  } else if (role === 'reviewer') {
+    const [{ n }] = await queryDatabase<{ n: number }>(`SELECT count(*)::int AS n FROM runs r JOIN studies s ON s.id = r.study_id WHERE s.title = $1 AND r.state = 'locked'`, [DEMO_STUDY]);
+    await expect(item(`${n} locked results to review`, DEMO_STUDY).getByRole('link')).toHaveAttribute('href', /\/comparisons$/);
+  } else if (role === 'admin') {
+    const [{ n }] = await queryDatabase<{ n: number }>(`SELECT count(*)::int AS n FROM users WHERE active AND password_hash IS NULL`);
+    if (n > 0) await expect(panel).toContainText(`${n} invited ${n === 1 ? 'person has' : 'people have'} not chosen a password`);
+    else await expect(panel).toContainText('Nothing waits for you right now.');
+  }
+}
+
 const areaChecks: Partial<Record<keyof typeof areas, (v: Visit) => Promise<void>>> = {
-  async accounts({ page }) {
+  async accounts(visit) {
+    const { page } = visit;
     await expect(page.getByRole('heading', { level: 1, name: 'Accounts' })).toBeVisible();
+    await expectToDo(visit);
     const accounts = table(page, 'Accounts');
     await expect(bodyRows(accounts).first()).toBeVisible();
     await expect(accounts.getByRole('row').filter({ hasText: 'admin@evenhand.test' })).toContainText('District admin');
   },
-  async studies({ page }) {
+  async studies(visit) {
+    const { page, role } = visit;
     await expect(page.getByRole('heading', { level: 1, name: 'Studies' })).toBeVisible();
+    // Only on a person's home: the admin reads Studies without it.
+    if (role === 'admin') await expect(main(page).getByRole('region', { name: 'Waiting for you' })).toHaveCount(0);
+    else await expectToDo(visit);
     const row = table(page, 'Studies').getByRole('row').filter({ hasText: DEMO_STUDY });
     const [{ sites, classrooms }] = await queryDatabase<{ sites: number; classrooms: number }>(
       `SELECT (SELECT count(*)::int FROM study_sites x WHERE x.study_id = s.id) AS sites, (SELECT count(*)::int FROM classrooms c WHERE c.study_id = s.id) AS classrooms

@@ -14,6 +14,7 @@ import { ComparisonsPage, comparisonsLoader, RunResultsPage, runLoader } from '@
 import { reportLoader, StudyReportPage } from '@/features/report/routes';
 import { ForgotPasswordPage, SetPasswordPage, SignInPage } from '@/features/auth/routes';
 import { DigestsPage, digestsLoader, digestsShouldRevalidate, EmailPreferencesPage } from '@/features/digests/routes';
+import { ToDoPanel } from '@/features/home/components/to-do-panel';
 import { NoRolePage } from '@/features/home/routes';
 import { MySchoolPage, mySchoolLoader } from '@/features/my-school/routes';
 import { DrawPage, drawLoader } from '@/features/draw/routes';
@@ -83,7 +84,7 @@ export function createRoutes(queryClient: QueryClient): RouteObject[] {
                   path: areas.studies.path,
                   loader: guardArea(queryClient, areas.studies, studiesLoader(queryClient)),
                   shouldRevalidate: studiesShouldRevalidate,
-                  Component: StudiesPage,
+                  element: <StudiesPage toDo={<ToDoPanel home={areas.studies.path} />} />,
                 },
                 {
                   // A study's tabs: each guarded by the role table in lib/navigation.ts (studyTabs).
@@ -147,7 +148,7 @@ export function createRoutes(queryClient: QueryClient): RouteObject[] {
                   path: areas.accounts.path,
                   loader: guardArea(queryClient, areas.accounts, accountsLoader(queryClient)),
                   shouldRevalidate: accountsShouldRevalidate,
-                  Component: AccountsPage,
+                  element: <AccountsPage toDo={<ToDoPanel home={areas.accounts.path} />} />,
                 },
                 {
                   path: areas.audit.path,

@@ -1,6 +1,6 @@
 import { usersQuerySchema, type User, type UsersQuery } from '@evenhand/entities';
 import { useQuery, type QueryClient } from '@tanstack/react-query';
-import { useCallback, useState } from 'react';
+import { useCallback, useState, type ReactNode } from 'react';
 import { useSearchParams, type LoaderFunctionArgs, type ShouldRevalidateFunction } from 'react-router-dom';
 import { Alert } from '@/components/ui/alert';
 import { Button } from '@/components/ui/button';
@@ -56,7 +56,8 @@ export function accountsLoader(queryClient: QueryClient) {
 export const accountsShouldRevalidate: ShouldRevalidateFunction = ({ currentUrl, nextUrl }) =>
   currentUrl.pathname !== nextUrl.pathname;
 
-export function AccountsPage() {
+/** `toDo`: what waits for the admin, shown under the title (composed in app/router.tsx). */
+export function AccountsPage({ toDo }: { toDo?: ReactNode }) {
   const [params, setParams] = useSearchParams();
   const query = queryFromSearch(params);
   const accounts = useQuery(accountsQueryOptions(query));
@@ -92,6 +93,7 @@ export function AccountsPage() {
           </Button>
         }
       />
+      {toDo}
 
       <div aria-live="polite" className={notice ? 'mb-6' : undefined}>
         {notice && <Alert tone="success">{notice}</Alert>}

@@ -1,6 +1,6 @@
 import { idSchema, studiesQuerySchema, type RoleGrant, type Study } from '@evenhand/entities';
 import { useQuery, type QueryClient } from '@tanstack/react-query';
-import { useState } from 'react';
+import { useState, type ReactNode } from 'react';
 import {
   data,
   NavLink,
@@ -74,7 +74,8 @@ function NoStudiesYet({ canStart }: { canStart: boolean }) {
   );
 }
 
-export function StudiesPage() {
+/** `toDo`: what waits for the person, shown under the title when this is their home (composed in app/router.tsx). */
+export function StudiesPage({ toDo }: { toDo?: ReactNode }) {
   const grants = useGrants();
   const navigate = useNavigate();
   const [params, setParams] = useSearchParams();
@@ -92,6 +93,7 @@ export function StudiesPage() {
         description="Each study tests one intervention against a comparison condition, across the district’s schools."
         actions={canStart && <Button onClick={() => setStarting(true)}>Start a study</Button>}
       />
+      {toDo}
       {nothingAtAll ? (
         <NoStudiesYet canStart={canStart} />
       ) : (

@@ -85,7 +85,7 @@ export function ClassroomsTable({ classrooms, sites, loading, error, onEdit }: C
       loading={loading}
       error={error}
       itemName={['classroom', 'classrooms']}
-      empty={classrooms.length === 0 ? 'No classroom is added yet.' : 'No classroom matches. Try another site or fewer letters.'}
+      empty={classrooms.length === 0 ? 'No classroom is added yet. Once a school is enrolled, the coordinator adds its classrooms one by one or from a CSV file, each with its teacher.' : 'No classroom matches. Try another site or fewer letters.'}
       pagination={local.pagination}
       onPaginationChange={local.onPaginationChange}
       search={{ label: 'Search by classroom, cohort or teacher', value: q, onChange: setQ }}

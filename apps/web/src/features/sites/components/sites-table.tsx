@@ -42,7 +42,7 @@ export function SitesTable({ sites, loading, error }: { sites: StudySite[]; load
       loading={loading}
       error={error}
       itemName={['site', 'sites']}
-      empty="No school is enrolled yet."
+      empty="No school is enrolled yet. The coordinator enrols each school taking part, with its principal, from Enrol a site; its classrooms follow."
       pagination={local.pagination}
       onPaginationChange={local.onPaginationChange}
     />
