@@ -3,7 +3,7 @@ import type { ScoreRow, ScoreSheet, ScoreSheetDetail, SessionUser, SheetSummary 
 import { ScoreSheetEntity } from '@evenhand/entities/orm';
 import { recordAudit } from '../audit/service.js';
 import { AppError } from '../errors.js';
-import { csvRecords } from '../lib/csv.js';
+import { csvBatches } from '../lib/csv.js';
 import { currentPlan } from '../plans/service.js';
 import { findVisibleStudy, hasRole } from '../studies/access.js';
 import { rowFromCsv } from './rows.js';
@@ -165,7 +165,7 @@ export async function saveRows(db: DataSource, user: SessionUser, id: string, ro
   await db.transaction(async (manager) => {
     const sheet = await loadSheet(manager, user, id, true);
     assertEditable(sheet, user);
-    const staged = await stageRows(manager, keysOf(sheet), rows.map((row, i) => ({ line: i + 1, row, issues: [] })));
+    const staged = await stageRows(manager, keysOf(sheet), [rows.map((row, i) => ({ line: i + 1, row, issues: [] }))]);
     await applyStaged(manager, user.id, keysOf(sheet), staged.rows, sheet.rows === 0);
     await markMode(manager, id, null);
   });
@@ -174,11 +174,11 @@ export async function saveRows(db: DataSource, user: SessionUser, id: string, ro
 
 export const UPLOAD_LIMIT_BYTES = 10 * 1024 * 1024;
 
-/** The file's records as rows, each with its line and what is wrong with it. */
+/** The file's records as rows, a batch at a time, each with its line and what is wrong with it. */
 async function* rowsOfCsv(file: Buffer, seen: { records: number }) {
-  for await (const { line, values } of csvRecords(file, ['student_code', 'score'])) {
-    seen.records += 1;
-    yield { line, ...rowFromCsv(values, line) };
+  for await (const batch of csvBatches(file, ['student_code', 'score'])) {
+    seen.records += batch.length;
+    yield batch.map(({ line, values }) => ({ line, ...rowFromCsv(values, line) }));
   }
 }
 

@@ -56,7 +56,7 @@ export interface Staged {
  * any row is wrong, a duplicate, or registered to another classroom of the study. Nothing is written
  * to the sheet here; the staging table is dropped when the transaction ends.
  */
-export async function stageRows(manager: EntityManager, sheet: SheetKeys, source: Iterable<ArrivingRow> | AsyncIterable<ArrivingRow>): Promise<Staged> {
+export async function stageRows(manager: EntityManager, sheet: SheetKeys, source: Iterable<ArrivingRow[]> | AsyncIterable<ArrivingRow[]>): Promise<Staged> {
   await manager.query(
     `CREATE TEMP TABLE IF NOT EXISTS staged_scores (
        line int NOT NULL, student_code varchar(40) NOT NULL, score numeric, left_study boolean NOT NULL, note varchar(500) NOT NULL
@@ -78,15 +78,17 @@ export async function stageRows(manager: EntityManager, sheet: SheetKeys, source
     );
     batch = [];
   };
-  for await (const { line, row, issues } of source) {
-    issues.forEach((i) => problems.add(i));
-    if (!row) continue;
-    const problem = scoreProblem(row, range);
-    if (problem) problems.add({ row: line, column: 'score', message: problem });
-    rows += 1;
-    if (preview.length < PREVIEW) preview.push(row);
-    batch.push({ line, row });
-    if (batch.length === BATCH) await flush();
+  for await (const arriving of source) {
+    for (const { line, row, issues } of arriving) {
+      issues.forEach((i) => problems.add(i));
+      if (!row) continue;
+      const problem = scoreProblem(row, range);
+      if (problem) problems.add({ row: line, column: 'score', message: problem });
+      rows += 1;
+      if (preview.length < PREVIEW) preview.push(row);
+      batch.push({ line, row });
+      if (batch.length === BATCH) await flush();
+    }
   }
   await flush();
   // Temporary tables get no statistics of their own; without them a large sheet gets poor plans.
@@ -141,7 +143,7 @@ export async function applyStaged(manager: EntityManager, actorId: string, sheet
              WHERE c.student_code IS NULL OR n.student_code IS NULL OR c.score IS DISTINCT FROM n.score OR c.left_study <> n.left_study)
      INSERT INTO audit_events (actor_id, study_id, action, entity_type, entity_id, after)
      SELECT $2, $3, 'scores.changed', 'score_sheet', $1,
-            format('{"rows":%s,"changes":[%s]}', $4::int, string_agg(format('{"studentCode":%s,"from":%s,"to":%s}', to_json(code), was, becomes), ',' ORDER BY code))::jsonb
+            format('{"rows":%s,"changes":[%s]}', $4::int, string_agg(format('{"studentCode":%s,"from":%s,"to":%s}', to_json(code), was, becomes), ',' ORDER BY code COLLATE "C"))::jsonb
        FROM changes HAVING count(*) > 0`,
     [sheet.id, actorId, sheet.study_id, rows],
   );
