@@ -157,6 +157,18 @@ const areaChecks: Partial<Record<keyof typeof areas, (v: Visit) => Promise<void>
     // Only on a person's home: the admin reads Studies without it.
     if (role === 'admin') await expect(main(page).getByRole('region', { name: 'Waiting for you' })).toHaveCount(0);
     else await expectToDo(visit);
+    if (role === 'coordinator') {
+      // A dialog form from the keyboard: it opens on Enter, holds the focus, and Escape gives it back.
+      const start = main(page).getByRole('button', { name: 'Start a study' });
+      await tabTo(page, start);
+      await page.keyboard.press('Enter');
+      const dialog = page.getByRole('dialog', { name: 'Start a study' });
+      await expect(dialog.getByLabel('Title')).toBeFocused();
+      await page.keyboard.type('Not kept');
+      await page.keyboard.press('Escape');
+      await expect(dialog).toBeHidden();
+      await expect(start).toBeFocused();
+    }
     const row = table(page, 'Studies').getByRole('row').filter({ hasText: DEMO_STUDY });
     const [{ sites, classrooms }] = await queryDatabase<{ sites: number; classrooms: number }>(
       `SELECT (SELECT count(*)::int FROM study_sites x WHERE x.study_id = s.id) AS sites, (SELECT count(*)::int FROM classrooms c WHERE c.study_id = s.id) AS classrooms
@@ -292,6 +304,17 @@ const tabChecks: Record<StudyTab, (v: Visit) => Promise<void>> = {
     await expect(table(page, 'Sensitivity checks').getByRole('row').filter({ hasText: 'Student’s pooled t test' })).toContainText(
       `t = ${formatNumber(x.student.t, 2)}, df = ${formatNumber(x.student.df, 1)}`,
     );
+    // The forest plot's text equivalent: each site's arms and effect size, recomputed from that site's rows.
+    const bySite = table(page, 'Effect size by site');
+    const sites = [...new Set(primary.rows.map((r) => r.site_name))];
+    await expect(bodyRows(bySite)).toHaveCount(sites.length + 1);
+    for (const site of sites) {
+      const own = (a: ScoreRow['arm']) => primary.rows.filter((r) => r.site_name === site && r.arm === a).map((r) => r.score);
+      const [si, sc] = [own('intervention'), own('comparison')];
+      const cells = [formatCount(si.length), formatCount(sc.length), formatNumber(mean(si), 1), formatNumber(mean(sc), 1), formatNumber(hedgesG(si, sc).g, 2)];
+      await expect(bySite.getByRole('row').filter({ has: page.getByRole('rowheader', { name: site, exact: true }) }).getByRole('cell')).toHaveText([...cells, /./, /./]);
+    }
+    await expect(page.getByRole('img', { name: new RegExp(`^Forest plot of Hedges’ g for ${sites.length} sites`) })).toBeVisible();
     await expect(page.getByText('SHA-256 of the data')).toBeVisible();
     await expect(page.getByRole('button', { name: 'Lock this result' })).toHaveCount(0);
     await expectAccessibleOnce(page);
