@@ -90,6 +90,23 @@ describe('one classroom per student code', () => {
   });
 });
 
+describe('what a row carries', () => {
+  it('stores notes with tabs, line breaks and backslashes exactly as typed, and tiny or fractional scores as numbers', async () => {
+    const note = 'moved\tto\nanother school \\ in March\r\n(see file \\N)';
+    await put(teacher1, sheet1, [
+      { studentCode: 'NOTE-01', score: 0.0000005, note },
+      { studentCode: 'NOTE-02', score: 199.25, note: '' },
+      { studentCode: 'NOTE-03', score: null, left: true, note: '\\N' },
+    ]).expect(200);
+    const rows = await t.db.query(`SELECT student_code, score::text AS score, left_study, note FROM scores WHERE sheet_id = $1 ORDER BY student_code`, [sheet1]);
+    expect(rows).toEqual([
+      { student_code: 'NOTE-01', score: '0.0000005', left_study: false, note: note.trim() },
+      { student_code: 'NOTE-02', score: '199.25', left_study: false, note: '' },
+      { student_code: 'NOTE-03', score: null, left_study: true, note: '\\N' },
+    ]);
+  });
+});
+
 describe('large sheets', () => {
   const lines = (n: number, score: (i: number) => string) =>
     `student_code,score\n${Array.from({ length: n }, (_, i) => `BIG-${String(i).padStart(5, '0')},${score(i)}`).join('\n')}\n`;

@@ -1,3 +1,7 @@
+import { once } from 'node:events';
+import { finished } from 'node:stream/promises';
+import type { PoolClient } from 'pg';
+import { from as copyFrom } from 'pg-copy-streams';
 import type { EntityManager } from 'typeorm';
 import { scoreProblem, type RowIssue, type ScoreRow } from '@evenhand/entities';
 import { AppError } from '../errors.js';
@@ -5,7 +9,7 @@ import { rowsRefused } from './rows.js';
 
 /**
  * How a sheet's rows are written, whatever their source (the grid's JSON or a CSV upload): rows are
- * checked one by one as they arrive and staged in batches into a temporary table; duplicates and codes
+ * checked one by one as they arrive and streamed batch by batch into a temporary table (COPY); duplicates and codes
  * of other classrooms are then found set-wise in SQL; the sheet is brought to the staged rows with
  * three set-wise statements (delete, update, insert of only what changed), and the audit entry is
  * built in SQL from the same comparison. Node holds one batch at a time, never the whole sheet twice.
@@ -28,7 +32,6 @@ export interface SheetKeys {
   max_score: string;
 }
 
-const BATCH = 5_000;
 const REPORTED = 500;
 const PREVIEW = 50;
 const ANALYZE_FROM = 2_000;
@@ -68,29 +71,35 @@ export async function stageRows(manager: EntityManager, sheet: SheetKeys, source
   const range = { minScore: Number(sheet.min_score), maxScore: Number(sheet.max_score) };
   const problems = new Problems();
   const preview: ScoreRow[] = [];
-  let batch: { line: number; row: ScoreRow }[] = [];
   let rows = 0;
-  const flush = async () => {
-    if (!batch.length) return;
-    await manager.query(
-      `INSERT INTO staged_scores SELECT * FROM unnest($1::int[], $2::varchar[], $3::numeric[], $4::boolean[], $5::varchar[])`,
-      [batch.map((b) => b.line), batch.map((b) => b.row.studentCode), batch.map((b) => b.row.score), batch.map((b) => b.row.left), batch.map((b) => b.row.note)],
-    );
-    batch = [];
-  };
-  for await (const arriving of source) {
-    for (const { line, row, issues } of arriving) {
-      issues.forEach((i) => problems.add(i));
-      if (!row) continue;
-      const problem = scoreProblem(row, range);
-      if (problem) problems.add({ row: line, column: 'score', message: problem });
-      rows += 1;
-      if (preview.length < PREVIEW) preview.push(row);
-      batch.push({ line, row });
-      if (batch.length === BATCH) await flush();
+
+  // Rows go to the staging table through COPY on the transaction's own connection, batch by batch.
+  if (!manager.queryRunner) throw new Error('stageRows runs inside a transaction');
+  const client = (await manager.queryRunner.connect()) as PoolClient;
+  const copy = client.query(copyFrom(`COPY staged_scores (line, student_code, score, left_study, note) FROM STDIN`));
+  const copied = finished(copy);
+  try {
+    for await (const arriving of source) {
+      let text = '';
+      for (const { line, row, issues } of arriving) {
+        issues.forEach((i) => problems.add(i));
+        if (!row) continue;
+        const problem = scoreProblem(row, range);
+        if (problem) problems.add({ row: line, column: 'score', message: problem });
+        rows += 1;
+        if (preview.length < PREVIEW) preview.push(row);
+        text += `${line}\t${copyText(row.studentCode)}\t${row.score ?? '\\N'}\t${row.left ? 't' : 'f'}\t${copyText(row.note)}\n`;
+      }
+      if (text && !copy.write(text)) await once(copy, 'drain');
     }
+    copy.end();
+    await copied;
+  } catch (err) {
+    // Ends the COPY (as a failed one) before the connection is used for anything else.
+    copy.destroy(err as Error);
+    await copied.catch(() => {});
+    throw err;
   }
-  await flush();
   // Temporary tables get no statistics of their own; without them a large sheet gets poor plans.
   if (rows > ANALYZE_FROM) await manager.query(`ANALYZE staged_scores`);
 
@@ -98,6 +107,9 @@ export async function stageRows(manager: EntityManager, sheet: SheetKeys, source
   if (found.length) throw rowsRefused(found.sort((a, b) => a.row - b.row).slice(0, REPORTED), problems.total + found.length - problems.list.length);
   return { rows, preview };
 }
+
+/** A value in COPY's text format: backslash, tab, newline and carriage return escaped. */
+const copyText = (value: string) => value.replace(/[\\\t\n\r]/g, (c) => ({ '\\': '\\\\', '\t': '\\t', '\n': '\\n', '\r': '\\r' })[c]!);
 
 /** A code used twice on one sheet (letter case aside), reported on every line after its first. */
 async function duplicates(manager: EntityManager): Promise<RowIssue[]> {
