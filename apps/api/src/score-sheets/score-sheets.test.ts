@@ -62,7 +62,7 @@ describe('teacher entry by form', () => {
     expect(last.after.changes).toEqual([{ studentCode: 'LV-0001', from: { score: 81.5, left: false }, to: { score: 82, left: false } }]);
   });
 
-  it('when rows are out of range, duplicated or missing a score, then every problem is listed by row and nothing changes', async () => {
+  it('when rows are out of range or duplicated, then every problem is listed by row and nothing changes', async () => {
     const before = await scores(sheet1);
     const res = await put(teacher1, sheet1, [
       { studentCode: 'LV-0001', score: 250 },
@@ -72,9 +72,19 @@ describe('teacher entry by form', () => {
     expect(res.status).toBe(400);
     expect(res.body.error.details.rows).toEqual([
       { row: 1, column: 'score', message: "The score 250 is outside the measure's range 0–200" },
-      { row: 2, column: 'score', message: 'Enter a score, or mark the student as having left the study' },
       { row: 3, column: 'student_code', message: 'Student code lv-0001 is also on row 1' },
     ]);
+    expect(await scores(sheet1)).toEqual(before);
+  });
+
+  it('keeps a draft row whose score is still to come, and refuses to submit until it has one', async () => {
+    const before = await scores(sheet1);
+    await put(teacher1, sheet1, [...before.map((r: { student_code: string; score: number | null; left_study: boolean }) => ({ studentCode: r.student_code, score: r.score, left: r.left_study })), { studentCode: 'LV-0009', score: null }]).expect(200);
+    expect((await scores(sheet1)).find((r: { student_code: string }) => r.student_code === 'LV-0009')).toEqual({ student_code: 'LV-0009', score: null, left_study: false });
+    const refused = await teacher1.agent.post(`/api/score-sheets/${sheet1}/submit`).set('x-csrf-token', teacher1.csrf);
+    expect(refused.status).toBe(409);
+    expect(refused.body.error).toMatchObject({ message: '1 student has no score yet: enter a score, or mark the student as having left the study, then submit', details: { studentsWithoutScore: 1 } });
+    await put(teacher1, sheet1, before.map((r: { student_code: string; score: number | null; left_study: boolean }) => ({ studentCode: r.student_code, score: r.score, left: r.left_study }))).expect(200);
     expect(await scores(sheet1)).toEqual(before);
   });
 

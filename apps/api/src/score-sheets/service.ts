@@ -1,5 +1,5 @@
 import type { DataSource, EntityManager } from 'typeorm';
-import type { ScoreRow, ScoreSheet, ScoreSheetDetail, SessionUser, SheetSummary } from '@evenhand/entities';
+import { MISSING_SCORE, type ScoreRow, type ScoreSheet, type ScoreSheetDetail, type SessionUser, type SheetSummary } from '@evenhand/entities';
 import { ScoreSheetEntity } from '@evenhand/entities/orm';
 import { recordAudit } from '../audit/service.js';
 import { AppError } from '../errors.js';
@@ -243,6 +243,10 @@ export async function moveSheet(db: DataSource, user: SessionUser, id: string, s
       if (row.state !== 'open' && row.state !== 'returned') throw AppError.conflict(`A ${row.state} sheet cannot be submitted`);
       if (!editable(row)) throw AppError.conflict(`The ${row.wave_name} wave is closed; ask the coordinator to reopen it`);
       if (row.mode === 'rows' && row.rows === 0) throw AppError.conflict('Enter at least one student before submitting');
+      const [{ waiting }] = await manager.query(`SELECT count(*)::int AS waiting FROM scores WHERE sheet_id = $1 AND score IS NULL AND NOT left_study`, [id]);
+      if (waiting > 0) {
+        throw AppError.conflict(`${waiting} student${waiting === 1 ? ' has' : 's have'} no score yet: ${MISSING_SCORE.toLowerCase()}, then submit`, { studentsWithoutScore: waiting });
+      }
       Object.assign(patch, { state: 'submitted', submittedAt: new Date(), submittedBy: user.id });
     } else {
       if (!hasRole(user, 'coordinator')) throw AppError.forbidden('Only the coordinator accepts or returns score sheets');

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { scoreProblem } from './score-sheets.js';
+import { lacksScore, scoreProblem } from './score-sheets.js';
 
 describe('scoreProblem', () => {
   const range = { minScore: 0, maxScore: 200 };
@@ -11,9 +11,11 @@ describe('scoreProblem', () => {
     expect(scoreProblem({ score: -0.5, left: false }, range)).toBe("The score -0.5 is outside the measure's range 0–200");
     expect(scoreProblem({ score: 200.1, left: false }, range)).toBe("The score 200.1 is outside the measure's range 0–200");
   });
-  it('needs a score unless the student left; a score of someone who left is still range-checked', () => {
-    expect(scoreProblem({ score: null, left: false }, range)).toMatch(/Enter a score/);
-    expect(scoreProblem({ score: null, left: true }, range)).toBeNull();
+  it('lets a draft row wait for its score, and still range-checks the score of someone who left', () => {
+    expect(scoreProblem({ score: null, left: false }, range)).toBeNull();
+    expect(lacksScore({ score: null, left: false })).toBe(true);
+    expect(lacksScore({ score: null, left: true })).toBe(false);
+    expect(lacksScore({ score: 0, left: false })).toBe(false);
     expect(scoreProblem({ score: 999, left: true }, range)).toMatch(/outside/);
   });
 });

@@ -34,14 +34,21 @@ export interface MeasureRange {
 }
 
 /**
- * What is wrong with a row's score, or null: a score is needed unless the student left the study,
- * and it must lie within the measure's range. The grid and the API both check rows with it.
+ * What is wrong with a row's score, or null: a score must lie within the measure's range (also for a
+ * student who left). The grid and the API both check rows with it. A missing score is not wrong in a
+ * draft; see `lacksScore`.
  */
 export function scoreProblem(row: { score: number | null; left: boolean }, range: MeasureRange): string | null {
-  if (row.score === null) return row.left ? null : 'Enter a score, or mark the student as having left the study';
-  if (row.score < range.minScore || row.score > range.maxScore) return `The score ${row.score} is outside the measure's range ${range.minScore}–${range.maxScore}`;
+  if (row.score !== null && (row.score < range.minScore || row.score > range.maxScore)) {
+    return `The score ${row.score} is outside the measure's range ${range.minScore}–${range.maxScore}`;
+  }
   return null;
 }
+
+/** A row still waiting for its score: a draft may hold it, a submitted sheet may not. */
+export const lacksScore = (row: { score: number | null; left: boolean }) => row.score === null && !row.left;
+
+export const MISSING_SCORE = 'Enter a score, or mark the student as having left the study';
 
 export const MAX_SHEET_ROWS = 200_000;
 

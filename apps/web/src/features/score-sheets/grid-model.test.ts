@@ -5,6 +5,7 @@ import {
   issuesFromServer,
   parseScore,
   pasteBlock,
+  rowsWithoutScore,
   templateCsv,
   toScoreRows,
   type GridRow,
@@ -24,13 +25,14 @@ describe('parseScore', () => {
 });
 
 describe('checkGrid', () => {
-  it('flags a score outside the measure’s range, and a missing score unless the student left', () => {
+  it('flags a score outside the measure’s range; a row without a score is a draft, not a problem', () => {
     const rows = [row('LV-1', '251'), row('LV-2', ''), row('LV-3', '', { left: true }), row('LV-4', '250')];
     const issues = checkGrid(rows, range);
     expect(issues.get(rows[0].id)).toEqual({ score: "The score 251 is outside the measure's range 0–250" });
-    expect(issues.get(rows[1].id)?.score).toMatch(/Enter a score/);
+    expect(issues.has(rows[1].id)).toBe(false);
     expect(issues.has(rows[2].id)).toBe(false);
     expect(issues.has(rows[3].id)).toBe(false);
+    expect([...rowsWithoutScore(rows).keys()]).toEqual([rows[1].id]);
   });
 
   it('flags a student code used twice on both rows, whatever its case', () => {

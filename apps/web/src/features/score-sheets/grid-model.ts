@@ -1,4 +1,4 @@
-import { scoreProblem, scoreRowSchema, type MeasureRange, type RowIssue, type ScoreRow, type ScoreRowInput } from '@evenhand/entities';
+import { lacksScore, MISSING_SCORE, scoreProblem, scoreRowSchema, type MeasureRange, type RowIssue, type ScoreRow, type ScoreRowInput } from '@evenhand/entities';
 import { toCsv } from '@/lib/csv';
 
 /** One row of the grid as typed: the score stays text, so "eighty" or "12,5" are kept until fixed. */
@@ -72,9 +72,10 @@ export function toScoreRows(rows: readonly GridRow[]): { rows: ScoreRowInput[]; 
 const schemaColumn: Record<string, GridColumn> = { studentCode: 'studentCode', score: 'score', left: 'left', note: 'note' };
 
 /**
- * Every problem of every row, keyed by row id: the shared row schema, the measure's range, a score
- * unless the student left (the shared `scoreProblem`), and student codes used twice (flagged on both
- * rows). The API runs the same checks and refuses the whole sheet if one fails.
+ * Every problem of every row, keyed by row id: the shared row schema, the measure's range (the shared
+ * `scoreProblem`), and student codes used twice (flagged on both rows). The API runs the same checks
+ * and refuses the whole sheet if one fails. A row still waiting for its score is not a problem in a
+ * draft (see `rowsWithoutScore`).
  */
 export function checkGrid(rows: readonly GridRow[], range: MeasureRange): Map<string, CellIssues> {
   const issues = new Map<string, CellIssues>();
@@ -109,6 +110,15 @@ export function checkGrid(rows: readonly GridRow[], range: MeasureRange): Map<st
     }
   }
   return issues;
+}
+
+/** Rows the teacher has started but not scored (nor marked as left): the sheet saves, but cannot be submitted. */
+export function rowsWithoutScore(rows: readonly GridRow[]): Map<string, CellIssues> {
+  const waiting = new Map<string, CellIssues>();
+  for (const row of rows) {
+    if (!isBlank(row) && !row.score.trim() && lacksScore({ score: null, left: row.left })) waiting.set(row.id, { score: MISSING_SCORE });
+  }
+  return waiting;
 }
 
 /** Counts what a check found, for the save status: "2 rows need fixing (row 3: …)". */

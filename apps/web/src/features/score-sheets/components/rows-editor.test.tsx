@@ -37,16 +37,24 @@ describe('RowsEditor', () => {
     expect(cell('Score', 2)).not.toHaveAttribute('aria-invalid');
   });
 
-  it('waits until the person leaves a row before flagging what is missing in it', async () => {
+  it('saves a row whose score is still to come as a draft, and flags it only when the teacher submits', async () => {
     const user = userEvent.setup();
+    request.mockImplementation(async (_path, options) => ({ ...sheetFixture(), rows: (options?.body as { rows: [] }).rows }));
     renderWithRouter(<RowsEditor sheet={sheetFixture()} saveDelay={5} />);
     await user.click(cell('Student code', 1));
-    await user.keyboard('LV-0009');
+    await user.keyboard('LV-0009{Enter}');
+    expect(await screen.findByText(/^Saved at /)).toBeInTheDocument();
+    expect(request).toHaveBeenCalledWith(
+      `/score-sheets/${sheetFixture().id}`,
+      expect.objectContaining({ method: 'PUT', body: { rows: [{ studentCode: 'LV-0009', score: null, left: false, note: '' }] } }),
+    );
     expect(cell('Score', 1)).not.toHaveAttribute('aria-invalid');
-    await user.keyboard('{Enter}');
+
+    await user.click(screen.getByRole('button', { name: 'Submit to the coordinator' }));
+    expect(await screen.findByText('1 row has no score yet: enter a score, or tick “left the study”, then submit.')).toBeInTheDocument();
     expect(cell('Score', 1)).toHaveAttribute('aria-invalid', 'true');
-    expect(request).not.toHaveBeenCalled();
-    expect(status()).toHaveTextContent(/Not saved: 1 row needs fixing \(row 1: Enter a score/);
+    expect(cell('Score', 1)).toHaveAccessibleDescription(/Enter a score, or mark the student as having left the study/);
+    expect(screen.queryByRole('dialog')).not.toBeInTheDocument();
   });
 
   it('saves the whole sheet after a pause in typing and says when', async () => {

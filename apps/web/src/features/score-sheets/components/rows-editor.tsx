@@ -13,6 +13,7 @@ import { SubmitSheet } from '@/features/score-sheets/components/submit-sheet';
 import {
   checkGrid,
   describeIssues,
+  rowsWithoutScore,
   issuesFromServer,
   isBlank,
   rowsFromSheet,
@@ -61,8 +62,11 @@ export function RowsEditor({ sheet, initialRows, saveDelay }: RowsEditorProps) {
   const [pasteNote, setPasteNote] = useState('');
   const range = useMemo(() => ({ minScore: sheet.minScore, maxScore: sheet.maxScore }), [sheet.minScore, sheet.maxScore]);
   const clientIssues = useMemo(() => checkGrid(rows, range), [rows, range]);
+  // Rows without a score save as a draft; they are flagged once the teacher tries to submit.
+  const [flagMissing, setFlagMissing] = useState(false);
+  const missing = useMemo(() => (flagMissing ? rowsWithoutScore(rows) : new Map<string, CellIssues>()), [flagMissing, rows]);
   const mentioned = useMemo(() => codesIn(sheet.returnReasons, rows), [sheet.returnReasons, rows]);
-  const shownIssues = useMemo(() => merge(clientIssues, serverIssues, editingRow), [clientIssues, serverIssues, editingRow]);
+  const shownIssues = useMemo(() => merge(merge(missing, clientIssues, null), serverIssues, editingRow), [missing, clientIssues, serverIssues, editingRow]);
 
   const saveRows = useSaveRows(sheet.id);
   const queryClient = useQueryClient();
@@ -140,6 +144,11 @@ export function RowsEditor({ sheet, initialRows, saveDelay }: RowsEditorProps) {
     setEditingRow(null);
     if (!entered.length) return 'Enter at least one student before submitting.';
     if (!(await autosave.flush())) return 'The sheet can be submitted once every row is saved: fix the flagged cells first.';
+    const waiting = rowsWithoutScore(rows).size;
+    if (waiting) {
+      setFlagMissing(true);
+      return `${waiting} row${waiting === 1 ? ' has' : 's have'} no score yet: enter a score, or tick “left the study”, then submit.`;
+    }
     return null;
   }
 
