@@ -5,8 +5,9 @@
 ROOT=$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)
 DATA="$ROOT/.data"
 PG_PASSWORD=evenhand   # local development clusters only; production uses DATABASE_URL
-STARTED_PG=()
 STARTED_PIDS=()
+# Shared services (a cluster, a maildev) this script uses; see `use_service`.
+USED_SERVICES=()
 
 say() { printf '\033[1;32m[evenhand]\033[0m %s\n' "$*"; }
 
@@ -64,8 +65,9 @@ pg_up() {
     say "starting PostgreSQL on 127.0.0.1:$port"
     as_pg "$bin/pg_ctl" -D "$dir" -l "$run/pg.log" -w -t 60 \
       -o "-c listen_addresses=127.0.0.1 -p $port -k $run -c fsync=${PG_FSYNC:-on}" start >/dev/null
-    STARTED_PG+=("$dir")
+    echo "pg $dir" >"$run/started-by-script"
   fi
+  use_service "$run"
   export PGPASSWORD="$PG_PASSWORD"
   if ! "$bin/psql" -h 127.0.0.1 -p "$port" -U postgres -d postgres -tAc "SELECT 1 FROM pg_database WHERE datname = '$database'" | grep -q 1; then
     "$bin/psql" -h 127.0.0.1 -p "$port" -U postgres -d postgres -qc "CREATE DATABASE \"$database\"" >/dev/null
@@ -79,22 +81,54 @@ port_open() { (exec 3<>"/dev/tcp/127.0.0.1/$1") 2>/dev/null; }
 # maildev_up SMTP_PORT WEB_PORT: catches all mail locally; its REST API is under /api/email.
 maildev_up() {
   local smtp="$1" web="$2"
-  if port_open "$web"; then return 0; fi
+  if port_open "$web"; then
+    [ -d "$DATA/maildev-$smtp-run" ] && use_service "$DATA/maildev-$smtp-run"
+    return 0
+  fi
   say "starting maildev (SMTP 127.0.0.1:$smtp, inbox http://127.0.0.1:$web)"
   "$ROOT/node_modules/.bin/maildev" --smtp "$smtp" --ip 127.0.0.1 --web "$web" --web-ip 127.0.0.1 --silent >"$DATA/maildev-$smtp.log" 2>&1 &
-  STARTED_PIDS+=("$!")
+  mkdir -p "$DATA/maildev-$smtp-run"
+  echo "pid $!" >"$DATA/maildev-$smtp-run/started-by-script"
+  use_service "$DATA/maildev-$smtp-run"
   for _ in $(seq 1 50); do port_open "$web" && port_open "$smtp" && return 0; sleep 0.2; done
   echo "maildev did not start; see .data/maildev-$smtp.log" >&2; return 1
 }
 
-# Stops what this script started, and nothing else.
-stop_services() {
-  local pid dir
-  for pid in "${STARTED_PIDS[@]}"; do kill "$pid" 2>/dev/null || true; done
-  for pid in "${STARTED_PIDS[@]}"; do wait "$pid" 2>/dev/null || true; done
-  for dir in "${STARTED_PG[@]}"; do
+# Several scripts may share one service (two `npm test` runs, a test run and a benchmark): each leaves a
+# marker with its PID in the service's run folder, and the last one out stops the service, if a script
+# started it (a service started by hand is left alone).
+use_service() {
+  mkdir -p "$1/users"
+  : >"$1/users/$$"
+  USED_SERVICES+=("$1")
+}
+
+stop_service() {
+  local run="$1" what marker
+  rm -f "$run/users/$$"
+  for marker in "$run"/users/*; do
+    [ -e "$marker" ] || continue
+    if kill -0 "$(basename "$marker")" 2>/dev/null; then return 0; fi
+    rm -f "$marker"
+  done
+  [ -f "$run/started-by-script" ] || return 0
+  read -r what _ <"$run/started-by-script"
+  if [ "$what" = pg ]; then
+    local dir; dir=$(cut -d' ' -f2- "$run/started-by-script")
     say "stopping PostgreSQL (.data/$(basename "$dir"))"
     as_pg "$(pg_bin)/pg_ctl" -D "$dir" -m fast -w stop >/dev/null 2>&1 || true
-  done
-  STARTED_PIDS=(); STARTED_PG=()
+  else
+    local pid; pid=$(cut -d' ' -f2 "$run/started-by-script")
+    kill "$pid" 2>/dev/null || true
+  fi
+  rm -f "$run/started-by-script"
+}
+
+# Stops what this script started (its own processes) and the shared services nobody else still uses.
+stop_services() {
+  local pid run
+  for pid in "${STARTED_PIDS[@]}"; do kill "$pid" 2>/dev/null || true; done
+  for pid in "${STARTED_PIDS[@]}"; do wait "$pid" 2>/dev/null || true; done
+  for run in "${USED_SERVICES[@]}"; do stop_service "$run"; done
+  STARTED_PIDS=(); USED_SERVICES=()
 }
