@@ -1,5 +1,5 @@
-import AxeBuilder from '@axe-core/playwright';
 import { expect, test, type Page } from '@playwright/test';
+import { expectAccessible } from './support';
 
 const PASSWORD = 'evenhand-demo';
 const MAILDEV = process.env.MAILDEV_URL ?? 'http://127.0.0.1:1080';
@@ -22,12 +22,6 @@ async function mailTo(page: Page, address: string): Promise<Caught[]> {
   const res = await page.request.get(`${MAILDEV}/api/email`);
   expect(res.ok()).toBe(true);
   return ((await res.json()) as Caught[]).filter((m) => m.to.some((t) => t.address === address));
-}
-
-async function expectNoSeriousAxeViolations(page: Page) {
-  const { violations } = await new AxeBuilder({ page }).analyze();
-  const serious = violations.filter((v) => v.impact === 'serious' || v.impact === 'critical');
-  expect(serious.map((v) => `${v.id}: ${v.nodes.map((n) => n.target.join(' ')).join(', ')}`)).toEqual([]);
 }
 
 test('a principal lands on My school and reads their school’s participation and the locked result in plain words', async ({ page }) => {
@@ -61,7 +55,7 @@ test('a principal lands on My school and reads their school’s participation an
     if (value === '' || value === 'fewer than 10 students') continue;
     expect(Number(value.replace(/,/g, ''))).toBeGreaterThanOrEqual(10);
   }
-  await expectNoSeriousAxeViolations(page);
+  await expectAccessible(page);
 });
 
 test('the coordinator previews a digest as the principal sees it, sends digests now, and the e-mail arrives', async ({ page }) => {
@@ -73,7 +67,7 @@ test('the coordinator previews a digest as the principal sees it, sends digests 
   await expect(page.getByRole('heading', { level: 2, name: 'Outbox' })).toBeVisible();
   const outbox = page.getByRole('table', { name: 'Digests of this study' });
   await expect(outbox.getByRole('row').filter({ hasText: 'principal1@evenhand.test' }).first()).toContainText('Sent');
-  await expectNoSeriousAxeViolations(page);
+  await expectAccessible(page);
 
   await outbox.getByRole('row').filter({ hasText: 'principal1@evenhand.test' }).first().getByRole('button', { name: /^Preview/ }).click();
   const dialog = page.getByRole('dialog', { name: 'As the principal sees it' });
@@ -103,13 +97,14 @@ test('the coordinator previews a digest as the principal sees it, sends digests 
 });
 
 test('the e-mail’s link changes how often a principal gets digests, without signing in', async ({ page }) => {
-  const [mail] = (await mailTo(page, 'principal2@evenhand.test')).filter((m) => /^(The result is locked|Update on)/.test(m.subject));
+  // The newest: a mail catcher that outlived an earlier seed still holds that seed's links, which no longer work.
+  const mail = (await mailTo(page, 'principal2@evenhand.test')).filter((m) => /^(The result is locked|Update on)/.test(m.subject)).at(-1)!;
   const link = mail.text.match(/Stop these e-mails: (\S+)/)![1];
   await page.goto(new URL(link).pathname + new URL(link).search);
   await expect(page.getByRole('heading', { level: 1, name: 'E-mail digests' })).toBeVisible();
   await expect(page.getByText('Hello Samuel Achterberg.', { exact: false })).toBeVisible();
   await expect(page.getByLabel('No digests')).toBeChecked();
-  await expectNoSeriousAxeViolations(page);
+  await expectAccessible(page);
   await page.getByRole('button', { name: 'Stop the digests' }).click();
   await expect(page.getByRole('status').filter({ hasText: 'Saved' })).toContainText('You will not get digests any more');
   // Back to the demo's setting, for anyone who reads the demo after this test.

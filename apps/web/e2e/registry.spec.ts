@@ -1,5 +1,5 @@
-import AxeBuilder from '@axe-core/playwright';
 import { expect, request as playwrightRequest, test, type Page } from '@playwright/test';
+import { expectAccessible } from './support';
 
 const PASSWORD = 'evenhand-demo';
 const DEMO_STUDY = 'Lantern Reading Routine in grades 3 and 4';
@@ -11,13 +11,6 @@ async function signIn(page: Page, email: string, password = PASSWORD) {
   await page.getByLabel('Password', { exact: true }).fill(password);
   await page.getByRole('button', { name: 'Sign in' }).click();
   await expect(page).not.toHaveURL(/\/sign-in/);
-}
-
-/** No serious or critical accessibility problems on the page as it is now. */
-async function expectAccessible(page: Page) {
-  const results = await new AxeBuilder({ page }).analyze();
-  const bad = results.violations.filter((v) => v.impact === 'serious' || v.impact === 'critical');
-  expect(bad.map((v) => `${v.id}: ${v.nodes.map((n) => n.target.join(' ')).join(', ')}`)).toEqual([]);
 }
 
 interface MaildevEmail {

@@ -1,8 +1,8 @@
 import { createHash } from 'node:crypto';
 import { readFile } from 'node:fs/promises';
-import AxeBuilder from '@axe-core/playwright';
 import { welchT } from '@evenhand/stats';
 import { expect, test, type Page } from '@playwright/test';
+import { expectAccessible } from './support';
 
 const PASSWORD = 'evenhand-demo';
 const DEMO_STUDY = 'Lantern Reading Routine in grades 3 and 4';
@@ -20,12 +20,6 @@ async function openDemoStudyTab(page: Page, tab: 'Checks' | 'Comparisons'): Prom
   await page.getByRole('navigation', { name: 'Study' }).getByRole('link', { name: tab }).click();
   await expect(page).toHaveURL(new RegExp(`/studies/[0-9a-f-]+/${tab.toLowerCase()}$`));
   return page.url().split('/studies/')[1].split('/')[0];
-}
-
-async function expectNoSeriousAxeViolations(page: Page) {
-  const { violations } = await new AxeBuilder({ page }).analyze();
-  const serious = violations.filter((v) => v.impact === 'serious' || v.impact === 'critical');
-  expect(serious.map((v) => `${v.id}: ${v.nodes.map((n) => n.target.join(' ')).join(' | ')}`)).toEqual([]);
 }
 
 /** The page's rounding: two decimals and a true minus sign (lib/format.ts, formatNumber). */
@@ -50,14 +44,14 @@ test('the research lead reads the Checks: data quality, attrition against both b
   await expect(measure.getByRole('row', { name: /Optimistic boundary/ }).first()).toBeVisible();
   await expect(measure.getByText(/Hedges’ g = −?\d\.\d\d/).first()).toBeVisible();
   await expect(measure.getByRole('img', { name: /Box plots of Oral reading fluency/ }).first()).toBeVisible();
-  await expectNoSeriousAxeViolations(page);
+  await expectAccessible(page);
 });
 
 test('the research lead runs the primary comparison, reads its result, locks or re-analyses it, exports it and prints the report', async ({ page }) => {
   test.setTimeout(150_000);
   await signIn(page, 'lead@evenhand.test');
   const studyId = await openDemoStudyTab(page, 'Comparisons');
-  await expectNoSeriousAxeViolations(page);
+  await expectAccessible(page);
 
   const comparisons = await (await page.request.get(`/api/studies/${studyId}/comparisons`)).json();
   const primary = comparisons.items.find((c: { isPrimary: boolean }) => c.isPrimary);
@@ -92,7 +86,7 @@ test('the research lead runs the primary comparison, reads its result, locks or 
   await expect(page.getByRole('heading', { name: 'Read these numbers with care' })).toBeVisible();
   await expect(page.getByRole('table', { name: 'Effect size by site' }).getByRole('row')).toHaveCount(results.sites.length + 2);
   await expect(page.getByTestId('interim-mark')).toHaveCount(0);
-  await expectNoSeriousAxeViolations(page);
+  await expectAccessible(page);
 
   if (reanalysis) {
     await expect(page.getByRole('button', { name: 'Lock this result' })).toHaveCount(0);
@@ -138,7 +132,7 @@ test('the research lead runs the primary comparison, reads its result, locks or 
   await expect(page.getByRole('heading', { name: 'Study report' })).toBeVisible();
   await expect(page.getByRole('heading', { name: 'Participant flow' })).toBeVisible();
   await expect(page.getByRole('region', { name: 'Intervention arm', exact: true })).toContainText('Allocated');
-  await expectNoSeriousAxeViolations(page);
+  await expectAccessible(page);
 
   await page.emulateMedia({ media: 'print' });
   await expect(page.getByRole('navigation', { name: 'Main' })).toBeHidden();

@@ -1,5 +1,5 @@
-import AxeBuilder from '@axe-core/playwright';
 import { expect, request as playwrightRequest, test, type APIRequestContext, type Page } from '@playwright/test';
+import { expectAccessible } from './support';
 
 const PASSWORD = 'evenhand-demo';
 const DEMO_STUDY = 'Lantern Reading Routine in grades 3 and 4';
@@ -17,13 +17,6 @@ async function signIn(page: Page, email: string) {
 async function signOut(page: Page) {
   await page.getByRole('button', { name: 'Sign out' }).click();
   await expect(page.getByRole('button', { name: 'Sign in' })).toBeVisible();
-}
-
-/** No serious or critical accessibility problems on the page as it is now. */
-async function expectAccessible(page: Page) {
-  const results = await new AxeBuilder({ page }).analyze();
-  const bad = results.violations.filter((v) => v.impact === 'serious' || v.impact === 'critical');
-  expect(bad.map((v) => `${v.id}: ${v.nodes.map((n) => n.target.join(' ')).join(', ')}`)).toEqual([]);
 }
 
 /** An API session for set-up, authenticated with the bearer token (no CSRF header needed). */

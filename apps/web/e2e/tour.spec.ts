@@ -187,6 +187,14 @@ const areaChecks: Partial<Record<keyof typeof areas, (v: Visit) => Promise<void>
     const study = main(page).getByRole('region', { name: DEMO_STUDY, exact: true });
     const room = study.getByRole('region', { name: 'Room 3A · Alder Street Elementary' });
     await expect(bodyRows(room.getByRole('table'))).toHaveCount(4);
+    // What to do next: the sheets the coordinator returned to this teacher (the seed returns one; a journey may fix it).
+    const [{ returned }] = await queryDatabase<{ returned: number }>(
+      `SELECT count(*)::int AS returned FROM score_sheets sh JOIN classrooms c ON c.id = sh.classroom_id JOIN users u ON u.id = c.teacher_id
+        WHERE u.email = 'teacher1@evenhand.test' AND sh.state = 'returned'`,
+    );
+    const waiting = main(page).getByRole('status').filter({ hasText: 'Waiting for you' });
+    if (returned > 0) await expect(waiting).toContainText(`${returned} sheet${returned === 1 ? ' was' : 's were'} returned by the coordinator for corrections.`);
+    else await expect(waiting).not.toContainText('returned by the coordinator');
     // Only this teacher's classrooms: both of them at Alder Street, none elsewhere.
     await expect(study.getByRole('heading', { level: 3 })).toHaveText(['Room 3A · Alder Street Elementary', 'Room 3B · Alder Street Elementary']);
     await room.getByRole('link', { name: /^View the Autumn 2025 Oral reading fluency/ }).click();
