@@ -71,14 +71,17 @@ export async function benchUpload() {
   const largeExtra = await extraRss(sheets[ROUNDS + 1].id, csvOf(ROUNDS + 1, ROWS).csv);
 
   const upload = median(uploadTimes);
-  console.log(`\nCSV upload of ${ROWS.toLocaleString('en-US')} rows into an empty sheet through POST /api/score-sheets/:id/upload (median of ${ROUNDS})`);
-  console.log(`  COPY into a table shaped like scores: ${median(likeTimes).toFixed(0)} ms`);
-  console.log(`  COPY into a bare two-column table:    ${median(bareTimes).toFixed(0)} ms`);
-  console.log(`  the upload route:                     ${upload.toFixed(0)} ms`);
-  console.log(`  ratio to COPY into the scores shape:  ${(upload / median(likeTimes)).toFixed(2)}×   (goal ≤ 5×)`);
-  console.log(`  ratio to COPY into the bare table:    ${(upload / median(bareTimes)).toFixed(2)}×`);
   const mb = (x: number) => `${(x / 2 ** 20).toFixed(0)} MB`;
-  console.log(`  extra RSS, ${(ROWS / 10).toLocaleString('en-US')} rows:             ${mb(smallExtra)}`);
-  console.log(`  extra RSS, ${ROWS.toLocaleString('en-US')} rows (${(fileBytes / 2 ** 20).toFixed(1)} MB): ${mb(largeExtra)}   (upload limit 10 MB${globalThis.gc ? '' : '; run with --expose-gc for steadier numbers'})`);
+  const lines: [string, string][] = [
+    ['COPY into a table shaped like scores', `${median(likeTimes).toFixed(0)} ms`],
+    ['COPY into a bare two-column table', `${median(bareTimes).toFixed(0)} ms`],
+    ['the upload route', `${upload.toFixed(0)} ms`],
+    ['ratio to COPY into the scores shape', `${(upload / median(likeTimes)).toFixed(2)}×   (goal ≤ 5×)`],
+    ['ratio to COPY into the bare table', `${(upload / median(bareTimes)).toFixed(2)}×`],
+    [`extra RSS, ${(ROWS / 10).toLocaleString('en-US')} rows`, mb(smallExtra)],
+    [`extra RSS, ${ROWS.toLocaleString('en-US')} rows (${(fileBytes / 2 ** 20).toFixed(1)} MB)`, `${mb(largeExtra)}   (upload limit 10 MB${globalThis.gc ? '' : '; run with --expose-gc for steadier numbers'})`],
+  ];
+  console.log(`\nCSV upload of ${ROWS.toLocaleString('en-US')} rows into an empty sheet through POST /api/score-sheets/:id/upload (median of ${ROUNDS})`);
+  for (const [label, value] of lines) console.log(`  ${`${label}:`.padEnd(40)}${value}`);
   await b.close();
 }
