@@ -4,6 +4,7 @@ import {
   pageOf,
   runSchema,
   waveSchema,
+  type ComparisonSchedule,
   type CreateComparison,
   type QueueRun,
   type Run,
@@ -78,6 +79,15 @@ export function useLockRun(studyId: string) {
       queryClient.setQueryData(comparisonKeys.detail(run.id), run);
       return queryClient.invalidateQueries({ queryKey: comparisonKeys.list(studyId) });
     },
+  });
+}
+
+export function useSetSchedule(studyId: string) {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: ({ comparisonId, input }: { comparisonId: string; input: ComparisonSchedule }) =>
+      apiRequest(`/comparisons/${comparisonId}/schedule`, { method: 'PUT', body: input, schema: comparisonSchema }),
+    onSuccess: () => queryClient.invalidateQueries({ queryKey: comparisonKeys.list(studyId) }),
   });
 }
 

@@ -8,7 +8,7 @@ import { Dialog } from '@/components/ui/dialog';
 import { EmptyState } from '@/components/ui/empty-state';
 import { Loading } from '@/components/ui/spinner';
 import { useSession } from '@/features/auth/api';
-import { comparisonChoicesQueryOptions, comparisonsQueryOptions, inProgress, runQueryOptions, useCreateComparison, useLockRun, useQueueRun } from '@/features/comparisons/api';
+import { comparisonChoicesQueryOptions, comparisonsQueryOptions, inProgress, runQueryOptions, useCreateComparison, useLockRun, useQueueRun, useSetSchedule } from '@/features/comparisons/api';
 import { AddComparisonForm } from '@/features/comparisons/components/add-comparison-form';
 import { ComparisonBadges } from '@/features/comparisons/components/comparison-badges';
 import { ComparisonCard } from '@/features/comparisons/components/comparison-card';
@@ -47,6 +47,7 @@ function useCanDownloadBundle(): boolean {
 
 function ComparisonList({ title, description, items, studyId, canRun }: { title: string; description: string; items: Comparison[]; studyId: string; canRun: boolean }) {
   const queue = useQueueRun(studyId);
+  const schedule = useSetSchedule(studyId);
   if (items.length === 0) return null;
   const headingId = `list-${title.replace(/\W+/g, '-').toLowerCase()}`;
   return (
@@ -66,6 +67,7 @@ function ComparisonList({ title, description, items, studyId, canRun }: { title:
             comparison={c}
             canRun={canRun}
             onQueue={(input) => queue.mutateAsync({ comparisonId: c.id, input })}
+            onSetSchedule={(input) => schedule.mutateAsync({ comparisonId: c.id, input })}
             queueing={mine && queue.isPending ? queue.variables!.input.kind : null}
             queueError={mine ? queue.error : null}
           />

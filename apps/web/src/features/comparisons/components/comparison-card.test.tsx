@@ -47,11 +47,19 @@ const failedRun: NonNullable<Comparison['latestRun']> = {
   multiplicity: null,
 };
 
-function renderCard(overrides: Partial<Comparison>, onQueue = vi.fn(async () => undefined)) {
+function renderCard(overrides: Partial<Comparison>, onQueue = vi.fn(async () => undefined), onSetSchedule = vi.fn(async () => undefined)) {
   render(
     <QueryClientProvider client={createQueryClient()}>
       <MemoryRouter>
-        <ComparisonCard studyId={comparison.studyId} comparison={{ ...comparison, ...overrides }} canRun onQueue={onQueue} queueError={null} queueing={null} />
+        <ComparisonCard
+          studyId={comparison.studyId}
+          comparison={{ ...comparison, ...overrides }}
+          canRun
+          onQueue={onQueue}
+          onSetSchedule={onSetSchedule}
+          queueError={null}
+          queueing={null}
+        />
       </MemoryRouter>
     </QueryClientProvider>,
   );
@@ -107,5 +115,25 @@ describe('ComparisonCard', () => {
     fireEvent.change(await screen.findByLabelText('Why are the data analysed again?'), { target: { value: 'Two sheets were corrected after the lock.' } });
     fireEvent.click(screen.getByRole('button', { name: 'Queue the re-analysis' }));
     await waitFor(() => expect(onQueue).toHaveBeenCalledWith({ kind: 'confirmatory', reason: 'Two sheets were corrected after the lock.' }));
+  });
+
+  it('when the lead schedules automatic checks, then the cron and time zone are sent, and a bad cron is explained first', async () => {
+    const onSetSchedule = vi.fn(async () => undefined);
+    renderCard({}, vi.fn(async () => undefined), onSetSchedule);
+    fireEvent.click(screen.getByRole('button', { name: 'Schedule automatic checks' }));
+    const cron = screen.getByRole('textbox', { name: /When to check/ });
+    fireEvent.change(cron, { target: { value: 'every night' } });
+    fireEvent.click(screen.getByRole('button', { name: 'Save the schedule' }));
+    expect(await screen.findByText(/Use five cron fields/)).toBeInTheDocument();
+    expect(onSetSchedule).not.toHaveBeenCalled();
+    fireEvent.change(cron, { target: { value: '0 2 * * 1-5' } });
+    fireEvent.change(screen.getByRole('textbox', { name: /Time zone/ }), { target: { value: 'America/Chicago' } });
+    fireEvent.click(screen.getByRole('button', { name: 'Save the schedule' }));
+    await waitFor(() => expect(onSetSchedule).toHaveBeenCalledWith({ scheduleCron: '0 2 * * 1-5', scheduleTimezone: 'America/Chicago' }));
+  });
+
+  it('when the result is locked, then no schedule can be set', () => {
+    renderCard({ lockedRunId: '0b8f1f8e-4d8e-4a8f-9c5e-1e2d3c4b5a69' });
+    expect(screen.queryByRole('button', { name: /automatic checks/ })).not.toBeInTheDocument();
   });
 });

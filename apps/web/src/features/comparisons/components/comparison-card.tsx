@@ -1,4 +1,4 @@
-import type { Comparison, QueueRun, Run } from '@evenhand/entities';
+import type { Comparison, ComparisonSchedule, QueueRun, Run } from '@evenhand/entities';
 import { useState } from 'react';
 import { Link } from 'react-router-dom';
 import { Button } from '@/components/ui/button';
@@ -6,6 +6,7 @@ import { Dialog } from '@/components/ui/dialog';
 import { inProgress } from '@/features/comparisons/api';
 import { ComparisonBadges, covariateLabels, unitOfAnalysisLabels } from '@/features/comparisons/components/comparison-badges';
 import { ReanalysisForm } from '@/features/comparisons/components/reanalysis-form';
+import { MonitoringScheduleForm } from '@/features/comparisons/components/monitoring-schedule-form';
 import { LatestRunLine } from '@/features/comparisons/components/run-state';
 import { formatDateTime } from '@/lib/format';
 import { runPath } from '@/lib/results';
@@ -17,12 +18,14 @@ interface ComparisonCardProps {
   /** Only the research lead queues runs; reviewers read. */
   canRun: boolean;
   onQueue: (input: QueueRun) => Promise<unknown>;
+  onSetSchedule: (input: ComparisonSchedule) => Promise<unknown>;
   queueError: Error | null;
   queueing: Run['kind'] | null;
 }
 
-export function ComparisonCard({ studyId, comparison: c, canRun, onQueue, queueError, queueing }: ComparisonCardProps) {
+export function ComparisonCard({ studyId, comparison: c, canRun, onQueue, onSetSchedule, queueError, queueing }: ComparisonCardProps) {
   const [reasonFor, setReasonFor] = useState<Run['kind'] | null>(null);
+  const [scheduling, setScheduling] = useState(false);
   const headingId = `comparison-${c.id}`;
   const busy = inProgress(c.latestRun?.state) || queueing !== null;
 
@@ -51,6 +54,11 @@ export function ComparisonCard({ studyId, comparison: c, canRun, onQueue, queueE
               {' · '}
               {c.nextMonitoringRunAt ? `next ${formatDateTime(c.nextMonitoringRunAt)}` : c.lockedRunId ? 'none now the result is locked' : 'none left in this wave'}
             </p>
+          )}
+          {canRun && !c.lockedRunId && (
+            <Button variant="secondary" size="sm" onClick={() => setScheduling(true)}>
+              {c.scheduleCron ? 'Change automatic checks' : 'Schedule automatic checks'}
+            </Button>
           )}
         </div>
         {canRun && (
@@ -96,6 +104,24 @@ export function ComparisonCard({ studyId, comparison: c, canRun, onQueue, queueE
           </p>
         )}
       </div>
+
+      <Dialog
+        open={scheduling}
+        title="Automatic monitoring checks"
+        description={`Interim checks of “${c.label}” that run by themselves while ${c.waveName} is open.`}
+        onClose={() => setScheduling(false)}
+      >
+        {scheduling && (
+          <MonitoringScheduleForm
+            comparison={c}
+            onCancel={() => setScheduling(false)}
+            onSave={async (input) => {
+              await onSetSchedule(input);
+              setScheduling(false);
+            }}
+          />
+        )}
+      </Dialog>
 
       <Dialog
         open={reasonFor !== null}
