@@ -57,14 +57,17 @@ export interface Staged {
 /**
  * Stages the rows of one write and checks them: throws a row-numbered 400 listing every problem when
  * any row is wrong, a duplicate, or registered to another classroom of the study. Nothing is written
- * to the sheet here; the staging table is dropped when the transaction ends.
+ * to the sheet here; the staging table is emptied when the transaction ends.
  */
 export async function stageRows(manager: EntityManager, sheet: SheetKeys, source: Iterable<ArrivingRow[]> | AsyncIterable<ArrivingRow[]>): Promise<Staged> {
+  // One staging table per connection, emptied at every commit: a table made and dropped per write
+  // would churn the system catalogs at every autosave.
   await manager.query(
     `CREATE TEMP TABLE IF NOT EXISTS staged_scores (
        line int NOT NULL, student_code varchar(40) NOT NULL, score numeric, left_study boolean NOT NULL, note varchar(500) NOT NULL
-     ) ON COMMIT DROP`,
+     ) ON COMMIT DELETE ROWS`,
   );
+  // A transaction may write several sheets (the demo seed does).
   await manager.query(`TRUNCATE staged_scores`);
   // Room for the sorts and hashes of a large sheet's set-wise checks, for this transaction only.
   await manager.query(`SET LOCAL work_mem = '64MB'`);
