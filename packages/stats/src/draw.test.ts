@@ -1,7 +1,7 @@
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { chiSquareSf } from './distributions.js';
-import { blockedDraw } from './draw.js';
+import { blockedDraw, sampleRanks } from './draw.js';
 
 const units = (prefix: string, n: number) => Array.from({ length: n }, (_, i) => `${prefix}-${String(i).padStart(3, '0')}`);
 
@@ -96,5 +96,38 @@ describe('blockedDraw (blocked Fisher–Yates, version 1)', () => {
     expect(() => blockedDraw({ seed: 's', blocks: [{ blockId: 'b', unitIds: ['u'] }, { blockId: 'b', unitIds: ['v'] }] })).toThrow(/appears twice/);
     expect(() => blockedDraw({ seed: 's', ratio: [1, 0], blocks: [{ blockId: 'b', unitIds: ['u'] }] })).toThrow(/ratio/);
     expect(() => blockedDraw({ seed: 's', arms: ['a', 'a'], blocks: [{ blockId: 'b', unitIds: ['u'] }] })).toThrow(/arms/);
+  });
+});
+
+describe('sampleRanks (Floyd’s sampling without replacement)', () => {
+  it('gives k distinct ranks in increasing order, the same for a seed and different between seeds', () => {
+    const r = sampleRanks(1_000_000, 5000, 'abc:intervention');
+    expect(r).toHaveLength(5000);
+    expect(new Set(r).size).toBe(5000);
+    expect(r.every((v, i) => Number.isInteger(v) && v >= 0 && v < 1_000_000 && (i === 0 || v > r[i - 1]))).toBe(true);
+    expect(sampleRanks(1_000_000, 5000, 'abc:intervention')).toEqual(r);
+    expect(sampleRanks(1_000_000, 5000, 'abc:comparison')).not.toEqual(r);
+  });
+
+  it('returns every rank when k is at least n', () => {
+    expect(sampleRanks(4, 10, 's')).toEqual([0, 1, 2, 3]);
+    expect(sampleRanks(0, 3, 's')).toEqual([]);
+  });
+
+  it('includes each rank with probability k/n: chi-square over 4 000 seeds does not reject at 0.001 (Bentley & Floyd 1987)', () => {
+    const n = 10;
+    const k = 3;
+    const seeds = 4000;
+    const hits = new Array(n).fill(0);
+    for (let s = 0; s < seeds; s++) for (const r of sampleRanks(n, k, `seed-${s}`)) hits[r]++;
+    const expected = (seeds * k) / n;
+    const chi2 = hits.reduce((t, h) => t + (h - expected) ** 2 / expected, 0);
+    expect(chiSquareSf(chi2, n - 1)).toBeGreaterThan(0.001);
+  });
+
+  it('refuses a negative or fractional size and an empty seed', () => {
+    expect(() => sampleRanks(-1, 2, 's')).toThrow(/n must be/);
+    expect(() => sampleRanks(5, 1.5, 's')).toThrow(/k must be/);
+    expect(() => sampleRanks(5, 2, '')).toThrow(/seed/);
   });
 });

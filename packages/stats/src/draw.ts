@@ -160,3 +160,22 @@ export function blockedDraw(input: DrawInput): DrawResult {
     totals,
   };
 }
+
+/**
+ * A reproducible simple random sample of k of the ranks 0…n−1, without replacement, in increasing order: Floyd's
+ * algorithm (Bentley & Floyd 1987) on seedrandom's ARC4 generator seeded with `seed`, integers drawn exactly uniform as in
+ * the draw. With k ≥ n every rank is returned. Picking ranks of the sorted values picks a random sample of the values.
+ */
+export function sampleRanks(n: number, k: number, seed: string): number[] {
+  if (!Number.isInteger(n) || n < 0) throw new StatsInputError(`sampleRanks: n must be an integer >= 0 (got ${n})`);
+  if (!Number.isInteger(k) || k < 0) throw new StatsInputError(`sampleRanks: k must be an integer >= 0 (got ${k})`);
+  if (typeof seed !== 'string' || seed.length === 0) throw new StatsInputError('sampleRanks: the seed must be a non-empty string');
+  if (k >= n) return Array.from({ length: n }, (_, i) => i);
+  const rng = seedrandom(seed);
+  const chosen = new Set<number>();
+  for (let j = n - k; j < n; j++) {
+    const t = uniformInt(rng, j + 1);
+    chosen.add(chosen.has(t) ? j : t);
+  }
+  return [...chosen].sort((a, b) => a - b);
+}

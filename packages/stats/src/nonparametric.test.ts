@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { expectClose, expectP, fixture, generate } from '../test/fixtures.js';
-import { mannWhitney } from './nonparametric.js';
+import { mannWhitney, mannWhitneyFromRanks } from './nonparametric.js';
 
 describe('mannWhitney against the SciPy fixture (scipy.stats.mannwhitneyu, tie and continuity corrected)', () => {
   for (const c of fixture.twoSample) {
@@ -62,5 +62,50 @@ describe('mannWhitney, exact distribution and identities', () => {
     expect(() => mannWhitney([1, 2], [3, 4], { method: 'permutation' as never })).toThrow(/method must be/);
     expect(() => mannWhitney([1], [3, 4])).toThrow(/group a has fewer than 2/);
     expect(() => mannWhitney([1, 2], [3, NaN])).toThrow(/group b has a non-finite/);
+  });
+});
+
+/**
+ * Group a's mid-rank sum and Σ(t³ − t) from the count of each distinct value in each group, as the database aggregates
+ * them: a value with c_a, c_b copies and `below` smaller values has mid-rank below + (c_a + c_b + 1)/2.
+ */
+function ranksFromCounts(a: ArrayLike<number>, b: ArrayLike<number>) {
+  const counts = new Map<number, [number, number]>();
+  for (const v of Array.from(a)) (counts.get(v) ?? counts.set(v, [0, 0]).get(v)!)[0]++;
+  for (const v of Array.from(b)) (counts.get(v) ?? counts.set(v, [0, 0]).get(v)!)[1]++;
+  let below = 0;
+  let rankSumA = 0;
+  let tieTerm = 0;
+  for (const v of [...counts.keys()].sort((x, y) => x - y)) {
+    const [ca, cb] = counts.get(v)!;
+    const t = ca + cb;
+    rankSumA += ca * (below + (t + 1) / 2);
+    tieTerm += t * t * t - t;
+    below += t;
+  }
+  return { n1: a.length, n2: b.length, rankSumA, tieTerm };
+}
+
+describe('mannWhitneyFromRanks against the SciPy fixture (scipy.stats.mannwhitneyu) and mannWhitney on the values', () => {
+  for (const c of fixture.twoSample) {
+    it(`${c.id} from its rank sum and ties`, () => {
+      const a = generate(c.a);
+      const b = generate(c.b);
+      const ref = c.expected.mannWhitney;
+      const r = mannWhitneyFromRanks(ranksFromCounts(a, b), { alternative: c.alternative });
+      expect(r.method).toBe(ref.method);
+      expect(r.u).toBe(ref.u);
+      expectP(r.p, ref.p, `${c.id} p`);
+      const fromValues = mannWhitney(a, b, { alternative: c.alternative });
+      expect(r.z).toBe(fromValues.z);
+      expect(r.p).toBe(fromValues.p);
+    });
+  }
+
+  it('refuses rank sums outside what the group sizes allow (identity: n₁(n₁+1)/2 ≤ R_a ≤ that + n₁n₂)', () => {
+    expect(() => mannWhitneyFromRanks({ n1: 3, n2: 3, rankSumA: 5, tieTerm: 0 })).toThrow(/between 6 and 15/);
+    expect(() => mannWhitneyFromRanks({ n1: 3, n2: 3, rankSumA: 16, tieTerm: 0 })).toThrow(/between 6 and 15/);
+    expect(() => mannWhitneyFromRanks({ n1: 1, n2: 3, rankSumA: 1, tieTerm: 0 })).toThrow(/n1 must be an integer >= 2/);
+    expect(() => mannWhitneyFromRanks({ n1: 3, n2: 3, rankSumA: 6, tieTerm: -1 })).toThrow(/tieTerm/);
   });
 });

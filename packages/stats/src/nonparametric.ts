@@ -1,6 +1,6 @@
 import { normalCdf, normalSf } from './distributions.js';
 import { StatsInputError } from './errors.js';
-import { checkOptions, readAlternative, type Alternative, type Sample } from './input.js';
+import { checkOptions, readAlternative, requireFiniteNumber, requireInteger, requireNonNegative, type Alternative, type Sample } from './input.js';
 import { copyChecked } from './select.js';
 
 export type MannWhitneyMethod = 'auto' | 'exact' | 'normal';
@@ -69,14 +69,8 @@ function exactSf(u: number, m: number, n: number): number {
 export function mannWhitney(a: Sample, b: Sample, opts?: MannWhitneyOptions): MannWhitneyResult {
   const o = checkOptions(opts, ['alternative', 'method', 'continuity'], 'mannWhitney');
   const alternative = readAlternative(o.alternative, 'mannWhitney');
-  const method = o.method ?? 'auto';
-  if (method !== 'auto' && method !== 'exact' && method !== 'normal') {
-    throw new StatsInputError(`mannWhitney: method must be 'auto', 'exact' or 'normal' (got ${String(method)})`);
-  }
-  if (o.continuity !== undefined && typeof o.continuity !== 'boolean') {
-    throw new StatsInputError('mannWhitney: continuity must be true or false');
-  }
-  const continuity = o.continuity ?? true;
+  const method = readMethod(o.method);
+  const continuity = readContinuity(o.continuity);
   const xa = copyChecked(a, 'group a');
   const xb = copyChecked(b, 'group b');
   const n1 = xa.length;
@@ -100,6 +94,54 @@ export function mannWhitney(a: Sample, b: Sample, opts?: MannWhitneyOptions): Ma
     if (t > 1) tieTerm += t * t * t - t;
     i = j;
   }
+  return fromRanks(n1, n2, rankSumA, tieTerm, alternative, method, continuity);
+}
+
+/** What U needs from the data: the group sizes, group a's sum of mid-ranks and the tie term Σ(t³ − t) over runs of ties. */
+export interface RankSums {
+  n1: number;
+  n2: number;
+  rankSumA: number;
+  tieTerm: number;
+}
+
+/**
+ * Mann–Whitney U from rank sums rather than values, with the same formulas, tie correction and choice of method as
+ * mannWhitney (Mann & Whitney 1947; Lehmann 1975 §1.4). For data too large to hold: the rank sum and the ties follow from
+ * the count of each distinct value in each group, which a database can aggregate.
+ */
+export function mannWhitneyFromRanks(r: RankSums, opts?: MannWhitneyOptions): MannWhitneyResult {
+  const o = checkOptions(opts, ['alternative', 'method', 'continuity'], 'mannWhitneyFromRanks');
+  const alternative = readAlternative(o.alternative, 'mannWhitneyFromRanks');
+  const method = readMethod(o.method);
+  const continuity = readContinuity(o.continuity);
+  if (r === null || typeof r !== 'object') throw new StatsInputError('mannWhitneyFromRanks needs { n1, n2, rankSumA, tieTerm }');
+  const n1 = requireInteger(r.n1, 'n1', 2);
+  const n2 = requireInteger(r.n2, 'n2', 2);
+  const rankSumA = requireFiniteNumber(r.rankSumA, 'rankSumA');
+  const tieTerm = requireNonNegative(r.tieTerm, 'tieTerm');
+  const low = (n1 * (n1 + 1)) / 2;
+  if (rankSumA < low || rankSumA > low + n1 * n2) {
+    throw new StatsInputError(`mannWhitneyFromRanks: rankSumA must lie between ${low} and ${low + n1 * n2} (got ${rankSumA})`);
+  }
+  return fromRanks(n1, n2, rankSumA, tieTerm, alternative, method, continuity);
+}
+
+function readMethod(method: unknown): MannWhitneyMethod {
+  const m = method ?? 'auto';
+  if (m !== 'auto' && m !== 'exact' && m !== 'normal') {
+    throw new StatsInputError(`mannWhitney: method must be 'auto', 'exact' or 'normal' (got ${String(m)})`);
+  }
+  return m;
+}
+
+function readContinuity(continuity: unknown): boolean {
+  if (continuity !== undefined && typeof continuity !== 'boolean') throw new StatsInputError('mannWhitney: continuity must be true or false');
+  return continuity ?? true;
+}
+
+function fromRanks(n1: number, n2: number, rankSumA: number, tieTerm: number, alternative: Alternative, method: MannWhitneyMethod, continuity: boolean): MannWhitneyResult {
+  const total = n1 + n2;
   const hasTies = tieTerm > 0;
   const u1 = rankSumA - (n1 * (n1 + 1)) / 2;
   const u2 = n1 * n2 - u1;

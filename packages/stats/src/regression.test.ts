@@ -2,7 +2,7 @@ import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { expectClose, expectP, expectStat, fixture, generate } from '../test/fixtures.js';
 import { hedgesG } from './effect-size.js';
-import { ancova, ols, oneWayAnova } from './regression.js';
+import { ancova, ancovaFromSummaries, mergePairedSummaries, ols, oneWayAnova, type PairedSummary } from './regression.js';
 import { studentT } from './ttest.js';
 
 describe('ols against the statsmodels fixture (sm.OLS; exact rational normal equations as cross-check)', () => {
@@ -121,5 +121,71 @@ describe('input validation', () => {
     const noIntercept = ols([2, 4, 6.1], [[1], [2], [3]], { intercept: false });
     expect(noIntercept.coefficients).toHaveLength(1);
     expect(noIntercept.intercept).toBe(false);
+  });
+});
+
+/** One arm's paired summary by two plain passes. */
+function pairedOf(y: number[], x: number[]): PairedSummary {
+  const n = y.length;
+  const meanY = y.reduce((p, v) => p + v, 0) / n;
+  const meanX = x.reduce((p, v) => p + v, 0) / n;
+  let syy = 0;
+  let sxx = 0;
+  let sxy = 0;
+  for (let i = 0; i < n; i++) {
+    syy += (y[i] - meanY) ** 2;
+    sxx += (x[i] - meanX) ** 2;
+    sxy += (y[i] - meanY) * (x[i] - meanX);
+  }
+  return { n, meanY, meanX, syy, sxx, sxy };
+}
+
+function armsOf(c: { y: number[]; X: number[][] }) {
+  const pick = (arm: number) => {
+    const rows = c.X.map((row, i) => ({ arm: row[0], x: row[1], y: c.y[i] })).filter((r) => r.arm === arm);
+    return { y: rows.map((r) => r.y), x: rows.map((r) => r.x) };
+  };
+  return { intervention: pick(1), comparison: pick(0) };
+}
+
+describe('ancovaFromSummaries against the statsmodels fixture and ancova on the rows', () => {
+  for (const c of fixture.regression.filter((x) => x.id.startsWith('ancova-') && x.X[0].length === 2)) {
+    it(`${c.id} from each arm's sums of squares and products`, () => {
+      const { intervention, comparison } = armsOf(c);
+      const r = ancovaFromSummaries(pairedOf(intervention.y, intervention.x), pairedOf(comparison.y, comparison.x));
+      expectStat(r.adjustedDifference, c.expected.coefficients[1], 'adjusted difference', 1e-10, 1e-12);
+      expectStat(r.covariateSlopes[0], c.expected.coefficients[2], 'slope', 1e-10, 1e-12);
+      expectStat(r.se, c.expected.se[1], 'se');
+      expectStat(r.covariateSes[0], c.expected.se[2], 'slope se');
+      expectStat(r.t, c.expected.t[1], 't');
+      expectP(r.p, c.expected.p[1], 'p');
+      expectStat(r.r2, c.expected.r2, 'R²');
+      expect(r.df).toBe(c.expected.df);
+      const rows = ancova(c.y, c.X.map((row) => row[0]), c.X.map((row) => row[1]));
+      expectClose(r.g, rows.g, 1e-10, 1e-12, 'g');
+      expectClose(r.ci[0], rows.ci[0], 1e-10, 1e-12, 'ci low');
+      expectClose(r.ci[1], rows.ci[1], 1e-10, 1e-12, 'ci high');
+      expect([r.n1, r.n2]).toEqual([rows.n1, rows.n2]);
+    });
+  }
+
+  it('merging the summaries of parts equals the summary of the whole (identity)', () => {
+    const c = fixture.regression.find((x) => x.id === 'ancova-scores-near-1000')!;
+    const { intervention } = armsOf(c);
+    const whole = pairedOf(intervention.y, intervention.x);
+    const parts = [0, 7, 8, 19, intervention.y.length].slice(1).map((end, i, ends) => {
+      const start = i === 0 ? 0 : ends[i - 1];
+      return pairedOf(intervention.y.slice(start, end), intervention.x.slice(start, end));
+    });
+    const merged = mergePairedSummaries(parts);
+    expect(merged.n).toBe(whole.n);
+    for (const key of ['meanY', 'meanX', 'syy', 'sxx', 'sxy'] as const) expectClose(merged[key], whole[key], 1e-12, 1e-9, key);
+  });
+
+  it('refuses a covariate constant within both arms and arms of one pair', () => {
+    const flat = { n: 5, meanY: 3, meanX: 1, syy: 4, sxx: 0, sxy: 0 };
+    expect(() => ancovaFromSummaries(flat, flat)).toThrow(/constant within both arms/);
+    expect(() => ancovaFromSummaries({ ...flat, n: 1 }, { ...flat, sxx: 2 })).toThrow(/intervention.n must be an integer >= 2/);
+    expect(() => mergePairedSummaries([])).toThrow(/at least one/);
   });
 });

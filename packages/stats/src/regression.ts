@@ -312,6 +312,110 @@ export function ancova(y: Sample, arm: ArrayLike<number | boolean>, covariate?: 
   };
 }
 
+/** Sufficient statistics of (outcome y, covariate x) pairs: count, means, and sums of squares and products about the means. */
+export interface PairedSummary {
+  n: number;
+  meanY: number;
+  meanX: number;
+  syy: number;
+  sxx: number;
+  sxy: number;
+}
+
+/**
+ * Combines the paired summaries of disjoint parts, pairwise in a balanced tree: with δ = means_b − means_a,
+ * S_uv = S_uv,a + S_uv,b + δ_u δ_v n_a n_b / n (Chan, Golub & LeVeque 1979; for co-moments, Pébay 2008, SAND2008-6212).
+ */
+export function mergePairedSummaries(parts: readonly PairedSummary[]): PairedSummary {
+  if (!Array.isArray(parts) || parts.length === 0) throw new StatsInputError('mergePairedSummaries needs at least one summary');
+  let level = parts.map((p, i) => checkPaired(p, `part ${i + 1}`, 1));
+  while (level.length > 1) {
+    const next: PairedSummary[] = [];
+    for (let i = 0; i + 1 < level.length; i += 2) {
+      const a = level[i];
+      const b = level[i + 1];
+      const n = a.n + b.n;
+      const dy = b.meanY - a.meanY;
+      const dx = b.meanX - a.meanX;
+      const w = (a.n / n) * b.n;
+      next.push({
+        n,
+        meanY: a.meanY + (dy * b.n) / n,
+        meanX: a.meanX + (dx * b.n) / n,
+        syy: a.syy + b.syy + dy * dy * w,
+        sxx: a.sxx + b.sxx + dx * dx * w,
+        sxy: a.sxy + b.sxy + dy * dx * w,
+      });
+    }
+    if (level.length % 2 === 1) next.push(level[level.length - 1]);
+    level = next;
+  }
+  return level[0];
+}
+
+function checkPaired(s: PairedSummary, label: string, min: number): PairedSummary {
+  if (s === null || typeof s !== 'object') throw new StatsInputError(`${label} must be { n, meanY, meanX, syy, sxx, sxy }`);
+  if (!Number.isInteger(s.n) || s.n < min) throw new StatsInputError(`${label}.n must be an integer >= ${min} (got ${s.n})`);
+  for (const key of ['meanY', 'meanX', 'sxy'] as const) {
+    if (!Number.isFinite(s[key])) throw new StatsInputError(`${label}.${key} must be finite (got ${s[key]})`);
+  }
+  for (const key of ['syy', 'sxx'] as const) {
+    if (!Number.isFinite(s[key]) || s[key] < 0) throw new StatsInputError(`${label}.${key} must be finite and >= 0 (got ${s[key]})`);
+  }
+  return s;
+}
+
+/**
+ * ANCOVA with one covariate from each arm's paired summary instead of the rows; the same model and result as ancova with
+ * one covariate. With pooled within-arm sums E_xx = Σ S_xx, E_xy, E_yy: slope b = E_xy/E_xx, adjusted difference
+ * (ȳ₁ − ȳ₂) − b(x̄₁ − x̄₂), RSS = E_yy − E_xy²/E_xx on n − 3 df, Var = σ̂²[1/n₁ + 1/n₂ + (x̄₁ − x̄₂)²/E_xx]
+ * (Snedecor & Cochran 1989 §18.3); g as in ancova (WWC tools 2009 — V).
+ */
+export function ancovaFromSummaries(intervention: PairedSummary, comparison: PairedSummary, opts?: AncovaOptions): AncovaResult {
+  const o = checkOptions(opts, ['alternative', 'confidence', 'correction'], 'ancovaFromSummaries');
+  const alternative = readAlternative(o.alternative, 'ancovaFromSummaries');
+  const confidence = readConfidence(o.confidence, 'ancovaFromSummaries');
+  const a = checkPaired(intervention, 'intervention', 2);
+  const b = checkPaired(comparison, 'comparison', 2);
+  const n = a.n + b.n;
+  if (n < 4) throw new StatsInputError(`ancova: needs at least 4 pairs (got ${n})`);
+  const exx = a.sxx + b.sxx;
+  const exy = a.sxy + b.sxy;
+  const eyy = a.syy + b.syy;
+  // The QR path refuses the same case: a covariate constant within both arms is collinear with the arm.
+  if (!(exx > 0)) throw new StatsInputError('ancova: covariate 1 is constant within both arms, so its slope is undefined');
+  const slope = exy / exx;
+  const dx = a.meanX - b.meanX;
+  const diff = a.meanY - b.meanY - slope * dx;
+  const rss = Math.max(0, eyy - slope * exy);
+  const df = n - 3;
+  const sigma2 = rss / df;
+  const seDiff = Math.sqrt(sigma2 * (1 / a.n + 1 / b.n + (dx * dx) / exx));
+  const t = diff / seDiff;
+  const dy = a.meanY - b.meanY;
+  const tss = eyy + ((a.n * b.n) / n) * dy * dy;
+  const pooledSd = Math.sqrt(eyy / (n - 2));
+  if (!(pooledSd > 0)) throw new StatsInputError('ancova: the outcome has zero variance within both arms');
+  const j = hedgesCorrection(n - 2, o.correction ?? 'exact');
+  return {
+    adjustedDifference: diff,
+    se: seDiff,
+    t,
+    df,
+    p: tPValue(t, df, alternative),
+    ci: tInterval(diff, seDiff, df, confidence, alternative),
+    confidence,
+    alternative,
+    covariateSlopes: [slope],
+    covariateSes: [Math.sqrt(sigma2 / exx)],
+    r2: 1 - rss / tss,
+    n1: a.n,
+    n2: b.n,
+    g: (j * diff) / pooledSd,
+    pooledSd,
+  };
+}
+
 function isListOfSamples(c: Sample | readonly Sample[]): c is readonly Sample[] {
   return Array.isArray(c) && c.length > 0 && typeof c[0] === 'object' && c[0] !== null;
 }

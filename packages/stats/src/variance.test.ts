@@ -2,7 +2,8 @@ import { describe, expect, it } from 'vitest';
 import { expectClose, expectP, expectStat, fixture, generate } from '../test/fixtures.js';
 import { fQuantile, fSf } from './distributions.js';
 import { StatsInputError } from './errors.js';
-import { levene, varianceRatioF, varianceRatioFFromSummary } from './variance.js';
+import { summarize } from './summary.js';
+import { levene, leveneFromDeviations, varianceRatioF, varianceRatioFFromSummary } from './variance.js';
 
 /** Straightforward Levene/Brown–Forsythe by sorting and two passes — the reference for the single-pass large-n path. */
 function naiveLevene(groups: Float64Array[], center: 'mean' | 'median'): number {
@@ -138,5 +139,62 @@ describe('input validation', () => {
   it('varianceRatioF names the group with zero variance', () => {
     expect(() => varianceRatioF([1, 2, 3], [4, 4, 4])).toThrow(/group b has zero variance/);
     expect(() => varianceRatioF([4, 4], [1, 2])).toThrow(/group a has zero variance/);
+  });
+});
+
+/**
+ * Per group: n, Σ|x − c|/n and Σ(|x − c| − mean)², c the group's mean (with its rounding residual, from summarize) or
+ * median, by compensated sums (Neumaier 1974) and a corrected second pass, as the database's exact sums would give.
+ */
+function deviationsOf(x: Float64Array, center: 'mean' | 'median') {
+  const s = Float64Array.from(x).sort();
+  const n = s.length;
+  const m = summarize(x);
+  const [c, r] = center === 'median' ? [n % 2 ? s[(n - 1) / 2] : (s[n / 2 - 1] + s[n / 2]) / 2, 0] : [m.mean, m.meanResidual ?? 0];
+  const sum = (f: (v: number) => number) => {
+    let t = 0;
+    let e = 0;
+    for (const v of x) {
+      const y = f(v);
+      const u = t + y;
+      e += Math.abs(t) >= Math.abs(y) ? t - u + y : y - u + t;
+      t = u;
+    }
+    return t + e;
+  };
+  const z = (v: number) => Math.abs(v - c - r);
+  const first = sum(z) / n;
+  const correction = sum((v) => z(v) - first);
+  const meanDeviation = first + correction / n;
+  return { n, meanDeviation, ssDeviation: sum((v) => (z(v) - meanDeviation) ** 2) };
+}
+
+describe('leveneFromDeviations against the SciPy fixture (scipy.stats.levene) and levene on the values', () => {
+  for (const c of fixture.twoSample) {
+    it(`${c.id} from each group's absolute deviations`, () => {
+      const a = generate(c.a);
+      const b = generate(c.b);
+      for (const center of ['mean', 'median'] as const) {
+        const ref = c.expected.levene[center];
+        const groups = [deviationsOf(a, center), deviationsOf(b, center)];
+        if (ref === null) {
+          expect(() => leveneFromDeviations(groups, center)).toThrow(StatsInputError);
+          continue;
+        }
+        const r = leveneFromDeviations(groups, center);
+        expectStat(r.statistic, ref.statistic, `${c.id} ${center} W`);
+        expectP(r.p, ref.p, `${c.id} ${center} p`);
+        expect(r.df2).toBe(c.n1 + c.n2 - 2);
+        expectClose(r.statistic, levene([a, b], { center }).statistic, 1e-10, 1e-12, `${c.id} ${center} against levene`);
+      }
+    });
+  }
+
+  it('refuses a group of one, negative sums and an unknown centre', () => {
+    const ok = { n: 5, meanDeviation: 1, ssDeviation: 2 };
+    expect(() => leveneFromDeviations([ok, { ...ok, n: 1 }], 'mean')).toThrow(/group 2.n must be an integer >= 2/);
+    expect(() => leveneFromDeviations([ok, { ...ok, ssDeviation: -1 }], 'median')).toThrow(/ssDeviation/);
+    expect(() => leveneFromDeviations([ok, ok], 'trimmed' as never)).toThrow(/center must be/);
+    expect(() => leveneFromDeviations([ok], 'mean')).toThrow(/at least 2 groups/);
   });
 });

@@ -1,6 +1,6 @@
 import { fCdf, fSf } from './distributions.js';
 import { StatsInputError } from './errors.js';
-import { checkOptions, describeNonFinite, requirePlainNumbers, requireSample, type Sample } from './input.js';
+import { checkOptions, describeNonFinite, requireInteger, requireNonNegative, requirePlainNumbers, requireSample, type Sample } from './input.js';
 import { copyChecked, finishBand, planBand, selectInPlace, SMALL } from './select.js';
 import { checkGroupSummary, moments, type GroupSummary } from './summary.js';
 
@@ -223,7 +223,35 @@ export function levene(groups: readonly Sample[], opts?: { center?: LeveneCenter
     throw new StatsInputError(`levene: center must be 'mean' or 'median' (got ${String(center)})`);
   }
   if (!Array.isArray(groups) || groups.length < 2) throw new StatsInputError('levene needs at least 2 groups');
-  const dev = groups.map((g, i) => groupDeviations(g, `group ${i + 1}`, center));
+  return fromDeviations(groups.map((g, i) => groupDeviations(g, `group ${i + 1}`, center)), center);
+}
+
+/** One group's absolute deviations z = |x − centre|: their count, mean, and sum of squares about that mean. */
+export interface AbsoluteDeviations {
+  n: number;
+  meanDeviation: number;
+  ssDeviation: number;
+}
+
+/**
+ * Levene's (or Brown–Forsythe's) W from each group's absolute deviations about its centre rather than from the values,
+ * with the same formula as levene (Levene 1960; Brown & Forsythe 1974). For groups too large to hold: Σ|x − c| and
+ * Σ(x − c)² per group give the mean deviation and, as Σ(x − c)² − (Σ|x − c|)²/n, its sum of squares.
+ */
+export function leveneFromDeviations(groups: readonly AbsoluteDeviations[], center: LeveneCenter): LeveneResult {
+  if (center !== 'mean' && center !== 'median') throw new StatsInputError(`leveneFromDeviations: center must be 'mean' or 'median' (got ${String(center)})`);
+  if (!Array.isArray(groups) || groups.length < 2) throw new StatsInputError('levene needs at least 2 groups');
+  return fromDeviations(
+    groups.map((g, i) => ({
+      n: requireInteger(g?.n, `group ${i + 1}.n`, 2),
+      zMean: requireNonNegative(g.meanDeviation, `group ${i + 1}.meanDeviation`),
+      zSs: requireNonNegative(g.ssDeviation, `group ${i + 1}.ssDeviation`),
+    })),
+    center,
+  );
+}
+
+function fromDeviations(dev: Deviations[], center: LeveneCenter): LeveneResult {
   const k = dev.length;
   let total = 0;
   let sumZ = 0;
