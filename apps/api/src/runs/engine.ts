@@ -2,14 +2,14 @@ import {
   ENGINE_VERSION,
   DEFAULT_ICC_ACHIEVEMENT,
   DEFAULT_ICC_BEHAVIOR,
-  ancova,
+  ancovaFromSummaries,
   clusterAdjusted,
   hedgesGFromSummary,
   iccFromSummaries,
   improvementIndex,
   isSubstantivelyImportant,
-  levene,
-  mannWhitney,
+  leveneFromDeviations,
+  mannWhitneyFromRanks,
   mergeAllSummaries,
   randomEffects,
   shapiroWilk,
@@ -20,7 +20,7 @@ import {
   type Summary,
 } from '@evenhand/stats';
 import { arms, type Arm, type PlanContent, type RunResults } from '@evenhand/entities';
-import type { ClassroomAggregate, Gathered } from './gather.js';
+import { NORMALITY_SAMPLE, type ClassroomAggregate, type Gathered } from './gather.js';
 
 export interface AnalysisContext {
   kind: 'monitoring' | 'confirmatory';
@@ -122,36 +122,39 @@ export function analyse(ctx: AnalysisContext, data: Gathered): RunResults {
     };
   }
 
-  // Distribution-based checks need every value; they are bounded so memory stays flat.
+  // Rank, spread and normality checks from what SQL aggregated over the distinct scores; ANCOVA from paired sums.
   let mw: RunResults['sensitivity']['mannWhitney'] = null;
   let leveneMean: RunResults['diagnostics']['leveneMean'] = null;
   let leveneMedian: RunResults['diagnostics']['leveneMedian'] = null;
   let shapiro: RunResults['diagnostics']['shapiroWilk'] = null;
   let adjusted: RunResults['sensitivity']['ancova'] = null;
-  if (data.values) {
-    const v1 = data.values.intervention;
-    const v2 = data.values.comparison;
-    const m = mannWhitney(v1, v2, { alternative: plan.alternative });
+  const v1 = data.values.intervention;
+  const v2 = data.values.comparison;
+  if (v1 && v2 && v1.n >= 2 && v2.n >= 2 && data.ranks) {
+    const m = mannWhitneyFromRanks({ n1: v1.n, n2: v2.n, ...data.ranks }, { alternative: plan.alternative });
     mw = { u: m.u, z: m.z, p: m.p, method: m.method };
-    const lm = levene([v1, v2], { center: 'mean' });
-    const lmed = levene([v1, v2], { center: 'median' });
+    const lm = leveneFromDeviations([v1.deviations.mean, v2.deviations.mean], 'mean');
+    const lmed = leveneFromDeviations([v1.deviations.median, v2.deviations.median], 'median');
     leveneMean = { statistic: lm.statistic, df1: lm.df1, df2: lm.df2, p: lm.p };
     leveneMedian = { statistic: lmed.statistic, df1: lmed.df1, df2: lmed.df2, p: lmed.p };
-    if (v1.length >= 3 && v1.length <= 5000 && v2.length >= 3 && v2.length <= 5000) {
-      shapiro = arms.map((arm) => ({ arm, ...shapiroWilk(data.values![arm]) }));
-    } else notes.push('Shapiro–Wilk is defined for 3 to 5 000 values per arm; it was not computed.');
-    if (ctx.comparison.covariate === 'baseline' && data.pairs) {
-      const rows = [...data.pairs.intervention.map((p) => [1, ...p]), ...data.pairs.comparison.map((p) => [0, ...p])];
-      const n1 = data.pairs.intervention.length;
-      const n2 = data.pairs.comparison.length;
-      if (n1 >= 2 && n2 >= 2) {
-        const r = ancova(rows.map((x) => x[1]), rows.map((x) => x[0]), rows.map((x) => x[2]), ci95);
-        adjusted = { adjustedDifference: r.adjustedDifference, se: r.se, t: r.t, df: r.df, p: r.p, ci: r.ci, g: r.g, n: n1 + n2 };
-        if (n1 + n2 < a.n + b.n) notes.push(`The baseline adjustment uses the ${n1 + n2} students who also have a baseline score.`);
-      } else notes.push('Too few students have a baseline score for the baseline-adjusted estimate.');
-    }
-  } else {
-    notes.push(`With more than ${data.analysed.toLocaleString('en-US')} students, rank, median and normality checks and the baseline adjustment are not computed.`);
+    if (v1.n >= 3 && v2.n >= 3) {
+      shapiro = arms.map((arm) => ({ arm, ...shapiroWilk(data.values[arm]!.normalitySample) }));
+      const sampled = arms.filter((arm) => data.values[arm]!.n > NORMALITY_SAMPLE);
+      if (sampled.length) {
+        notes.push(
+          `Shapiro–Wilk is validated for 3 to ${NORMALITY_SAMPLE.toLocaleString('en-US')} values (Royston 1995), so in the ${sampled.map((a) => armLabel[a]).join(' and ')} arm it was computed on ${NORMALITY_SAMPLE.toLocaleString('en-US')} students drawn at random without replacement, a common practice: the ranks of the sorted outcomes come from Floyd's algorithm seeded with the data hash, a colon and the arm, so anyone can draw the same sample from the bundle.`,
+        );
+      }
+    } else notes.push('Shapiro–Wilk needs at least 3 values per arm; it was not computed.');
+  } else notes.push('Each arm needs at least 2 student rows for the rank and spread checks; they were not computed.');
+  if (ctx.comparison.covariate === 'baseline' && data.pairs) {
+    const p1 = data.pairs.intervention;
+    const p2 = data.pairs.comparison;
+    if (p1 && p2 && p1.n >= 2 && p2.n >= 2) {
+      const r = ancovaFromSummaries(p1, p2, ci95);
+      adjusted = { adjustedDifference: r.adjustedDifference, se: r.se, t: r.t, df: r.df, p: r.p, ci: r.ci, g: r.g, n: p1.n + p2.n };
+      if (p1.n + p2.n < data.analysed) notes.push(`The baseline adjustment uses the ${p1.n + p2.n} students who also have a baseline score.`);
+    } else notes.push('Too few students have a baseline score for the baseline-adjusted estimate.');
   }
   if (data.classrooms.some((c) => c.fromSummary)) notes.push('Some classrooms reported only a summary (n, mean, SD); they count in the t tests and effect sizes but not in rank, median, normality or baseline-adjusted checks.');
 
@@ -201,7 +204,7 @@ export function analyse(ctx: AnalysisContext, data: Gathered): RunResults {
     alpha: plan.alpha,
     descriptives: arms.map((arm) => {
       const s = arm === 'intervention' ? a : b;
-      const q = data.quantiles[arm];
+      const q = data.values[arm]?.quantiles ?? null;
       return {
         arm,
         classrooms: perClass(arm).length,

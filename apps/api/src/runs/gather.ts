@@ -1,11 +1,13 @@
 import type { EntityManager } from 'typeorm';
+import { createHash } from 'node:crypto';
+import { mergePairedSummaries, sampleRanks, type PairedSummary } from '@evenhand/stats';
 import type { Arm } from '@evenhand/entities';
 
 /** Which sheets a run reads: a confirmatory run only accepted ones; monitoring also those awaiting review. */
 export const sheetStatesFor = (kind: 'monitoring' | 'confirmatory') => (kind === 'confirmatory' ? ['accepted'] : ['accepted', 'submitted']);
 
-/** Above this many analysed students, the statistics that need every value (ranks, medians, normality, ANCOVA) are skipped and the run says so. */
-export const VALUE_LIMIT = 50_000;
+/** Shapiro–Wilk's approximation is validated for 3 to 5 000 values (Royston 1995); larger arms are tested on a seeded sample of this size. */
+export const NORMALITY_SAMPLE = 5000;
 
 export interface ClassroomAggregate {
   classroomId: string;
@@ -21,14 +23,25 @@ export interface ClassroomAggregate {
   fromSummary: boolean;
 }
 
+/** What the value-based statistics need from one arm, aggregated in SQL over the count of each distinct score. */
+export interface ArmValues {
+  n: number;
+  quantiles: [number, number, number, number, number];
+  /** Absolute deviations from the arm's mean and median: their mean and sum of squares (Levene, Brown–Forsythe). */
+  deviations: Record<'mean' | 'median', { n: number; meanDeviation: number; ssDeviation: number }>;
+  /** Sorted outcome values for Shapiro–Wilk: all of them up to NORMALITY_SAMPLE, else a seeded sample of that many. */
+  normalitySample: number[];
+}
+
 export interface Gathered {
   sheetIds: string[];
   classrooms: ClassroomAggregate[];
-  quantiles: Record<Arm, [number, number, number, number, number] | null>;
-  /** Per-student outcome values by arm, only when there are at most VALUE_LIMIT of them. */
-  values: Record<Arm, number[]> | null;
-  /** (outcome, pretest) pairs by arm for the ANCOVA, same limit. */
-  pairs: Record<Arm, [number, number][]> | null;
+  /** Per arm, null when the arm has no student rows. */
+  values: Record<Arm, ArmValues | null>;
+  /** Group a (intervention) mid-rank sum and Σ(t³ − t) over the pooled rows, for Mann–Whitney. */
+  ranks: { rankSumA: number; tieTerm: number } | null;
+  /** (outcome, baseline) pairs per arm as paired summaries, null without a baseline. */
+  pairs: Record<Arm, PairedSummary | null> | null;
   dataSha256: string;
   analysed: number;
 }
@@ -42,17 +55,22 @@ interface Scope {
 }
 
 /**
- * Reads what a run needs inside PostgreSQL: per-classroom count, mean and M2 by SQL aggregates, quartiles per arm,
- * and the SHA-256 of the canonical input rows; the per-student values come only when the count is bounded.
+ * Reads what a run needs inside PostgreSQL, in two passes over the outcome scores: per classroom the count, mean, M2,
+ * baseline pairs' sums and the digest of its canonical rows; then, over the count of each distinct score per arm, the
+ * ranks, quartiles, absolute deviations and the values of a bounded normality sample. Node never holds every row.
  */
 export async function gather(manager: EntityManager, scope: Scope): Promise<Gathered> {
+  // Per-classroom sorts and the distinct-score table stay in memory; JIT compiling these plans costs more than it saves.
+  await manager.query(`SET LOCAL work_mem = '64MB'`);
+  await manager.query(`SET LOCAL jit = off`);
   const p = [scope.studyId, scope.waveId, scope.measureId, scope.states];
-  const sheets: { id: string }[] = await manager.query(
-    `SELECT id FROM score_sheets WHERE study_id = $1 AND wave_id = $2 AND measure_id = $3 AND state = ANY($4) ORDER BY id`,
+  const sheets: { id: string; classroom_id: string; mode: string; arm: Arm | null }[] = await manager.query(
+    `SELECT sh.id, sh.classroom_id, sh.mode, c.arm FROM score_sheets sh JOIN classrooms c ON c.id = sh.classroom_id
+      WHERE sh.study_id = $1 AND sh.wave_id = $2 AND sh.measure_id = $3 AND sh.state = ANY($4) ORDER BY sh.id`,
     p,
   );
-  const baselineSheets: { id: string }[] = scope.baselineWaveId
-    ? await manager.query(`SELECT id FROM score_sheets WHERE study_id = $1 AND wave_id = $2 AND measure_id = $3 AND state = ANY($4) ORDER BY id`, [
+  const baselineSheets: { id: string; classroom_id: string }[] = scope.baselineWaveId
+    ? await manager.query(`SELECT id, classroom_id FROM score_sheets WHERE study_id = $1 AND wave_id = $2 AND measure_id = $3 AND state = ANY($4) ORDER BY id`, [
         scope.studyId,
         scope.baselineWaveId,
         scope.measureId,
@@ -66,103 +84,196 @@ export async function gather(manager: EntityManager, scope: Scope): Promise<Gath
     site_name: string;
     arm: Arm;
     allocated: number;
-    n: number;
-    mean: number | null;
-    m2: number | null;
-    from_summary: boolean;
+    summary_n: number | null;
+    summary_mean: number | null;
+    summary_m2: number | null;
   }[] = await manager.query(
-    `WITH sh AS (SELECT * FROM score_sheets WHERE study_id = $1 AND wave_id = $2 AND measure_id = $3 AND state = ANY($4)),
-          agg AS (
-            SELECT x.classroom_id, count(*)::int AS n, avg(x.score::float8) AS mean, (var_pop(x.score::float8) * count(*)) AS m2
-              FROM scores x JOIN sh ON sh.id = x.sheet_id WHERE x.score IS NOT NULL AND sh.mode = 'rows'
-             GROUP BY x.classroom_id),
+    `WITH sh AS (SELECT * FROM score_sheets WHERE study_id = $1 AND wave_id = $2 AND measure_id = $3 AND state = ANY($4) AND mode = 'summary'),
           -- One pass over the registry: the students table has no index by classroom, so a per-classroom count scanned it 8 000 times.
           allocated AS (SELECT classroom_id, count(*) AS allocated FROM students WHERE study_id = $1 GROUP BY classroom_id)
-     SELECT c.id AS classroom_id, c.site_id, s.name AS site_name, c.arm,
-            coalesce(st.allocated, 0)::int AS allocated,
-            coalesce(CASE WHEN sh.mode = 'summary' THEN sh.summary_n ELSE agg.n END, 0)::int AS n,
-            CASE WHEN sh.mode = 'summary' THEN sh.summary_mean::float8 ELSE agg.mean END AS mean,
-            CASE WHEN sh.mode = 'summary' THEN (sh.summary_sd::float8 ^ 2) * (sh.summary_n - 1) ELSE agg.m2 END AS m2,
-            coalesce(sh.mode = 'summary', false) AS from_summary
+     SELECT c.id AS classroom_id, c.site_id, s.name AS site_name, c.arm, coalesce(st.allocated, 0)::int AS allocated,
+            sh.summary_n, sh.summary_mean::float8 AS summary_mean, (sh.summary_sd::float8 ^ 2) * (sh.summary_n - 1) AS summary_m2
        FROM classrooms c JOIN sites s ON s.id = c.site_id
        LEFT JOIN sh ON sh.classroom_id = c.id
-       LEFT JOIN agg ON agg.classroom_id = c.id
        LEFT JOIN allocated st ON st.classroom_id = c.id
       WHERE c.study_id = $1 AND c.arm IS NOT NULL
       ORDER BY s.name, c.name`,
     p,
   );
 
-  const quantileRows: { arm: Arm; q: number[] }[] = await manager.query(
-    `SELECT c.arm, percentile_cont(ARRAY[0, 0.25, 0.5, 0.75, 1]) WITHIN GROUP (ORDER BY x.score::float8) AS q
-       FROM unnest($1::uuid[]) AS ids(id) JOIN scores x ON x.sheet_id = ids.id JOIN classrooms c ON c.id = x.classroom_id
-      WHERE x.score IS NOT NULL GROUP BY c.arm`,
-    [sheets.map((s) => s.id)],
-  );
-  const quantiles = { intervention: null, comparison: null } as Gathered['quantiles'];
-  for (const r of quantileRows) quantiles[r.arm] = r.q as Gathered['quantiles'][Arm];
+  const rowSheets = sheets.filter((s) => s.mode === 'rows' && s.arm !== null);
+  const baselineOf = new Map(baselineSheets.map((b) => [b.classroom_id, b.id]));
+  const perClassroom: ClassroomRow[] = await manager.query(classroomPassSql, [
+    rowSheets.map((s) => s.id),
+    rowSheets.map((s) => `${s.classroom_id},${s.arm},`),
+    rowSheets.map((s) => baselineOf.get(s.classroom_id) ?? null),
+  ]);
+  const byClassroom = new Map(rowSheets.map((s, i) => [s.classroom_id, perClassroom[i]]));
 
-  // The canonical input, hashed where it lives: the student rows, then the summary-only classrooms.
-  const [{ sha, analysed }]: { sha: string; analysed: number }[] = await manager.query(
-    `SELECT encode(sha256(convert_to(concat_ws(E'\\n', r.body, s.body), 'UTF8')), 'hex') AS sha, r.analysed
-       FROM (SELECT string_agg(line, E'\\n' ORDER BY line) AS body, count(*)::int AS analysed FROM (${canonicalRowsSql}) x) r,
-            (SELECT string_agg(line, E'\\n' ORDER BY line) AS body FROM (${canonicalSummariesSql}) y) s`,
-    [sheets.map((s) => s.id), baselineSheets.map((s) => s.id)],
-  );
+  const summaryLines: { line: string }[] = await manager.query(`SELECT line FROM (${canonicalSummariesSql}) s ORDER BY line COLLATE "C"`, [sheets.map((s) => s.id)]);
+  const digests = rowSheets
+    .map((s) => ({ classroomId: s.classroom_id, digest: byClassroom.get(s.classroom_id)!.digest }))
+    .filter((d) => d.digest !== null)
+    .sort((a, b) => (a.classroomId < b.classroomId ? -1 : a.classroomId > b.classroomId ? 1 : 0));
+  const dataSha256 = dataHash(digests.map((d) => d.digest!), summaryLines.map((l) => l.line));
 
-  let values: Gathered['values'] = null;
+  const counted = { intervention: 0, comparison: 0 } as Record<Arm, number>;
+  for (const s of rowSheets) counted[s.arm!] += byClassroom.get(s.classroom_id)!.n;
+  const wanted = (arm: Arm) => {
+    const n = counted[arm];
+    if (n === 0) return [];
+    const sample = sampleRanks(n, NORMALITY_SAMPLE, `${dataSha256}:${arm}`);
+    const quartileRanks = QUARTILES.flatMap((f) => [Math.floor(f * (n - 1)), Math.ceil(f * (n - 1))]);
+    return [...new Set([...sample, ...quartileRanks])].sort((a, b) => a - b);
+  };
+  const requested = { intervention: wanted('intervention'), comparison: wanted('comparison') };
+  const valueRows: ValueRow[] = await manager.query(valuePassSql, [
+    rowSheets.map((s) => s.id),
+    rowSheets.map((s) => s.arm),
+    requested.intervention,
+    requested.comparison,
+  ]);
+
+  const values = { intervention: null, comparison: null } as Gathered['values'];
+  let ranks: Gathered['ranks'] = null;
+  for (const r of valueRows) {
+    const n = Number(r.n);
+    const at = new Map(requested[r.arm].map((rank, i) => [rank, r.picked[i]]));
+    const quantile = (f: number) => {
+      const pos = f * (n - 1);
+      const lo = at.get(Math.floor(pos))!;
+      return lo + (at.get(Math.ceil(pos))! - lo) * (pos - Math.floor(pos));
+    };
+    const sample = n <= NORMALITY_SAMPLE ? requested[r.arm] : sampleRanks(n, NORMALITY_SAMPLE, `${dataSha256}:${r.arm}`);
+    values[r.arm] = {
+      n,
+      quantiles: QUARTILES.map(quantile) as ArmValues['quantiles'],
+      deviations: {
+        mean: { n, meanDeviation: r.mean_deviation, ssDeviation: r.mean_ss },
+        median: { n, meanDeviation: r.median_deviation, ssDeviation: r.median_ss },
+      },
+      normalitySample: sample.map((rank) => at.get(rank)!),
+    };
+    ranks = { rankSumA: r.rank_sum, tieTerm: r.tie_term };
+  }
+
   let pairs: Gathered['pairs'] = null;
-  if (analysed <= VALUE_LIMIT) {
-    const rows: { arm: Arm; y: number; x: number | null }[] = await manager.query(
-      `SELECT c.arm, o.score::float8 AS y, b.score::float8 AS x
-         FROM unnest($1::uuid[]) AS ids(id) JOIN scores o ON o.sheet_id = ids.id JOIN classrooms c ON c.id = o.classroom_id
-         LEFT JOIN (SELECT x.* FROM unnest($2::uuid[]) AS bids(id) JOIN scores x ON x.sheet_id = bids.id) b
-           ON b.student_code = o.student_code AND b.classroom_id = o.classroom_id AND b.score IS NOT NULL
-        WHERE o.score IS NOT NULL
-        ORDER BY c.arm, o.classroom_id, o.student_code`,
-      [sheets.map((s) => s.id), baselineSheets.map((s) => s.id)],
-    );
-    values = { intervention: [], comparison: [] };
-    pairs = { intervention: [], comparison: [] };
-    for (const r of rows) {
-      values[r.arm].push(r.y);
-      if (r.x !== null) pairs[r.arm].push([r.y, r.x]);
+  if (scope.baselineWaveId) {
+    pairs = { intervention: null, comparison: null };
+    for (const arm of ['intervention', 'comparison'] as const) {
+      const parts = rowSheets
+        .filter((s) => s.arm === arm)
+        .map((s) => byClassroom.get(s.classroom_id)!)
+        .filter((c) => c.pairs > 0)
+        .map((c) => ({ n: c.pairs, meanY: c.pair_mean_y!, meanX: c.pair_mean_x!, syy: c.pair_syy!, sxx: c.pair_sxx!, sxy: c.pair_sxy! }));
+      pairs[arm] = parts.length ? mergePairedSummaries(parts) : null;
     }
   }
 
   return {
     sheetIds: [...sheets, ...baselineSheets].map((s) => s.id),
-    classrooms: classrooms.map((c) => ({
-      classroomId: c.classroom_id,
-      siteId: c.site_id,
-      siteName: c.site_name,
-      arm: c.arm,
-      allocated: c.allocated,
-      n: c.n,
-      mean: c.mean,
-      m2: c.m2,
-      fromSummary: c.from_summary,
-    })),
-    quantiles,
+    classrooms: classrooms.map((c) => {
+      const rows = byClassroom.get(c.classroom_id);
+      const fromSummary = c.summary_n !== null;
+      return {
+        classroomId: c.classroom_id,
+        siteId: c.site_id,
+        siteName: c.site_name,
+        arm: c.arm,
+        allocated: c.allocated,
+        n: fromSummary ? c.summary_n! : (rows?.n ?? 0),
+        mean: fromSummary ? c.summary_mean : (rows?.mean ?? null),
+        m2: fromSummary ? c.summary_m2 : (rows?.m2 ?? null),
+        fromSummary,
+      };
+    }),
     values,
+    ranks,
     pairs,
-    dataSha256: sha,
-    analysed,
+    dataSha256,
+    analysed: counted.intervention + counted.comparison,
   };
 }
 
-// Sheet IDs arrive as arrays joined through unnest rather than `= ANY(…)`, which PostgreSQL tests row by row.
+const QUARTILES = [0, 0.25, 0.5, 0.75, 1];
 
 /**
- * One text line per analysed student: classroom_id,arm,student_code,outcome,pretest (pretest empty when missing),
- * scores as PostgreSQL prints numeric. The bundle ships these lines; their sorted SHA-256 is the run's data hash.
+ * The data hash: SHA-256 over the classrooms' digests (lowercase hex, in byte order of classroom ID) followed by the
+ * summary lines (byte order), joined with "\n"; a classroom's digest is the SHA-256 of its canonical rows in byte order of
+ * student code, joined with "\n". Classrooms hash where the rows live, so no run ships every row to Node.
  */
-export const canonicalRowsSql = `
-  SELECT concat_ws(',', o.classroom_id, c.arm, o.student_code, o.score::text, coalesce(b.score::text, '')) AS line
-    FROM unnest($1::uuid[]) AS ids(id) JOIN scores o ON o.sheet_id = ids.id JOIN classrooms c ON c.id = o.classroom_id
-    LEFT JOIN (SELECT x.* FROM unnest($2::uuid[]) AS bids(id) JOIN scores x ON x.sheet_id = bids.id) b
-      ON b.student_code = o.student_code AND b.classroom_id = o.classroom_id AND b.score IS NOT NULL
-   WHERE o.score IS NOT NULL`;
+export function dataHash(classroomDigests: string[], summaryLines: string[]): string {
+  return createHash('sha256').update([...classroomDigests, ...summaryLines].join('\n')).digest('hex');
+}
+
+interface ClassroomRow {
+  n: number;
+  mean: number | null;
+  m2: number | null;
+  pairs: number;
+  pair_mean_y: number | null;
+  pair_mean_x: number | null;
+  pair_syy: number | null;
+  pair_sxx: number | null;
+  pair_sxy: number | null;
+  digest: string | null;
+}
+
+interface ValueRow {
+  arm: Arm;
+  n: string;
+  rank_sum: number;
+  tie_term: number;
+  mean_deviation: number;
+  mean_ss: number;
+  median_deviation: number;
+  median_ss: number;
+  picked: number[];
+}
+
+// Sums are numeric, so exact; each moment is one division of an exact numerator: (nΣx² − (Σx)²)/n keeps its digits for scores far from zero.
+const classroomPassSql = `
+  SELECT a.n::int, (a.sy / nullif(a.n, 0))::float8 AS mean, ((a.n * a.syy - a.sy * a.sy) / nullif(a.n, 0))::float8 AS m2,
+         a.np::int AS pairs, (a.py / nullif(a.np, 0))::float8 AS pair_mean_y, (a.px / nullif(a.np, 0))::float8 AS pair_mean_x,
+         ((a.np * a.pyy - a.py * a.py) / nullif(a.np, 0))::float8 AS pair_syy, ((a.np * a.pxx - a.px * a.px) / nullif(a.np, 0))::float8 AS pair_sxx,
+         ((a.np * a.pxy - a.px * a.py) / nullif(a.np, 0))::float8 AS pair_sxy, encode(a.digest, 'hex') AS digest
+    FROM unnest($1::uuid[], $2::text[], $3::uuid[]) WITH ORDINALITY AS sh(id, prefix, baseline_id, i)
+   CROSS JOIN LATERAL (
+     SELECT count(*) AS n, sum(o.score) AS sy, sum(o.score * o.score) AS syy,
+            count(b.score) AS np, sum(o.score) FILTER (WHERE b.score IS NOT NULL) AS py, sum(b.score) AS px,
+            sum(o.score * o.score) FILTER (WHERE b.score IS NOT NULL) AS pyy, sum(b.score * b.score) AS pxx, sum(o.score * b.score) AS pxy,
+            sha256(convert_to(string_agg(sh.prefix || o.student_code || ',' || o.score::text || ',' || coalesce(b.score::text, ''), E'\\n' ORDER BY o.student_code COLLATE "C"), 'UTF8')) AS digest
+       FROM scores o LEFT JOIN scores b ON b.sheet_id = sh.baseline_id AND b.student_code = o.student_code AND b.score IS NOT NULL
+      WHERE o.sheet_id = sh.id AND o.score IS NOT NULL) a
+   ORDER BY sh.i`;
+
+/**
+ * One row per arm from the count of each distinct outcome score: n; the arm's mid-rank sum ×2 and Σ(t³ − t) over the
+ * pooled table; mean and median; Σ|x − c| and Σ(x − c)² for both centres (exact numeric); the values at the requested
+ * ranks ($3 intervention, $4 comparison), found by binary search (width_bucket) over the cumulative counts.
+ */
+const valuePassSql = `
+  WITH h AS (
+    SELECT x.score AS v, count(*) FILTER (WHERE sh.arm = 'intervention') AS a, count(*) FILTER (WHERE sh.arm = 'comparison') AS b
+      FROM unnest($1::uuid[], $2::text[]) AS sh(id, arm) JOIN scores x ON x.sheet_id = sh.id
+     WHERE x.score IS NOT NULL GROUP BY x.score),
+  r AS (
+    SELECT v, a, b, (sum(a + b) OVER w - (a + b))::bigint AS below, (sum(a) OVER w - a)::bigint AS a_below, (sum(b) OVER w - b)::bigint AS b_below
+      FROM h WINDOW w AS (ORDER BY v)),
+  ranks AS (SELECT sum(a * (2 * below + a + b + 1)) / 2 AS rank_sum, sum((a + b)::numeric * (a + b) * (a + b) - (a + b)) AS tie_term FROM r),
+  g AS (SELECT 'intervention' AS arm, v, a AS k, a_below AS below FROM r WHERE a > 0 UNION ALL SELECT 'comparison', v, b, b_below FROM r WHERE b > 0),
+  c AS (SELECT arm, sum(k)::bigint AS n, sum(k * v) / sum(k) AS mean, array_agg(below ORDER BY v) AS belows, array_agg(v ORDER BY v) AS vs FROM g GROUP BY arm),
+  m AS (SELECT arm, n, mean, belows, vs, (vs[width_bucket((n - 1) / 2, belows)] + vs[width_bucket(n / 2, belows)]) / 2 AS median FROM c),
+  d AS (
+    SELECT g.arm, sum(g.k * abs(g.v - m.mean)) AS s1, sum(g.k * (g.v - m.mean) * (g.v - m.mean)) AS q1,
+           sum(g.k * abs(g.v - m.median)) AS s2, sum(g.k * (g.v - m.median) * (g.v - m.median)) AS q2
+      FROM g JOIN m USING (arm) GROUP BY g.arm)
+  SELECT m.arm, m.n, ranks.rank_sum::float8 AS rank_sum, ranks.tie_term::float8 AS tie_term,
+         (d.s1 / m.n)::float8 AS mean_deviation, ((m.n * d.q1 - d.s1 * d.s1) / m.n)::float8 AS mean_ss,
+         (d.s2 / m.n)::float8 AS median_deviation, ((m.n * d.q2 - d.s2 * d.s2) / m.n)::float8 AS median_ss,
+         (SELECT array_agg(m.vs[width_bucket(p.rank, m.belows)]::float8 ORDER BY p.i)
+            FROM unnest(CASE m.arm WHEN 'intervention' THEN $3::bigint[] ELSE $4::bigint[] END) WITH ORDINALITY AS p(rank, i)) AS picked
+    FROM m JOIN d USING (arm) CROSS JOIN ranks`;
 
 /**
  * One text line per classroom that reported only a summary of the outcome: summary,classroom_id,arm,n,mean,sd. They count
@@ -172,3 +283,15 @@ export const canonicalSummariesSql = `
   SELECT concat_ws(',', 'summary', sh.classroom_id, c.arm, sh.summary_n::text, sh.summary_mean::text, sh.summary_sd::text) AS line
     FROM unnest($1::uuid[]) AS ids(id) JOIN score_sheets sh ON sh.id = ids.id JOIN classrooms c ON c.id = sh.classroom_id
    WHERE sh.mode = 'summary' AND c.arm IS NOT NULL`;
+
+/**
+ * The bundle's rows, the same lines the classroom digests hash: classroom_id,arm,student_code,outcome,pretest (pretest
+ * empty when missing), scores as PostgreSQL prints numeric, in byte order of classroom ID then student code.
+ * $1: outcome sheets with student rows, $2: the matching baseline sheet of each (or null).
+ */
+export const bundleRowsSql = `
+  SELECT concat_ws(',', o.classroom_id, c.arm, o.student_code, o.score::text, coalesce(b.score::text, '')) AS line
+    FROM unnest($1::uuid[], $2::uuid[]) AS sh(id, baseline_id) JOIN scores o ON o.sheet_id = sh.id JOIN classrooms c ON c.id = o.classroom_id
+    LEFT JOIN scores b ON b.sheet_id = sh.baseline_id AND b.student_code = o.student_code AND b.score IS NOT NULL
+   WHERE o.score IS NOT NULL
+   ORDER BY o.classroom_id::text COLLATE "C", o.student_code COLLATE "C"`;

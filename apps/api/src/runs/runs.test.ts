@@ -1,7 +1,7 @@
 import { createHash } from 'node:crypto';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { decidingTest } from '@evenhand/entities';
-import { hedgesG, mergeAllSummaries, welchT, welchTFromSummary, studentT, type Summary } from '@evenhand/stats';
+import { ancova, hedgesG, levene, mannWhitney, mergeAllSummaries, shapiroWilk, welchT, welchTFromSummary, studentT, type Summary } from '@evenhand/stats';
 import { signIn, startTestApp, type SignedIn, type TestApp } from '../../test/app.js';
 import { createStudy, enrolClassrooms, fillSheet, send, type StudySetup } from '../../test/fixtures.js';
 import { startQueue } from '../jobs/queue.js';
@@ -12,6 +12,7 @@ let t: TestApp;
 let s: StudySetup;
 let reviewer: SignedIn;
 const values: Record<string, number[]> = { intervention: [], comparison: [] };
+const pairs: { arm: number; y: number; x: number }[] = [];
 
 const fill = (classroomId: string, waveId: string, measureId: string, scores: (number | null)[], codePrefix: string) =>
   fillSheet(t.db, { classroomId, waveId, measureId }, scores, codePrefix);
@@ -26,6 +27,18 @@ async function waitFor(runId: string, who: SignedIn, states = ['finished', 'fail
 }
 
 let primaryComparison: string;
+
+/** The data hash from the bundle alone, as its README says: one digest per classroom's consecutive rows, then the summaries. */
+function bundleHash(rows: string[], summaries: string[]): string {
+  const sha = (lines: string[]) => createHash('sha256').update(lines.join('\n')).digest('hex');
+  const groups: string[][] = [];
+  for (const line of rows) {
+    const last = groups.at(-1);
+    if (last && last[0].split(',')[0] === line.split(',')[0]) last.push(line);
+    else groups.push([line]);
+  }
+  return sha([...groups.map(sha), ...summaries]);
+}
 
 beforeAll(async () => {
   t = await startTestApp({ workers: true });
@@ -44,6 +57,7 @@ beforeAll(async () => {
     await fill(c.id, s.baselineId, s.measureId, pre, `K${k}`);
     await fill(c.id, s.outcomeId, s.measureId, post, `K${k}`);
     values[arm].push(...(post.filter((v) => v !== null) as number[]));
+    post.forEach((y, i) => y !== null && pairs.push({ arm: arm === 'intervention' ? 1 : 0, y, x: pre[i] }));
     k++;
   }
   reviewer = await signIn(t.app, 'reviewer@evenhand.test');
@@ -82,6 +96,34 @@ describe('comparison runs', () => {
     expect(r.pooled).not.toBeNull();
     expect(r.diagnostics.leveneMedian.df2).toBe(values.intervention.length + values.comparison.length - 2);
     expect(r.cautions.join(' ')).toMatch(/not the size or the importance/);
+    // The checks SQL aggregates over distinct scores equal the engine on the rows (each checked against SciPy in packages/stats).
+    const mw = mannWhitney(values.intervention, values.comparison);
+    expect(r.sensitivity.mannWhitney).toMatchObject({ u: mw.u, method: mw.method });
+    expect(r.sensitivity.mannWhitney.p).toBeCloseTo(mw.p, 12);
+    for (const center of ['mean', 'median'] as const) {
+      const l = levene([values.intervention, values.comparison], { center });
+      const got = center === 'mean' ? r.diagnostics.leveneMean : r.diagnostics.leveneMedian;
+      expect(got.statistic).toBeCloseTo(l.statistic, 10);
+      expect(got.p).toBeCloseTo(l.p, 12);
+    }
+    const adj = ancova(pairs.map((q) => q.y), pairs.map((q) => q.arm), pairs.map((q) => q.x));
+    expect(r.sensitivity.ancova.adjustedDifference).toBeCloseTo(adj.adjustedDifference, 9);
+    expect(r.sensitivity.ancova.se).toBeCloseTo(adj.se, 9);
+    expect(r.sensitivity.ancova.p).toBeCloseTo(adj.p, 12);
+    expect(r.sensitivity.ancova.g).toBeCloseTo(adj.g, 10);
+    for (const [i, arm] of (['intervention', 'comparison'] as const).entries()) {
+      const sw = shapiroWilk(values[arm]);
+      expect(r.diagnostics.shapiroWilk[i]).toMatchObject({ arm, n: values[arm].length });
+      expect(r.diagnostics.shapiroWilk[i].w).toBeCloseTo(sw.w, 12);
+      // Quartiles as linear interpolation between order statistics (Hyndman & Fan 1996, definition 7).
+      const sorted = [...values[arm]].sort((a, b) => a - b);
+      const at = (f: number) => {
+        const pos = f * (sorted.length - 1);
+        const lo = Math.floor(pos);
+        return sorted[lo] + (sorted[Math.ceil(pos)] - sorted[lo]) * (pos - lo);
+      };
+      expect(r.descriptives[i].quantiles).toEqual({ min: sorted[0], q1: at(0.25), median: at(0.5), q3: at(0.75), max: sorted[sorted.length - 1] });
+    }
     expect(run.dataSha256).toMatch(/^[0-9a-f]{64}$/);
     // Classrooms were assigned and students compared: the clustering-corrected p decides, in the multiplicity step too.
     expect(decidingTest(r)).toEqual({ basis: 'clustering', p: r.clustering.p, significant: r.clustering.p < r.alpha });
@@ -102,7 +144,8 @@ describe('comparison runs', () => {
 
   it('gives a bundle whose rows hash to the run’s data hash and recompute the same primary result', async () => {
     const bundle = (await reviewer.agent.get(`/api/runs/${runId}/bundle`)).body;
-    expect(createHash('sha256').update(bundle.rows.join('\n')).digest('hex')).toBe(bundle.dataSha256);
+    expect(bundleHash(bundle.rows, bundle.summaries)).toBe(bundle.dataSha256);
+    expect(bundle.rows).toEqual([...bundle.rows].sort((a: string, b: string) => Buffer.compare(Buffer.from(a), Buffer.from(b))));
     const byArm: Record<string, number[]> = { intervention: [], comparison: [] };
     for (const line of bundle.rows as string[]) {
       const [, arm, code, outcome] = line.split(',');
@@ -226,9 +269,8 @@ describe('comparison runs', () => {
     expect(bundle.summaries[0]).toMatch(new RegExp(`^summary,${rooms[0].id},${rooms[0].arm},9,`));
     expect(bundle.rows).toHaveLength(27);
     expect(bundle.rows.some((line: string) => line.startsWith(rooms[0].id))).toBe(false);
-    const sha = (lines: string[]) => createHash('sha256').update(lines.join('\n')).digest('hex');
-    expect(sha([...bundle.rows, ...bundle.summaries])).toBe(bundle.dataSha256);
-    expect(sha(bundle.rows)).not.toBe(bundle.dataSha256);
+    expect(bundleHash(bundle.rows, bundle.summaries)).toBe(bundle.dataSha256);
+    expect(bundleHash(bundle.rows, [])).not.toBe(bundle.dataSha256);
 
     // From the bundle alone: per arm, the rows' summary merged with the summary-only classroom's.
     const parts: Record<string, Summary[]> = { intervention: [], comparison: [] };

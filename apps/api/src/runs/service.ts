@@ -10,7 +10,7 @@ import { currentPlan } from '../plans/service.js';
 import { findVisibleStudy, hasRole, sitesOf } from '../studies/access.js';
 import { advanceStatus } from '../studies/service.js';
 import { AnalysisError, analyse } from './engine.js';
-import { canonicalRowsSql, canonicalSummariesSql, gather, sheetStatesFor } from './gather.js';
+import { bundleRowsSql, canonicalSummariesSql, gather, sheetStatesFor } from './gather.js';
 import { checkSchedule, nextSlot, windowOf } from './schedule.js';
 
 interface ComparisonRow {
@@ -367,14 +367,15 @@ This file holds everything needed to recompute a locked comparison:
 - plan: the sealed plan version the run followed (alpha, sidedness, primary test, covariate, ICC rule);
 - draw: the seeded random assignment (seed, algorithm, blocks, result) and any recorded reassignments;
 - rows: one line per analysed student, "classroom_id,arm,student_code,outcome,pretest" (pretest empty when
-  missing), sorted as text. Student codes only, never names;
+  missing), in byte order of classroom ID, then of student code. Student codes only, never names;
 - summaries: one line per classroom that reported only a summary of the outcome,
-  "summary,classroom_id,arm,n,mean,sd", sorted as text. They count in the t tests and effect sizes, not in the
+  "summary,classroom_id,arm,n,mean,sd", in byte order. They count in the t tests and effect sizes, not in the
   rank, median, normality or baseline-adjusted checks;
 - results: the numbers Evenhand computed, with the statistics engine's version.
 
-To check the data: the SHA-256 of the rows followed by the summaries, all joined with a newline ("\\n"), must
-equal dataSha256.
+To check the data: for each classroom, take its rows (consecutive, they share the first field) joined with a
+newline ("\\n") and compute their SHA-256 as lowercase hex; the SHA-256 of those classroom digests, in the rows'
+order, followed by the summaries, all joined with a newline, must equal dataSha256.
 To check the numbers: per arm, merge the rows' n, mean and sum of squared deviations with each summary's
 (n, mean, (n − 1)·sd²), and recompute with the same engine version of @evenhand/stats
 (for example welchTFromSummary on each arm's n, mean and SD, hedgesG, clusterAdjusted with the plan's ICC),
@@ -388,10 +389,15 @@ export async function runBundle(db: DataSource, user: SessionUser, runId: string
   const [plan] = await db.query(`SELECT version, content, sha256, created_at FROM plan_versions WHERE study_id = $1 AND version = $2`, [run.study_id, run.plan_version]);
   const [draw] = await db.query(`SELECT seed, algorithm, algorithm_version, unit, blocks, assignments, committed_at FROM draws WHERE study_id = $1`, [run.study_id]);
   const reassignments = draw ? await db.query(`SELECT classroom_id, from_arm, to_arm, reason, at FROM draw_reassignments r JOIN draws d ON d.id = r.draw_id WHERE d.study_id = $1 ORDER BY at`, [run.study_id]) : [];
-  const baselineIds: { id: string }[] = await db.query(`SELECT id FROM score_sheets WHERE id = ANY($1) AND wave_id <> $2`, [run.input_sheet_ids, k.wave_id]);
-  const outcomeIds = run.input_sheet_ids.filter((id) => !baselineIds.some((b) => b.id === id));
-  const lines: { line: string }[] = await db.query(`SELECT line FROM (${canonicalRowsSql}) rows ORDER BY line`, [outcomeIds, baselineIds.map((b) => b.id)]);
-  const summaries: { line: string }[] = await db.query(`SELECT line FROM (${canonicalSummariesSql}) summaries ORDER BY line`, [outcomeIds]);
+  const inputs: { id: string; classroom_id: string; mode: string; outcome: boolean }[] = await db.query(
+    `SELECT sh.id, sh.classroom_id, sh.mode, sh.wave_id = $2 AS outcome FROM unnest($1::uuid[]) AS ids(id) JOIN score_sheets sh ON sh.id = ids.id`,
+    [run.input_sheet_ids, k.wave_id],
+  );
+  const baselineOf = new Map(inputs.filter((s) => !s.outcome).map((s) => [s.classroom_id, s.id]));
+  const outcomes = inputs.filter((s) => s.outcome);
+  const rowSheets = outcomes.filter((s) => s.mode === 'rows');
+  const lines: { line: string }[] = await db.query(bundleRowsSql, [rowSheets.map((s) => s.id), rowSheets.map((s) => baselineOf.get(s.classroom_id) ?? null)]);
+  const summaries: { line: string }[] = await db.query(`SELECT line FROM (${canonicalSummariesSql}) summaries ORDER BY line COLLATE "C"`, [outcomes.map((s) => s.id)]);
   return {
     readme: README,
     run: { id: run.id, kind: run.kind, state: run.state, lockedAt: run.locked_at, reason: run.reason },

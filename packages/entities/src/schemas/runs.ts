@@ -124,7 +124,8 @@ export const runResultsSchema = z
       leveneMean: z.object({ statistic: z.number(), df1: z.number(), df2: z.number(), p: z.number() }).nullable(),
       leveneMedian: z.object({ statistic: z.number(), df1: z.number(), df2: z.number(), p: z.number() }).nullable(),
       varianceRatio: z.object({ f: z.number(), df1: z.number(), df2: z.number(), p: z.number() }),
-      shapiroWilk: z.array(z.object({ arm: armSchema, w: z.number(), p: z.number() })).nullable(),
+      /** n: the values tested (a seeded sample of 5 000 in a larger arm); absent in runs made before it was recorded. */
+      shapiroWilk: z.array(z.object({ arm: armSchema, w: z.number(), p: z.number(), n: z.number().int().optional() })).nullable(),
       notes: z.array(z.string()),
     }),
     sites: z.array(siteEstimateSchema),
