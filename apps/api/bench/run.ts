@@ -8,7 +8,8 @@ export async function benchRun() {
   const { db, logger, lead } = b;
   const study = b.study;
   async function runBench(classrooms: number, perClass: number) {
-    const s = await study(classrooms, Math.max(2, Math.round(classrooms / 80)));
+    // An odd number of sites, so the alternating arms meet in every site and the per-site pooling runs too.
+    const s = await study(classrooms, Math.max(2, Math.round(classrooms / 80)) | 1);
     await db.query(
       `INSERT INTO students (study_id, student_code, classroom_id)
        SELECT $1, 'P' || c.k || '-' || j, c.id FROM (SELECT id, row_number() OVER () AS k FROM classrooms WHERE study_id = $1) c, generate_series(1, $2) j`,

@@ -103,7 +103,7 @@ export async function gather(manager: EntityManager, scope: Scope): Promise<Gath
 
   const rowSheets = sheets.filter((s) => s.mode === 'rows' && s.arm !== null);
   const baselineOf = new Map(baselineSheets.map((b) => [b.classroom_id, b.id]));
-  const perClassroom: ClassroomRow[] = await manager.query(classroomPassSql, [
+  const perClassroom: ClassroomRow[] = await manager.query(classroomPassSql(baselineSheets.length > 0), [
     rowSheets.map((s) => s.id),
     rowSheets.map((s) => `${s.classroom_id},${s.arm},`),
     rowSheets.map((s) => baselineOf.get(s.classroom_id) ?? null),
@@ -232,7 +232,8 @@ interface ValueRow {
 }
 
 // Sums are numeric, so exact; each moment is one division of an exact numerator: (nΣx² − (Σx)²)/n keeps its digits for scores far from zero.
-const classroomPassSql = `
+// Without a baseline the pairs' columns are constant nulls and the join is left out: it costs a lookup per student.
+const classroomPassSql = (withBaseline: boolean) => `
   SELECT a.n::int, (a.sy / nullif(a.n, 0))::float8 AS mean, ((a.n * a.syy - a.sy * a.sy) / nullif(a.n, 0))::float8 AS m2,
          a.np::int AS pairs, (a.py / nullif(a.np, 0))::float8 AS pair_mean_y, (a.px / nullif(a.np, 0))::float8 AS pair_mean_x,
          ((a.np * a.pyy - a.py * a.py) / nullif(a.np, 0))::float8 AS pair_syy, ((a.np * a.pxx - a.px * a.px) / nullif(a.np, 0))::float8 AS pair_sxx,
@@ -240,10 +241,14 @@ const classroomPassSql = `
     FROM unnest($1::uuid[], $2::text[], $3::uuid[]) WITH ORDINALITY AS sh(id, prefix, baseline_id, i)
    CROSS JOIN LATERAL (
      SELECT count(*) AS n, sum(o.score) AS sy, sum(o.score * o.score) AS syy,
-            count(b.score) AS np, sum(o.score) FILTER (WHERE b.score IS NOT NULL) AS py, sum(b.score) AS px,
-            sum(o.score * o.score) FILTER (WHERE b.score IS NOT NULL) AS pyy, sum(b.score * b.score) AS pxx, sum(o.score * b.score) AS pxy,
-            sha256(convert_to(string_agg(sh.prefix || o.student_code || ',' || o.score::text || ',' || coalesce(b.score::text, ''), E'\\n' ORDER BY o.student_code COLLATE "C"), 'UTF8')) AS digest
-       FROM scores o LEFT JOIN scores b ON b.sheet_id = sh.baseline_id AND b.student_code = o.student_code AND b.score IS NOT NULL
+            ${
+              withBaseline
+                ? `count(b.score) AS np, sum(o.score) FILTER (WHERE b.score IS NOT NULL) AS py, sum(b.score) AS px,
+            sum(o.score * o.score) FILTER (WHERE b.score IS NOT NULL) AS pyy, sum(b.score * b.score) AS pxx, sum(o.score * b.score) AS pxy,`
+                : `0 AS np, NULL::numeric AS py, NULL::numeric AS px, NULL::numeric AS pyy, NULL::numeric AS pxx, NULL::numeric AS pxy,`
+            }
+            sha256(convert_to(string_agg(sh.prefix || o.student_code || ',' || o.score::text || ',' ${withBaseline ? `|| coalesce(b.score::text, '')` : ''}, E'\\n' ORDER BY o.student_code COLLATE "C"), 'UTF8')) AS digest
+       FROM scores o ${withBaseline ? `LEFT JOIN scores b ON b.sheet_id = sh.baseline_id AND b.student_code = o.student_code AND b.score IS NOT NULL` : ''}
       WHERE o.sheet_id = sh.id AND o.score IS NOT NULL) a
    ORDER BY sh.i`;
 

@@ -1,7 +1,7 @@
 import { createHash } from 'node:crypto';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { decidingTest } from '@evenhand/entities';
-import { ancova, hedgesG, levene, mannWhitney, mergeAllSummaries, shapiroWilk, welchT, welchTFromSummary, studentT, type Summary } from '@evenhand/stats';
+import { ancova, hedgesG, levene, mannWhitney, mergeAllSummaries, sampleRanks, shapiroWilk, welchT, welchTFromSummary, studentT, type Summary } from '@evenhand/stats';
 import { signIn, startTestApp, type SignedIn, type TestApp } from '../../test/app.js';
 import { createStudy, enrolClassrooms, fillSheet, send, type StudySetup } from '../../test/fixtures.js';
 import { startQueue } from '../jobs/queue.js';
@@ -295,6 +295,36 @@ describe('comparison runs', () => {
     const again = welchTFromSummary(group('intervention'), group('comparison'));
     expect(again.t).toBeCloseTo(bundle.results.primary.t, 10);
     expect(again.p).toBeCloseTo(bundle.results.primary.p, 12);
+  });
+
+  it('tests normality of an arm above 5 000 students on a seeded sample that the bundle alone reproduces', async () => {
+    const other = await createStudy(t.app);
+    await enrolClassrooms(other, 1, 2);
+    await send(other.coordinator, 'post', `/api/studies/${other.studyId}/draws`, { seed: 'large-arm', commit: true }, 201);
+    await other.coordinator.agent.get(`/api/studies/${other.studyId}/completion`).expect(200);
+    const [big, small] = await t.db.query(`SELECT id, arm FROM classrooms WHERE study_id = $1 ORDER BY arm, id`, [other.studyId]);
+    await fill(big.id, other.outcomeId, other.measureId, Array.from({ length: 5200 }, (_, i) => 40 + ((i * 7919) % 61)), 'L');
+    await fill(small.id, other.outcomeId, other.measureId, Array.from({ length: 40 }, (_, i) => 45 + ((i * 13) % 37)), 'S');
+    const [k] = (await other.lead.agent.get(`/api/studies/${other.studyId}/comparisons`)).body.items;
+    const queued = await send(other.lead, 'post', `/api/comparisons/${k.id}/runs`, { kind: 'confirmatory' }, 202);
+    const run = await waitFor(queued.run.id, other.lead);
+    expect(run.state).toBe('finished');
+    expect(run.results.diagnostics.notes.join(' ')).toMatch(/5,000 students drawn at random without replacement/);
+    const bundle = (await other.lead.agent.get(`/api/runs/${run.id}/bundle`)).body;
+    const byArm: Record<string, number[]> = { intervention: [], comparison: [] };
+    for (const line of bundle.rows as string[]) {
+      const [, arm, , outcome] = line.split(',');
+      byArm[arm].push(Number(outcome));
+    }
+    for (const sw of run.results.diagnostics.shapiroWilk as { arm: string; w: number; p: number; n: number }[]) {
+      const sorted = byArm[sw.arm].sort((a, b) => a - b);
+      const sample = sorted.length > 5000 ? sampleRanks(sorted.length, 5000, `${bundle.dataSha256}:${sw.arm}`).map((r) => sorted[r]) : sorted;
+      expect(sw.n).toBe(Math.min(5000, sorted.length));
+      const again = shapiroWilk(sample);
+      expect(sw.w).toBe(again.w);
+      expect(sw.p).toBe(again.p);
+    }
+    expect(run.results.diagnostics.shapiroWilk.map((x: { n: number }) => x.n).sort()).toEqual([40, 5000]);
   });
 
   it('runs each job exactly once with two worker processes on one database', async () => {
