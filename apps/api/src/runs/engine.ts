@@ -142,7 +142,7 @@ export function analyse(ctx: AnalysisContext, data: Gathered): RunResults {
       const sampled = arms.filter((arm) => data.values[arm]!.n > NORMALITY_SAMPLE);
       if (sampled.length) {
         notes.push(
-          `Shapiro–Wilk is validated for 3 to ${NORMALITY_SAMPLE.toLocaleString('en-US')} values (Royston 1995), so in the ${sampled.map((a) => armLabel[a]).join(' and ')} arm it was computed on ${NORMALITY_SAMPLE.toLocaleString('en-US')} students drawn at random without replacement, a common practice: the ranks of the sorted outcomes come from Floyd's algorithm seeded with the data hash, a colon and the arm, so anyone can draw the same sample from the bundle.`,
+          `Shapiro–Wilk is validated for 3 to ${NORMALITY_SAMPLE.toLocaleString('en-US')} values (Royston 1995), so in ${sampled.length === 2 ? 'each arm' : `the ${armLabel[sampled[0]]} arm`} it was computed on ${NORMALITY_SAMPLE.toLocaleString('en-US')} students drawn at random without replacement, a common practice: the ranks of the sorted outcomes come from Floyd's algorithm seeded with the data hash, a colon and the arm, so anyone can draw the same sample from the bundle.`,
         );
       }
     } else notes.push('Shapiro–Wilk needs at least 3 values per arm; it was not computed.');
