@@ -110,7 +110,16 @@ test('the research lead runs the primary comparison, reads its result, locks or 
   const bundle = JSON.parse(await readFile((await (await bundleDownload).path())!, 'utf8'));
   expect(bundle.rows.length).toBeGreaterThan(0);
   expect(bundle.dataSha256).toMatch(/^[0-9a-f]{64}$/);
-  expect(createHash('sha256').update(bundle.rows.join('\n')).digest('hex')).toBe(bundle.dataSha256);
+  // The data hash: SHA-256 over each classroom's digest of its rows (rows come grouped by classroom),
+  // then the summary-only classrooms' lines, as the bundle's README says.
+  const sha = (lines: string[]) => createHash('sha256').update(lines.join('\n')).digest('hex');
+  const byClassroom: string[][] = [];
+  for (const line of bundle.rows as string[]) {
+    const last = byClassroom.at(-1);
+    if (last && last[0].split(',')[0] === line.split(',')[0]) last.push(line);
+    else byClassroom.push([line]);
+  }
+  expect(sha([...byClassroom.map(sha), ...(bundle.summaries ?? [])])).toBe(bundle.dataSha256);
   const outcomes = { intervention: [] as number[], comparison: [] as number[] };
   for (const line of bundle.rows as string[]) {
     const [, arm, , outcome] = line.split(',');
