@@ -30,3 +30,7 @@ export function applyApiError<T extends FieldValues>(
   }
   return { message: error.message, otherIssues };
 }
+
+/** An empty text field read as "none" (null) or "not given" (undefined), for optional fields. */
+export const emptyToNull = (v: unknown) => (typeof v === 'string' && v.trim() === '' ? null : v);
+export const emptyToUndefined = (v: unknown) => (typeof v === 'string' && v.trim() === '' ? undefined : v);

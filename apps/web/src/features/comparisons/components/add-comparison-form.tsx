@@ -5,7 +5,7 @@ import { useForm } from 'react-hook-form';
 import { Button } from '@/components/ui/button';
 import { Field, Select, TextInput } from '@/components/ui/field';
 import { FormProblemAlert } from '@/components/ui/form-problem-alert';
-import { applyApiError, type FormProblem } from '@/lib/form-errors';
+import { applyApiError, emptyToNull, emptyToUndefined, type FormProblem } from '@/lib/form-errors';
 
 interface AddComparisonFormProps {
   measures: Measure[];
@@ -14,9 +14,6 @@ interface AddComparisonFormProps {
   onAdd: (input: CreateComparison) => Promise<unknown>;
   onCancel: () => void;
 }
-
-const emptyToUndefined = (v: unknown) => (typeof v === 'string' && v.trim() === '' ? undefined : v);
-const emptyToNull = (v: unknown) => (typeof v === 'string' && v.trim() === '' ? null : v);
 
 const fields = ['measureId', 'waveId', 'label', 'unitOfAnalysis', 'primaryTest', 'covariate', 'scheduleCron'] as const;
 

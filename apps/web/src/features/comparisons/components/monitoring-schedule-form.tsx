@@ -5,15 +5,13 @@ import { useForm } from 'react-hook-form';
 import { Button } from '@/components/ui/button';
 import { Field, TextInput } from '@/components/ui/field';
 import { FormProblemAlert } from '@/components/ui/form-problem-alert';
-import { applyApiError, type FormProblem } from '@/lib/form-errors';
+import { applyApiError, emptyToNull, type FormProblem } from '@/lib/form-errors';
 
 interface MonitoringScheduleFormProps {
   comparison: Comparison;
   onSave: (input: ComparisonSchedule) => Promise<unknown>;
   onCancel: () => void;
 }
-
-const emptyToNull = (v: unknown) => (typeof v === 'string' && v.trim() === '' ? null : v);
 
 /** When a comparison's interim checks run by themselves while its wave is open; an empty cron stops them. */
 export function MonitoringScheduleForm({ comparison, onSave, onCancel }: MonitoringScheduleFormProps) {
