@@ -7,7 +7,7 @@ import { csvBatches } from '../lib/csv.js';
 import { currentPlan } from '../plans/service.js';
 import { findVisibleStudy, hasRole } from '../studies/access.js';
 import { rowFromCsv } from './rows.js';
-import { applyStaged, stageRows, type SheetKeys } from './write.js';
+import { applyStaged, stageRows } from './write.js';
 
 interface SheetRow {
   id: string;
@@ -158,15 +158,12 @@ function assertEditable(row: SheetRow, user: SessionUser) {
   if (!editable(row)) throw AppError.conflict(`The ${row.wave_name} wave is closed (${row.opens_on} to ${row.closes_on}); ask the coordinator to reopen it`);
 }
 
-/** The sheet's keys as the write path needs them. */
-const keysOf = (r: SheetRow): SheetKeys => r;
-
 export async function saveRows(db: DataSource, user: SessionUser, id: string, rows: ScoreRow[]): Promise<ScoreSheetDetail> {
   await db.transaction(async (manager) => {
     const sheet = await loadSheet(manager, user, id, true);
     assertEditable(sheet, user);
-    const staged = await stageRows(manager, keysOf(sheet), [rows.map((row, i) => ({ line: i + 1, row, issues: [] }))]);
-    await applyStaged(manager, user.id, keysOf(sheet), staged.rows, sheet.rows === 0);
+    const staged = await stageRows(manager, sheet, [rows.map((row, i) => ({ line: i + 1, row, issues: [] }))]);
+    await applyStaged(manager, user.id, sheet, staged.rows, sheet.rows === 0);
     await markMode(manager, id, null);
   });
   return getSheet(db, user, id);
@@ -191,13 +188,13 @@ export async function uploadRows(db: DataSource, user: SessionUser, id: string, 
     const sheet = await loadSheet(manager, user, id, true);
     assertEditable(sheet, user);
     const seen = { records: 0 };
-    const staged = await stageRows(manager, keysOf(sheet), rowsOfCsv(file, seen));
+    const staged = await stageRows(manager, sheet, rowsOfCsv(file, seen));
     if (!seen.records) throw AppError.validation('The file has a header row but no data rows');
     if (opts.dryRun) return { dryRun: true, rows: staged.rows, preview: staged.preview, sheet: null };
     if (sheet.rows > 0 && !opts.replace) {
       throw AppError.conflict(`The sheet already has ${sheet.rows} rows; confirm to replace them with the file's ${staged.rows}`, { needsConfirmation: true });
     }
-    await applyStaged(manager, user.id, keysOf(sheet), staged.rows, sheet.rows === 0);
+    await applyStaged(manager, user.id, sheet, staged.rows, sheet.rows === 0);
     await markMode(manager, id, null);
     const [updated]: SheetRow[] = await manager.query(`${sheetSelect} WHERE sh.id = $1`, [id]);
     return { dryRun: false, rows: staged.rows, preview: staged.preview, sheet: toSheet(updated) };
@@ -222,8 +219,8 @@ export async function saveSummary(db: DataSource, user: SessionUser, id: string,
       throw AppError.validation('The mean is outside the measure’s range', [{ path: 'summary.mean', message: `Use a mean between ${row.min_score} and ${row.max_score}` }]);
     }
     // A summary replaces the rows: removing them is audited and releases their codes like any write.
-    await stageRows(manager, keysOf(row), []);
-    await applyStaged(manager, user.id, keysOf(row), 0, row.rows === 0);
+    await stageRows(manager, row, []);
+    await applyStaged(manager, user.id, row, 0, row.rows === 0);
     await markMode(manager, id, summary);
     await recordAudit(manager, { actorId: user.id, studyId: row.study_id, action: 'scores.summary_saved', entityType: 'score_sheet', entityId: id, after: summary });
   });
