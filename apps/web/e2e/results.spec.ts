@@ -110,20 +110,27 @@ test('the research lead runs the primary comparison, reads its result, locks or 
   const bundle = JSON.parse(await readFile((await (await bundleDownload).path())!, 'utf8'));
   expect(bundle.rows.length).toBeGreaterThan(0);
   expect(bundle.dataSha256).toMatch(/^[0-9a-f]{64}$/);
-  // The data hash: SHA-256 over each classroom's digest of its rows (rows come grouped by classroom),
-  // then the summary-only classrooms' lines, as the bundle's README says.
+  // The data hash, as the bundle's README says: per classroom (its rows are consecutive) the SHA-256 of its
+  // "student_code,outcome" lines and of its "student_code,pretest" lines, then the summary-only classrooms' lines.
   const sha = (lines: string[]) => createHash('sha256').update(lines.join('\n')).digest('hex');
-  const byClassroom: string[][] = [];
-  for (const line of bundle.rows as string[]) {
+  const digest = (lines: string[]) => (lines.length ? sha(lines) : '');
+  const byClassroom: string[][][] = [];
+  for (const fields of (bundle.rows as string[]).map((line) => line.split(','))) {
     const last = byClassroom.at(-1);
-    if (last && last[0].split(',')[0] === line.split(',')[0]) last.push(line);
-    else byClassroom.push([line]);
+    if (last && last[0][0] === fields[0]) last.push(fields);
+    else byClassroom.push([fields]);
   }
-  expect(sha([...byClassroom.map(sha), ...(bundle.summaries ?? [])])).toBe(bundle.dataSha256);
+  const classroomLines = byClassroom.map((rows) => {
+    const outcome = digest(rows.filter((f) => f[3] !== '').map((f) => `${f[2]},${f[3]}`));
+    const pretest = digest(rows.filter((f) => f[4] !== '').map((f) => `${f[2]},${f[4]}`));
+    return `${rows[0][0]},${rows[0][1]},${outcome},${pretest}`;
+  });
+  expect(sha([...classroomLines, ...(bundle.summaries ?? [])])).toBe(bundle.dataSha256);
+  // The students analysed are those with an outcome.
   const outcomes = { intervention: [] as number[], comparison: [] as number[] };
   for (const line of bundle.rows as string[]) {
     const [, arm, , outcome] = line.split(',');
-    outcomes[arm as keyof typeof outcomes].push(Number(outcome));
+    if (outcome !== '') outcomes[arm as keyof typeof outcomes].push(Number(outcome));
   }
   const recomputed = welchT(outcomes.intervention, outcomes.comparison);
   expect(recomputed.t).toBeCloseTo(results.primary.t, 9);

@@ -2,6 +2,7 @@ import type { EntityManager } from 'typeorm';
 import { createHash } from 'node:crypto';
 import { mergePairedSummaries, sampleRanks, type PairedSummary } from '@evenhand/stats';
 import type { Arm } from '@evenhand/entities';
+import { sheetDigestsSql } from '../score-sheets/digest.js';
 
 /** Which sheets a run reads: a confirmatory run only accepted ones; monitoring also those awaiting review. */
 export const sheetStatesFor = (kind: 'monitoring' | 'confirmatory') => (kind === 'confirmatory' ? ['accepted'] : ['accepted', 'submitted']);
@@ -55,22 +56,23 @@ interface Scope {
 }
 
 /**
- * Reads what a run needs inside PostgreSQL, in two passes over the outcome scores: per classroom the count, mean, M2,
- * baseline pairs' sums and the digest of its canonical rows; then, over the count of each distinct score per arm, the
- * ranks, quartiles, absolute deviations and the values of a bounded normality sample. Node never holds every row.
+ * Reads what a run needs inside PostgreSQL, in two parallel scans of the outcome scores: per classroom the count,
+ * mean, M2 and baseline pairs' sums; then, over the count of each distinct score per arm, the ranks, quartiles,
+ * absolute deviations and the values of a bounded normality sample. The data hash comes from the sheets' digests,
+ * stored when they were submitted or accepted (computed here for any sheet without one). Node never holds every row.
  */
 export async function gather(manager: EntityManager, scope: Scope): Promise<Gathered> {
-  // Per-classroom sorts and the distinct-score table stay in memory; JIT compiling these plans costs more than it saves.
+  // The distinct-score table stays in memory; JIT compiling these plans costs more than it saves.
   await manager.query(`SET LOCAL work_mem = '64MB'`);
   await manager.query(`SET LOCAL jit = off`);
   const p = [scope.studyId, scope.waveId, scope.measureId, scope.states];
-  const sheets: { id: string; classroom_id: string; mode: string; arm: Arm | null }[] = await manager.query(
-    `SELECT sh.id, sh.classroom_id, sh.mode, c.arm FROM score_sheets sh JOIN classrooms c ON c.id = sh.classroom_id
+  const sheets: SheetRow[] = await manager.query(
+    `SELECT sh.id, sh.classroom_id, sh.mode, c.arm, encode(sh.rows_sha256, 'hex') AS digest FROM score_sheets sh JOIN classrooms c ON c.id = sh.classroom_id
       WHERE sh.study_id = $1 AND sh.wave_id = $2 AND sh.measure_id = $3 AND sh.state = ANY($4) ORDER BY sh.id`,
     p,
   );
-  const baselineSheets: { id: string; classroom_id: string }[] = scope.baselineWaveId
-    ? await manager.query(`SELECT id, classroom_id FROM score_sheets WHERE study_id = $1 AND wave_id = $2 AND measure_id = $3 AND state = ANY($4) ORDER BY id`, [
+  const baselineSheets: SheetRow[] = scope.baselineWaveId
+    ? await manager.query(`SELECT id, classroom_id, encode(rows_sha256, 'hex') AS digest FROM score_sheets WHERE study_id = $1 AND wave_id = $2 AND measure_id = $3 AND state = ANY($4) ORDER BY id`, [
         scope.studyId,
         scope.baselineWaveId,
         scope.measureId,
@@ -102,23 +104,21 @@ export async function gather(manager: EntityManager, scope: Scope): Promise<Gath
   );
 
   const rowSheets = sheets.filter((s) => s.mode === 'rows' && s.arm !== null);
-  const baselineOf = new Map(baselineSheets.map((b) => [b.classroom_id, b.id]));
-  const perClassroom: ClassroomRow[] = await manager.query(classroomPassSql(baselineSheets.length > 0), [
-    rowSheets.map((s) => s.id),
-    rowSheets.map((s) => `${s.classroom_id},${s.arm},`),
-    rowSheets.map((s) => baselineOf.get(s.classroom_id) ?? null),
-  ]);
-  const byClassroom = new Map(rowSheets.map((s, i) => [s.classroom_id, perClassroom[i]]));
+  const baselineOf = new Map(baselineSheets.map((b) => [b.classroom_id, b]));
+  await fillMissingDigests(manager, [...rowSheets, ...rowSheets.flatMap((s) => baselineOf.get(s.classroom_id) ?? [])]);
+
+  const perClassroom: ClassroomRow[] = await manager.query(classroomPassSql(scope.baselineWaveId !== null), scope.baselineWaveId ? [...p, scope.baselineWaveId] : p);
+  const byClassroom = new Map(perClassroom.map((c) => [c.classroom_id, c]));
+  const analysedSheets = rowSheets.filter((s) => byClassroom.has(s.classroom_id));
 
   const summaryLines: { line: string }[] = await manager.query(`SELECT line FROM (${canonicalSummariesSql}) s ORDER BY line COLLATE "C"`, [sheets.map((s) => s.id)]);
-  const digests = rowSheets
-    .map((s) => ({ classroomId: s.classroom_id, digest: byClassroom.get(s.classroom_id)!.digest }))
-    .filter((d) => d.digest !== null)
-    .sort((a, b) => (a.classroomId < b.classroomId ? -1 : a.classroomId > b.classroomId ? 1 : 0));
-  const dataSha256 = dataHash(digests.map((d) => d.digest!), summaryLines.map((l) => l.line));
+  const dataSha256 = dataHash(
+    analysedSheets.map((s) => ({ classroomId: s.classroom_id, arm: s.arm!, outcome: s.digest!, baseline: baselineOf.get(s.classroom_id)?.digest ?? null })),
+    summaryLines.map((l) => l.line),
+  );
 
   const counted = { intervention: 0, comparison: 0 } as Record<Arm, number>;
-  for (const s of rowSheets) counted[s.arm!] += byClassroom.get(s.classroom_id)!.n;
+  for (const s of analysedSheets) counted[s.arm!] += byClassroom.get(s.classroom_id)!.n;
   const wanted = (arm: Arm) => {
     const n = counted[arm];
     if (n === 0) return [];
@@ -127,12 +127,7 @@ export async function gather(manager: EntityManager, scope: Scope): Promise<Gath
     return [...new Set([...sample, ...quartileRanks])].sort((a, b) => a - b);
   };
   const requested = { intervention: wanted('intervention'), comparison: wanted('comparison') };
-  const valueRows: ValueRow[] = await manager.query(valuePassSql, [
-    rowSheets.map((s) => s.id),
-    rowSheets.map((s) => s.arm),
-    requested.intervention,
-    requested.comparison,
-  ]);
+  const valueRows: ValueRow[] = counted.intervention + counted.comparison > 0 ? await manager.query(valuePassSql, [...p, requested.intervention, requested.comparison]) : [];
 
   const values = { intervention: null, comparison: null } as Gathered['values'];
   let ranks: Gathered['ranks'] = null;
@@ -161,7 +156,7 @@ export async function gather(manager: EntityManager, scope: Scope): Promise<Gath
   if (scope.baselineWaveId) {
     pairs = { intervention: null, comparison: null };
     for (const arm of ['intervention', 'comparison'] as const) {
-      const parts = rowSheets
+      const parts = analysedSheets
         .filter((s) => s.arm === arm)
         .map((s) => byClassroom.get(s.classroom_id)!)
         .filter((c) => c.pairs > 0)
@@ -197,26 +192,51 @@ export async function gather(manager: EntityManager, scope: Scope): Promise<Gath
 
 const QUARTILES = [0, 0.25, 0.5, 0.75, 1];
 
+interface SheetRow {
+  id: string;
+  classroom_id: string;
+  mode?: string;
+  arm?: Arm | null;
+  /** Stored digest (hex), null until the sheet is submitted or accepted through the API. */
+  digest: string | null;
+}
+
+/** Digests of sheets that have none stored (rows written some other way than the submit/accept path). */
+async function fillMissingDigests(manager: EntityManager, sheets: SheetRow[]): Promise<void> {
+  const missing = sheets.filter((s) => s.digest === null);
+  if (missing.length === 0) return;
+  const computed: { id: string; digest: string }[] = await manager.query(`SELECT id, encode(digest, 'hex') AS digest FROM (${sheetDigestsSql}) d`, [missing.map((s) => s.id)]);
+  const byId = new Map(computed.map((d) => [d.id, d.digest]));
+  for (const s of missing) s.digest = byId.get(s.id)!;
+}
+
+/** The digest of a sheet without scored rows: the SHA-256 of the empty text. */
+const EMPTY_DIGEST = createHash('sha256').digest('hex');
+
 /**
- * The data hash: SHA-256 over the classrooms' digests (lowercase hex, in byte order of classroom ID) followed by the
- * summary lines (byte order), joined with "\n"; a classroom's digest is the SHA-256 of its canonical rows in byte order of
- * student code, joined with "\n". Classrooms hash where the rows live, so no run ships every row to Node.
+ * The data hash: SHA-256 over one line per classroom with analysed rows, "classroom_id,arm,outcome digest,pretest
+ * digest" (the pretest digest empty without pretest scores), in byte order of classroom ID, followed by the summary
+ * lines (byte order), all joined with "\n". A digest is the lowercase hex SHA-256 of the sheet's "student_code,score"
+ * lines in byte order of student code, joined with "\n" (see score-sheets/digest.ts), so the bundle's rows rebuild it.
  */
-export function dataHash(classroomDigests: string[], summaryLines: string[]): string {
-  return createHash('sha256').update([...classroomDigests, ...summaryLines].join('\n')).digest('hex');
+export function dataHash(classrooms: { classroomId: string; arm: Arm; outcome: string; baseline: string | null }[], summaryLines: string[]): string {
+  const lines = [...classrooms]
+    .sort((a, b) => (a.classroomId < b.classroomId ? -1 : a.classroomId > b.classroomId ? 1 : 0))
+    .map((c) => `${c.classroomId},${c.arm},${c.outcome},${c.baseline === null || c.baseline === EMPTY_DIGEST ? '' : c.baseline}`);
+  return createHash('sha256').update([...lines, ...summaryLines].join('\n')).digest('hex');
 }
 
 interface ClassroomRow {
+  classroom_id: string;
   n: number;
-  mean: number | null;
-  m2: number | null;
+  mean: number;
+  m2: number;
   pairs: number;
   pair_mean_y: number | null;
   pair_mean_x: number | null;
   pair_syy: number | null;
   pair_sxx: number | null;
   pair_sxy: number | null;
-  digest: string | null;
 }
 
 interface ValueRow {
@@ -231,37 +251,46 @@ interface ValueRow {
   picked: number[];
 }
 
+/**
+ * The analysed outcome scores, with their classroom's arm: scored rows of the wave's row-mode sheets in the run's
+ * states, of classrooms with an arm. Plain joins, so PostgreSQL scans and aggregates them in parallel.
+ * $1 study, $2 wave, $3 measure, $4 sheet states.
+ */
+const outcomeJoins = `scores o JOIN score_sheets sh ON sh.id = o.sheet_id AND sh.state = ANY($4) AND sh.mode = 'rows'
+           JOIN classrooms c ON c.id = sh.classroom_id AND c.arm IS NOT NULL`;
+const outcomeFilter = `o.study_id = $1 AND o.wave_id = $2 AND o.measure_id = $3 AND o.score IS NOT NULL`;
+/** $5: the baseline wave; a student's pretest is their score on the classroom's baseline sheet. */
+const baselineJoins = `LEFT JOIN score_sheets bs ON bs.classroom_id = sh.classroom_id AND bs.study_id = $1 AND bs.wave_id = $5 AND bs.measure_id = $3 AND bs.state = ANY($4)
+      LEFT JOIN scores b ON b.sheet_id = bs.id AND b.student_code = o.student_code AND b.score IS NOT NULL`;
+
 // Sums are numeric, so exact; each moment is one division of an exact numerator: (nΣx² − (Σx)²)/n keeps its digits for scores far from zero.
 // Without a baseline the pairs' columns are constant nulls and the join is left out: it costs a lookup per student.
 const classroomPassSql = (withBaseline: boolean) => `
-  SELECT a.n::int, (a.sy / nullif(a.n, 0))::float8 AS mean, ((a.n * a.syy - a.sy * a.sy) / nullif(a.n, 0))::float8 AS m2,
+  SELECT a.classroom_id, a.n::int, (a.sy / a.n)::float8 AS mean, ((a.n * a.syy - a.sy * a.sy) / a.n)::float8 AS m2,
          a.np::int AS pairs, (a.py / nullif(a.np, 0))::float8 AS pair_mean_y, (a.px / nullif(a.np, 0))::float8 AS pair_mean_x,
          ((a.np * a.pyy - a.py * a.py) / nullif(a.np, 0))::float8 AS pair_syy, ((a.np * a.pxx - a.px * a.px) / nullif(a.np, 0))::float8 AS pair_sxx,
-         ((a.np * a.pxy - a.px * a.py) / nullif(a.np, 0))::float8 AS pair_sxy, encode(a.digest, 'hex') AS digest
-    FROM unnest($1::uuid[], $2::text[], $3::uuid[]) WITH ORDINALITY AS sh(id, prefix, baseline_id, i)
-   CROSS JOIN LATERAL (
-     SELECT count(*) AS n, sum(o.score) AS sy, sum(o.score * o.score) AS syy,
+         ((a.np * a.pxy - a.px * a.py) / nullif(a.np, 0))::float8 AS pair_sxy
+    FROM (
+     SELECT sh.classroom_id, count(*) AS n, sum(o.score) AS sy, sum(o.score * o.score) AS syy,
             ${
               withBaseline
                 ? `count(b.score) AS np, sum(o.score) FILTER (WHERE b.score IS NOT NULL) AS py, sum(b.score) AS px,
-            sum(o.score * o.score) FILTER (WHERE b.score IS NOT NULL) AS pyy, sum(b.score * b.score) AS pxx, sum(o.score * b.score) AS pxy,`
-                : `0 AS np, NULL::numeric AS py, NULL::numeric AS px, NULL::numeric AS pyy, NULL::numeric AS pxx, NULL::numeric AS pxy,`
+            sum(o.score * o.score) FILTER (WHERE b.score IS NOT NULL) AS pyy, sum(b.score * b.score) AS pxx, sum(o.score * b.score) AS pxy`
+                : `0 AS np, NULL::numeric AS py, NULL::numeric AS px, NULL::numeric AS pyy, NULL::numeric AS pxx, NULL::numeric AS pxy`
             }
-            sha256(convert_to(string_agg(sh.prefix || o.student_code || ',' || o.score::text || ',' ${withBaseline ? `|| coalesce(b.score::text, '')` : ''}, E'\\n' ORDER BY o.student_code COLLATE "C"), 'UTF8')) AS digest
-       FROM scores o ${withBaseline ? `LEFT JOIN scores b ON b.sheet_id = sh.baseline_id AND b.student_code = o.student_code AND b.score IS NOT NULL` : ''}
-      WHERE o.sheet_id = sh.id AND o.score IS NOT NULL) a
-   ORDER BY sh.i`;
+       FROM ${outcomeJoins} ${withBaseline ? baselineJoins : ''}
+      WHERE ${outcomeFilter}
+      GROUP BY sh.classroom_id) a`;
 
 /**
  * One row per arm from the count of each distinct outcome score: n; the arm's mid-rank sum ×2 and Σ(t³ − t) over the
  * pooled table; mean and median; Σ|x − c| and Σ(x − c)² for both centres (exact numeric); the values at the requested
- * ranks ($3 intervention, $4 comparison), found by binary search (width_bucket) over the cumulative counts.
+ * ranks ($5 intervention, $6 comparison), found by binary search (width_bucket) over the cumulative counts.
  */
 const valuePassSql = `
   WITH h AS (
-    SELECT x.score AS v, count(*) FILTER (WHERE sh.arm = 'intervention') AS a, count(*) FILTER (WHERE sh.arm = 'comparison') AS b
-      FROM unnest($1::uuid[], $2::text[]) AS sh(id, arm) JOIN scores x ON x.sheet_id = sh.id
-     WHERE x.score IS NOT NULL GROUP BY x.score),
+    SELECT o.score AS v, count(*) FILTER (WHERE c.arm = 'intervention') AS a, count(*) FILTER (WHERE c.arm = 'comparison') AS b
+      FROM ${outcomeJoins} WHERE ${outcomeFilter} GROUP BY o.score),
   r AS (
     SELECT v, a, b, (sum(a + b) OVER w - (a + b))::bigint AS below, (sum(a) OVER w - a)::bigint AS a_below, (sum(b) OVER w - b)::bigint AS b_below
       FROM h WINDOW w AS (ORDER BY v)),
@@ -277,7 +306,7 @@ const valuePassSql = `
          (d.s1 / m.n)::float8 AS mean_deviation, ((m.n * d.q1 - d.s1 * d.s1) / m.n)::float8 AS mean_ss,
          (d.s2 / m.n)::float8 AS median_deviation, ((m.n * d.q2 - d.s2 * d.s2) / m.n)::float8 AS median_ss,
          (SELECT array_agg(m.vs[width_bucket(p.rank, m.belows)]::float8 ORDER BY p.i)
-            FROM unnest(CASE m.arm WHEN 'intervention' THEN $3::bigint[] ELSE $4::bigint[] END) WITH ORDINALITY AS p(rank, i)) AS picked
+            FROM unnest(CASE m.arm WHEN 'intervention' THEN $5::bigint[] ELSE $6::bigint[] END) WITH ORDINALITY AS p(rank, i)) AS picked
     FROM m JOIN d USING (arm) CROSS JOIN ranks`;
 
 /**
@@ -290,13 +319,16 @@ export const canonicalSummariesSql = `
    WHERE sh.mode = 'summary' AND c.arm IS NOT NULL`;
 
 /**
- * The bundle's rows, the same lines the classroom digests hash: classroom_id,arm,student_code,outcome,pretest (pretest
- * empty when missing), scores as PostgreSQL prints numeric, in byte order of classroom ID then student code.
+ * The bundle's rows: classroom_id,arm,student_code,outcome,pretest for every student with an outcome or a pretest
+ * score in a classroom with analysed rows (either score empty when missing), scores as PostgreSQL prints numeric, in
+ * byte order of classroom ID then student code: the lines the sheets' digests are rebuilt from.
  * $1: outcome sheets with student rows, $2: the matching baseline sheet of each (or null).
  */
 export const bundleRowsSql = `
-  SELECT concat_ws(',', o.classroom_id, c.arm, o.student_code, o.score::text, coalesce(b.score::text, '')) AS line
-    FROM unnest($1::uuid[], $2::uuid[]) AS sh(id, baseline_id) JOIN scores o ON o.sheet_id = sh.id JOIN classrooms c ON c.id = o.classroom_id
-    LEFT JOIN scores b ON b.sheet_id = sh.baseline_id AND b.student_code = o.student_code AND b.score IS NOT NULL
-   WHERE o.score IS NOT NULL
-   ORDER BY o.classroom_id::text COLLATE "C", o.student_code COLLATE "C"`;
+  WITH sh AS (SELECT u.id, u.baseline_id, s.classroom_id FROM unnest($1::uuid[], $2::uuid[]) AS u(id, baseline_id) JOIN score_sheets s ON s.id = u.id),
+       o AS (SELECT sh.classroom_id, x.student_code, x.score FROM sh JOIN scores x ON x.sheet_id = sh.id WHERE x.score IS NOT NULL),
+       b AS (SELECT sh.classroom_id, x.student_code, x.score FROM sh JOIN scores x ON x.sheet_id = sh.baseline_id
+              WHERE x.score IS NOT NULL AND sh.classroom_id IN (SELECT classroom_id FROM o))
+  SELECT concat_ws(',', classroom_id, c.arm, student_code, coalesce(o.score::text, ''), coalesce(b.score::text, '')) AS line
+    FROM o FULL JOIN b USING (classroom_id, student_code) JOIN classrooms c ON c.id = classroom_id
+   ORDER BY classroom_id::text COLLATE "C", student_code COLLATE "C"`;

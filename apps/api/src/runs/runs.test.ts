@@ -5,6 +5,7 @@ import { ancova, hedgesG, levene, mannWhitney, mergeAllSummaries, sampleRanks, s
 import { signIn, startTestApp, type SignedIn, type TestApp } from '../../test/app.js';
 import { createStudy, enrolClassrooms, fillSheet, send, type StudySetup } from '../../test/fixtures.js';
 import { startQueue } from '../jobs/queue.js';
+import { storeSheetDigests } from '../score-sheets/digest.js';
 import { startWorkers } from '../jobs/workers.js';
 import { createLogger } from '../logger.js';
 
@@ -28,16 +29,35 @@ async function waitFor(runId: string, who: SignedIn, states = ['finished', 'fail
 
 let primaryComparison: string;
 
-/** The data hash from the bundle alone, as its README says: one digest per classroom's consecutive rows, then the summaries. */
+/** The bundle's rows as fields; `outcome` and `pretest` are null where the line leaves them empty. */
+function parseRows(rows: string[]) {
+  return rows.map((line) => {
+    const [classroomId, arm, code, outcome, pretest] = line.split(',');
+    return { classroomId, arm, code, outcome: outcome === '' ? null : Number(outcome), pretest: pretest === '' ? null : Number(pretest), line };
+  });
+}
+
+/** The students analysed, from the bundle: those with an outcome. */
+const analysed = (rows: string[]) => parseRows(rows).filter((r) => r.outcome !== null);
+
+/** The data hash from the bundle alone, as its README says: per classroom an outcome and a pretest digest, then the summaries. */
 function bundleHash(rows: string[], summaries: string[]): string {
   const sha = (lines: string[]) => createHash('sha256').update(lines.join('\n')).digest('hex');
+  const digest = (lines: string[]) => (lines.length ? sha(lines) : '');
   const groups: string[][] = [];
   for (const line of rows) {
     const last = groups.at(-1);
     if (last && last[0].split(',')[0] === line.split(',')[0]) last.push(line);
     else groups.push([line]);
   }
-  return sha([...groups.map(sha), ...summaries]);
+  const classroomLines = groups.map((lines) => {
+    const [classroomId, arm] = lines[0].split(',');
+    const fields = lines.map((l) => l.split(','));
+    const outcome = digest(fields.filter((f) => f[3] !== '').map((f) => `${f[2]},${f[3]}`));
+    const pretest = digest(fields.filter((f) => f[4] !== '').map((f) => `${f[2]},${f[4]}`));
+    return `${classroomId},${arm},${outcome},${pretest}`;
+  });
+  return sha([...classroomLines, ...summaries]);
 }
 
 beforeAll(async () => {
@@ -147,16 +167,37 @@ describe('comparison runs', () => {
     expect(bundleHash(bundle.rows, bundle.summaries)).toBe(bundle.dataSha256);
     expect(bundle.rows).toEqual([...bundle.rows].sort((a: string, b: string) => Buffer.compare(Buffer.from(a), Buffer.from(b))));
     const byArm: Record<string, number[]> = { intervention: [], comparison: [] };
-    for (const line of bundle.rows as string[]) {
-      const [, arm, code, outcome] = line.split(',');
-      expect(code).toMatch(/^K\d+-\d+$/);
-      byArm[arm].push(Number(outcome));
+    for (const r of analysed(bundle.rows)) {
+      expect(r.code).toMatch(/^K\d+-\d+$/);
+      byArm[r.arm].push(r.outcome!);
     }
+    // Each classroom's leaver has a pretest and no outcome: in the rows (their pretest is hashed), not analysed.
+    expect(parseRows(bundle.rows).filter((r) => r.outcome === null && r.pretest !== null)).toHaveLength(8);
     const again = welchT(byArm.intervention, byArm.comparison);
     expect(again.t).toBeCloseTo(bundle.results.primary.t, 10);
     expect(bundle.plan.version).toBe(1);
     expect(bundle.draw.seed).toBe('runs-test');
     expect(bundle.readme).toMatch(/SHA-256/);
+  });
+
+  it('hashes the same from the digests stored when sheets are accepted as from the rows, and forgets a digest when a score changes', async () => {
+    const first = (await s.lead.agent.get(`/api/runs/${runId}`)).body;
+    // The fixture wrote the rows directly, so that run hashed every sheet itself; now store them as accepting does.
+    const sheetIds: string[] = (await t.db.query(`SELECT id FROM score_sheets WHERE study_id = $1`, [s.studyId])).map((r: { id: string }) => r.id);
+    await storeSheetDigests(t.db.manager, sheetIds);
+    const stored = await t.db.query(`SELECT count(*)::int AS n FROM score_sheets WHERE study_id = $1 AND rows_sha256 IS NOT NULL`, [s.studyId]);
+    expect(stored[0].n).toBe(sheetIds.length);
+    const queued = await send(s.lead, 'post', `/api/comparisons/${primaryComparison}/runs`, { kind: 'monitoring' }, 202);
+    const second = await waitFor(queued.run.id, s.lead);
+    expect(second.state).toBe('finished');
+    expect(second.dataSha256).toBe(first.dataSha256);
+    expect(second.results.primary).toEqual(first.results.primary);
+
+    // Any write to a sheet's scores, even one that changes no value, clears its stored digest in the same statement.
+    const [one] = await t.db.query(`SELECT sheet_id FROM scores WHERE study_id = $1 AND wave_id = $2 LIMIT 1`, [s.studyId, s.outcomeId]);
+    await t.db.query(`UPDATE scores SET score = score WHERE sheet_id = $1`, [one.sheet_id]);
+    const [cleared] = await t.db.query(`SELECT rows_sha256 FROM score_sheets WHERE id = $1`, [one.sheet_id]);
+    expect(cleared.rows_sha256).toBeNull();
   });
 
   it('hides unlocked runs from principals', async () => {
@@ -275,10 +316,7 @@ describe('comparison runs', () => {
     // From the bundle alone: per arm, the rows' summary merged with the summary-only classroom's.
     const parts: Record<string, Summary[]> = { intervention: [], comparison: [] };
     const byArm: Record<string, number[]> = { intervention: [], comparison: [] };
-    for (const line of bundle.rows as string[]) {
-      const [, arm, , outcome] = line.split(',');
-      byArm[arm].push(Number(outcome));
-    }
+    for (const r of analysed(bundle.rows)) byArm[r.arm].push(r.outcome!);
     for (const arm of ['intervention', 'comparison']) {
       const v = byArm[arm];
       const mean = v.reduce((a, b) => a + b, 0) / v.length;
@@ -312,10 +350,7 @@ describe('comparison runs', () => {
     expect(run.results.diagnostics.notes.join(' ')).toMatch(/5,000 students drawn at random without replacement/);
     const bundle = (await other.lead.agent.get(`/api/runs/${run.id}/bundle`)).body;
     const byArm: Record<string, number[]> = { intervention: [], comparison: [] };
-    for (const line of bundle.rows as string[]) {
-      const [, arm, , outcome] = line.split(',');
-      byArm[arm].push(Number(outcome));
-    }
+    for (const r of analysed(bundle.rows)) byArm[r.arm].push(r.outcome!);
     for (const sw of run.results.diagnostics.shapiroWilk as { arm: string; w: number; p: number; n: number }[]) {
       const sorted = byArm[sw.arm].sort((a, b) => a - b);
       const sample = sorted.length > 5000 ? sampleRanks(sorted.length, 5000, `${bundle.dataSha256}:${sw.arm}`).map((r) => sorted[r]) : sorted;

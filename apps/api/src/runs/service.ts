@@ -366,17 +366,20 @@ const README = `Evenhand reproducibility bundle
 This file holds everything needed to recompute a locked comparison:
 - plan: the sealed plan version the run followed (alpha, sidedness, primary test, covariate, ICC rule);
 - draw: the seeded random assignment (seed, algorithm, blocks, result) and any recorded reassignments;
-- rows: one line per analysed student, "classroom_id,arm,student_code,outcome,pretest" (pretest empty when
-  missing), in byte order of classroom ID, then of student code. Student codes only, never names;
+- rows: "classroom_id,arm,student_code,outcome,pretest", one line per student with an outcome or a pretest score,
+  either empty when missing, in byte order of classroom ID, then of student code. The students with an outcome are
+  the ones analysed; those with both scores are the baseline-adjusted check's pairs. Student codes only, never names;
 - summaries: one line per classroom that reported only a summary of the outcome,
   "summary,classroom_id,arm,n,mean,sd", in byte order. They count in the t tests and effect sizes, not in the
   rank, median, normality or baseline-adjusted checks;
 - results: the numbers Evenhand computed, with the statistics engine's version.
 
-To check the data: for each classroom, take its rows (consecutive, they share the first field) joined with a
-newline ("\\n") and compute their SHA-256 as lowercase hex; the SHA-256 of those classroom digests, in the rows'
-order, followed by the summaries, all joined with a newline, must equal dataSha256.
-To check the numbers: per arm, merge the rows' n, mean and sum of squared deviations with each summary's
+To check the data: for each classroom (its rows are consecutive), take "student_code,outcome" of the rows with an
+outcome, joined with a newline ("\\n"), and compute the SHA-256 as lowercase hex: the outcome digest; the same with
+"student_code,pretest" of the rows with a pretest gives the pretest digest (left empty when there is none). The
+SHA-256 of the lines "classroom_id,arm,outcome digest,pretest digest", in the rows' order, followed by the summaries,
+all joined with a newline, must equal dataSha256.
+To check the numbers: per arm, merge the analysed rows' n, mean and sum of squared deviations with each summary's
 (n, mean, (n − 1)·sd²), and recompute with the same engine version of @evenhand/stats
 (for example welchTFromSummary on each arm's n, mean and SD, hedgesG, clusterAdjusted with the plan's ICC),
 or with any statistics library: Welch's t with the Welch–Satterthwaite degrees of freedom, Hedges' g with the

@@ -1,3 +1,4 @@
+import { createHash } from 'node:crypto';
 import { completionMatrixSchema } from '@evenhand/entities';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { signIn, startTestApp, type SignedIn, type TestApp } from '../../test/app.js';
@@ -11,6 +12,9 @@ let teacher2: SignedIn;
 let sheet1: string; // teacher1's baseline sheet
 let sheet2: string; // teacher2's baseline sheet
 let outcomeSheet1: string;
+
+const storedDigest = async (sheetId: string): Promise<string | null> =>
+  (await t.db.query(`SELECT encode(rows_sha256, 'hex') AS digest FROM score_sheets WHERE id = $1`, [sheetId]))[0].digest;
 
 beforeAll(async () => {
   t = await startTestApp();
@@ -123,14 +127,18 @@ describe('the sheet’s workflow', () => {
     expect((await teacher1.agent.post(`/api/score-sheets/${sheet1}/accept`).set('x-csrf-token', teacher1.csrf)).status).toBe(403);
     const returned = await send(s.coordinator, 'post', `/api/score-sheets/${sheet1}/return`, { reasons: 'LV-0002 looks like a typing slip; please check.' }, 200);
     expect(returned).toMatchObject({ state: 'returned', returnReasons: 'LV-0002 looks like a typing slip; please check.', editable: true });
+    expect(await storedDigest(sheet1)).not.toBeNull(); // stored at submit; returning does not change the rows
     await put(teacher1, sheet1, [
       { studentCode: 'LV-0001', score: 82 },
       { studentCode: 'LV-0002', score: 46 },
       { studentCode: 'LV-0003', score: null, left: true },
     ]).expect(200);
+    expect(await storedDigest(sheet1)).toBeNull(); // the write forgot it
     await send(teacher1, 'post', `/api/score-sheets/${sheet1}/submit`, {}, 200);
     const accepted = await send(s.coordinator, 'post', `/api/score-sheets/${sheet1}/accept`, {}, 200);
     expect(accepted).toMatchObject({ state: 'accepted', editable: false });
+    // The digest runs hash: SHA-256 of the scored rows as "code,score" lines in byte order of code (the leaver has no score).
+    expect(await storedDigest(sheet1)).toBe(createHash('sha256').update('LV-0001,82\nLV-0002,46').digest('hex'));
     const late = await put(teacher1, sheet1, [{ studentCode: 'LV-0001', score: 99 }]);
     expect(late.status).toBe(409);
     expect(late.body.error.message).toBe('This score sheet was accepted and is read-only');

@@ -6,6 +6,7 @@ import { AppError } from '../errors.js';
 import { csvBatches } from '../lib/csv.js';
 import { currentPlan } from '../plans/service.js';
 import { findVisibleStudy, hasRole } from '../studies/access.js';
+import { storeSheetDigests } from './digest.js';
 import { rowFromCsv } from './rows.js';
 import { applyStaged, stageRows } from './write.js';
 
@@ -257,6 +258,7 @@ export async function moveSheet(db: DataSource, user: SessionUser, id: string, s
       });
     }
     await manager.update(ScoreSheetEntity, id, patch);
+    if (patch.state === 'submitted' || patch.state === 'accepted') await storeSheetDigests(manager, [id]);
     await recordAudit(manager, {
       actorId: user.id,
       studyId: row.study_id,

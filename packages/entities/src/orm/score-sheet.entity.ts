@@ -56,6 +56,10 @@ export class ScoreSheetEntity {
   @Column({ name: 'reviewed_by', type: 'uuid', nullable: true })
   reviewedBy!: string | null;
 
+  /** SHA-256 of the scored rows, stored when the sheet is submitted or accepted; any write to its scores clears it. */
+  @Column({ name: 'rows_sha256', type: 'bytea', nullable: true, select: false })
+  rowsSha256!: Buffer | null;
+
   @UpdateDateColumn({ name: 'updated_at', type: 'timestamptz' })
   updatedAt!: Date;
 }
