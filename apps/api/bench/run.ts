@@ -75,7 +75,8 @@ export async function benchRun() {
     console.log(`\nConfirmatory run over ${r.rows.toLocaleString('en-US')} scores (median of 3)`);
     console.log(`  bare aggregate scan:        ${r.scan.toFixed(0)} ms`);
     console.log(`  full run:                   ${r.run.toFixed(0)} ms`);
-    console.log(`  ratio:                      ${(r.run / r.scan).toFixed(2)}×   (goal ≤ 4×)`);
+    // The goal is set at 2 000 000 scores; at 25 per classroom the per-classroom work weighs more against the scan.
+    console.log(`  ratio:                      ${(r.run / r.scan).toFixed(2)}×${r === large ? '   (goal ≤ 4×)' : ''}`);
     console.log(`  without stored digests:     ${r.unstored.toFixed(0)} ms (${(r.unstored / r.scan).toFixed(2)}×; every row hashed)`);
     console.log(`  peak extra heap + buffers:  ${(r.peak.js / 2 ** 20).toFixed(1)} MB   (RSS ${(r.peak.rss / 2 ** 20).toFixed(1)} MB)`);
     // What the run did not compute at this size, in its own words.

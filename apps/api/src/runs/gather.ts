@@ -296,8 +296,10 @@ const valuePassSql = `
       FROM h WINDOW w AS (ORDER BY v)),
   ranks AS (SELECT sum(a * (2 * below + a + b + 1)) / 2 AS rank_sum, sum((a + b)::numeric * (a + b) * (a + b) - (a + b)) AS tie_term FROM r),
   g AS (SELECT 'intervention' AS arm, v, a AS k, a_below AS below FROM r WHERE a > 0 UNION ALL SELECT 'comparison', v, b, b_below FROM r WHERE b > 0),
-  c AS (SELECT arm, sum(k)::bigint AS n, sum(k * v) / sum(k) AS mean, array_agg(below ORDER BY v) AS belows, array_agg(v ORDER BY v) AS vs FROM g GROUP BY arm),
-  m AS (SELECT arm, n, mean, belows, vs, (vs[width_bucket((n - 1) / 2, belows)] + vs[width_bucket(n / 2, belows)]) / 2 AS median FROM c),
+  -- The picked values are read from a float8 copy: subscripting a numeric[] walks its variable-width elements each time.
+  c AS (SELECT arm, sum(k)::bigint AS n, sum(k * v) / sum(k) AS mean, array_agg(below ORDER BY v) AS belows, array_agg(v ORDER BY v) AS vs,
+               array_agg(v::float8 ORDER BY v) AS fvs FROM g GROUP BY arm),
+  m AS (SELECT arm, n, mean, belows, fvs, (vs[width_bucket((n - 1) / 2, belows)] + vs[width_bucket(n / 2, belows)]) / 2 AS median FROM c),
   d AS (
     SELECT g.arm, sum(g.k * abs(g.v - m.mean)) AS s1, sum(g.k * (g.v - m.mean) * (g.v - m.mean)) AS q1,
            sum(g.k * abs(g.v - m.median)) AS s2, sum(g.k * (g.v - m.median) * (g.v - m.median)) AS q2
@@ -305,7 +307,7 @@ const valuePassSql = `
   SELECT m.arm, m.n, ranks.rank_sum::float8 AS rank_sum, ranks.tie_term::float8 AS tie_term,
          (d.s1 / m.n)::float8 AS mean_deviation, ((m.n * d.q1 - d.s1 * d.s1) / m.n)::float8 AS mean_ss,
          (d.s2 / m.n)::float8 AS median_deviation, ((m.n * d.q2 - d.s2 * d.s2) / m.n)::float8 AS median_ss,
-         (SELECT array_agg(m.vs[width_bucket(p.rank, m.belows)]::float8 ORDER BY p.i)
+         (SELECT array_agg(m.fvs[width_bucket(p.rank, m.belows)] ORDER BY p.i)
             FROM unnest(CASE m.arm WHEN 'intervention' THEN $5::bigint[] ELSE $6::bigint[] END) WITH ORDINALITY AS p(rank, i)) AS picked
     FROM m JOIN d USING (arm) CROSS JOIN ranks`;
 
