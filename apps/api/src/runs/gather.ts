@@ -259,9 +259,10 @@ interface ValueRow {
 const outcomeJoins = `scores o JOIN score_sheets sh ON sh.id = o.sheet_id AND sh.state = ANY($4) AND sh.mode = 'rows'
            JOIN classrooms c ON c.id = sh.classroom_id AND c.arm IS NOT NULL`;
 const outcomeFilter = `o.study_id = $1 AND o.wave_id = $2 AND o.measure_id = $3 AND o.score IS NOT NULL`;
-/** $5: the baseline wave; a student's pretest is their score on the classroom's baseline sheet. */
+/** $5: the baseline wave; a student's pretest is their score on the classroom's baseline sheet (the repeated keys let the planner hash only that wave's scores). */
 const baselineJoins = `LEFT JOIN score_sheets bs ON bs.classroom_id = sh.classroom_id AND bs.study_id = $1 AND bs.wave_id = $5 AND bs.measure_id = $3 AND bs.state = ANY($4)
-      LEFT JOIN scores b ON b.sheet_id = bs.id AND b.student_code = o.student_code AND b.score IS NOT NULL`;
+      LEFT JOIN scores b ON b.sheet_id = bs.id AND b.student_code = o.student_code AND b.score IS NOT NULL
+                         AND b.study_id = $1 AND b.wave_id = $5 AND b.measure_id = $3`;
 
 // Sums are numeric, so exact; each moment is one division of an exact numerator: (nΣx² − (Σx)²)/n keeps its digits for scores far from zero.
 // Without a baseline the pairs' columns are constant nulls and the join is left out: it costs a lookup per student.
