@@ -1,6 +1,7 @@
 // A full confirmatory run over 2 000 000 scores in 8 000 classrooms, against one bare aggregate scan of
 // the same rows in the same run; and the run's extra memory when the rows grow 10× (25 → 250 scores per
-// classroom): the run holds one summary per classroom in Node, never the rows, so it must stay flat.
+// classroom): the run holds one summary per classroom in Node, never the rows, so it must stay flat. Then, for
+// information, the 2 000 000-score run again with each student's pretest from a baseline wave (pretest adjustment).
 import { executeRun, listComparisons } from '../src/runs/service.js';
 import { storeSheetDigests } from '../src/score-sheets/digest.js';
 import { median, openBench, time } from './setup.js';
@@ -9,6 +10,43 @@ export async function benchRun() {
   const b = await openBench('run');
   const { db, logger, lead } = b;
   const study = b.study;
+  type Study = Awaited<ReturnType<typeof study>>;
+  /** Median of 3 of the bare scan and of the full run, and the run's peak extra memory. */
+  async function measure(s: Study, comparisonId: string) {
+    const runTimes: number[] = [];
+    const scanTimes: number[] = [];
+    const peak = { js: 0, rss: 0 };
+    let notes: string[] = [];
+    for (let i = 0; i < 3; i++) {
+      scanTimes.push(
+        await time(() =>
+          db.query(
+            `SELECT c.arm, count(*), sum(x.score), sum(x.score * x.score) FROM scores x JOIN classrooms c ON c.id = x.classroom_id
+              WHERE x.study_id = $1 AND x.wave_id = $2 AND x.measure_id = $3 GROUP BY c.arm`,
+            [s.studyId, s.waveId, s.measureId],
+          ),
+        ),
+      );
+      const [run] = await db.query(`INSERT INTO runs (comparison_id, study_id, kind, plan_version) VALUES ($1, $2, 'confirmatory', 1) RETURNING id`, [comparisonId, s.studyId]);
+      // Collected first, so each run's peak is measured from the same floor.
+      global.gc?.();
+      const base = process.memoryUsage();
+      // JavaScript heap plus buffers is what the run itself allocates; RSS also moves with the queue polling beside it.
+      const js = (m: NodeJS.MemoryUsage) => m.heapUsed + m.external + m.arrayBuffers;
+      const watch = setInterval(() => {
+        const m = process.memoryUsage();
+        peak.js = Math.max(peak.js, js(m) - js(base));
+        peak.rss = Math.max(peak.rss, m.rss - base.rss);
+      }, 5);
+      runTimes.push(await time(() => executeRun(db, logger, run.id)));
+      clearInterval(watch);
+      const [done] = await db.query(`SELECT state, error, results->'diagnostics'->'notes' AS notes FROM runs WHERE id = $1`, [run.id]);
+      if (done.state !== 'finished') throw new Error(`bench run ${done.state}: ${done.error}`);
+      notes = done.notes;
+    }
+    return { run: median(runTimes), scan: median(scanTimes), peak, notes };
+  }
+
   async function runBench(classrooms: number, perClass: number) {
     // An odd number of sites, so the alternating arms meet in every site and the per-site pooling runs too.
     const s = await study(classrooms, Math.max(2, Math.round(classrooms / 80)) | 1);
@@ -31,42 +69,12 @@ export async function benchRun() {
     // As autovacuum would after a bulk load: the planner needs the new tables' sizes.
     await db.query('ANALYZE');
     const { items } = await listComparisons(db, lead, s.studyId);
-    const runTimes: number[] = [];
-    const scanTimes: number[] = [];
-    const peak = { js: 0, rss: 0 };
-    let notes: string[] = [];
-    for (let i = 0; i < 3; i++) {
-      scanTimes.push(
-        await time(() =>
-          db.query(
-            `SELECT c.arm, count(*), sum(x.score), sum(x.score * x.score) FROM scores x JOIN classrooms c ON c.id = x.classroom_id
-              WHERE x.study_id = $1 AND x.wave_id = $2 AND x.measure_id = $3 GROUP BY c.arm`,
-            [s.studyId, s.waveId, s.measureId],
-          ),
-        ),
-      );
-      const [run] = await db.query(`INSERT INTO runs (comparison_id, study_id, kind, plan_version) VALUES ($1, $2, 'confirmatory', 1) RETURNING id`, [items[0].id, s.studyId]);
-      // Collected first, so each run's peak is measured from the same floor.
-      global.gc?.();
-      const base = process.memoryUsage();
-      // JavaScript heap plus buffers is what the run itself allocates; RSS also moves with the queue polling beside it.
-      const js = (m: NodeJS.MemoryUsage) => m.heapUsed + m.external + m.arrayBuffers;
-      const watch = setInterval(() => {
-        const m = process.memoryUsage();
-        peak.js = Math.max(peak.js, js(m) - js(base));
-        peak.rss = Math.max(peak.rss, m.rss - base.rss);
-      }, 5);
-      runTimes.push(await time(() => executeRun(db, logger, run.id)));
-      clearInterval(watch);
-      const [done] = await db.query(`SELECT state, error, results->'diagnostics'->'notes' AS notes FROM runs WHERE id = $1`, [run.id]);
-      if (done.state !== 'finished') throw new Error(`bench run ${done.state}: ${done.error}`);
-      notes = done.notes;
-    }
+    const measured = await measure(s, items[0].id);
     // For comparison: the same run when no sheet has its digest stored yet (rows written outside the API), so the run hashes every row.
     await db.query(`UPDATE score_sheets SET rows_sha256 = NULL WHERE study_id = $1`, [s.studyId]);
     const [cold] = await db.query(`INSERT INTO runs (comparison_id, study_id, kind, plan_version) VALUES ($1, $2, 'confirmatory', 1) RETURNING id`, [items[0].id, s.studyId]);
     const unstored = await time(() => executeRun(db, logger, cold.id));
-    return { rows: classrooms * perClass, run: median(runTimes), scan: median(scanTimes), unstored, peak, notes };
+    return { rows: classrooms * perClass, ...measured, unstored, study: s, comparisonId: items[0].id as string };
   }
 
   const small = await runBench(8000, 25);
@@ -82,6 +90,43 @@ export async function benchRun() {
     // What the run did not compute at this size, in its own words.
     for (const note of r.notes) console.log(`  note: ${note}`);
   }
+  // With pretest adjustment: the same 2 000 000 outcome scores each paired with a baseline score of the same student.
+  const { study: s, comparisonId } = large;
+  const [baselineWave] = await db.query(`INSERT INTO waves (study_id, kind, name, opens_on, closes_on) VALUES ($1, 'baseline', 'Before', current_date - 90, current_date - 60) RETURNING id`, [s.studyId]);
+  await db.query(`INSERT INTO score_sheets (study_id, classroom_id, wave_id, measure_id, state) SELECT $1, id, $2, $3, 'accepted' FROM classrooms WHERE study_id = $1`, [s.studyId, baselineWave.id, s.measureId]);
+  await db.query(
+    `INSERT INTO scores (sheet_id, study_id, classroom_id, wave_id, measure_id, student_code, score, left_study)
+     SELECT bs.id, $1, o.classroom_id, $2, $3, o.student_code, greatest(0, o.score - 40 + round((50 * (random() - 0.5))::numeric, 1)), false
+       FROM scores o JOIN score_sheets bs ON bs.classroom_id = o.classroom_id AND bs.wave_id = $2
+      WHERE o.study_id = $1 AND o.wave_id = $4`,
+    [s.studyId, baselineWave.id, s.measureId, s.waveId],
+  );
+  const allSheets: string[] = (await db.query(`SELECT id FROM score_sheets WHERE study_id = $1`, [s.studyId])).map((r: { id: string }) => r.id);
+  await storeSheetDigests(db.manager, allSheets);
+  await db.query('ANALYZE');
+  await db.query(`UPDATE comparisons SET covariate = 'baseline' WHERE id = $1`, [comparisonId]);
+  const adjusted = await measure(s, comparisonId);
+  // The pretest doubles the rows the run reads, so it is also set against one scan of both waves.
+  const bothScans: number[] = [];
+  for (let i = 0; i < 3; i++) {
+    bothScans.push(
+      await time(() =>
+        db.query(
+          `SELECT c.arm, count(*), sum(x.score), sum(x.score * x.score) FROM scores x JOIN classrooms c ON c.id = x.classroom_id
+            WHERE x.study_id = $1 AND x.wave_id IN ($2, $3) AND x.measure_id = $4 GROUP BY c.arm`,
+          [s.studyId, s.waveId, baselineWave.id, s.measureId],
+        ),
+      ),
+    );
+  }
+  const bothScan = median(bothScans);
+  console.log(`\nThe same run adjusted for the pretest (${large.rows.toLocaleString('en-US')} outcome + ${large.rows.toLocaleString('en-US')} baseline scores, median of 3)`);
+  console.log(`  bare aggregate scan (outcome wave): ${adjusted.scan.toFixed(0)} ms`);
+  console.log(`  bare aggregate scan (both waves):   ${bothScan.toFixed(0)} ms`);
+  console.log(`  full run:                           ${adjusted.run.toFixed(0)} ms`);
+  // Informative: the goal is set for the run above; this one also pairs every student with their pretest.
+  console.log(`  ratio:                              ${(adjusted.run / adjusted.scan).toFixed(2)}× the outcome scan, ${(adjusted.run / bothScan).toFixed(2)}× the two-wave scan`);
+
   console.log(`\nmemory growth when the rows grow 10× (same 8 000 classrooms): ${(large.peak.js / small.peak.js).toFixed(2)}× the smaller run's peak extra heap + buffers (goal: flat, ≈ 1×)`);
 
   await b.close();
