@@ -16,6 +16,8 @@ export default defineConfig({
         codeSplitting: {
           groups: [
             { name: 'react', test: /node_modules[\\/](react|react-dom|scheduler)[\\/]/ },
+            // Only the lazily loaded chart pages use these, so they stay out of the first download.
+            { name: 'charts', test: /node_modules[\\/](@observablehq|d3|d3-[^\\/]+|internmap|delaunator|robust-predicates|interval-tree-1d|binary-search-bounds|isoformat)[\\/]/ },
             { name: 'vendor', test: /node_modules[\\/]/ },
           ],
         },

@@ -9,16 +9,12 @@ import { Loading } from '@/components/ui/spinner';
 import { AccountsPage, accountsLoader, accountsShouldRevalidate } from '@/features/accounts/routes';
 import { AuditPage, auditLoader, auditShouldRevalidate, StudyAuditPage, studyAuditLoader } from '@/features/audit/routes';
 import { sessionQueryOptions } from '@/features/auth/api';
-import { ChecksPage, checksLoader } from '@/features/checks/routes';
-import { ComparisonsPage, comparisonsLoader, RunResultsPage, runLoader } from '@/features/comparisons/routes';
-import { reportLoader, StudyReportPage } from '@/features/report/routes';
 import { ForgotPasswordPage, SetPasswordPage, SignInPage } from '@/features/auth/routes';
 import { DigestsPage, digestsLoader, digestsShouldRevalidate, EmailPreferencesPage } from '@/features/digests/routes';
 import { ToDoPanel } from '@/features/home/components/to-do-panel';
 import { NoRolePage } from '@/features/home/routes';
 import { MySchoolPage, mySchoolLoader } from '@/features/my-school/routes';
 import { DrawPage, drawLoader } from '@/features/draw/routes';
-import { PlanPage, planLoader } from '@/features/plan/routes';
 import { SitesPage, sitesLoader } from '@/features/sites/routes';
 import {
   MyClassesPage,
@@ -95,10 +91,17 @@ export function createRoutes(queryClient: QueryClient): RouteObject[] {
                     {
                       // Inside the study, so a refused tab keeps the study's header and tabs.
                       errorElement: <RouteError />,
+                      // The tabs that draw charts load on first visit: the chart library is a third of the app's weight.
                       children: [
                         { index: true, loader: studyIndexLoader },
                         { path: studyTabs.overview.path, loader: guardArea(queryClient, studyTabs.overview), Component: StudyOverviewPage },
-                        { path: studyTabs.plan.path, loader: guardArea(queryClient, studyTabs.plan, planLoader(queryClient)), Component: PlanPage },
+                        {
+                          path: studyTabs.plan.path,
+                          lazy: async () => {
+                            const { PlanPage, planLoader } = await import('@/features/plan/routes');
+                            return { loader: guardArea(queryClient, studyTabs.plan, planLoader(queryClient)), Component: PlanPage };
+                          },
+                        },
                         { path: studyTabs.sites.path, loader: guardArea(queryClient, studyTabs.sites, sitesLoader(queryClient)), Component: SitesPage },
                         { path: studyTabs.draw.path, loader: guardArea(queryClient, studyTabs.draw, drawLoader(queryClient)), Component: DrawPage },
                         {
@@ -111,22 +114,34 @@ export function createRoutes(queryClient: QueryClient): RouteObject[] {
                           loader: guardArea(queryClient, studyTabs.scoreSheets, studySheetLoader(queryClient)),
                           Component: StudySheetPage,
                         },
-                        { path: studyTabs.checks.path, loader: guardArea(queryClient, studyTabs.checks, checksLoader(queryClient)), Component: ChecksPage },
+                        {
+                          path: studyTabs.checks.path,
+                          lazy: async () => {
+                            const { ChecksPage, checksLoader } = await import('@/features/checks/routes');
+                            return { loader: guardArea(queryClient, studyTabs.checks, checksLoader(queryClient)), Component: ChecksPage };
+                          },
+                        },
                         {
                           path: studyTabs.comparisons.path,
-                          loader: guardArea(queryClient, studyTabs.comparisons, comparisonsLoader(queryClient)),
-                          Component: ComparisonsPage,
+                          lazy: async () => {
+                            const { ComparisonsPage, comparisonsLoader } = await import('@/features/comparisons/routes');
+                            return { loader: guardArea(queryClient, studyTabs.comparisons, comparisonsLoader(queryClient)), Component: ComparisonsPage };
+                          },
                         },
                         {
                           path: `${studyTabs.comparisons.path}/runs/:runId`,
-                          loader: guardArea(queryClient, studyTabs.comparisons, runLoader(queryClient)),
-                          Component: RunResultsPage,
+                          lazy: async () => {
+                            const { RunResultsPage, runLoader } = await import('@/features/comparisons/routes');
+                            return { loader: guardArea(queryClient, studyTabs.comparisons, runLoader(queryClient)), Component: RunResultsPage };
+                          },
                         },
                         {
                           // The printable report reads the same results as the Comparisons tab, for the same roles.
                           path: 'report',
-                          loader: guardArea(queryClient, studyTabs.comparisons, reportLoader(queryClient)),
-                          Component: StudyReportPage,
+                          lazy: async () => {
+                            const { reportLoader, StudyReportPage } = await import('@/features/report/routes');
+                            return { loader: guardArea(queryClient, studyTabs.comparisons, reportLoader(queryClient)), Component: StudyReportPage };
+                          },
                         },
                         {
                           path: studyTabs.digests.path,
