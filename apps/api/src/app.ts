@@ -18,7 +18,7 @@ import { studiesRouter } from './studies/router.js';
 import { authenticate } from './auth/middleware.js';
 import { authRouter } from './auth/router.js';
 import type { Deps } from './deps.js';
-import { apiNotFound, errorHandler } from './errors.js';
+import { apiNotFound, AppError, errorHandler } from './errors.js';
 import { healthRouter } from './health/router.js';
 import { homeRouter } from './home/router.js';
 import { openApiRouter } from './openapi/router.js';
@@ -61,6 +61,11 @@ export function createApp(deps: Deps) {
 
   const web = deps.config.webDist;
   if (web && existsSync(path.join(web, 'index.html'))) {
+    // Built files carry a hash of their content in their names, so they can be cached for good. A name that is gone
+    // (a chunk of the release a page was opened with) answers 404, never the page: the browser then says a load failed.
+    app.use('/assets', express.static(path.join(web, 'assets'), { immutable: true, maxAge: '1y' }), (req, _res, next) =>
+      next(new AppError('not_found', `No such file: ${req.originalUrl.split('?')[0]} (it may belong to an earlier release)`)),
+    );
     app.use(express.static(web, { index: false, maxAge: '1h' }));
     // Client-side routes: every other GET gets the single-page app.
     app.get('/{*splat}', (_req, res) => res.sendFile(path.join(web, 'index.html')));

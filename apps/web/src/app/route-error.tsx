@@ -29,6 +29,10 @@ function NotAvailableForRole({ message }: { message?: string }) {
   );
 }
 
+/** A page's code that no longer loads, most often because a new release went out while the page was open (each browser words it its own way). */
+const isUnloadableCode = (error: unknown) =>
+  error instanceof Error && /dynamically imported module|module script failed|unable to preload css/i.test(error.message);
+
 function errorContent(error: unknown, here: string): ReactNode {
   if ((isRouteErrorResponse(error) && error.status === 404) || (error instanceof ApiError && error.code === 'not_found')) {
     return <NotFoundPage />;
@@ -43,6 +47,20 @@ function errorContent(error: unknown, here: string): ReactNode {
         <p className="mt-6">
           <Link to={signInPath(here)}>Sign in and come back to this page</Link>
         </p>
+      </>
+    );
+  }
+  if (isUnloadableCode(error)) {
+    return (
+      <>
+        <PageHeader title="Evenhand needs a reload" />
+        <Alert tone="info">
+          This page could not be loaded, most often because Evenhand was updated while it was open. Reloading gets the current version;
+          everything already saved stays as it is.
+        </Alert>
+        <div className="mt-6">
+          <Button onClick={() => window.location.reload()}>Reload the page</Button>
+        </div>
       </>
     );
   }
