@@ -91,7 +91,7 @@ export function createRoutes(queryClient: QueryClient): RouteObject[] {
                     {
                       // Inside the study, so a refused tab keeps the study's header and tabs.
                       errorElement: <RouteError />,
-                      // The tabs that draw charts load on first visit: the chart library is a third of the app's weight.
+                      // The tabs that draw charts load on first visit: the chart library is over a quarter of the app's weight.
                       children: [
                         { index: true, loader: studyIndexLoader },
                         { path: studyTabs.overview.path, loader: guardArea(queryClient, studyTabs.overview), Component: StudyOverviewPage },
