@@ -20,6 +20,14 @@ export async function benchRun() {
         [s.studyId, waveIds, s.measureId],
       ),
     );
+  /** What accepting the study's sheets does: store each sheet's digest, after the planner learns the bulk load's sizes (as autovacuum would). */
+  async function acceptSheets(s: Study) {
+    await db.query('ANALYZE');
+    const sheetIds: string[] = (await db.query(`SELECT id FROM score_sheets WHERE study_id = $1`, [s.studyId])).map((r: { id: string }) => r.id);
+    await storeSheetDigests(db.manager, sheetIds);
+  }
+  const queueRun = async (s: Study, comparisonId: string): Promise<string> =>
+    (await db.query(`INSERT INTO runs (comparison_id, study_id, kind, plan_version) VALUES ($1, $2, 'confirmatory', 1) RETURNING id`, [comparisonId, s.studyId]))[0].id;
   /** Median of 3 of the bare scan and of the full run, and the run's peak extra memory. */
   async function measure(s: Study, comparisonId: string) {
     const runTimes: number[] = [];
@@ -28,7 +36,7 @@ export async function benchRun() {
     let notes: string[] = [];
     for (let i = 0; i < 3; i++) {
       scanTimes.push(await bareScan(s, [s.waveId]));
-      const [run] = await db.query(`INSERT INTO runs (comparison_id, study_id, kind, plan_version) VALUES ($1, $2, 'confirmatory', 1) RETURNING id`, [comparisonId, s.studyId]);
+      const runId = await queueRun(s, comparisonId);
       // Collected first, so each run's peak is measured from the same floor.
       global.gc?.();
       const base = process.memoryUsage();
@@ -39,9 +47,9 @@ export async function benchRun() {
         peak.js = Math.max(peak.js, js(m) - js(base));
         peak.rss = Math.max(peak.rss, m.rss - base.rss);
       }, 5);
-      runTimes.push(await time(() => executeRun(db, logger, run.id)));
+      runTimes.push(await time(() => executeRun(db, logger, runId)));
       clearInterval(watch);
-      const [done] = await db.query(`SELECT state, error, results->'diagnostics'->'notes' AS notes FROM runs WHERE id = $1`, [run.id]);
+      const [done] = await db.query(`SELECT state, error, results->'diagnostics'->'notes' AS notes FROM runs WHERE id = $1`, [runId]);
       if (done.state !== 'finished') throw new Error(`bench run ${done.state}: ${done.error}`);
       notes = done.notes;
     }
@@ -64,18 +72,14 @@ export async function benchRun() {
         WHERE st.study_id = $1`,
       [s.studyId, s.waveId, s.measureId],
     );
-    // As autovacuum would after a bulk load: the planner needs the new tables' sizes.
-    await db.query('ANALYZE');
-    // The sheets are accepted, and accepting stores each sheet's digest: do what the accept step does.
-    const sheetIds: string[] = (await db.query(`SELECT id FROM score_sheets WHERE study_id = $1`, [s.studyId])).map((r: { id: string }) => r.id);
-    await storeSheetDigests(db.manager, sheetIds);
-    const { items } = await listComparisons(db, lead, s.studyId);
-    const measured = await measure(s, items[0].id);
+    await acceptSheets(s);
+    const comparisonId: string = (await listComparisons(db, lead, s.studyId)).items[0].id;
+    const measured = await measure(s, comparisonId);
     // For comparison: the same run when no sheet has its digest stored yet (rows written outside the API), so the run hashes every row.
     await db.query(`UPDATE score_sheets SET rows_sha256 = NULL WHERE study_id = $1`, [s.studyId]);
-    const [cold] = await db.query(`INSERT INTO runs (comparison_id, study_id, kind, plan_version) VALUES ($1, $2, 'confirmatory', 1) RETURNING id`, [items[0].id, s.studyId]);
-    const unstored = await time(() => executeRun(db, logger, cold.id));
-    return { rows: classrooms * perClass, ...measured, unstored, study: s, comparisonId: items[0].id as string };
+    const coldRunId = await queueRun(s, comparisonId);
+    const unstored = await time(() => executeRun(db, logger, coldRunId));
+    return { rows: classrooms * perClass, ...measured, unstored, study: s, comparisonId };
   }
 
   const small = await runBench(8000, 25);
@@ -102,9 +106,7 @@ export async function benchRun() {
       WHERE o.study_id = $1 AND o.wave_id = $4`,
     [s.studyId, baselineWave.id, s.measureId, s.waveId],
   );
-  await db.query('ANALYZE');
-  const allSheets: string[] = (await db.query(`SELECT id FROM score_sheets WHERE study_id = $1`, [s.studyId])).map((r: { id: string }) => r.id);
-  await storeSheetDigests(db.manager, allSheets);
+  await acceptSheets(s);
   await db.query(`UPDATE comparisons SET covariate = 'baseline' WHERE id = $1`, [comparisonId]);
   const adjusted = await measure(s, comparisonId);
   // The pretest doubles the rows the run reads, so it is also set against one scan of both waves.
