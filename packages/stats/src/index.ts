@@ -12,6 +12,8 @@ export * from './normality.js';
 export * from './nonparametric.js';
 export * from './effect-size.js';
 export * from './cluster.js';
+export { unitMomentsFromRows } from './unit-moments.js';
+export type { UnitMoments, ClusteredRows } from './unit-moments.js';
 export * from './regression.js';
 export * from './standards.js';
 export * from './meta.js';
