@@ -58,7 +58,7 @@ describe('one classroom per student code', () => {
     await put(teacher1, sheet1, [{ studentCode: 'MOVE-01', score: 40 }]).expect(200);
     const taken = await put(teacher2, sheet2, [{ studentCode: 'MOVE-01', score: 41 }]);
     expect(taken.status).toBe(400);
-    expect(taken.body.error.details.rows[0].message).toMatch(/belongs to another classroom/);
+    expect(taken.body.error.details.rows[0].message).toMatch(/cannot be used in this classroom/);
 
     await put(teacher1, sheet1, [{ studentCode: 'STAY-01', score: 40 }]).expect(200);
     expect(await count(`SELECT count(*)::int AS n FROM students WHERE study_id = $1 AND student_code = 'MOVE-01'`, [s.studyId])).toBe(0);
@@ -83,10 +83,10 @@ describe('one classroom per student code', () => {
     expect(res.status).toBe(409);
     expect(res.body.error.message).toMatch(/registered some of these student codes at the same moment/);
     expect(await count(`SELECT count(*)::int AS n FROM scores WHERE study_id = $1 AND student_code = 'RACE-01'`, [s.studyId])).toBe(0);
-    // Saved again, the code is reported with the classroom that has it.
+    // Saved again, the code is reported as not usable here (which classroom has it is not the teacher's business).
     const again = await put(teacher2, sheet2, [{ studentCode: 'RACE-01', score: 31 }]);
     expect(again.status).toBe(400);
-    expect(again.body.error.details.rows[0].message).toMatch(/belongs to another classroom of this study \(Room 1\)/);
+    expect(again.body.error.details.rows[0].message).toBe('Student code RACE-01 cannot be used in this classroom');
   });
 });
 

@@ -100,10 +100,14 @@ describe('teacher entry by form', () => {
     expect(name.body.error.details.issues[0].message).toMatch(/not a name/);
   });
 
-  it('when a code already belongs to another classroom of the study, then it is refused', async () => {
+  it('when a code already belongs to another classroom of the study, then it is refused without naming that classroom', async () => {
     const res = await put(teacher2, sheet2, [{ studentCode: 'LV-0002', score: 50 }]);
     expect(res.status).toBe(400);
-    expect(res.body.error.details.rows[0].message).toMatch(/belongs to another classroom of this study \(Room 1\)/);
+    expect(res.body.error.details.rows[0].message).toBe('Student code LV-0002 cannot be used in this classroom');
+    const dry = await upload(teacher2, sheet2, 'student_code,score\nLV-0002,50\n', '?dryRun=true');
+    expect(dry.status).toBe(400);
+    expect(dry.body.error.details.rows).toEqual([{ row: 2, column: 'student_code', message: 'Student code LV-0002 cannot be used in this classroom' }]);
+    expect(JSON.stringify(dry.body)).not.toMatch(/Room 1|another classroom/);
   });
 
   it('when a teacher opens or writes another teacher’s sheet, then it answers 404; a coordinator cannot enter scores', async () => {

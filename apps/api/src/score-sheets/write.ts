@@ -124,16 +124,18 @@ async function duplicates(manager: EntityManager): Promise<RowIssue[]> {
   return rows.map((r) => ({ row: r.line, column: 'student_code', message: `Student code ${r.student_code} is also on row ${r.first}` }));
 }
 
-/** A code already registered to another classroom of the study: one student, one classroom. */
+/**
+ * A code already registered to another classroom of the study: one student, one classroom. The message does not
+ * say which classroom (nor that another one has it): the writer is a teacher, who sees only their own classrooms.
+ */
 async function codesOfOtherClassrooms(manager: EntityManager, sheet: SheetKeys): Promise<RowIssue[]> {
-  const rows: { line: number; student_code: string; classroom_name: string }[] = await manager.query(
-    `SELECT n.line, n.student_code, c.name AS classroom_name
+  const rows: { line: number; student_code: string }[] = await manager.query(
+    `SELECT n.line, n.student_code
        FROM staged_scores n JOIN students st ON st.study_id = $1 AND st.student_code = n.student_code
-       JOIN classrooms c ON c.id = st.classroom_id
       WHERE st.classroom_id <> $2 ORDER BY n.line LIMIT ${REPORTED}`,
     [sheet.study_id, sheet.classroom_id],
   );
-  return rows.map((r) => ({ row: r.line, column: 'student_code', message: `Student code ${r.student_code} belongs to another classroom of this study (${r.classroom_name})` }));
+  return rows.map((r) => ({ row: r.line, column: 'student_code', message: `Student code ${r.student_code} cannot be used in this classroom` }));
 }
 
 const isPg = (err: unknown, code: string) => (err as { code?: string; driverError?: { code?: string } }).code === code || (err as { driverError?: { code?: string } }).driverError?.code === code;

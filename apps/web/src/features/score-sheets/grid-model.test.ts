@@ -64,7 +64,7 @@ describe('toScoreRows and issuesFromServer', () => {
       { studentCode: 'LV-2', score: 6, left: false, note: '' },
     ]);
     const issues = issuesFromServer(
-      { rows: [{ row: 2, column: 'student_code', message: 'Student code LV-2 belongs to another classroom of this study (Room 1)' }] },
+      { rows: [{ row: 2, column: 'student_code', message: 'Student code LV-2 cannot be used in this classroom' }] },
       rows,
       sent.gridIndex,
     );

@@ -77,7 +77,7 @@ describe('RowsEditor', () => {
         status: 400,
         code: 'validation_failed',
         message: '1 problem(s) found; nothing was saved',
-        details: { rows: [{ row: 2, column: 'student_code', message: 'Student code LV-0444 belongs to another classroom of this study (Room 4A)' }], total: 1 },
+        details: { rows: [{ row: 2, column: 'student_code', message: 'Student code LV-0444 cannot be used in this classroom' }], total: 1 },
       }),
     );
     renderWithRouter(<RowsEditor sheet={sheetFixture({}, [{ studentCode: 'LV-0001', score: 80, left: false, note: '' }])} saveDelay={5} />);
@@ -87,7 +87,7 @@ describe('RowsEditor', () => {
     expect(cell('Student code', 2)).toHaveValue('LV-0444');
     expect(cell('Score', 2)).toHaveValue('77');
     // An earlier save (before the score was typed) can be the one refused first: the messages return once the last save is refused.
-    await waitFor(() => expect(cell('Student code', 2)).toHaveAccessibleDescription(/belongs to another classroom of this study \(Room 4A\)/));
+    await waitFor(() => expect(cell('Student code', 2)).toHaveAccessibleDescription(/cannot be used in this classroom/));
     expect(within(status().parentElement!).getByRole('button', { name: 'Try again' })).toBeInTheDocument();
   });
 
