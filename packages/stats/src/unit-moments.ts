@@ -90,3 +90,47 @@ export function unitMomentsFromRows(rows: ClusteredRows): UnitMoments[] {
   }
   return units;
 }
+
+/**
+ * Combines several units of one arm (and one block) into one, e.g. a school's classrooms into the school, by the
+ * parallel-axis rule: n = Σn_j, x̄ = Σn_j x̄_j / n, SS = Σ SS_j + Σ n_j (x̄_j − x̄)(ȳ_j − ȳ) for every sum of squares and
+ * products (Chan, Golub & LeVeque 1979). The means are accumulated about the first unit's means, so scores far from zero
+ * keep their digits.
+ */
+export function combineUnitMoments(units: readonly UnitMoments[], label: string): UnitMoments {
+  if (!Array.isArray(units) || units.length === 0) throw new StatsInputError('combineUnitMoments: give at least one unit');
+  if (typeof label !== 'string') throw new StatsInputError('combineUnitMoments: the combined unit needs a string label');
+  const first = units[0];
+  const p = first.meanX.length;
+  for (const u of units) {
+    if (u.arm !== first.arm) throw new StatsInputError(`combineUnitMoments: units ${first.unit} and ${u.unit} are in different arms`);
+    if (u.block !== first.block) throw new StatsInputError(`combineUnitMoments: units ${first.unit} and ${u.unit} are in different blocks`);
+    if (u.meanX.length !== p || u.spXY.length !== p || u.spXX.length !== p) {
+      throw new StatsInputError(`combineUnitMoments: unit ${u.unit} has ${u.meanX.length} covariates, unit ${first.unit} has ${p}`);
+    }
+    if (!(Number.isInteger(u.n) && u.n >= 1)) throw new StatsInputError(`combineUnitMoments: unit ${u.unit} has n = ${String(u.n)}`);
+  }
+  let n = 0;
+  let dy = 0;
+  const dx = new Array<number>(p).fill(0);
+  for (const u of units) {
+    n += u.n;
+    dy += u.n * (u.meanY - first.meanY);
+    for (let k = 0; k < p; k++) dx[k] += u.n * (u.meanX[k] - first.meanX[k]);
+  }
+  const meanY = first.meanY + dy / n;
+  const meanX = first.meanX.map((m: number, k: number) => m + dx[k] / n);
+  let ssY = 0;
+  const spXY = new Array<number>(p).fill(0);
+  const spXX = Array.from({ length: p }, () => new Array<number>(p).fill(0));
+  for (const u of units) {
+    const ey = u.meanY - meanY;
+    ssY += u.ssY + u.n * ey * ey;
+    for (let k = 0; k < p; k++) {
+      const ek = u.meanX[k] - meanX[k];
+      spXY[k] += u.spXY[k] + u.n * ek * ey;
+      for (let l = 0; l < p; l++) spXX[k][l] += u.spXX[k][l] + u.n * ek * (u.meanX[l] - meanX[l]);
+    }
+  }
+  return { unit: label, arm: first.arm, ...(first.block === undefined ? {} : { block: first.block }), n, meanY, ssY, meanX, spXY, spXX };
+}
