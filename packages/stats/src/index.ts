@@ -15,6 +15,7 @@ export * from './cluster.js';
 export { unitMomentsFromRows, combineUnitMoments } from './unit-moments.js';
 export type { UnitMoments, ClusteredRows } from './unit-moments.js';
 export * from './two-level.js';
+export * from './cluster-robust.js';
 export * from './regression.js';
 export * from './standards.js';
 export * from './meta.js';
