@@ -22,6 +22,8 @@ const envSchema = z
     SESSION_MINUTES: z.coerce.number().int().min(5).max(24 * 60).default(60),
     /** A sign-in's absolute lifetime: the session renews while in use, but never past this many hours after sign-in. */
     SESSION_ABSOLUTE_HOURS: z.coerce.number().int().min(1).max(24 * 30).default(12),
+    /** A sign-in's absolute lifetime: the session renews while in use, but never past this many hours after sign-in. */
+    SESSION_ABSOLUTE_HOURS: z.coerce.number().int().min(1).max(24 * 30).default(12),
     SMTP_HOST: z.string().default('127.0.0.1'),
     SMTP_PORT: z.coerce.number().int().default(1025),
     SMTP_SECURE: bool.default(false),
@@ -77,6 +79,7 @@ export function loadConfig(env: Record<string, string | undefined> = process.env
     // Kept outside the database it protects; changing it unlinks earlier imports' students (a new export then gets new codes).
     rosterLinkSecret: e.ROSTER_LINK_SECRET ?? localSecret(e.DATA_DIR, 'roster-link-secret'),
     sessionMinutes: e.SESSION_MINUTES,
+    sessionAbsoluteHours: e.SESSION_ABSOLUTE_HOURS,
     sessionAbsoluteHours: e.SESSION_ABSOLUTE_HOURS,
     smtp: {
       host: e.SMTP_HOST,

@@ -1,6 +1,6 @@
 import jwt from 'jsonwebtoken';
 import request from 'supertest';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
 import { createApp } from '../app.js';
 import { createLogger } from '../logger.js';
 import { createMailer } from '../mail/mailer.js';
@@ -94,10 +94,92 @@ describe('sessions', () => {
     expect(missing.body.error.code).toBe('csrf_failed');
     const wrong = await s.agent.post('/api/auth/logout').set('x-csrf-token', 'guess');
     expect(wrong.status).toBe(403);
+    // A cookie and header made up together (double submit) do not pass: the token is derived from the session.
+    const forged = await request(t.app)
+      .post('/api/auth/logout')
+      .set('cookie', [`evenhand_session=${s.token}`, 'evenhand_csrf=made-up-by-an-attacker'])
+      .set('x-csrf-token', 'made-up-by-an-attacker');
+    expect(forged.status).toBe(403);
+    expect(forged.body.error.code).toBe('csrf_failed');
+    // Another session's token does not pass either.
+    const other = await signIn(t.app, 'reviewer@evenhand.test');
+    expect(other.csrf).not.toBe(s.csrf);
+    expect((await s.agent.post('/api/auth/logout').set('x-csrf-token', other.csrf)).status).toBe(403);
     const ok = await s.agent.post('/api/auth/logout').set('x-csrf-token', s.csrf);
     expect(ok.status).toBe(204);
     const cleared = (ok.headers['set-cookie'] as unknown as string[]).find((c) => c.startsWith('evenhand_session='))!;
     expect(cleared).toMatch(/Expires=Thu, 01 Jan 1970/);
+  });
+
+  it('when a user signs out, then the old cookie and the bearer token no longer work', async () => {
+    const s = await signIn(t.app, 'principal2@evenhand.test');
+    const session = `evenhand_session=${s.token}`;
+    expect((await request(t.app).get('/api/auth/me').set('cookie', session)).status).toBe(200);
+    await s.agent.post('/api/auth/logout').set('x-csrf-token', s.csrf).expect(204);
+    const cookie = await request(t.app).get('/api/auth/me').set('cookie', session);
+    expect(cookie.status).toBe(401);
+    expect(cookie.body.error.message).toMatch(/session has ended/);
+    expect((await request(t.app).get('/api/auth/me').set('authorization', `Bearer ${s.token}`)).status).toBe(401);
+    // Signing in again works as before.
+    await signIn(t.app, 'principal2@evenhand.test');
+  });
+
+  it('when the password is reset, then sessions signed in before stop working', async () => {
+    const s = await signIn(t.app, 'teacher5@evenhand.test');
+    const [{ id }] = await t.db.query(`SELECT id FROM users WHERE email = 'teacher5@evenhand.test'`);
+    const token = await issueToken(t.db.manager, id, 'password_reset');
+    await request(t.app).post('/api/auth/password-reset/confirm').send({ token, password: 'a-newly-chosen-password' }).expect(200);
+    expect((await request(t.app).get('/api/auth/me').set('authorization', `Bearer ${s.token}`)).status).toBe(401);
+    expect((await s.agent.get('/api/auth/me')).status).toBe(401);
+  });
+
+  it('when an admin changes an account’s roles or deactivates it, then its sessions end', async () => {
+    const admin = await signIn(t.app, 'admin@evenhand.test');
+    const s = await signIn(t.app, 'teacher6@evenhand.test');
+    const roles = (await admin.agent.get(`/api/users?q=teacher6@evenhand.test`)).body.items[0].roles;
+    await admin.agent.patch(`/api/users/${s.userId}`).set('x-csrf-token', admin.csrf).send({ roles: [...roles, { role: 'research_lead', siteId: null }] }).expect(200);
+    expect((await request(t.app).get('/api/auth/me').set('authorization', `Bearer ${s.token}`)).status).toBe(401);
+    const again = await signIn(t.app, 'teacher6@evenhand.test');
+    await admin.agent.patch(`/api/users/${s.userId}`).set('x-csrf-token', admin.csrf).send({ roles }).expect(200);
+    expect((await request(t.app).get('/api/auth/me').set('authorization', `Bearer ${again.token}`)).status).toBe(401);
+  });
+
+  it('when a token is older than the absolute lifetime, then it is refused, and a renewal never goes past that lifetime', async () => {
+    const s = await signIn(t.app, 'lead@evenhand.test');
+    const { jti, sv, auth_time } = jwt.decode(s.token) as { jti: string; sv: number; auth_time: number };
+    const now = Math.floor(Date.now() / 1000);
+    const absolute = t.config.sessionAbsoluteHours * 3600;
+    const sign = (authTime: number, exp: number) => jwt.sign({ jti, sv, auth_time: authTime, exp }, t.config.jwtSecret, { subject: s.userId });
+    const tooOld = sign(now - absolute - 1, now + 600);
+    expect((await request(t.app).get('/api/auth/me').set('authorization', `Bearer ${tooOld}`)).status).toBe(401);
+    // A cookie near its end, five minutes before the sign-in's absolute end: renewed only up to that end.
+    const late = await request(t.app).get('/api/auth/me').set('cookie', `evenhand_session=${sign(now - absolute + 300, now + 60)}`);
+    expect(late.status).toBe(200);
+    const renewed = jwt.decode(cookieValue(late.headers['set-cookie'], 'evenhand_session')) as { exp: number; auth_time: number; jti: string };
+    expect(renewed.auth_time).toBe(now - absolute + 300);
+    expect(renewed.exp).toBe(now + 300);
+    expect(renewed.jti).toBe(jti);
+    expect(auth_time).toBeGreaterThanOrEqual(now - 5);
+  });
+
+  it('checks a session with one query, whatever the number of grants', async () => {
+    const { token } = await signIn(t.app, 'principal1@evenhand.test');
+    const pg = await import('pg');
+    const seen: string[] = [];
+    const original = pg.default.Client.prototype.query;
+    const spy = vi.spyOn(pg.default.Client.prototype, 'query').mockImplementation(function (this: unknown, ...args: unknown[]) {
+      const text = typeof args[0] === 'string' ? args[0] : (args[0] as { text?: string })?.text;
+      if (text && /\busers\b|role_grants/.test(text)) seen.push(text);
+      return (original as (...a: unknown[]) => unknown).apply(this, args);
+    } as typeof original);
+    try {
+      const me = await request(t.app).get('/api/auth/me').set('authorization', `Bearer ${token}`);
+      expect(me.status).toBe(200);
+      expect(me.body.user.roles[0]).toMatchObject({ role: 'principal', siteName: 'Alder Street Elementary' });
+    } finally {
+      spy.mockRestore();
+    }
+    expect(seen).toHaveLength(1);
   });
 
   it('when the session cookie is cleared by sign-out, then the next request is not signed in', async () => {

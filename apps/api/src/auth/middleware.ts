@@ -5,7 +5,7 @@ import type { Deps } from '../deps.js';
 import { AppError } from '../errors.js';
 import type { Access } from '../http/route.js';
 import { loadSessionUser } from './service.js';
-import { CSRF_COOKIE, CSRF_HEADER, SESSION_COOKIE, setSessionCookies, signSession, verifySession } from './session.js';
+import { CSRF_HEADER, csrfTokenFor, renewSession, SESSION_COOKIE, setSessionCookies, verifySession } from './session.js';
 
 declare global {
   // eslint-disable-next-line @typescript-eslint/no-namespace
@@ -14,8 +14,10 @@ declare global {
       user?: SessionUser;
       /** How the caller proved who they are; cookie callers must also pass the CSRF check. */
       authVia?: 'cookie' | 'bearer';
-      /** Why a presented credential was refused (forged, expired, deactivated account). */
+      /** Why a presented credential was refused (forged, expired, ended, deactivated account). */
       authProblem?: string;
+      /** The CSRF token of the sign-in this request belongs to (derived from the token's id). */
+      csrfToken?: string;
     }
   }
 }
@@ -32,17 +34,20 @@ export function authenticate({ config, db }: Deps): RequestHandler {
       req.authProblem = 'Your session is not valid or has expired; please sign in again';
       return next();
     }
-    const user = await loadSessionUser(db, claims.sub);
+    // One indexed query: the account, still active, at the token's session version, with its grants.
+    const user = await loadSessionUser(db, claims.sub, claims.sv);
     if (!user) {
-      req.authProblem = 'This account is no longer active';
+      req.authProblem = 'Your session has ended (signed out, password changed or account changed); please sign in again';
       return next();
     }
     req.user = user;
     req.authVia = bearer ? 'bearer' : 'cookie';
-    // Sliding session for the browser: renew once half of the lifetime has passed.
+    req.csrfToken = csrfTokenFor(config, claims.jti);
+    // Sliding session for the browser: renew once half of the lifetime has passed, within the sign-in's absolute lifetime.
     const remaining = claims.exp * 1000 - Date.now();
     if (req.authVia === 'cookie' && remaining < (config.sessionMinutes * 60 * 1000) / 2) {
-      setSessionCookies(res, config, signSession(config, user.id), req.cookies?.[CSRF_COOKIE]);
+      const renewed = renewSession(config, claims);
+      if (renewed) setSessionCookies(res, config, renewed);
     }
     next();
   };
@@ -64,9 +69,9 @@ export function authorize(access: Access): RequestHandler {
       throw new AppError('unauthenticated', req.authProblem ?? 'Please sign in first');
     }
     if (req.authVia === 'cookie' && !SAFE_METHODS.has(req.method)) {
+      // Bound to the sign-in: only the server can derive it, so a cookie and header made up together do not pass.
       const header = req.get(CSRF_HEADER) ?? '';
-      const cookie = (req.cookies?.[CSRF_COOKIE] as string | undefined) ?? '';
-      if (!cookie || !sameToken(header, cookie)) {
+      if (!req.csrfToken || !sameToken(header, req.csrfToken)) {
         throw new AppError('csrf_failed', 'The request is missing its security token; reload the page and try again');
       }
     }

@@ -11,7 +11,7 @@ import {
 import type { Deps } from '../deps.js';
 import { ResourceRouter } from '../http/route.js';
 import { passwordResetLimiter, signInLimiters } from './rate-limit.js';
-import { confirmPasswordReset, requestPasswordReset, signIn, signInOptions } from './service.js';
+import { confirmPasswordReset, endSessions, requestPasswordReset, signIn, signInOptions } from './service.js';
 import { clearSessionCookies, setSessionCookies, signSession } from './session.js';
 
 export function authRouter(deps: Deps, registry: OpenAPIRegistry) {
@@ -30,8 +30,8 @@ export function authRouter(deps: Deps, registry: OpenAPIRegistry) {
       responses: { 200: { description: 'Signed in', schema: loginResponseSchema } },
     },
     async ({ body, res }) => {
-      const user = await signIn(deps, body.email, body.password);
-      const token = signSession(deps.config, user.id);
+      const { user, session } = await signIn(deps, body.email, body.password);
+      const token = signSession(deps.config, session);
       setSessionCookies(res, deps.config, token);
       return { body: { user, token } };
     },
@@ -50,8 +50,16 @@ export function authRouter(deps: Deps, registry: OpenAPIRegistry) {
   );
 
   r.route(
-    { method: 'post', path: '/auth/logout', summary: 'Sign out', access: 'signed-in', tag, responses: { 204: { description: 'Signed out' } } },
-    ({ res }) => {
+    {
+      method: 'post',
+      path: '/auth/logout',
+      summary: 'Sign out: ends every session of the account (its cookies and bearer tokens)',
+      access: 'signed-in',
+      tag,
+      responses: { 204: { description: 'Signed out' } },
+    },
+    async ({ res, user }) => {
+      await endSessions(deps.db, user!.id);
       clearSessionCookies(res, deps.config);
     },
   );

@@ -7,40 +7,49 @@ import { AppError } from '../errors.js';
 import { recordAudit } from '../audit/service.js';
 import { invitationMail, passwordResetMail } from '../mail/templates.js';
 import { DEMO_PASSWORD, featuredDemoAccounts } from '../seed/demo.js';
+import { districtSignInOptions, PASSWORD_SIGN_IN_OFF, passwordSignInAllowed } from './district-sign-in.js';
 import { burnPasswordCheck, checkPassword, hashPassword } from './passwords.js';
+import type { NewSession } from './session.js';
 
 const TOKEN_HOURS: Record<AuthTokenKind, number> = { password_reset: 1, invitation: 72 };
 
-async function toSessionUser(db: DataSource, user: UserEntity): Promise<SessionUser> {
-  const grants = user.grants ?? [];
-  const siteIds = grants.map((g) => g.siteId).filter((x): x is string => !!x);
-  const sites: { id: string; name: string }[] = siteIds.length ? await db.query(`SELECT id, name FROM sites WHERE id = ANY($1)`, [siteIds]) : [];
-  return {
-    id: user.id,
-    email: user.email,
-    name: user.name,
-    roles: grants.map((g) => ({ role: g.role, siteId: g.siteId, siteName: sites.find((s) => s.id === g.siteId)?.name ?? null })),
-  };
+/**
+ * The signed-in user with their grants (and their schools' names), or null if the account is gone or deactivated or,
+ * given a session version, has moved past it. One query on indexed keys: it runs on every request.
+ */
+export async function loadSessionUser(db: DataSource | EntityManager, id: string, sessionVersion?: number): Promise<SessionUser | null> {
+  const [row]: SessionUser[] = await db.query(
+    `SELECT u.id, u.email, u.name,
+            coalesce(json_agg(json_build_object('role', g.role, 'siteId', g.site_id, 'siteName', s.name) ORDER BY g.created_at, g.id)
+                     FILTER (WHERE g.id IS NOT NULL), '[]') AS roles
+       FROM users u LEFT JOIN role_grants g ON g.user_id = u.id LEFT JOIN sites s ON s.id = g.site_id
+      WHERE u.id = $1 AND u.active AND ($2::int IS NULL OR u.session_version = $2)
+      GROUP BY u.id`,
+    [id, sessionVersion ?? null],
+  );
+  return row ?? null;
 }
 
-/** The signed-in user with their grants, or null if the account is gone or deactivated. */
-export async function loadSessionUser(db: DataSource, id: string): Promise<SessionUser | null> {
-  const user = await db.getRepository(UserEntity).findOne({ where: { id, active: true }, relations: { grants: true } });
-  return user ? toSessionUser(db, user) : null;
+/** Ends every session of the account (all its tokens and cookies), inside the caller's transaction. */
+export async function endSessions(manager: DataSource | EntityManager, userId: string): Promise<void> {
+  await manager.query(`UPDATE users SET session_version = session_version + 1 WHERE id = $1`, [userId]);
 }
 
 const WRONG_CREDENTIALS = 'The e-mail address or password is not right';
 
-export async function signIn({ db }: Deps, email: string, password: string): Promise<SessionUser> {
-  const user = await db.getRepository(UserEntity).findOne({ where: { email }, relations: { grants: true } });
+/** Checks the password; the session to sign is the account at its current session version. */
+export async function signIn({ db }: Deps, email: string, password: string): Promise<{ user: SessionUser; session: NewSession }> {
+  const user = await db.getRepository(UserEntity).findOne({ where: { email } });
   // Unknown e-mail, no password yet and deactivated accounts all get the same answer and the same delay.
   if (!user || !user.passwordHash || !user.active) {
     await burnPasswordCheck(password);
     throw new AppError('unauthenticated', WRONG_CREDENTIALS);
   }
   if (!(await checkPassword(password, user.passwordHash))) throw new AppError('unauthenticated', WRONG_CREDENTIALS);
+  // Only after the right password, so the answer reveals nothing about other accounts.
+  if (!(await passwordSignInAllowed(db, user.id))) throw new AppError('forbidden', PASSWORD_SIGN_IN_OFF);
   await db.getRepository(UserEntity).update(user.id, { lastSignInAt: new Date() });
-  return toSessionUser(db, user);
+  return { user: (await loadSessionUser(db, user.id))!, session: { userId: user.id, sessionVersion: user.sessionVersion } };
 }
 
 const hashToken = (token: string) => createHash('sha256').update(token).digest('hex');
@@ -88,6 +97,8 @@ export async function confirmPasswordReset(deps: Deps, token: string, password: 
     // Any other open links for this account stop working too.
     await manager.update(AuthTokenEntity, { userId: user.id, usedAt: IsNull() }, { usedAt: new Date() });
     await manager.update(UserEntity, user.id, { passwordHash });
+    // A new password ends every session signed in with the old one.
+    await endSessions(manager, user.id);
     await recordAudit(manager, {
       actorId: user.id,
       action: row.kind === 'invitation' ? 'user.invitation_accepted' : 'user.password_reset',
@@ -102,7 +113,8 @@ export async function confirmPasswordReset(deps: Deps, token: string, password: 
  * still sign in, so an unseeded database offers nothing.
  */
 export async function signInOptions({ config, db }: Pick<Deps, 'config' | 'db'>): Promise<SignInOptions> {
-  if (config.production) return { demo: null };
+  const district = await districtSignInOptions({ config, db });
+  if (config.production) return { demo: null, ...district };
   const emails = featuredDemoAccounts.map((a) => a.email);
   const rows: { email: string; name: string; role: Role; site_name: string | null }[] = await db.query(
     `SELECT DISTINCT ON (u.email) u.email, u.name, g.role, s.name AS site_name
@@ -114,5 +126,5 @@ export async function signInOptions({ config, db }: Pick<Deps, 'config' | 'db'>)
   const accounts = rows
     .sort((a, b) => emails.indexOf(a.email) - emails.indexOf(b.email))
     .map((r) => ({ email: r.email, name: r.name, role: r.role, siteName: r.site_name }));
-  return { demo: accounts.length ? { password: DEMO_PASSWORD, accounts } : null };
+  return { demo: accounts.length ? { password: DEMO_PASSWORD, accounts } : null, ...district };
 }

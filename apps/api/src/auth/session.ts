@@ -1,4 +1,4 @@
-import { randomBytes } from 'node:crypto';
+import { createHmac, randomBytes } from 'node:crypto';
 import type { CookieOptions, Response } from 'express';
 import jwt from 'jsonwebtoken';
 import type { Config } from '../config.js';
@@ -7,49 +7,84 @@ export const SESSION_COOKIE = 'evenhand_session';
 export const CSRF_COOKIE = 'evenhand_csrf';
 export const CSRF_HEADER = 'x-csrf-token';
 
-interface SessionClaims {
+/** What a session token says: who, which sign-in (`jti`), the account's session version, and when the sign-in was. */
+export interface SessionClaims {
   sub: string;
+  jti: string;
+  /** The account's session version when the token was issued; a bump (sign-out, reset, role change) ends it. */
+  sv: number;
+  /** The sign-in's time (seconds): renewals keep it, so a session ends after `sessionAbsoluteHours` whatever its use. */
+  auth_time: number;
   iat: number;
   exp: number;
 }
 
-export function signSession(config: Config, userId: string): string {
-  return jwt.sign({}, config.jwtSecret, {
-    algorithm: 'HS256',
-    subject: userId,
-    expiresIn: config.sessionMinutes * 60,
-  });
+/** A new sign-in of an account at its current session version. */
+export interface NewSession {
+  userId: string;
+  sessionVersion: number;
 }
 
-/** Returns the claims of a valid token, or null for a forged, malformed or expired one. */
+const nowSeconds = () => Math.floor(Date.now() / 1000);
+
+function sign(config: Config, claims: Pick<SessionClaims, 'sub' | 'jti' | 'sv' | 'auth_time'>, exp: number): string {
+  const { sub, ...rest } = claims;
+  return jwt.sign({ ...rest, exp }, config.jwtSecret, { algorithm: 'HS256', subject: sub });
+}
+
+/** Signs the token of a new sign-in. */
+export function signSession(config: Config, session: NewSession): string {
+  const now = nowSeconds();
+  const claims = { sub: session.userId, jti: randomBytes(16).toString('base64url'), sv: session.sessionVersion, auth_time: now };
+  return sign(config, claims, now + config.sessionMinutes * 60);
+}
+
+/** The sign-in's absolute end: renewals never go past it. */
+const absoluteEnd = (config: Config, claims: Pick<SessionClaims, 'auth_time'>) => claims.auth_time + config.sessionAbsoluteHours * 3600;
+
+/** A renewed token of the same sign-in, or null once the sign-in's absolute lifetime leaves nothing to renew. */
+export function renewSession(config: Config, claims: SessionClaims): string | null {
+  const exp = Math.min(nowSeconds() + config.sessionMinutes * 60, absoluteEnd(config, claims));
+  if (exp <= claims.exp) return null;
+  return sign(config, claims, exp);
+}
+
+/** Returns the claims of a valid token, or null for a forged, malformed, expired or too old one. */
 export function verifySession(config: Config, token: string): SessionClaims | null {
   try {
     const claims = jwt.verify(token, config.jwtSecret, { algorithms: ['HS256'] });
-    if (typeof claims === 'string' || typeof claims.sub !== 'string') return null;
+    if (typeof claims === 'string') return null;
+    const { sub, jti, sv, auth_time } = claims as Partial<SessionClaims>;
+    if (typeof sub !== 'string' || !/^[0-9a-f-]{36}$/i.test(sub) || typeof jti !== 'string' || !Number.isInteger(sv) || !Number.isInteger(auth_time)) return null;
+    if (nowSeconds() >= absoluteEnd(config, { auth_time: auth_time! })) return null;
     return claims as SessionClaims;
   } catch {
     return null;
   }
 }
 
-function cookieOptions(config: Config, httpOnly: boolean): CookieOptions {
-  return {
-    httpOnly,
-    sameSite: 'lax',
-    secure: config.production,
-    path: '/',
-    maxAge: config.sessionMinutes * 60 * 1000,
-  };
+/**
+ * The CSRF token of a sign-in: a keyed hash of the token's id, so only the server can make it and a cookie + header
+ * pair made by anyone else fails. The browser reads it from its cookie and echoes it in `X-CSRF-Token`.
+ */
+export function csrfTokenFor(config: Config, sessionId: string): string {
+  return createHmac('sha256', config.jwtSecret).update(`evenhand-csrf:${sessionId}`).digest('base64url');
 }
 
-/** Sets the httpOnly session cookie and the readable CSRF cookie the browser echoes back (double submit). */
-export function setSessionCookies(res: Response, config: Config, token: string, csrf?: string): void {
-  res.cookie(SESSION_COOKIE, token, cookieOptions(config, true));
-  res.cookie(CSRF_COOKIE, csrf ?? randomBytes(24).toString('base64url'), cookieOptions(config, false));
+function cookieOptions(config: Config, httpOnly: boolean, maxAgeMs: number): CookieOptions {
+  return { httpOnly, sameSite: 'lax', secure: config.production, path: '/', maxAge: maxAgeMs };
+}
+
+/** Sets the httpOnly session cookie and the readable CSRF cookie bound to it; both last as long as the token. */
+export function setSessionCookies(res: Response, config: Config, token: string): void {
+  const claims = jwt.decode(token) as SessionClaims;
+  const maxAge = Math.max(0, claims.exp * 1000 - Date.now());
+  res.cookie(SESSION_COOKIE, token, cookieOptions(config, true, maxAge));
+  res.cookie(CSRF_COOKIE, csrfTokenFor(config, claims.jti), cookieOptions(config, false, maxAge));
 }
 
 export function clearSessionCookies(res: Response, config: Config): void {
-  const { maxAge: _drop, ...options } = cookieOptions(config, true);
+  const { maxAge: _drop, ...options } = cookieOptions(config, true, 0);
   res.clearCookie(SESSION_COOKIE, options);
   res.clearCookie(CSRF_COOKIE, { ...options, httpOnly: false });
 }

@@ -4,7 +4,7 @@ import { RoleGrantEntity, SiteEntity, UserEntity } from '@evenhand/entities/orm'
 import type { Deps } from '../deps.js';
 import { AppError } from '../errors.js';
 import { recordAudit } from '../audit/service.js';
-import { issueToken, sendInvitation } from '../auth/service.js';
+import { endSessions, issueToken, sendInvitation } from '../auth/service.js';
 
 function toUser(u: UserEntity): User {
   return {
@@ -107,6 +107,8 @@ export async function updateUser(deps: Deps, actor: SessionUser, id: string, inp
         await recordAudit(manager, { actorId: actor.id, action, entityType: 'user', entityId: id, before: was, after: now });
       }
     }
+    // New roles or a deactivation take effect at once: the account signs in again.
+    if (JSON.stringify(before.roles) !== JSON.stringify(after.roles) || before.active !== after.active) await endSessions(manager, id);
     return after;
   });
 }

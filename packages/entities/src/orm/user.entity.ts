@@ -30,6 +30,10 @@ export class UserEntity {
   @Column({ name: 'last_sign_in_at', type: 'timestamptz', nullable: true })
   lastSignInAt!: Date | null;
 
+  /** Bumped by sign-out, password reset, role change and deactivation: tokens carrying an older one are refused. */
+  @Column({ name: 'session_version', type: 'integer', default: 0 })
+  sessionVersion!: number;
+
   @OneToMany('RoleGrantEntity', (grant: RoleGrantEntity) => grant.user)
   grants!: RoleGrantEntity[];
 }
