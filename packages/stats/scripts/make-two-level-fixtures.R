@@ -66,8 +66,8 @@ add("boundary-pretest", "12 units of 10, unit means less variable than chance (R
 add("boundary-no-covariate", "10 units of 4 to 12, τ² at 0, no covariate",
     make_data(105, c(4, 12, 6, 9, 8, 5, 11, 7, 10, 6), alternate(10), tau = 0, sigma = 6, squeeze = 0.9),
     character(0), FALSE)
-add("near-boundary", "24 units of 8, small τ² (ICC about 0.01), pretest",
-    make_data(106, rep(8, 24), alternate(24), tau = 0.8, sigma = 8), c("pretest"), FALSE)
+add("near-boundary", "24 units of 8, small τ² inside the parameter space (ICC about 0.013), pretest",
+    make_data(202, rep(8, 24), alternate(24), tau = 1.5, sigma = 8), c("pretest"), FALSE)
 add("large-icc", "16 units of 12, τ = 12 and σ = 1.5 (ICC above 0.95), pretest",
     make_data(107, rep(12, 16), alternate(16), tau = 12, sigma = 1.5, slope = 0.05), c("pretest"), FALSE)
 add("offset-1e6", "as balanced-pretest with a different draw, outcome and pretest offset by 1e6",
@@ -149,7 +149,7 @@ case_json <- function(cs) {
   d <- cs$data
   x <- list(id = cs$id, description = cs$description,
             y = d$y, arm = d$arm, unit = d$unit,
-            covariateNames = cs$covariates,
+            covariateNames = I(cs$covariates),
             covariates = lapply(cs$covariates, function(v) d[[v]]))
   if (cs$blocks) x$block <- d$block
   x

@@ -69,10 +69,11 @@ export function unitMomentsFromRows(rows: ClusteredRows): UnitMoments[] {
       if (block && block[i] !== unitBlock) throw new StatsInputError(`unit ${label} spans two blocks; the block must be constant within a unit`);
     }
     const m = members.length;
-    let meanY = 0;
-    for (const i of members) meanY += y[i];
-    meanY /= m;
-    const meanX = covariates.map((c) => members.reduce((s, i) => s + c[i], 0) / m);
+    // Means about the unit's first value, so scores far from zero (1e6 + a few points) keep their digits.
+    let dy = 0;
+    for (const i of members) dy += y[i] - y[first];
+    const meanY = y[first] + dy / m;
+    const meanX = covariates.map((c) => c[first] + members.reduce((s, i) => s + (c[i] - c[first]), 0) / m);
     let ssY = 0;
     const spXY = new Array<number>(p).fill(0);
     const spXX = Array.from({ length: p }, () => new Array<number>(p).fill(0));
