@@ -17,6 +17,7 @@ import { scoreSheetsRouter } from './score-sheets/router.js';
 import { studiesRouter } from './studies/router.js';
 import { authenticate } from './auth/middleware.js';
 import { authRouter } from './auth/router.js';
+import { districtSignInRouter } from './auth/district-sign-in-router.js';
 import type { Deps } from './deps.js';
 import { apiNotFound, AppError, errorHandler } from './errors.js';
 import { healthRouter } from './health/router.js';
@@ -39,6 +40,7 @@ export function createApp(deps: Deps) {
   for (const router of [
     healthRouter(deps, registry),
     authRouter(deps, registry),
+    districtSignInRouter(deps, registry),
     usersRouter(deps, registry),
     studiesRouter(deps, registry),
     plansRouter(deps, registry),

@@ -286,7 +286,7 @@ describe('sign-in options', () => {
       const production = createApp({ config, db: t.db, mailer, logger: createLogger(config), jobs: t.jobs });
       const res = await request(production).get('/api/auth/sign-in-options');
       expect(res.status).toBe(200);
-      expect(res.body).toEqual({ demo: null });
+      expect(res.body).toEqual({ demo: null, districtSignIn: false, passwordSignIn: 'everyone' });
       expect(JSON.stringify(res.body)).not.toContain(DEMO_PASSWORD);
     } finally {
       mailer.close();

@@ -1,6 +1,7 @@
 import { z } from 'zod';
 import { idSchema } from './common.js';
 import { roleGrantSchema, roleSchema } from './roles.js';
+import { passwordSignInSchema } from './district-sign-in.js';
 
 export const emailSchema = z.string().trim().toLowerCase().pipe(z.email({ message: 'Enter a valid e-mail address' }).max(254));
 
@@ -61,6 +62,10 @@ export const signInOptionsSchema = z
         accounts: z.array(z.object({ email: z.string(), name: z.string(), role: roleSchema, siteName: z.string().nullable() })),
       })
       .nullable(),
+    /** Whether "Sign in with your district account" is offered: the server has a district identity provider. */
+    districtSignIn: z.boolean(),
+    /** Who may still sign in with a password (the admin always may). */
+    passwordSignIn: passwordSignInSchema,
   })
   .meta({ id: 'SignInOptions' });
 export type SignInOptions = z.infer<typeof signInOptionsSchema>;
