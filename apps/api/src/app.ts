@@ -8,6 +8,7 @@ import { pinoHttp } from 'pino-http';
 import { auditRouter } from './audit/router.js';
 import { checksRouter } from './checks/router.js';
 import { classroomsRouter } from './classrooms/router.js';
+import { rosterImportsRouter } from './roster-imports/router.js';
 import { digestsRouter } from './digests/router.js';
 import { drawsRouter } from './draws/router.js';
 import { measuresRouter } from './measures/router.js';
@@ -47,6 +48,7 @@ export function createApp(deps: Deps) {
     measuresRouter(deps, registry),
     sitesRouter(deps, registry),
     classroomsRouter(deps, registry),
+    rosterImportsRouter(deps, registry),
     drawsRouter(deps, registry),
     scoreSheetsRouter(deps, registry),
     runsRouter(deps, registry),

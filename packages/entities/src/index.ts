@@ -15,3 +15,4 @@ export * from './schemas/runs.js';
 export * from './schemas/checks.js';
 export * from './schemas/digests.js';
 export * from './schemas/home.js';
+export * from './schemas/roster-imports.js';

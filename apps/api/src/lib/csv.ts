@@ -27,61 +27,132 @@ export async function* csvBatches(buffer: Buffer, requiredColumns: string[]): As
   } catch {
     throw AppError.validation('The file is not UTF-8 text; save it as “CSV UTF-8” and upload it again');
   }
+  const reader = readerFor(text, requiredColumns);
+  try {
+    for (let offset = 0; offset < text.length && !reader.failure; offset += SLICE) {
+      const batch = await reader.feed(text.slice(offset, offset + SLICE));
+      if (batch.length) yield batch;
+    }
+    const last = await reader.end();
+    if (last.length) yield last;
+  } finally {
+    reader.destroy();
+  }
+}
+
+/**
+ * The same reading as `csvBatches` for a file that arrives as a stream (a file inside a zip): chunks are
+ * decoded as they come, so neither the file nor its records are ever held whole.
+ */
+export async function* csvStreamBatches(chunks: AsyncIterable<Buffer>, requiredColumns: string[]): AsyncGenerator<CsvRecord[]> {
+  const decoder = new TextDecoder('utf-8', { fatal: true });
+  const decode = (chunk: Buffer, stream: boolean) => {
+    if (chunk.includes(0)) throw AppError.validation('This does not look like a CSV file (it contains binary data)');
+    try {
+      return decoder.decode(chunk, { stream });
+    } catch {
+      throw AppError.validation('The file is not UTF-8 text; save it as “CSV UTF-8” and upload it again');
+    }
+  };
+  let reader: RecordReader | null = null;
+  let head = '';
+  try {
+    for await (const chunk of chunks) {
+      let text = decode(chunk, true);
+      if (!reader) {
+        // The delimiter is chosen from the whole first line.
+        head += text;
+        if (!head.includes('\n')) continue;
+        reader = readerFor(head, requiredColumns);
+        text = head;
+      }
+      const batch = await reader.feed(text);
+      if (batch.length) yield batch;
+    }
+    let text = decode(Buffer.alloc(0), false);
+    if (!reader) {
+      reader = readerFor(head + text, requiredColumns);
+      text = head + text;
+    }
+    const batch = await reader.feed(text);
+    if (batch.length) yield batch;
+    const last = await reader.end();
+    if (last.length) yield last;
+  } finally {
+    reader?.destroy();
+  }
+}
+
+/** A reader for a file that starts with `text`: comma or semicolon, whichever the first line uses more. */
+function readerFor(text: string, requiredColumns: string[]): RecordReader {
   if (!text.trim()) throw AppError.validation('The file is empty');
   const firstLine = text.replace(/^\uFEFF/, '').split(/\r?\n/, 1)[0];
   const delimiter = (firstLine.match(/;/g)?.length ?? 0) > (firstLine.match(/,/g)?.length ?? 0) ? ';' : ',';
   if (firstLine.split(delimiter).length > MAX_CSV_COLUMNS) throw AppError.validation(`The file has more than ${MAX_CSV_COLUMNS} columns`);
+  return new RecordReader(delimiter, requiredColumns);
+}
 
-  // `on_record` hands over the line each record ends on; the `info` option does too, at three times the cost.
-  const options: Options = {
-    bom: true,
-    delimiter,
-    skip_empty_lines: true,
-    relax_column_count: true,
-    relax_quotes: true,
-    trim: true,
-    on_record: (record: string[], context: { lines: number }) => ({ line: context.lines, record }) as unknown as string[],
-  };
-  const parser = parse(options);
-  const parsed: { line: number; record: string[] }[] = [];
-  let failure: Error | null = null;
-  parser.on('data', (item) => parsed.push(item));
-  parser.on('error', (err) => (failure ??= err));
-  const ended = finished(parser).catch(() => {}); // a failure is read from `failure`
+/** csv-parse with the options every upload uses, handing over records in batches with their lines. */
+class RecordReader {
+  private readonly parser;
+  private readonly parsed: { line: number; record: string[] }[] = [];
+  private readonly ended: Promise<void>;
+  private columns: string[] | null = null;
+  failure: Error | null = null;
 
-  let columns: string[] | null = null;
-  const take = (): CsvRecord[] => {
-    if (failure) throw AppError.validation(`The CSV could not be read: ${(failure as Error).message}`);
+  constructor(delimiter: string, private readonly requiredColumns: string[]) {
+    // `on_record` hands over the line each record ends on; the `info` option does too, at three times the cost.
+    const options: Options = {
+      bom: true,
+      delimiter,
+      skip_empty_lines: true,
+      relax_column_count: true,
+      relax_quotes: true,
+      trim: true,
+      on_record: (record: string[], context: { lines: number }) => ({ line: context.lines, record }) as unknown as string[],
+    };
+    this.parser = parse(options);
+    this.parser.on('data', (item) => this.parsed.push(item));
+    this.parser.on('error', (err) => (this.failure ??= err));
+    this.ended = finished(this.parser).catch(() => {}); // a failure is read from `failure`
+  }
+
+  async feed(text: string): Promise<CsvRecord[]> {
+    this.parser.write(text);
+    // The parser hands its records over on the next turn of the event loop.
+    await new Promise((resolve) => setImmediate(resolve));
+    return this.take();
+  }
+
+  async end(): Promise<CsvRecord[]> {
+    this.parser.end();
+    await this.ended;
+    const last = this.take();
+    if (!this.columns) throw AppError.validation('The file is empty');
+    return last;
+  }
+
+  destroy() {
+    this.parser.destroy();
+  }
+
+  private take(): CsvRecord[] {
+    if (this.failure) throw AppError.validation(`The CSV could not be read: ${this.failure.message}`);
     const batch: CsvRecord[] = [];
-    for (const item of parsed.splice(0)) {
-      if (!columns) {
-        columns = item.record.map((h) => h.toLowerCase());
-        const missing = requiredColumns.filter((c) => !columns!.includes(c));
+    for (const item of this.parsed.splice(0)) {
+      if (!this.columns) {
+        const columns = item.record.map((h) => h.toLowerCase());
+        const missing = this.requiredColumns.filter((c) => !columns.includes(c));
         if (missing.length) throw AppError.validation(`The header row lacks the column(s) ${missing.join(', ')}`, missing.map((c) => ({ path: c, message: 'Missing column' })));
+        this.columns = columns;
         continue;
       }
       const values: Record<string, string> = {};
-      for (let j = 0; j < columns.length; j++) values[columns[j]] = item.record[j] ?? '';
+      for (let j = 0; j < this.columns.length; j++) values[this.columns[j]] = item.record[j] ?? '';
       batch.push({ line: item.line, values });
     }
     return batch;
-  };
-  try {
-    for (let offset = 0; offset < text.length && !failure; offset += SLICE) {
-      parser.write(text.slice(offset, offset + SLICE));
-      // The parser hands its records over on the next turn of the event loop.
-      await new Promise((resolve) => setImmediate(resolve));
-      const batch = take();
-      if (batch.length) yield batch;
-    }
-    parser.end();
-    await ended;
-    const last = take();
-    if (last.length) yield last;
-  } finally {
-    parser.destroy();
   }
-  if (!columns) throw AppError.validation('The file is empty');
 }
 
 /** A small CSV (an import of at most `maxRows` records) read whole; one bad record refuses the file. */

@@ -11,5 +11,6 @@ import { MonitoringSchedules1796191200000 } from './1796191200000-monitoring-sch
 import { SheetDigests1796194800000 } from './1796194800000-sheet-digests.js';
 import { SessionVersions1796200000000 } from './1796200000000-session-versions.js';
 import { DistrictSignIn1796202000000 } from './1796202000000-district-sign-in.js';
+import { RosterImports1796204000000 } from './1796204000000-roster-imports.js';
 
-export const migrations = [Foundation1796169600000, StudyRegistry1796173200000, ScoreSheets1796176800000, ComparisonRuns1796180400000, ScoreStudentIndex1796182200000, Digests1796184000000, SetWiseScoreKeys1796187600000, DraftRowsWithoutScores1796188500000, MonitoringSchedules1796191200000, SheetDigests1796194800000, SessionVersions1796200000000, DistrictSignIn1796202000000];
+export const migrations = [Foundation1796169600000, StudyRegistry1796173200000, ScoreSheets1796176800000, ComparisonRuns1796180400000, ScoreStudentIndex1796182200000, Digests1796184000000, SetWiseScoreKeys1796187600000, DraftRowsWithoutScores1796188500000, MonitoringSchedules1796191200000, SheetDigests1796194800000, SessionVersions1796200000000, DistrictSignIn1796202000000, RosterImports1796204000000];

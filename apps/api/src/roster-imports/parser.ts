@@ -1,0 +1,214 @@
+import { createHmac } from 'node:crypto';
+import { once } from 'node:events';
+import { finished } from 'node:stream/promises';
+import type { PoolClient } from 'pg';
+import { from as copyFrom } from 'pg-copy-streams';
+import type { EntityManager } from 'typeorm';
+import { emailSchema, type CsvRowIssue } from '@evenhand/entities';
+import { AppError } from '../errors.js';
+import { csvStreamBatches, type CsvRecord } from '../lib/csv.js';
+import type { Bundle, RosterFile } from './bundle.js';
+
+/**
+ * Reads a OneRoster 1.1 bulk bundle into temporary tables on the transaction's connection, batch by
+ * batch (COPY), so memory does not grow with the export. Personal columns are dropped here, while
+ * parsing: a student keeps only a keyed hash of their sourcedId and their role; teachers and
+ * administrators keep the e-mail and name an invitation needs. References and duplicates are then
+ * checked set-wise in SQL, each problem with its file and line.
+ *
+ * Columns: the 1EdTech OneRoster v1.1 CSV tables (checked against the published binding; see
+ * docs/oneroster.md in this folder). Headers are matched without regard to case.
+ */
+
+/** Every header the v1.1 binding lists for the file; a bulk export carries them all, even when empty. */
+export const ROSTER_COLUMNS = {
+  'manifest.csv': ['propertyName', 'value'],
+  'orgs.csv': ['sourcedId', 'status', 'dateLastModified', 'name', 'type', 'identifier', 'parentSourcedId'],
+  'classes.csv': [
+    'sourcedId', 'status', 'dateLastModified', 'title', 'grades', 'courseSourcedId', 'classCode', 'classType', 'location',
+    'schoolSourcedId', 'termSourcedIds', 'subjects', 'subjectCodes', 'periods',
+  ],
+  'users.csv': [
+    'sourcedId', 'status', 'dateLastModified', 'enabledUser', 'orgSourcedIds', 'role', 'username', 'userIds', 'givenName',
+    'familyName', 'middleName', 'identifier', 'email', 'sms', 'phone', 'agentSourcedIds', 'grades', 'password',
+  ],
+  'enrollments.csv': ['sourcedId', 'status', 'dateLastModified', 'classSourcedId', 'schoolSourcedId', 'userSourcedId', 'role', 'primary', 'beginDate', 'endDate'],
+} as const satisfies Record<RosterFile, readonly string[]>;
+
+const USER_ROLES = ['administrator', 'aide', 'guardian', 'parent', 'proctor', 'relative', 'student', 'teacher'];
+const ENROLMENT_ROLES = ['administrator', 'proctor', 'student', 'teacher'];
+const REPORTED = 500;
+const MAX_ID = 255;
+// Control characters other than tab have no place in a roster value.
+const CONTROL = /[\u0000-\u0008\u000b-\u001f\u007f]/;
+
+/** The district's keyed hash of a user's sourcedId: the only form in which it reaches the database. */
+export const linkHash = (secret: string, sourcedId: string) => createHmac('sha256', secret).update(sourcedId, 'utf8').digest();
+
+class Problems {
+  readonly list: CsvRowIssue[] = [];
+  total = 0;
+  add(file: RosterFile, row: number, column: string | null, message: string) {
+    this.total += 1;
+    if (this.list.length < REPORTED) this.list.push({ row, column: column ? `${file}: ${column}` : file, message });
+  }
+}
+
+export function refuseRows(list: CsvRowIssue[], total: number): AppError {
+  return new AppError('validation_failed', `${total} problem(s) in the bundle; nothing was imported`, { rows: list.slice(0, REPORTED) });
+}
+
+/** A value in COPY's text format. */
+const t = (value: string | null) => (value === null ? '\\N' : value.replace(/[\\\t\n\r]/g, (c) => ({ '\\': '\\\\', '\t': '\\t', '\n': '\\n', '\r': '\\r' })[c]!));
+const bytes = (b: Buffer) => `\\\\x${b.toString('hex')}`;
+
+async function* records(bundle: Bundle, file: RosterFile): AsyncGenerator<CsvRecord[]> {
+  const stream = await bundle.open(file);
+  try {
+    yield* csvStreamBatches(stream, ROSTER_COLUMNS[file].map((c) => c.toLowerCase()));
+  } catch (err) {
+    if (err instanceof AppError) throw new AppError(err.code, `${file}: ${err.message}`, err.details);
+    // A zip entry that unpacks to other than its declared size, or a damaged one.
+    throw AppError.validation(`${file} could not be read from the zip: ${(err as Error).message}; nothing was imported`);
+  } finally {
+    stream.destroy();
+  }
+}
+
+async function readManifest(bundle: Bundle) {
+  const properties = new Map<string, string>();
+  for await (const batch of records(bundle, 'manifest.csv')) {
+    for (const r of batch) properties.set(r.values.propertyname, r.values.value);
+    if (properties.size > 200) throw AppError.validation('manifest.csv: too many properties');
+  }
+  const version = properties.get('oneroster.version');
+  if (version !== '1.1') throw AppError.validation(`manifest.csv: oneroster.version is ${version ? `“${version}”` : 'missing'}; Evenhand reads OneRoster 1.1 exports`);
+  const notBulk = ['orgs', 'classes', 'users', 'enrollments'].filter((f) => properties.get(`file.${f}`) !== 'bulk');
+  if (notBulk.length) {
+    throw AppError.validation(`manifest.csv: ${notBulk.map((f) => `file.${f}`).join(', ')} must be “bulk” (export the whole roster, not changes)`);
+  }
+}
+
+/** Streams one file's rows into a temporary table; `toLine` turns a record into a COPY line, or null to skip it. */
+async function copyRows(client: PoolClient, bundle: Bundle, file: RosterFile, table: string, toLine: (r: CsvRecord) => string | null): Promise<number> {
+  const copy = client.query(copyFrom(`COPY ${table} FROM STDIN`));
+  const copied = finished(copy);
+  let rows = 0;
+  try {
+    for await (const batch of records(bundle, file)) {
+      let text = '';
+      for (const r of batch) {
+        const line = toLine(r);
+        if (line !== null) {
+          text += line;
+          rows += 1;
+        }
+      }
+      if (text && !copy.write(text)) await once(copy, 'drain');
+    }
+    copy.end();
+    await copied;
+  } catch (err) {
+    copy.destroy(err as Error);
+    await copied.catch(() => {});
+    throw err;
+  }
+  return rows;
+}
+
+/**
+ * Stages a bundle in `roster_orgs`, `roster_classes`, `roster_users` and `roster_enrolments` (dropped at
+ * the end of the transaction) and throws a row-numbered 400 for anything wrong. Rows whose status is
+ * `tobedeleted` are left out.
+ */
+export async function stageBundle(manager: EntityManager, bundle: Bundle, secret: string): Promise<void> {
+  if (!manager.queryRunner) throw new Error('stageBundle runs inside a transaction');
+  await readManifest(bundle);
+  await manager.query(`SET LOCAL work_mem = '64MB'`);
+  await manager.query(`CREATE TEMP TABLE roster_orgs (line int, sourced_id text, name text, type text, identifier text) ON COMMIT DROP`);
+  await manager.query(`CREATE TEMP TABLE roster_classes (line int, sourced_id text, title text, grade text, school text) ON COMMIT DROP`);
+  await manager.query(`CREATE TEMP TABLE roster_users (line int, link bytea, role text, email text, name text, orgs text) ON COMMIT DROP`);
+  await manager.query(`CREATE TEMP TABLE roster_enrolments (line int, link bytea, class text, user_link bytea, role text, is_primary boolean) ON COMMIT DROP`);
+  const client = (await manager.queryRunner.connect()) as PoolClient;
+  const problems = new Problems();
+
+  /** The row's value of a column, checked for length and control characters; null (with a problem) when bad. */
+  const value = (file: RosterFile, r: CsvRecord, column: string, { required = false, max = MAX_ID } = {}) => {
+    const v = r.values[column.toLowerCase()] ?? '';
+    if (required && !v) return problems.add(file, r.line, column, `${column} is empty`), null;
+    if (v.length > max) return problems.add(file, r.line, column, `${column} is longer than ${max} characters`), null;
+    if (CONTROL.test(v)) return problems.add(file, r.line, column, `${column} contains control characters`), null;
+    return v;
+  };
+  const deleted = (r: CsvRecord) => r.values.status?.toLowerCase() === 'tobedeleted';
+
+  await copyRows(client, bundle, 'orgs.csv', 'roster_orgs', (r) => {
+    if (deleted(r)) return null;
+    const [id, name, type, identifier] = [value('orgs.csv', r, 'sourcedId', { required: true }), value('orgs.csv', r, 'name', { required: true, max: 160 }), value('orgs.csv', r, 'type', { required: true }), value('orgs.csv', r, 'identifier', { max: 20 })];
+    if (id === null || name === null || type === null || identifier === null) return null;
+    return `${r.line}\t${t(id)}\t${t(name)}\t${t(type.toLowerCase())}\t${t(identifier)}\n`;
+  });
+  await copyRows(client, bundle, 'classes.csv', 'roster_classes', (r) => {
+    if (deleted(r)) return null;
+    const [id, title, grades, school] = [value('classes.csv', r, 'sourcedId', { required: true }), value('classes.csv', r, 'title', { required: true, max: 120 }), value('classes.csv', r, 'grades'), value('classes.csv', r, 'schoolSourcedId', { required: true })];
+    if (id === null || title === null || grades === null || school === null) return null;
+    const grade = grades.split(',')[0].trim().slice(0, 20) || 'not given';
+    return `${r.line}\t${t(id)}\t${t(title)}\t${t(grade)}\t${t(school)}\n`;
+  });
+  await copyRows(client, bundle, 'users.csv', 'roster_users', (r) => {
+    if (deleted(r)) return null;
+    const id = value('users.csv', r, 'sourcedId', { required: true });
+    const role = (r.values.role ?? '').toLowerCase();
+    if (!USER_ROLES.includes(role)) problems.add('users.csv', r.line, 'role', `role “${role}” is not a OneRoster 1.1 role`);
+    if (id === null || !USER_ROLES.includes(role)) return null;
+    const link = bytes(linkHash(secret, id));
+    // A student's names, e-mail, username, identifiers, phone, grades and password are dropped here.
+    if (role === 'student') return `${r.line}\t${link}\tstudent\t\\N\t\\N\t\\N\n`;
+    if (role !== 'teacher' && role !== 'administrator') return `${r.line}\t${link}\t${role}\t\\N\t\\N\t\\N\n`;
+    const given = value('users.csv', r, 'givenName', { max: 60 });
+    const family = value('users.csv', r, 'familyName', { max: 60 });
+    const orgs = value('users.csv', r, 'orgSourcedIds', { max: 4000 });
+    const rawEmail = r.values.email ?? '';
+    const email = rawEmail ? emailSchema.safeParse(rawEmail) : null;
+    if (email && !email.success) problems.add('users.csv', r.line, 'email', `“${rawEmail}” is not an e-mail address`);
+    const name = `${given ?? ''} ${family ?? ''}`.trim() || null;
+    return `${r.line}\t${link}\t${role}\t${t(email?.success ? email.data : null)}\t${t(name)}\t${t(orgs)}\n`;
+  });
+  await copyRows(client, bundle, 'enrollments.csv', 'roster_enrolments', (r) => {
+    if (deleted(r)) return null;
+    const [id, cls, user] = [value('enrollments.csv', r, 'sourcedId', { required: true }), value('enrollments.csv', r, 'classSourcedId', { required: true }), value('enrollments.csv', r, 'userSourcedId', { required: true })];
+    const role = (r.values.role ?? '').toLowerCase();
+    if (!ENROLMENT_ROLES.includes(role)) problems.add('enrollments.csv', r.line, 'role', `role “${role}” is not a OneRoster 1.1 enrolment role`);
+    if (id === null || cls === null || user === null || !ENROLMENT_ROLES.includes(role)) return null;
+    // An enrolment's own sourcedId often embeds the student's; only its hash is kept, for the duplicate check.
+    return `${r.line}\t${bytes(linkHash(secret, id))}\t${t(cls)}\t${bytes(linkHash(secret, user))}\t${role}\t${r.values.primary?.toLowerCase() === 'true' ? 't' : 'f'}\n`;
+  });
+  if (problems.total) throw refuseRows(problems.list, problems.total);
+
+  for (const table of ['roster_orgs', 'roster_classes', 'roster_users', 'roster_enrolments']) await manager.query(`ANALYZE ${table}`);
+  const found: { file: RosterFile; line: number; col: string; message: string; total: number }[] = await manager.query(
+    `WITH issues AS (
+       SELECT 'orgs.csv' AS file, line, 'sourcedId' AS col, format('sourcedId %s is also on line %s', sourced_id, first) AS message
+         FROM (SELECT line, sourced_id, min(line) OVER (PARTITION BY sourced_id) AS first FROM roster_orgs) d WHERE line <> first
+       UNION ALL
+       SELECT 'classes.csv', line, 'sourcedId', format('sourcedId %s is also on line %s', sourced_id, first)
+         FROM (SELECT line, sourced_id, min(line) OVER (PARTITION BY sourced_id) AS first FROM roster_classes) d WHERE line <> first
+       UNION ALL
+       SELECT 'users.csv', line, 'sourcedId', format('the same sourcedId is also on line %s', first)
+         FROM (SELECT line, min(line) OVER (PARTITION BY link) AS first FROM roster_users) d WHERE line <> first
+       UNION ALL
+       SELECT 'enrollments.csv', line, 'sourcedId', format('the same sourcedId is also on line %s', first)
+         FROM (SELECT line, min(line) OVER (PARTITION BY link) AS first FROM roster_enrolments) d WHERE line <> first
+       UNION ALL
+       SELECT 'classes.csv', c.line, 'schoolSourcedId', format('schoolSourcedId %s is not a school in orgs.csv', c.school)
+         FROM roster_classes c WHERE NOT EXISTS (SELECT 1 FROM roster_orgs o WHERE o.sourced_id = c.school AND o.type = 'school')
+       UNION ALL
+       SELECT 'enrollments.csv', e.line, 'classSourcedId', format('classSourcedId %s is not in classes.csv', e.class)
+         FROM roster_enrolments e WHERE NOT EXISTS (SELECT 1 FROM roster_classes c WHERE c.sourced_id = e.class)
+       UNION ALL
+       SELECT 'enrollments.csv', e.line, 'userSourcedId', 'userSourcedId is not in users.csv'
+         FROM roster_enrolments e WHERE NOT EXISTS (SELECT 1 FROM roster_users u WHERE u.link = e.user_link))
+     SELECT file, line, col, message, count(*) OVER ()::int AS total FROM issues ORDER BY file, line LIMIT ${REPORTED}`,
+  );
+  if (found.length) throw refuseRows(found.map((f) => ({ row: f.line, column: `${f.file}: ${f.col}`, message: f.message })), found[0].total);
+}

@@ -1,0 +1,217 @@
+import { readFileSync } from 'node:fs';
+import { deflateRawSync } from 'node:zlib';
+import type { RosterImport, RosterPreview } from '@evenhand/entities';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { startTestApp, type SignedIn, type TestApp } from '../../test/app.js';
+import { createStudy, type StudySetup } from '../../test/fixtures.js';
+import { waitForMail } from '../../test/mail.js';
+import { DEMO_BUNDLE, DEMO_SHAPE, oneRosterFiles, zipBundle, zipEntries } from '../../dev/oneroster-bundle.js';
+import { MAX_PACKING_RATIO } from './bundle.js';
+import { linkHash } from './parser.js';
+
+let t: TestApp;
+let s: StudySetup;
+beforeAll(async () => {
+  t = await startTestApp();
+  s = await createStudy(t.app);
+});
+afterAll(() => t.close());
+
+const upload = (who: SignedIn, url: string, files: { name: string; data: Buffer | string }[], selection?: object) => {
+  let req = who.agent.post(url).set('x-csrf-token', who.csrf);
+  for (const f of files) req = req.attach('files', Buffer.isBuffer(f.data) ? f.data : Buffer.from(f.data), f.name);
+  if (selection) req = req.field('selection', JSON.stringify(selection));
+  return req;
+};
+const previewUrl = () => `/api/studies/${s.studyId}/roster-imports/preview`;
+const commitUrl = () => `/api/studies/${s.studyId}/roster-imports`;
+const zip = (files: Record<string, string>) => [{ name: 'roster.zip', data: zipBundle(files) }];
+const everything = (p: RosterPreview) => ({ schools: p.schools.map((x) => x.sourcedId), classes: p.schools.flatMap((x) => x.classes.map((c) => c.sourcedId)) });
+
+/** Row counts of everything an import could write: a refused bundle must leave them all as they were. */
+async function footprint() {
+  const [row] = await t.db.query(
+    `SELECT (SELECT count(*) FROM sites)::int AS sites, (SELECT count(*) FROM study_sites)::int AS study_sites, (SELECT count(*) FROM classrooms)::int AS classrooms,
+            (SELECT count(*) FROM students)::int AS students, (SELECT count(*) FROM roster_students)::int AS roster_students,
+            (SELECT count(*) FROM users)::int AS users, (SELECT count(*) FROM audit_events)::int AS audit, (SELECT count(*) FROM roster_imports)::int AS imports`,
+  );
+  return row;
+}
+
+describe('previewing and importing a OneRoster bundle', () => {
+  it('when the coordinator previews the demo bundle, then it lists the demo schools, their classes, teachers and student counts, and writes nothing', async () => {
+    const before = await footprint();
+    const res = await upload(s.coordinator, previewUrl(), [{ name: 'oneroster-demo.zip', data: readFileSync(DEMO_BUNDLE) }]);
+    expect(res.status).toBe(200);
+    const preview = res.body as RosterPreview;
+    expect(preview.totals).toEqual({ schools: 2, classes: 4, students: 4 * DEMO_SHAPE.studentsPerClass });
+    const [ald] = await t.db.query(`SELECT id FROM sites WHERE code = 'ALD'`);
+    const alder = preview.schools.find((x) => x.identifier === 'ALD')!;
+    expect(alder).toMatchObject({ name: 'Alder Street Elementary', siteId: ald.id, principalFromExport: true, principal: { email: 'principal.ald@roster.evenhand.test' } });
+    expect(alder.classes[0]).toMatchObject({ title: 'Grade 4 Reading 1', grade: '04', students: 12, teacher: { email: 'teacher.ald1@roster.evenhand.test', name: 'Ondine Fictive-ALD1' }, classroomId: null, blocked: null });
+    expect(await footprint()).toEqual(before);
+  });
+
+  it('when the individual CSV files are uploaded instead of a zip, then the preview is the same', async () => {
+    const files = Object.entries(oneRosterFiles(DEMO_SHAPE)).map(([name, data]) => ({ name, data }));
+    const res = await upload(s.coordinator, previewUrl(), files);
+    expect(res.status).toBe(200);
+    expect(res.body.totals).toEqual({ schools: 2, classes: 4, students: 48 });
+  });
+
+  it('when chosen schools and classes are committed, then classrooms, teachers (invited) and student codes exist, and no student name or sourcedId is stored', async () => {
+    const preview = (await upload(s.coordinator, previewUrl(), zip(oneRosterFiles(DEMO_SHAPE)))).body as RosterPreview;
+    const choice = { schools: preview.schools.map((x) => x.sourcedId), classes: ['cls-ald-1', 'cls-ald-2', 'cls-brk-1'] };
+    const res = await upload(s.coordinator, commitUrl(), zip(oneRosterFiles(DEMO_SHAPE)), choice);
+    expect(res.status).toBe(201);
+    const result = res.body as RosterImport;
+    expect(result).toMatchObject({ classroomsCreated: 3, classroomsUpdated: 0, studentsJoined: 36, studentsLeft: 0, studentsRemoved: 0 });
+
+    const rooms = await t.db.query(`SELECT c.name, c.expected_size, u.email FROM classrooms c JOIN users u ON u.id = c.teacher_id WHERE c.study_id = $1 AND c.roster_sourced_id IS NOT NULL ORDER BY c.roster_sourced_id`, [s.studyId]);
+    expect(rooms).toEqual([
+      { name: 'Grade 4 Reading 1', expected_size: 12, email: 'teacher.ald1@roster.evenhand.test' },
+      { name: 'Grade 4 Reading 2', expected_size: 12, email: 'teacher.ald2@roster.evenhand.test' },
+      { name: 'Grade 4 Reading 1', expected_size: 12, email: 'teacher.brk1@roster.evenhand.test' },
+    ]);
+    await waitForMail('teacher.ald1@roster.evenhand.test');
+
+    // The link is the keyed hash of the export's sourcedId, never the sourcedId itself.
+    const [first] = await t.db.query(`SELECT rs.student_code, rs.link_hash FROM roster_students rs WHERE rs.study_id = $1 AND rs.link_hash = $2`, [s.studyId, linkHash(t.config.rosterLinkSecret, 'stu-000001')]);
+    expect(first.student_code).toMatch(/^R\d{7}$/);
+    expect((await t.db.query(`SELECT count(*)::int AS n FROM students WHERE study_id = $1 AND student_code LIKE 'R%'`, [s.studyId]))[0].n).toBe(36);
+    const [{ dump }] = await t.db.query(
+      `SELECT concat_ws(' ', (SELECT string_agg(u::text, ' ') FROM users u), (SELECT string_agg(a::text, ' ') FROM audit_events a),
+                            (SELECT string_agg(r::text, ' ') FROM roster_imports r), (SELECT string_agg(x::text, ' ') FROM students x)) AS dump`,
+    );
+    for (const personal of ['Given1', 'Family1', 'stu-000001', 'pupil1@', 'SIS-1', '900001']) expect(dump).not.toContain(personal);
+  });
+
+  it('when a newer export is imported, then students who joined get codes, those who left are removed before the draw, nothing is duplicated, and the audit trail says which codes', async () => {
+    const newer = oneRosterFiles({ ...DEMO_SHAPE, without: [1, 2] });
+    // One new student in the first class of Alder Street: the last student number of the demo shape plus one.
+    newer['users.csv'] += `stu-000999,,,true,org-ald,student,,,Given999,Family999,,,,,,,04,\r\n`;
+    newer['enrollments.csv'] += `enr-new-999,,,cls-ald-1,org-ald,stu-000999,student,false,,\r\n`;
+    const preview = (await upload(s.coordinator, previewUrl(), zip(newer))).body as RosterPreview;
+    const first = preview.schools.flatMap((x) => x.classes).find((c) => c.sourcedId === 'cls-ald-1')!;
+    expect(first).toMatchObject({ joined: 1, left: 2, students: 11 });
+    expect(first.classroomId).not.toBeNull();
+
+    const res = await upload(s.coordinator, commitUrl(), zip(newer), { schools: ['org-ald', 'org-brk'], classes: ['cls-ald-1', 'cls-ald-2', 'cls-brk-1'] });
+    expect(res.status).toBe(201);
+    expect(res.body).toMatchObject({ classroomsCreated: 0, classroomsUpdated: 1, studentsJoined: 1, studentsRemoved: 2, studentsLeft: 0 });
+    expect((await t.db.query(`SELECT count(*)::int AS n FROM roster_students WHERE study_id = $1`, [s.studyId]))[0].n).toBe(35);
+    expect((await t.db.query(`SELECT count(*)::int AS n FROM classrooms WHERE study_id = $1 AND roster_sourced_id IS NOT NULL`, [s.studyId]))[0].n).toBe(3);
+    const [entry] = await t.db.query(`SELECT after FROM audit_events WHERE study_id = $1 AND action = 'roster.students_changed' ORDER BY at DESC, id DESC LIMIT 1`, [s.studyId]);
+    expect(entry.after.joined).toHaveLength(1);
+    expect(entry.after.removed).toHaveLength(2);
+    expect(entry.after.attrition).toBe(false);
+    const history = await s.coordinator.agent.get(commitUrl());
+    expect(history.body.items.map((i: RosterImport) => i.studentsJoined)).toEqual([1, 36]);
+  });
+
+  it('when a student leaves a classroom after the draw, then the code stays registered and the leaving is recorded as attrition', async () => {
+    const [lead] = await t.db.query(`SELECT id FROM users WHERE email = 'lead@evenhand.test'`);
+    await t.db.query(`INSERT INTO draws (study_id, seed, algorithm, algorithm_version, unit, blocks, assignments, committed_by) VALUES ($1, 'test', 'test', '1', 'classroom', '[]', '[]', $2)`, [s.studyId, lead.id]);
+    const latest = oneRosterFiles({ ...DEMO_SHAPE, without: [1, 2, 3] });
+    latest['users.csv'] += `stu-000999,,,true,org-ald,student,,,Given999,Family999,,,,,,,04,\r\n`;
+    latest['enrollments.csv'] += `enr-new-999,,,cls-ald-1,org-ald,stu-000999,student,false,,\r\n`;
+    const preview = (await upload(s.coordinator, previewUrl(), zip(latest))).body as RosterPreview;
+    expect(preview.drawCommitted).toBe(true);
+    expect(preview.schools.flatMap((x) => x.classes).find((c) => c.sourcedId === 'cls-ald-3' || c.sourcedId === 'cls-brk-2')!.blocked).toBe('The draw is committed: new classrooms can no longer join');
+
+    const res = await upload(s.coordinator, commitUrl(), zip(latest), { schools: ['org-ald', 'org-brk'], classes: ['cls-ald-1', 'cls-ald-2', 'cls-brk-1'] });
+    expect(res.status).toBe(201);
+    expect(res.body).toMatchObject({ studentsJoined: 0, studentsRemoved: 0, studentsLeft: 1 });
+    const [gone] = await t.db.query(`SELECT student_code, left_at FROM roster_students WHERE study_id = $1 AND link_hash = $2`, [s.studyId, linkHash(t.config.rosterLinkSecret, 'stu-000003')]);
+    expect(gone.left_at).not.toBeNull();
+    expect((await t.db.query(`SELECT count(*)::int AS n FROM students WHERE study_id = $1 AND student_code = $2`, [s.studyId, gone.student_code]))[0].n).toBe(1);
+    const [entry] = await t.db.query(`SELECT after FROM audit_events WHERE study_id = $1 AND action = 'roster.students_changed' ORDER BY at DESC, id DESC LIMIT 1`, [s.studyId]);
+    expect(entry.after).toMatchObject({ left: [gone.student_code], attrition: true, removed: [] });
+
+    // A new class cannot be chosen after the draw.
+    const refused = await upload(s.coordinator, commitUrl(), zip(latest), { schools: ['org-brk'], classes: ['cls-brk-2'] });
+    expect(refused.status).toBe(400);
+    expect(refused.body.error.details.issues[0].message).toContain('The draw is committed');
+  });
+});
+
+describe('refusing bad bundles: a clear 4xx and nothing changes', () => {
+  const good = () => oneRosterFiles({ schools: 1, classesPerSchool: 1, studentsPerClass: 3 });
+  const refusedWith = async (files: { name: string; data: Buffer | string }[], status: number, selection = { schools: ['org-ald'], classes: ['cls-ald-1'] }) => {
+    const before = await footprint();
+    const res = await upload(s.coordinator, commitUrl(), files, selection);
+    expect(res.status).toBe(status);
+    expect(res.body.error.code).toBeTypeOf('string');
+    expect(await footprint()).toEqual(before);
+    return res.body.error as { code: string; message: string; details?: { rows?: { row: number; column: string; message: string }[] } };
+  };
+
+  it('refuses a bundle without users.csv', async () => {
+    const files = good();
+    delete files['users.csv'];
+    expect((await refusedWith(zip(files), 400)).message).toBe('The bundle lacks users.csv');
+  });
+
+  it('refuses a file whose header lacks the binding’s columns', async () => {
+    const files = good();
+    files['classes.csv'] = files['classes.csv'].replace('schoolSourcedId', 'school');
+    expect((await refusedWith(zip(files), 400)).message).toBe('classes.csv: The header row lacks the column(s) schoolsourcedid');
+  });
+
+  it('refuses an enrolment in a class that is not in classes.csv, naming its line', async () => {
+    const files = good();
+    files['enrollments.csv'] += 'enr-x,,,cls-nowhere,org-ald,stu-000001,student,false,,\r\n';
+    const error = await refusedWith(zip(files), 400);
+    expect(error.details!.rows).toEqual([{ row: 6, column: 'enrollments.csv: classSourcedId', message: 'classSourcedId cls-nowhere is not in classes.csv' }]);
+  });
+
+  it('refuses a duplicate sourcedId, naming both lines', async () => {
+    const files = good();
+    files['users.csv'] += 'stu-000002,,,true,org-ald,student,,,Given2,Family2,,,,,,,04,\r\n';
+    const error = await refusedWith(zip(files), 400);
+    expect(error.details!.rows).toEqual([{ row: 7, column: 'users.csv: sourcedId', message: 'the same sourcedId is also on line 5' }]);
+  });
+
+  it('refuses a delta export and another OneRoster version', async () => {
+    const delta = good();
+    delta['manifest.csv'] = delta['manifest.csv'].replace('file.users,bulk', 'file.users,delta');
+    expect((await refusedWith(zip(delta), 400)).message).toContain('file.users must be “bulk”');
+    const newer = good();
+    newer['manifest.csv'] = newer['manifest.csv'].replace('oneroster.version,1.1', 'oneroster.version,1.2');
+    expect((await refusedWith(zip(newer), 400)).message).toContain('Evenhand reads OneRoster 1.1 exports');
+  });
+
+  it('refuses an upload of 200 MB with 413 before reading it', async () => {
+    const huge = Buffer.alloc(200 * 1024 * 1024, 0x41);
+    huge.write('PK\u0003\u0004', 0, 'latin1');
+    expect((await refusedWith([{ name: 'huge.zip', data: huge }], 413)).code).toBe('payload_too_large');
+  });
+
+  it('refuses a zip bomb: an entry packed far beyond any CSV', async () => {
+    const files = good();
+    const bomb = zipEntries([
+      ...Object.entries(files).filter(([n]) => n !== 'users.csv').map(([name, data]) => ({ name, data })),
+      { name: 'users.csv', data: Buffer.alloc(64 * 1024 * 1024, 0x20) },
+    ]);
+    expect(bomb.length).toBeLessThan(1024 * 1024);
+    expect(64 * 1024 * 1024 / deflateRawSync(Buffer.alloc(64 * 1024 * 1024, 0x20)).length).toBeGreaterThan(MAX_PACKING_RATIO);
+    expect((await refusedWith([{ name: 'bomb.zip', data: bomb }], 400)).message).toBe(`The zip was refused: “users.csv” is packed more than ${MAX_PACKING_RATIO} times (a zip bomb?); nothing was imported`);
+  });
+
+  it('refuses a zip with a path that climbs out of the bundle', async () => {
+    const files = good();
+    const climbing = zipEntries(Object.entries(files).map(([name, data]) => ({ name: name === 'users.csv' ? '../users.csv' : name, data })));
+    expect((await refusedWith([{ name: 'climb.zip', data: climbing }], 400)).message).toMatch(/^The zip was refused: .*\.\.\/users\.csv/);
+  });
+
+  it('refuses a choice that names a class of a school not chosen', async () => {
+    const error = await refusedWith(zip(good()), 400, { schools: ['org-brk-missing'], classes: ['cls-ald-1'] });
+    expect(error.message).toBe('The choice of schools and classes does not fit the bundle');
+  });
+
+  it('refuses the import to a teacher and a principal (403)', async () => {
+    const { signIn } = await import('../../test/app.js');
+    const teacher = await signIn(t.app, 'teacher1@evenhand.test');
+    expect((await upload(teacher, previewUrl(), zip(good()))).status).toBe(403);
+  });
+});
