@@ -14,6 +14,8 @@ pg_up pg 54329 evenhand
 maildev_up 1025 1080
 export DATABASE_URL="${DATABASE_URL:-$(database_url 54329 evenhand)}"
 export APP_URL="${APP_URL:-http://127.0.0.1:5173}"
+# "Sign in with your district account" goes to a local fake provider that lists the demo accounts (shared with npm start).
+identity_provider_up 1090 "$APP_URL" "http://127.0.0.1:${PORT:-3000}"
 
 npm run build --silent -w packages/stats
 npm run migrate --silent -w apps/api

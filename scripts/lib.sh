@@ -94,6 +94,26 @@ maildev_up() {
   echo "maildev did not start; see .data/maildev-$smtp.log" >&2; return 1
 }
 
+# identity_provider_up PORT APP_URL...: a fake district identity provider (OpenID Connect) whose people are the demo
+# accounts (apps/api/dev/identity-provider.ts), with each APP_URL's callback registered; exports the API's OIDC_* settings.
+identity_provider_up() {
+  local port="$1" run="$DATA/identity-provider-$1-run" args=() url
+  shift
+  for url in "$@"; do args+=(--redirect-uri "$url/api/auth/district/callback"); done
+  export OIDC_ISSUER_URL="http://127.0.0.1:$port" OIDC_CLIENT_ID=evenhand-local OIDC_CLIENT_SECRET=evenhand-local-identity-provider-secret
+  if port_open "$port"; then
+    [ -d "$run" ] && use_service "$run"
+    return 0
+  fi
+  say "starting the fake district identity provider (http://127.0.0.1:$port)"
+  mkdir -p "$run"
+  (cd "$ROOT/apps/api" && exec node --import tsx dev/identity-provider.ts --port "$port" "${args[@]}") >"$DATA/identity-provider-$port.log" 2>&1 &
+  echo "pid $!" >"$run/started-by-script"
+  use_service "$run"
+  for _ in $(seq 1 100); do port_open "$port" && return 0; sleep 0.2; done
+  echo "the fake identity provider did not start; see .data/identity-provider-$port.log" >&2; return 1
+}
+
 # Several scripts may share one service (two `npm test` runs, a test run and a benchmark): each leaves a
 # marker with its PID in the service's run folder, and the last one out stops the service, if a script
 # started it (a service started by hand is left alone).

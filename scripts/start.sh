@@ -15,6 +15,8 @@ maildev_up 1025 1080
 export DATABASE_URL="${DATABASE_URL:-$(database_url 54329 evenhand)}"
 export PORT="${PORT:-3000}"
 export APP_URL="${APP_URL:-http://127.0.0.1:$PORT}"
+# "Sign in with your district account" goes to a local fake provider that lists the demo accounts (shared with npm run dev).
+identity_provider_up 1090 "$APP_URL" http://127.0.0.1:5173
 export WEB_DIST="$ROOT/apps/web/dist"
 
 say "building"

@@ -26,6 +26,8 @@ npx vitest run "$@" || failed=1
 if [ -z "${SKIP_E2E:-}" ]; then
   say "end-to-end tests (Playwright, Debian's Chromium)"
   npm run build --silent -w apps/web
+  # The journeys' API signs in through the fake district identity provider (its OIDC_* settings are exported here).
+  identity_provider_up 1190 "http://127.0.0.1:${E2E_PORT:-3100}"
   export E2E_DATABASE_URL="$(database_url 54339 evenhand_e2e)"
   DATABASE_URL="$E2E_DATABASE_URL" npm run migrate --silent -w apps/api
   DATABASE_URL="$E2E_DATABASE_URL" npm run seed --silent -w apps/api -- --reset

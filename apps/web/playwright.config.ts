@@ -43,6 +43,12 @@ export default defineConfig({
       APP_URL: `http://127.0.0.1:${port}`,
       SMTP_PORT: process.env.SMTP_PORT ?? '1025',
       LOG_LEVEL: 'warn',
+      // The fake district identity provider that scripts/test.sh starts (identity_provider_up); unset, no district sign-in.
+      ...(process.env.OIDC_ISSUER_URL && {
+        OIDC_ISSUER_URL: process.env.OIDC_ISSUER_URL,
+        OIDC_CLIENT_ID: process.env.OIDC_CLIENT_ID ?? '',
+        OIDC_CLIENT_SECRET: process.env.OIDC_CLIENT_SECRET ?? '',
+      }),
     },
   },
 });
