@@ -180,6 +180,28 @@ export async function listDraws(db: DataSource, user: SessionUser, studyId: stri
   return { items: [draw], total: 1 };
 }
 
+/**
+ * A locked result keeps the allocation it was computed on: a classroom it read cannot change arms, and a randomised
+ * study with a locked result cannot turn quasi-experimental (the database refuses both too).
+ */
+async function refuseIfLockedResultReads(manager: EntityManager, studyId: string, classroomId: string): Promise<void> {
+  const locked: { id: string; label: string; locked_at: Date; read: boolean; quasi: boolean }[] = await manager.query(
+    `SELECT r.id, k.label, r.locked_at, r.classroom_arms ? $2 AS read, s.quasi_experimental AS quasi
+       FROM runs r JOIN comparisons k ON k.id = r.comparison_id JOIN studies s ON s.id = r.study_id
+      WHERE r.study_id = $1 AND r.state = 'locked' ORDER BY r.locked_at`,
+    [studyId, classroomId],
+  );
+  const hit = locked.find((r) => r.read) ?? (locked[0] && !locked[0].quasi ? locked[0] : undefined);
+  if (!hit) return;
+  const day = new Date(hit.locked_at).toISOString().slice(0, 10);
+  throw AppError.conflict(
+    hit.read
+      ? `The locked result “${hit.label}” (locked ${day}) read this classroom in its arm; a reassignment would change a locked result`
+      : `The locked result “${hit.label}” (locked ${day}) is a randomised comparison; a reassignment would make the study quasi-experimental`,
+    { lockedRunId: hit.id },
+  );
+}
+
 /** A manual change of one classroom's arm: needs a reason, is audited, and makes the study quasi-experimental. */
 export async function reassign(db: DataSource, user: SessionUser, drawId: string, input: Reassignment): Promise<Draw> {
   const studyId = await db.transaction(async (manager) => {
@@ -189,6 +211,7 @@ export async function reassign(db: DataSource, user: SessionUser, drawId: string
     const classroom = await manager.findOneBy(ClassroomEntity, { id: input.classroomId, studyId: saved.studyId });
     if (!classroom) throw AppError.validation('Choose a classroom of this study', [{ path: 'classroomId', message: 'Not a classroom of this study' }]);
     if (classroom.arm === input.arm) throw AppError.validation(`This classroom is already in the ${input.arm} arm`, [{ path: 'arm', message: 'No change' }]);
+    await refuseIfLockedResultReads(manager, saved.studyId, classroom.id);
     await manager.insert(DrawReassignmentEntity, { drawId, classroomId: classroom.id, fromArm: classroom.arm!, arm: input.arm, reason: input.reason, by: user.id });
     await manager.update(ClassroomEntity, classroom.id, { arm: input.arm });
     await manager.update(StudyEntity, saved.studyId, { quasiExperimental: true });

@@ -111,7 +111,7 @@ export async function gather(manager: EntityManager, scope: Scope): Promise<Gath
   const byClassroom = new Map(perClassroom.map((c) => [c.classroom_id, c]));
   const analysedSheets = rowSheets.filter((s) => byClassroom.has(s.classroom_id));
 
-  const summaryLines: { line: string }[] = await manager.query(`SELECT line FROM (${canonicalSummariesSql}) s ORDER BY line COLLATE "C"`, [sheets.map((s) => s.id)]);
+  const summaryLines: { line: string }[] = await manager.query(`SELECT line FROM (${canonicalSummariesSql}) s ORDER BY line COLLATE "C"`, [sheets.map((s) => s.id), null]);
   const dataSha256 = dataHash(
     analysedSheets.map((s) => ({ classroomId: s.classroom_id, arm: s.arm!, outcome: s.digest!, baseline: baselineOf.get(s.classroom_id)?.digest ?? null })),
     summaryLines.map((l) => l.line),
@@ -314,24 +314,26 @@ const valuePassSql = `
 
 /**
  * One text line per classroom that reported only a summary of the outcome: summary,classroom_id,arm,n,mean,sd. They count
- * in the t tests and effect sizes, so they are part of the data hash and of the bundle. $1: the outcome sheets.
+ * in the t tests and effect sizes, so they are part of the data hash and of the bundle. $1: the outcome sheets; $2: the
+ * arms a finished run read (classroom id → arm), or null for today's arms (a run reading now).
  */
 export const canonicalSummariesSql = `
-  SELECT concat_ws(',', 'summary', sh.classroom_id, c.arm, sh.summary_n::text, sh.summary_mean::text, sh.summary_sd::text) AS line
+  SELECT concat_ws(',', 'summary', sh.classroom_id, a.arm, sh.summary_n::text, sh.summary_mean::text, sh.summary_sd::text) AS line
     FROM unnest($1::uuid[]) AS ids(id) JOIN score_sheets sh ON sh.id = ids.id JOIN classrooms c ON c.id = sh.classroom_id
-   WHERE sh.mode = 'summary' AND c.arm IS NOT NULL`;
+         CROSS JOIN LATERAL (SELECT CASE WHEN $2::jsonb IS NULL THEN c.arm ELSE $2::jsonb ->> c.id::text END AS arm) a
+   WHERE sh.mode = 'summary' AND a.arm IS NOT NULL`;
 
 /**
  * The bundle's rows: classroom_id,arm,student_code,outcome,pretest for every student with an outcome or a pretest
  * score in a classroom with analysed rows (either score empty when missing), scores as PostgreSQL prints numeric, in
  * byte order of classroom ID then student code: the lines the sheets' digests are rebuilt from.
- * $1: outcome sheets with student rows, $2: the matching baseline sheet of each (or null).
+ * $1: outcome sheets with student rows, $2: the matching baseline sheet of each (or null), $3: the arms the run read.
  */
 export const bundleRowsSql = `
   WITH sh AS (SELECT u.id, u.baseline_id, s.classroom_id FROM unnest($1::uuid[], $2::uuid[]) AS u(id, baseline_id) JOIN score_sheets s ON s.id = u.id),
        o AS (SELECT sh.classroom_id, x.student_code, x.score FROM sh JOIN scores x ON x.sheet_id = sh.id WHERE x.score IS NOT NULL),
        b AS (SELECT sh.classroom_id, x.student_code, x.score FROM sh JOIN scores x ON x.sheet_id = sh.baseline_id
               WHERE x.score IS NOT NULL AND sh.classroom_id IN (SELECT classroom_id FROM o))
-  SELECT concat_ws(',', classroom_id, c.arm, student_code, coalesce(o.score::text, ''), coalesce(b.score::text, '')) AS line
-    FROM o FULL JOIN b USING (classroom_id, student_code) JOIN classrooms c ON c.id = classroom_id
+  SELECT concat_ws(',', classroom_id, $3::jsonb ->> classroom_id::text, student_code, coalesce(o.score::text, ''), coalesce(b.score::text, '')) AS line
+    FROM o FULL JOIN b USING (classroom_id, student_code)
    ORDER BY classroom_id::text COLLATE "C", student_code COLLATE "C"`;

@@ -223,6 +223,24 @@ describe('comparison runs', () => {
     expect((await s.lead.agent.post(`/api/runs/${re.id}/lock`).set('x-csrf-token', s.lead.csrf)).status).toBe(409);
   });
 
+  it('refuses a reassignment of a classroom a locked result read (409 naming it): the bundle, its hash and the study stay as they were', async () => {
+    const before = (await reviewer.agent.get(`/api/runs/${runId}/bundle`)).body;
+    const [draw] = (await s.coordinator.agent.get(`/api/studies/${s.studyId}/draws`)).body.items;
+    const [room] = await t.db.query(`SELECT id, arm FROM classrooms WHERE study_id = $1 ORDER BY name, id LIMIT 1`, [s.studyId]);
+    const res = await s.coordinator.agent
+      .post(`/api/draws/${draw.id}/reassignments`)
+      .set('x-csrf-token', s.coordinator.csrf)
+      .send({ classroomId: room.id, arm: room.arm === 'intervention' ? 'comparison' : 'intervention', reason: 'The teacher moved to the other programme mid-year.' });
+    expect(res.status).toBe(409);
+    expect(res.body.error.message).toMatch(/locked result “Reading fluency at Spring” \(locked \d{4}-\d{2}-\d{2}\) read this classroom/);
+    expect(res.body.error.details.lockedRunId).toBe(runId);
+    const after = (await reviewer.agent.get(`/api/runs/${runId}/bundle`)).body;
+    expect(after.rows).toEqual(before.rows);
+    expect(bundleHash(after.rows, after.summaries)).toBe(after.dataSha256);
+    const [study] = await t.db.query(`SELECT quasi_experimental FROM studies WHERE id = $1`, [s.studyId]);
+    expect(study.quasi_experimental).toBe(false);
+  });
+
   it('moves the study from collecting (draw) to analysing (first confirmatory run) to reported (every pre-specified comparison locked), audited', async () => {
     const [study] = await t.db.query(`SELECT status FROM studies WHERE id = $1`, [s.studyId]);
     expect(study.status).toBe('reported');
@@ -333,6 +351,31 @@ describe('comparison runs', () => {
     const again = welchTFromSummary(group('intervention'), group('comparison'));
     expect(again.t).toBeCloseTo(bundle.results.primary.t, 10);
     expect(again.p).toBeCloseTo(bundle.results.primary.p, 12);
+  });
+
+  it('keeps in a finished run’s bundle the arms it read after a reassignment, and refuses to lock it until it is run again', async () => {
+    const other = await createStudy(t.app);
+    await enrolClassrooms(other, 1, 4);
+    await send(other.coordinator, 'post', `/api/studies/${other.studyId}/draws`, { seed: 'arms-read', commit: true }, 201);
+    await other.coordinator.agent.get(`/api/studies/${other.studyId}/completion`).expect(200);
+    const rooms: { id: string; arm: string }[] = await t.db.query(`SELECT id, arm FROM classrooms WHERE study_id = $1 ORDER BY arm, id`, [other.studyId]);
+    for (const [k, c] of rooms.entries()) await fill(c.id, other.outcomeId, other.measureId, Array.from({ length: 6 }, (_, i) => 40 + ((i * 7 + k * 5) % 19)), `A${k}`);
+    const [k] = (await other.lead.agent.get(`/api/studies/${other.studyId}/comparisons`)).body.items;
+    const queued = await send(other.lead, 'post', `/api/comparisons/${k.id}/runs`, { kind: 'confirmatory' }, 202);
+    const run = await waitFor(queued.run.id, other.lead);
+    expect(run).toMatchObject({ state: 'finished', error: null });
+    const before = (await other.lead.agent.get(`/api/runs/${run.id}/bundle`)).body;
+    const [draw] = (await other.coordinator.agent.get(`/api/studies/${other.studyId}/draws`)).body.items;
+    const moved = rooms[0];
+    await send(other.coordinator, 'post', `/api/draws/${draw.id}/reassignments`, { classroomId: moved.id, arm: moved.arm === 'intervention' ? 'comparison' : 'intervention', reason: 'The school swapped this teacher’s programme.' }, 201);
+    const after = (await other.lead.agent.get(`/api/runs/${run.id}/bundle`)).body;
+    expect(after.rows).toEqual(before.rows);
+    expect(after.rows.filter((line: string) => line.startsWith(moved.id)).every((line: string) => line.split(',')[1] === moved.arm)).toBe(true);
+    expect(bundleHash(after.rows, after.summaries)).toBe(run.dataSha256);
+    expect(after.draw.reassignments).toEqual([]);
+    const lock = await other.lead.agent.post(`/api/runs/${run.id}/lock`).set('x-csrf-token', other.lead.csrf);
+    expect(lock.status).toBe(409);
+    expect(lock.body.error.message).toMatch(/was reassigned after this run read the data/);
   });
 
   it('tests normality of an arm above 5 000 students on a seeded sample that the bundle alone reproduces', async () => {

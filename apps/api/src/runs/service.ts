@@ -46,12 +46,15 @@ interface RunRow {
   engine_version: string | null;
   data_sha256: string | null;
   input_sheet_ids: string[];
+  /** The arm of each classroom the run read (classroom id → arm), stored when it finished. */
+  classroom_arms: Record<string, string> | null;
   results: RunResults | null;
   error: string | null;
   queued_at: Date;
   finished_at: Date | null;
   locked_at: Date | null;
   scheduled_for: Date | null;
+  started_at: Date | null;
 }
 
 const comparisonSelect = `
@@ -267,8 +270,8 @@ export async function executeRun(db: DataSource, logger: Logger, runId: string):
       return { computed, data };
     });
     await db.query(
-      `UPDATE runs SET state = 'finished', finished_at = now(), results = $2, engine_version = $3, data_sha256 = $4, input_sheet_ids = $5 WHERE id = $1`,
-      [runId, results.computed, results.computed.engineVersion, results.data.dataSha256, results.data.sheetIds],
+      `UPDATE runs SET state = 'finished', finished_at = now(), results = $2, engine_version = $3, data_sha256 = $4, input_sheet_ids = $5, classroom_arms = $6 WHERE id = $1`,
+      [runId, results.computed, results.computed.engineVersion, results.data.dataSha256, results.data.sheetIds, Object.fromEntries(results.data.classrooms.map((c) => [c.classroomId, c.arm]))],
     );
   } catch (err) {
     const known = err instanceof AnalysisError || (err as Error).name === 'StatsInputError';
@@ -341,6 +344,12 @@ export async function lockRun(deps: Pick<Deps, 'db' | 'config' | 'jobs'>, user: 
     const [other] = await manager.query(`SELECT id FROM runs WHERE comparison_id = $1 AND state = 'locked'`, [run.comparison_id]);
     if (other) throw AppError.conflict('This comparison already has a locked result; a re-analysis stays unlocked');
     await manager.query(`UPDATE score_sheets SET locked = true WHERE id = ANY($1) AND NOT locked`, [run.input_sheet_ids]);
+    // A result computed on arms that have since changed by hand would be locked on an allocation that no longer holds.
+    const [moved] = await manager.query(
+      `SELECT c.name FROM draw_reassignments x JOIN draws d ON d.id = x.draw_id JOIN classrooms c ON c.id = x.classroom_id WHERE d.study_id = $1 AND x.at >= $2 ORDER BY x.at LIMIT 1`,
+      [run.study_id, run.started_at],
+    );
+    if (moved) throw AppError.conflict(`Classroom ${moved.name} was reassigned after this run read the data; run the comparison again and lock that run`);
     await manager.query(`UPDATE runs SET state = 'locked', locked_at = now(), locked_by = $2 WHERE id = $1`, [runId, user.id]);
     await recordAudit(manager, {
       actorId: user.id,
@@ -391,7 +400,10 @@ export async function runBundle(db: DataSource, user: SessionUser, runId: string
   const [k]: ComparisonRow[] = await db.query(`${comparisonSelect} WHERE k.id = $1`, [run.comparison_id]);
   const [plan] = await db.query(`SELECT version, content, sha256, created_at FROM plan_versions WHERE study_id = $1 AND version = $2`, [run.study_id, run.plan_version]);
   const [draw] = await db.query(`SELECT seed, algorithm, algorithm_version, unit, blocks, assignments, committed_at FROM draws WHERE study_id = $1`, [run.study_id]);
-  const reassignments = draw ? await db.query(`SELECT classroom_id, from_arm, to_arm, reason, at FROM draw_reassignments r JOIN draws d ON d.id = r.draw_id WHERE d.study_id = $1 ORDER BY at`, [run.study_id]) : [];
+  // The reassignments the run saw; later ones (refused once a result is locked) did not change what it read.
+  const reassignments = draw
+    ? await db.query(`SELECT classroom_id, from_arm, to_arm, reason, at FROM draw_reassignments r JOIN draws d ON d.id = r.draw_id WHERE d.study_id = $1 AND r.at < $2 ORDER BY at`, [run.study_id, run.started_at])
+    : [];
   const inputs: { id: string; classroom_id: string; mode: string; outcome: boolean }[] = await db.query(
     `SELECT sh.id, sh.classroom_id, sh.mode, sh.wave_id = $2 AS outcome FROM unnest($1::uuid[]) AS ids(id) JOIN score_sheets sh ON sh.id = ids.id`,
     [run.input_sheet_ids, k.wave_id],
@@ -399,8 +411,10 @@ export async function runBundle(db: DataSource, user: SessionUser, runId: string
   const baselineOf = new Map(inputs.filter((s) => !s.outcome).map((s) => [s.classroom_id, s.id]));
   const outcomes = inputs.filter((s) => s.outcome);
   const rowSheets = outcomes.filter((s) => s.mode === 'rows');
-  const lines: { line: string }[] = await db.query(bundleRowsSql, [rowSheets.map((s) => s.id), rowSheets.map((s) => baselineOf.get(s.classroom_id) ?? null)]);
-  const summaries: { line: string }[] = await db.query(`SELECT line FROM (${canonicalSummariesSql}) summaries ORDER BY line COLLATE "C"`, [outcomes.map((s) => s.id)]);
+  // The arms the run read, never today's: a later reassignment does not change a result's bundle.
+  const arms = run.classroom_arms ?? {};
+  const lines: { line: string }[] = await db.query(bundleRowsSql, [rowSheets.map((s) => s.id), rowSheets.map((s) => baselineOf.get(s.classroom_id) ?? null), arms]);
+  const summaries: { line: string }[] = await db.query(`SELECT line FROM (${canonicalSummariesSql}) summaries ORDER BY line COLLATE "C"`, [outcomes.map((s) => s.id), arms]);
   return {
     readme: README,
     run: { id: run.id, kind: run.kind, state: run.state, lockedAt: run.locked_at, reason: run.reason },
