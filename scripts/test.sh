@@ -8,6 +8,12 @@ cd "$ROOT"
 ensure_postgres
 ensure_chromium
 ensure_node_modules
+
+# Conventions first: an import across a boundary or a type error fails the run before any test starts.
+say "lint (import boundaries, hooks, accessibility) and typecheck"
+npm run lint --silent
+npm run typecheck --silent
+
 trap stop_services EXIT
 trap 'exit 130' INT TERM
 
@@ -16,8 +22,6 @@ PG_FSYNC=off pg_up pg-test 54339 evenhand_e2e
 maildev_up 1125 1180
 export TEST_DATABASE_URL="$(database_url 54339 postgres)"
 export SMTP_PORT=1125 MAILDEV_URL=http://127.0.0.1:1180
-
-npm run build --silent -w packages/stats
 
 failed=0
 say "unit and API integration tests (vitest)"
@@ -28,7 +32,9 @@ if [ -z "${SKIP_E2E:-}" ]; then
   npm run build --silent -w apps/web
   # The journeys' API signs in through the fake district identity provider (its OIDC_* settings are exported here).
   identity_provider_up 1190 "http://127.0.0.1:${E2E_PORT:-3100}"
-  export E2E_DATABASE_URL="$(database_url 54339 evenhand_e2e)"
+  # The journeys' server runs as the application's role, which owns nothing; postgres migrates and resets.
+  export E2E_DATABASE_URL="$(app_database_url 54339 evenhand_e2e)"
+  export MIGRATION_DATABASE_URL="$(database_url 54339 evenhand_e2e)"
   DATABASE_URL="$E2E_DATABASE_URL" npm run migrate --silent -w apps/api
   DATABASE_URL="$E2E_DATABASE_URL" npm run seed --silent -w apps/api -- --reset
   (cd apps/web && PLAYWRIGHT_SKIP_BROWSER_DOWNLOAD=1 npx playwright test) || failed=1

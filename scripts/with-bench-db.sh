@@ -5,8 +5,6 @@ set -euo pipefail
 source "$(dirname "$0")/lib.sh"
 ensure_postgres
 ensure_node_modules
-# The API imports the stats package from its build.
-(cd "$ROOT" && npm run build --silent -w packages/stats)
 trap stop_services EXIT
 PG_FSYNC=off pg_up pg-bench 54349 evenhand_bench
 export BENCH_DATABASE_URL="$(database_url 54349 evenhand_bench)"

@@ -6,8 +6,7 @@
  */
 import { StatsInputError } from './errors.js';
 
-const LN_SQRT_2PI = 0.91893853320467274178; // log(sqrt(2*pi))
-const LN_SQRT_PI = 0.57236494292470008707; // log(sqrt(pi))
+const LN_SQRT_2PI = 0.9189385332046728; // log(sqrt(2*pi)), the nearest double
 const EPS = 2.220446049250313e-16;
 const TINY = 1e-300;
 

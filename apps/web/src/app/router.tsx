@@ -11,8 +11,7 @@ import { AuditPage, auditLoader, auditShouldRevalidate, StudyAuditPage, studyAud
 import { sessionQueryOptions } from '@/features/auth/api';
 import { ForgotPasswordPage, SetPasswordPage, SignInPage } from '@/features/auth/routes';
 import { DigestsPage, digestsLoader, digestsShouldRevalidate, EmailPreferencesPage } from '@/features/digests/routes';
-import { ToDoPanel } from '@/features/home/components/to-do-panel';
-import { NoRolePage } from '@/features/home/routes';
+import { NoRolePage, ToDoPanel } from '@/features/home/routes';
 import { MySchoolPage, mySchoolLoader } from '@/features/my-school/routes';
 import { DrawPage, drawLoader } from '@/features/draw/routes';
 import { SitesPage, sitesLoader } from '@/features/sites/routes';

@@ -22,7 +22,11 @@ export function ChoiceGroup({ legend, hint, error, choices, input, className = '
   const hintId = hint ? `${id}-hint` : undefined;
   const errorId = error ? `${id}-error` : undefined;
   return (
-    <fieldset className={`flex flex-col gap-1 ${className}`} aria-describedby={[hintId, errorId].filter(Boolean).join(' ') || undefined}>
+    <fieldset
+      role="radiogroup"
+      aria-invalid={error ? true : undefined}
+      className={`flex flex-col gap-1 ${className}`}
+      aria-describedby={[hintId, errorId].filter(Boolean).join(' ') || undefined}>
       <legend className="font-semibold">{legend}</legend>
       {hint && (
         <p id={hintId} className="text-sm text-ink-muted">
@@ -37,7 +41,6 @@ export function ChoiceGroup({ legend, hint, error, choices, input, className = '
               id={`${id}-${i}`}
               type="radio"
               value={choice.value}
-              aria-invalid={error ? true : undefined}
               aria-describedby={choice.hint ? `${id}-${i}-hint` : undefined}
               className="mt-1 size-4 accent-[var(--color-accent)]"
             />

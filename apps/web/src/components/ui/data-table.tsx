@@ -20,7 +20,7 @@ function resolve<T>(updater: Updater<T>, current: T): T {
 export interface DataTableProps<T> {
   /** Names the table for screen readers, e.g. "Accounts". */
   caption: string;
-  // `any`: each column's value has its own type, and TanStack's ColumnDef is invariant in it.
+  // eslint-disable-next-line @typescript-eslint/no-explicit-any -- each column's value has its own type, and TanStack's ColumnDef is invariant in it.
   columns: ColumnDef<T, any>[];
   rows: T[];
   /** How many rows match on the server, across all pages. */

@@ -1,6 +1,9 @@
 import { EmptyState } from '@/components/ui/empty-state';
 import { PageHeader } from '@/components/ui/page-header';
 
+// The "Waiting for you" panel, shown on each role's home page.
+export { ToDoPanel } from './components/to-do-panel';
+
 /** Home for an account whose roles were all taken away: it can sign in but opens nothing. */
 export function NoRolePage() {
   return (

@@ -34,7 +34,7 @@ export function DigestPreview({ digest }: { digest: DigestDetail }) {
           className="h-[60vh] w-full rounded-md border border-line bg-paper"
         />
       ) : (
-        <pre className="h-[60vh] overflow-auto rounded-md border border-line bg-surface p-4 font-mono text-sm whitespace-pre-wrap" tabIndex={0}>
+        <pre className="h-[60vh] overflow-auto rounded-md border border-line bg-surface p-4 font-mono text-sm whitespace-pre-wrap" role="region" aria-label="Digest text" tabIndex={0}>
           {digest.text}
         </pre>
       )}

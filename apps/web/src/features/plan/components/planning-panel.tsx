@@ -1,5 +1,5 @@
 import * as Plot from '@observablehq/plot';
-import { useCallback, useMemo } from 'react';
+import { useCallback, useMemo, useState } from 'react';
 import { Chart, chartColors } from '@/components/ui/chart';
 import { FigureTable } from '@/components/ui/figure-table';
 import { curveUnit, planningFields, planningFigures, type CurvePoint, type PlanningContext, type PlanningValues } from '@/features/plan/planning';
@@ -33,7 +33,9 @@ interface PlanningPanelProps {
 export function PlanningPanel({ values, context }: PlanningPanelProps) {
   // The form hands over a new object on every keystroke; recompute (and redraw) only when a number changed.
   const key = JSON.stringify([planningFields.map((f) => values[f] ?? null), context]);
-  const figures = useMemo(() => planningFigures(values, context), [key]);
+  const [latest, setLatest] = useState({ key, values, context });
+  if (latest.key !== key) setLatest({ key, values, context });
+  const figures = useMemo(() => planningFigures(latest.values, latest.context), [latest]);
   const unit = curveUnit(context.unit);
   const cluster = context.unit !== 'student';
 
