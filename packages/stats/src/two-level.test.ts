@@ -314,7 +314,7 @@ describe('twoLevel refuses bad input with a message that says what is wrong', ()
     expect(fitRows({ ...good, y: Array.from(good.y).slice(1) })).toThrow(/one value per row/);
     const moments = unitMomentsFromRows(good);
     expect(() => twoLevelFromMoments(moments.map((u, j) => (j === 2 ? { ...u, meanY: NaN } : u)))).toThrow(/unit room-2: meanY is not a finite number/);
-    expect(() => twoLevelFromMoments(moments.map((u, j) => (j === 2 ? { ...u, spXX: [[-Infinity]] } : u)))).toThrow(/spXX row 1 has a non-finite value/);
+    expect(() => twoLevelFromMoments(moments.map((u, j) => (j === 2 ? { ...u, spXX: [[-Infinity]] } : u)))).toThrow(/spXX row 1 must be an array of 1 finite numbers/);
     expect(() => twoLevelFromMoments(moments.map((u, j) => (j === 1 ? { ...u, n: 2.5 } : u)))).toThrow(/n must be a whole number/);
   });
 

@@ -97,25 +97,30 @@ function fail(message: string): never {
   throw new StatsInputError(`${FN}: ${message}`);
 }
 
-function finiteArray(value: unknown, length: number, what: string): number[] {
-  if (!Array.isArray(value) || value.length !== length) fail(`${what} must be an array of ${length} numbers`);
-  for (const v of value) if (typeof v !== 'number' || !Number.isFinite(v)) fail(`${what} has a non-finite value (${String(v)})`);
-  return value as number[];
+function isFiniteArray(value: unknown, length: number): boolean {
+  if (!Array.isArray(value) || value.length !== length) return false;
+  for (let i = 0; i < length; i++) {
+    const v = value[i];
+    if (typeof v !== 'number' || !Number.isFinite(v)) return false;
+  }
+  return true;
 }
 
+/** Validates one unit's moments; messages are built only on failure (this runs for every one of 80 000 units). */
 function checkUnit(u: UnitMoments, index: number, k: number, withBlocks: boolean): void {
   if (u === null || typeof u !== 'object') fail(`unit ${index} is not an object`);
-  const name = typeof u.unit === 'string' ? `unit ${u.unit}` : fail(`unit ${index} has no string label`);
-  if (u.arm !== 0 && u.arm !== 1) fail(`${name}: arm must be 0 or 1 (got ${String(u.arm)})`);
-  if (typeof u.n !== 'number' || !Number.isInteger(u.n) || u.n < 1) fail(`${name}: n must be a whole number >= 1 (got ${String(u.n)})`);
-  if (typeof u.meanY !== 'number' || !Number.isFinite(u.meanY)) fail(`${name}: meanY is not a finite number (${String(u.meanY)})`);
-  if (typeof u.ssY !== 'number' || !Number.isFinite(u.ssY) || u.ssY < 0) fail(`${name}: ssY must be a finite number >= 0 (got ${String(u.ssY)})`);
-  finiteArray(u.meanX, k, `${name}: meanX`);
-  finiteArray(u.spXY, k, `${name}: spXY`);
-  if (!Array.isArray(u.spXX) || u.spXX.length !== k) fail(`${name}: spXX must be a ${k} × ${k} array`);
-  u.spXX.forEach((row, r) => finiteArray(row, k, `${name}: spXX row ${r + 1}`));
-  if (withBlocks !== (u.block !== undefined)) fail(`${name}: either every unit has a block or none has`);
-  if (withBlocks && typeof u.block !== 'string') fail(`${name}: block must be a string label`);
+  if (typeof u.unit !== 'string') fail(`unit ${index} has no string label`);
+  const name = () => `unit ${u.unit}`;
+  if (u.arm !== 0 && u.arm !== 1) fail(`${name()}: arm must be 0 or 1 (got ${String(u.arm)})`);
+  if (typeof u.n !== 'number' || !Number.isInteger(u.n) || u.n < 1) fail(`${name()}: n must be a whole number >= 1 (got ${String(u.n)})`);
+  if (typeof u.meanY !== 'number' || !Number.isFinite(u.meanY)) fail(`${name()}: meanY is not a finite number (${String(u.meanY)})`);
+  if (typeof u.ssY !== 'number' || !Number.isFinite(u.ssY) || u.ssY < 0) fail(`${name()}: ssY must be a finite number >= 0 (got ${String(u.ssY)})`);
+  if (!isFiniteArray(u.meanX, k)) fail(`${name()}: meanX must be an array of ${k} finite numbers`);
+  if (!isFiniteArray(u.spXY, k)) fail(`${name()}: spXY must be an array of ${k} finite numbers`);
+  if (!Array.isArray(u.spXX) || u.spXX.length !== k) fail(`${name()}: spXX must be a ${k} × ${k} array`);
+  for (let r = 0; r < k; r++) if (!isFiniteArray(u.spXX[r], k)) fail(`${name()}: spXX row ${r + 1} must be an array of ${k} finite numbers`);
+  if (withBlocks !== (u.block !== undefined)) fail(`${name()}: either every unit has a block or none has`);
+  if (withBlocks && typeof u.block !== 'string') fail(`${name()}: block must be a string label`);
 }
 
 /** Cholesky A = LL' of the leading m × m part of a row-major `stride`-wide matrix; returns the pivot index that failed, or −1. */
@@ -165,45 +170,65 @@ function prepare(units: readonly UnitMoments[]): Prepared & { names: string[]; b
   if (first === null || typeof first !== 'object' || !Array.isArray(first.meanX)) fail('unit 0 has no meanX array');
   const k = first.meanX.length;
   const withBlocks = first.block !== undefined;
+
+  // Pass 1: validate; counts; sums about the first unit's means (so scores far from zero keep their digits);
+  // within-unit sums, which do not depend on τ²/σ².
   const unitsPerArm: [number, number] = [0, 0];
   const studentsPerArm: [number, number] = [0, 0];
   const seen = new Set<string>();
+  const blockSet = new Set<string>();
+  const shiftY = first.meanY;
+  const shiftX = Float64Array.from(first.meanX);
+  const dyArm = [0, 0];
+  const dx = new Float64Array(k);
+  const wXX = new Float64Array(k * k);
+  const wXY = new Float64Array(k);
+  let wYY = 0;
+  let maxN = 0;
   for (let i = 0; i < units.length; i++) {
     const u = units[i];
     checkUnit(u, i, k, withBlocks);
-    if (seen.has(u.unit)) fail(`unit ${u.unit} appears twice; combine its moments first`);
+    const before = seen.size;
     seen.add(u.unit);
+    if (seen.size === before) fail(`unit ${u.unit} appears twice; combine its moments first`);
+    if (withBlocks) blockSet.add(u.block as string);
+    const n = u.n;
     unitsPerArm[u.arm]++;
-    studentsPerArm[u.arm] += u.n;
+    studentsPerArm[u.arm] += n;
+    if (n > maxN) maxN = n;
+    dyArm[u.arm] += n * (u.meanY - shiftY);
+    wYY += u.ssY;
+    for (let c = 0; c < k; c++) {
+      dx[c] += n * (u.meanX[c] - shiftX[c]);
+      wXY[c] += u.spXY[c];
+      const row = u.spXX[c];
+      for (let d = 0; d < k; d++) wXX[c * k + d] += row[d];
+    }
   }
   if (unitsPerArm[1] < 2 || unitsPerArm[0] < 2) {
     fail(`each arm needs at least two units (intervention ${unitsPerArm[1]}, comparison ${unitsPerArm[0]})`);
   }
   const N = studentsPerArm[0] + studentsPerArm[1];
-  const blockLabels = withBlocks ? [...new Set(units.map((u) => u.block as string))].sort((a, b) => (a < b ? -1 : a > b ? 1 : 0)) : [];
+  const blockLabels = [...blockSet].sort((a, b) => (a < b ? -1 : a > b ? 1 : 0));
   const B = Math.max(1, blockLabels.length);
   const blockIndex = new Map(blockLabels.map((b, i) => [b, i]));
   const armCol = B;
   const p = B + 1 + k;
   if (N - p < 1) fail(`${N} students cannot support ${p} fixed effects (intercept, ${B - 1} block indicators, arm, ${k} covariates)`);
+  const grandY = shiftY + (dyArm[0] + dyArm[1]) / N;
+  const grandX = shiftX.map((v, c) => v + dx[c] / N);
+  // Arm means relative to the grand mean, for the unadjusted pooled SD of g.
+  const armOffset = [0, 1].map((a) => shiftY + dyArm[a] / studentsPerArm[a] - grandY);
 
-  // Grand means, shifted by the first unit's means so scores far from zero keep their digits.
-  const shiftY = first.meanY;
-  const shiftX = first.meanX.slice();
-  let dy = 0;
-  const dx = new Float64Array(k);
-  for (const u of units) {
-    dy += u.n * (u.meanY - shiftY);
-    for (let c = 0; c < k; c++) dx[c] += u.n * (u.meanX[c] - shiftX[c]);
-  }
-  const grandY = shiftY + dy / N;
-  const grandX = shiftX.map((s: number, c: number) => s + dx[c] / N);
-  // Total sums of squares about the grand means (parallel-axis rule) set the scales.
+  // Pass 2: total sums of squares about the grand means (parallel-axis rule) set the scales; within-arm SS for g.
   let ssY = 0;
+  let pooledSs = 0;
   const ssX = new Float64Array(k);
   for (const u of units) {
     const ey = u.meanY - grandY;
     ssY += u.ssY + u.n * ey * ey;
+    const ea = ey - armOffset[u.arm];
+    pooledSs += u.ssY + u.n * ea * ea;
     for (let c = 0; c < k; c++) {
       const ex = u.meanX[c] - grandX[c];
       ssX[c] += u.spXX[c][c] + u.n * ex * ex;
@@ -216,28 +241,15 @@ function prepare(units: readonly UnitMoments[]): Prepared & { names: string[]; b
     if (!(ssX[c] > 0)) fail(`covariate ${c + 1} is the same for every student`);
     sx[c] = Math.sqrt(ssX[c] / N);
   }
-
-  // Within-unit sums (these do not depend on τ²/σ²).
-  const wXX = new Float64Array(k * k);
-  const wXY = new Float64Array(k);
-  let wYY = 0;
-  for (const u of units) {
-    wYY += u.ssY;
-    for (let c = 0; c < k; c++) {
-      wXY[c] += u.spXY[c];
-      for (let d = 0; d < k; d++) wXX[c * k + d] += u.spXX[c][d];
-    }
-  }
   wYY /= sy * sy;
   for (let c = 0; c < k; c++) {
     wXY[c] /= sx[c] * sy;
     for (let d = 0; d < k; d++) wXX[c * k + d] /= sx[c] * sx[d];
   }
 
-  // Group units that share block, arm and size: their weights n/(1 + nλ) are equal, so each λ costs O(groups · k²).
+  // Pass 3: group units that share block, arm and size: their weights n/(1 + nλ) are equal, so each λ costs
+  // O(groups · k²) and never touches the units again.
   const z = k + 1;
-  let maxN = 0;
-  for (const u of units) if (u.n > maxN) maxN = u.n;
   const groupOf = new Map<number, number>();
   const count: number[] = [];
   const size: number[] = [];
@@ -248,7 +260,7 @@ function prepare(units: readonly UnitMoments[]): Prepared & { names: string[]; b
   const zj = new Float64Array(z);
   for (const u of units) {
     const b = withBlocks ? (blockIndex.get(u.block as string) as number) : 0;
-    const key = ((b * 2 + u.arm) * (maxN + 1) + u.n);
+    const key = (b * 2 + u.arm) * (maxN + 1) + u.n;
     let g = groupOf.get(key);
     if (g === undefined) {
       g = count.length;
@@ -269,18 +281,6 @@ function prepare(units: readonly UnitMoments[]): Prepared & { names: string[]; b
       sumZ[o + c] += zj[c];
       for (let d = 0; d < z; d++) sumZZ[oo + c * z + d] += zj[c] * zj[d];
     }
-  }
-
-  // Pooled within-arm SS of the students' outcomes (unadjusted), for g.
-  const armMean = [0, 0].map((_, a) => {
-    let s = 0;
-    for (const u of units) if (u.arm === a) s += u.n * (u.meanY - grandY);
-    return s / studentsPerArm[a];
-  });
-  let pooledSs = 0;
-  for (const u of units) {
-    const e = u.meanY - grandY - armMean[u.arm];
-    pooledSs += u.ssY + u.n * e * e;
   }
 
   const names = ['the intercept', ...blockLabels.slice(1).map((b) => `block ${b}`), 'the arm', ...Array.from({ length: k }, (_, c) => `covariate ${c + 1}`)];
