@@ -47,7 +47,8 @@ const SINGULAR_EIGENVALUE = 1e-12;
 const COLLINEAR = 1e-10;
 
 /**
- * Cluster-robust (CR2) inference for the arm in a cluster-assigned study, from per-unit moments only.
+ * Cluster-robust (CR2) inference for the arm in a cluster-assigned study, from per-unit moments only. Each entry is one
+ * cluster (labels only name units in messages; `unitMomentsFromRows` and a SQL GROUP BY give one entry per unit).
  *
  * Regression: y = β₀ + β·arm + block indicators + covariates (student-level), fitted by least squares; the estimate is β.
  * V^CR2 = M Σ_j X_j'A_j e_j e_j'A_j X_j M with M = (X'X)⁻¹, A_j = (I − X_j M X_j')^(−1/2) (Bell & McCaffrey 2002, Survey
@@ -130,37 +131,60 @@ function readDesign(units: readonly UnitMoments[]): Design {
   }
   const k = first.meanX.length;
   const hasBlocks = first.block !== undefined;
-  const seen = new Set<string>();
   const blockIds = new Map<string, number>();
+  // One pass over the unit objects copies them into flat arrays; the rest works on those.
+  const n = new Float64Array(J);
+  const arm = new Uint8Array(J);
+  const block = new Int32Array(J);
+  const meanY = new Float64Array(J);
+  const ssY = new Float64Array(J);
+  const meanX = new Float64Array(J * k);
+  const spXY = new Float64Array(J * k);
+  const spXX = new Float64Array(J * k * k);
   let N = 0;
   let unitsIntervention = 0;
+  // Messages are built only on failure: this loop runs once per unit of a district.
+  const where = (j: number) => {
+    const u = units[j];
+    return `unit ${j + 1}${u && typeof u.unit === 'string' ? ` (${u.unit})` : ''}`;
+  };
+  const finite = (value: unknown, j: number, label: string, a?: number, b?: number) => {
+    if (typeof value === 'number' && Number.isFinite(value)) return;
+    const index = a === undefined ? '' : b === undefined ? `[${a}]` : `[${a}][${b}]`;
+    throw new StatsInputError(`${FN}: ${where(j)}: ${label}${index} is not a finite number (got ${String(value)})`);
+  };
   for (let j = 0; j < J; j++) {
     const u = units[j];
-    const where = `unit ${j + 1}${u && typeof u.unit === 'string' ? ` (${u.unit})` : ''}`;
-    if (u === null || typeof u !== 'object') throw new StatsInputError(`${FN}: ${where} is not a unit-moments object`);
-    if (typeof u.unit !== 'string') throw new StatsInputError(`${FN}: ${where} has no string label`);
-    if (seen.has(u.unit)) throw new StatsInputError(`${FN}: unit ${u.unit} appears twice`);
-    seen.add(u.unit);
-    if (u.arm !== 0 && u.arm !== 1) throw new StatsInputError(`${FN}: ${where} has arm ${String(u.arm)}; the arm must be 0 or 1`);
-    if (!Number.isInteger(u.n) || u.n < 1) throw new StatsInputError(`${FN}: ${where} has size ${String(u.n)}; it must be a whole number >= 1`);
-    if ((u.block !== undefined) !== hasBlocks) throw new StatsInputError(`${FN}: give a block for every unit or for none (${where} differs)`);
-    if (hasBlocks && typeof u.block !== 'string') throw new StatsInputError(`${FN}: ${where} has a non-string block`);
-    finite(u.meanY, `${where}: meanY`);
-    finite(u.ssY, `${where}: ssY`);
-    if (u.ssY < 0) throw new StatsInputError(`${FN}: ${where} has a negative ssY`);
+    if (u === null || typeof u !== 'object') throw new StatsInputError(`${FN}: ${where(j)} is not a unit-moments object`);
+    if (typeof u.unit !== 'string') throw new StatsInputError(`${FN}: ${where(j)} has no string label`);
+    if (u.arm !== 0 && u.arm !== 1) throw new StatsInputError(`${FN}: ${where(j)} has arm ${String(u.arm)}; the arm must be 0 or 1`);
+    if (!Number.isInteger(u.n) || u.n < 1) throw new StatsInputError(`${FN}: ${where(j)} has size ${String(u.n)}; it must be a whole number >= 1`);
+    if ((u.block !== undefined) !== hasBlocks) throw new StatsInputError(`${FN}: give a block for every unit or for none (${where(j)} differs)`);
+    if (hasBlocks && typeof u.block !== 'string') throw new StatsInputError(`${FN}: ${where(j)} has a non-string block`);
+    finite(u.meanY, j, 'meanY');
+    finite(u.ssY, j, 'ssY');
+    if (u.ssY < 0) throw new StatsInputError(`${FN}: ${where(j)} has a negative ssY`);
     if (!Array.isArray(u.meanX) || u.meanX.length !== k || !Array.isArray(u.spXY) || u.spXY.length !== k || !Array.isArray(u.spXX) || u.spXX.length !== k) {
-      throw new StatsInputError(`${FN}: ${where} must have ${k} covariate mean(s), ${k} spXY and a ${k} × ${k} spXX like the first unit`);
+      throw new StatsInputError(`${FN}: ${where(j)} must have ${k} covariate mean(s), ${k} spXY and a ${k} × ${k} spXX like the first unit`);
     }
     for (let a = 0; a < k; a++) {
-      finite(u.meanX[a], `${where}: meanX[${a}]`);
-      finite(u.spXY[a], `${where}: spXY[${a}]`);
+      finite((meanX[j * k + a] = u.meanX[a]), j, 'meanX', a);
+      finite((spXY[j * k + a] = u.spXY[a]), j, 'spXY', a);
       const row = u.spXX[a];
-      if (!Array.isArray(row) || row.length !== k) throw new StatsInputError(`${FN}: ${where}: spXX must be a ${k} × ${k} matrix`);
-      for (let b = 0; b < k; b++) finite(row[b], `${where}: spXX[${a}][${b}]`);
+      if (!Array.isArray(row) || row.length !== k) throw new StatsInputError(`${FN}: ${where(j)}: spXX must be a ${k} × ${k} matrix`);
+      for (let b = 0; b < k; b++) finite((spXX[(j * k + a) * k + b] = row[b]), j, 'spXX', a, b);
     }
+    n[j] = u.n;
+    arm[j] = u.arm;
+    meanY[j] = u.meanY;
+    ssY[j] = u.ssY;
     N += u.n;
     unitsIntervention += u.arm;
-    if (hasBlocks && !blockIds.has(u.block as string)) blockIds.set(u.block as string, 0);
+    if (hasBlocks) {
+      let id = blockIds.get(u.block as string);
+      if (id === undefined) blockIds.set(u.block as string, (id = blockIds.size));
+      block[j] = id;
+    }
   }
   const unitsComparison = J - unitsIntervention;
   if (unitsIntervention < 2 || unitsComparison < 2) {
@@ -168,37 +192,32 @@ function readDesign(units: readonly UnitMoments[]): Design {
       `${FN}: needs at least two units in each arm (intervention ${unitsIntervention}, comparison ${unitsComparison})`,
     );
   }
+  // Blocks are numbered in sorted label order, so the result never depends on the order of the units.
   const blockLabels = [...blockIds.keys()].sort((a, b) => (a < b ? -1 : a > b ? 1 : 0));
-  blockLabels.forEach((label, i) => blockIds.set(label, i));
+  const sortedIndex = new Int32Array(blockLabels.length);
+  blockLabels.forEach((label, i) => (sortedIndex[blockIds.get(label) as number] = i));
+  for (let j = 0; j < J && hasBlocks; j++) block[j] = sortedIndex[block[j]];
   const B = hasBlocks ? blockLabels.length : 1;
   const p = B + 1 + k;
   if (N <= p) throw new StatsInputError(`${FN}: needs more students (${N}) than coefficients (${p})`);
 
   // Centre and scale y and the covariates (grand mean 0, total sum of squares N), so scores far from zero keep their digits.
-  const n = new Float64Array(J);
-  const arm = new Uint8Array(J);
-  const block = new Int32Array(J);
   let grandY = 0;
   const grandX = new Float64Array(k);
   for (let j = 0; j < J; j++) {
-    const u = units[j];
-    n[j] = u.n;
-    arm[j] = u.arm;
-    block[j] = hasBlocks ? (blockIds.get(u.block as string) as number) : 0;
-    grandY += u.n * u.meanY;
-    for (let a = 0; a < k; a++) grandX[a] += u.n * u.meanX[a];
+    grandY += n[j] * meanY[j];
+    for (let a = 0; a < k; a++) grandX[a] += n[j] * meanX[j * k + a];
   }
   grandY /= N;
   for (let a = 0; a < k; a++) grandX[a] /= N;
   let totalY = 0;
   const totalX = new Float64Array(k);
   for (let j = 0; j < J; j++) {
-    const u = units[j];
-    const dy = u.meanY - grandY;
-    totalY += u.ssY + u.n * dy * dy;
+    const dy = meanY[j] - grandY;
+    totalY += ssY[j] + n[j] * dy * dy;
     for (let a = 0; a < k; a++) {
-      const dx = u.meanX[a] - grandX[a];
-      totalX[a] += u.spXX[a][a] + u.n * dx * dx;
+      const dx = meanX[j * k + a] - grandX[a];
+      totalX[a] += spXX[(j * k + a) * k + a] + n[j] * dx * dx;
     }
   }
   if (!(totalY > 0) || !Number.isFinite(totalY)) {
@@ -210,26 +229,16 @@ function readDesign(units: readonly UnitMoments[]): Design {
     if (!(totalX[a] > 0) || !Number.isFinite(totalX[a])) throw new StatsInputError(`${FN}: covariate ${a + 1} has no variation`);
     scaleX[a] = Math.sqrt(totalX[a] / N);
   }
-  const meanY = new Float64Array(J);
-  const ssY = new Float64Array(J);
-  const meanX = new Float64Array(J * k);
-  const spXY = new Float64Array(J * k);
-  const spXX = new Float64Array(J * k * k);
   for (let j = 0; j < J; j++) {
-    const u = units[j];
-    meanY[j] = (u.meanY - grandY) / scaleY;
-    ssY[j] = u.ssY / scaleY / scaleY;
+    meanY[j] = (meanY[j] - grandY) / scaleY;
+    ssY[j] = ssY[j] / scaleY / scaleY;
     for (let a = 0; a < k; a++) {
-      meanX[j * k + a] = (u.meanX[a] - grandX[a]) / scaleX[a];
-      spXY[j * k + a] = u.spXY[a] / scaleX[a] / scaleY;
-      for (let b = 0; b < k; b++) spXX[(j * k + a) * k + b] = u.spXX[a][b] / scaleX[a] / scaleX[b];
+      meanX[j * k + a] = (meanX[j * k + a] - grandX[a]) / scaleX[a];
+      spXY[j * k + a] = spXY[j * k + a] / scaleX[a] / scaleY;
+      for (let b = 0; b < k; b++) spXX[(j * k + a) * k + b] = spXX[(j * k + a) * k + b] / scaleX[a] / scaleX[b];
     }
   }
   return { J, N, k, blockLabels, B, p, unitsIntervention, n, arm, block, meanY, ssY, meanX, spXY, spXX, scaleY };
-}
-
-function finite(value: unknown, label: string): void {
-  if (typeof value !== 'number' || !Number.isFinite(value)) throw new StatsInputError(`${FN}: ${label} is not a finite number (got ${String(value)})`);
 }
 
 interface LeastSquares {
@@ -384,8 +393,6 @@ function cr2ForArm(d: Design, fit: LeastSquares): { estimate: number; se: number
   const sup = new Int32Array(2 + k);
   const zv = new Float64Array(2 + k);
   const wv = new Float64Array(2 + k);
-  const covSqrt = new Float64Array(k * k);
-  const covSqrtInv = new Float64Array(k * k);
   const covWork = new Float64Array(k * k);
   const covVecs = new Float64Array(k * k);
   const covVals = new Float64Array(k);
@@ -440,19 +447,22 @@ function cr2ForArm(d: Design, fit: LeastSquares): { estimate: number; se: number
       for (let b = 0; b < k; b++) Pm[(1 + a) * K + 1 + b] = M[ca * p + B + 1 + b];
       h[1 + a] = M[ca * p + armCol];
     }
-    // C^½ and C^{+½}: √n for the unit-mean direction, SPxx^½ (generalised) for the within-unit directions.
-    Ch.fill(0);
-    Chi.fill(0);
+    // C^½ and C^{+½}: √n for the unit-mean direction, SPxx^½ (generalised) for the within-unit directions; the blocks
+    // between them stay 0.
     Ch[0] = Math.sqrt(nj);
     Chi[0] = 1 / Ch[0];
     if (k > 0) {
       for (let a = 0; a < k * k; a++) covWork[a] = spXX[j * k * k + a];
       symmetricEigen(covWork, k, covVecs, covVals);
-      let top = 0;
+      let top = nj;
       for (let a = 0; a < k; a++) top = Math.max(top, covVals[a]);
-      const floor = 1e-14 * Math.max(top, nj);
-      covSqrt.fill(0);
-      covSqrtInv.fill(0);
+      const floor = 1e-14 * top;
+      for (let a = 1; a < K; a++) {
+        for (let b = 1; b < K; b++) {
+          Ch[a * K + b] = 0;
+          Chi[a * K + b] = 0;
+        }
+      }
       for (let e = 0; e < k; e++) {
         const v = covVals[e];
         if (!(v > floor)) continue;
@@ -460,15 +470,9 @@ function cr2ForArm(d: Design, fit: LeastSquares): { estimate: number; se: number
         for (let a = 0; a < k; a++) {
           for (let b = 0; b < k; b++) {
             const vv = covVecs[a * k + e] * covVecs[b * k + e];
-            covSqrt[a * k + b] += vv * sq;
-            covSqrtInv[a * k + b] += vv / sq;
+            Ch[(1 + a) * K + 1 + b] += vv * sq;
+            Chi[(1 + a) * K + 1 + b] += vv / sq;
           }
-        }
-      }
-      for (let a = 0; a < k; a++) {
-        for (let b = 0; b < k; b++) {
-          Ch[(1 + a) * K + 1 + b] = covSqrt[a * k + b];
-          Chi[(1 + a) * K + 1 + b] = covSqrtInv[a * k + b];
         }
       }
     }
@@ -569,7 +573,7 @@ function matVec(A: Float64Array, x: Float64Array, out: Float64Array, K: number):
  * overwritten, eigenvectors go to the columns of `vecs`, eigenvalues to `vals`. Accurate to a few ulps of ‖a‖.
  */
 function symmetricEigen(a: Float64Array, K: number, vecs: Float64Array, vals: Float64Array): void {
-  vecs.fill(0);
+  for (let i = 0; i < K * K; i++) vecs[i] = 0;
   for (let i = 0; i < K; i++) vecs[i * K + i] = 1;
   for (let i = 0; i < K; i++) {
     for (let j = 0; j < i; j++) {
