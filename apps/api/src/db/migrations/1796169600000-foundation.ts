@@ -66,6 +66,7 @@ export class Foundation1796169600000 implements MigrationInterface {
   }
 
   async down(q: QueryRunner): Promise<void> {
+    // Destroys data: drops the accounts, sites, role grants, sign-in tokens and the audit trail.
     await q.query('DROP TABLE audit_events');
     await q.query('DROP FUNCTION refuse_change()');
     await q.query('DROP TABLE auth_tokens');

@@ -144,6 +144,7 @@ export class StudyRegistry1796173200000 implements MigrationInterface {
   }
 
   async down(q: QueryRunner): Promise<void> {
+    // Destroys data: drops every study with its plans, waves, measures, sites' enrolments, classrooms and draws, and each site's principal.
     await q.query('DROP TABLE draw_reassignments');
     await q.query('DROP TABLE draws');
     await q.query('DROP TABLE classrooms');

@@ -92,6 +92,7 @@ export class ScoreSheets1796176800000 implements MigrationInterface {
   }
 
   async down(q: QueryRunner): Promise<void> {
+    // Destroys data: drops every score sheet, score and the students registry.
     await q.query('DROP TABLE scores');
     await q.query('DROP FUNCTION refuse_locked_scores()');
     await q.query('DROP TABLE students');

@@ -58,6 +58,7 @@ export class ComparisonRuns1796180400000 implements MigrationInterface {
   }
 
   async down(q: QueryRunner): Promise<void> {
+    // Destroys data: drops every comparison and run, locked results included.
     await q.query('DROP TABLE runs');
     await q.query('DROP FUNCTION refuse_locked_run_change()');
     await q.query('DROP TABLE comparisons');

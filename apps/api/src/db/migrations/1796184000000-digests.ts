@@ -67,6 +67,7 @@ export class Digests1796184000000 implements MigrationInterface {
   }
 
   async down(q: QueryRunner): Promise<void> {
+    // Destroys data: drops the outbox (every digest sent or waiting), digest schedules and preferences.
     await q.query('DROP TABLE digests');
     await q.query('DROP FUNCTION digest_guard()');
     await q.query('DROP TABLE digest_preferences');

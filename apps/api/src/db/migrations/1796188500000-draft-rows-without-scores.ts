@@ -13,6 +13,7 @@ export class DraftRowsWithoutScores1796188500000 implements MigrationInterface {
   }
 
   async down(q: QueryRunner): Promise<void> {
+    // Destroys data: deletes the draft rows that have no score yet, which the older constraint forbids.
     await q.query(`DELETE FROM scores WHERE score IS NULL AND NOT left_study`);
     await q.query(`ALTER TABLE scores ADD CONSTRAINT scores_check CHECK (score IS NOT NULL OR left_study)`);
   }

@@ -18,6 +18,7 @@ export class MonitoringSchedules1796191200000 implements MigrationInterface {
   }
 
   async down(q: QueryRunner): Promise<void> {
+    // Destroys data: forgets each comparison's monitoring timezone and when it was set, and each run's scheduled slot.
     await q.query(`DROP INDEX runs_scheduled_slot`);
     await q.query(`ALTER TABLE runs DROP CONSTRAINT runs_scheduled_monitoring`);
     await q.query(`ALTER TABLE runs DROP COLUMN scheduled_for`);

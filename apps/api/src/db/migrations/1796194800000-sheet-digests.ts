@@ -31,6 +31,7 @@ export class SheetDigests1796194800000 implements MigrationInterface {
   }
 
   async down(q: QueryRunner): Promise<void> {
+    // Destroys data: forgets the sheets' stored digests (a run recomputes a missing one).
     for (const op of ['insert', 'update', 'delete']) await q.query(`DROP TRIGGER scores_sheet_digest_${op} ON scores`);
     await q.query(`DROP FUNCTION forget_sheet_digests()`);
     await q.query(`ALTER TABLE score_sheets DROP COLUMN rows_sha256`);

@@ -26,6 +26,7 @@ export class RunArms1796198400000 implements MigrationInterface {
   }
 
   async down(q: QueryRunner): Promise<void> {
+    // Destroys data: forgets the arms each run read, locked runs' included.
     await q.query(`ALTER TABLE runs DISABLE TRIGGER runs_locked`);
     await q.query(`ALTER TABLE runs DROP COLUMN classroom_arms`);
     await q.query(`ALTER TABLE runs ENABLE TRIGGER runs_locked`);

@@ -13,6 +13,7 @@ export class SessionVersions1796200000000 implements MigrationInterface {
   }
 
   async down(q: QueryRunner): Promise<void> {
+    // Destroys data: forgets each account's session version, so sessions signed out everywhere become valid again.
     await q.query(`ALTER TABLE users DROP COLUMN session_version`);
   }
 }
