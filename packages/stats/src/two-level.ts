@@ -110,17 +110,39 @@ function isFiniteArray(value: unknown, length: number): boolean {
 function checkUnit(u: UnitMoments, index: number, k: number, withBlocks: boolean): void {
   if (u === null || typeof u !== 'object') fail(`unit ${index} is not an object`);
   if (typeof u.unit !== 'string') fail(`unit ${index} has no string label`);
-  const name = () => `unit ${u.unit}`;
-  if (u.arm !== 0 && u.arm !== 1) fail(`${name()}: arm must be 0 or 1 (got ${String(u.arm)})`);
-  if (typeof u.n !== 'number' || !Number.isInteger(u.n) || u.n < 1) fail(`${name()}: n must be a whole number >= 1 (got ${String(u.n)})`);
-  if (typeof u.meanY !== 'number' || !Number.isFinite(u.meanY)) fail(`${name()}: meanY is not a finite number (${String(u.meanY)})`);
-  if (typeof u.ssY !== 'number' || !Number.isFinite(u.ssY) || u.ssY < 0) fail(`${name()}: ssY must be a finite number >= 0 (got ${String(u.ssY)})`);
-  if (!isFiniteArray(u.meanX, k)) fail(`${name()}: meanX must be an array of ${k} finite numbers`);
-  if (!isFiniteArray(u.spXY, k)) fail(`${name()}: spXY must be an array of ${k} finite numbers`);
-  if (!Array.isArray(u.spXX) || u.spXX.length !== k) fail(`${name()}: spXX must be a ${k} × ${k} array`);
-  for (let r = 0; r < k; r++) if (!isFiniteArray(u.spXX[r], k)) fail(`${name()}: spXX row ${r + 1} must be an array of ${k} finite numbers`);
-  if (withBlocks !== (u.block !== undefined)) fail(`${name()}: either every unit has a block or none has`);
-  if (withBlocks && typeof u.block !== 'string') fail(`${name()}: block must be a string label`);
+  if (
+    (u.arm !== 0 && u.arm !== 1) ||
+    typeof u.n !== 'number' ||
+    !Number.isInteger(u.n) ||
+    u.n < 1 ||
+    typeof u.meanY !== 'number' ||
+    !Number.isFinite(u.meanY) ||
+    typeof u.ssY !== 'number' ||
+    !Number.isFinite(u.ssY) ||
+    u.ssY < 0 ||
+    !isFiniteArray(u.meanX, k) ||
+    !isFiniteArray(u.spXY, k) ||
+    !Array.isArray(u.spXX) ||
+    u.spXX.length !== k ||
+    withBlocks !== (u.block !== undefined) ||
+    (withBlocks && typeof u.block !== 'string')
+  ) {
+    describeBadUnit(u, k, withBlocks);
+  }
+  for (let r = 0; r < k; r++) if (!isFiniteArray(u.spXX[r], k)) fail(`unit ${u.unit}: spXX row ${r + 1} must be an array of ${k} finite numbers`);
+}
+
+function describeBadUnit(u: UnitMoments, k: number, withBlocks: boolean): never {
+  const name = `unit ${u.unit}`;
+  if (u.arm !== 0 && u.arm !== 1) fail(`${name}: arm must be 0 or 1 (got ${String(u.arm)})`);
+  if (typeof u.n !== 'number' || !Number.isInteger(u.n) || u.n < 1) fail(`${name}: n must be a whole number >= 1 (got ${String(u.n)})`);
+  if (typeof u.meanY !== 'number' || !Number.isFinite(u.meanY)) fail(`${name}: meanY is not a finite number (${String(u.meanY)})`);
+  if (typeof u.ssY !== 'number' || !Number.isFinite(u.ssY) || u.ssY < 0) fail(`${name}: ssY must be a finite number >= 0 (got ${String(u.ssY)})`);
+  if (!isFiniteArray(u.meanX, k)) fail(`${name}: meanX must be an array of ${k} finite numbers`);
+  if (!isFiniteArray(u.spXY, k)) fail(`${name}: spXY must be an array of ${k} finite numbers`);
+  if (!Array.isArray(u.spXX) || u.spXX.length !== k) fail(`${name}: spXX must be a ${k} × ${k} array`);
+  if (withBlocks !== (u.block !== undefined)) fail(`${name}: either every unit has a block or none has`);
+  fail(`${name}: block must be a string label`);
 }
 
 /** Cholesky A = LL' of the leading m × m part of a row-major `stride`-wide matrix; returns the pivot index that failed, or −1. */
@@ -175,7 +197,6 @@ function prepare(units: readonly UnitMoments[]): Prepared & { names: string[]; b
   // within-unit sums, which do not depend on τ²/σ².
   const unitsPerArm: [number, number] = [0, 0];
   const studentsPerArm: [number, number] = [0, 0];
-  const seen = new Set<string>();
   const blockSet = new Set<string>();
   const shiftY = first.meanY;
   const shiftX = Float64Array.from(first.meanX);
@@ -185,13 +206,14 @@ function prepare(units: readonly UnitMoments[]): Prepared & { names: string[]; b
   const wXY = new Float64Array(k);
   let wYY = 0;
   let maxN = 0;
+  let lastBlock: string | undefined;
   for (let i = 0; i < units.length; i++) {
     const u = units[i];
     checkUnit(u, i, k, withBlocks);
-    const before = seen.size;
-    seen.add(u.unit);
-    if (seen.size === before) fail(`unit ${u.unit} appears twice; combine its moments first`);
-    if (withBlocks) blockSet.add(u.block as string);
+    if (withBlocks && u.block !== lastBlock) {
+      lastBlock = u.block as string;
+      blockSet.add(lastBlock);
+    }
     const n = u.n;
     unitsPerArm[u.arm]++;
     studentsPerArm[u.arm] += n;
@@ -258,8 +280,14 @@ function prepare(units: readonly UnitMoments[]): Prepared & { names: string[]; b
   const sumZ: number[] = [];
   const sumZZ: number[] = [];
   const zj = new Float64Array(z);
+  let b = 0;
+  lastBlock = undefined;
   for (const u of units) {
-    const b = withBlocks ? (blockIndex.get(u.block as string) as number) : 0;
+    // Units usually arrive grouped by block: look the label up only when it changes.
+    if (withBlocks && u.block !== lastBlock) {
+      lastBlock = u.block as string;
+      b = blockIndex.get(lastBlock) as number;
+    }
     const key = (b * 2 + u.arm) * (maxN + 1) + u.n;
     let g = groupOf.get(key);
     if (g === undefined) {
@@ -603,6 +631,7 @@ function maximise(P: Prepared): { fit: Fit; der: Derivatives; boundary: boolean 
  * γ_j = τ²/(σ² + n_jτ²), so every term needs only per-unit sums (standards.md); profiled deviance as Bates et al.
  * 2015 (eq. 42); df = 2(c'Φc)²/(g'Ag) in (θ = τ/σ, σ) (Giesbrecht & Burns 1985; Kuznetsova et al. 2017), N − p at
  * τ² = 0; g = J·estimate/unadjusted pooled SD (WWC tools 2009 — V). Agrees with lme4 1.1-31 + lmerTest 3.1-3.
+ * Each entry is one unit (labels only name units in messages: merge a unit's parts with `combineUnitMoments`).
  */
 export function twoLevelFromMoments(units: readonly UnitMoments[], options?: TwoLevelOptions): TwoLevelResult {
   const o = checkOptions(options, OPTION_KEYS, FN);
