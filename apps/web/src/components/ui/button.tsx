@@ -41,3 +41,17 @@ export function Button({ variant = 'primary', size = 'md', busy = false, type = 
     </button>
   );
 }
+
+interface ButtonLinkProps extends ComponentProps<'a'> {
+  variant?: Variant;
+  size?: Size;
+}
+
+/** A link that looks like a button: for a full-page navigation, such as leaving for the district's sign-in. */
+export function ButtonLink({ variant = 'primary', size = 'md', className = '', children, ...rest }: ButtonLinkProps) {
+  return (
+    <a className={`${buttonClasses(variant, size)} ${className}`} {...rest}>
+      {children}
+    </a>
+  );
+}

@@ -1,4 +1,5 @@
 import {
+  districtSignInProblemSchema,
   loginResponseSchema,
   meResponseSchema,
   messageResponseSchema,
@@ -15,7 +16,23 @@ export const authKeys = {
   all: ['auth'] as const,
   session: () => [...authKeys.all, 'session'] as const,
   signInOptions: () => [...authKeys.all, 'sign-in-options'] as const,
+  districtProblem: (ticket: string) => [...authKeys.all, 'district-problem', ticket] as const,
 };
+
+/** Where "Sign in with your district account" goes: the API, which redirects to the district's provider (a full page load). */
+export function districtSignInHref(next: string | null): string {
+  return `/api/auth/district/start${next ? `?${new URLSearchParams({ next })}` : ''}`;
+}
+
+/** Why the last sign-in with the district account did not succeed (the API's ticket from the redirect back). */
+export function districtProblemQueryOptions(ticket: string) {
+  return queryOptions({
+    queryKey: authKeys.districtProblem(ticket),
+    queryFn: ({ signal }) => apiRequest('/auth/district/problem', { query: { ticket }, schema: districtSignInProblemSchema, signal }),
+    staleTime: Infinity,
+    retry: false,
+  });
+}
 
 /** What the API lets the sign-in page offer (the demo accounts outside production); it does not change while the API runs. */
 export function signInOptionsQueryOptions() {

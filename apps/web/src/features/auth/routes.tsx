@@ -12,11 +12,14 @@ export function SignInPage() {
   const [params] = useSearchParams();
   // Only the API knows whether it runs in production: the same build serves both.
   const options = useQuery(signInOptionsQueryOptions());
+  const next = safeReturnPath(params.get('next'));
   return (
     <SignInForm
-      demo={options.data?.demo ?? null}
+      options={options.data}
+      next={next}
+      districtProblem={params.get('district_problem')}
       onSignedIn={(user) => {
-        navigate(safeReturnPath(params.get('next')) ?? homePathFor(user.roles) ?? '/', { replace: true });
+        navigate(next ?? homePathFor(user.roles) ?? '/', { replace: true });
       }}
     />
   );

@@ -3,9 +3,12 @@ import { roleLabels, type SignInOptions } from '@evenhand/entities';
 /** The seeded demo accounts, which the API lists only outside production; picking one fills in the form. */
 export function DemoAccounts({
   demo,
+  districtSignIn,
   onPick,
 }: {
   demo: NonNullable<SignInOptions['demo']>;
+  /** Whether the page offers the district account, which here leads to the local test provider. */
+  districtSignIn: boolean;
   onPick: (email: string, password: string) => void;
 }) {
   return (
@@ -17,6 +20,12 @@ export function DemoAccounts({
         This server holds the invented demo district; a production server never lists these. Every account's password is{' '}
         <code className="font-mono text-ink">{demo.password}</code>. Pick one to fill in the form.
       </p>
+      {districtSignIn && (
+        <p className="mt-2 text-ink-muted">
+          <strong className="text-ink">Sign in with your district account</strong> leads to a local test provider that lists the
+          same people, without passwords, plus one address it has not verified and one nobody invited.
+        </p>
+      )}
       <ul className="mt-3 space-y-1">
         {demo.accounts.map((account) => (
           <li key={account.email}>

@@ -8,10 +8,25 @@ import { FormProblemAlert } from '@/components/ui/form-problem-alert';
 import { Field, TextInput } from '@/components/ui/field';
 import { AuthCard } from '@/features/auth/components/auth-card';
 import { DemoAccounts } from '@/features/auth/components/demo-accounts';
+import { DistrictSignIn, DistrictSignInProblem } from '@/features/auth/components/district-sign-in';
 import { useSignIn } from '@/features/auth/api';
 import { applyApiError, type FormProblem } from '@/lib/form-errors';
 
-export function SignInForm({ onSignedIn, demo }: { onSignedIn: (user: SessionUser) => void; demo: SignInOptions['demo'] }) {
+export function SignInForm({
+  onSignedIn,
+  options,
+  next,
+  districtProblem,
+}: {
+  onSignedIn: (user: SessionUser) => void;
+  /** What the API offers; until it answers, the password form alone. */
+  options: SignInOptions | undefined;
+  /** Where to return after signing in with the district account. */
+  next: string | null;
+  /** The API's ticket explaining why the last sign-in with the district account did not succeed. */
+  districtProblem: string | null;
+}) {
+  const demo = options?.demo ?? null;
   const signIn = useSignIn();
   const [problem, setProblem] = useState<FormProblem | null>(null);
   const submitRef = useRef<HTMLButtonElement>(null);
@@ -36,6 +51,8 @@ export function SignInForm({ onSignedIn, demo }: { onSignedIn: (user: SessionUse
   return (
     <div className="grid gap-8 lg:grid-cols-[28rem_20rem] lg:items-start">
       <AuthCard title="Sign in" intro="Use the e-mail address your district registered for you.">
+        {districtProblem && <DistrictSignInProblem ticket={districtProblem} />}
+        {options?.districtSignIn && <DistrictSignIn next={next} passwordSignIn={options.passwordSignIn} />}
         <form noValidate onSubmit={onSubmit} className="space-y-5">
           {problem && <FormProblemAlert problem={problem} />}
           <Field label="E-mail address" error={errors.email?.message}>
@@ -56,6 +73,7 @@ export function SignInForm({ onSignedIn, demo }: { onSignedIn: (user: SessionUse
       {demo && (
         <DemoAccounts
           demo={demo}
+          districtSignIn={options?.districtSignIn ?? false}
           onPick={(email, password) => {
             setValue('email', email, { shouldValidate: true });
             setValue('password', password, { shouldValidate: true });
