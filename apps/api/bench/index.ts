@@ -1,8 +1,9 @@
 // `npm run bench -w apps/api [-- upload|run …]`: the API benchmarks, each a ratio to a baseline measured
 // in the same run (never a timed test). With no names, all of them.
+import { benchRosterImport } from './roster-import.js';
 import { benchRun } from './run.js';
 import { benchUpload } from './upload.js';
 
-const all: Record<string, () => Promise<void>> = { upload: benchUpload, run: benchRun };
+const all: Record<string, () => Promise<void>> = { upload: benchUpload, run: benchRun, roster: benchRosterImport };
 const chosen = process.argv.slice(2).filter((a) => a in all);
 for (const name of chosen.length ? chosen : Object.keys(all)) await all[name]();

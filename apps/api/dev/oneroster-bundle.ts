@@ -30,6 +30,8 @@ export interface BundleShape {
   firstStudent?: number;
   /** Student numbers left out of the export (they left). */
   without?: number[];
+  /** All students spread evenly over the classes instead of `studentsPerClass` each. */
+  totalStudents?: number;
 }
 
 const csv = (rows: (string | number)[][]) =>
@@ -60,7 +62,10 @@ export function oneRosterFiles(shape: BundleShape): Record<string, string> {
       classes.push([cls, '', '', `Grade 4 Reading ${c + 1}`, '04', 'crs-reading-4', '', 'homeroom', '', org, 'term-2026', 'Reading', '', '']);
       users.push([teacher, '', '', 'true', org, 'teacher', '', '', GIVEN[c % GIVEN.length], `Fictive-${school.code}${c + 1}`, '', '', `teacher.${school.code.toLowerCase()}${c + 1}@roster.evenhand.test`, '', '', '', '', '']);
       enrollments.push([`enr-${teacher}`, '', '', cls, org, teacher, 'teacher', 'true', '', '']);
-      for (let k = 0; k < shape.studentsPerClass; k++, student++) {
+      const index = s * shape.classesPerSchool + c;
+      const classCount = shape.schools * shape.classesPerSchool;
+      const size = shape.totalStudents === undefined ? shape.studentsPerClass : Math.floor(((index + 1) * shape.totalStudents) / classCount) - Math.floor((index * shape.totalStudents) / classCount);
+      for (let k = 0; k < size; k++, student++) {
         if (without.has(student)) continue;
         const id = `stu-${String(student).padStart(6, '0')}`;
         users.push([id, '', '', 'true', org, 'student', `user${student}`, `{SIS:${900000 + student}}`, `Given${student}`, `Family${student}`, '', `SIS-${student}`, `pupil${student}@pupils.roster.evenhand.test`, '', '', '', '04', '']);

@@ -17,7 +17,7 @@ import type { Bundle, RosterFile } from './bundle.js';
  * checked set-wise in SQL, each problem with its file and line.
  *
  * Columns: the 1EdTech OneRoster v1.1 CSV tables (checked against the published binding; see
- * docs/oneroster.md in this folder). Headers are matched without regard to case.
+ * oneroster.md beside this file). Headers are matched without regard to case.
  */
 
 /** Every header the v1.1 binding lists for the file; a bulk export carries them all, even when empty. */
@@ -40,6 +40,7 @@ const ENROLMENT_ROLES = ['administrator', 'proctor', 'student', 'teacher'];
 const REPORTED = 500;
 const MAX_ID = 255;
 // Control characters other than tab have no place in a roster value.
+// eslint-disable-next-line no-control-regex -- finding control characters is the point
 const CONTROL = /[\u0000-\u0008\u000b-\u001f\u007f]/;
 
 /** The district's keyed hash of a user's sourcedId: the only form in which it reaches the database. */

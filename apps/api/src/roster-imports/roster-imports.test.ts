@@ -26,7 +26,6 @@ const upload = (who: SignedIn, url: string, files: { name: string; data: Buffer 
 const previewUrl = () => `/api/studies/${s.studyId}/roster-imports/preview`;
 const commitUrl = () => `/api/studies/${s.studyId}/roster-imports`;
 const zip = (files: Record<string, string>) => [{ name: 'roster.zip', data: zipBundle(files) }];
-const everything = (p: RosterPreview) => ({ schools: p.schools.map((x) => x.sourcedId), classes: p.schools.flatMap((x) => x.classes.map((c) => c.sourcedId)) });
 
 /** Row counts of everything an import could write: a refused bundle must leave them all as they were. */
 async function footprint() {

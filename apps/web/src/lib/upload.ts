@@ -5,9 +5,12 @@ interface Schema<T> {
 }
 
 export interface UploadRequest<T> {
-  file: File;
+  /** One file, or several sent under the same field. */
+  file: File | File[];
   /** The multipart field the API reads; `file` unless told otherwise. */
   field?: string;
+  /** Text fields sent beside the file(s). */
+  fields?: Record<string, string>;
   query?: Record<string, string | undefined>;
   schema: Schema<T>;
   /** Called as the file goes out, with the share sent so far (0–1). */
@@ -20,13 +23,14 @@ export interface UploadRequest<T> {
  * report it, so this uses XMLHttpRequest — with the same session cookie, CSRF header and ApiError
  * as `apiRequest`, which stays the way to send everything else.
  */
-export function uploadFile<T>(path: string, { file, field = 'file', query, schema, onProgress, signal }: UploadRequest<T>): Promise<T> {
+export function uploadFile<T>(path: string, { file, field = 'file', fields, query, schema, onProgress, signal }: UploadRequest<T>): Promise<T> {
   const search = new URLSearchParams();
   for (const [key, value] of Object.entries(query ?? {})) if (value !== undefined && value !== '') search.set(key, value);
   const qs = search.toString();
   const url = `/api${path}${qs ? `?${qs}` : ''}`;
   const form = new FormData();
-  form.append(field, file, file.name);
+  for (const f of Array.isArray(file) ? file : [file]) form.append(field, f, f.name);
+  for (const [name, value] of Object.entries(fields ?? {})) form.append(name, value);
 
   return new Promise<T>((resolve, reject) => {
     if (signal?.aborted) return reject(new DOMException('The upload was cancelled', 'AbortError'));

@@ -3,10 +3,13 @@ import {
   classroomSchema,
   cohortSchema,
   pageOf,
+  rosterImportSchema,
+  rosterPreviewSchema,
   siteSchema,
   studySiteSchema,
   type CreateClassroom,
   type EnrolSite,
+  type RosterSelection,
   type UpdateClassroom,
 } from '@evenhand/entities';
 import { queryOptions, useMutation, useQueryClient } from '@tanstack/react-query';
@@ -100,6 +103,23 @@ export function useImportClassrooms(studyId: string) {
   const refresh = useRefreshStudy(studyId);
   return useMutation({
     mutationFn: (file: File) => uploadFile(`/studies/${studyId}/classrooms/import`, { file, schema: classroomImportResultSchema }),
+    onSuccess: refresh,
+  });
+}
+
+/** What a OneRoster bundle would enrol; the API writes nothing. */
+export function usePreviewRoster(studyId: string) {
+  return useMutation({
+    mutationFn: (files: File[]) => uploadFile(`/studies/${studyId}/roster-imports/preview`, { file: files, field: 'files', schema: rosterPreviewSchema }),
+  });
+}
+
+/** The chosen schools and classes of the same bundle, all or nothing. */
+export function useImportRoster(studyId: string) {
+  const refresh = useRefreshStudy(studyId);
+  return useMutation({
+    mutationFn: ({ files, selection }: { files: File[]; selection: RosterSelection }) =>
+      uploadFile(`/studies/${studyId}/roster-imports`, { file: files, field: 'files', fields: { selection: JSON.stringify(selection) }, schema: rosterImportSchema }),
     onSuccess: refresh,
   });
 }

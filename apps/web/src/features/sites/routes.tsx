@@ -15,12 +15,15 @@ import {
   useAddCohort,
   useEnrolSite,
   useImportClassrooms,
+  useImportRoster,
+  usePreviewRoster,
   useUpdateClassroom,
 } from '@/features/sites/api';
 import { AddClassroomForm, AddCohortForm, EditClassroomForm } from '@/features/sites/components/classroom-form';
 import { ClassroomImport } from '@/features/sites/components/classroom-import';
 import { ClassroomsTable } from '@/features/sites/components/classrooms-table';
 import { EnrolSiteForm } from '@/features/sites/components/enrol-site-form';
+import { RosterImportPanel } from '@/features/sites/components/roster-import';
 import { SitesTable } from '@/features/sites/components/sites-table';
 import { hasRole } from '@/lib/navigation';
 import { studyClassroomsQueryOptions, useCurrentStudy } from '@/lib/study';
@@ -37,7 +40,7 @@ export function sitesLoader(queryClient: QueryClient) {
   };
 }
 
-type Open = 'enrol' | 'classroom' | 'import' | null;
+type Open = 'enrol' | 'classroom' | 'import' | 'roster' | null;
 
 export function SitesPage() {
   const study = useCurrentStudy();
@@ -52,6 +55,8 @@ export function SitesPage() {
   const addClassroom = useAddClassroom(study.id);
   const updateClassroom = useUpdateClassroom(study.id);
   const importClassrooms = useImportClassrooms(study.id);
+  const previewRoster = usePreviewRoster(study.id);
+  const importRoster = useImportRoster(study.id);
   const [open, setOpen] = useState<Open>(null);
   const [editing, setEditing] = useState<Classroom | null>(null);
   const [notice, setNotice] = useState<string | null>(null);
@@ -77,7 +82,16 @@ export function SitesPage() {
       <Section
         title="Sites"
         description="The schools taking part, each with its principal."
-        actions={coordinator && <Button onClick={() => show('enrol')}>Enrol a site</Button>}
+        actions={
+          coordinator && (
+            <>
+              <Button variant="secondary" onClick={() => show('roster')}>
+                Import a OneRoster export
+              </Button>
+              <Button onClick={() => show('enrol')}>Enrol a site</Button>
+            </>
+          )
+        }
       >
         <SitesTable sites={siteList} loading={sites.isPending} error={sites.error} />
       </Section>
@@ -163,6 +177,14 @@ export function SitesPage() {
 
       <Dialog open={open === 'import'} title="Add classrooms from a CSV file" onClose={() => setOpen(null)}>
         <ClassroomImport sites={siteList} onImport={(file) => importClassrooms.mutateAsync(file)} onClose={() => setOpen(null)} />
+      </Dialog>
+
+      <Dialog open={open === 'roster'} title="Import a OneRoster export" onClose={() => setOpen(null)}>
+        <RosterImportPanel
+          onPreview={(files) => previewRoster.mutateAsync(files)}
+          onImport={(files, selection) => importRoster.mutateAsync({ files, selection })}
+          onClose={() => setOpen(null)}
+        />
       </Dialog>
 
       <Dialog open={editing !== null} title={`Edit ${editing?.name ?? 'classroom'}`} onClose={() => setEditing(null)}>

@@ -1,0 +1,106 @@
+// A OneRoster bundle of 50 000 students in 2 000 classes (40 schools) imported through
+// POST /api/studies/:id/roster-imports, against reading the same zip's files with the same zip reader and
+// CSV parser alone (no database) in the same run: the goal is an import within 3× of parsing. Then the
+// API process's extra RSS while importing 5 000 and 50 000 students in the same 2 000 classes (goal: flat).
+// The teachers already have accounts (a re-import's case), so the import sends no mail.
+import { writeFileSync, rmSync, mkdtempSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import path from 'node:path';
+import request from 'supertest';
+import { oneRosterFiles, zipBundle, type BundleShape } from '../dev/oneroster-bundle.js';
+import { csvStreamBatches } from '../src/lib/csv.js';
+import { openBundle } from '../src/roster-imports/bundle.js';
+import { ROSTER_COLUMNS } from '../src/roster-imports/parser.js';
+import { DEMO_PASSWORD } from '../src/seed/demo.js';
+import { median, openBench, time } from './setup.js';
+
+const SHAPE: BundleShape = { schools: 40, classesPerSchool: 50, studentsPerClass: 25 };
+const ROUNDS = 3;
+
+export async function benchRosterImport() {
+  const b = await openBench('roster');
+  const { db, app } = b;
+  const dir = mkdtempSync(path.join(tmpdir(), 'evenhand-roster-bench-'));
+  const zipOf = (shape: BundleShape) => {
+    const file = path.join(dir, `${shape.totalStudents ?? shape.studentsPerClass}.zip`);
+    writeFileSync(file, zipBundle(oneRosterFiles(shape)));
+    return file;
+  };
+  const large = zipOf(SHAPE);
+  const small = zipOf({ ...SHAPE, totalStudents: 5_000 });
+
+  // The teachers (and the schools' administrators) as existing accounts.
+  await db.query(
+    `INSERT INTO users (email, name, password_hash)
+     SELECT 'teacher.' || lower(code) || k || '@roster.evenhand.test', 'Bench Teacher', NULL
+       FROM (SELECT CASE WHEN s <= 6 THEN (ARRAY['ALD','BRK','CDH','DNP','ELR','FRN'])[s] ELSE 'SCH' || s END AS code FROM generate_series(1, $1) s) x, generate_series(1, $2) k
+     UNION ALL
+     SELECT 'principal.' || lower(CASE WHEN s <= 6 THEN (ARRAY['ALD','BRK','CDH','DNP','ELR','FRN'])[s] ELSE 'SCH' || s END) || '@roster.evenhand.test', 'Bench Principal', NULL
+       FROM generate_series(1, $1) s`,
+    [SHAPE.schools, SHAPE.classesPerSchool],
+  );
+  const session = await request(app).post('/api/auth/login').send({ email: 'coordinator@evenhand.test', password: DEMO_PASSWORD });
+  const token = session.body.token as string;
+  const newStudy = async () => (await b.study(0, 1)).studyId;
+  const selection = {
+    schools: Array.from({ length: SHAPE.schools }, (_, s) => `org-${(['ald', 'brk', 'cdh', 'dnp', 'elr', 'frn'][s] ?? `sch${s + 1}`)}`),
+    classes: Array.from({ length: SHAPE.schools }, (_, s) => Array.from({ length: SHAPE.classesPerSchool }, (_, c) => `cls-${(['ald', 'brk', 'cdh', 'dnp', 'elr', 'frn'][s] ?? `sch${s + 1}`)}-${c + 1}`)).flat(),
+  };
+  const importInto = async (studyId: string, file: string) => {
+    const res = await request(app)
+      .post(`/api/studies/${studyId}/roster-imports`)
+      .set('authorization', `Bearer ${token}`)
+      .attach('files', file)
+      .field('selection', JSON.stringify(selection));
+    if (res.status !== 201) throw new Error(`import answered ${res.status}: ${JSON.stringify(res.body).slice(0, 500)}`);
+    return res.body as { studentsJoined: number; classroomsCreated: number };
+  };
+  const parseAlone = async (file: string) => {
+    const bundle = await openBundle([{ path: file, originalname: 'roster.zip' }]);
+    let rows = 0;
+    try {
+      for (const name of ['orgs.csv', 'classes.csv', 'users.csv', 'enrollments.csv'] as const) {
+        for await (const batch of csvStreamBatches(await bundle.open(name), ROSTER_COLUMNS[name].map((c) => c.toLowerCase()))) rows += batch.length;
+      }
+    } finally {
+      bundle.close();
+    }
+    return rows;
+  };
+
+  const importTimes: number[] = [];
+  const parseTimes: number[] = [];
+  for (let round = 0; round < ROUNDS; round++) {
+    parseTimes.push(await time(() => parseAlone(large)));
+    const studyId = await newStudy();
+    let result: { studentsJoined: number; classroomsCreated: number } | undefined;
+    importTimes.push(await time(async () => (result = await importInto(studyId, large))));
+    if (result!.studentsJoined !== 50_000 || result!.classroomsCreated !== 2_000) throw new Error(`unexpected import: ${JSON.stringify(result)}`);
+  }
+
+  const extraRss = async (file: string) => {
+    const studyId = await newStudy();
+    globalThis.gc?.();
+    const base = process.memoryUsage().rss;
+    let peak = 0;
+    const sampler = setInterval(() => (peak = Math.max(peak, process.memoryUsage().rss - base)), 5);
+    await importInto(studyId, file);
+    clearInterval(sampler);
+    return Math.max(peak, process.memoryUsage().rss - base);
+  };
+  const smallExtra = await extraRss(small);
+  const largeExtra = await extraRss(large);
+
+  const mb = (x: number) => `${(x / 2 ** 20).toFixed(0)} MB`;
+  const lines: [string, string][] = [
+    ['parsing the files alone', `${median(parseTimes).toFixed(0)} ms`],
+    ['the import route', `${median(importTimes).toFixed(0)} ms`],
+    ['ratio to parsing alone', `${(median(importTimes) / median(parseTimes)).toFixed(2)}×   (goal ≤ 3×)`],
+    ['extra RSS, 5 000 students', mb(smallExtra)],
+    ['extra RSS, 50 000 students', `${mb(largeExtra)}   (goal: flat${globalThis.gc ? '' : '; run with --expose-gc for steadier numbers'})`],
+  ];
+  console.log(`\nOneRoster import of 50 000 students in 2 000 classes through POST /api/studies/:id/roster-imports (median of ${ROUNDS})`);
+  for (const [label, value] of lines) console.log(`  ${`${label}:`.padEnd(40)}${value}`);
+  rmSync(dir, { recursive: true, force: true });
+  await b.close();
+}
