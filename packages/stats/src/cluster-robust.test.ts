@@ -283,9 +283,10 @@ describe('CR2 from per-unit moments equals the definitions on the full matrices 
         const rows = inventRows(seed);
         const r = clusterRobustFromRows(rows);
         const d = denseCr2(rows);
-        expectClose(r.estimate, d.estimate, 1e-8, 1e-10, 'estimate');
-        expectClose(r.se, d.se, 1e-7, 0, 'se');
-        expectClose(r.df, d.df, 1e-7, 0, 'df');
+        // Observed over 600 designs: estimate 4e-12, SE 4e-13, df 2e-13 relative.
+        expectClose(r.estimate, d.estimate, 1e-9, 1e-12, 'estimate');
+        expectClose(r.se, d.se, 1e-10, 0, 'se');
+        expectClose(r.df, d.df, 1e-10, 0, 'df');
       }),
       { numRuns: 150 },
     );
@@ -318,11 +319,11 @@ describe('entry points', () => {
     for (const key of ['estimate', 'se', 'df', 'p', 'olsSe'] as const) expectClose(b[key], a[key], 1e-12, 0, key);
   });
 
-  it('when y is rescaled, then the estimate and SEs scale with it and df and p do not change (affine invariance)', () => {
+  it('when y is rescaled (by 1e-80 to 1e80), then the estimate and SEs scale with it and df and p do not change', () => {
     const c = byId('unbalanced-pretest');
     const rows = rowsOf(c);
     const base = clusterRobustFromRows(rows);
-    for (const factor of [1e-6, 1e4]) {
+    for (const factor of [1e-80, 1e-6, 1e4, 1e80]) {
       const r = clusterRobustFromRows({ ...rows, y: (rows.y as number[]).map((v) => v * factor) });
       expectClose(r.estimate, base.estimate * factor, 1e-10, 0, 'estimate');
       expectClose(r.se, base.se * factor, 1e-10, 0, 'se');

@@ -573,6 +573,31 @@ function matVec(A: Float64Array, x: Float64Array, out: Float64Array, K: number):
  * overwritten, eigenvectors go to the columns of `vecs`, eigenvalues to `vals`. Accurate to a few ulps of ‖a‖.
  */
 function symmetricEigen(a: Float64Array, K: number, vecs: Float64Array, vals: Float64Array): void {
+  if (K === 1) {
+    vals[0] = a[0];
+    vecs[0] = 1;
+    return;
+  }
+  if (K === 2) {
+    // One rotation diagonalises a 2 × 2 matrix (the usual case: one covariate, the pretest).
+    const app = a[0];
+    const aqq = a[3];
+    const apq = 0.5 * (a[1] + a[2]);
+    let t = 0;
+    if (apq !== 0) {
+      const theta = (aqq - app) / (2 * apq);
+      t = (theta >= 0 ? 1 : -1) / (Math.abs(theta) + Math.sqrt(theta * theta + 1));
+    }
+    const c = 1 / Math.sqrt(t * t + 1);
+    const s = t * c;
+    vals[0] = app - t * apq;
+    vals[1] = aqq + t * apq;
+    vecs[0] = c;
+    vecs[1] = s;
+    vecs[2] = -s;
+    vecs[3] = c;
+    return;
+  }
   for (let i = 0; i < K * K; i++) vecs[i] = 0;
   for (let i = 0; i < K; i++) vecs[i * K + i] = 1;
   for (let i = 0; i < K; i++) {
