@@ -2,7 +2,8 @@
  * Benchmark (not a test): time of welchT + levene(median) + hedgesG on 2 × 1 000 000 values divided by the time of a
  * plain two-pass mean/variance loop over the same arrays (the memory-bound floor), each the median of several
  * interleaved repetitions; then CR2 cluster-robust errors for 80 000 units of 25 from their per-unit moments against the
- * same floor; then checks that summarize + mergeSummaries over 10 000 chunks equals one pass.
+ * same floor; then the two-level model (REML, Satterthwaite df) on the same units against the same floor; then checks
+ * that summarize + mergeSummaries over 10 000 chunks equals one pass.
  */
 import {
   clusterRobustFromMoments,
@@ -11,6 +12,7 @@ import {
   mergeAllSummaries,
   mergeSummaries,
   summarize,
+  twoLevelFromMoments,
   unitMomentsFromRows,
   welchT,
   type Summary,
@@ -142,6 +144,27 @@ for (let r = 0; r < REPS; r++) {
 console.log(
   `CR2 + Pustejovsky–Tipton df, ${CR2_UNITS.toLocaleString('en-US')} units of ${CR2_SIZE}, ${CR2_BLOCKS} blocks, pretest, ` +
     `from per-unit moments: ${median(cr2Times).toFixed(2)} ms = ${(median(cr2Times) / median(cr2Floor)).toFixed(2)}× the floor`,
+);
+
+// The two-level model on the same 80 000 classrooms (p = 42 fixed effects: intercept, 39 school indicators, arm,
+// pretest), from their per-unit moments as the API sends them, interleaved with the floor.
+const modelRun = () => {
+  sink += twoLevelFromMoments(cr2Units).se;
+};
+for (let i = 0; i < 3; i++) modelRun();
+const modelFloor: number[] = [];
+const modelTimes: number[] = [];
+for (let r = 0; r < REPS; r++) {
+  let t0 = performance.now();
+  floorRun();
+  modelFloor.push(performance.now() - t0);
+  t0 = performance.now();
+  modelRun();
+  modelTimes.push(performance.now() - t0);
+}
+console.log(
+  `two-level model (REML + Satterthwaite df), ${CR2_UNITS.toLocaleString('en-US')} units of ${CR2_SIZE}, ${CR2_BLOCKS} blocks, ` +
+    `pretest, from per-unit moments: ${median(modelTimes).toFixed(2)} ms = ${(median(modelTimes) / median(modelFloor)).toFixed(2)}× the floor`,
 );
 
 // summarize + mergeSummaries over 10 000 chunks must equal one pass to 1e-12 relative.

@@ -242,35 +242,8 @@ function prepare(units: readonly UnitMoments[]): Prepared & { names: string[]; b
   // Arm means relative to the grand mean, for the unadjusted pooled SD of g.
   const armOffset = [0, 1].map((a) => shiftY + dyArm[a] / studentsPerArm[a] - grandY);
 
-  // Pass 2: total sums of squares about the grand means (parallel-axis rule) set the scales; within-arm SS for g.
-  let ssY = 0;
-  let pooledSs = 0;
-  const ssX = new Float64Array(k);
-  for (const u of units) {
-    const ey = u.meanY - grandY;
-    ssY += u.ssY + u.n * ey * ey;
-    const ea = ey - armOffset[u.arm];
-    pooledSs += u.ssY + u.n * ea * ea;
-    for (let c = 0; c < k; c++) {
-      const ex = u.meanX[c] - grandX[c];
-      ssX[c] += u.spXX[c][c] + u.n * ex * ex;
-    }
-  }
-  if (!(ssY > 0)) fail('the outcome is the same for every student');
-  const sy = Math.sqrt(ssY / N);
-  const sx = new Float64Array(k);
-  for (let c = 0; c < k; c++) {
-    if (!(ssX[c] > 0)) fail(`covariate ${c + 1} is the same for every student`);
-    sx[c] = Math.sqrt(ssX[c] / N);
-  }
-  wYY /= sy * sy;
-  for (let c = 0; c < k; c++) {
-    wXY[c] /= sx[c] * sy;
-    for (let d = 0; d < k; d++) wXX[c * k + d] /= sx[c] * sx[d];
-  }
-
-  // Pass 3: group units that share block, arm and size: their weights n/(1 + nλ) are equal, so each λ costs
-  // O(groups · k²) and never touches the units again.
+  // Pass 2: group units that share block, arm and size: their weights n/(1 + nλ) are equal, so each λ costs
+  // O(groups · k²) and never touches the units again. z = (covariate means, outcome mean) about the grand means.
   const z = k + 1;
   const groupOf = new Map<number, number>();
   const count: number[] = [];
@@ -301,14 +274,50 @@ function prepare(units: readonly UnitMoments[]): Prepared & { names: string[]; b
       for (let c = 0; c < z * z; c++) sumZZ.push(0);
     }
     count[g]++;
-    for (let c = 0; c < k; c++) zj[c] = (u.meanX[c] - grandX[c]) / sx[c];
-    zj[k] = (u.meanY - grandY) / sy;
+    for (let c = 0; c < k; c++) zj[c] = u.meanX[c] - grandX[c];
+    zj[k] = u.meanY - grandY;
     const o = g * z;
     const oo = g * z * z;
     for (let c = 0; c < z; c++) {
       sumZ[o + c] += zj[c];
       for (let d = 0; d < z; d++) sumZZ[oo + c * z + d] += zj[c] * zj[d];
     }
+  }
+  const groups = count.length;
+
+  // Total sums of squares about the grand means (parallel-axis rule: within + Σ n_j (mean_j − grand)²) set the
+  // scales; the within-arm SS of the outcome (about each arm's mean) gives the unadjusted pooled SD for g.
+  let ssY = wYY;
+  let pooledSs = wYY;
+  const ssX = new Float64Array(k);
+  for (let c = 0; c < k; c++) ssX[c] = wXX[c * k + c];
+  for (let g = 0; g < groups; g++) {
+    const oo = g * z * z;
+    const n = size[g];
+    ssY += n * sumZZ[oo + k * z + k];
+    const off = armOffset[gArmList[g]];
+    pooledSs += n * (sumZZ[oo + k * z + k] - 2 * off * sumZ[g * z + k] + count[g] * off * off);
+    for (let c = 0; c < k; c++) ssX[c] += n * sumZZ[oo + c * z + c];
+  }
+  if (!(ssY > 0)) fail('the outcome is the same for every student');
+  const sy = Math.sqrt(ssY / N);
+  const sx = new Float64Array(k);
+  for (let c = 0; c < k; c++) {
+    if (!(ssX[c] > 0)) fail(`covariate ${c + 1} is the same for every student`);
+    sx[c] = Math.sqrt(ssX[c] / N);
+  }
+  // Scale everything to unit total variance (the REML problem is then well conditioned whatever the score scale).
+  const scale = Float64Array.from({ length: z }, (_, c) => (c < k ? sx[c] : sy));
+  for (let g = 0; g < groups; g++) {
+    for (let c = 0; c < z; c++) {
+      sumZ[g * z + c] /= scale[c];
+      for (let d = 0; d < z; d++) sumZZ[g * z * z + c * z + d] /= scale[c] * scale[d];
+    }
+  }
+  wYY /= sy * sy;
+  for (let c = 0; c < k; c++) {
+    wXY[c] /= sx[c] * sy;
+    for (let d = 0; d < k; d++) wXX[c * k + d] /= sx[c] * sx[d];
   }
 
   const names = ['the intercept', ...blockLabels.slice(1).map((b) => `block ${b}`), 'the arm', ...Array.from({ length: k }, (_, c) => `covariate ${c + 1}`)];
@@ -317,7 +326,7 @@ function prepare(units: readonly UnitMoments[]): Prepared & { names: string[]; b
     p,
     armCol,
     k,
-    groups: count.length,
+    groups,
     gCount: Float64Array.from(count),
     gN: Float64Array.from(size),
     gBlock: Int32Array.from(gBlockList),
