@@ -88,8 +88,12 @@ describe(`CR2 against R ${fixture.versions.R.split(' ')[2]} + clubSandwich ${fix
       expectClose(r.olsSe, e.olsSe, 1e-10, 0, 'ols se');
       expect(r.olsDf).toBe(e.olsDf);
       expect(r.n).toBe(e.n);
-      expect(r.unitsIntervention).toBe(e.unitsIntervention);
-      expect(r.unitsComparison).toBe(e.unitsComparison);
+      expect(r.units).toEqual({ intervention: e.unitsIntervention, comparison: e.unitsComparison });
+      const studentsIntervention = c.rows.arm.filter((x) => x === 1).length;
+      expect(r.students).toEqual({ intervention: studentsIntervention, comparison: e.n - studentsIntervention });
+      // lm's residual df is n − p.
+      expect(r.fixedEffects).toBe(e.n - e.olsDf);
+      expect(r.blocks).toBe(c.rows.block ? new Set(c.rows.block).size : 0);
       // Units whose I − H_jj has an eigenvalue ≤ 1e-12 (the script counts them from the full matrices).
       expect(r.singularUnits).toBe(e.singularUnits);
       expect(r.confidence).toBe(c.confidence);

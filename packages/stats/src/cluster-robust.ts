@@ -3,11 +3,13 @@ import { checkOptions, readAlternative, readConfidence, type Alternative } from 
 import { tInterval, tPValue } from './ttest.js';
 import { unitMomentsFromRows, type ClusteredRows, type UnitMoments } from './unit-moments.js';
 
+/** Options of the CR2 analysis: the alternative for intervention − comparison and the confidence level (default 0.95). */
 export interface ClusterRobustOptions {
   alternative?: Alternative;
   confidence?: number;
 }
 
+/** CR2 inference for the arm coefficient (Bell & McCaffrey 2002; df of Pustejovsky & Tipton 2018), beside the ordinary SE. */
 export interface ClusterRobustResult {
   /** Least-squares coefficient of the arm (intervention − comparison), adjusted for the blocks and covariates. */
   estimate: number;
@@ -23,11 +25,12 @@ export interface ClusterRobustResult {
   alternative: Alternative;
   /** Students analysed. */
   n: number;
-  unitsIntervention: number;
-  unitsComparison: number;
-  /** Blocks with their own indicator (0 without blocks). */
+  students: { intervention: number; comparison: number };
+  units: { intervention: number; comparison: number };
+  /** Number of blocks (0 without blocks). */
   blocks: number;
-  covariates: number;
+  /** Number of coefficients p = 2 + (blocks − 1) + covariates (2 + covariates without blocks). */
+  fixedEffects: number;
   /** The ordinary least-squares standard error √(RSS/(n − p) · (X'X)⁻¹), for context: it ignores the clustering. */
   olsSe: number;
   /** Residual degrees of freedom n − p of the ordinary standard error. */
@@ -76,10 +79,10 @@ export function clusterRobustFromMoments(units: readonly UnitMoments[], options?
     confidence,
     alternative,
     n: d.N,
-    unitsIntervention: d.unitsIntervention,
-    unitsComparison: d.J - d.unitsIntervention,
+    students: { intervention: d.studentsIntervention, comparison: d.N - d.studentsIntervention },
+    units: { intervention: d.unitsIntervention, comparison: d.J - d.unitsIntervention },
     blocks: d.blockLabels.length,
-    covariates: d.k,
+    fixedEffects: d.p,
     olsSe: fit.olsSe,
     olsDf: fit.olsDf,
     singularUnits: cr2.singularUnits,
@@ -106,6 +109,7 @@ interface Design {
   B: number;
   p: number;
   unitsIntervention: number;
+  studentsIntervention: number;
   n: Float64Array;
   arm: Uint8Array;
   block: Int32Array;
@@ -143,6 +147,7 @@ function readDesign(units: readonly UnitMoments[]): Design {
   const spXX = new Float64Array(J * k * k);
   let N = 0;
   let unitsIntervention = 0;
+  let studentsIntervention = 0;
   // Messages are built only on failure: this loop runs once per unit of a district.
   const where = (j: number) => {
     const u = units[j];
@@ -180,6 +185,7 @@ function readDesign(units: readonly UnitMoments[]): Design {
     ssY[j] = u.ssY;
     N += u.n;
     unitsIntervention += u.arm;
+    studentsIntervention += u.arm * u.n;
     if (hasBlocks) {
       let id = blockIds.get(u.block as string);
       if (id === undefined) blockIds.set(u.block as string, (id = blockIds.size));
@@ -238,7 +244,7 @@ function readDesign(units: readonly UnitMoments[]): Design {
       for (let b = 0; b < k; b++) spXX[(j * k + a) * k + b] = spXX[(j * k + a) * k + b] / scaleX[a] / scaleX[b];
     }
   }
-  return { J, N, k, blockLabels, B, p, unitsIntervention, n, arm, block, meanY, ssY, meanX, spXY, spXX, scaleY };
+  return { J, N, k, blockLabels, B, p, unitsIntervention, studentsIntervention, n, arm, block, meanY, ssY, meanX, spXY, spXX, scaleY };
 }
 
 interface LeastSquares {
