@@ -25,8 +25,10 @@ export interface ClusterRobustResult {
   alternative: Alternative;
   /** Students analysed. */
   n: number;
-  students: { intervention: number; comparison: number };
-  units: { intervention: number; comparison: number };
+  /** Units (clusters) in the intervention arm. */
+  unitsIntervention: number;
+  /** Units (clusters) in the comparison arm. */
+  unitsComparison: number;
   /** Number of blocks (0 without blocks). */
   blocks: number;
   /** Number of coefficients p = 2 + (blocks − 1) + covariates (2 + covariates without blocks). */
@@ -79,8 +81,8 @@ export function clusterRobustFromMoments(units: readonly UnitMoments[], options?
     confidence,
     alternative,
     n: d.N,
-    students: { intervention: d.studentsIntervention, comparison: d.N - d.studentsIntervention },
-    units: { intervention: d.unitsIntervention, comparison: d.J - d.unitsIntervention },
+    unitsIntervention: d.unitsIntervention,
+    unitsComparison: d.J - d.unitsIntervention,
     blocks: d.blockLabels.length,
     fixedEffects: d.p,
     olsSe: fit.olsSe,
@@ -109,7 +111,6 @@ interface Design {
   B: number;
   p: number;
   unitsIntervention: number;
-  studentsIntervention: number;
   n: Float64Array;
   arm: Uint8Array;
   block: Int32Array;
@@ -147,7 +148,6 @@ function readDesign(units: readonly UnitMoments[]): Design {
   const spXX = new Float64Array(J * k * k);
   let N = 0;
   let unitsIntervention = 0;
-  let studentsIntervention = 0;
   // Messages are built only on failure: this loop runs once per unit of a district.
   const where = (j: number) => {
     const u = units[j];
@@ -185,7 +185,6 @@ function readDesign(units: readonly UnitMoments[]): Design {
     ssY[j] = u.ssY;
     N += u.n;
     unitsIntervention += u.arm;
-    studentsIntervention += u.arm * u.n;
     if (hasBlocks) {
       let id = blockIds.get(u.block as string);
       if (id === undefined) blockIds.set(u.block as string, (id = blockIds.size));
@@ -244,7 +243,7 @@ function readDesign(units: readonly UnitMoments[]): Design {
       for (let b = 0; b < k; b++) spXX[(j * k + a) * k + b] = spXX[(j * k + a) * k + b] / scaleX[a] / scaleX[b];
     }
   }
-  return { J, N, k, blockLabels, B, p, unitsIntervention, studentsIntervention, n, arm, block, meanY, ssY, meanX, spXY, spXX, scaleY };
+  return { J, N, k, blockLabels, B, p, unitsIntervention, n, arm, block, meanY, ssY, meanX, spXY, spXX, scaleY };
 }
 
 interface LeastSquares {
