@@ -4,6 +4,7 @@ import { checkOptions, readAlternative, readConfidence, type Alternative } from 
 import { tInterval, tPValue } from './ttest.js';
 import { unitMomentsFromRows, type ClusteredRows, type UnitMoments } from './unit-moments.js';
 
+/** Options of the two-level model, as the t tests: the alternative for p and the CI, the CI's confidence, g's correction. */
 export interface TwoLevelOptions {
   alternative?: Alternative;
   confidence?: number;
@@ -11,11 +12,16 @@ export interface TwoLevelOptions {
   correction?: SmallSampleCorrection;
 }
 
+/** A covariate's fixed effect β_k with SE √(σ²(X'V⁻¹X)⁻¹_kk), in outcome units per covariate unit. */
 export interface TwoLevelCoefficient {
   estimate: number;
   se: number;
 }
 
+/**
+ * The two-level model's arm effect with t = estimate/SE on Satterthwaite df, the REML variance components and ICC, and the
+ * WWC standardised effect g (see `twoLevelFromMoments` for formulas and sources).
+ */
 export interface TwoLevelResult {
   /** The arm effect, intervention − comparison, adjusted for the blocks and covariates in the model. */
   estimate: number;
