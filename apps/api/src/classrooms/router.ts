@@ -8,6 +8,7 @@ import {
   idParamsSchema,
   pageOf,
   studyParamsSchema,
+  studyReaderRoles,
   updateClassroomSchema,
 } from '@evenhand/entities';
 import type { Deps } from '../deps.js';
@@ -24,7 +25,7 @@ export function classroomsRouter(deps: Deps, registry: OpenAPIRegistry) {
       method: 'get',
       path: '/studies/:id/cohorts',
       summary: 'The study’s cohorts',
-      access: ['coordinator', 'research_lead', 'reviewer'],
+      access: studyReaderRoles,
       tag,
       params: studyParamsSchema,
       responses: { 200: { description: 'All cohorts', schema: pageOf(cohortSchema) } },
@@ -51,7 +52,7 @@ export function classroomsRouter(deps: Deps, registry: OpenAPIRegistry) {
       method: 'get',
       path: '/studies/:id/classrooms',
       summary: 'Classrooms (teachers: their own; principals: their school’s)',
-      access: ['coordinator', 'research_lead', 'reviewer', 'teacher', 'principal'],
+      access: [...studyReaderRoles, 'teacher', 'principal'],
       tag,
       params: studyParamsSchema,
       responses: { 200: { description: 'Classrooms', schema: pageOf(classroomSchema) } },

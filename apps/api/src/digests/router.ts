@@ -11,6 +11,7 @@ import {
   pageOf,
   sendDigestsResultSchema,
   studyParamsSchema,
+  studyWriterRoles,
   updateDigestPreferenceSchema,
 } from '@evenhand/entities';
 import type { Deps } from '../deps.js';
@@ -20,7 +21,7 @@ import { getDigest, getPreference, getSchedule, listDigests, mySchool, saveSched
 export function digestsRouter(deps: Deps, registry: OpenAPIRegistry) {
   const r = new ResourceRouter(registry);
   const tag = 'Digests';
-  const staff = ['research_lead', 'coordinator'] as const;
+  const staff = studyWriterRoles;
 
   r.route(
     {

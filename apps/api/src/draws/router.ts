@@ -1,5 +1,5 @@
 import type { OpenAPIRegistry } from '@asteasolutions/zod-to-openapi';
-import { drawRequestSchema, drawSchema, idParamsSchema, pageOf, reassignmentSchema, studyParamsSchema } from '@evenhand/entities';
+import { drawRequestSchema, drawSchema, idParamsSchema, pageOf, reassignmentSchema, studyParamsSchema, studyReaderRoles } from '@evenhand/entities';
 import type { Deps } from '../deps.js';
 import { ResourceRouter } from '../http/route.js';
 import { drawAssignment, listDraws, reassign } from './service.js';
@@ -33,7 +33,7 @@ export function drawsRouter(deps: Deps, registry: OpenAPIRegistry) {
       method: 'get',
       path: '/studies/:id/draws',
       summary: 'The committed draw with its balance table, re-derived from the seed (`verified`)',
-      access: ['coordinator', 'research_lead', 'reviewer'],
+      access: studyReaderRoles,
       tag,
       params: studyParamsSchema,
       responses: { 200: { description: 'The draw (none before it is committed)', schema: pageOf(drawSchema) } },

@@ -1,5 +1,5 @@
 import type { OpenAPIRegistry } from '@asteasolutions/zod-to-openapi';
-import { amendmentSchema, planContentSchema, planSchema, studyParamsSchema } from '@evenhand/entities';
+import { amendmentSchema, planContentSchema, planSchema, studyParamsSchema, studyReaderRoles } from '@evenhand/entities';
 import type { Deps } from '../deps.js';
 import { ResourceRouter } from '../http/route.js';
 import { amendPlan, getPlan, saveDraft, sealPlan } from './service.js';
@@ -14,7 +14,7 @@ export function plansRouter(deps: Deps, registry: OpenAPIRegistry) {
       method: 'get',
       path: '/studies/:id/plan',
       summary: 'The pre-registration: the draft before sealing, then every sealed version and amendment',
-      access: ['research_lead', 'coordinator', 'reviewer'],
+      access: studyReaderRoles,
       tag,
       params: studyParamsSchema,
       responses,

@@ -12,6 +12,7 @@ import {
   scoreSheetSchema,
   scoreSheetsQuerySchema,
   studyParamsSchema,
+  studyWriterRoles,
   uploadQuerySchema,
   uploadResultSchema,
 } from '@evenhand/entities';
@@ -124,7 +125,7 @@ export function scoreSheetsRouter(deps: Deps, registry: OpenAPIRegistry) {
       method: 'get',
       path: '/studies/:id/completion',
       summary: 'The completion matrix: classroom × wave × measure, each cell the sheet’s state and counts',
-      access: ['coordinator', 'research_lead'],
+      access: studyWriterRoles,
       tag,
       params: studyParamsSchema,
       responses: { 200: { description: 'The matrix', schema: completionMatrixSchema } },

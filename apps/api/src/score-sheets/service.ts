@@ -1,5 +1,5 @@
 import type { DataSource, EntityManager } from 'typeorm';
-import { MISSING_SCORE, type ScoreRow, type ScoreSheet, type ScoreSheetDetail, type SessionUser, type SheetSummary } from '@evenhand/entities';
+import { districtWideRoles, MISSING_SCORE, type ScoreRow, type ScoreSheet, type ScoreSheetDetail, type SessionUser, type SheetSummary } from '@evenhand/entities';
 import { ScoreSheetEntity } from '@evenhand/entities/orm';
 import { recordAudit } from '../audit/service.js';
 import { AppError } from '../errors.js';
@@ -114,7 +114,7 @@ export async function ensureSheets(manager: EntityManager, studyId: string): Pro
   );
 }
 
-const seesWholeStudy = (user: SessionUser) => hasRole(user, 'coordinator', 'research_lead');
+const seesWholeStudy = (user: SessionUser) => hasRole(user, ...districtWideRoles);
 
 export async function listSheets(db: DataSource, user: SessionUser, q: { studyId: string; classroomId?: string; waveId?: string; state?: string }) {
   await findVisibleStudy(db.manager, user, q.studyId);

@@ -1,5 +1,5 @@
 import type { OpenAPIRegistry } from '@asteasolutions/zod-to-openapi';
-import { enrolSiteSchema, idParamsSchema, pageOf, siteSchema, studyParamsSchema, studySiteSchema, updateSiteSchema } from '@evenhand/entities';
+import { enrolSiteSchema, idParamsSchema, pageOf, siteSchema, studyParamsSchema, studyReaderRoles, studySiteSchema, updateSiteSchema } from '@evenhand/entities';
 import type { Deps } from '../deps.js';
 import { ResourceRouter } from '../http/route.js';
 import { enrolSite, getSite, listDistrictSites, listStudySites, updateSite } from './service.js';
@@ -25,7 +25,7 @@ export function sitesRouter(deps: Deps, registry: OpenAPIRegistry) {
       method: 'get',
       path: '/studies/:id/sites',
       summary: 'The sites enrolled in a study, with classroom counts',
-      access: ['coordinator', 'research_lead', 'reviewer'],
+      access: studyReaderRoles,
       tag,
       params: studyParamsSchema,
       responses: { 200: { description: 'Enrolled sites', schema: pageOf(studySiteSchema) } },

@@ -1,10 +1,7 @@
 import type { EntityManager } from 'typeorm';
-import type { Role, SessionUser } from '@evenhand/entities';
+import { districtWideRoles, type Role, type SessionUser } from '@evenhand/entities';
 import { StudyEntity } from '@evenhand/entities/orm';
 import { AppError } from '../errors.js';
-
-/** Roles that see every study of the district. Teachers and principals see only their own. */
-const districtWide: Role[] = ['admin', 'coordinator', 'research_lead', 'reviewer'];
 
 export const hasRole = (user: SessionUser, ...roles: Role[]) => user.roles.some((g) => roles.includes(g.role));
 
@@ -16,7 +13,8 @@ export const sitesOf = (user: SessionUser, role: Role) =>
  * everything for district-wide roles, else studies with the teacher's classrooms or the principal's site.
  */
 export function studyScope(user: SessionUser): { where: string; params: Record<string, unknown> } {
-  if (hasRole(user, ...districtWide)) return { where: 'TRUE', params: {} };
+  // District-wide staff see every study; teachers and principals only their own.
+  if (hasRole(user, ...districtWideRoles)) return { where: 'TRUE', params: {} };
   return {
     where: `(EXISTS (SELECT 1 FROM classrooms c WHERE c.study_id = s.id AND c.teacher_id = :scopeUser)
              OR EXISTS (SELECT 1 FROM study_sites ss WHERE ss.study_id = s.id AND ss.site_id = ANY(:scopeSites)))`,

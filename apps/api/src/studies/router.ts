@@ -1,5 +1,5 @@
 import type { OpenAPIRegistry } from '@asteasolutions/zod-to-openapi';
-import { createStudySchema, pageOf, studiesQuerySchema, studyParamsSchema, studySchema, updateStudySchema } from '@evenhand/entities';
+import { createStudySchema, pageOf, studiesQuerySchema, studyParamsSchema, studySchema, studyWriterRoles, updateStudySchema } from '@evenhand/entities';
 import type { Deps } from '../deps.js';
 import { ResourceRouter } from '../http/route.js';
 import { createStudy, getStudy, listStudies, updateStudy } from './service.js';
@@ -26,7 +26,7 @@ export function studiesRouter(deps: Deps, registry: OpenAPIRegistry) {
       method: 'post',
       path: '/studies',
       summary: 'Start a study (state: drafting)',
-      access: ['research_lead', 'coordinator'],
+      access: studyWriterRoles,
       tag,
       body: createStudySchema,
       responses: { 201: { description: 'Created', schema: studySchema } },
@@ -52,7 +52,7 @@ export function studiesRouter(deps: Deps, registry: OpenAPIRegistry) {
       method: 'patch',
       path: '/studies/:id',
       summary: 'Edit a study’s description, or archive it',
-      access: ['research_lead', 'coordinator'],
+      access: studyWriterRoles,
       tag,
       params: studyParamsSchema,
       body: updateStudySchema,

@@ -1,4 +1,4 @@
-import type { Role, RoleGrant } from '@evenhand/entities';
+import { districtWideRoles, studyReaderRoles, studyWriterRoles, type Role, type RoleGrant } from '@evenhand/entities';
 
 export interface Area {
   path: string;
@@ -13,11 +13,11 @@ export const areas = {
   myClasses: { path: '/my-classes', label: 'My classes', roles: ['teacher'] },
   mySchool: { path: '/my-school', label: 'My school', roles: ['principal'] },
   // The admin can read studies, but their work starts in Accounts.
-  studies: { path: '/studies', label: 'Studies', roles: ['coordinator', 'research_lead', 'reviewer', 'admin'], homeFor: ['coordinator', 'research_lead', 'reviewer'] },
+  studies: { path: '/studies', label: 'Studies', roles: districtWideRoles, homeFor: studyReaderRoles },
   accounts: { path: '/accounts', label: 'Accounts', roles: ['admin'] },
   audit: { path: '/audit', label: 'Audit', roles: ['admin', 'research_lead', 'reviewer'] },
   // Not in the navigation: a teacher opens a sheet from My classes, the others from a study's Score sheets.
-  scoreSheet: { path: '/score-sheets/:sheetId', label: 'Score sheet', roles: ['teacher', 'coordinator', 'research_lead'] },
+  scoreSheet: { path: '/score-sheets/:sheetId', label: 'Score sheet', roles: ['teacher', ...studyWriterRoles] },
 } satisfies Record<string, Area>;
 
 /** In navigation order; a person's home is the first area their roles open. */
@@ -47,14 +47,14 @@ export function homePathFor(grants: readonly RoleGrant[]): string | null {
  * study's navigation shows the same, so a tab page only needs its route in app/router.tsx.
  */
 export const studyTabs = {
-  overview: { path: 'overview', label: 'Overview', roles: ['admin', 'coordinator', 'research_lead', 'reviewer'] },
-  plan: { path: 'plan', label: 'Plan', roles: ['research_lead', 'coordinator', 'reviewer'] },
-  sites: { path: 'sites', label: 'Sites & classes', roles: ['coordinator', 'research_lead', 'reviewer'] },
-  draw: { path: 'draw', label: 'Draw', roles: ['coordinator', 'research_lead', 'reviewer'] },
-  scoreSheets: { path: 'score-sheets', label: 'Score sheets', roles: ['coordinator', 'research_lead'] },
+  overview: { path: 'overview', label: 'Overview', roles: districtWideRoles },
+  plan: { path: 'plan', label: 'Plan', roles: studyReaderRoles },
+  sites: { path: 'sites', label: 'Sites & classes', roles: studyReaderRoles },
+  draw: { path: 'draw', label: 'Draw', roles: studyReaderRoles },
+  scoreSheets: { path: 'score-sheets', label: 'Score sheets', roles: studyWriterRoles },
   checks: { path: 'checks', label: 'Checks', roles: ['research_lead', 'reviewer'] },
   comparisons: { path: 'comparisons', label: 'Comparisons', roles: ['research_lead', 'reviewer'] },
-  digests: { path: 'digests', label: 'Digests', roles: ['research_lead', 'coordinator'] },
+  digests: { path: 'digests', label: 'Digests', roles: studyWriterRoles },
   audit: { path: 'audit', label: 'Audit', roles: ['admin', 'research_lead', 'reviewer'] },
 } satisfies Record<string, Area>;
 

@@ -8,6 +8,23 @@ export type Role = z.infer<typeof roleSchema>;
 /** Roles whose grant belongs to one school: the grant names the site. */
 export const siteScopedRoles: readonly Role[] = ['teacher', 'principal'];
 
+// Role groups: the one definition that route access, the services' scope checks and the web navigation share.
+
+/** District-wide staff: they see every study and site of the district; teachers and principals only their own. */
+export const districtWideRoles = ['admin', 'coordinator', 'research_lead', 'reviewer'] as const satisfies readonly Role[];
+
+/** Who reads a whole study (its plan, sites and classes, draw); the admin's work is accounts, so not the admin. */
+export const studyReaderRoles = ['coordinator', 'research_lead', 'reviewer'] as const satisfies readonly Role[];
+
+/** Who writes a study: starts it, enrols its schools and classes, keeps its score sheets. */
+export const studyWriterRoles = ['coordinator', 'research_lead'] as const satisfies readonly Role[];
+
+/**
+ * Who sees every figure of a result, cells under `MIN_REPORTED_STUDENTS` students included. A principal sees
+ * their own school's result with small cells suppressed (`suppressCounts`).
+ */
+export const smallCellViewerRoles = ['coordinator', 'research_lead', 'reviewer'] as const satisfies readonly Role[];
+
 export const roleLabels: Record<Role, string> = {
   admin: 'District admin',
   coordinator: 'Coordinator',
