@@ -1,9 +1,8 @@
 import type { EntityManager } from 'typeorm';
-import { SUPPRESSED_WORDS, decidingTest, type Arm, type RunResults, type SiteFacts, type SiteResult } from '@evenhand/entities';
+import { SUPPRESSED_WORDS, decidingAnalysisNames, decidingTest, type Arm, type RunResults, type SiteFacts, type SiteResult } from '@evenhand/entities';
 import { AppError } from '../errors.js';
 import { countWords, formatAlpha, formatNumber, formatPStatement, formatSigned, suppressCounts } from './wording.js';
 
-const testNames = { welch: 'Welch’s t test', student: 'Student’s pooled t test' } as const;
 const sidedness: Record<string, string> = { 'two-sided': 'two-sided', greater: 'one-sided', less: 'one-sided' };
 const armOrder = (arm: Arm | null) => (arm === 'intervention' ? 0 : arm === 'comparison' ? 1 : 2);
 
@@ -16,7 +15,7 @@ interface LockedRunRow {
 }
 
 /** The plain-language result a principal reads, from the run's own numbers. */
-export function resultSentences(r: RunResults, favours: SiteResult['district']['favours'], met: boolean, clusteringP: number | null): string[] {
+export function resultSentences(r: RunResults, favours: SiteResult['district']['favours']): string[] {
   const g = r.effectSize.g;
   const where = `on ${r.measure.name} at ${r.wave.name}`;
   const same = formatNumber(g, 2) === formatNumber(0, 2);
@@ -36,11 +35,9 @@ export function resultSentences(r: RunResults, favours: SiteResult['district']['
       ? 'That is at least the 0.25 the published evidence standard counts as substantively important.'
       : 'That is below the 0.25 the published evidence standard counts as substantively important.'
   }`;
-  const p = r.primary;
-  const test = `${testNames[p.test]}, ${sidedness[p.alternative] ?? p.alternative}, at alpha ${formatAlpha(r.alpha)}`;
-  // When classrooms or schools were assigned, the clustering-corrected p decides (see decidingTest).
-  const decided = clusteringP === null ? formatPStatement(p.p) : `allowing for students being grouped in classrooms, ${formatPStatement(clusteringP)}`;
-  const verdict = `${met ? 'It meets' : 'It does not meet'} the test registered in the plan before the data were in (${test}): ${decided}. A p-value is not the size of the effect: read it with g and its interval.`;
+  const d = decidingTest(r);
+  const test = `${decidingAnalysisNames[d.analysis]}, ${sidedness[d.alternative] ?? d.alternative}, at alpha ${formatAlpha(r.alpha)}`;
+  const verdict = `${d.significant ? 'It meets' : 'It does not meet'} the test registered in the plan before the data were in (${test}): ${formatPStatement(d.p)}. A p-value is not the size of the effect: read it with g and its interval.`;
   return [finding, size, verdict];
 }
 
@@ -49,8 +46,7 @@ function siteResult(run: LockedRunRow, siteId: string): SiteResult {
   const g = r.effectSize.g;
   const same = formatNumber(g, 2) === formatNumber(0, 2);
   const favours: SiteResult['district']['favours'] = same ? 'neither' : (g > 0) === r.measure.higherIsBetter ? 'intervention' : 'comparison';
-  const met = decidingTest(r).significant;
-  const clusteringP = r.clustering?.p ?? null;
+  const deciding = decidingTest(r);
   const districtStudents = suppressCounts(r.descriptives.map((d) => d.students)).total;
   const own = r.sites.find((s) => s.siteId === siteId);
   let site: SiteResult['site'] = null;
@@ -80,16 +76,18 @@ function siteResult(run: LockedRunRow, siteId: string): SiteResult {
       improvementIndex: r.effectSize.improvementIndex,
       substantivelyImportant: r.effectSize.substantivelyImportant,
       favours,
-      p: r.primary.p,
+      analysis: deciding.analysis,
+      estimate: deciding.estimate,
+      p: deciding.p,
+      ci: deciding.ci,
+      confidence: deciding.confidence,
       alpha: r.alpha,
-      test: r.primary.test,
-      alternative: r.primary.alternative,
-      met,
-      clusteringP,
+      alternative: deciding.alternative,
+      met: deciding.significant,
       students: districtStudents,
       classrooms: r.descriptives.reduce((t, d) => t + d.classrooms, 0),
     },
-    sentences: resultSentences(r, favours, met, clusteringP),
+    sentences: resultSentences(r, favours),
     site,
   };
 }

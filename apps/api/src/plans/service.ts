@@ -1,6 +1,6 @@
 import type { DataSource, EntityManager } from 'typeorm';
 import type { Amendment, Plan, PlanContent, PlanFieldChange, PlanVersion, SessionUser } from '@evenhand/entities';
-import { MeasureEntity, PlanDraftEntity, PlanVersionEntity, UserEntity, WaveEntity } from '@evenhand/entities/orm';
+import { MeasureEntity, PlanDraftEntity, PlanVersionEntity, StudyEntity, UserEntity, WaveEntity } from '@evenhand/entities/orm';
 import { recordAudit } from '../audit/service.js';
 import { AppError } from '../errors.js';
 import { canonicalSha256 } from '../lib/canonical.js';
@@ -24,6 +24,9 @@ async function assertReferencesBelong(manager: EntityManager, studyId: string, p
   else if (wave.kind === 'baseline') issues.push({ path: 'primaryWaveId', message: 'The primary outcome is measured after baseline' });
   if (plan.covariate === 'baseline' && !(await manager.existsBy(WaveEntity, { studyId, kind: 'baseline' }))) {
     issues.push({ path: 'covariate', message: 'Add a baseline wave to adjust for the baseline score' });
+  }
+  if (plan.primaryTest === 'two-level' && (await manager.findOneBy(StudyEntity, { id: studyId }))?.unitOfAssignment === 'student') {
+    issues.push({ path: 'primaryTest', message: 'The two-level model nests students in assigned classrooms or schools; this study assigns students, so use a t test' });
   }
   if (issues.length) throw AppError.validation('The plan refers to things that are not part of this study', issues);
 }

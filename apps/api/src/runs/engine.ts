@@ -14,12 +14,15 @@ import {
   randomEffects,
   shapiroWilk,
   studentTFromSummary,
+  tInterval,
+  twoLevelFromMoments,
   varianceRatioFFromSummary,
   welchT,
   welchTFromSummary,
   type Summary,
 } from '@evenhand/stats';
-import { arms, type Arm, type PlanContent, type RunResults } from '@evenhand/entities';
+import { arms, type Arm, type Deciding, type PlanContent, type PrimaryTest, type RunResults } from '@evenhand/entities';
+import { ClusteredAnalysisError, assignedUnits, clusterRobust, siteEstimatesFromComponents, twoLevel, type AssignedUnits, type ModelEffect } from './clustered.js';
 import { NORMALITY_SAMPLE, type ClassroomAggregate, type Gathered } from './gather.js';
 
 export interface AnalysisContext {
@@ -28,7 +31,7 @@ export interface AnalysisContext {
   planVersion: number | null;
   unitOfAssignment: 'student' | 'classroom' | 'school';
   quasiExperimental: boolean;
-  comparison: { unitOfAnalysis: 'student' | 'classroom' | 'school'; primaryTest: 'welch' | 'student'; covariate: 'baseline' | 'none' };
+  comparison: { unitOfAnalysis: 'student' | 'classroom' | 'school'; primaryTest: PrimaryTest; covariate: 'baseline' | 'none' };
   measure: { id: string; name: string; kind: 'achievement' | 'behaviour'; higherIsBetter: boolean };
   wave: { id: string; name: string };
 }
@@ -73,9 +76,38 @@ export function analyse(ctx: AnalysisContext, data: Gathered): RunResults {
   const meansOf = (arm: Arm) => perClass(arm).map((c) => c.mean as number);
   const classroomMeans = meansOf('intervention').length >= 2 && meansOf('comparison').length >= 2 ? welchT(meansOf('intervention'), meansOf('comparison'), ci95) : null;
 
+  // The analyses that match a cluster-assigned design: the two-level model and, as a sensitivity check, CR2 errors.
+  const notComputed: { check: string; why: string }[] = [];
+  let assigned: AssignedUnits | null = null;
+  let model: RunResults['twoLevel'] = null;
+  let modelEffect: ModelEffect | null = null;
+  let robust: RunResults['sensitivity']['clusterRobust'] = null;
+  const twoLevelRegistered = ctx.comparison.primaryTest === 'two-level';
+  if (twoLevelRegistered && ctx.unitOfAssignment === 'student') {
+    throw new AnalysisError('The two-level model nests students in the assigned classrooms or schools, but this study assigned students one by one');
+  }
+  if (ctx.unitOfAssignment !== 'student') {
+    assigned = assignedUnits(data.classrooms, ctx.unitOfAssignment, ctx.comparison.covariate === 'baseline' && data.pairs !== null);
+    notes.push(...assigned.notes);
+    try {
+      ({ model, effect: modelEffect } = twoLevel(assigned, opts));
+    } catch (e) {
+      if (!(e instanceof ClusteredAnalysisError)) throw e;
+      if (twoLevelRegistered) throw new AnalysisError(e.message);
+      notComputed.push({ check: 'two-level model', why: e.message });
+    }
+    const r = clusterRobust(assigned, ci95);
+    if (typeof r === 'string') notComputed.push({ check: 'cluster-robust regression', why: r });
+    else robust = r;
+    if (model?.boundary) notes.push('The two-level model estimated no variation between units beyond what their students bring (τ² = 0); its degrees of freedom then rest on the students alone.');
+  }
+
   // The primary test as registered, at the registered unit of analysis.
   let primaryBase;
-  if (ctx.comparison.unitOfAnalysis === 'student') {
+  if (twoLevelRegistered) {
+    const m = model!;
+    primaryBase = { t: m.t, df: m.df, p: m.p, meanDifference: m.estimate, se: m.se, ci: m.ci, confidence: m.confidence, alternative: m.alternative };
+  } else if (ctx.comparison.unitOfAnalysis === 'student') {
     primaryBase = (ctx.comparison.primaryTest === 'student' ? studentTFromSummary : welchTFromSummary)(toGroup(a), toGroup(b), opts);
   } else {
     if (!classroomMeans) throw new AnalysisError('A classroom-level analysis needs at least 2 classrooms with scores in each arm');
@@ -109,6 +141,9 @@ export function analyse(ctx: AnalysisContext, data: Gathered): RunResults {
     // It decides the result, so it follows the plan's sidedness: by the t distribution's symmetry the one-sided p is
     // half the two-sided one in the registered direction, and one minus that half against it.
     const p = plan.alternative === 'two-sided' ? adj.p : (plan.alternative === 'greater') === adj.tAdjusted > 0 ? adj.p / 2 : 1 - adj.p / 2;
+    // The student-level interval widened by the same factor as t: the corrected t is the difference over this SE.
+    const diff = primary.meanDifference;
+    const ci: [number, number] | undefined = adj.tAdjusted !== 0 ? tInterval(diff, Math.abs(diff / adj.tAdjusted), adj.df, opts.confidence, plan.alternative) : undefined;
     clustering = {
       icc,
       iccSource,
@@ -119,6 +154,7 @@ export function analyse(ctx: AnalysisContext, data: Gathered): RunResults {
       averageClusterSize: adj.averageClusterSize,
       designEffect: adj.designEffect,
       observedIcc,
+      ...(ci ? { ci } : {}),
     };
   }
 
@@ -158,16 +194,10 @@ export function analyse(ctx: AnalysisContext, data: Gathered): RunResults {
   }
   if (data.classrooms.some((c) => c.fromSummary)) notes.push('Some classrooms reported only a summary (n, mean, SD); they count in the t tests and effect sizes but not in rank, median, normality or baseline-adjusted checks.');
 
-  // Per-site estimates and their random-effects pooled estimate.
-  const siteIds = [...new Set(data.classrooms.map((c) => c.siteId))];
-  const siteRows = siteIds.flatMap((siteId) => {
-    const rows = data.classrooms.filter((c) => c.siteId === siteId);
-    const x = armSummary(rows, 'intervention');
-    const y = armSummary(rows, 'comparison');
-    if (!x || !y || x.n < 2 || y.n < 2 || !(x.m2 + y.m2 > 0)) return [];
-    const e = hedgesGFromSummary(toGroup(x), toGroup(y));
-    return [{ siteId, siteName: rows[0].siteName, n1: x.n, n2: y.n, mean1: x.mean, mean2: y.mean, g: e.g, se: e.se, ci: e.ci as [number, number], weight: 0 }];
-  });
+  // Per-site estimates and their random-effects pooled estimate; in a cluster-assigned study each site's classrooms
+  // are weighted by the two-level model's variance components, so a site's estimate respects the clustering.
+  const components = assigned && ctx.unitOfAssignment === 'classroom' ? unadjustedComponents(data.classrooms) : null;
+  const siteRows = components ? siteEstimatesFromComponents(data.classrooms, components, pooledSd(a, b), a.n + b.n) : studentSiteEstimates(data.classrooms);
   let pooled: RunResults['pooled'] = null;
   if (siteRows.length >= 2) {
     const re = randomEffects(siteRows.map((s) => ({ y: s.g, v: s.se * s.se })));
@@ -196,6 +226,9 @@ export function analyse(ctx: AnalysisContext, data: Gathered): RunResults {
   }
   cautions.push('Student records are protected by law and district policy; share these results as your district’s data-privacy rules and research review board allow.');
 
+  const deciding: Deciding = decidingOf(primary, clustering, twoLevelRegistered, ctx.comparison.unitOfAnalysis);
+  const shownEffect = modelEffect && twoLevelRegistered ? modelEffect : { g: g.g, ci: g.ci as [number, number], se: g.se };
+
   return {
     engineVersion: ENGINE_VERSION,
     planVersion: ctx.planVersion,
@@ -216,7 +249,9 @@ export function analyse(ctx: AnalysisContext, data: Gathered): RunResults {
       };
     }),
     primary,
-    effectSize: { g: g.g, ci: g.ci as [number, number], se: g.se, improvementIndex: improvementIndex(g.g), substantivelyImportant: isSubstantivelyImportant(g.g) },
+    deciding,
+    twoLevel: model,
+    effectSize: { ...shownEffect, improvementIndex: improvementIndex(shownEffect.g), substantivelyImportant: isSubstantivelyImportant(shownEffect.g) },
     clustering,
     sensitivity: {
       student,
@@ -224,6 +259,9 @@ export function analyse(ctx: AnalysisContext, data: Gathered): RunResults {
       mannWhitney: mw,
       ancova: adjusted,
       classroomMeans: classroomMeans ? { ...classroomMeans, classrooms1: meansOf('intervention').length, classrooms2: meansOf('comparison').length } : null,
+      clusterRobust: robust,
+      studentLevelEffect: shownEffect === modelEffect ? { g: g.g, ci: g.ci as [number, number], se: g.se } : null,
+      notComputed,
     },
     diagnostics: { leveneMean, leveneMedian, varianceRatio: varianceRatioFFromSummary(toGroup(a), toGroup(b)), shapiroWilk: shapiro, notes },
     sites: siteRows,
@@ -231,4 +269,40 @@ export function analyse(ctx: AnalysisContext, data: Gathered): RunResults {
     flow,
     cautions,
   };
+}
+
+const pooledSd = (a: Summary, b: Summary) => Math.sqrt((a.m2 + b.m2) / (a.n + b.n - 2));
+
+/** The deciding analysis: the registered two-level model; else the clustering-corrected p when clusters were assigned but students compared; else the registered test. */
+function decidingOf(primary: RunResults['primary'], clustering: RunResults['clustering'], twoLevelRegistered: boolean, unitOfAnalysis: 'student' | 'classroom' | 'school'): Deciding {
+  const base = { estimate: primary.meanDifference, confidence: primary.confidence, alternative: primary.alternative };
+  if (!twoLevelRegistered && clustering) {
+    return { ...base, analysis: 'clustering-corrected', p: clustering.p, df: clustering.df, ci: clustering.ci ?? null, significant: clustering.significant };
+  }
+  const analysis = twoLevelRegistered ? 'two-level' : unitOfAnalysis === 'student' ? primary.test : 'classroom-means';
+  return { ...base, analysis, p: primary.p, df: primary.df, ci: primary.ci, significant: primary.significant };
+}
+
+/** Variance components of the outcome between and within classrooms, without pretest or blocks: the per-site weights. */
+function unadjustedComponents(classrooms: ClassroomAggregate[]): { tau2: number; sigma2: number } | null {
+  const units = assignedUnits(classrooms, 'classroom', false).units.map(({ block: _block, ...u }) => u);
+  try {
+    const m = twoLevelFromMoments(units);
+    return { tau2: m.tau2, sigma2: m.sigma2 };
+  } catch {
+    return null;
+  }
+}
+
+/** Students assigned one by one: each site's Hedges' g over its students. */
+function studentSiteEstimates(classrooms: ClassroomAggregate[]): RunResults['sites'] {
+  const siteIds = [...new Set(classrooms.map((c) => c.siteId))];
+  return siteIds.flatMap((siteId) => {
+    const rows = classrooms.filter((c) => c.siteId === siteId);
+    const x = armSummary(rows, 'intervention');
+    const y = armSummary(rows, 'comparison');
+    if (!x || !y || x.n < 2 || y.n < 2 || !(x.m2 + y.m2 > 0)) return [];
+    const e = hedgesGFromSummary(toGroup(x), toGroup(y));
+    return [{ siteId, siteName: rows[0].siteName, n1: x.n, n2: y.n, mean1: x.mean, mean2: y.mean, g: e.g, se: e.se, ci: e.ci as [number, number], weight: 0 }];
+  });
 }

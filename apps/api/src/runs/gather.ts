@@ -22,6 +22,8 @@ export interface ClassroomAggregate {
   mean: number | null;
   m2: number | null;
   fromSummary: boolean;
+  /** Students with both an outcome and a pretest: their count, means and within-classroom centred sums (null without a baseline). */
+  pairs: PairedSummary | null;
 }
 
 /** What the value-based statistics need from one arm, aggregated in SQL over the count of each distinct score. */
@@ -160,7 +162,7 @@ export async function gather(manager: EntityManager, scope: Scope): Promise<Gath
         .filter((s) => s.arm === arm)
         .map((s) => byClassroom.get(s.classroom_id)!)
         .filter((c) => c.pairs > 0)
-        .map((c) => ({ n: c.pairs, meanY: c.pair_mean_y!, meanX: c.pair_mean_x!, syy: c.pair_syy!, sxx: c.pair_sxx!, sxy: c.pair_sxy! }));
+        .map(pairedOf);
       pairs[arm] = parts.length ? mergePairedSummaries(parts) : null;
     }
   }
@@ -180,6 +182,7 @@ export async function gather(manager: EntityManager, scope: Scope): Promise<Gath
         mean: fromSummary ? c.summary_mean : (rows?.mean ?? null),
         m2: fromSummary ? c.summary_m2 : (rows?.m2 ?? null),
         fromSummary,
+        pairs: !fromSummary && rows && rows.pairs > 0 ? pairedOf(rows) : null,
       };
     }),
     values,
@@ -191,6 +194,8 @@ export async function gather(manager: EntityManager, scope: Scope): Promise<Gath
 }
 
 const QUARTILES = [0, 0.25, 0.5, 0.75, 1];
+
+const pairedOf = (c: ClassroomRow): PairedSummary => ({ n: c.pairs, meanY: c.pair_mean_y!, meanX: c.pair_mean_x!, syy: c.pair_syy!, sxx: c.pair_sxx!, sxy: c.pair_sxy! });
 
 interface SheetRow {
   id: string;

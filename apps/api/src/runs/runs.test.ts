@@ -146,7 +146,7 @@ describe('comparison runs', () => {
     }
     expect(run.dataSha256).toMatch(/^[0-9a-f]{64}$/);
     // Classrooms were assigned and students compared: the clustering-corrected p decides, in the multiplicity step too.
-    expect(decidingTest(r)).toEqual({ basis: 'clustering', p: r.clustering.p, significant: r.clustering.p < r.alpha });
+    expect(decidingTest(r)).toMatchObject({ analysis: 'clustering-corrected', basis: 'clustering', p: r.clustering.p, significant: r.clustering.p < r.alpha });
     expect(run.multiplicity).toMatchObject({ comparisons: 1, adjustedP: r.clustering.p });
   });
 

@@ -290,17 +290,18 @@ async function loadRun(manager: EntityManager, user: SessionUser, runId: string)
 
 /**
  * Benjamini–Hochberg across the study's confirmatory comparisons, using each one's locked (else latest finished) run
- * and the p that decides it (clustering-corrected when clusters were assigned).
+ * and the p of its deciding analysis.
  */
 async function multiplicityFor(manager: EntityManager, run: RunRow): Promise<Run['multiplicity']> {
   if (run.kind !== 'confirmatory' || !run.results) return null;
-  const rows: { id: string; p: number }[] = await manager.query(
-    `SELECT DISTINCT ON (r.comparison_id) r.id, coalesce(r.results->'clustering'->>'p', r.results->'primary'->>'p')::float8 AS p
+  const latest: { id: string; primary: RunResults['primary']; clustering: RunResults['clustering']; deciding: RunResults['deciding'] | null }[] = await manager.query(
+    `SELECT DISTINCT ON (r.comparison_id) r.id, r.results->'primary' AS primary, r.results->'clustering' AS clustering, r.results->'deciding' AS deciding
        FROM runs r JOIN comparisons k ON k.id = r.comparison_id
       WHERE r.study_id = $1 AND r.kind = 'confirmatory' AND r.state IN ('finished', 'locked') AND k.prespecified
       ORDER BY r.comparison_id, (r.state = 'locked') DESC, r.finished_at DESC`,
     [run.study_id],
   );
+  const rows = latest.map((r) => ({ id: r.id, p: decidingTest({ primary: r.primary, clustering: r.clustering, deciding: r.deciding ?? undefined }).p }));
   if (!rows.some((r) => r.id === run.id)) rows.push({ id: run.id, p: decidingTest(run.results).p });
   const bh = benjaminiHochberg(rows.map((r) => r.p), run.results.alpha);
   const i = rows.findIndex((r) => r.id === run.id);
@@ -343,13 +344,13 @@ export async function lockRun(deps: Pick<Deps, 'db' | 'config' | 'jobs'>, user: 
     if (run.state !== 'finished') throw AppError.conflict(`Only a finished run can be locked; this one is ${run.state}`);
     const [other] = await manager.query(`SELECT id FROM runs WHERE comparison_id = $1 AND state = 'locked'`, [run.comparison_id]);
     if (other) throw AppError.conflict('This comparison already has a locked result; a re-analysis stays unlocked');
-    await manager.query(`UPDATE score_sheets SET locked = true WHERE id = ANY($1) AND NOT locked`, [run.input_sheet_ids]);
     // A result computed on arms that have since changed by hand would be locked on an allocation that no longer holds.
     const [moved] = await manager.query(
       `SELECT c.name FROM draw_reassignments x JOIN draws d ON d.id = x.draw_id JOIN classrooms c ON c.id = x.classroom_id WHERE d.study_id = $1 AND x.at >= $2 ORDER BY x.at LIMIT 1`,
       [run.study_id, run.started_at],
     );
     if (moved) throw AppError.conflict(`Classroom ${moved.name} was reassigned after this run read the data; run the comparison again and lock that run`);
+    await manager.query(`UPDATE score_sheets SET locked = true WHERE id = ANY($1) AND NOT locked`, [run.input_sheet_ids]);
     await manager.query(`UPDATE runs SET state = 'locked', locked_at = now(), locked_by = $2 WHERE id = $1`, [runId, user.id]);
     await recordAudit(manager, {
       actorId: user.id,
@@ -381,6 +382,7 @@ This file holds everything needed to recompute a locked comparison:
 - summaries: one line per classroom that reported only a summary of the outcome,
   "summary,classroom_id,arm,n,mean,sd", in byte order. They count in the t tests and effect sizes, not in the
   rank, median, normality or baseline-adjusted checks;
+- classrooms: each classroom's school (site), for the two-level model's blocks or, when schools were assigned, its units;
 - results: the numbers Evenhand computed, with the statistics engine's version.
 
 To check the data: for each classroom (its rows are consecutive), take "student_code,outcome" of the rows with an
@@ -392,7 +394,14 @@ To check the numbers: per arm, merge the analysed rows' n, mean and sum of squar
 (n, mean, (n − 1)·sd²), and recompute with the same engine version of @evenhand/stats
 (for example welchTFromSummary on each arm's n, mean and SD, hedgesG, clusterAdjusted with the plan's ICC),
 or with any statistics library: Welch's t with the Welch–Satterthwaite degrees of freedom, Hedges' g with the
-exact small-sample correction, and the clustering correction of Hedges (2007).`;
+exact small-sample correction, and the clustering correction of Hedges (2007).
+When the comparison registered the two-level model (results.twoLevel): take the rows with an outcome (and, when the
+comparison adjusts for the pretest, a pretest too) and fit y = intercept + arm + block indicators + pretest + a random
+intercept per unit, by restricted maximum likelihood, with Satterthwaite degrees of freedom for the arm; the unit is
+the classroom (or its school when schools were assigned) and the blocks are the classrooms' schools when classrooms
+were assigned in two or more schools. With @evenhand/stats: twoLevelFromRows({ y, arm, cluster, block, covariates:
+[pretest] }); the cluster-robust check is clusterRobustFromRows with the same fields (CR2 errors, Pustejovsky–Tipton
+degrees of freedom). Any mixed-model library fitting the same model gives the same numbers.`;
 
 export async function runBundle(db: DataSource, user: SessionUser, runId: string) {
   const run = await loadRun(db.manager, user, runId);
@@ -415,6 +424,11 @@ export async function runBundle(db: DataSource, user: SessionUser, runId: string
   const arms = run.classroom_arms ?? {};
   const lines: { line: string }[] = await db.query(bundleRowsSql, [rowSheets.map((s) => s.id), rowSheets.map((s) => baselineOf.get(s.classroom_id) ?? null), arms]);
   const summaries: { line: string }[] = await db.query(`SELECT line FROM (${canonicalSummariesSql}) summaries ORDER BY line COLLATE "C"`, [outcomes.map((s) => s.id), arms]);
+  // Each classroom's school: the two-level model's blocks (classroom assignment) or units (school assignment).
+  const schools: { classroom_id: string; site_id: string }[] = await db.query(
+    `SELECT c.id AS classroom_id, c.site_id FROM unnest($1::uuid[]) AS ids(id) JOIN classrooms c ON c.id = ids.id ORDER BY c.id::text COLLATE "C"`,
+    [outcomes.map((s) => s.classroom_id)],
+  );
   return {
     readme: README,
     run: { id: run.id, kind: run.kind, state: run.state, lockedAt: run.locked_at, reason: run.reason },
@@ -425,6 +439,7 @@ export async function runBundle(db: DataSource, user: SessionUser, runId: string
     draw: draw ? { ...draw, reassignments } : null,
     rows: lines.map((l) => l.line),
     summaries: summaries.map((l) => l.line),
+    classrooms: schools.map((c) => ({ classroomId: c.classroom_id, siteId: c.site_id })),
     results: run.results,
   };
 }

@@ -54,7 +54,7 @@ export async function seedDemoStudies(deps: Deps): Promise<boolean> {
     alpha: 0.05,
     alternative: 'two-sided' as const,
     alternativeJustification: '',
-    primaryTest: 'welch' as const,
+    primaryTest: 'two-level' as const,
     primaryTestReason: '',
     covariate: 'baseline' as const,
     unitOfAnalysis: 'student' as const,

@@ -1,7 +1,9 @@
-import { decidingTest, type RunResults } from '@evenhand/entities';
+import { decidingAnalysisNames, decidingTest, type DecidingTest, type RunResults } from '@evenhand/entities';
 import { formatAlpha, formatNumber, formatPStatement } from '@/lib/format';
 
+/** The registered primary test by its name in the trade. */
 export const testNames: Record<RunResults['primary']['test'], string> = {
+  'two-level': 'the two-level model',
   welch: 'Welch’s t test',
   student: 'Student’s pooled t test',
 };
@@ -22,6 +24,29 @@ export function confidenceLabel(confidence: number): string {
   return `${formatNumber(confidence * 100, confidence * 100 === Math.round(confidence * 100) ? 0 : 1)}%`;
 }
 
+/** What the two-level model allowed for, in words: the assigned units, the blocks and the pretest. */
+function modelWords(r: RunResults): string {
+  const m = r.twoLevel;
+  if (!m) return '';
+  const parts = [`students within the ${m.unit === 'school' ? 'schools' : 'classrooms'} that were assigned`];
+  if (m.blocks > 0) parts.push('the schools the draw was blocked by');
+  if (m.covariate === 'baseline') parts.push('each student’s pretest');
+  return parts.length === 1 ? parts[0] : `${parts.slice(0, -1).join(', ')} and ${parts[parts.length - 1]}`;
+}
+
+/** The deciding analysis's interval in words; an interval that ignores the clustering says so. */
+function intervalWords(d: DecidingTest, r: RunResults): string {
+  const level = confidenceLabel(d.confidence);
+  const ci = d.ci;
+  if (!ci) {
+    const p = r.primary;
+    return `${confidenceLabel(p.confidence)} interval for students assigned one by one: ${formatNumber(p.ci[0], 2)} to ${formatNumber(p.ci[1], 2)}; it ignores that students were grouped in classrooms, so it is too narrow`;
+  }
+  if (d.alternative === 'greater') return `${level} confidence bound: the difference is at least ${formatNumber(ci[0], 2)}`;
+  if (d.alternative === 'less') return `${level} confidence bound: the difference is at most ${formatNumber(ci[1], 2)}`;
+  return `${level} confidence interval for the difference: ${formatNumber(ci[0], 2)} to ${formatNumber(ci[1], 2)}`;
+}
+
 export interface Headline {
   /** What was found: direction, size in the measure's units and its interval. */
   finding: string;
@@ -37,27 +62,25 @@ export interface Headline {
 }
 
 /**
- * The plain-language headline of a run: the primary result as the plan registered it. `unit` says whether
- * students or classroom averages were compared (the comparison's unit of analysis).
+ * The plain-language headline of a run, from its deciding analysis: the registered two-level model or t test, or the
+ * clustering-corrected p of a t test over students in runs registered that way. Every screen, e-mail and export reads
+ * the same analysis (`decidingTest`).
  */
-export function resultHeadline(r: RunResults, unit: 'student' | 'classroom' | 'school' = 'student'): Headline {
-  const p = r.primary;
-  const diff = p.meanDifference;
+export function resultHeadline(r: RunResults): Headline {
+  const d = decidingTest(r);
+  const diff = d.estimate;
   const size = formatNumber(Math.abs(diff), 2);
-  const who = unit === 'student' ? 'students in the' : 'classrooms in the';
-  const what = unit === 'student' ? 'scored' : 'averaged';
-  const level = confidenceLabel(p.confidence);
+  const classroomMeans = d.analysis === 'classroom-means';
+  const who = classroomMeans ? 'classrooms in the' : 'students in the';
+  const what = classroomMeans ? 'averaged' : 'scored';
   const where = `on ${r.measure.name} at ${r.wave.name}`;
   const same = size === formatNumber(0, 2);
-
-  let interval: string;
-  if (p.alternative === 'greater') interval = `${level} confidence bound: the difference is at least ${formatNumber(p.ci[0], 2)}`;
-  else if (p.alternative === 'less') interval = `${level} confidence bound: the difference is at most ${formatNumber(p.ci[1], 2)}`;
-  else interval = `${level} confidence interval for the difference: ${formatNumber(p.ci[0], 2)} to ${formatNumber(p.ci[1], 2)}`;
+  const allowing = d.analysis === 'two-level' && r.twoLevel?.covariate === 'baseline' ? ', allowing for their pretest scores' : '';
+  const interval = intervalWords(d, r);
 
   const finding = same
-    ? `On average, ${who} intervention arm and ${who} comparison arm ${what} the same ${where} (${interval}).`
-    : `On average, ${who} intervention arm ${what} ${size} ${diff > 0 ? 'higher' : 'lower'} than ${who} comparison arm ${where} (${interval}).`;
+    ? `On average, ${who} intervention arm and ${who} comparison arm ${what} the same ${where}${allowing} (${interval}).`
+    : `On average, ${who} intervention arm ${what} ${size} ${diff > 0 ? 'higher' : 'lower'} than ${who} comparison arm ${where}${allowing} (${interval}).`;
 
   let favours: string | null = null;
   if (!same) {
@@ -66,27 +89,28 @@ export function resultHeadline(r: RunResults, unit: 'student' | 'classroom' | 's
     favours = `${better} scores are better on this measure, so the difference favours the ${arm} arm.`;
   }
 
-  const test = `${testNames[p.test]}, ${sidedness[p.alternative] ?? p.alternative}, at alpha ${formatAlpha(r.alpha)}`;
-  const pText = formatPStatement(p.p);
-  const decision = decidingTest(r);
+  const p = r.primary;
+  const test = `${testNames[p.test]}, ${sidedness[d.alternative] ?? d.alternative}, at alpha ${formatAlpha(r.alpha)}`;
+  const pText = formatPStatement(d.p);
   let verdict: string;
-  if (decision.basis === 'clustering') {
-    const corrected = `allowing for students being grouped in classrooms: clustering-corrected ${formatPStatement(decision.p)}, against ${pText} had each student been assigned on their own`;
-    verdict = `${decision.significant ? 'This meets' : 'This does not meet'} the pre-registered test (${test}) ${corrected}.`;
-  } else if (p.significant) {
+  if (d.basis === 'clustering') {
+    const corrected = `allowing for students being grouped in classrooms: clustering-corrected ${pText}, against ${formatPStatement(p.p)} had each student been assigned on their own`;
+    verdict = `${d.significant ? 'This meets' : 'This does not meet'} the pre-registered test (${test}) ${corrected}.`;
+  } else if (d.significant) {
     verdict = `This meets the pre-registered test (${test}): ${pText}.`;
   } else {
     const why =
-      p.alternative === 'greater'
+      d.alternative === 'greater'
         ? 'The data do not show the intervention arm scoring higher.'
-        : p.alternative === 'less'
+        : d.alternative === 'less'
           ? 'The data do not show the intervention arm scoring lower.'
           : 'The interval includes no difference at all.';
     verdict = `This does not meet the pre-registered test (${test}): ${pText}. ${why}`;
   }
 
+  // The clustering correction decides only runs registered with a t test over students; otherwise it is a sensitivity check.
   let clustering: string | null = null;
-  if (r.clustering) {
+  if (r.clustering && d.basis === 'clustering') {
     const c = r.clustering;
     const grouping = `Allowing for students being grouped in classrooms (ICC ${formatNumber(c.icc, 2)}, ${iccSourceWords[c.iccSource]})`;
     clustering = c.significant
@@ -94,9 +118,14 @@ export function resultHeadline(r: RunResults, unit: 'student' | 'classroom' | 's
       : `${grouping}, the difference is not statistically significant: ${formatPStatement(c.p)}.`;
   }
 
-  const decidedBy =
-    decision.basis === 'clustering'
-      ? `Decided by the clustering-corrected p-value (${formatPStatement(decision.p)}): whole classrooms or schools were assigned to the arms but students compared, so the student-level ${pText} overstates the evidence.`
-      : `Decided by the p-value of ${testNames[p.test]} as registered (${pText}).`;
-  return { finding, favours, verdict, met: decision.significant, decidedBy, clustering };
+  let decidedBy: string;
+  if (d.basis === 'clustering') {
+    decidedBy = `Decided by the clustering-corrected p-value (${pText}): whole classrooms or schools were assigned to the arms but students compared, so the student-level ${formatPStatement(p.p)} overstates the evidence.`;
+  } else if (d.analysis === 'two-level') {
+    decidedBy = `Decided by the two-level model as registered (${pText}), which allows for ${modelWords(r)}.`;
+  } else {
+    decidedBy = `Decided by the p-value of ${decidingAnalysisNames[d.analysis]} as registered (${pText}).`;
+  }
+  return { finding, favours, verdict, met: d.significant, decidedBy, clustering };
 }
+

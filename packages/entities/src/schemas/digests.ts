@@ -1,5 +1,6 @@
 import { z } from 'zod';
-import { idSchema, paginationQuerySchema, timeZoneSchema } from './common.js';
+import { decidingAnalyses } from './runs.js';
+import { idSchema, paginationQuerySchema, plainText, timeZoneSchema } from './common.js';
 import { armSchema, studyStatusSchema, unitOfAssignmentSchema, waveKindSchema } from './studies.js';
 
 /** Figures based on fewer students than this are never shown to principals (NCES 2011-603: 10 is the most common minimum). */
@@ -43,12 +44,15 @@ export const siteResultSchema = z.object({
     improvementIndex: z.number(),
     substantivelyImportant: z.boolean(),
     favours: z.enum(['intervention', 'comparison', 'neither']),
+    /** The deciding analysis's estimate (intervention − comparison, in the measure's units), p and interval. */
+    analysis: z.enum(decidingAnalyses),
+    estimate: z.number(),
     p: z.number(),
+    ci: z.tuple([z.number().nullable(), z.number().nullable()]).nullable(),
+    confidence: z.number(),
     alpha: z.number(),
-    test: z.enum(['welch', 'student']),
     alternative: z.string(),
     met: z.boolean(),
-    clusteringP: z.number().nullable(),
     students: reportedCountSchema,
     classrooms: z.number().int(),
   }),
@@ -170,14 +174,14 @@ export type DigestSchedule = z.infer<typeof digestScheduleSchema>;
 
 export const defaultDigestSchedule: DigestSchedule = { weeklyEnabled: true, weekday: 1, hour: 7, timezone: 'UTC' };
 
-export const digestPreferenceQuerySchema = z.object({ token: z.string().min(20).max(200) });
+export const digestPreferenceQuerySchema = z.object({ token: plainText().min(20).max(200) });
 
 export const digestPreferenceSchema = z
   .object({ name: z.string(), frequency: digestFrequencySchema })
   .meta({ id: 'DigestPreference' });
 export type DigestPreference = z.infer<typeof digestPreferenceSchema>;
 
-export const updateDigestPreferenceSchema = z.object({ token: z.string().min(20).max(200), frequency: digestFrequencySchema });
+export const updateDigestPreferenceSchema = z.object({ token: plainText().min(20).max(200), frequency: digestFrequencySchema });
 export type UpdateDigestPreference = z.infer<typeof updateDigestPreferenceSchema>;
 
 export const digestFrequencyLabels: Record<DigestFrequency, string> = {

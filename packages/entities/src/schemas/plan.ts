@@ -1,9 +1,14 @@
 import { z } from 'zod';
-import { idSchema } from './common.js';
+import { idSchema, plainText } from './common.js';
 import { unitOfAssignmentSchema } from './studies.js';
 
 export const alternatives = ['two-sided', 'greater', 'less'] as const;
-export const primaryTests = ['welch', 'student'] as const;
+/** The registered primary test: Welch's or Student's t over students, or the two-level model for cluster-assigned studies. */
+export const primaryTests = ['welch', 'student', 'two-level'] as const;
+export type PrimaryTest = (typeof primaryTests)[number];
+
+/** What a new plan registers unless the research lead chooses otherwise: the analysis that matches the assignment. */
+export const defaultPrimaryTest = (unitOfAssignment: 'student' | 'classroom' | 'school'): PrimaryTest => (unitOfAssignment === 'student' ? 'welch' : 'two-level');
 
 /**
  * The pre-registration. Sealing freezes it; after that it changes only by amendment.
@@ -13,14 +18,14 @@ export const planContentSchema = z
   .object({
     primaryMeasureId: idSchema,
     primaryWaveId: idSchema,
-    hypothesis: z.string().trim().min(10, 'State the hypothesis in a sentence or more').max(4000),
+    hypothesis: plainText().trim().min(10, 'State the hypothesis in a sentence or more').max(4000),
     alpha: z.number().gt(0).max(0.2, 'Alpha above .20 is not a test anyone will accept').default(0.05),
     alternative: z.enum(alternatives).default('two-sided'),
     /** Required when the test is one-sided. */
-    alternativeJustification: z.string().trim().max(4000).default(''),
+    alternativeJustification: plainText().trim().max(4000).default(''),
     primaryTest: z.enum(primaryTests).default('welch'),
     /** Required when Student's pooled test is chosen over Welch's. */
-    primaryTestReason: z.string().trim().max(4000).default(''),
+    primaryTestReason: plainText().trim().max(4000).default(''),
     covariate: z.enum(['baseline', 'none']).default('baseline'),
     unitOfAnalysis: unitOfAssignmentSchema.default('student'),
     /** Where the ICC for the clustering correction comes from. */
@@ -53,7 +58,7 @@ export type PlanContent = z.infer<typeof planContentSchema>;
 export type PlanContentInput = z.input<typeof planContentSchema>;
 
 export const amendmentSchema = z.object({
-  reason: z.string().trim().min(10, 'Explain the amendment in a sentence or more').max(4000),
+  reason: plainText().trim().min(10, 'Explain the amendment in a sentence or more').max(4000),
   plan: planContentSchema,
 });
 export type Amendment = z.infer<typeof amendmentSchema>;

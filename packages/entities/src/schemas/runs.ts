@@ -1,5 +1,6 @@
 import { z } from 'zod';
-import { idSchema, timeZoneSchema } from './common.js';
+import { idSchema, plainText, timeZoneSchema } from './common.js';
+import { primaryTests } from './plan.js';
 import { armSchema } from './studies.js';
 
 /** A cron expression (minute hour day month weekday) for automatic monitoring runs while the wave is open. */
@@ -13,9 +14,9 @@ const scheduleCronSchema = z
 export const createComparisonSchema = z.object({
   measureId: idSchema,
   waveId: idSchema,
-  label: z.string().trim().min(3).max(200).optional(),
+  label: plainText().trim().min(3).max(200).optional(),
   unitOfAnalysis: z.enum(['student', 'classroom', 'school']).default('student'),
-  primaryTest: z.enum(['welch', 'student']).default('welch'),
+  primaryTest: z.enum(primaryTests).default('welch'),
   covariate: z.enum(['baseline', 'none']).default('baseline'),
   scheduleCron: scheduleCronSchema,
   /** The time zone the cron's hours are read in. */
@@ -36,7 +37,7 @@ export const runStates = ['queued', 'running', 'finished', 'failed', 'locked'] a
 export const queueRunSchema = z.object({
   kind: z.enum(runKinds),
   /** Required when the comparison already has a locked run: why the data are analysed again. */
-  reason: z.string().trim().max(4000).optional(),
+  reason: plainText().trim().max(4000).optional(),
 });
 export type QueueRun = z.infer<typeof queueRunSchema>;
 
@@ -82,6 +83,66 @@ export const siteEstimateSchema = z.object({
   weight: z.number(),
 });
 
+const estimateWithInterval = z.object({
+  /** Intervention minus comparison, in the measure's units (adjusted for the pretest and blocks when the model has them). */
+  estimate: z.number(),
+  se: z.number(),
+  t: z.number(),
+  df: z.number(),
+  p: z.number(),
+  ci: openInterval,
+  confidence: z.number(),
+  alternative: z.string(),
+});
+const unitsPerArm = z.object({ intervention: z.number().int(), comparison: z.number().int() });
+
+/** The two-level model: students nested in the assigned units (random intercept), with the draw's blocks and the pretest. */
+export const twoLevelResultSchema = estimateWithInterval.extend({
+  unit: z.enum(['classroom', 'school']),
+  units: unitsPerArm,
+  students: z.number().int(),
+  blocks: z.number().int(),
+  covariate: z.enum(['baseline', 'none']),
+  tau2: z.number(),
+  sigma2: z.number(),
+  icc: z.number(),
+  remlLogLik: z.number(),
+  /** τ² estimated at 0: the units varied no more than their students would by chance. */
+  boundary: z.boolean(),
+  /** Adjusted difference over the unadjusted pooled within-arm SD, with the small-sample correction. */
+  g: z.number(),
+});
+export type TwoLevelResult = z.infer<typeof twoLevelResultSchema>;
+
+/** The same regression by least squares with CR2 cluster-robust errors and small-sample df: a sensitivity check. */
+export const clusterRobustResultSchema = estimateWithInterval.extend({ units: unitsPerArm, students: z.number().int() });
+
+export const decidingAnalyses = ['two-level', 'welch', 'student', 'clustering-corrected', 'classroom-means'] as const;
+export type DecidingAnalysis = (typeof decidingAnalyses)[number];
+
+/** How every screen, e-mail and export names the deciding analysis. */
+export const decidingAnalysisNames: Record<DecidingAnalysis, string> = {
+  'two-level': 'the two-level model (students within the assigned units, with random unit intercepts)',
+  welch: 'Welch’s t test',
+  student: 'Student’s pooled t test',
+  'clustering-corrected': 'the t test over students with the clustering correction',
+  'classroom-means': 'Welch’s t test on classroom averages',
+};
+
+/** The analysis whose p, interval and verdict every screen, e-mail and export shows. */
+export const decidingSchema = z.object({
+  analysis: z.enum(decidingAnalyses),
+  estimate: z.number(),
+  p: z.number(),
+  df: z.number(),
+  /** Null when the deciding analysis gives no interval (a clustering-corrected p of a run made before it gave one). */
+  ci: openInterval.nullable(),
+  confidence: z.number(),
+  alternative: z.string(),
+  significant: z.boolean(),
+});
+export type Deciding = z.infer<typeof decidingSchema>;
+
 export const runResultsSchema = z
   .object({
     engineVersion: z.string(),
@@ -90,7 +151,11 @@ export const runResultsSchema = z
     wave: z.object({ id: idSchema, name: z.string() }),
     alpha: z.number(),
     descriptives: z.array(armDescriptivesSchema),
-    primary: tTest.extend({ test: z.enum(['welch', 'student']), significant: z.boolean() }),
+    /** The registered primary test; for the two-level model, meanDifference is the model's adjusted estimate. */
+    primary: tTest.extend({ test: z.enum(primaryTests), significant: z.boolean() }),
+    /** Absent in runs made before the engine recorded it; read it through `decidingTest`. */
+    deciding: decidingSchema.optional(),
+    twoLevel: twoLevelResultSchema.nullable().optional(),
     effectSize: z.object({
       g: z.number(),
       ci: z.tuple([z.number(), z.number()]),
@@ -109,6 +174,8 @@ export const runResultsSchema = z
         averageClusterSize: z.number(),
         designEffect: z.number(),
         observedIcc: z.number().nullable(),
+        /** The student-level interval widened by the same correction; absent in older runs. */
+        ci: openInterval.optional(),
       })
       .nullable(),
     sensitivity: z.object({
@@ -119,6 +186,11 @@ export const runResultsSchema = z
         .object({ adjustedDifference: z.number(), se: z.number(), t: z.number(), df: z.number(), p: z.number(), ci: openInterval, g: z.number(), n: z.number().int() })
         .nullable(),
       classroomMeans: tTest.extend({ classrooms1: z.number().int(), classrooms2: z.number().int() }).nullable(),
+      clusterRobust: clusterRobustResultSchema.nullable().optional(),
+      /** Hedges' g over students, when the primary effect size is the two-level model's adjusted g. */
+      studentLevelEffect: z.object({ g: z.number(), ci: z.tuple([z.number(), z.number()]), se: z.number() }).nullable().optional(),
+      /** Checks that could not be computed for these data, with why. */
+      notComputed: z.array(z.object({ check: z.string(), why: z.string() })).optional(),
     }),
     diagnostics: z.object({
       leveneMean: z.object({ statistic: z.number(), df1: z.number(), df2: z.number(), p: z.number() }).nullable(),
@@ -174,7 +246,7 @@ export const comparisonSchema = z
     waveName: z.string(),
     label: z.string(),
     unitOfAnalysis: z.enum(['student', 'classroom', 'school']),
-    primaryTest: z.enum(['welch', 'student']),
+    primaryTest: z.enum(primaryTests),
     covariate: z.enum(['baseline', 'none']),
     prespecified: z.boolean(),
     isPrimary: z.boolean(),
@@ -190,18 +262,26 @@ export const comparisonSchema = z
   .meta({ id: 'Comparison' });
 export type Comparison = z.infer<typeof comparisonSchema>;
 
-export interface DecidingTest {
-  /** `clustering` when classrooms or schools were assigned but students compared; else the registered primary test. */
-  basis: 'clustering' | 'primary';
-  p: number;
-  significant: boolean;
+export interface DecidingTest extends Deciding {
+  /** Which result decided: the registered two-level model or t test, or the clustering-corrected p of a t test over students. */
+  basis: 'primary' | 'clustering';
 }
 
 /**
- * Which result decides whether a run meets the pre-registered test. When clusters were assigned but students
- * analysed, the plain student-level t test overstates the evidence, so the clustering-corrected p decides.
+ * The deciding analysis of a run: the one whose p, interval and verdict every screen, e-mail and export shows. New
+ * runs store it; for runs made before, it is derived as they decided then — the clustering-corrected p when clusters
+ * were assigned but students compared (its interval only when the run recorded one), else the registered test.
  */
-export function decidingTest(r: Pick<RunResults, 'primary' | 'clustering'>): DecidingTest {
-  if (r.clustering) return { basis: 'clustering', p: r.clustering.p, significant: r.clustering.significant };
-  return { basis: 'primary', p: r.primary.p, significant: r.primary.significant };
+export function decidingTest(r: Pick<RunResults, 'primary' | 'clustering' | 'deciding'>): DecidingTest {
+  const d: Deciding = r.deciding ?? derivedDeciding(r);
+  return { ...d, basis: d.analysis === 'clustering-corrected' ? 'clustering' : 'primary' };
+}
+
+function derivedDeciding(r: Pick<RunResults, 'primary' | 'clustering'>): Deciding {
+  const p = r.primary;
+  const base = { estimate: p.meanDifference, confidence: p.confidence, alternative: p.alternative };
+  if (r.clustering && p.test !== 'two-level') {
+    return { ...base, analysis: 'clustering-corrected', p: r.clustering.p, df: r.clustering.df, ci: r.clustering.ci ?? null, significant: r.clustering.significant };
+  }
+  return { ...base, analysis: p.test, p: p.p, df: p.df, ci: p.ci, significant: p.significant };
 }

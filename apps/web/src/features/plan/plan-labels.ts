@@ -30,8 +30,9 @@ export const alternativeLabels: Record<PlanContent['alternative'], string> = {
 };
 
 export const primaryTestLabels: Record<PlanContent['primaryTest'], string> = {
-  welch: 'Welch’s t test (unequal variances allowed)',
-  student: 'Student’s pooled t test (equal variances assumed)',
+  'two-level': 'Two-level model: students within their assigned classrooms or schools',
+  welch: 'Welch’s t test: each arm keeps its own spread',
+  student: 'Student’s pooled t test: both arms share one spread',
 };
 
 export const covariateLabels: Record<PlanContent['covariate'], string> = {

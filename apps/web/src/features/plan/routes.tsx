@@ -95,7 +95,7 @@ export function PlanPage() {
         >
           {lead ? (
             <PlanForm
-              initial={draft ?? blankPlan()}
+              initial={draft ?? blankPlan(study.unitOfAssignment)}
               {...refs}
               unit={study.unitOfAssignment}
               onSaveDraft={(content) => saveDraft.mutateAsync(content)}

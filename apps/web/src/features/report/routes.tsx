@@ -175,6 +175,7 @@ export function StudyReportPage() {
   const confirmatory = prespecified.filter((c) => c.run?.kind === 'confirmatory');
   const cautions = [...new Set(report.comparisons.flatMap((c) => c.run?.results?.cautions ?? []))].filter((c) => !c.startsWith('Interim'));
   const clustering = primaryResults?.clustering ?? null;
+  const model = primaryResults?.primary.test === 'two-level' ? (primaryResults.twoLevel ?? null) : null;
 
   return (
     <article aria-labelledby="report-title" className="study-report space-y-12">
@@ -265,8 +266,8 @@ export function StudyReportPage() {
             {primaryResults && primary && (
               <div className="rounded-lg border border-accent/50 bg-surface p-5">
                 <h4 className="font-semibold">Primary outcome: {primary.comparison.label}</h4>
-                <p className="mt-2 max-w-prose">{resultHeadline(primaryResults, primary.comparison.unitOfAnalysis).finding}</p>
-                <p className="mt-1 max-w-prose font-semibold">{resultHeadline(primaryResults, primary.comparison.unitOfAnalysis).verdict}</p>
+                <p className="mt-2 max-w-prose">{resultHeadline(primaryResults).finding}</p>
+                <p className="mt-1 max-w-prose font-semibold">{resultHeadline(primaryResults).verdict}</p>
                 <p className="mt-1 max-w-prose">
                   Hedges’ g = {formatNumber(primaryResults.effectSize.g, 2)} (95% CI {formatInterval(primaryResults.effectSize.ci, 2)}).{' '}
                   <Link to={runPath(studyId, primary.run!.id)} className="print:hidden">
@@ -300,21 +301,35 @@ export function StudyReportPage() {
           <ReportSection id="report-clustering" title="How clustering was handled">
             <p className="max-w-prose">
               The draw assigned whole {unitLabels[study.unitOfAssignment].plural} to the arms
-              {study.unitOfAssignment === 'classroom' ? ', blocked by site' : ''}, and the primary test compares{' '}
-              {(primary?.comparison.unitOfAnalysis ?? plan?.unitOfAnalysis) === 'student' ? 'students' : 'classroom or school averages'}.
-              {clustering
-                ? ` Because students in one classroom resemble each other, the significance is also given corrected for clustering (Hedges, 2007), using an intraclass correlation (ICC) of ${formatNumber(
-                    clustering.icc,
+              {study.unitOfAssignment === 'classroom' ? ', blocked by site' : ''}
+              {model
+                ? `. The registered analysis is the two-level model: students nested in the ${model.units.intervention + model.units.comparison} assigned ${
+                    model.unit === 'school' ? 'schools' : 'classrooms'
+                  } with a random intercept for each${model.blocks > 0 ? `, the ${model.blocks} schools of the draw as blocks` : ''}${
+                    model.covariate === 'baseline' ? ' and the pretest as a covariate' : ''
+                  }, fitted by restricted maximum likelihood with Satterthwaite degrees of freedom. It estimates a between-${model.unit} variance of ${formatNumber(
+                    model.tau2,
                     2,
-                  )}, ${iccSourceWords[clustering.iccSource]}${
-                    clustering.observedIcc !== null ? `; the ICC observed in these data is ${formatNumber(clustering.observedIcc, 2)}` : ''
-                  }. The average classroom has ${formatNumber(clustering.averageClusterSize, 1)} analysed students, a design effect of ${formatNumber(
-                    clustering.designEffect,
-                    2,
-                  )}.`
-                : primaryResults
-                  ? ' No clustering correction applies to this design.'
-                  : ' How clustering affects the result is reported once the primary comparison has a finished run.'}
+                  )} and a within-${model.unit} variance of ${formatNumber(model.sigma2, 2)}: an intraclass correlation of ${formatNumber(model.icc, 2)}.${
+                    clustering
+                      ? ` As sensitivity checks, the same regression with cluster-robust (CR2) errors, and Welch’s t over students with the clustering correction (Hedges, 2007; ICC ${formatNumber(clustering.icc, 2)}, ${iccSourceWords[clustering.iccSource]}), are reported with the results.`
+                      : ''
+                  }`
+                : `, and the primary test compares ${(primary?.comparison.unitOfAnalysis ?? plan?.unitOfAnalysis) === 'student' ? 'students' : 'classroom or school averages'}.`}
+              {!model &&
+                (clustering
+                  ? ` Because students in one classroom resemble each other, the significance is also given corrected for clustering (Hedges, 2007), using an intraclass correlation (ICC) of ${formatNumber(
+                      clustering.icc,
+                      2,
+                    )}, ${iccSourceWords[clustering.iccSource]}${
+                      clustering.observedIcc !== null ? `; the ICC observed in these data is ${formatNumber(clustering.observedIcc, 2)}` : ''
+                    }. The average classroom has ${formatNumber(clustering.averageClusterSize, 1)} analysed students, a design effect of ${formatNumber(
+                      clustering.designEffect,
+                      2,
+                    )}.`
+                  : primaryResults
+                    ? ' No clustering correction applies to this design.'
+                    : ' How clustering affects the result is reported once the primary comparison has a finished run.')}
             </p>
             {plan && (
               <p className="max-w-prose text-ink-muted">

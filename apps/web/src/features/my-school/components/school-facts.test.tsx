@@ -45,12 +45,14 @@ function facts(overrides: Partial<SiteFacts> = {}): SiteFacts {
           improvementIndex: 12.3,
           substantivelyImportant: true,
           favours: 'intervention',
-          p: 0.0021,
+          analysis: 'two-level',
+          estimate: 6.4,
+          p: 0.04,
+          ci: [0.3, 12.5],
+          confidence: 0.95,
           alpha: 0.05,
-          test: 'welch',
           alternative: 'two-sided',
           met: true,
-          clusteringP: 0.04,
           students: { value: 420, suppressed: false },
           classrooms: 16,
         },
@@ -93,7 +95,7 @@ describe('SchoolFacts', () => {
     expect(screen.getByText('0.31')).toBeInTheDocument();
     expect(screen.getByText('95% interval 0.12 to 0.51')).toBeInTheDocument();
     expect(screen.getByText('+12')).toBeInTheDocument();
-    expect(screen.getByText('p = .002')).toBeInTheDocument();
+    expect(screen.getByText('p = .040')).toBeInTheDocument();
     expect(screen.getByText(/Room 2/).closest('li')).toHaveTextContent('returned for corrections');
   });
 

@@ -15,7 +15,7 @@ const waves: Wave[] = [
 ];
 
 function renderForm(onSaveDraft = vi.fn().mockResolvedValue(undefined)) {
-  render(<PlanForm initial={blankPlan()} measures={measures} waves={waves} unit="classroom" onSaveDraft={onSaveDraft} onSeal={vi.fn()} />);
+  render(<PlanForm initial={blankPlan("classroom")} measures={measures} waves={waves} unit="classroom" onSaveDraft={onSaveDraft} onSeal={vi.fn()} />);
   return onSaveDraft;
 }
 
@@ -52,7 +52,7 @@ describe('PlanForm', { timeout: 20_000 }, () => {
     await fillInTheRequiredFields(user);
     expect(screen.queryByLabelText('Why Student’s pooled test')).not.toBeInTheDocument();
 
-    await user.click(screen.getByLabelText('Student’s pooled t test (equal variances assumed)'));
+    await user.click(screen.getByLabelText('Student’s pooled t test: both arms share one spread'));
     await user.click(screen.getByRole('button', { name: 'Save draft' }));
 
     expect(await screen.findByText("Say why Student's pooled test is preferred over Welch's")).toBeInTheDocument();
@@ -65,7 +65,7 @@ describe('PlanForm', { timeout: 20_000 }, () => {
     expect(onSaveDraft.mock.calls[0][0]).toMatchObject({ primaryTest: 'student', primaryTestReason: 'Both arms come from one screening with equal spread.' });
   });
 
-  it('saves the defaults of common practice: alpha .05, two-sided, Welch, the standard ICC, and no leftover reasons', async () => {
+  it('saves the defaults of common practice for a classroom-assigned study: alpha .05, two-sided, the two-level model, the standard ICC, and no leftover reasons', async () => {
     const user = userEvent.setup();
     const onSaveDraft = renderForm();
     await fillInTheRequiredFields(user);
@@ -82,7 +82,7 @@ describe('PlanForm', { timeout: 20_000 }, () => {
       alpha: 0.05,
       alternative: 'two-sided',
       alternativeJustification: '',
-      primaryTest: 'welch',
+      primaryTest: 'two-level',
       iccSource: 'default',
       icc: null,
       plannedSites: 4,

@@ -1,6 +1,7 @@
 import {
   alternatives,
   amendmentSchema,
+  defaultPrimaryTest,
   planContentSchema,
   primaryTests,
   type Amendment,
@@ -51,7 +52,8 @@ function tidy(plan: PlanContent): PlanContent {
   };
 }
 
-export function blankPlan(): FormValues {
+/** A new plan: the analysis that matches the study's assignment, and otherwise the schema's defaults. */
+export function blankPlan(unit: UnitOfAssignment): FormValues {
   return {
     primaryMeasureId: '',
     primaryWaveId: '',
@@ -59,7 +61,7 @@ export function blankPlan(): FormValues {
     alpha: 0.05,
     alternative: 'two-sided',
     alternativeJustification: '',
-    primaryTest: 'welch',
+    primaryTest: defaultPrimaryTest(unit),
     primaryTestReason: '',
     // The schema's default; the API asks for a baseline wave if there is none yet.
     covariate: 'baseline',
@@ -170,11 +172,18 @@ function PlanFields({ measures, waves, unit }: RefsProps) {
           legend={planFieldLabels.primaryTest}
           error={errors.primaryTest?.message}
           input={register('primaryTest')}
-          choices={primaryTests.map((t) => ({
-            value: t,
-            label: primaryTestLabels[t],
-            hint: t === 'welch' ? 'Recommended: it stays accurate when the arms’ spreads differ.' : undefined,
-          }))}
+          choices={primaryTests
+            .filter((t) => clustered || t !== 'two-level')
+            .map((t) => ({
+              value: t,
+              label: primaryTestLabels[t],
+              hint:
+                t === 'two-level'
+                  ? 'Recommended when classrooms or schools are assigned: it nests students in the assigned units, uses the draw’s schools as blocks and adjusts for the pretest.'
+                  : t === 'welch' && !clustered
+                    ? 'Recommended when students are assigned: it stays accurate when the arms’ spreads differ.'
+                    : undefined,
+            }))}
         />
         {primaryTest === 'student' && (
           <Field
@@ -196,25 +205,33 @@ function PlanFields({ measures, waves, unit }: RefsProps) {
 
       <fieldset className="space-y-5">
         <legend className="text-lg font-semibold">Clustering</legend>
-        <Field
-          label={planFieldLabels.unitOfAnalysis}
-          hint="Students are usually analysed even when classrooms are assigned; the ICC below then corrects for clustering."
-          error={errors.unitOfAnalysis?.message}
-          className="max-w-md"
-        >
-          {(control) => (
-            <Select {...control} {...register('unitOfAnalysis')}>
-              {(['student', 'classroom', 'school'] as const).map((u) => (
-                <option key={u} value={u}>
-                  {unitOfAnalysisLabels[u]}
-                </option>
-              ))}
-            </Select>
-          )}
-        </Field>
+        {primaryTest !== 'two-level' && (
+          <Field
+            label={planFieldLabels.unitOfAnalysis}
+            hint="Students are usually analysed even when classrooms are assigned; the ICC below then corrects for clustering."
+            error={errors.unitOfAnalysis?.message}
+            className="max-w-md"
+          >
+            {(control) => (
+              <Select {...control} {...register('unitOfAnalysis')}>
+                {(['student', 'classroom', 'school'] as const).map((u) => (
+                  <option key={u} value={u}>
+                    {unitOfAnalysisLabels[u]}
+                  </option>
+                ))}
+              </Select>
+            )}
+          </Field>
+        )}
         <ChoiceGroup
           legend={planFieldLabels.iccSource}
-          hint={clustered ? 'How alike students of one classroom are (the intraclass correlation).' : 'Only used if classrooms or schools are assigned.'}
+          hint={
+            clustered
+              ? primaryTest === 'two-level'
+                ? 'How alike students of one classroom are (the intraclass correlation): for the power calculation and the clustering-correction sensitivity check; the two-level model estimates its own.'
+                : 'How alike students of one classroom are (the intraclass correlation).'
+              : 'Only used if classrooms or schools are assigned.'
+          }
           error={errors.iccSource?.message}
           input={register('iccSource')}
           choices={(['default', 'observed', 'assumed'] as const).map((s) => ({

@@ -4,7 +4,16 @@ import { Badge } from '@/components/ui/badge';
 import { Chart, chartColors } from '@/components/ui/chart';
 import { FigureTable } from '@/components/ui/figure-table';
 import type { ReportedComparison } from '@/features/report/api';
+import { decidingTest, type DecidingAnalysis } from '@evenhand/entities';
 import { formatCount, formatInterval, formatNumber, formatP, formatSigned } from '@/lib/format';
+
+const decidingAnalysisShortNames: Record<DecidingAnalysis, string> = {
+  'two-level': 'Two-level model',
+  welch: 'Welch’s t',
+  student: 'Student’s pooled t',
+  'clustering-corrected': 'Welch’s t, clustering-corrected',
+  'classroom-means': 'Classroom averages',
+};
 
 function runStatus({ comparison, run }: ReportedComparison) {
   if (!run) return <span className="text-ink-muted">No finished run yet</span>;
@@ -22,15 +31,16 @@ export function ResultsTable({ items }: { items: ReportedComparison[] }) {
       columns={[
         { key: 'comparison', header: 'Comparison' },
         { key: 'status', header: 'Result' },
-        { key: 'n', header: 'Students (I / C)', numeric: true },
+        { key: 'n', header: 'Students analysed (intervention / comparison)', numeric: true },
+        { key: 'analysis', header: 'Deciding analysis' },
         { key: 'difference', header: 'Difference (CI)', numeric: true },
         { key: 'g', header: 'Hedges’ g (95% CI)', numeric: true },
         { key: 'p', header: 'p', numeric: true },
-        { key: 'clustered', header: 'p, clustering-corrected', numeric: true },
         { key: 'bh', header: 'p, Benjamini–Hochberg', numeric: true },
       ]}
       rows={items.map((item) => {
         const r = item.run?.results;
+        const d = r ? decidingTest(r) : null;
         const students = r?.descriptives.map((d) => formatCount(d.students)).join(' / ');
         return {
           id: item.comparison.id,
@@ -45,10 +55,10 @@ export function ResultsTable({ items }: { items: ReportedComparison[] }) {
           ),
           status: runStatus(item),
           n: students ?? '—',
-          difference: r ? `${formatSigned(r.primary.meanDifference, 2)} ${formatInterval(r.primary.ci, 2)}` : '—',
+          analysis: d ? decidingAnalysisShortNames[d.analysis] : '—',
+          difference: d ? `${formatSigned(d.estimate, 2)} ${d.ci ? formatInterval(d.ci, 2) : '(no interval)'}` : '—',
           g: r ? `${formatNumber(r.effectSize.g, 2)} ${formatInterval(r.effectSize.ci, 2)}` : '—',
-          p: r ? formatP(r.primary.p) : '—',
-          clustered: r?.clustering ? formatP(r.clustering.p) : '—',
+          p: d ? formatP(d.p) : '—',
           bh: item.run?.kind === 'confirmatory' && item.run.multiplicity ? formatP(item.run.multiplicity.adjustedP) : '—',
         };
       })}

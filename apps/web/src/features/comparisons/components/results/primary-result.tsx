@@ -1,6 +1,6 @@
-import type { Comparison, Run, RunResults } from '@evenhand/entities';
+import { decidingTest, type Run, type RunResults } from '@evenhand/entities';
 import { Badge } from '@/components/ui/badge';
-import { formatAlpha, formatInterval, formatNumber, formatPStatement, formatSigned } from '@/lib/format';
+import { formatAlpha, formatCount, formatInterval, formatNumber, formatPStatement, formatSigned } from '@/lib/format';
 import { confidenceLabel, iccSourceWords, resultHeadline, testNames } from '@/lib/result-wording';
 
 /** Hedges' g with its 95% CI and the improvement index: shown beside every p-value of the page. */
@@ -15,8 +15,8 @@ export function EffectSize({ results }: { results: RunResults }) {
 }
 
 /** The plain-language headline, then the primary test as registered, with its effect size beside it. */
-export function PrimaryResult({ results, unit }: { results: RunResults; unit: Comparison['unitOfAnalysis'] }) {
-  const h = resultHeadline(results, unit);
+export function PrimaryResult({ results }: { results: RunResults }) {
+  const h = resultHeadline(results);
   const p = results.primary;
   const e = results.effectSize;
   return (
@@ -38,16 +38,20 @@ export function PrimaryResult({ results, unit }: { results: RunResults; unit: Co
       {h.clustering && <p className="mt-2 max-w-prose">{h.clustering}</p>}
 
       <div className="mt-5 grid gap-4 md:grid-cols-2">
-        <div className="rounded-md bg-sunken px-4 py-3">
-          <p className="text-sm font-semibold text-ink-muted">{testNames[p.test]}, as registered</p>
-          <p className="mt-1 tabular-nums" data-testid="primary-test">
-            t = {formatNumber(p.t, 2)}, df = {formatNumber(p.df, 1)}, {formatPStatement(p.p)}; difference {formatSigned(p.meanDifference, 2)} (
-            {confidenceLabel(p.confidence)} CI {formatInterval(p.ci, 2)})
-          </p>
-          <p className="mt-1 text-sm text-ink-muted">
-            Alpha {formatAlpha(results.alpha)}, {p.alternative === 'two-sided' ? 'two-sided' : `one-sided (${p.alternative})`}.
-          </p>
-        </div>
+        {results.twoLevel && p.test === 'two-level' ? (
+          <TwoLevelFigures results={results} model={results.twoLevel} />
+        ) : (
+          <div className="rounded-md bg-sunken px-4 py-3">
+            <p className="text-sm font-semibold text-ink-muted">{testNames[p.test]}, as registered</p>
+            <p className="mt-1 tabular-nums" data-testid="primary-test">
+              t = {formatNumber(p.t, 2)}, df = {formatNumber(p.df, 1)}, {formatPStatement(p.p)}; difference {formatSigned(p.meanDifference, 2)} (
+              {confidenceLabel(p.confidence)} CI {formatInterval(p.ci, 2)})
+            </p>
+            <p className="mt-1 text-sm text-ink-muted">
+              Alpha {formatAlpha(results.alpha)}, {p.alternative === 'two-sided' ? 'two-sided' : `one-sided (${p.alternative})`}.
+            </p>
+          </div>
+        )}
         <div className="rounded-md bg-sunken px-4 py-3">
           <p className="text-sm font-semibold text-ink-muted">Effect size</p>
           <p className="mt-1 tabular-nums" data-testid="effect-size">
@@ -64,10 +68,36 @@ export function PrimaryResult({ results, unit }: { results: RunResults; unit: Co
   );
 }
 
-/** The significance of the difference when classrooms (or schools) were assigned but students analysed. */
+/** The two-level model's estimate, test and variance components, as registered. */
+function TwoLevelFigures({ results, model: m }: { results: RunResults; model: NonNullable<RunResults['twoLevel']> }) {
+  const unitWord = m.unit === 'school' ? 'schools' : 'classrooms';
+  return (
+    <div className="rounded-md bg-sunken px-4 py-3">
+      <p className="text-sm font-semibold text-ink-muted">The two-level model, as registered</p>
+      <p className="mt-1 tabular-nums" data-testid="primary-test">
+        Difference {formatSigned(m.estimate, 2)} ({confidenceLabel(m.confidence)} CI {formatInterval(m.ci, 2)}); t = {formatNumber(m.t, 2)}, df ={' '}
+        {formatNumber(m.df, 1)}, {formatPStatement(m.p)}
+      </p>
+      <p className="mt-1 text-sm text-ink-muted">
+        {formatCount(m.units.intervention)} intervention and {formatCount(m.units.comparison)} comparison {unitWord}, {formatCount(m.students)}{' '}
+        students{m.blocks > 0 ? `, ${formatCount(m.blocks)} schools as blocks` : ''}
+        {m.covariate === 'baseline' ? ', adjusted for the pretest' : ''}. Between-{m.unit} variance {formatNumber(m.tau2, 2)}, within{' '}
+        {formatNumber(m.sigma2, 2)} (ICC {formatNumber(m.icc, 2)}); degrees of freedom by Satterthwaite’s method. Alpha{' '}
+        {formatAlpha(results.alpha)}, {m.alternative === 'two-sided' ? 'two-sided' : `one-sided (${m.alternative})`}.
+      </p>
+      {m.boundary && (
+        <p className="mt-1 text-sm text-ink-muted">
+          The {unitWord} varied no more than their students would by chance (between-{m.unit} variance estimated at 0).
+        </p>
+      )}
+    </div>
+  );
+}
+
+/** The clustering-corrected significance, when it decides: a run registered with a t test over students in a cluster-assigned study. */
 export function ClusteringResult({ results }: { results: RunResults }) {
   const c = results.clustering;
-  if (!c) return null;
+  if (!c || decidingTest(results).basis !== 'clustering') return null;
   return (
     <section aria-labelledby="clustering" className="space-y-2">
       <h3 id="clustering" className="text-xl font-semibold">
@@ -79,7 +109,7 @@ export function ClusteringResult({ results }: { results: RunResults }) {
         unchanged.
       </p>
       <p className="tabular-nums" data-testid="clustering">
-        Clustering-corrected: t = {formatNumber(c.tAdjusted, 2)}, df h = {formatNumber(c.df, 1)}, {formatPStatement(c.p)} —{' '}
+        Clustering-corrected: t = {formatNumber(c.tAdjusted, 2)}, degrees of freedom (Hedges’ h) {formatNumber(c.df, 1)}, {formatPStatement(c.p)} —{' '}
         {c.significant ? 'statistically significant' : 'not statistically significant'} at alpha {formatAlpha(results.alpha)}; <EffectSize results={results} />.
       </p>
       <p className="text-sm text-ink-muted">

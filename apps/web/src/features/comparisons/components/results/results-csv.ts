@@ -1,4 +1,4 @@
-import type { Comparison, Run, RunResults } from '@evenhand/entities';
+import { decidingTest, type Comparison, type Run, type RunResults } from '@evenhand/entities';
 import { toCsv } from '@/lib/csv';
 
 type Row = [group: string, statistic: string, value: string | number | boolean | null];
@@ -6,6 +6,8 @@ type Row = [group: string, statistic: string, value: string | number | boolean |
 /** The headline numbers of a run as a flat CSV (group, statistic, value), made in the browser. */
 export function resultsCsv(run: Run, results: RunResults, comparison: Pick<Comparison, 'label' | 'prespecified'> | undefined): string {
   const p = results.primary;
+  const d = decidingTest(results);
+  const bound = (v: number | null | undefined) => (typeof v === 'number' && Number.isFinite(v) ? v : null);
   const rows: Row[] = [
     ['run', 'comparison', comparison?.label ?? null],
     ['run', 'pre-specified', comparison ? comparison.prespecified : null],
@@ -28,6 +30,15 @@ export function resultsCsv(run: Run, results: RunResults, comparison: Pick<Compa
       [d.arm, 'sd', d.sd],
       [d.arm, 'se', d.se],
     ]),
+    // The deciding analysis first: its p, interval and verdict are the ones every screen and e-mail shows.
+    ['deciding analysis', 'analysis', d.analysis],
+    ['deciding analysis', 'difference', d.estimate],
+    ['deciding analysis', 'ci low', bound(d.ci?.[0])],
+    ['deciding analysis', 'ci high', bound(d.ci?.[1])],
+    ['deciding analysis', 'ci level', d.confidence],
+    ['deciding analysis', 'df', d.df],
+    ['deciding analysis', 'p', d.p],
+    ['deciding analysis', 'meets the pre-registered test', d.significant],
     ['primary', 'test', p.test],
     ['primary', 'difference', p.meanDifference],
     ['primary', 'ci low', Number.isFinite(p.ci[0]) ? p.ci[0] : null],
@@ -36,15 +47,29 @@ export function resultsCsv(run: Run, results: RunResults, comparison: Pick<Compa
     ['primary', 't', p.t],
     ['primary', 'df', p.df],
     ['primary', 'p', p.p],
-    ['primary', 'meets the pre-registered test', p.significant],
     ['effect size', 'hedges g', results.effectSize.g],
     ['effect size', 'g ci low', results.effectSize.ci[0]],
     ['effect size', 'g ci high', results.effectSize.ci[1]],
     ['effect size', 'improvement index', results.effectSize.improvementIndex],
   ];
+  const m = results.twoLevel;
+  if (m) {
+    rows.push(
+      ['two-level model', 'units intervention', m.units.intervention],
+      ['two-level model', 'units comparison', m.units.comparison],
+      ['two-level model', 'students', m.students],
+      ['two-level model', 'blocks', m.blocks],
+      ['two-level model', 'covariate', m.covariate],
+      ['two-level model', 'tau2', m.tau2],
+      ['two-level model', 'sigma2', m.sigma2],
+      ['two-level model', 'icc', m.icc],
+      ['two-level model', 'reml log-likelihood', m.remlLogLik],
+      ['two-level model', 'tau2 at boundary', m.boundary],
+    );
+  }
   const c = results.clustering;
   if (c) {
-    rows.push(['clustering', 'icc', c.icc], ['clustering', 'icc source', c.iccSource], ['clustering', 't adjusted', c.tAdjusted], ['clustering', 'df h', c.df], ['clustering', 'p', c.p], ['clustering', 'design effect', c.designEffect]);
+    rows.push(['clustering', 'icc', c.icc], ['clustering', 'icc source', c.iccSource], ['clustering', 't adjusted', c.tAdjusted], ['clustering', 'df (hedges h)', c.df], ['clustering', 'p', c.p], ['clustering', 'design effect', c.designEffect]);
   }
   if (run.kind === 'confirmatory' && run.multiplicity) {
     rows.push(['benjamini-hochberg', 'adjusted p', run.multiplicity.adjustedP], ['benjamini-hochberg', 'comparisons', run.multiplicity.comparisons]);
@@ -54,6 +79,7 @@ export function resultsCsv(run: Run, results: RunResults, comparison: Pick<Compa
   if (s.mannWhitney) rows.push(['sensitivity', 'mann-whitney u', s.mannWhitney.u], ['sensitivity', 'mann-whitney p', s.mannWhitney.p]);
   if (s.ancova) rows.push(['sensitivity', 'baseline-adjusted difference', s.ancova.adjustedDifference], ['sensitivity', 'baseline-adjusted g', s.ancova.g], ['sensitivity', 'baseline-adjusted p', s.ancova.p]);
   if (s.classroomMeans) rows.push(['sensitivity', 'classroom-means difference', s.classroomMeans.meanDifference], ['sensitivity', 'classroom-means p', s.classroomMeans.p]);
+  if (s.clusterRobust) rows.push(['sensitivity', 'cluster-robust difference', s.clusterRobust.estimate], ['sensitivity', 'cluster-robust df', s.clusterRobust.df], ['sensitivity', 'cluster-robust p', s.clusterRobust.p]);
   for (const site of results.sites) {
     rows.push([`site: ${site.siteName}`, 'hedges g', site.g], [`site: ${site.siteName}`, 'g ci low', site.ci[0]], [`site: ${site.siteName}`, 'g ci high', site.ci[1]], [`site: ${site.siteName}`, 'weight', site.weight]);
   }

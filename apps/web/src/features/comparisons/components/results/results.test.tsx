@@ -8,7 +8,7 @@ describe('PrimaryResult', () => {
   it('leads with the plain-language headline of a significant result, with the test line and effect size beside it', () => {
     const r = demoResults();
     r.clustering = null;
-    render(<PrimaryResult results={r} unit="student" />);
+    render(<PrimaryResult results={r} />);
     expect(screen.getByTestId('headline')).toHaveTextContent('scored 9.99 higher than students in the comparison arm');
     expect(screen.getByText('Meets the pre-registered test')).toBeInTheDocument();
     expect(screen.getByTestId('primary-test')).toHaveTextContent('t = 3.11, df = 467.4, p = .002; difference +9.99 (95% CI [3.68, 16.29])');
@@ -17,7 +17,7 @@ describe('PrimaryResult', () => {
 
   it('when classrooms were assigned, the badge follows the clustering-corrected p and the page says which p decided', () => {
     // Student-level p = .002, clustering-corrected p = .138 in the fixture.
-    render(<PrimaryResult results={demoResults()} unit="student" />);
+    render(<PrimaryResult results={demoResults()} />);
     expect(screen.getByText('Does not meet the pre-registered test')).toBeInTheDocument();
     expect(screen.queryByText('Meets the pre-registered test')).not.toBeInTheDocument();
     expect(screen.getByTestId('decided-by')).toHaveTextContent('Decided by the clustering-corrected p-value (p = .138)');
@@ -27,7 +27,7 @@ describe('PrimaryResult', () => {
     const r = demoResults();
     r.clustering = null;
     r.primary = { ...r.primary, meanDifference: 1.2, ci: [-5.1, 7.5], p: 0.71, significant: false };
-    render(<PrimaryResult results={r} unit="student" />);
+    render(<PrimaryResult results={r} />);
     expect(screen.getByText('Does not meet the pre-registered test')).toBeInTheDocument();
     expect(screen.getByText(/This does not meet the pre-registered test .*: p = \.710\. The interval includes no difference at all\./)).toBeInTheDocument();
   });
@@ -35,7 +35,7 @@ describe('PrimaryResult', () => {
   it('names a one-sided "less" test and the direction it tested', () => {
     const r = demoResults();
     r.primary = { ...r.primary, alternative: 'less', meanDifference: -4, ci: [null, -1.5], p: 0.004, significant: true };
-    render(<PrimaryResult results={r} unit="student" />);
+    render(<PrimaryResult results={r} />);
     expect(screen.getByTestId('headline')).toHaveTextContent('scored 4.00 lower than students in the comparison arm');
     expect(screen.getByText(/one-sided \(intervention lower\)/)).toBeInTheDocument();
   });

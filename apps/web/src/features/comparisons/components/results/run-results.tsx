@@ -37,7 +37,7 @@ export function RunResultsView({ run, results, comparison }: { run: Run; results
   return (
     <div className="space-y-10">
       <div className="grid gap-6 lg:grid-cols-[minmax(0,2fr)_minmax(0,1fr)]">
-        <PrimaryResult results={results} unit={comparison?.unitOfAnalysis ?? 'student'} />
+        <PrimaryResult results={results} />
         <Cautions cautions={results.cautions} />
       </div>
       <ClusteringResult results={results} />

@@ -1,7 +1,7 @@
 import type { RunResults } from '@evenhand/entities';
 import { FigureTable } from '@/components/ui/figure-table';
 import { formatCount, formatInterval, formatNumber, formatP, formatSigned } from '@/lib/format';
-import { testNames } from '@/lib/result-wording';
+import { iccSourceWords, testNames } from '@/lib/result-wording';
 import { armLabels } from '@/lib/study';
 
 /** n, mean, SD, SE and quartiles of the outcome in each arm. */
@@ -52,7 +52,9 @@ interface Check {
 
 function checksOf(r: RunResults): Check[] {
   const s = r.sensitivity;
-  const gText = `${formatNumber(r.effectSize.g, 2)} ${formatInterval(r.effectSize.ci, 2)}`;
+  // The t tests over students share the student-level g; a two-level primary result has its own (adjusted) g.
+  const studentG = s.studentLevelEffect ?? r.effectSize;
+  const gText = `${formatNumber(studentG.g, 2)} ${formatInterval(studentG.ci, 2)}`;
   const tCheck = (id: string, t: typeof s.student, name: string, what: string): Check => ({
     id,
     name,
@@ -63,10 +65,38 @@ function checksOf(r: RunResults): Check[] {
     p: formatP(t.p),
   });
   const checks: Check[] = [];
-  if (r.primary.test !== 'student') {
-    checks.push(tCheck('student', s.student, testNames.student, 'Assumes both arms’ scores vary equally.'));
+  if (r.primary.test === 'two-level') {
+    checks.push(
+      tCheck('welch', s.welch, `${testNames.welch} over students`, 'Treats every student as if assigned on their own: it ignores the classrooms, so its p overstates the evidence.'),
+    );
+  } else if (r.primary.test !== 'student') {
+    checks.push(tCheck('student', s.student, testNames.student, 'Uses one shared spread for both arms.'));
   } else {
-    checks.push(tCheck('welch', s.welch, testNames.welch, 'Does not assume the arms’ scores vary equally.'));
+    checks.push(tCheck('welch', s.welch, testNames.welch, 'Lets each arm keep its own spread.'));
+  }
+  if (s.clusterRobust) {
+    const c = s.clusterRobust;
+    checks.push({
+      id: 'cluster-robust',
+      name: 'Least squares with cluster-robust errors (CR2)',
+      what: `The same adjustment as the model, with standard errors that allow for ${formatCount(c.units.intervention + c.units.comparison)} assigned units without modelling them (small-sample degrees of freedom).`,
+      difference: `${formatSigned(c.estimate, 2)} ${formatInterval(c.ci, 2)}`,
+      g: '—',
+      statistic: `t = ${formatNumber(c.t, 2)}, df = ${formatNumber(c.df, 1)}`,
+      p: formatP(c.p),
+    });
+  }
+  if (r.clustering && r.primary.test === 'two-level') {
+    const c = r.clustering;
+    checks.push({
+      id: 'clustering-correction',
+      name: 'Welch’s t with the clustering correction',
+      what: `The t test over students widened for an ICC of ${formatNumber(c.icc, 2)} (${iccSourceWords[c.iccSource]}), as an evidence reviewer would (Hedges 2007).`,
+      difference: `${formatSigned(r.sensitivity.welch.meanDifference, 2)} ${c.ci ? formatInterval(c.ci, 2) : ''}`,
+      g: gText,
+      statistic: `t = ${formatNumber(c.tAdjusted, 2)}, degrees of freedom ${formatNumber(c.df, 1)}`,
+      p: formatP(c.p),
+    });
   }
   if (s.mannWhitney) {
     checks.push({
@@ -135,9 +165,18 @@ export function SensitivityTable({ results }: { results: RunResults }) {
         }))}
       />
       <p className="max-w-prose text-sm text-ink-muted">
-        When these agree with the primary result, the conclusion does not hang on one choice of test. The unadjusted checks share the primary
-        effect size; the classroom-average difference is in score units only.
+        When these agree with the primary result, the conclusion does not hang on one choice of test. The t tests over students share the
+        student-level effect size; the cluster-robust and classroom-average differences are in score units only.
       </p>
+      {(results.sensitivity.notComputed ?? []).length > 0 && (
+        <ul className="list-disc space-y-1 pl-5 text-sm">
+          {(results.sensitivity.notComputed ?? []).map((n) => (
+            <li key={n.check}>
+              Not computed — {n.check}: {n.why}
+            </li>
+          ))}
+        </ul>
+      )}
     </div>
   );
 }
