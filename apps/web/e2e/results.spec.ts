@@ -1,6 +1,6 @@
 import { createHash } from 'node:crypto';
 import { readFile } from 'node:fs/promises';
-import { welchT } from '@evenhand/stats';
+import { twoLevelFromRows, welchT } from '@evenhand/stats';
 import { expect, test, type Page } from '@playwright/test';
 import { expectAccessible } from './support';
 
@@ -126,15 +126,30 @@ test('the research lead runs the primary comparison, reads its result, locks or 
     return `${rows[0][0]},${rows[0][1]},${outcome},${pretest}`;
   });
   expect(sha([...classroomLines, ...(bundle.summaries ?? [])])).toBe(bundle.dataSha256);
-  // The students analysed are those with an outcome.
+  // The students analysed are those with an outcome; Welch's t over them is a sensitivity check.
   const outcomes = { intervention: [] as number[], comparison: [] as number[] };
   for (const line of bundle.rows as string[]) {
     const [, arm, , outcome] = line.split(',');
     if (outcome !== '') outcomes[arm as keyof typeof outcomes].push(Number(outcome));
   }
   const recomputed = welchT(outcomes.intervention, outcomes.comparison);
-  expect(recomputed.t).toBeCloseTo(results.primary.t, 9);
-  expect(recomputed.df).toBeCloseTo(results.primary.df, 6);
+  expect(recomputed.t).toBeCloseTo(results.sensitivity.welch.t, 9);
+  expect(recomputed.df).toBeCloseTo(results.sensitivity.welch.df, 6);
+  // The registered two-level model, refitted from the bundle alone: students with both scores, nested in their
+  // classrooms, with the classrooms' schools as blocks and the pretest as covariate.
+  const schoolOf = new Map<string, string>(bundle.classrooms.map((c: { classroomId: string; siteId: string }) => [c.classroomId, c.siteId]));
+  const both = (bundle.rows as string[]).map((line) => line.split(',')).filter((f) => f[3] !== '' && f[4] !== '');
+  const refit = twoLevelFromRows({
+    y: both.map((f) => Number(f[3])),
+    arm: both.map((f) => (f[1] === 'intervention' ? 1 : 0)),
+    cluster: both.map((f) => f[0]),
+    block: both.map((f) => schoolOf.get(f[0])!),
+    covariates: [both.map((f) => Number(f[4]))],
+  }, { confidence: 1 - results.alpha });
+  expect(results.primary.test).toBe('two-level');
+  expect(refit.estimate).toBeCloseTo(results.twoLevel.estimate, 8);
+  expect(refit.df).toBeCloseTo(results.twoLevel.df, 6);
+  expect(refit.p).toBeCloseTo(results.twoLevel.p, 8);
 
   const csvDownload = page.waitForEvent('download');
   await page.getByRole('button', { name: 'Download results CSV' }).click();
