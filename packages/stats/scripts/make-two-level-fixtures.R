@@ -23,7 +23,7 @@ RNGkind("Mersenne-Twister", "Inversion", "Rejection")
 
 # One invented study: units alternate arms unless `arms` is given; `blocks` gives each unit's block label.
 make_data <- function(seed, sizes, arms, tau, sigma, effect = 3, slope = 0.6, offset = 0, covariates = 1,
-                      blocks = NULL, block_sd = 0, squeeze = 0) {
+                      blocks = NULL, block_sd = 0, squeeze = 0, unit_covariate = FALSE) {
   set.seed(seed)
   J <- length(sizes)
   u <- rnorm(J, 0, tau)
@@ -39,6 +39,8 @@ make_data <- function(seed, sizes, arms, tau, sigma, effect = 3, slope = 0.6, of
     d <- data.frame(y = round(offset + y, 2), arm = arms[j], unit = j,
                     pretest = round(offset + 250 + pre, 1))
     if (covariates >= 2) d$attendance <- round(rnorm(n, 90, 5) + 0.3 * u[j], 1)
+    # A unit-level covariate (the same for every student of a unit), e.g. last year's class mean.
+    if (unit_covariate) d$priorClassMean <- round(rnorm(1, 250, 6) + 0.8 * u[j], 1)
     if (!is.null(blocks)) d$block <- blocks[j]
     rows[[j]] <- d
   }
@@ -94,6 +96,9 @@ add("blocks-unequal-no-covariate", "5 blocks with 3 to 5 classrooms and unequal 
 add("blocks-two-covariates", "5 blocks as above, pretest and attendance",
     make_data(116, sizes_b5, arms5, tau = 4, sigma = 9, blocks = blocks5, block_sd = 5, covariates = 2),
     c("pretest", "attendance"), TRUE)
+add("unit-level-covariate", "30 units of 6 to 20 with a pretest and a covariate constant within units (prior class mean)",
+    make_data(119, rep(c(6, 20, 11, 15, 9), 6), alternate(30), tau = 4, sigma = 8, unit_covariate = TRUE),
+    c("pretest", "priorClassMean"), FALSE)
 blocks20 <- sprintf("s%02d", rep(1:20, each = 40))
 set.seed(117)
 sizes_b20 <- sample(2:14, 800, replace = TRUE)

@@ -312,6 +312,8 @@ describe('twoLevel refuses bad input with a message that says what is wrong', ()
     expect(fitRows({ ...good, covariates: [Array.from(good.covariates![0], (v, i) => (i === 7 ? Infinity : v))] })).toThrow(/covariate 1 has a non-finite value at row 7/);
     expect(fitRows({ ...good, arm: Array.from(good.arm, (a, i) => (i === 0 ? 2 : a)) })).toThrow(/arm must be 0 or 1/);
     expect(fitRows({ ...good, y: Array.from(good.y).slice(1) })).toThrow(/one value per row/);
+    expect(fitRows({ ...good, covariates: [null] as never })).toThrow(/rows.covariates must be an array of number arrays/);
+    expect(fitRows({ ...good, y: 'scores' as never })).toThrow(/rows.y must be an array/);
     const moments = unitMomentsFromRows(good);
     expect(() => twoLevelFromMoments(moments.map((u, j) => (j === 2 ? { ...u, meanY: NaN } : u)))).toThrow(/unit room-2: meanY is not a finite number/);
     expect(() => twoLevelFromMoments(moments.map((u, j) => (j === 2 ? { ...u, spXX: [[-Infinity]] } : u)))).toThrow(/spXX row 1 must be an array of 1 finite numbers/);

@@ -783,5 +783,10 @@ export function twoLevelFromRows(rows: ClusteredRows, options?: TwoLevelOptions)
     const v = rows[key];
     if (v === null || typeof v !== 'object' || typeof v.length !== 'number') fail(`rows.${key} must be an array`);
   }
+  if (rows.block !== undefined && !Array.isArray(rows.block)) fail('rows.block must be an array of labels when given');
+  const covariates: unknown = rows.covariates;
+  if (covariates !== undefined && (!Array.isArray(covariates) || covariates.some((c) => c === null || typeof c !== 'object' || typeof c.length !== 'number'))) {
+    fail('rows.covariates must be an array of number arrays (one per covariate)');
+  }
   return twoLevelFromMoments(unitMomentsFromRows(rows), options);
 }
