@@ -14,6 +14,7 @@ const plan: PlanningValues = {
   covariateR2: 0.5,
   iccSource: 'default',
   icc: null,
+  primaryTest: 'welch',
 };
 
 function figures(values: Partial<PlanningValues>, unit: 'student' | 'classroom' | 'school' = 'classroom') {
@@ -24,7 +25,18 @@ function figures(values: Partial<PlanningValues>, unit: 'student' | 'classroom' 
 
 describe('planningFigures', () => {
   it('treats drawn classrooms as clusters of their students, with the ICC and the student-level R²', () => {
-    expect(figures({}).design).toEqual({ design: 'cluster', clusters: 24, clusterSize: 25, icc: 0.2, r2Level1: 0.5, p: 0.5, alpha: 0.05, alternative: 'two-sided' });
+    expect(figures({}).design).toEqual({ design: 'cluster', clusters: 24, clusterSize: 25, icc: 0.2, r2Level1: 0.5, covariates: 0, p: 0.5, alpha: 0.05, alternative: 'two-sided' });
+  });
+
+  it('when the two-level model is registered, spends one degree of freedom per school block beyond the first (J − g* − 2, Dong & Maynard 2013)', () => {
+    const f = figures({ primaryTest: 'two-level' });
+    expect(f.design).toMatchObject({ design: 'cluster', clusters: 24, covariates: 5 });
+    // The same MDES as the engine's for 24 clusters with 5 cluster-level covariates; wider than without blocks.
+    expect(f.mdes).toBeCloseTo(mdes({ design: 'cluster', clusters: 24, clusterSize: 25, icc: 0.2, r2Level1: 0.5, covariates: 5, p: 0.5, power: 0.8 }).mdes, 12);
+    expect(f.mdes).toBeGreaterThan(figures({}).mdes);
+    expect(f.curve[0].unitsPerArm).toBe(4);
+    const tooFew = planningFigures({ ...plan, primaryTest: 'two-level', plannedClassrooms: 6 }, { unit: 'classroom', measureKind: 'achievement' });
+    expect(tooFew).toMatchObject({ ok: false, problem: 'With 6 schools as blocks, plan at least 8 classrooms so the model keeps degrees of freedom.' });
   });
 
   it('treats drawn schools as clusters of all their students', () => {

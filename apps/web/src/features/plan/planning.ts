@@ -15,6 +15,7 @@ export type PlanningValues = Pick<
   | 'covariateR2'
   | 'iccSource'
   | 'icc'
+  | 'primaryTest'
 >;
 
 export const planningFields = [
@@ -29,6 +30,7 @@ export const planningFields = [
   'covariateR2',
   'iccSource',
   'icc',
+  'primaryTest',
 ] as const satisfies readonly (keyof PlanningValues)[];
 
 export interface PlanningContext {
@@ -81,6 +83,8 @@ interface Resolved {
   icc: IccChoice;
   /** Planned units per arm, on average (classrooms, or schools when schools are assigned). */
   unitsPerArm: number;
+  /** Block indicators the registered two-level model spends degrees of freedom on: the schools of a classroom draw, less one. */
+  blockCovariates: number;
 }
 
 function resolve(values: PlanningValues, context: PlanningContext): Resolved | string {
@@ -104,6 +108,7 @@ function resolve(values: PlanningValues, context: PlanningContext): Resolved | s
     r2,
     icc,
     unitsPerArm: units / 2,
+    blockCovariates: values.primaryTest === 'two-level' && context.unit === 'classroom' && sites >= 2 ? sites - 1 : 0,
   };
 }
 
@@ -118,7 +123,7 @@ function designFor(r: Resolved, unit: UnitOfAssignment, unitsPerArm: number): De
     return { ...common, design: 'individual', n: units * r.studentsPerClassroom, r2: r.r2, covariates: r.r2 > 0 ? 1 : 0 };
   }
   const clusterSize = unit === 'school' ? r.classroomsPerSchool * r.studentsPerClassroom : r.studentsPerClassroom;
-  return { ...common, design: 'cluster', clusters: units, clusterSize, icc: r.icc.icc, r2Level1: r.r2 };
+  return { ...common, design: 'cluster', clusters: units, clusterSize, icc: r.icc.icc, r2Level1: r.r2, covariates: r.blockCovariates };
 }
 
 export interface CurvePoint {
@@ -150,6 +155,11 @@ export function planningFigures(values: PlanningValues, context: PlanningContext
   const r = resolve(values, context);
   if (typeof r === 'string') return { ok: false, problem: r };
   if (r.unitsPerArm < 2) return { ok: false, problem: `Plan at least four ${curveUnit(context.unit).plural}, two in each arm.` };
+  // The cluster design's degrees of freedom are J − g* − 2 (Dong & Maynard 2013): blocks need units to spare.
+  const fewest = Math.max(2, Math.ceil((r.blockCovariates + 3) / 2));
+  if (r.unitsPerArm < fewest) {
+    return { ok: false, problem: `With ${r.blockCovariates + 1} schools as blocks, plan at least ${fewest * 2} ${curveUnit(context.unit).plural} so the model keeps degrees of freedom.` };
+  }
   const at = (unitsPerArm: number) => mdes({ ...designFor(r, context.unit, unitsPerArm), power: POWER }).mdes;
   const design = designFor(r, context.unit, r.unitsPerArm);
   const effect = typeof values.smallestEffectOfInterest === 'number' && values.smallestEffectOfInterest > 0 ? values.smallestEffectOfInterest : null;
@@ -157,7 +167,7 @@ export function planningFigures(values: PlanningValues, context: PlanningContext
   let unitsPerArmNeeded: number | null = null;
   if (effect !== null) {
     // MDES falls as units are added: binary search for the first whole number of units per arm that reaches the effect.
-    let lo = 2;
+    let lo = fewest;
     let hi = SEARCH_LIMIT;
     if (at(hi) <= effect) {
       while (lo < hi) {
@@ -172,7 +182,7 @@ export function planningFigures(values: PlanningValues, context: PlanningContext
   const top = Math.max(12, Math.ceil(r.unitsPerArm * 2), unitsPerArmNeeded !== null ? Math.min(unitsPerArmNeeded + 2, 200) : 0);
   const step = Math.max(1, Math.ceil((top - 2) / 60));
   const curve: CurvePoint[] = [];
-  for (let u = 2; u <= top; u += step) curve.push({ unitsPerArm: u, mdes: at(u) });
+  for (let u = fewest; u <= top; u += step) curve.push({ unitsPerArm: u, mdes: at(u) });
 
   return {
     ok: true,

@@ -91,12 +91,12 @@ describe('PlanForm', { timeout: 20_000 }, () => {
     });
   });
 
-  it('updates the planning panel as the planned classrooms are typed', async () => {
+  it('updates the planning panel as the planned classrooms are typed, for the registered two-level model with 4 schools as blocks', async () => {
     const user = userEvent.setup();
     renderForm();
     await fillInTheRequiredFields(user);
     const expected = (clusters: number) =>
-      mdes({ design: 'cluster', clusters, clusterSize: 22, icc: 0.2, r2Level1: 0, p: 0.5, alpha: 0.05, alternative: 'two-sided' }).mdes.toFixed(2);
+      mdes({ design: 'cluster', clusters, clusterSize: 22, icc: 0.2, r2Level1: 0, covariates: 3, p: 0.5, alpha: 0.05, alternative: 'two-sided' }).mdes.toFixed(2);
     await waitFor(() => expect(screen.getByTestId('planning-mdes')).toHaveTextContent(`${expected(16)} SD`));
 
     await user.type(screen.getByLabelText('Planned classrooms'), '0');
