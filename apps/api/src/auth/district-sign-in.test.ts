@@ -252,6 +252,18 @@ describe('password sign-in turned off for everyone but the admin', () => {
     expect(startThere.body.error.code).toBe('not_found');
   });
 
+  it('when the settings row is gone (a database emptied by seed --reset), then passwords are for everyone until the admin changes it', async () => {
+    await t.db.query(`DELETE FROM sign_in_settings`);
+    expect((await request(app).get('/api/auth/sign-in-options')).body.passwordSignIn).toBe('everyone');
+    const admin = await signIn(app, 'admin@evenhand.test');
+    expect((await admin.agent.get('/api/sign-in-settings')).body).toMatchObject({ passwordSignIn: 'everyone', updatedAt: null, updatedBy: null });
+    const off = await admin.agent.put('/api/sign-in-settings').set('x-csrf-token', admin.csrf).send({ passwordSignIn: 'admin_only' });
+    expect(off.body).toMatchObject({ passwordSignIn: 'admin_only', updatedBy: 'Avery Okafor' });
+    expect((await request(app).post('/api/auth/login').send({ email: 'lead@evenhand.test', password: DEMO_PASSWORD })).status).toBe(403);
+    await admin.agent.put('/api/sign-in-settings').set('x-csrf-token', admin.csrf).send({ passwordSignIn: 'everyone' });
+    expect((await request(app).post('/api/auth/login').send({ email: 'lead@evenhand.test', password: DEMO_PASSWORD })).status).toBe(200);
+  });
+
   it('refuses a setting outside the two choices, or with extra fields', async () => {
     const admin = await signIn(app, 'admin@evenhand.test');
     for (const body of [{ passwordSignIn: 'nobody' }, { passwordSignIn: 'everyone', extra: 1 }, {}]) {

@@ -177,18 +177,22 @@ export async function describeProblem({ db, config }: Pick<Deps, 'db' | 'config'
 
 interface SettingsRow {
   password_sign_in: PasswordSignIn;
-  updated_at: Date;
+  updated_at: Date | null;
   updated_by: string | null;
 }
 
+// The settings' one row; without it (a database emptied by `seed --reset`), passwords are for everyone.
+const SETTINGS = `SELECT coalesce(s.password_sign_in, 'everyone') AS password_sign_in, s.updated_at, s.updated_by
+                    FROM (VALUES (true)) AS one (singleton) LEFT JOIN sign_in_settings s USING (singleton)`;
+
 export async function signInSettings({ db, config }: Pick<Deps, 'db' | 'config'>): Promise<SignInSettings> {
   const [row]: SettingsRow[] = await db.query(
-    `SELECT s.password_sign_in, s.updated_at, u.name AS updated_by FROM sign_in_settings s LEFT JOIN users u ON u.id = s.updated_by`,
+    `SELECT s.password_sign_in, s.updated_at, u.name AS updated_by FROM (${SETTINGS}) s LEFT JOIN users u ON u.id = s.updated_by`,
   );
   return {
     passwordSignIn: row.password_sign_in,
     districtSignIn: config.districtSignIn !== null,
-    updatedAt: row.updated_at.toISOString(),
+    updatedAt: row.updated_at?.toISOString() ?? null,
     updatedBy: row.updated_by,
   };
 }
@@ -201,11 +205,14 @@ export async function updateSignInSettings(deps: Pick<Deps, 'db' | 'config'>, ac
     ]);
   }
   await deps.db.transaction(async (manager) => {
-    const [before]: { password_sign_in: PasswordSignIn }[] = await manager.query(
-      `SELECT password_sign_in FROM sign_in_settings FOR UPDATE`,
-    );
+    await manager.query(`SELECT 1 FROM sign_in_settings FOR UPDATE`);
+    const [before]: SettingsRow[] = await manager.query(SETTINGS);
     if (before.password_sign_in === passwordSignIn) return;
-    await manager.query(`UPDATE sign_in_settings SET password_sign_in = $1, updated_at = now(), updated_by = $2`, [passwordSignIn, actorId]);
+    await manager.query(
+      `INSERT INTO sign_in_settings (singleton, password_sign_in, updated_at, updated_by) VALUES (true, $1, now(), $2)
+       ON CONFLICT (singleton) DO UPDATE SET password_sign_in = $1, updated_at = now(), updated_by = $2`,
+      [passwordSignIn, actorId],
+    );
     await recordAudit(manager, {
       actorId,
       action: 'sign_in_settings.changed',
@@ -219,7 +226,7 @@ export async function updateSignInSettings(deps: Pick<Deps, 'db' | 'config'>, ac
 
 /** What the sign-in page offers besides the demo accounts. */
 export async function districtSignInOptions({ db, config }: Pick<Deps, 'db' | 'config'>) {
-  const [row]: { password_sign_in: PasswordSignIn }[] = await db.query(`SELECT password_sign_in FROM sign_in_settings`);
+  const [row]: SettingsRow[] = await db.query(SETTINGS);
   return { districtSignIn: config.districtSignIn !== null, passwordSignIn: row.password_sign_in };
 }
 
@@ -228,7 +235,7 @@ export async function passwordSignInAllowed(db: Deps['db'], userId: string): Pro
   const [row]: { allowed: boolean }[] = await db.query(
     `SELECT s.password_sign_in = 'everyone'
             OR EXISTS (SELECT 1 FROM role_grants g WHERE g.user_id = $1 AND g.role = 'admin') AS allowed
-       FROM sign_in_settings s`,
+       FROM (${SETTINGS}) s`,
     [userId],
   );
   return row.allowed;

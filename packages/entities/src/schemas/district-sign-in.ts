@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import { plainText } from './common.js';
 
 /** Who may sign in with a password: everyone, or (once the district's provider is in use) the admin only. */
 export const passwordSignInSchema = z.enum(['everyone', 'admin_only']);
@@ -10,7 +11,8 @@ export const signInSettingsSchema = z
     passwordSignIn: passwordSignInSchema,
     /** Whether the server has a district identity provider configured (OIDC_ISSUER_URL and its client). */
     districtSignIn: z.boolean(),
-    updatedAt: z.string(),
+    /** When and by whom the admin last changed them; null while they are the defaults. */
+    updatedAt: z.string().nullable(),
     updatedBy: z.string().nullable(),
   })
   .meta({ id: 'SignInSettings' });
@@ -29,13 +31,13 @@ export const districtSignInStartQuerySchema = z.object({ next: returnPathSchema.
 
 /** The callback's query, as the provider sends it; the library checks it (state, iss, code) in full. */
 export const districtSignInCallbackQuerySchema = z.object({
-  state: z.string().max(500).optional(),
-  code: z.string().max(2000).optional(),
-  iss: z.string().max(500).optional(),
-  error: z.string().max(200).optional(),
-  error_description: z.string().max(1000).optional(),
+  state: plainText().max(500).optional(),
+  code: plainText().max(2000).optional(),
+  iss: plainText().max(500).optional(),
+  error: plainText().max(200).optional(),
+  error_description: plainText().max(1000).optional(),
 });
 
 /** Why a sign-in with the district's provider did not end in a session; the sign-in page explains it. */
-export const districtSignInProblemQuerySchema = z.object({ ticket: z.string().min(1).max(2000) });
+export const districtSignInProblemQuerySchema = z.object({ ticket: plainText().min(1).max(2000) });
 export const districtSignInProblemSchema = z.object({ message: z.string() }).meta({ id: 'DistrictSignInProblem' });

@@ -1,8 +1,10 @@
 import {
   pageOf,
+  signInSettingsSchema,
   siteSchema,
   userSchema,
   type InviteUser,
+  type PasswordSignIn,
   type UpdateUser,
   type UsersQuery,
 } from '@evenhand/entities';
@@ -18,6 +20,7 @@ export const accountKeys = {
   lists: () => [...accountKeys.all, 'list'] as const,
   list: (query: UsersQuery) => [...accountKeys.lists(), query] as const,
   sites: () => [...accountKeys.all, 'sites'] as const,
+  signInSettings: () => [...accountKeys.all, 'sign-in-settings'] as const,
 };
 
 export function accountsQueryOptions(query: UsersQuery) {
@@ -51,5 +54,22 @@ export function useUpdateAccount() {
     mutationFn: ({ id, changes }: { id: string; changes: UpdateUser }) =>
       apiRequest(`/users/${id}`, { method: 'PATCH', body: changes, schema: userSchema }),
     onSuccess: () => queryClient.invalidateQueries({ queryKey: accountKeys.lists() }),
+  });
+}
+
+/** Who may sign in with a password, and whether the district's provider is set up. */
+export function signInSettingsQueryOptions() {
+  return queryOptions({
+    queryKey: accountKeys.signInSettings(),
+    queryFn: ({ signal }) => apiRequest('/sign-in-settings', { schema: signInSettingsSchema, signal }),
+  });
+}
+
+export function useUpdateSignInSettings() {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: (passwordSignIn: PasswordSignIn) =>
+      apiRequest('/sign-in-settings', { method: 'PUT', body: { passwordSignIn }, schema: signInSettingsSchema }),
+    onSuccess: (settings) => queryClient.setQueryData(accountKeys.signInSettings(), settings),
   });
 }

@@ -11,6 +11,7 @@ import { AccountAccess } from '@/features/accounts/components/account-access';
 import { AccountsTable } from '@/features/accounts/components/accounts-table';
 import { EditAccountForm } from '@/features/accounts/components/edit-account-form';
 import { InviteForm } from '@/features/accounts/components/invite-form';
+import { SignInSettings } from '@/features/accounts/components/sign-in-settings';
 
 const PAGE_SIZE = 25;
 const defaults = usersQuerySchema.parse({ limit: PAGE_SIZE });
@@ -109,6 +110,10 @@ export function AccountsPage({ toDo }: { toDo?: ReactNode }) {
         sites={siteList}
         onEdit={onEdit}
       />
+
+      <div className="mt-10">
+        <SignInSettings />
+      </div>
 
       <Dialog
         open={inviting}
