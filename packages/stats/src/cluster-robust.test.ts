@@ -125,7 +125,8 @@ describe('CR2 against a 50-digit computation from the full N × N definitions (m
   it('when scores and pretest are offset by 1e6, the engine keeps the centred answer and clubSandwich is the one that drifts', () => {
     // The offset data are the unbalanced-pretest data + 1e6 in y and the pretest: the answer is the same in exact
     // arithmetic. The 50-digit computation agrees with clubSandwich on the centred data (1e-12) and with the engine on
-    // both; clubSandwich on the offset data is off by ~1e-5 in the SE and ~1e-4 in df (its X'X has condition ~1e13).
+    // both; clubSandwich on the offset data is off by ~1e-5 in the SE and ~1e-4 in df (its uncentred X'X has condition
+    // number 2.5e24).
     const mp = highPrecision.cases.find((m) => m.id === 'offset-1e6') as MpCase;
     const centred = byId('unbalanced-pretest').expected;
     const offsetR = byId('offset-1e6').expected;
