@@ -8,6 +8,7 @@ import { createDataSource } from '../src/db/data-source.js';
 import { createLogger } from '../src/logger.js';
 import { startQueue, type JobQueue } from '../src/jobs/queue.js';
 import { startWorkers } from '../src/jobs/workers.js';
+import { startDigestWorkers } from '../src/digests/jobs.js';
 import { createMailer } from '../src/mail/mailer.js';
 import { DEMO_PASSWORD } from '../src/seed/demo.js';
 import { inject } from 'vitest';
@@ -35,8 +36,11 @@ export function testConfig(databaseUrl: string, overrides: Record<string, string
   });
 }
 
-/** A fresh database cloned from the template and the real app on top of it. */
-export async function startTestApp(overrides: { databaseUrl?: string; workers?: boolean } = {}): Promise<TestApp> {
+/**
+ * A fresh database cloned from the template and the real app on top of it. `workers` starts the run workers too; the
+ * outbox's sender (every e-mail goes through it) runs unless `mail: false` (tests that start their own sender).
+ */
+export async function startTestApp(overrides: { databaseUrl?: string; workers?: boolean; mail?: boolean } = {}): Promise<TestApp> {
   const name = `evenhand_t_${randomBytes(6).toString('hex')}`;
   await withAdminClient((c) => c.query(`CREATE DATABASE ${name} TEMPLATE ${inject('templateDb')}`));
   const databaseUrl = overrides.databaseUrl ?? urlForDatabase(name);
@@ -47,6 +51,7 @@ export async function startTestApp(overrides: { databaseUrl?: string; workers?: 
   const logger = createLogger(config);
   const jobs = await startQueue(databaseUrl, logger);
   if (overrides.workers) await startWorkers(jobs, db, logger, 0.5);
+  if (overrides.mail ?? true) await startDigestWorkers(jobs, db, logger, 0.5, { mailer, config, schedule: false });
   const deps = { config, db, mailer, logger, jobs };
   return {
     jobs,

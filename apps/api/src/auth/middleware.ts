@@ -4,7 +4,7 @@ import type { SessionUser } from '@evenhand/entities';
 import type { Deps } from '../deps.js';
 import { AppError } from '../errors.js';
 import type { Access } from '../http/route.js';
-import { loadSessionUser } from './service.js';
+import { checkSession } from './service.js';
 import { CSRF_HEADER, csrfTokenFor, renewSession, SESSION_COOKIE, setSessionCookies, verifySession } from './session.js';
 
 declare global {
@@ -35,11 +35,12 @@ export function authenticate({ config, db }: Deps): RequestHandler {
       return next();
     }
     // One indexed query: the account, still active, at the token's session version, with its grants.
-    const user = await loadSessionUser(db, claims.sub, claims.sv);
-    if (!user) {
-      req.authProblem = 'Your session has ended (signed out, password changed or account changed); please sign in again';
+    const session = await checkSession(db, claims.sub, claims.sv);
+    if ('problem' in session) {
+      req.authProblem = session.problem;
       return next();
     }
+    const { user } = session;
     req.user = user;
     req.authVia = bearer ? 'bearer' : 'cookie';
     req.csrfToken = csrfTokenFor(config, claims.jti);

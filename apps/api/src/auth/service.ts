@@ -5,6 +5,7 @@ import { AuthTokenEntity, UserEntity, type AuthTokenKind } from '@evenhand/entit
 import type { Deps } from '../deps.js';
 import { AppError } from '../errors.js';
 import { recordAudit } from '../audit/service.js';
+import { queueMail, type MailContext } from '../mail/outbox.js';
 import { invitationMail, passwordResetMail } from '../mail/templates.js';
 import { DEMO_PASSWORD, featuredDemoAccounts } from '../seed/demo.js';
 import { districtSignInOptions, PASSWORD_SIGN_IN_OFF, passwordSignInAllowed } from './district-sign-in.js';
@@ -13,21 +14,34 @@ import type { NewSession } from './session.js';
 
 const TOKEN_HOURS: Record<AuthTokenKind, number> = { password_reset: 1, invitation: 72 };
 
-/**
- * The signed-in user with their grants (and their schools' names), or null if the account is gone or deactivated or,
- * given a session version, has moved past it. One query on indexed keys: it runs on every request.
- */
-export async function loadSessionUser(db: DataSource | EntityManager, id: string, sessionVersion?: number): Promise<SessionUser | null> {
-  const [row]: SessionUser[] = await db.query(
-    `SELECT u.id, u.email, u.name,
+/** The account with its grants and their schools' names, in one query on indexed keys (it runs on every request). */
+async function sessionRow(db: DataSource | EntityManager, id: string): Promise<(SessionUser & { active: boolean; session_version: number }) | undefined> {
+  const [row] = await db.query(
+    `SELECT u.id, u.email, u.name, u.active, u.session_version,
             coalesce(json_agg(json_build_object('role', g.role, 'siteId', g.site_id, 'siteName', s.name) ORDER BY g.created_at, g.id)
                      FILTER (WHERE g.id IS NOT NULL), '[]') AS roles
        FROM users u LEFT JOIN role_grants g ON g.user_id = u.id LEFT JOIN sites s ON s.id = g.site_id
-      WHERE u.id = $1 AND u.active AND ($2::int IS NULL OR u.session_version = $2)
+      WHERE u.id = $1
       GROUP BY u.id`,
-    [id, sessionVersion ?? null],
+    [id],
   );
-  return row ?? null;
+  return row;
+}
+
+const sessionUser = ({ id, email, name, roles }: SessionUser): SessionUser => ({ id, email, name, roles });
+
+/** The signed-in user with their grants, or null if the account is gone or deactivated. */
+export async function loadSessionUser(db: DataSource | EntityManager, id: string): Promise<SessionUser | null> {
+  const row = await sessionRow(db, id);
+  return row?.active ? sessionUser(row) : null;
+}
+
+/** A token's account, if it is active and still at the token's session version; else why the token is refused. */
+export async function checkSession(db: DataSource, id: string, sessionVersion: number): Promise<{ user: SessionUser } | { problem: string }> {
+  const row = await sessionRow(db, id);
+  if (!row?.active) return { problem: 'This account is no longer active' };
+  if (row.session_version !== sessionVersion) return { problem: 'Your session has ended (signed out, or the password or roles changed); please sign in again' };
+  return { user: sessionUser(row) };
 }
 
 /** Ends every session of the account (all its tokens and cookies), inside the caller's transaction. */
@@ -66,20 +80,37 @@ export async function issueToken(manager: EntityManager, userId: string, kind: A
   return token;
 }
 
-export function setPasswordLink(deps: Deps, token: string): string {
-  return `${deps.config.appUrl}/set-password?token=${encodeURIComponent(token)}`;
+export function setPasswordLink(ctx: { config: Pick<Deps['config'], 'appUrl'> }, token: string): string {
+  return `${ctx.config.appUrl}/set-password?token=${encodeURIComponent(token)}`;
 }
 
-export async function sendInvitation(deps: Deps, user: { email: string; name: string }, token: string, invitedBy: string) {
-  await deps.mailer.send({ to: user.email, ...invitationMail({ name: user.name, invitedBy, link: setPasswordLink(deps, token) }) });
+/** Puts a new account's invitation (a set-password link) in the outbox, inside the caller's transaction. */
+export async function queueInvitation(
+  manager: EntityManager,
+  ctx: MailContext & { config: Pick<Deps['config'], 'appUrl'> },
+  invitation: { userId: string; email: string; name: string; token: string; invitedBy: { id: string; name: string }; studyId?: string | null },
+): Promise<void> {
+  const message = invitationMail({ name: invitation.name, invitedBy: invitation.invitedBy.name, link: setPasswordLink(ctx, invitation.token) });
+  await queueMail(manager, ctx, { kind: 'invitation', recipient: { id: invitation.userId, email: invitation.email }, message, actorId: invitation.invitedBy.id, studyId: invitation.studyId });
 }
 
-/** Always answers the same way, whether or not the address has an account. */
-export async function requestPasswordReset(deps: Deps, email: string): Promise<void> {
-  const user = await deps.db.getRepository(UserEntity).findOne({ where: { email, active: true } });
-  if (!user) return;
-  const token = await issueToken(deps.db.manager, user.id, 'password_reset');
-  await deps.mailer.send({ to: user.email, ...passwordResetMail({ name: user.name, link: setPasswordLink(deps, token) }) });
+/**
+ * Answers before anything about the address is looked up or written: the request only enqueues a job, so a known
+ * and an unknown address cost the same (the job writes the token and the e-mail for an address with an account).
+ */
+export async function requestPasswordReset(deps: Pick<Deps, 'jobs'>, email: string): Promise<void> {
+  await deps.jobs.enqueuePasswordReset(email);
+}
+
+/** The queued half of a password reset: for an active account, a single-use token and its e-mail, in one transaction. */
+export async function sendPasswordReset(ctx: { db: DataSource; config: Pick<Deps['config'], 'appUrl'>; jobs: MailContext['jobs'] }, email: string): Promise<void> {
+  await ctx.db.transaction(async (manager) => {
+    const user = await manager.findOne(UserEntity, { where: { email, active: true } });
+    if (!user) return;
+    const token = await issueToken(manager, user.id, 'password_reset');
+    const message = passwordResetMail({ name: user.name, link: setPasswordLink(ctx, token) });
+    await queueMail(manager, ctx, { kind: 'password_reset', recipient: { id: user.id, email: user.email }, message, actorId: null });
+  });
 }
 
 /** Sets a password from an invitation or reset token; the token works once, before it expires. */

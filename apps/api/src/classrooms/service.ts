@@ -15,7 +15,7 @@ import type { Deps } from '../deps.js';
 import { AppError } from '../errors.js';
 import { readSmallCsv } from '../lib/csv.js';
 import { findVisibleStudy, hasRole, sitesOf } from '../studies/access.js';
-import { ensurePerson, sendInvitations, type PendingInvitation } from '../users/service.js';
+import { ensurePerson } from '../users/service.js';
 
 interface ClassroomRow {
   id: string;
@@ -93,8 +93,8 @@ export async function createCohort(db: DataSource, user: SessionUser, studyId: s
   });
 }
 
-async function insertClassroom(manager: EntityManager, actor: SessionUser, studyId: string, input: CreateClassroom) {
-  const { userId, invitation } = await ensurePerson(manager, actor, input.teacher, { role: 'teacher', siteId: input.siteId }, studyId);
+async function insertClassroom(manager: EntityManager, deps: Pick<Deps, 'config' | 'jobs'>, actor: SessionUser, studyId: string, input: CreateClassroom) {
+  const { userId } = await ensurePerson(manager, deps, actor, input.teacher, { role: 'teacher', siteId: input.siteId }, studyId);
   const clash = await manager.query(`SELECT 1 FROM classrooms WHERE study_id = $1 AND site_id = $2 AND lower(name) = lower($3)`, [studyId, input.siteId, input.name]);
   if (clash.length) throw AppError.conflict(`This site already has a classroom named “${input.name}”`, { issues: [{ path: 'name', message: 'Already used at this site' }] });
   const saved = await manager.save(
@@ -110,28 +110,25 @@ async function insertClassroom(manager: EntityManager, actor: SessionUser, study
     }),
   );
   await recordAudit(manager, { actorId: actor.id, studyId, action: 'classroom.created', entityType: 'classroom', entityId: saved.id, after: input });
-  return { id: saved.id, invitation };
+  return saved.id;
 }
 
 export async function createClassroom(deps: Deps, actor: SessionUser, studyId: string, input: CreateClassroom): Promise<Classroom> {
-  const { classroom, invitation } = await deps.db.transaction(async (manager) => {
+  return deps.db.transaction(async (manager) => {
     await findVisibleStudy(manager, actor, studyId, true);
     await refuseAfterDraw(manager, studyId);
     const issues = [];
     if (!(await manager.existsBy(StudySiteEntity, { studyId, siteId: input.siteId }))) issues.push({ path: 'siteId', message: 'Enrol this site in the study first' });
     if (!(await manager.existsBy(CohortEntity, { studyId, id: input.cohortId }))) issues.push({ path: 'cohortId', message: 'Choose one of this study’s cohorts' });
     if (issues.length) throw AppError.validation('The classroom refers to a site or cohort outside this study', issues);
-    const { id, invitation } = await insertClassroom(manager, actor, studyId, input);
-    return { classroom: await classroomById(manager, id), invitation };
+    return classroomById(manager, await insertClassroom(manager, deps, actor, studyId, input));
   });
-  await sendInvitations(deps, actor, [invitation]);
-  return classroom;
 }
 
 /** Bulk add from CSV: every row is checked first; one bad row and nothing is written. */
 export async function importClassrooms(deps: Deps, actor: SessionUser, studyId: string, file: Buffer): Promise<{ created: number; classrooms: Classroom[] }> {
   const rows = await readSmallCsv(file, classroomCsvColumns, 2000, 'classrooms');
-  const { created, invitations } = await deps.db.transaction(async (manager) => {
+  const created = await deps.db.transaction(async (manager) => {
     await findVisibleStudy(manager, actor, studyId, true);
     await refuseAfterDraw(manager, studyId);
     const enrolled: { id: string; code: string }[] = await manager.query(
@@ -159,7 +156,6 @@ export async function importClassrooms(deps: Deps, actor: SessionUser, studyId: 
 
     const cohortIds = new Map<string, string>();
     for (const c of await manager.findBy(CohortEntity, { studyId })) cohortIds.set(c.name.toLowerCase(), c.id);
-    const invitations: (PendingInvitation | null)[] = [];
     for (const r of valid) {
       let cohortId = cohortIds.get(r.cohort.toLowerCase());
       if (!cohortId) {
@@ -167,7 +163,7 @@ export async function importClassrooms(deps: Deps, actor: SessionUser, studyId: 
         cohortIds.set(r.cohort.toLowerCase(), cohortId);
       }
       try {
-        const { invitation } = await insertClassroom(manager, actor, studyId, {
+        await insertClassroom(manager, deps, actor, studyId, {
           siteId: r.siteId,
           cohortId,
           name: r.classroom,
@@ -175,7 +171,6 @@ export async function importClassrooms(deps: Deps, actor: SessionUser, studyId: 
           expectedSize: r.expected_size,
           teacher: { email: r.teacher_email, name: r.teacher_name },
         });
-        invitations.push(invitation);
       } catch (err) {
         if (err instanceof AppError && err.code === 'conflict') {
           throw new AppError('validation_failed', '1 problem in the file; nothing was imported', { rows: [{ row: r.line, column: 'classroom', message: err.message }] });
@@ -183,24 +178,19 @@ export async function importClassrooms(deps: Deps, actor: SessionUser, studyId: 
         throw err;
       }
     }
-    return { created: valid.length, invitations };
+    return valid.length;
   });
-  await sendInvitations(deps, actor, invitations);
   return { created, classrooms: (await listClassrooms(deps.db, actor, studyId)).items };
 }
 
 export async function updateClassroom(deps: Deps, actor: SessionUser, id: string, input: UpdateClassroom): Promise<Classroom> {
-  const { classroom, invitation } = await deps.db.transaction(async (manager) => {
+  return deps.db.transaction(async (manager) => {
     const before = await classroomById(manager, id);
     await findVisibleStudy(manager, actor, before.studyId, true);
     if (input.cohortId && !(await manager.existsBy(CohortEntity, { studyId: before.studyId, id: input.cohortId }))) {
       throw AppError.validation('Choose one of this study’s cohorts', [{ path: 'cohortId', message: 'Not a cohort of this study' }]);
     }
-    let invitation: PendingInvitation | null = null;
-    let teacherId: string | undefined;
-    if (input.teacher) {
-      ({ userId: teacherId, invitation } = await ensurePerson(manager, actor, input.teacher, { role: 'teacher', siteId: before.siteId }, before.studyId));
-    }
+    const teacherId = input.teacher ? (await ensurePerson(manager, deps, actor, input.teacher, { role: 'teacher', siteId: before.siteId }, before.studyId)).userId : undefined;
     await manager.update(ClassroomEntity, id, {
       ...(input.name !== undefined ? { name: input.name } : {}),
       ...(input.grade !== undefined ? { grade: input.grade } : {}),
@@ -210,9 +200,7 @@ export async function updateClassroom(deps: Deps, actor: SessionUser, id: string
     });
     const after = await classroomById(manager, id);
     await recordAudit(manager, { actorId: actor.id, studyId: before.studyId, action: 'classroom.updated', entityType: 'classroom', entityId: id, before, after });
-    return { classroom: after, invitation };
+    return after;
   });
-  await sendInvitations(deps, actor, [invitation]);
-  return classroom;
 }
 

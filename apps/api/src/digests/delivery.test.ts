@@ -78,7 +78,7 @@ async function sendNow(): Promise<string> {
 
 beforeAll(async () => {
   if ((await portOpen(SMTP_PORT)) || (await portOpen(WEB_PORT))) throw new Error(`ports ${SMTP_PORT}/${WEB_PORT} are taken; this test needs its own maildev`);
-  t = await startTestApp();
+  t = await startTestApp({ mail: false }); // its own sender, below
   const logger = createLogger({ logLevel: 'silent' });
   mailer = createMailer({ ...t.config, smtp: { ...t.config.smtp, port: SMTP_PORT } });
   // Waits of 0.5, 1, 2, 4 and 8 seconds: about 16 seconds from the first attempt to undeliverable.

@@ -66,7 +66,7 @@ async function lockText(siteId: string): Promise<string> {
 const ctx = () => ({ db: t.db, config: t.config, jobs: t.jobs, logger });
 
 beforeAll(async () => {
-  t = await startTestApp();
+  t = await startTestApp({ mail: false }); // its own sender, below
   mailer = createMailer(t.config);
   await startWorkers(t.jobs, t.db, logger, 0.5, { mailer, config: t.config, schedule: false, delivery: { maxAttempts: 3, baseDelaySeconds: 1, maxDelaySeconds: 2 } });
   s = await createStudy(t.app);

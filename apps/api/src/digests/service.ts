@@ -173,9 +173,12 @@ interface DigestRow {
   sent_at: Date | null;
 }
 
-function messageId(config: Pick<Config, 'mailFrom'>, digestId: string): string {
+/** Kinds of outbox message that are digests (the others are invitations, password resets and reminders). */
+const digestKinds = ['weekly', 'lock', 'manual'];
+
+function messageId(config: Pick<Config, 'mailFrom'>, kind: string, id: string): string {
   const domain = config.mailFrom.match(/@([^>\s]+)/)?.[1] ?? 'evenhand.invalid';
-  return `<digest-${digestId}@${domain}>`;
+  return `<${digestKinds.includes(kind) ? 'digest' : kind.replace('_', '-')}-${id}@${domain}>`;
 }
 
 function describeFailure(err: unknown): string {
@@ -194,13 +197,13 @@ export interface DeliveryContext {
 }
 
 /**
- * One delivery attempt. The digest's row stays locked while the SMTP server is asked, so a second worker
+ * One delivery attempt of any message in the outbox (digests and every other e-mail). The row stays locked while the SMTP server is asked, so a second worker
  * holding a duplicate job skips it, and a digest is marked sent only once the server has accepted it.
  */
 export async function deliverDigest(ctx: DeliveryContext, digestId: string): Promise<void> {
   await ctx.db.transaction(async (manager) => {
     const [d]: DigestRow[] = await manager.query(
-      `SELECT id, recipient_id, recipient_email, subject, html, text, attempts FROM digests
+      `SELECT id, kind, recipient_id, recipient_email, subject, html, text, attempts FROM digests
         WHERE id = $1 AND state IN ('queued', 'retrying') FOR UPDATE SKIP LOCKED`,
       [digestId],
     );
@@ -213,15 +216,15 @@ export async function deliverDigest(ctx: DeliveryContext, digestId: string): Pro
         subject: d.subject,
         text: d.text!,
         html: d.html!,
-        messageId: messageId(ctx.config, d.id),
-        // RFC 8058: mail programs can offer their own one-click unsubscribe.
-        headers: { 'List-Unsubscribe': `<${unsubscribe}>`, 'List-Unsubscribe-Post': 'List-Unsubscribe=One-Click' },
+        messageId: messageId(ctx.config, d.kind, d.id),
+        // RFC 8058: mail programs can offer their own one-click unsubscribe (of digests; other mail is not optional).
+        ...(digestKinds.includes(d.kind) ? { headers: { 'List-Unsubscribe': `<${unsubscribe}>`, 'List-Unsubscribe-Post': 'List-Unsubscribe=One-Click' } } : {}),
       });
     } catch (err) {
       const error = describeFailure(err);
       if (attempts >= ctx.delivery.maxAttempts) {
         await manager.query(`UPDATE digests SET state = 'undeliverable', attempts = $2, last_error = $3, next_attempt_at = NULL WHERE id = $1`, [d.id, attempts, error]);
-        ctx.logger.warn({ digestId, attempts, error }, 'digest undeliverable');
+        ctx.logger.warn({ digestId, kind: d.kind, attempts, error }, 'outbox message undeliverable');
       } else {
         const wait = retryDelaySeconds(ctx.delivery, attempts);
         await manager.query(
@@ -359,10 +362,10 @@ export async function listDigests(db: DataSource, user: SessionUser, studyId: st
   const filter = query.state ? 'AND d.state = $2' : '';
   const params: unknown[] = query.state ? [studyId, query.state] : [studyId];
   const rows: DigestRow[] = await db.query(
-    `${digestSelect} WHERE d.study_id = $1 ${filter} ORDER BY d.created_at DESC, s.name, d.recipient_email LIMIT ${query.limit} OFFSET ${query.offset}`,
+    `${digestSelect} WHERE d.study_id = $1 AND d.kind = ANY('{weekly,lock,manual}') ${filter} ORDER BY d.created_at DESC, s.name, d.recipient_email LIMIT ${query.limit} OFFSET ${query.offset}`,
     params,
   );
-  const [{ total }] = await db.query(`SELECT count(*)::int AS total FROM digests d WHERE d.study_id = $1 ${filter}`, params);
+  const [{ total }] = await db.query(`SELECT count(*)::int AS total FROM digests d WHERE d.study_id = $1 AND d.kind = ANY('{weekly,lock,manual}') ${filter}`, params);
   return { items: rows.map(toDigest), total };
 }
 

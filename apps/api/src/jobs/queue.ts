@@ -9,12 +9,16 @@ export const DIGEST_SEND_QUEUE = 'digest-send';
 export const DIGEST_TICK_QUEUE = 'digest-tick';
 /** The schedule's tick for monitoring runs: queues each comparison's run when its own cron says it is due. */
 export const MONITORING_TICK_QUEUE = 'monitoring-tick';
+/** A password reset asked for: the job looks the address up and, if it has an account, writes the token and the e-mail. */
+export const PASSWORD_RESET_QUEUE = 'password-reset-request';
 
 export interface JobQueue {
   /** Enqueues a run inside the caller's transaction: the run row and its job commit together or not at all. */
   enqueueRun(manager: EntityManager, runId: string): Promise<void>;
   /** Enqueues a digest's delivery inside the caller's transaction, optionally after a delay (a retry). */
   enqueueDigest(manager: EntityManager, digestId: string, afterSeconds?: number): Promise<void>;
+  /** Enqueues a password-reset request: the same work whether or not the address has an account. */
+  enqueuePasswordReset(email: string): Promise<void>;
   boss: PgBoss;
   stop(): Promise<void>;
 }
@@ -36,6 +40,7 @@ export async function startQueue(databaseUrl: string, logger: Logger, timing: Qu
   await boss.createQueue(DIGEST_TICK_QUEUE, { name: DIGEST_TICK_QUEUE, retryLimit: 1, expireInMinutes: 10 });
   // A missed tick is made up by the next one (the slot stays due for a while), so no retries.
   await boss.createQueue(MONITORING_TICK_QUEUE, { name: MONITORING_TICK_QUEUE, retryLimit: 0, expireInMinutes: 5 });
+  await boss.createQueue(PASSWORD_RESET_QUEUE, { name: PASSWORD_RESET_QUEUE, retryLimit: 3, retryDelay: 10, retryBackoff: true, expireInMinutes: 5 });
   const inTransaction = (manager: EntityManager) => ({ executeSql: async (text: string, values: unknown[]) => ({ rows: await manager.query(text, values) }) });
   return {
     boss,
@@ -45,6 +50,9 @@ export async function startQueue(databaseUrl: string, logger: Logger, timing: Qu
     },
     async enqueueDigest(manager, digestId, afterSeconds) {
       await boss.send(DIGEST_SEND_QUEUE, { digestId }, { db: inTransaction(manager), singletonKey: digestId, ...(afterSeconds ? { startAfter: afterSeconds } : {}) });
+    },
+    async enqueuePasswordReset(email) {
+      await boss.send(PASSWORD_RESET_QUEUE, { email });
     },
     stop: () => boss.stop({ graceful: true, timeout: 10_000 }),
   };

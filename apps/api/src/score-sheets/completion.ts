@@ -1,6 +1,7 @@
 import type { DataSource } from 'typeorm';
 import type { SessionUser, SheetState } from '@evenhand/entities';
 import type { Deps } from '../deps.js';
+import { queueMail } from '../mail/outbox.js';
 import { reminderMail } from '../mail/templates.js';
 import { findVisibleStudy } from '../studies/access.js';
 import { ensureSheets } from './service.js';
@@ -74,14 +75,17 @@ export async function sendReminders(deps: Deps, user: SessionUser, studyId: stri
   const missing = (await cells(deps.db, studyId)).filter(
     (c) => c.wave_started && (c.state === 'open' || c.state === 'returned') && (!waveId || c.wave_id === waveId),
   );
-  const byTeacher = new Map<string, { email: string; name: string; items: string[] }>();
+  const byTeacher = new Map<string, { id: string; email: string; name: string; items: string[] }>();
   for (const c of missing) {
-    const t = byTeacher.get(c.teacher_id) ?? { email: c.teacher_email, name: c.teacher_name, items: [] };
+    const t = byTeacher.get(c.teacher_id) ?? { id: c.teacher_id, email: c.teacher_email, name: c.teacher_name, items: [] };
     t.items.push(`${c.classroom_name} (${c.site_name}) — ${c.wave_name}, ${c.measure_name}${c.state === 'returned' ? ' (returned for corrections)' : ''}`);
     byTeacher.set(c.teacher_id, t);
   }
-  for (const t of byTeacher.values()) {
-    await deps.mailer.send({ to: t.email, ...reminderMail({ name: t.name, studyTitle: study.title, missing: t.items, link: `${deps.config.appUrl}/my-classes` }) });
-  }
+  await deps.db.transaction(async (manager) => {
+    for (const t of byTeacher.values()) {
+      const message = reminderMail({ name: t.name, studyTitle: study.title, missing: t.items, link: `${deps.config.appUrl}/my-classes` });
+      await queueMail(manager, deps, { kind: 'reminder', recipient: { id: t.id, email: t.email }, message, actorId: user.id, studyId });
+    }
+  });
   return { teachersReminded: byTeacher.size, sheetsMissing: missing.length };
 }

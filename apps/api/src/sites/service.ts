@@ -6,7 +6,7 @@ import type { Deps } from '../deps.js';
 import { AppError } from '../errors.js';
 import { findVisibleStudy, hasRole, sitesOf } from '../studies/access.js';
 import { advanceStatus } from '../studies/service.js';
-import { ensurePerson, sendInvitations, type PendingInvitation } from '../users/service.js';
+import { ensurePerson } from '../users/service.js';
 
 interface SiteRow {
   id: string;
@@ -56,16 +56,22 @@ async function siteById(manager: EntityManager, id: string): Promise<Site> {
   return toSite(rows[0]);
 }
 
-async function assignPrincipal(manager: EntityManager, actor: SessionUser, siteId: string, principal: { email: string; name: string } | undefined, studyId: string | null) {
-  if (!principal) return null;
-  const { userId, invitation } = await ensurePerson(manager, actor, principal, { role: 'principal', siteId }, studyId);
+async function assignPrincipal(
+  manager: EntityManager,
+  deps: Pick<Deps, 'config' | 'jobs'>,
+  actor: SessionUser,
+  siteId: string,
+  principal: { email: string; name: string } | undefined,
+  studyId: string | null,
+) {
+  if (!principal) return;
+  const { userId } = await ensurePerson(manager, deps, actor, principal, { role: 'principal', siteId }, studyId);
   await manager.update(SiteEntity, siteId, { principalId: userId });
-  return invitation;
 }
 
 /** Enrols an existing school, or registers a new one, in a study; invites its principal if new. */
 export async function enrolSite(deps: Deps, actor: SessionUser, studyId: string, input: EnrolSite): Promise<Site> {
-  const { site, invitation } = await deps.db.transaction(async (manager) => {
+  return deps.db.transaction(async (manager) => {
     await findVisibleStudy(manager, actor, studyId, true);
     let siteId: string;
     if ('siteId' in input) {
@@ -78,14 +84,12 @@ export async function enrolSite(deps: Deps, actor: SessionUser, studyId: string,
     }
     if (await manager.existsBy(StudySiteEntity, { studyId, siteId })) throw AppError.conflict('This site is already enrolled in the study');
     await manager.insert(StudySiteEntity, { studyId, siteId });
-    const invitation = await assignPrincipal(manager, actor, siteId, input.principal, studyId);
+    await assignPrincipal(manager, deps, actor, siteId, input.principal, studyId);
     await advanceStatus(manager, studyId, 'enrolling', actor.id);
     const site = await siteById(manager, siteId);
     await recordAudit(manager, { actorId: actor.id, studyId, action: 'site.enrolled', entityType: 'site', entityId: siteId, after: site });
-    return { site, invitation };
+    return site;
   });
-  await sendInvitations(deps, actor, [invitation]);
-  return site;
 }
 
 /** Coordinators and leads see any site; a principal only their own (others answer 404). */
@@ -95,18 +99,15 @@ export async function getSite(db: DataSource, user: SessionUser, id: string): Pr
 }
 
 export async function updateSite(deps: Deps, actor: SessionUser, id: string, input: UpdateSite): Promise<Site> {
-  let invitation: PendingInvitation | null = null;
-  const site = await deps.db.transaction(async (manager) => {
+  return deps.db.transaction(async (manager) => {
     const before = await siteById(manager, id);
     if (input.code && input.code !== before.code && (await manager.existsBy(SiteEntity, { code: input.code }))) {
       throw AppError.conflict(`Site code ${input.code} is already used`, { issues: [{ path: 'code', message: 'This code is already used' }] });
     }
     if (input.name || input.code) await manager.update(SiteEntity, id, { name: input.name ?? before.name, code: input.code ?? before.code });
-    invitation = await assignPrincipal(manager, actor, id, input.principal, null);
+    await assignPrincipal(manager, deps, actor, id, input.principal, null);
     const after = await siteById(manager, id);
     await recordAudit(manager, { actorId: actor.id, action: 'site.updated', entityType: 'site', entityId: id, before, after });
     return after;
   });
-  await sendInvitations(deps, actor, [invitation]);
-  return site;
 }

@@ -4,7 +4,7 @@ import { RoleGrantEntity, SiteEntity, UserEntity } from '@evenhand/entities/orm'
 import type { Deps } from '../deps.js';
 import { AppError } from '../errors.js';
 import { recordAudit } from '../audit/service.js';
-import { endSessions, issueToken, sendInvitation } from '../auth/service.js';
+import { endSessions, issueToken, queueInvitation } from '../auth/service.js';
 
 function toUser(u: UserEntity): User {
   return {
@@ -58,7 +58,7 @@ async function replaceGrants(manager: EntityManager, userId: string, grants: Rol
 
 /** Creates the account without a password and e-mails a set-password link. */
 export async function inviteUser(deps: Deps, actor: SessionUser, input: InviteUser): Promise<User> {
-  const { user, token } = await deps.db.transaction(async (manager) => {
+  const user = await deps.db.transaction(async (manager) => {
     if (await manager.existsBy(UserEntity, { email: input.email })) {
       throw AppError.conflict('An account with this e-mail address already exists', { issues: [{ path: 'email', message: 'This address already has an account' }] });
     }
@@ -66,6 +66,7 @@ export async function inviteUser(deps: Deps, actor: SessionUser, input: InviteUs
     const created = await manager.save(manager.create(UserEntity, { email: input.email, name: input.name, passwordHash: null, active: true }));
     await replaceGrants(manager, created.id, input.roles);
     const token = await issueToken(manager, created.id, 'invitation');
+    await queueInvitation(manager, deps, { userId: created.id, email: created.email, name: created.name, token, invitedBy: actor });
     await recordAudit(manager, {
       actorId: actor.id,
       action: 'user.invited',
@@ -74,9 +75,8 @@ export async function inviteUser(deps: Deps, actor: SessionUser, input: InviteUs
       after: { email: input.email, name: input.name, roles: input.roles },
     });
     created.grants = await manager.findBy(RoleGrantEntity, { userId: created.id });
-    return { user: created, token };
+    return created;
   });
-  await sendInvitations(deps, actor, [{ email: user.email, name: user.name, token }]);
   return toUser(user);
 }
 
@@ -113,23 +113,18 @@ export async function updateUser(deps: Deps, actor: SessionUser, id: string, inp
   });
 }
 
-export interface PendingInvitation {
-  email: string;
-  name: string;
-  token: string;
-}
-
 /**
  * Makes sure a person has an account with the given grant: an existing account gets the grant
- * added; a new address gets an account without a password and an invitation to send after commit.
+ * added; a new address gets an account without a password and an invitation in the outbox.
  */
 export async function ensurePerson(
   manager: EntityManager,
+  ctx: Pick<Deps, 'config' | 'jobs'>,
   actor: SessionUser,
   person: { email: string; name: string },
   grant: RoleGrant,
   studyId: string | null,
-): Promise<{ userId: string; invitation: PendingInvitation | null }> {
+): Promise<{ userId: string; invited: boolean }> {
   const existing = await manager.findOneBy(UserEntity, { email: person.email });
   const user = existing ?? (await manager.save(manager.create(UserEntity, { email: person.email, name: person.name, passwordHash: null, active: true })));
   const inserted = await manager.query(
@@ -146,10 +141,9 @@ export async function ensurePerson(
       after: { email: user.email, added: grant },
     });
   }
-  if (existing) return { userId: user.id, invitation: null };
-  return { userId: user.id, invitation: { email: user.email, name: user.name, token: await issueToken(manager, user.id, 'invitation') } };
-}
-
-export async function sendInvitations(deps: Deps, actor: SessionUser, invitations: (PendingInvitation | null)[]) {
-  for (const i of invitations) if (i) await sendInvitation(deps, i, i.token, actor.name);
+  if (!existing) {
+    const token = await issueToken(manager, user.id, 'invitation');
+    await queueInvitation(manager, ctx, { userId: user.id, email: user.email, name: user.name, token, invitedBy: actor, studyId });
+  }
+  return { userId: user.id, invited: !existing };
 }

@@ -82,7 +82,7 @@ describe('accounts (admin)', () => {
     expect(unknownSite.body.error.message).toMatch(/site that does not exist/);
   });
 
-  it('when grants change, then the change is audited with before and after, and the user sees the new roles', async () => {
+  it('when grants change, then the change is audited with before and after, the live session ends, and the next one has the new roles', async () => {
     const reviewer = await signIn(t.app, 'reviewer@evenhand.test');
     const res = await admin.agent
       .patch(`/api/users/${reviewer.userId}`)
@@ -95,7 +95,8 @@ describe('accounts (admin)', () => {
     ]);
     const [event] = await audit(reviewer.userId);
     expect(event).toMatchObject({ action: 'user.roles_changed', actor_id: admin.userId, before: [{ role: 'reviewer', siteId: null }] });
-    expect((await reviewer.agent.get('/api/auth/me')).body.user.roles).toHaveLength(2);
+    expect((await reviewer.agent.get('/api/auth/me')).status).toBe(401);
+    expect((await (await signIn(t.app, 'reviewer@evenhand.test')).agent.get('/api/auth/me')).body.user.roles).toHaveLength(2);
   });
 
   it('when an account is deactivated, then its live session stops working at once and it cannot sign in', async () => {
