@@ -16,7 +16,7 @@ export function auditRouter(deps: Deps, registry: OpenAPIRegistry) {
       query: auditQuerySchema,
       responses: { 200: { description: 'A page of audit events', schema: pageOf(auditEventSchema) } },
     },
-    async ({ query }) => ({ body: await listAudit(deps.db.manager, query) }),
+    async ({ query, user }) => ({ body: await listAudit(deps.db.manager, user!, query) }),
   );
   return r.router;
 }

@@ -1,5 +1,5 @@
 import type { EntityManager } from 'typeorm';
-import type { AuditEvent, AuditQuery } from '@evenhand/entities';
+import { studentValueViewerRoles, type AuditEvent, type AuditQuery, type SessionUser } from '@evenhand/entities';
 import { AuditEventEntity, UserEntity } from '@evenhand/entities/orm';
 
 export interface AuditEntry {
@@ -26,7 +26,20 @@ export async function recordAudit(manager: EntityManager, entry: AuditEntry): Pr
   });
 }
 
-export async function listAudit(manager: EntityManager, query: AuditQuery): Promise<{ items: AuditEvent[]; total: number }> {
+/** Audit actions whose entries carry student-level values (scores or lists by student code). */
+const studentLevelActions = new Set(['scores.changed', 'roster.students_changed']);
+
+/** The entry as a viewer without access to student values sees it: that it happened, and how many, but no values. */
+function withoutStudentValues(event: AuditEvent): AuditEvent {
+  const summary: Record<string, unknown> = { studentValuesWithheld: true };
+  for (const [key, value] of Object.entries((event.after ?? {}) as Record<string, unknown>)) {
+    if (Array.isArray(value)) summary[key] = value.length;
+    else if (typeof value === 'number' || typeof value === 'boolean') summary[key] = value;
+  }
+  return { ...event, before: null, after: summary };
+}
+
+export async function listAudit(manager: EntityManager, viewer: SessionUser, query: AuditQuery): Promise<{ items: AuditEvent[]; total: number }> {
   const qb = manager
     .createQueryBuilder(AuditEventEntity, 'e')
     .leftJoin(UserEntity, 'u', 'u.id = e.actor_id')
@@ -49,5 +62,6 @@ export async function listAudit(manager: EntityManager, query: AuditQuery): Prom
     before: e.before ?? null,
     after: e.after ?? null,
   }));
-  return { items, total };
+  const seesValues = viewer.roles.some((g) => (studentValueViewerRoles as readonly string[]).includes(g.role));
+  return { items: seesValues ? items : items.map((e) => (studentLevelActions.has(e.action) ? withoutStudentValues(e) : e)), total };
 }

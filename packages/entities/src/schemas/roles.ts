@@ -25,6 +25,12 @@ export const studyWriterRoles = ['coordinator', 'research_lead'] as const satisf
  */
 export const smallCellViewerRoles = ['coordinator', 'research_lead', 'reviewer'] as const satisfies readonly Role[];
 
+/**
+ * Who may see student-level values (a score by student code): the readers of score sheets — a teacher their own
+ * classrooms', the study's writers all. Others (the admin, reviewers) see that such a change happened, not its values.
+ */
+export const studentValueViewerRoles = ['teacher', ...studyWriterRoles] as const satisfies readonly Role[];
+
 export const roleLabels: Record<Role, string> = {
   admin: 'District admin',
   coordinator: 'Coordinator',
