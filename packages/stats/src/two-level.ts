@@ -516,8 +516,8 @@ function derivativesAt(P: Prepared, f: Fit): Derivatives {
   return { d1: g1 + (dfr * r1) / R, d2: g2 + dfr * (r2 / R - (r1 / R) ** 2), ainv, b2, g1, g2, r1, r2 };
 }
 
-/** Brent's minimisation (golden section with parabolic steps) of f on [a, b] to a relative tolerance in x. */
-function brentMin(f: (x: number) => number, a: number, b: number, tol: number, maxIter = 200): number {
+/** Brent's minimisation (golden section with parabolic steps) of f on [a, b] to tol·|x| + absTol (Brent 1973, ch. 5). */
+function brentMin(f: (x: number) => number, a: number, b: number, tol: number, absTol: number, maxIter = 200): number {
   const golden = 0.3819660112501051;
   let x = a + golden * (b - a);
   let w = x;
@@ -529,7 +529,7 @@ function brentMin(f: (x: number) => number, a: number, b: number, tol: number, m
   let e = 0;
   for (let it = 0; it < maxIter; it++) {
     const xm = 0.5 * (a + b);
-    const tol1 = tol * Math.abs(x) + 1e-300;
+    const tol1 = tol * Math.abs(x) + absTol;
     const tol2 = 2 * tol1;
     if (Math.abs(x - xm) <= tol2 - 0.5 * (b - a)) break;
     let useGolden = true;
@@ -610,10 +610,11 @@ function maximise(P: Prepared): { fit: Fit; der: Derivatives; boundary: boolean 
   const hi = grid[best + 1];
   const dev = (l: number) => fitAt(P, l).deviance;
   let lambda =
-    lo === 0 ? brentMin(dev, 0, hi, 1e-10) : Math.exp(brentMin((s) => dev(Math.exp(s)), Math.log(lo), Math.log(hi), 1e-12));
+    lo === 0 ? brentMin(dev, 0, hi, 1e-9, 1e-9 * hi) : Math.exp(brentMin((s) => dev(Math.exp(s)), Math.log(lo), Math.log(hi), 1e-9, 1e-9));
   let fit = fitAt(P, lambda);
   let der = derivativesAt(P, fit);
-  // Newton on D'(λ) = 0, kept inside the bracket (bisection when a step would leave it).
+  // Brent leaves λ near 1e-9 relative (the deviance is flat to rounding there); Newton on D'(λ) = 0 finishes the
+  // digits, kept inside the bracket (bisection when a step would leave it).
   let a = lo;
   let b = hi;
   for (let it = 0; it < 60; it++) {
