@@ -21,4 +21,5 @@ export * from './standards.js';
 export * from './meta.js';
 export * from './multiplicity.js';
 export * from './power.js';
+export * from './proportions.js';
 export * from './draw.js';
