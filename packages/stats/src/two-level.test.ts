@@ -91,6 +91,13 @@ function invented(opts: { units: number; size: (j: number) => number; tau: numbe
 }
 
 describe('twoLevelFromRows against lme4 1.1-31 + lmerTest 3.1-3 (R 4.2.2, Debian; bobyqa, rhoend 1e-12)', () => {
+  it('the fixture was written by the package versions named here', () => {
+    expect(fixture.versions.R).toMatch(/^R version 4\.2\.2/);
+    expect(fixture.versions.lme4).toBe('1.1.31');
+    expect(fixture.versions.lmerTest).toBe('3.1.3');
+    expect(fixture.versions.highPrecision).toMatch(/^mpmath 1\.2\.1 at 50 digits/);
+  });
+
   for (const c of fixture.cases) {
     it(`${c.id}: ${c.description}`, () => {
       const r = twoLevelFromRows(rowsOf(c));
