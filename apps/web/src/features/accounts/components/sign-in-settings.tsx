@@ -11,7 +11,8 @@ export function SignInSettings() {
   const update = useUpdateSignInSettings();
   const switchId = useId();
   const data = settings.data;
-  const passwordsForEveryone = data?.passwordSignIn === 'everyone';
+  // While a change is saved, the switch already shows it.
+  const passwordsForEveryone = update.isPending ? update.variables === 'everyone' : data?.passwordSignIn === 'everyone';
   // Off needs the provider; on is always allowed, so a district that loses its provider can turn passwords back on.
   const locked = !data || update.isPending || (passwordsForEveryone && !data.districtSignIn);
 
