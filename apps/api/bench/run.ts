@@ -2,6 +2,16 @@
 // the same rows in the same run; and the run's extra memory when the rows grow 10× (25 → 250 scores per
 // classroom): the run holds one summary per classroom in Node, never the rows, so it must stay flat. Then, for
 // information, the 2 000 000-score run again with each student's pretest from a baseline wave (pretest adjustment).
+// Then the two-level model (schools as blocks, the pretest) at 2 000 000 scores, in classrooms of 250 and of a real
+// class's 25, against one scan of both waves; and, when Rscript with lme4 and lmerTest is installed, the same model
+// fitted to the same rows by lme4 + lmerTest in the same run.
+import { execFileSync } from 'node:child_process';
+import { mkdtempSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import pgCopy from 'pg-copy-streams';
+import { pipeline } from 'node:stream/promises';
+import { createWriteStream } from 'node:fs';
 import { executeRun, listComparisons } from '../src/runs/service.js';
 import { storeSheetDigests } from '../src/score-sheets/digest.js';
 import { median, openBench, time } from './setup.js';
@@ -56,9 +66,9 @@ export async function benchRun() {
     return { run: median(runTimes), scan: median(scanTimes), peak, notes };
   }
 
-  async function runBench(classrooms: number, perClass: number) {
-    // An odd number of sites, so the alternating arms meet in every site and the per-site pooling runs too.
-    const s = await study(classrooms, Math.max(2, Math.round(classrooms / 80)) | 1);
+  /** Students and outcome scores (about 500 ± 100, the intervention 20 higher, plus a classroom effect) for a new study. */
+  async function scoredStudy(classrooms: number, perClass: number, sites: number) {
+    const s = await study(classrooms, sites);
     await db.query(
       `INSERT INTO students (study_id, student_code, classroom_id)
        SELECT $1, 'P' || c.k || '-' || j, c.id FROM (SELECT id, row_number() OVER () AS k FROM classrooms WHERE study_id = $1) c, generate_series(1, $2) j`,
@@ -72,6 +82,26 @@ export async function benchRun() {
         WHERE st.study_id = $1`,
       [s.studyId, s.waveId, s.measureId],
     );
+    return s;
+  }
+
+  /** A baseline wave where each student's pretest is their outcome less about 40, give or take 25; returns the wave. */
+  async function addPretests(s: Study): Promise<string> {
+    const [baselineWave] = await db.query(`INSERT INTO waves (study_id, kind, name, opens_on, closes_on) VALUES ($1, 'baseline', 'Before', current_date - 90, current_date - 60) RETURNING id`, [s.studyId]);
+    await db.query(`INSERT INTO score_sheets (study_id, classroom_id, wave_id, measure_id, state) SELECT $1, id, $2, $3, 'accepted' FROM classrooms WHERE study_id = $1`, [s.studyId, baselineWave.id, s.measureId]);
+    await db.query(
+      `INSERT INTO scores (sheet_id, study_id, classroom_id, wave_id, measure_id, student_code, score, left_study)
+       SELECT bs.id, $1, o.classroom_id, $2, $3, o.student_code, greatest(0, o.score - 40 + round((50 * (random() - 0.5))::numeric, 1)), false
+         FROM scores o JOIN score_sheets bs ON bs.classroom_id = o.classroom_id AND bs.wave_id = $2
+        WHERE o.study_id = $1 AND o.wave_id = $4`,
+      [s.studyId, baselineWave.id, s.measureId, s.waveId],
+    );
+    return baselineWave.id;
+  }
+
+  async function runBench(classrooms: number, perClass: number) {
+    // An odd number of sites, so the alternating arms meet in every site and the per-site pooling runs too.
+    const s = await scoredStudy(classrooms, perClass, Math.max(2, Math.round(classrooms / 80)) | 1);
     await acceptSheets(s);
     const comparisonId: string = (await listComparisons(db, lead, s.studyId)).items[0].id;
     const measured = await measure(s, comparisonId);
@@ -97,21 +127,13 @@ export async function benchRun() {
   }
   // With pretest adjustment: the same 2 000 000 outcome scores each paired with a baseline score of the same student.
   const { study: s, comparisonId } = large;
-  const [baselineWave] = await db.query(`INSERT INTO waves (study_id, kind, name, opens_on, closes_on) VALUES ($1, 'baseline', 'Before', current_date - 90, current_date - 60) RETURNING id`, [s.studyId]);
-  await db.query(`INSERT INTO score_sheets (study_id, classroom_id, wave_id, measure_id, state) SELECT $1, id, $2, $3, 'accepted' FROM classrooms WHERE study_id = $1`, [s.studyId, baselineWave.id, s.measureId]);
-  await db.query(
-    `INSERT INTO scores (sheet_id, study_id, classroom_id, wave_id, measure_id, student_code, score, left_study)
-     SELECT bs.id, $1, o.classroom_id, $2, $3, o.student_code, greatest(0, o.score - 40 + round((50 * (random() - 0.5))::numeric, 1)), false
-       FROM scores o JOIN score_sheets bs ON bs.classroom_id = o.classroom_id AND bs.wave_id = $2
-      WHERE o.study_id = $1 AND o.wave_id = $4`,
-    [s.studyId, baselineWave.id, s.measureId, s.waveId],
-  );
+  const baselineWaveId = await addPretests(s);
   await acceptSheets(s);
   await db.query(`UPDATE comparisons SET covariate = 'baseline' WHERE id = $1`, [comparisonId]);
   const adjusted = await measure(s, comparisonId);
   // The pretest doubles the rows the run reads, so it is also set against one scan of both waves.
   const bothScans: number[] = [];
-  for (let i = 0; i < 3; i++) bothScans.push(await bareScan(s, [s.waveId, baselineWave.id]));
+  for (let i = 0; i < 3; i++) bothScans.push(await bareScan(s, [s.waveId, baselineWaveId]));
   const bothScan = median(bothScans);
   console.log(`\nThe same run adjusted for the pretest (${large.rows.toLocaleString('en-US')} outcome + ${large.rows.toLocaleString('en-US')} baseline scores, median of 3)`);
   console.log(`  bare aggregate scan (outcome wave): ${adjusted.scan.toFixed(0)} ms`);
@@ -122,5 +144,83 @@ export async function benchRun() {
 
   console.log(`\nmemory growth when the rows grow 10× (same 8 000 classrooms): ${(large.peak.js / small.peak.js).toFixed(2)}× the smaller run's peak extra heap + buffers (goal: flat, ≈ 1×)`);
 
+  // The two-level model, registered as a cluster-assigned study's primary test: 41 schools (40 block indicators; an
+  // odd number, so the alternating arms meet in every school) and the pretest.
+  const SCHOOLS = 41;
+  async function twoLevelBench(classrooms: number, perClass: number) {
+    const s = await scoredStudy(classrooms, perClass, SCHOOLS);
+    const baselineWaveId = await addPretests(s);
+    await acceptSheets(s);
+    const comparisonId: string = (await listComparisons(db, lead, s.studyId)).items[0].id;
+    const welch = await measure(s, comparisonId);
+    await db.query(`UPDATE comparisons SET primary_test = 'two-level', covariate = 'baseline' WHERE id = $1`, [comparisonId]);
+    const model = await measure(s, comparisonId);
+    const both: number[] = [];
+    for (let i = 0; i < 3; i++) both.push(await bareScan(s, [s.waveId, baselineWaveId]));
+    return { s, baselineWaveId, rows: classrooms * perClass, welch, model, bothScan: median(both) };
+  }
+  const realistic = await twoLevelBench(80_000, 25);
+  const wide = await twoLevelBench(8000, 250);
+  for (const r of [realistic, wide]) {
+    const per = r.rows / (r === realistic ? 80_000 : 8000);
+    console.log(`\n${r.rows.toLocaleString('en-US')} outcome scores in classrooms of ${per}, ${SCHOOLS} schools, with pretests (median of 3)`);
+    console.log(`  bare aggregate scan (outcome wave):  ${r.welch.scan.toFixed(0)} ms`);
+    console.log(`  bare aggregate scan (both waves):    ${r.bothScan.toFixed(0)} ms`);
+    console.log(`  run, Welch's t registered:           ${r.welch.run.toFixed(0)} ms = ${(r.welch.run / r.welch.scan).toFixed(2)}× the outcome scan   (goal ≤ 4×)`);
+    console.log(`  run, two-level model registered:     ${r.model.run.toFixed(0)} ms = ${(r.model.run / r.bothScan).toFixed(2)}× the two-wave scan   (goal ≤ 4×)`);
+    console.log(`  peak extra heap + buffers (model):   ${(r.model.peak.js / 2 ** 20).toFixed(1)} MB   (RSS ${(r.model.peak.rss / 2 ** 20).toFixed(1)} MB)`);
+  }
+  // Same number of classrooms at 25 and 250 students: the model holds one set of sums per classroom, so memory stays flat.
+  const flat = await twoLevelBench(8000, 25);
+  console.log(`\ntwo-level run's memory when the rows grow 10× (8 000 classrooms, 25 → 250 scores each): ${(wide.model.peak.js / flat.model.peak.js).toFixed(2)}× (goal: flat, ≈ 1×)`);
+
+  await compareWithLme4(realistic.s, realistic.baselineWaveId, realistic.model.run);
   await b.close();
+
+  /** Fits the same model to the same rows with lme4 + lmerTest, when R has them, and prints the ratio of the times. */
+  async function compareWithLme4(s: Study, baselineWaveId: string, evenhandMs: number) {
+    const hasR = (() => {
+      try {
+        execFileSync('Rscript', ['-e', 'suppressMessages({library(lme4); library(lmerTest)})'], { stdio: 'ignore' });
+        return true;
+      } catch {
+        return false;
+      }
+    })();
+    if (!hasR) {
+      console.log('\nlme4 + lmerTest comparison skipped: Rscript with lme4 and lmerTest is not installed (apt-get install r-base-core r-cran-lme4 r-cran-lmertest)');
+      return;
+    }
+    const dir = mkdtempSync(join(tmpdir(), 'evenhand-lme4-'));
+    const csv = join(dir, 'rows.csv');
+    try {
+      const client = await (db.driver as unknown as { master: { connect(): Promise<import('pg').PoolClient> } }).master.connect();
+      try {
+        const copy = client.query(
+          pgCopy.to(`COPY (SELECT o.score AS y, (c.arm = 'intervention')::int AS arm, b.score AS pretest, c.id AS unit, c.site_id AS block
+                             FROM scores o JOIN classrooms c ON c.id = o.classroom_id
+                             JOIN scores b ON b.classroom_id = o.classroom_id AND b.student_code = o.student_code AND b.wave_id = '${baselineWaveId}'
+                            WHERE o.study_id = '${s.studyId}' AND o.wave_id = '${s.waveId}') TO STDOUT WITH (FORMAT csv, HEADER)`),
+        );
+        await pipeline(copy, createWriteStream(csv));
+      } finally {
+        client.release();
+      }
+      const script = `suppressMessages({library(lme4); library(lmerTest)})
+d <- read.csv("${csv}"); d$unit <- factor(d$unit); d$block <- factor(d$block)
+t0 <- Sys.time()
+fit <- lmerTest::lmer(y ~ arm + pretest + block + (1 | unit), data = d, REML = TRUE)
+s <- summary(fit)$coefficients["arm", ]
+cat(as.numeric(difftime(Sys.time(), t0, units = "secs")) * 1000, s[["Estimate"]], s[["df"]], "\n")`;
+      const out = execFileSync('Rscript', ['-e', script], { encoding: 'utf8', maxBuffer: 1 << 20 }).trim().split(/\s+/).map(Number);
+      const [rMs, rEstimate, rDf] = out;
+      const [run] = await db.query(`SELECT results->'twoLevel' AS m FROM runs WHERE comparison_id IN (SELECT id FROM comparisons WHERE study_id = $1) AND state = 'finished' ORDER BY finished_at DESC LIMIT 1`, [s.studyId]);
+      console.log(`\nThe same two-level model on the same ${realistic.rows.toLocaleString('en-US')} rows with lme4 + lmerTest (fit and Satterthwaite df, not counting reading the CSV)`);
+      console.log(`  lme4 + lmerTest:  ${(rMs / 1000).toFixed(1)} s; arm ${rEstimate.toFixed(4)}, df ${rDf.toFixed(1)}`);
+      console.log(`  Evenhand run:     ${(evenhandMs / 1000).toFixed(1)} s (reading the scores in SQL included); arm ${Number(run.m.estimate).toFixed(4)}, df ${Number(run.m.df).toFixed(1)}`);
+      console.log(`  Evenhand is ${(rMs / evenhandMs).toFixed(1)}× faster   (goal: well over 20×)`);
+    } finally {
+      rmSync(dir, { recursive: true, force: true });
+    }
+  }
 }
