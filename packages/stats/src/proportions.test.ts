@@ -1,6 +1,7 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { expectClose } from '../test/fixtures.js';
+import { clusterRobustFromRows } from './cluster-robust.js';
 import { improvementIndex } from './effect-size.js';
 import { mdes } from './power.js';
 import { baselineEquivalence } from './standards.js';
@@ -11,6 +12,7 @@ import {
   fisherExactTest,
   oddsRatio,
   proportionDifference,
+  proportionDifferenceClustered,
   proportionDifferenceDesignEffect,
   proportionMdes,
   proportionPower,
@@ -280,7 +282,7 @@ describe('planning for a proportion', () => {
       expectClose(r.detectableDifference, c.detectableDifference, 1e-9, 0, 'detectable difference');
       const pC = c.input.comparisonProportion;
       expectClose(r.outcomeSd, Math.sqrt(pC * (1 - pC)), 1e-15, 0, 'sd');
-      const pw = proportionPower({ ...(c.input as never), difference: c.powerDifference });
+      const pw = proportionPower({ ...(c.input as object), difference: c.powerDifference } as never);
       expectClose(pw.power, c.power, 1e-8, 1e-12, 'power');
     });
   }
@@ -302,5 +304,51 @@ describe('planning for a proportion', () => {
   it('refuses a comparison proportion of 0 or 1 and a difference leaving [0, 1]', () => {
     expect(() => proportionMdes({ design: 'individual', n: 100, comparisonProportion: 0 })).toThrow(/strictly between 0 and 1/);
     expect(() => proportionPower({ design: 'individual', n: 100, comparisonProportion: 0.9, difference: 0.2 })).toThrow(/in \[0, 1\]/);
+  });
+});
+
+describe('difference in proportions for cluster-assigned studies (CR2 linear probability model)', () => {
+  // Invented classrooms: [unit, arm, block, yes, n].
+  const units = [
+    ['c01', 1, 'north', 9, 22],
+    ['c02', 1, 'north', 14, 25],
+    ['c03', 0, 'north', 7, 24],
+    ['c04', 0, 'north', 10, 21],
+    ['c05', 1, 'south', 18, 27],
+    ['c06', 1, 'south', 11, 19],
+    ['c07', 0, 'south', 8, 26],
+    ['c08', 0, 'south', 12, 23],
+    ['c09', 1, 'south', 20, 28],
+    ['c10', 0, 'north', 0, 18],
+  ] as const;
+  const yesNoUnits = units.map(([unit, arm, block, yes, n]) => ({ unit, arm, block, yes, n }));
+  const rows = { y: [] as number[], arm: [] as number[], cluster: [] as string[], block: [] as string[] };
+  for (const [unit, arm, block, yes, n] of units) {
+    for (let i = 0; i < n; i++) {
+      rows.y.push(i < yes ? 1 : 0);
+      rows.arm.push(arm);
+      rows.cluster.push(unit);
+      rows.block.push(block);
+    }
+  }
+
+  it('when built from counts, then it equals the cluster-robust analysis of the 0/1 student rows', () => {
+    for (const withBlocks of [false, true]) {
+      const fromCounts = proportionDifferenceClustered(withBlocks ? yesNoUnits : yesNoUnits.map(({ block: _, ...u }) => u));
+      const fromRows = clusterRobustFromRows(withBlocks ? rows : { y: rows.y, arm: rows.arm, cluster: rows.cluster });
+      for (const key of ['estimate', 'se', 'df', 't', 'p'] as const) expectClose(fromCounts[key], fromRows[key], 1e-12, 1e-15, key);
+    }
+  });
+
+  it('without blocks, the estimate is the student-weighted difference in proportions', () => {
+    const r = proportionDifferenceClustered(yesNoUnits.map(({ block: _, ...u }) => u));
+    const sum = (arm: number, k: 'yes' | 'n') => yesNoUnits.filter((u) => u.arm === arm).reduce((s, u) => s + u[k], 0);
+    expectClose(r.estimate, sum(1, 'yes') / sum(1, 'n') - sum(0, 'yes') / sum(0, 'n'), 1e-13, 1e-15, 'difference');
+  });
+
+  it('refuses a unit whose counts are not whole numbers from 0 to n', () => {
+    expect(() => proportionDifferenceClustered([...yesNoUnits, { unit: 'c11', arm: 1, block: 'north', yes: 5, n: 4 }])).toThrow(
+      /unit c11\.yes must be a whole number from 0 to n = 4/,
+    );
   });
 });

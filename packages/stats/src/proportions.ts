@@ -1,10 +1,12 @@
 import { designEffect } from './cluster.js';
+import { clusterRobustFromMoments, type ClusterRobustOptions, type ClusterRobustResult } from './cluster-robust.js';
 import { chiSquareSf, normalCdf, normalQuantile, normalSf } from './distributions.js';
 import { coxIndex, hedgesCorrection, improvementIndex } from './effect-size.js';
 import { StatsInputError } from './errors.js';
 import { checkOptions, readConfidence, type Alternative, readAlternative } from './input.js';
 import { mdes, power, type Design, type MdesResult, type PowerResult } from './power.js';
 import { baselineEquivalence, type BaselineBand } from './standards.js';
+import type { UnitMoments } from './unit-moments.js';
 
 /**
  * Yes/no outcomes from counts: per-arm proportions, their differences and ratios, the evidence standard's effect size
@@ -206,7 +208,7 @@ export function oddsRatio(
   };
 }
 
-export interface CoxIndexOptions {
+export interface CoxIndexFromCountsOptions {
   /** Multiply by ω = 1 − 3/(4N − 9); whether the evidence standard applies it is disputed, so it is opt-in. */
   smallSampleCorrection?: boolean;
   /** Default 'refuse': a proportion of 0 or 1 has no finite logit. */
@@ -235,7 +237,7 @@ export interface CoxIndexResult {
  * throws unless `zeroCell: 'add-half'` (the handbook's own rule for this case is from memory — M — so it is a choice the
  * caller makes, not a silent default). SE = √(1/a + 1/b + 1/c + 1/d)/1.65 (Sánchez-Meca et al. 2003 — M).
  */
-export function coxIndexFromCounts(intervention: YesNoCounts, comparison: YesNoCounts, opts?: CoxIndexOptions): CoxIndexResult {
+export function coxIndexFromCounts(intervention: YesNoCounts, comparison: YesNoCounts, opts?: CoxIndexFromCountsOptions): CoxIndexResult {
   const [a, b] = readPair(intervention, comparison);
   const o = checkOptions(opts, ['smallSampleCorrection', 'zeroCell'], 'coxIndexFromCounts');
   const corrected = o.smallSampleCorrection ?? false;
@@ -275,7 +277,7 @@ export interface BinaryBaselineEquivalenceResult {
 export function baselineEquivalenceYesNo(
   intervention: YesNoCounts,
   comparison: YesNoCounts,
-  opts?: CoxIndexOptions,
+  opts?: CoxIndexFromCountsOptions,
 ): BinaryBaselineEquivalenceResult {
   const cox = coxIndexFromCounts(intervention, comparison, opts);
   const { g, absG, band } = baselineEquivalence(cox.coxIndex);
@@ -600,4 +602,43 @@ export function proportionDifferenceDesignEffect(
     averageClusterSize: o.averageClusterSize,
     icc: o.icc,
   };
+}
+
+// --- cluster-assigned designs: the deciding analysis --------------------------------------------------------------
+
+/** One assigned unit (classroom or school) of a yes/no outcome: its arm (1 intervention, 0 comparison) and counts. */
+export interface YesNoUnit {
+  unit: string;
+  arm: 0 | 1;
+  block?: string;
+  yes: number;
+  n: number;
+}
+
+/**
+ * Difference in proportions for a cluster-assigned study: the linear probability model y = β₀ + β·arm (+ blocks) fitted
+ * by least squares on the 0/1 outcomes, with CR2 cluster-robust SE and Satterthwaite df (`clusterRobustFromMoments`;
+ * Bell & McCaffrey 2002; Pustejovsky & Tipton 2018). A 0/1 outcome's unit moments follow from its counts: ȳ = yes/n and
+ * Σ(y − ȳ)² = yes·(1 − yes/n), so no student rows are needed. Without blocks, `estimate` is the student-weighted
+ * difference in proportions.
+ */
+export function proportionDifferenceClustered(units: readonly YesNoUnit[], options?: ClusterRobustOptions): ClusterRobustResult {
+  if (!Array.isArray(units)) throw new StatsInputError('proportionDifferenceClustered needs an array of units { unit, arm, yes, n }');
+  const moments: UnitMoments[] = units.map((u, i) => {
+    const label = u && typeof u.unit === 'string' ? `unit ${u.unit}` : `unit ${i + 1}`;
+    const { yes, n } = readCounts(u, label);
+    const meanY = yes / n;
+    return {
+      unit: u.unit,
+      arm: u.arm,
+      ...(u.block === undefined ? {} : { block: u.block }),
+      n,
+      meanY,
+      ssY: yes * (1 - meanY),
+      meanX: [],
+      spXY: [],
+      spXX: [],
+    };
+  });
+  return clusterRobustFromMoments(moments, options);
 }
