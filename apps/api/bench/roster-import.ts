@@ -2,7 +2,9 @@
 // POST /api/studies/:id/roster-imports, against reading the same zip's files with the same zip reader and
 // CSV parser alone (no database) in the same run: the goal is an import within 3× of parsing. Then the
 // API process's extra RSS while importing 5 000 and 50 000 students in the same 2 000 classes (goal: flat).
-// The teachers already have accounts (a re-import's case), so the import sends no mail.
+// The teachers and principals already have accounts, so no mail is queued. The first import also grants each of
+// the 2 000 teachers their school through the users service (one call each); it is timed and reported apart. The
+// timed rounds import the same export into fresh studies, as a district's second study (or a re-import) does.
 import { writeFileSync, rmSync, mkdtempSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
@@ -70,6 +72,8 @@ export async function benchRosterImport() {
 
   const importTimes: number[] = [];
   const parseTimes: number[] = [];
+  const firstStudy = await newStudy();
+  const first = await time(() => importInto(firstStudy, large));
   for (let round = 0; round < ROUNDS; round++) {
     parseTimes.push(await time(() => parseAlone(large)));
     const studyId = await newStudy();
@@ -96,10 +100,11 @@ export async function benchRosterImport() {
     ['parsing the files alone', `${median(parseTimes).toFixed(0)} ms`],
     ['the import route', `${median(importTimes).toFixed(0)} ms`],
     ['ratio to parsing alone', `${(median(importTimes) / median(parseTimes)).toFixed(2)}×   (goal ≤ 3×)`],
+    ['first import (2 000 teachers granted)', `${first.toFixed(0)} ms = ${(first / median(parseTimes)).toFixed(2)}× parsing`],
     ['extra RSS, 5 000 students', mb(smallExtra)],
     ['extra RSS, 50 000 students', `${mb(largeExtra)}   (goal: flat${globalThis.gc ? '' : '; run with --expose-gc for steadier numbers'})`],
   ];
-  console.log(`\nOneRoster import of 50 000 students in 2 000 classes through POST /api/studies/:id/roster-imports (median of ${ROUNDS})`);
+  console.log(`\nOneRoster import of 50 000 students in 2 000 classes of known teachers through POST /api/studies/:id/roster-imports (median of ${ROUNDS})`);
   for (const [label, value] of lines) console.log(`  ${`${label}:`.padEnd(40)}${value}`);
   rmSync(dir, { recursive: true, force: true });
   await b.close();

@@ -208,7 +208,7 @@ describe('refusing bad bundles: a clear 4xx and nothing changes', () => {
     expect(error.message).toBe('The choice of schools and classes does not fit the bundle');
   });
 
-  it('refuses the import to a teacher and a principal (403)', async () => {
+  it('refuses the preview to a teacher (403)', async () => {
     const { signIn } = await import('../../test/app.js');
     const teacher = await signIn(t.app, 'teacher1@evenhand.test');
     expect((await upload(teacher, previewUrl(), zip(good()))).status).toBe(403);

@@ -49,23 +49,32 @@ interface SchoolRow {
 
 /** The staged schools and classes against the study as it is; `selected` limits the classes' comparison to the choice. */
 async function describe(manager: EntityManager, studyId: string, drawCommitted: boolean): Promise<RosterPreview> {
+  // Each class's students as the export lists them and as earlier imports left them, as tables with statistics:
+  // the comparison of the two then plans as hash joins at any size.
+  await manager.query(
+    `CREATE TEMP TABLE roster_members_all ON COMMIT DROP AS
+     SELECT DISTINCT e.class, u.link AS user_link FROM roster_enrolments e JOIN roster_users u ON u.key = e.user_key AND u.role = 'student' WHERE e.role = 'student'`,
+  );
+  await manager.query(
+    `CREATE TEMP TABLE roster_current ON COMMIT DROP AS
+     SELECT c.roster_sourced_id AS class, rs.link_hash FROM roster_students rs JOIN classrooms c ON c.id = rs.classroom_id
+      WHERE rs.study_id = $1 AND rs.left_at IS NULL`,
+    [studyId],
+  );
+  await manager.query(`ANALYZE roster_members_all`);
+  await manager.query(`ANALYZE roster_current`);
   // The teacher of a class: its primary teacher, else the first listed.
   const classes: ClassRow[] = await manager.query(
     `WITH teachers AS (
        SELECT DISTINCT ON (e.class) e.class, u.email, u.name, u.line
-         FROM roster_enrolments e JOIN roster_users u ON u.link = e.user_link AND u.role = 'teacher'
+         FROM roster_enrolments e JOIN roster_users u ON u.key = e.user_key AND u.role = 'teacher'
         WHERE e.role = 'teacher' ORDER BY e.class, e.is_primary DESC, e.line),
-     members AS (
-       SELECT DISTINCT e.class, e.user_link FROM roster_enrolments e JOIN roster_users u ON u.link = e.user_link AND u.role = 'student' WHERE e.role = 'student'),
-     counts AS (SELECT class, count(*)::int AS students FROM members GROUP BY class),
-     current AS (
-       SELECT c.roster_sourced_id AS class, rs.link_hash FROM roster_students rs JOIN classrooms c ON c.id = rs.classroom_id
-        WHERE rs.study_id = $1 AND rs.left_at IS NULL),
+     counts AS (SELECT class, count(*)::int AS students FROM roster_members_all GROUP BY class),
      joining AS (
-       SELECT m.class, count(*)::int AS n FROM members m LEFT JOIN current x ON x.class = m.class AND x.link_hash = m.user_link
+       SELECT m.class, count(*)::int AS n FROM roster_members_all m LEFT JOIN roster_current x ON x.class = m.class AND x.link_hash = m.user_link
         WHERE x.class IS NULL GROUP BY m.class),
      leaving AS (
-       SELECT x.class, count(*)::int AS n FROM current x LEFT JOIN members m ON m.class = x.class AND m.user_link = x.link_hash
+       SELECT x.class, count(*)::int AS n FROM roster_current x LEFT JOIN roster_members_all m ON m.class = x.class AND m.user_link = x.link_hash
         WHERE m.class IS NULL GROUP BY x.class)
      SELECT c.school, c.sourced_id, c.title, c.grade, c.line, t.email AS teacher_email, t.name AS teacher_name,
             coalesce(n.students, 0) AS students, cr.id AS classroom_id,
@@ -133,9 +142,7 @@ async function describe(manager: EntityManager, studyId: string, drawCommitted: 
     principalFromExport: !!s.admin_email,
     classes: bySchool.get(s.sourced_id) ?? [],
   }));
-  const [{ students }] = await manager.query(
-    `SELECT count(DISTINCT e.user_link)::int AS students FROM roster_enrolments e JOIN roster_users u ON u.link = e.user_link AND u.role = 'student' WHERE e.role = 'student'`,
-  );
+  const [{ students }] = await manager.query(`SELECT count(DISTINCT user_link)::int AS students FROM roster_members_all`);
   return { drawCommitted, schools: items, totals: { schools: items.length, classes: classes.length, students } };
 }
 
@@ -184,8 +191,8 @@ export async function commitRoster(deps: Deps, actor: SessionUser, studyId: stri
     await manager.query(`INSERT INTO roster_chosen (sourced_id) SELECT unnest($1::text[])`, [selection.classes]);
     const twice: { line: number; first: number }[] = await manager.query(
       `SELECT line, first FROM (
-         SELECT e.line, min(e.line) OVER (PARTITION BY e.user_link) AS first
-           FROM roster_enrolments e JOIN roster_chosen k ON k.sourced_id = e.class JOIN roster_users u ON u.link = e.user_link AND u.role = 'student'
+         SELECT e.line, min(e.line) OVER (PARTITION BY e.user_key) AS first
+           FROM roster_enrolments e JOIN roster_chosen k ON k.sourced_id = e.class JOIN roster_users u ON u.key = e.user_key AND u.role = 'student'
           WHERE e.role = 'student') d
         WHERE line <> first ORDER BY line LIMIT 500`,
     );
@@ -222,8 +229,15 @@ export async function commitRoster(deps: Deps, actor: SessionUser, studyId: stri
       siteOf.set(id, siteId!);
     }
 
-    // Teachers: invited, or matched to existing accounts, by e-mail through the users service.
+    // Teachers: invited, or matched to existing accounts, by e-mail through the users service; a teacher who
+    // already teaches at the school (a re-import, or a second study) needs nothing more.
     const teacherIds = new Map<string, string>();
+    const known: { key: string; id: string }[] = await manager.query(
+      `SELECT u.email || '|' || g.site_id AS key, u.id FROM users u JOIN role_grants g ON g.user_id = u.id AND g.role = 'teacher'
+        WHERE u.email = ANY($1) AND g.site_id = ANY($2)`,
+      [[...new Set(chosen.map((c) => c.teacher!.email))], [...new Set(siteOf.values())]],
+    );
+    for (const k of known) teacherIds.set(k.key, k.id);
     for (const c of chosen) {
       const key = `${c.teacher!.email}|${siteOf.get(c.school)}`;
       if (teacherIds.has(key)) continue;
@@ -256,8 +270,10 @@ export async function commitRoster(deps: Deps, actor: SessionUser, studyId: stri
       [JSON.stringify(targets)],
     );
     const clashes: { line: number; title: string }[] = await manager.query(
-      `SELECT rc.line, t.name AS title FROM roster_targets t JOIN roster_classes rc ON rc.sourced_id = t.sourced_id
-        WHERE EXISTS (SELECT 1 FROM roster_targets o WHERE o.site_id = t.site_id AND lower(o.name) = lower(t.name) AND o.sourced_id < t.sourced_id)
+      `SELECT rc.line, t.name AS title
+         FROM (SELECT *, row_number() OVER (PARTITION BY site_id, lower(name) ORDER BY sourced_id) AS nth FROM roster_targets) t
+         JOIN roster_classes rc ON rc.sourced_id = t.sourced_id
+        WHERE t.nth > 1
            OR EXISTS (SELECT 1 FROM classrooms c WHERE c.study_id = $1 AND c.site_id = t.site_id AND lower(c.name) = lower(t.name)
                        AND c.roster_sourced_id IS DISTINCT FROM t.sourced_id)
         ORDER BY rc.line`,
@@ -346,9 +362,7 @@ async function freeSiteCode(manager: EntityManager, from: string): Promise<strin
 async function applyStudents(manager: EntityManager, studyId: string, actorId: string, drawCommitted: boolean) {
   await manager.query(
     `CREATE TEMP TABLE roster_members ON COMMIT DROP AS
-     SELECT DISTINCT ON (e.user_link) e.user_link AS link, k.classroom_id
-       FROM roster_enrolments e JOIN roster_chosen k ON k.sourced_id = e.class JOIN roster_users u ON u.link = e.user_link AND u.role = 'student'
-      WHERE e.role = 'student' ORDER BY e.user_link, e.line`,
+     SELECT m.user_link AS link, k.classroom_id FROM roster_members_all m JOIN roster_chosen k ON k.sourced_id = m.class`,
   );
   await manager.query(`ANALYZE roster_members`);
   // Lock the chosen classrooms' codes against score writers (the same lock the score-key triggers take).
@@ -362,11 +376,11 @@ async function applyStudents(manager: EntityManager, studyId: string, actorId: s
      SELECT rs.student_code, rs.classroom_id, CASE WHEN $2 OR EXISTS (SELECT 1 FROM scores x JOIN score_sheets sh ON sh.id = x.sheet_id
                                                                        WHERE sh.classroom_id = rs.classroom_id AND x.student_code = rs.student_code)
                                                   THEN 'left' ELSE 'removed' END
-       FROM roster_students rs
+       FROM roster_students rs LEFT JOIN roster_members m ON m.link = rs.link_hash
       WHERE rs.study_id = $1 AND rs.left_at IS NULL
-        AND (rs.classroom_id IN (SELECT classroom_id FROM roster_chosen) OR EXISTS (SELECT 1 FROM roster_members m WHERE m.link = rs.link_hash))
-        AND NOT EXISTS (SELECT 1 FROM roster_members m WHERE m.link = rs.link_hash AND m.classroom_id = rs.classroom_id)
-        AND ($2 OR NOT EXISTS (SELECT 1 FROM roster_members m WHERE m.link = rs.link_hash))`,
+        AND (m.link IS NULL OR m.classroom_id <> rs.classroom_id)
+        AND (m.link IS NOT NULL OR rs.classroom_id IN (SELECT classroom_id FROM roster_chosen))
+        AND ($2 OR m.link IS NULL)`,
     [studyId, drawCommitted],
   );
   // Before the draw a student listed in another chosen classroom moves there, with the code (recorded as moving out and joining).
