@@ -2,8 +2,9 @@
 // in the same run (never a timed test). With no names, all of them.
 import { benchRosterImport } from './roster-import.js';
 import { benchRun } from './run.js';
+import { benchThroughput } from './throughput.js';
 import { benchUpload } from './upload.js';
 
-const all: Record<string, () => Promise<void>> = { upload: benchUpload, run: benchRun, roster: benchRosterImport };
+const all: Record<string, () => Promise<void>> = { upload: benchUpload, run: benchRun, roster: benchRosterImport, throughput: benchThroughput };
 const chosen = process.argv.slice(2).filter((a) => a in all);
 for (const name of chosen.length ? chosen : Object.keys(all)) await all[name]();

@@ -31,6 +31,8 @@ import { usersRouter } from './users/router.js';
 export function createApp(deps: Deps) {
   const app = express();
   app.disable('x-powered-by');
+  // Every API answer is `no-store`, so hashing each body for a weak ETag is wasted work; a locked run sets its own.
+  app.set('etag', false);
   app.set('trust proxy', deps.config.trustProxy);
   app.use(helmet({ contentSecurityPolicy: { directives: { 'upgrade-insecure-requests': deps.config.production ? [] : null } } }));
   app.use(pinoHttp({ logger: deps.logger, autoLogging: { ignore: (req) => req.url === '/api/health' } }));

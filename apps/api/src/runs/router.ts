@@ -1,8 +1,9 @@
 import type { OpenAPIRegistry } from '@asteasolutions/zod-to-openapi';
 import { z } from 'zod';
-import { comparisonScheduleSchema, comparisonSchema, createComparisonSchema, idParamsSchema, pageOf, queueRunSchema, runSchema, studyParamsSchema } from '@evenhand/entities';
+import { comparisonScheduleSchema, comparisonSchema, createComparisonSchema, idParamsSchema, pageOf, principalRunSchema, queueRunSchema, runSchema, studyParamsSchema } from '@evenhand/entities';
 import type { Deps } from '../deps.js';
 import { ResourceRouter } from '../http/route.js';
+import { lockedRunAnswer, sendAnswer } from './locked-answers.js';
 import { createComparison, getRun, listComparisons, lockRun, queueRun, runBundle, setSchedule } from './service.js';
 
 export function runsRouter(deps: Deps, registry: OpenAPIRegistry) {
@@ -72,9 +73,14 @@ export function runsRouter(deps: Deps, registry: OpenAPIRegistry) {
       access: ['research_lead', 'reviewer', 'coordinator', 'principal'],
       tag,
       params: idParamsSchema,
-      responses: { 200: { description: 'The run', schema: runSchema } },
+      responses: { 200: { description: 'The run (a principal gets the principal view: PrincipalRun)', schema: z.union([runSchema, principalRunSchema]) } },
     },
-    async ({ user, params }) => ({ body: await getRun(deps.db, user!, params.id) }),
+    async ({ user, params, req, res }) => {
+      // A locked run's answer is built once and served with an ETag; any other run is read afresh.
+      const locked = await lockedRunAnswer(deps.db, user!, params.id);
+      if (locked) return sendAnswer(req, res, locked);
+      return { body: await getRun(deps.db, user!, params.id) };
+    },
   );
 
   r.route(

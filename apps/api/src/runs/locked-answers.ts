@@ -1,0 +1,54 @@
+import { createHash } from 'node:crypto';
+import type { Request, Response } from 'express';
+import type { DataSource } from 'typeorm';
+import { districtWideRoles, smallCellViewerRoles, type SessionUser } from '@evenhand/entities';
+import { findVisibleStudy, hasRole, sitesOf } from '../studies/access.js';
+import { getRun } from './service.js';
+
+/**
+ * A locked run never changes (the database refuses it), so its answer is built once per audience and served
+ * from memory with an ETag. Only its Benjamini–Hochberg figures can move, when another confirmatory run of the
+ * study finishes or is locked: the `version` read with every request is part of the key, so such a change
+ * builds a new answer, in every API process alike.
+ */
+const MAX_ANSWERS = 500;
+const answers = new Map<string, { json: string; etag: string }>();
+
+interface LockedRunProbe {
+  state: string;
+  study_id: string;
+  version: string;
+}
+
+/** The answer to `GET /api/runs/:id` for a locked run, or null when the run is not locked (or does not exist). */
+export async function lockedRunAnswer(db: DataSource, user: SessionUser, runId: string): Promise<{ json: string; etag: string } | null> {
+  const [probe]: LockedRunProbe[] = await db.query(
+    `SELECT r.state, r.study_id,
+            (SELECT count(*) || '/' || coalesce(max(coalesce(x.locked_at, x.finished_at))::text, '')
+               FROM runs x JOIN comparisons k ON k.id = x.comparison_id
+              WHERE x.study_id = r.study_id AND x.kind = 'confirmatory' AND x.state IN ('finished', 'locked') AND k.prespecified) AS version
+       FROM runs r WHERE r.id = $1`,
+    [runId],
+  );
+  if (!probe || probe.state !== 'locked') return null;
+  // District-wide staff see every study; anyone else is checked against the study as getRun would (404 if not theirs).
+  if (!hasRole(user, ...districtWideRoles)) await findVisibleStudy(db.manager, user, probe.study_id);
+  const audience = hasRole(user, ...smallCellViewerRoles) ? 'whole' : `schools:${[...sitesOf(user, 'principal')].sort().join(',')}`;
+  const key = `${runId} ${probe.version} ${audience}`;
+  let answer = answers.get(key);
+  if (!answer) {
+    const json = JSON.stringify(await getRun(db, user, runId));
+    answer = { json, etag: `"${createHash('sha256').update(json).digest('base64url').slice(0, 32)}"` };
+    if (answers.size >= MAX_ANSWERS) answers.delete(answers.keys().next().value!);
+    answers.set(key, answer);
+  }
+  return answer;
+}
+
+/** Sends a built answer; a client that already holds it (If-None-Match) gets 304 and no body. */
+export function sendAnswer(req: Request, res: Response, answer: { json: string; etag: string }): void {
+  res.setHeader('ETag', answer.etag);
+  res.type('application/json');
+  if (req.fresh) res.status(304).end();
+  else res.send(answer.json);
+}
