@@ -1,6 +1,6 @@
 import type { DataSource, EntityManager } from 'typeorm';
 import { benjaminiHochberg } from '@evenhand/stats';
-import { decidingTest, type Comparison, type ComparisonSchedule, type CreateComparison, type PlanContent, type QueueRun, type Run, type RunResults, type SessionUser } from '@evenhand/entities';
+import { decidingTest, type Comparison, type ComparisonSchedule, type CreateComparison, type PlanContent, type PrincipalRun, type QueueRun, type Run, type RunResults, type SessionUser } from '@evenhand/entities';
 import { recordAudit } from '../audit/service.js';
 import type { Deps } from '../deps.js';
 import { createLockDigests } from '../digests/service.js';
@@ -11,6 +11,7 @@ import { findVisibleStudy, hasRole, sitesOf } from '../studies/access.js';
 import { advanceStatus } from '../studies/service.js';
 import { AnalysisError, analyse } from './engine.js';
 import { bundleRowsSql, canonicalSummariesSql, gather, sheetStatesFor } from './gather.js';
+import { principalView } from './principal-view.js';
 import { checkSchedule, nextSlot, windowOf } from './schedule.js';
 
 interface ComparisonRow {
@@ -308,33 +309,20 @@ async function multiplicityFor(manager: EntityManager, run: RunRow): Promise<Run
   return { adjustedP: bh.adjusted[i], rejected: bh.rejected[i], comparisons: rows.length };
 }
 
-/** A principal sees a locked result only, with figures for their own school and no cell under 10 students. */
-function forPrincipal(run: Run, siteIds: string[]): Run {
-  if (!run.results) return run;
-  const r = run.results;
-  return {
-    ...run,
-    results: {
-      ...r,
-      sites: r.sites.filter((s) => siteIds.includes(s.siteId) && s.n1 >= 10 && s.n2 >= 10),
-      descriptives: r.descriptives.filter((d) => d.students >= 10),
-    },
-  };
-}
-
-export async function getRun(db: DataSource, user: SessionUser, runId: string): Promise<Run> {
+/** The whole run for those who see small cells; a principal gets a locked run's principal view (./principal-view.ts). */
+export async function getRun(db: DataSource, user: SessionUser, runId: string): Promise<Run | PrincipalRun> {
   const run = await loadRun(db.manager, user, runId);
   const full = toRun(run, await multiplicityFor(db.manager, run));
   if (hasRole(user, 'research_lead', 'reviewer', 'coordinator')) return full;
   if (run.state !== 'locked') throw AppError.notFound('The run');
-  return forPrincipal(full, sitesOf(user, 'principal'));
+  return principalView(full, sitesOf(user, 'principal'));
 }
 
 /**
  * Freezes a finished confirmatory run and every score sheet it read; the database refuses any later change.
  * The principals' digests go into the outbox in the same transaction, so a lock is never announced twice or not at all.
  */
-export async function lockRun(deps: Pick<Deps, 'db' | 'config' | 'jobs'>, user: SessionUser, runId: string): Promise<Run> {
+export async function lockRun(deps: Pick<Deps, 'db' | 'config' | 'jobs'>, user: SessionUser, runId: string): Promise<Run | PrincipalRun> {
   const { db } = deps;
   await db.transaction(async (manager) => {
     await manager.query(`SELECT 1 FROM runs WHERE id = $1 FOR UPDATE`, [runId]);

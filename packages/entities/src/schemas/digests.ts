@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { decidingAnalyses } from './runs.js';
+import { decidingAnalyses, runSchema } from './runs.js';
 import { idSchema, paginationQuerySchema, plainText, timeZoneSchema } from './common.js';
 import { armSchema, studyStatusSchema, unitOfAssignmentSchema, waveKindSchema } from './studies.js';
 
@@ -189,3 +189,36 @@ export const digestFrequencyLabels: Record<DigestFrequency, string> = {
   locked: 'Only when a result is locked',
   none: 'No digests',
 };
+
+/**
+ * A principal's view of a locked run, built from an allow-list (apps/api/src/runs/principal-view.ts): the verdict,
+ * the district's arms with small cells suppressed, and their own school's figures. While any arm's count is hidden,
+ * every figure from which it or a mean could be worked out (estimate, interval, p, effect size) is null too.
+ */
+export const principalRunResultsSchema = z.object({
+  measure: z.object({ name: z.string(), higherIsBetter: z.boolean() }),
+  wave: z.object({ name: z.string() }),
+  alpha: z.number(),
+  deciding: z.object({
+    analysis: z.enum(decidingAnalyses),
+    significant: z.boolean(),
+    confidence: z.number(),
+    alternative: z.string(),
+    estimate: z.number().nullable(),
+    ci: z.tuple([z.number().nullable(), z.number().nullable()]).nullable(),
+    p: z.number().nullable(),
+  }),
+  effectSize: z.object({ g: z.number(), ci: z.tuple([z.number(), z.number()]), improvementIndex: z.number() }).nullable(),
+  arms: z.array(z.object({ arm: armSchema, students: reportedCountSchema, mean: z.number().nullable(), sd: z.number().nullable() })),
+  /** The principal's own schools with both arms of at least MIN_REPORTED_STUDENTS students. */
+  sites: z.array(z.object({ siteId: idSchema, siteName: z.string(), n1: z.number().int(), n2: z.number().int(), mean1: z.number(), mean2: z.number(), g: z.number(), ci: z.tuple([z.number(), z.number()]) })),
+  /** Whether anything was withheld because a cell had fewer than MIN_REPORTED_STUDENTS students. */
+  suppressed: z.boolean(),
+});
+export type PrincipalRunResults = z.infer<typeof principalRunResultsSchema>;
+
+export const principalRunSchema = runSchema
+  .pick({ id: true, comparisonId: true, studyId: true, kind: true, state: true, planVersion: true, engineVersion: true, lockedAt: true })
+  .extend({ results: principalRunResultsSchema.nullable(), multiplicity: z.object({ rejected: z.boolean() }).nullable() })
+  .meta({ id: 'PrincipalRun' });
+export type PrincipalRun = z.infer<typeof principalRunSchema>;
