@@ -134,6 +134,34 @@ describe('previewing and importing a OneRoster bundle', () => {
   });
 });
 
+describe('a student moving between classrooms before the draw', () => {
+  it('when a newer export lists a student in another chosen class, then the student keeps the code and moves, recorded as moved out and joined', async () => {
+    const study = await createStudy(t.app);
+    const url = `/api/studies/${study.studyId}/roster-imports`;
+    const choice = { schools: ['org-ald'], classes: ['cls-ald-1', 'cls-ald-2'] };
+    const shape = { schools: 1, classesPerSchool: 2, studentsPerClass: 4 };
+    expect((await upload(study.coordinator, url, zip(oneRosterFiles(shape)), choice)).status).toBe(201);
+    const codeOf = async () =>
+      (await t.db.query(
+        `SELECT rs.student_code, c.roster_sourced_id AS class, st.classroom_id = rs.classroom_id AS registered_there
+           FROM roster_students rs JOIN classrooms c ON c.id = rs.classroom_id JOIN students st ON st.study_id = rs.study_id AND st.student_code = rs.student_code
+          WHERE rs.study_id = $1 AND rs.link_hash = $2`,
+        [study.studyId, linkHash(t.config.rosterLinkSecret, 'stu-000001')],
+      ))[0];
+    const before = await codeOf();
+    expect(before).toMatchObject({ class: 'cls-ald-1', registered_there: true });
+
+    const moved = oneRosterFiles(shape);
+    moved['enrollments.csv'] = moved['enrollments.csv'].replace('enr-cls-ald-1-stu-000001,,,cls-ald-1,', 'enr-cls-ald-1-stu-000001,,,cls-ald-2,');
+    const res = await upload(study.coordinator, url, zip(moved), choice);
+    expect(res.status).toBe(201);
+    expect(res.body).toMatchObject({ studentsJoined: 1, studentsRemoved: 0, studentsLeft: 0 });
+    expect(await codeOf()).toEqual({ student_code: before.student_code, class: 'cls-ald-2', registered_there: true });
+    const changes = await t.db.query(`SELECT after FROM audit_events WHERE study_id = $1 AND action = 'roster.students_changed' ORDER BY at DESC, id DESC LIMIT 2`, [study.studyId]);
+    expect(changes.map((c: { after: { joined: string[]; movedOut: string[] } }) => [c.after.joined, c.after.movedOut]).sort()).toEqual([[[], [before.student_code]], [[before.student_code], []]].sort());
+  });
+});
+
 describe('refusing bad bundles: a clear 4xx and nothing changes', () => {
   const good = () => oneRosterFiles({ schools: 1, classesPerSchool: 1, studentsPerClass: 3 });
   const refusedWith = async (files: { name: string; data: Buffer | string }[], status: number, selection = { schools: ['org-ald'], classes: ['cls-ald-1'] }) => {
