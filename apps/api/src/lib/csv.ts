@@ -25,7 +25,7 @@ export async function* csvBatches(buffer: Buffer, requiredColumns: string[]): As
   try {
     text = new TextDecoder('utf-8', { fatal: true }).decode(buffer);
   } catch {
-    throw AppError.validation('The file is not UTF-8 text; save it as “CSV UTF-8” and upload it again');
+    throw AppError.validation('The file is not UTF-8 text; upload a CSV file saved with UTF-8 encoding');
   }
   const reader = readerFor(text, requiredColumns);
   try {
@@ -51,7 +51,7 @@ export async function* csvStreamBatches(chunks: AsyncIterable<Buffer>, requiredC
     try {
       return decoder.decode(chunk, { stream });
     } catch {
-      throw AppError.validation('The file is not UTF-8 text; save it as “CSV UTF-8” and upload it again');
+      throw AppError.validation('The file is not UTF-8 text; upload a CSV file saved with UTF-8 encoding');
     }
   };
   let reader: RecordReader | null = null;

@@ -1,4 +1,4 @@
-import { comparisonSchema, pageOf, planSchema, runSchema, studyChecksSchema, type Comparison, type Run } from '@evenhand/entities';
+import { comparisonSchema, measureSchema, pageOf, planSchema, runSchema, studyChecksSchema, waveSchema, type Comparison, type Run } from '@evenhand/entities';
 import { queryOptions } from '@tanstack/react-query';
 import { apiRequest } from '@/lib/api-client';
 
@@ -20,10 +20,13 @@ export interface ReportedComparison {
 }
 
 async function fetchReport(studyId: string, signal: AbortSignal) {
-  const [plan, comparisons, checks] = await Promise.all([
+  const [plan, comparisons, checks, measures, waves] = await Promise.all([
     apiRequest(`/studies/${studyId}/plan`, { schema: planSchema, signal }),
     apiRequest(`/studies/${studyId}/comparisons`, { schema: pageOf(comparisonSchema), signal }),
     apiRequest(`/studies/${studyId}/checks`, { schema: studyChecksSchema, signal }),
+    // The amendments name measures and waves by ID; the report names them as the Plan page does.
+    apiRequest(`/studies/${studyId}/measures`, { schema: pageOf(measureSchema), signal }),
+    apiRequest(`/studies/${studyId}/waves`, { schema: pageOf(waveSchema), signal }),
   ]);
   const reported: ReportedComparison[] = await Promise.all(
     comparisons.items.map(async (comparison) => {
@@ -31,7 +34,7 @@ async function fetchReport(studyId: string, signal: AbortSignal) {
       return { comparison, run: runId ? await apiRequest(`/runs/${runId}`, { schema: runSchema, signal }) : null };
     }),
   );
-  return { plan, checks, comparisons: reported };
+  return { plan, checks, comparisons: reported, refs: { measures: measures.items, waves: waves.items } };
 }
 
 export type StudyReport = Awaited<ReturnType<typeof fetchReport>>;

@@ -11,6 +11,7 @@ import { FlowDiagram } from '@/features/report/components/flow-diagram';
 import { EffectSizeChart, ResultsTable } from '@/features/report/components/results-summary';
 import { formatAlpha, formatCount, formatDateTime, formatInterval, formatNumber, formatPercent } from '@/lib/format';
 import { studyPath } from '@/lib/navigation';
+import { fieldLabel, formatPlanValue } from '@/lib/plan-labels';
 import { iccSourceWords, resultHeadline, testNames } from '@/lib/result-wording';
 import { runPath } from '@/lib/results';
 import { unitLabels, useCurrentStudy, useStudyId } from '@/lib/study';
@@ -104,12 +105,7 @@ function AttritionTable({ measures }: { measures: MeasureChecks[] }) {
   );
 }
 
-function describeChange(value: unknown): string {
-  if (value === null || value === undefined || value === '') return '(empty)';
-  return typeof value === 'object' ? JSON.stringify(value) : String(value);
-}
-
-function Registration({ versions }: { versions: PlanVersion[] }) {
+function Registration({ versions, refs }: { versions: PlanVersion[]; refs: StudyReport['refs'] }) {
   const sorted = [...versions].sort((a, b) => a.version - b.version);
   const sealed = sorted[0];
   const amendments = sorted.slice(1);
@@ -142,7 +138,7 @@ function Registration({ versions }: { versions: PlanVersion[] }) {
                   <ul className="mt-1 list-disc pl-5 text-ink-muted">
                     {v.changes.map((c) => (
                       <li key={c.field}>
-                        {c.field}: {describeChange(c.from)} → {describeChange(c.to)}
+                        {fieldLabel(c.field)}: {formatPlanValue(c.field, c.from, refs)} → {formatPlanValue(c.field, c.to, refs)}
                       </li>
                     ))}
                   </ul>
@@ -340,7 +336,7 @@ export function StudyReportPage() {
           </ReportSection>
 
           <ReportSection id="report-registration" title="Registration and amendments">
-            <Registration versions={report.plan.versions} />
+            <Registration versions={report.plan.versions} refs={report.refs} />
           </ReportSection>
 
           <ReportSection id="report-cautions" title="Cautions">

@@ -20,10 +20,10 @@ function attritionAt(overall: number, interpolated: boolean): AttritionCheck {
 const counts = { intervention: { randomised: 313, analysed: 249 }, comparison: { randomised: 299, analysed: 271 } };
 
 describe('AttritionPanel', () => {
-  it('says the boundary was interpolated between the handbook’s listed rows when it was', () => {
+  it('when the boundary was interpolated, then the note names the two stored rows it lies between', () => {
     render(<AttritionPanel title="Students" unit={['student', 'students']} attrition={attritionAt(15.03, true)} counts={counts} />);
     const note = screen.getByTestId('interpolation-note');
-    expect(note).toHaveTextContent('interpolated between the handbook’s listed rows for 15% and 20%');
+    expect(note).toHaveTextContent('Evenhand stores the handbook’s rows for 15% and 20% overall attrition, not 15.0%; the boundary here is the straight line between them.');
     expect(note).toHaveTextContent('15.0%');
   });
 

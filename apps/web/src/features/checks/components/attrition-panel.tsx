@@ -110,10 +110,9 @@ export function AttritionPanel({ title, unit, attrition, counts }: { title: stri
 
       {interpolated.length > 0 && (
         <p className="mt-3 rounded-md border-l-4 border-caution bg-caution-soft px-3 py-2 text-sm" data-testid="interpolation-note">
-          <strong>Interpolated boundary.</strong> The handbook lists a boundary for every whole percent of overall attrition; Evenhand
-          holds only some of those rows, so the boundary at {formatPercent(attrition.overall)} was interpolated between the handbook’s
-          listed rows for {interpolated[0].bracketingRows![0]}% and {interpolated[0].bracketingRows![1]}%. Check the handbook’s own row
-          before reporting a rating.
+          <strong>Interpolated boundary.</strong> Evenhand stores the handbook’s rows for {interpolated[0].bracketingRows![0]}% and{' '}
+          {interpolated[0].bracketingRows![1]}% overall attrition, not {formatPercent(attrition.overall)}; the boundary here is the straight
+          line between them. Check the handbook’s row before reporting a rating.
         </p>
       )}
     </section>

@@ -27,7 +27,7 @@ import {
   planFieldLabels,
   primaryTestLabels,
   unitOfAnalysisLabels,
-} from '@/features/plan/plan-labels';
+} from '@/lib/plan-labels';
 import { defaultIcc, planningFields, type PlanningValues } from '@/features/plan/planning';
 import { formatTime } from '@/lib/format';
 import { applyApiError, type FormProblem } from '@/lib/form-errors';

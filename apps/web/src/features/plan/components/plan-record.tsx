@@ -1,6 +1,6 @@
 import type { Measure, PlanContent, PlanVersion, Wave } from '@evenhand/entities';
 import { FigureTable } from '@/components/ui/figure-table';
-import { fieldLabel, formatPlanValue, planFieldLabels } from '@/features/plan/plan-labels';
+import { fieldLabel, formatPlanValue, planFieldLabels } from '@/lib/plan-labels';
 import { formatDateTime } from '@/lib/format';
 
 interface Refs {

@@ -15,12 +15,15 @@ interface ForestRow {
   weight: number;
 }
 
-/** How much the sites' effects differ beyond chance, in words (I² bands of Higgins et al., 2003). */
+/**
+ * How far the sites' estimates disagree beyond their own imprecision, in a plain sentence. The bands at 25 %, 50 % and
+ * 75 % of I² follow Higgins et al. (2003); they are a common practice, not a rule.
+ */
 export function heterogeneityWords(i2: number): string {
-  if (i2 >= 0.75) return 'The sites’ effects differ a great deal more than chance alone would explain';
-  if (i2 >= 0.5) return 'The sites’ effects differ substantially more than chance alone would explain';
-  if (i2 >= 0.25) return 'The sites’ effects differ somewhat more than chance alone would explain';
-  return 'The sites’ effects differ little beyond what chance would explain';
+  const share = formatPercent(i2 * 100, 0);
+  if (i2 >= 0.5) return `The sites responded differently: ${share} of the spread between their estimates is more than their own imprecision would produce, so the pooled estimate is an average over sites that did not all respond alike.`;
+  if (i2 >= 0.25) return `The sites responded somewhat differently: ${share} of the spread between their estimates is more than their own imprecision would produce.`;
+  return `The sites’ estimates differ about as much as their own imprecision would make them differ (${share} beyond it), so one effect may fit them all.`;
 }
 
 function forestPlot(sites: ForestRow[], pooled: ForestRow | null) {
@@ -118,13 +121,12 @@ export function SiteForest({ results }: { results: RunResults }) {
       {pooled ? (
         <div className="space-y-1">
           <p className="tabular-nums" data-testid="heterogeneity">
-            Pooled across sites: g = {formatNumber(pooled.estimate, 2)} (95% CI {formatInterval(pooled.ci, 2)}), {formatPStatement(pooled.p)}.
-            Heterogeneity: Q = {formatNumber(pooled.q, 2)} on {pooled.df} df, {formatPStatement(pooled.pQ)}; τ² = {formatNumber(pooled.tau2, 3)};
-            I² = {formatPercent(pooled.i2 * 100, 1)}.
+            Pooled across sites: g = {formatNumber(pooled.estimate, 2)} (95% CI {formatInterval(pooled.ci, 2)}), {formatPStatement(pooled.p)}. Spread
+            between sites: Q = {formatNumber(pooled.q, 2)} with {pooled.df} degrees of freedom, {formatPStatement(pooled.pQ)}; τ² ={' '}
+            {formatNumber(pooled.tau2, 3)}; I² = {formatPercent(pooled.i2 * 100, 1)}.
           </p>
           <p className="max-w-prose text-sm text-ink-muted">
-            {heterogeneityWords(pooled.i2)}: read the pooled estimate as an average over sites
-            {pooled.i2 >= 0.5 ? ' that responded quite differently' : ''}. Per-site estimates rest on few students and are imprecise.
+            {heterogeneityWords(pooled.i2)} Each site’s own estimate rests on few classrooms and is imprecise.
           </p>
         </div>
       ) : (
