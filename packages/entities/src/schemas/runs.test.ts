@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { runResultsSchema } from './runs.js';
+import { comparisonScheduleSchema, cronOfRhythm, rhythmOfCron, runResultsSchema } from './runs.js';
 
 describe('runResultsSchema', () => {
   it('reads the open end of a one-sided interval, which JSON stores as null, for the t tests and the baseline adjustment', () => {
@@ -15,5 +15,21 @@ describe('runResultsSchema', () => {
   it('still refuses an interval bound that is not a number', () => {
     const result = runResultsSchema.shape.effectSize.safeParse({ g: 0.2, ci: [0.1, null], se: 0.05, improvementIndex: 8, substantivelyImportant: false });
     expect(result.success).toBe(false);
+  });
+});
+
+describe('monitoring rhythms', () => {
+  it('when a plain choice is made, then it writes the cron expression the schedule runs on, and reads back as the same choice', () => {
+    expect(cronOfRhythm({ kind: 'weekdays', hour: 2, minute: 0 })).toBe('0 2 * * 1-5');
+    expect(cronOfRhythm({ kind: 'mondays', hour: 7, minute: 30 })).toBe('30 7 * * 1');
+    expect(rhythmOfCron('0 2 * * 1-5')).toEqual({ kind: 'weekdays', hour: 2, minute: 0 });
+    expect(rhythmOfCron('30  7 * * 1')).toEqual({ kind: 'mondays', hour: 7, minute: 30 });
+    expect(comparisonScheduleSchema.parse({ scheduleCron: cronOfRhythm({ kind: 'mondays', hour: 7, minute: 30 }) }).scheduleCron).toBe('30 7 * * 1');
+  });
+
+  it('when a cron is not one of the plain choices, then it is custom and kept as typed', () => {
+    expect(rhythmOfCron('0 2 * * *')).toEqual({ kind: 'custom', cron: '0 2 * * *' });
+    expect(rhythmOfCron('0 25 * * 1')).toEqual({ kind: 'custom', cron: '0 25 * * 1' });
+    expect(cronOfRhythm({ kind: 'custom', cron: ' 15 6 1 * * ' })).toBe('15 6 1 * *');
   });
 });

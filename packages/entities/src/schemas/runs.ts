@@ -7,9 +7,26 @@ import { armSchema } from './studies.js';
 const scheduleCronSchema = z
   .string()
   .trim()
-  .regex(/^(\S+\s+){4}\S+$/, 'Use five cron fields, e.g. “0 2 * * *” for 02:00 every night')
+  .regex(/^(\S+\s+){4}\S+$/, 'Use five cron fields (minute, hour, day of month, month, weekday), e.g. “0 2 1 * *” for 02:00 on the first of each month')
   .nullable()
   .default(null);
+
+/** The plain choices a monitoring schedule offers; each writes a cron expression, and 'custom' takes one as typed. */
+export type MonitoringRhythm = { kind: 'weekdays' | 'mondays'; hour: number; minute: number } | { kind: 'custom'; cron: string };
+
+const rhythmDays = { weekdays: '1-5', mondays: '1' } as const;
+
+/** The cron expression of a plain choice ("every weekday at 02:00" is `0 2 * * 1-5`). */
+export function cronOfRhythm(r: MonitoringRhythm): string {
+  return r.kind === 'custom' ? r.cron.trim() : `${r.minute} ${r.hour} * * ${rhythmDays[r.kind]}`;
+}
+
+/** The plain choice a cron expression is, when it is one of them; anything else is 'custom'. */
+export function rhythmOfCron(cron: string): MonitoringRhythm {
+  const m = /^(\d{1,2}) (\d{1,2}) \* \* (1-5|1)$/.exec(cron.trim().replace(/\s+/g, ' '));
+  if (m && Number(m[1]) < 60 && Number(m[2]) < 24) return { kind: m[3] === '1-5' ? 'weekdays' : 'mondays', hour: Number(m[2]), minute: Number(m[1]) };
+  return { kind: 'custom', cron };
+}
 
 export const createComparisonSchema = z.object({
   measureId: idSchema,

@@ -1,11 +1,12 @@
 import { createComparisonSchema, type CreateComparison, type Measure, type Wave } from '@evenhand/entities';
 import { zodResolver } from '@hookform/resolvers/zod';
 import { useState } from 'react';
-import { useForm } from 'react-hook-form';
+import { Controller, useForm } from 'react-hook-form';
 import { Button } from '@/components/ui/button';
 import { Field, Select, TextInput } from '@/components/ui/field';
 import { FormProblemAlert } from '@/components/ui/form-problem-alert';
-import { applyApiError, emptyToNull, emptyToUndefined, type FormProblem } from '@/lib/form-errors';
+import { applyApiError, emptyToUndefined, type FormProblem } from '@/lib/form-errors';
+import { ScheduleChoice } from './schedule-choice';
 
 interface AddComparisonFormProps {
   measures: Measure[];
@@ -22,6 +23,7 @@ export function AddComparisonForm({ measures, waves, onAdd, onCancel }: AddCompa
   const [problem, setProblem] = useState<FormProblem | null>(null);
   const {
     register,
+    control,
     handleSubmit,
     setError,
     formState: { errors, isSubmitting },
@@ -104,13 +106,13 @@ export function AddComparisonForm({ measures, waves, onAdd, onCancel }: AddCompa
           )}
         </Field>
       </div>
-      <Field
-        label="Automatic monitoring checks (optional)"
-        hint="Five cron fields, e.g. “0 2 * * *” for 02:00 every night while the wave is open. Leave empty to run by hand."
-        error={errors.scheduleCron?.message}
-      >
-        {(control) => <TextInput {...control} autoComplete="off" className="font-mono" {...register('scheduleCron', { setValueAs: emptyToNull })} />}
-      </Field>
+      <Controller
+        control={control}
+        name="scheduleCron"
+        render={({ field }) => (
+          <ScheduleChoice legend="Automatic monitoring checks while the wave is open" value={field.value ?? null} onChange={field.onChange} error={errors.scheduleCron?.message} />
+        )}
+      />
       <div className="flex flex-wrap gap-3">
         <Button type="submit" busy={isSubmitting}>
           Add the exploratory comparison

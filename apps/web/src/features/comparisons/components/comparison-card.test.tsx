@@ -117,19 +117,31 @@ describe('ComparisonCard', () => {
     await waitFor(() => expect(onQueue).toHaveBeenCalledWith({ kind: 'confirmatory', reason: 'Two sheets were corrected after the lock.' }));
   });
 
-  it('when the lead schedules automatic checks, then the cron and time zone are sent, and a bad cron is explained first', async () => {
+  it('when the lead picks every weekday at a time, then the cron written underneath and the time zone are sent', async () => {
     const onSetSchedule = vi.fn(async () => undefined);
     renderCard({}, vi.fn(async () => undefined), onSetSchedule);
     fireEvent.click(screen.getByRole('button', { name: 'Schedule automatic checks' }));
-    const cron = screen.getByRole('textbox', { name: /When to check/ });
+    fireEvent.click(screen.getByRole('radio', { name: 'Every weekday at' }));
+    fireEvent.change(screen.getByLabelText('Time, every weekday at'), { target: { value: '06:30' } });
+    expect(screen.getByText('30 6 * * 1-5')).toBeInTheDocument();
+    fireEvent.change(screen.getByRole('textbox', { name: /Time zone/ }), { target: { value: 'America/Chicago' } });
+    fireEvent.click(screen.getByRole('button', { name: 'Save the schedule' }));
+    await waitFor(() => expect(onSetSchedule).toHaveBeenCalledWith({ scheduleCron: '30 6 * * 1-5', scheduleTimezone: 'America/Chicago' }));
+  });
+
+  it('when a custom cron is malformed, then it is explained before anything is sent', async () => {
+    const onSetSchedule = vi.fn(async () => undefined);
+    renderCard({}, vi.fn(async () => undefined), onSetSchedule);
+    fireEvent.click(screen.getByRole('button', { name: 'Schedule automatic checks' }));
+    fireEvent.click(screen.getByRole('radio', { name: 'Custom (a cron expression)' }));
+    const cron = screen.getByRole('textbox', { name: /Cron expression/ });
     fireEvent.change(cron, { target: { value: 'every night' } });
     fireEvent.click(screen.getByRole('button', { name: 'Save the schedule' }));
     expect(await screen.findByText(/Use five cron fields/)).toBeInTheDocument();
     expect(onSetSchedule).not.toHaveBeenCalled();
-    fireEvent.change(cron, { target: { value: '0 2 * * 1-5' } });
-    fireEvent.change(screen.getByRole('textbox', { name: /Time zone/ }), { target: { value: 'America/Chicago' } });
+    fireEvent.change(cron, { target: { value: '0 2 1 * *' } });
     fireEvent.click(screen.getByRole('button', { name: 'Save the schedule' }));
-    await waitFor(() => expect(onSetSchedule).toHaveBeenCalledWith({ scheduleCron: '0 2 * * 1-5', scheduleTimezone: 'America/Chicago' }));
+    await waitFor(() => expect(onSetSchedule).toHaveBeenCalledWith({ scheduleCron: '0 2 1 * *', scheduleTimezone: 'UTC' }));
   });
 
   it('when the result is locked, then no schedule can be set', () => {

@@ -1,11 +1,12 @@
 import { comparisonScheduleSchema, type Comparison, type ComparisonSchedule } from '@evenhand/entities';
 import { zodResolver } from '@hookform/resolvers/zod';
 import { useState } from 'react';
-import { useForm } from 'react-hook-form';
+import { Controller, useForm } from 'react-hook-form';
 import { Button } from '@/components/ui/button';
 import { Field, TextInput } from '@/components/ui/field';
 import { FormProblemAlert } from '@/components/ui/form-problem-alert';
-import { applyApiError, emptyToNull, type FormProblem } from '@/lib/form-errors';
+import { applyApiError, type FormProblem } from '@/lib/form-errors';
+import { ScheduleChoice } from './schedule-choice';
 
 interface MonitoringScheduleFormProps {
   comparison: Comparison;
@@ -13,11 +14,12 @@ interface MonitoringScheduleFormProps {
   onCancel: () => void;
 }
 
-/** When a comparison's interim checks run by themselves while its wave is open; an empty cron stops them. */
+/** When a comparison's interim checks run by themselves while its wave is open; 'only when someone runs a check' stops them. */
 export function MonitoringScheduleForm({ comparison, onSave, onCancel }: MonitoringScheduleFormProps) {
   const [problem, setProblem] = useState<FormProblem | null>(null);
   const {
     register,
+    control,
     handleSubmit,
     setError,
     formState: { errors, isSubmitting },
@@ -38,13 +40,11 @@ export function MonitoringScheduleForm({ comparison, onSave, onCancel }: Monitor
   return (
     <form noValidate onSubmit={onSubmit} className="space-y-5">
       {problem && <FormProblemAlert problem={problem} />}
-      <Field
-        label="When to check"
-        hint="Five cron fields (minute hour day month weekday), e.g. “0 2 * * *” for 02:00 every night. Leave empty to stop automatic checks."
-        error={errors.scheduleCron?.message}
-      >
-        {(control) => <TextInput {...control} autoComplete="off" spellCheck={false} className="font-mono" {...register('scheduleCron', { setValueAs: emptyToNull })} />}
-      </Field>
+      <Controller
+        control={control}
+        name="scheduleCron"
+        render={({ field }) => <ScheduleChoice legend="When to check" value={field.value ?? null} onChange={field.onChange} error={errors.scheduleCron?.message} />}
+      />
       <Field label="Time zone" hint="The zone the hours are read in, for example America/Chicago, or UTC." error={errors.scheduleTimezone?.message}>
         {(control) => <TextInput {...control} autoComplete="off" spellCheck={false} {...register('scheduleTimezone')} />}
       </Field>
