@@ -32,7 +32,9 @@ if [ -z "${SKIP_E2E:-}" ]; then
   npm run build --silent -w apps/web
   # The journeys' API signs in through the fake district identity provider (its OIDC_* settings are exported here).
   identity_provider_up 1190 "http://127.0.0.1:${E2E_PORT:-3100}"
-  export E2E_DATABASE_URL="$(database_url 54339 evenhand_e2e)"
+  # The journeys' server runs as the application's role, which owns nothing; postgres migrates and resets.
+  export E2E_DATABASE_URL="$(app_database_url 54339 evenhand_e2e)"
+  export MIGRATION_DATABASE_URL="$(database_url 54339 evenhand_e2e)"
   DATABASE_URL="$E2E_DATABASE_URL" npm run migrate --silent -w apps/api
   DATABASE_URL="$E2E_DATABASE_URL" npm run seed --silent -w apps/api -- --reset
   (cd apps/web && PLAYWRIGHT_SKIP_BROWSER_DOWNLOAD=1 npx playwright test) || failed=1

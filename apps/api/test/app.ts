@@ -12,7 +12,7 @@ import { startDigestWorkers } from '../src/digests/jobs.js';
 import { createMailer } from '../src/mail/mailer.js';
 import { DEMO_PASSWORD } from '../src/seed/demo.js';
 import { inject } from 'vitest';
-import { urlForDatabase, withAdminClient } from './database.js';
+import { appUrlForDatabase, withAdminClient } from './database.js';
 
 export interface TestApp {
   app: Express;
@@ -43,7 +43,7 @@ export function testConfig(databaseUrl: string, overrides: Record<string, string
 export async function startTestApp(overrides: { databaseUrl?: string; workers?: boolean; mail?: boolean } = {}): Promise<TestApp> {
   const name = `evenhand_t_${randomBytes(6).toString('hex')}`;
   await withAdminClient((c) => c.query(`CREATE DATABASE ${name} TEMPLATE ${inject('templateDb')}`));
-  const databaseUrl = overrides.databaseUrl ?? urlForDatabase(name);
+  const databaseUrl = overrides.databaseUrl ?? appUrlForDatabase(name);
   const config = testConfig(databaseUrl);
   const db = createDataSource(databaseUrl);
   await db.initialize();
@@ -59,7 +59,7 @@ export async function startTestApp(overrides: { databaseUrl?: string; workers?: 
     freshApp: () => createApp(deps),
     db,
     config,
-    databaseUrl: urlForDatabase(name),
+    databaseUrl: appUrlForDatabase(name),
     async close() {
       mailer.close();
       await jobs.stop();

@@ -13,6 +13,33 @@ export function urlForDatabase(name: string): string {
   return url.toString();
 }
 
+/** The role the test apps run as, like the application in production: it owns nothing (see src/db/roles.ts). */
+export const APP_ROLE = 'evenhand_app';
+
+/** The URL of a test database as the application's role (same password as the cluster's admin). */
+export function appUrlForDatabase(name: string): string {
+  const url = new URL(urlForDatabase(name));
+  url.username = APP_ROLE;
+  return url.toString();
+}
+
+/** Creates the application's role on the test cluster once (a run started by npm test finds it made by scripts/lib.sh). */
+export async function ensureAppRole(client: pg.Client): Promise<void> {
+  const password = testDatabaseUrl().password;
+  try {
+    await client.query(
+      `DO $$ BEGIN
+         IF NOT EXISTS (SELECT 1 FROM pg_roles WHERE rolname = '${APP_ROLE}') THEN
+           CREATE ROLE ${APP_ROLE} LOGIN NOSUPERUSER NOCREATEDB NOCREATEROLE NOREPLICATION PASSWORD '${decodeURIComponent(password).replaceAll("'", "''")}';
+         END IF;
+       END $$`,
+    );
+  } catch (err) {
+    // Two runs starting at once: the other one made it.
+    if ((err as { code?: string }).code !== '23505' && (err as { code?: string }).code !== '42710') throw err;
+  }
+}
+
 export async function withAdminClient<T>(fn: (client: pg.Client) => Promise<T>): Promise<T> {
   const client = new pg.Client({ connectionString: urlForDatabase('postgres') });
   await client.connect();

@@ -34,13 +34,8 @@ export async function startQueue(databaseUrl: string, logger: Logger, timing: Qu
   const boss = new PgBoss({ connectionString: databaseUrl, schema: 'pgboss', max: 4, application_name: 'evenhand-jobs', ...timing });
   boss.on('error', (err) => logger.error({ err }, 'job queue error'));
   await boss.start();
-  await boss.createQueue(RUN_QUEUE, { name: RUN_QUEUE, retryLimit: 2, retryDelay: 5, retryBackoff: true, expireInMinutes: 30 });
-  // SMTP failures are retried by the digest service itself; these retries only cover a worker that died mid-job.
-  await boss.createQueue(DIGEST_SEND_QUEUE, { name: DIGEST_SEND_QUEUE, retryLimit: 5, retryDelay: 30, retryBackoff: true, expireInMinutes: 5 });
-  await boss.createQueue(DIGEST_TICK_QUEUE, { name: DIGEST_TICK_QUEUE, retryLimit: 1, expireInMinutes: 10 });
-  // A missed tick is made up by the next one (the slot stays due for a while), so no retries.
-  await boss.createQueue(MONITORING_TICK_QUEUE, { name: MONITORING_TICK_QUEUE, retryLimit: 0, expireInMinutes: 5 });
-  await boss.createQueue(PASSWORD_RESET_QUEUE, { name: PASSWORD_RESET_QUEUE, retryLimit: 3, retryDelay: 10, retryBackoff: true, expireInMinutes: 5 });
+  // Installed by the migration role (installQueue); here each is already there, so nothing is created.
+  await createQueues(boss);
   const inTransaction = (manager: EntityManager) => ({ executeSql: async (text: string, values: unknown[]) => ({ rows: await manager.query(text, values) }) });
   return {
     boss,
@@ -56,4 +51,25 @@ export async function startQueue(databaseUrl: string, logger: Logger, timing: Qu
     },
     stop: () => boss.stop({ graceful: true, timeout: 10_000 }),
   };
+}
+
+/** Each queue is a table partition pg-boss creates, so only the schema's owner can create it. */
+async function createQueues(boss: PgBoss): Promise<void> {
+  await boss.createQueue(RUN_QUEUE, { name: RUN_QUEUE, retryLimit: 2, retryDelay: 5, retryBackoff: true, expireInMinutes: 30 });
+  // SMTP failures are retried by the digest service itself; these retries only cover a worker that died mid-job.
+  await boss.createQueue(DIGEST_SEND_QUEUE, { name: DIGEST_SEND_QUEUE, retryLimit: 5, retryDelay: 30, retryBackoff: true, expireInMinutes: 5 });
+  await boss.createQueue(DIGEST_TICK_QUEUE, { name: DIGEST_TICK_QUEUE, retryLimit: 1, expireInMinutes: 10 });
+  // A missed tick is made up by the next one (the slot stays due for a while), so no retries.
+  await boss.createQueue(MONITORING_TICK_QUEUE, { name: MONITORING_TICK_QUEUE, retryLimit: 0, expireInMinutes: 5 });
+  await boss.createQueue(PASSWORD_RESET_QUEUE, { name: PASSWORD_RESET_QUEUE, retryLimit: 3, retryDelay: 10, retryBackoff: true, expireInMinutes: 5 });
+}
+
+/** Installs or upgrades the queue's schema (pgboss) and its queues as the migration role, which owns them. */
+export async function installQueue(ownerUrl: string): Promise<void> {
+  const boss = new PgBoss({ connectionString: ownerUrl, schema: 'pgboss', max: 2, application_name: 'evenhand-migrate', supervise: false, schedule: false });
+  await boss.start();
+  await createQueues(boss);
+  // pg-boss's own queue for cron schedules, which its clock would otherwise create on the application's first start.
+  await boss.createQueue('__pgboss__send-it');
+  await boss.stop({ graceful: false, wait: true });
 }

@@ -77,8 +77,13 @@ export async function seedDemo(manager: EntityManager): Promise<{ created: numbe
   return { created };
 }
 
-/** Empties every table but the migrations log (TRUNCATE also bypasses the audit trail's row triggers). */
+/**
+ * Empties every table but the migrations log. The guarded tables refuse TRUNCATE by trigger, so this runs with
+ * triggers off for the transaction (session_replication_role), which only a superuser may set: a local
+ * development cluster's owner, never the application's role.
+ */
 export async function resetDatabase(manager: EntityManager): Promise<void> {
+  await manager.query(`SET LOCAL session_replication_role = replica`);
   const tables: { tablename: string }[] = await manager.query(
     `SELECT tablename FROM pg_tables WHERE schemaname = 'public' AND tablename <> 'migrations'`,
   );

@@ -12,11 +12,15 @@ const reset = process.argv.includes('--reset');
 const config = loadConfig();
 if (config.production) throw new Error('The demo seed never runs against a production database');
 const db = createDataSource(config.databaseUrl);
+if (reset) {
+  // Emptying guarded tables takes the schema's owner (see resetDatabase); the seed itself writes as the application.
+  const owner = createDataSource(config.migrationDatabaseUrl);
+  await owner.initialize();
+  await owner.transaction((manager) => resetDatabase(manager));
+  await owner.destroy();
+}
 await db.initialize();
-const { created } = await db.transaction(async (manager) => {
-  if (reset) await resetDatabase(manager);
-  return seedDemo(manager);
-});
+const { created } = await db.transaction((manager) => seedDemo(manager));
 const mailer = createMailer(config);
 const logger = createLogger({ logLevel: 'warn' });
 const jobs = await startQueue(config.databaseUrl, logger);
