@@ -1,5 +1,5 @@
 import type { DataSource } from 'typeorm';
-import type { CreateMeasure, CreateWave, Measure, SessionUser, Wave } from '@evenhand/entities';
+import { createMeasureSchema, type CreateMeasureInput, type CreateWave, type Measure, type SessionUser, type Wave } from '@evenhand/entities';
 import { MeasureEntity, PlanVersionEntity, WaveEntity } from '@evenhand/entities/orm';
 import { recordAudit } from '../audit/service.js';
 import { AppError } from '../errors.js';
@@ -9,6 +9,7 @@ const toMeasure = (m: MeasureEntity): Measure => ({
   id: m.id,
   studyId: m.studyId,
   name: m.name,
+  scale: m.scale,
   minScore: m.minScore,
   maxScore: m.maxScore,
   higherIsBetter: m.higherIsBetter,
@@ -24,7 +25,9 @@ export async function listMeasures(db: DataSource, user: SessionUser, studyId: s
   return { items: rows.map(toMeasure), total: rows.length };
 }
 
-export async function createMeasure(db: DataSource, user: SessionUser, studyId: string, input: CreateMeasure): Promise<Measure> {
+/** Adds a measure; a yes/no one is stored with the range 0–1 (the seed passes what the route would accept). */
+export async function createMeasure(db: DataSource, user: SessionUser, studyId: string, given: CreateMeasureInput): Promise<Measure> {
+  const input = createMeasureSchema.parse(given);
   return db.transaction(async (manager) => {
     await findVisibleStudy(manager, user, studyId, true);
     // Measures are part of what the sealed plan registered.

@@ -1,4 +1,4 @@
-import { scoreRowSchema, type RowIssue, type ScoreRow } from '@evenhand/entities';
+import { YES_NO_PROBLEM, parseYesNo, scoreRowSchema, type RowIssue, type ScoreRow } from '@evenhand/entities';
 import { AppError } from '../errors.js';
 
 /** The whole write refused, with the problems found (the first few hundred) and how many there were. */
@@ -10,8 +10,11 @@ const FORMULA = /^[=+\-@\t\r]/;
 const truthy = new Set(['1', 'true', 'yes', 'y', 'x', 'left']);
 const falsy = new Set(['', '0', 'false', 'no', 'n']);
 
-/** Turns one CSV record (student_code, score, left?, note?) into a row, or says why it cannot. */
-export function rowFromCsv(values: Record<string, string>, line: number): { row?: ScoreRow; issues: RowIssue[] } {
+/**
+ * Turns one CSV record (student_code, score, left?, note?) into a row, or says why it cannot. A yes/no measure's
+ * score column takes yes/no, y/n, 1/0 or true/false, stored as 1 and 0.
+ */
+export function rowFromCsv(values: Record<string, string>, line: number, scale: 'score' | 'yes-no' = 'score'): { row?: ScoreRow; issues: RowIssue[] } {
   const issues: RowIssue[] = [];
   const rawScore = (values.score ?? '').trim();
   const rawLeft = (values.left ?? '').trim().toLowerCase();
@@ -20,7 +23,9 @@ export function rowFromCsv(values: Record<string, string>, line: number): { row?
   }
   // Accept a decimal comma only when it cannot be a thousands separator of a larger number.
   const normalised = /^-?\d+,\d+$/.test(rawScore) ? rawScore.replace(',', '.') : rawScore;
-  const score = normalised === '' ? null : Number(normalised);
+  const answer = scale === 'yes-no' ? parseYesNo(rawScore) : null;
+  if (answer === undefined) issues.push({ row: line, column: 'score', message: YES_NO_PROBLEM });
+  const score = scale === 'yes-no' ? (answer ?? null) : normalised === '' ? null : Number(normalised);
   if (score !== null && !Number.isFinite(score) && !issues.length) issues.push({ row: line, column: 'score', message: `“${rawScore.slice(0, 40)}” is not a number` });
   if (!truthy.has(rawLeft) && !falsy.has(rawLeft)) issues.push({ row: line, column: 'left', message: 'Write yes or no in the “left” column' });
   if (issues.length) return { issues };

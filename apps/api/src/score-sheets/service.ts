@@ -27,6 +27,7 @@ interface SheetRow {
   closes_on: string;
   measure_id: string;
   measure_name: string;
+  scale: ScoreSheet['scale'];
   min_score: string;
   max_score: string;
   state: ScoreSheet['state'];
@@ -49,7 +50,7 @@ interface SheetRow {
 const sheetSelect = `
   SELECT sh.*, c.name AS classroom_name, c.site_id, s.name AS site_name, c.teacher_id, u.name AS teacher_name, c.arm,
          w.name AS wave_name, w.kind AS wave_kind, to_char(w.opens_on, 'YYYY-MM-DD') AS opens_on, to_char(w.closes_on, 'YYYY-MM-DD') AS closes_on,
-         m.name AS measure_name, m.min_score, m.max_score,
+         m.name AS measure_name, m.scale, m.min_score, m.max_score,
          (current_date BETWEEN w.opens_on AND w.closes_on) AS wave_open,
          coalesce((SELECT (pv.content->>'summaryEntryAllowed')::boolean FROM plan_versions pv
                     WHERE pv.study_id = sh.study_id ORDER BY pv.version DESC LIMIT 1), false) AS summary_allowed,
@@ -87,6 +88,7 @@ function toSheet(r: SheetRow): ScoreSheet {
     closesOn: r.closes_on,
     measureId: r.measure_id,
     measureName: r.measure_name,
+    scale: r.scale,
     minScore: Number(r.min_score),
     maxScore: Number(r.max_score),
     state: r.state,
@@ -173,10 +175,10 @@ export async function saveRows(db: DataSource, user: SessionUser, id: string, ro
 export const UPLOAD_LIMIT_BYTES = 10 * 1024 * 1024;
 
 /** The file's records as rows, a batch at a time, each with its line and what is wrong with it. */
-async function* rowsOfCsv(file: Buffer, seen: { records: number }) {
+async function* rowsOfCsv(file: Buffer, seen: { records: number }, scale: ScoreSheet['scale']) {
   for await (const batch of csvBatches(file, ['student_code', 'score'])) {
     seen.records += batch.length;
-    yield batch.map(({ line, values }) => ({ line, ...rowFromCsv(values, line) }));
+    yield batch.map(({ line, values }) => ({ line, ...rowFromCsv(values, line, scale) }));
   }
 }
 
@@ -189,7 +191,7 @@ export async function uploadRows(db: DataSource, user: SessionUser, id: string, 
     const sheet = await loadSheet(manager, user, id, true);
     assertEditable(sheet, user);
     const seen = { records: 0 };
-    const staged = await stageRows(manager, sheet, rowsOfCsv(file, seen));
+    const staged = await stageRows(manager, sheet, rowsOfCsv(file, seen, sheet.scale));
     if (!seen.records) throw AppError.validation('The file has a header row but no data rows');
     if (opts.dryRun) return { dryRun: true, rows: staged.rows, preview: staged.preview, sheet: null };
     if (sheet.rows > 0 && !opts.replace) {
@@ -216,6 +218,8 @@ export async function saveSummary(db: DataSource, user: SessionUser, id: string,
     assertEditable(row, user);
     const plan = await currentPlan(manager, row.study_id);
     if (!plan?.content.summaryEntryAllowed) throw AppError.conflict('The study’s plan asks for per-student scores, not class summaries');
+    // Counts of yes answers come from the rows; a mean and SD would not give them exactly.
+    if (row.scale === 'yes-no') throw AppError.conflict('A yes/no measure takes one answer per student, not a class summary');
     if (summary.mean < Number(row.min_score) || summary.mean > Number(row.max_score)) {
       throw AppError.validation('The mean is outside the measure’s range', [{ path: 'summary.mean', message: `Use a mean between ${row.min_score} and ${row.max_score}` }]);
     }

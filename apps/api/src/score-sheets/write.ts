@@ -28,6 +28,7 @@ export interface SheetKeys {
   classroom_id: string;
   wave_id: string;
   measure_id: string;
+  scale: 'score' | 'yes-no';
   min_score: string;
   max_score: string;
 }
@@ -71,7 +72,7 @@ export async function stageRows(manager: EntityManager, sheet: SheetKeys, source
   await manager.query(`TRUNCATE staged_scores`);
   // Room for the sorts and hashes of a large sheet's set-wise checks, for this transaction only.
   await manager.query(`SET LOCAL work_mem = '64MB'`);
-  const range = { minScore: Number(sheet.min_score), maxScore: Number(sheet.max_score) };
+  const range = { minScore: Number(sheet.min_score), maxScore: Number(sheet.max_score), scale: sheet.scale };
   const problems = new Problems();
   const preview: ScoreRow[] = [];
   let rows = 0;

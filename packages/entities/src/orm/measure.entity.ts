@@ -1,5 +1,5 @@
 import { Column, CreateDateColumn, Entity, PrimaryGeneratedColumn } from 'typeorm';
-import type { MeasureKind } from '../schemas/studies.js';
+import type { MeasureKind, MeasureScale } from '../schemas/studies.js';
 import { numericToNumber } from './numeric.js';
 
 @Entity({ name: 'measures' })
@@ -12,6 +12,9 @@ export class MeasureEntity {
 
   @Column({ type: 'varchar', length: 120 })
   name!: string;
+
+  @Column({ type: 'varchar', length: 10 })
+  scale!: MeasureScale;
 
   @Column({ name: 'min_score', type: 'numeric', transformer: numericToNumber })
   minScore!: number;

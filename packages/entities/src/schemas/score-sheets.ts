@@ -27,22 +27,39 @@ export const scoreRowSchema = z.object({
 export type ScoreRow = z.infer<typeof scoreRowSchema>;
 export type ScoreRowInput = z.input<typeof scoreRowSchema>;
 
-/** A measure's score range, inclusive. */
+/** A measure's score range, inclusive; a yes/no measure (range 0–1) takes only 1 (yes) or 0 (no). */
 export interface MeasureRange {
   minScore: number;
   maxScore: number;
+  scale?: 'score' | 'yes-no';
 }
+
+export const YES_NO_PROBLEM = 'Answer yes or no (y/n, yes/no, 1/0 or true/false)';
 
 /**
  * What is wrong with a row's score, or null: a score must lie within the measure's range (also for a
- * student who left). The grid and the API both check rows with it. A missing score is not wrong in a
- * draft; see `lacksScore`.
+ * student who left), and a yes/no answer is 1 or 0. The grid and the API both check rows with it. A missing
+ * score is not wrong in a draft; see `lacksScore`.
  */
 export function scoreProblem(row: { score: number | null; left: boolean }, range: MeasureRange): string | null {
-  if (row.score !== null && (row.score < range.minScore || row.score > range.maxScore)) {
+  if (row.score === null) return null;
+  if (range.scale === 'yes-no') return row.score === 0 || row.score === 1 ? null : YES_NO_PROBLEM;
+  if (row.score < range.minScore || row.score > range.maxScore) {
     return `The score ${row.score} is outside the measure's range ${range.minScore}–${range.maxScore}`;
   }
   return null;
+}
+
+/**
+ * Reads a yes/no answer as typed, pasted or uploaded: yes/no, y/n, 1/0 or true/false in any case → 1, 0; an empty
+ * cell → null; anything else → undefined (not an answer).
+ */
+export function parseYesNo(text: string): 0 | 1 | null | undefined {
+  const t = text.trim().toLowerCase();
+  if (t === '') return null;
+  if (t === 'yes' || t === 'y' || t === '1' || t === 'true') return 1;
+  if (t === 'no' || t === 'n' || t === '0' || t === 'false') return 0;
+  return undefined;
 }
 
 /** A row still waiting for its score: a draft may hold it, a submitted sheet may not. */
@@ -87,6 +104,8 @@ export const scoreSheetSchema = z
     closesOn: z.string(),
     measureId: idSchema,
     measureName: z.string(),
+    /** A yes/no measure's rows hold 1 (yes) or 0 (no). */
+    scale: z.enum(['score', 'yes-no']),
     minScore: z.number(),
     maxScore: z.number(),
     state: sheetStateSchema,

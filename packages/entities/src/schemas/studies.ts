@@ -64,24 +64,50 @@ export const measureKinds = ['achievement', 'behaviour'] as const;
 export const measureKindSchema = z.enum(measureKinds);
 export type MeasureKind = z.infer<typeof measureKindSchema>;
 
+/** A score (a range and which way is better) or yes/no (which answer is the good one). */
+export const measureScales = ['score', 'yes-no'] as const;
+export const measureScaleSchema = z.enum(measureScales);
+export type MeasureScale = z.infer<typeof measureScaleSchema>;
+
+/**
+ * A score measure gives its range; a yes/no measure is stored as 1 (yes) and 0 (no) in the score column, so its
+ * range is 0–1 and `higherIsBetter` says whether yes is the good answer.
+ */
 export const createMeasureSchema = z
   .object({
     name: text('a name', 120),
-    minScore: z.number({ message: 'Enter a number' }).finite(),
-    maxScore: z.number({ message: 'Enter a number' }).finite(),
+    scale: measureScaleSchema.default('score'),
+    minScore: z.number({ message: 'Enter a number' }).finite().optional(),
+    maxScore: z.number({ message: 'Enter a number' }).finite().optional(),
     higherIsBetter: z.boolean().default(true),
     kind: measureKindSchema.default('achievement'),
   })
-  .refine((m) => m.maxScore > m.minScore, { path: ['maxScore'], message: 'The highest score must be above the lowest' });
+  .superRefine((m, ctx) => {
+    if (m.scale === 'yes-no') {
+      if ((m.minScore !== undefined && m.minScore !== 0) || (m.maxScore !== undefined && m.maxScore !== 1)) {
+        ctx.addIssue({ code: 'custom', path: ['scale'], message: 'A yes/no measure has no score range (yes is stored as 1, no as 0)' });
+      }
+      return;
+    }
+    if (m.minScore === undefined) ctx.addIssue({ code: 'custom', path: ['minScore'], message: 'Enter the lowest score' });
+    if (m.maxScore === undefined) ctx.addIssue({ code: 'custom', path: ['maxScore'], message: 'Enter the highest score' });
+    if (m.minScore !== undefined && m.maxScore !== undefined && !(m.maxScore > m.minScore)) {
+      ctx.addIssue({ code: 'custom', path: ['maxScore'], message: 'The highest score must be above the lowest' });
+    }
+  })
+  .transform((m) => ({ ...m, minScore: m.scale === 'yes-no' ? 0 : m.minScore!, maxScore: m.scale === 'yes-no' ? 1 : m.maxScore! }));
 export type CreateMeasure = z.infer<typeof createMeasureSchema>;
+export type CreateMeasureInput = z.input<typeof createMeasureSchema>;
 
 export const measureSchema = z
   .object({
     id: idSchema,
     studyId: idSchema,
     name: z.string(),
+    scale: measureScaleSchema,
     minScore: z.number(),
     maxScore: z.number(),
+    /** For a yes/no measure: yes is the good answer. */
     higherIsBetter: z.boolean(),
     kind: measureKindSchema,
   })

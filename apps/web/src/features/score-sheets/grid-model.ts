@@ -1,4 +1,4 @@
-import { lacksScore, MISSING_SCORE, scoreProblem, scoreRowSchema, type MeasureRange, type RowIssue, type ScoreRow, type ScoreRowInput } from '@evenhand/entities';
+import { lacksScore, MISSING_SCORE, parseYesNo, scoreProblem, YES_NO_PROBLEM, scoreRowSchema, type MeasureRange, type RowIssue, type ScoreRow, type ScoreRowInput } from '@evenhand/entities';
 import { toCsv } from '@/lib/csv';
 
 /** One row of the grid as typed: the score stays text, so "eighty" or "12,5" are kept until fixed. */
@@ -34,11 +34,16 @@ export function blankRow(): GridRow {
   return { id: newRowId(), studentCode: '', score: '', left: false, note: '' };
 }
 
-export function rowsFromSheet(rows: readonly ScoreRow[]): GridRow[] {
+type Scale = MeasureRange['scale'];
+
+/** A yes/no answer as the grid shows it. */
+const yesNoText = (score: number) => (score === 1 ? 'yes' : score === 0 ? 'no' : String(score));
+
+export function rowsFromSheet(rows: readonly ScoreRow[], scale?: Scale): GridRow[] {
   const grid = rows.map((r) => ({
     id: newRowId(),
     studentCode: r.studentCode,
-    score: r.score === null ? '' : String(r.score),
+    score: r.score === null ? '' : scale === 'yes-no' ? yesNoText(r.score) : String(r.score),
     left: r.left,
     note: r.note,
   }));
@@ -49,8 +54,12 @@ export function isBlank(row: GridRow): boolean {
   return !row.studentCode.trim() && !row.score.trim() && !row.left && !row.note.trim();
 }
 
-/** '' is no score; a decimal comma is read as a point (as the CSV upload does); anything else not a number is NaN. */
-export function parseScore(text: string): number | null {
+/**
+ * '' is no score; a decimal comma is read as a point (as the CSV upload does); anything else not a number is NaN.
+ * A yes/no measure reads yes/no, y/n, 1/0 or true/false as 1 and 0 (the shared `parseYesNo`), anything else as NaN.
+ */
+export function parseScore(text: string, scale?: Scale): number | null {
+  if (scale === 'yes-no') return parseYesNo(text) ?? Number.NaN;
   const t = text.trim();
   if (!t) return null;
   const normalised = /^-?\d+,\d+$/.test(t) ? t.replace(',', '.') : t;
@@ -58,12 +67,12 @@ export function parseScore(text: string): number | null {
 }
 
 /** The rows the API receives (blank rows are skipped), and for each the grid row it came from. */
-export function toScoreRows(rows: readonly GridRow[]): { rows: ScoreRowInput[]; gridIndex: number[] } {
+export function toScoreRows(rows: readonly GridRow[], scale?: Scale): { rows: ScoreRowInput[]; gridIndex: number[] } {
   const out: ScoreRowInput[] = [];
   const gridIndex: number[] = [];
   rows.forEach((row, i) => {
     if (isBlank(row)) return;
-    out.push({ studentCode: row.studentCode.trim(), score: parseScore(row.score), left: row.left, note: row.note.trim() });
+    out.push({ studentCode: row.studentCode.trim(), score: parseScore(row.score, scale), left: row.left, note: row.note.trim() });
     gridIndex.push(i);
   });
   return { rows: out, gridIndex };
@@ -87,12 +96,12 @@ export function checkGrid(rows: readonly GridRow[], range: MeasureRange): Map<st
   const byCode = new Map<string, number[]>();
   rows.forEach((row, i) => {
     if (isBlank(row)) return;
-    const score = parseScore(row.score);
+    const score = parseScore(row.score, range.scale);
     const parsed = scoreRowSchema.safeParse({ studentCode: row.studentCode, score, left: row.left, note: row.note });
     if (!parsed.success) {
       for (const issue of parsed.error.issues) {
         const column = schemaColumn[String(issue.path[0])];
-        if (column) add(row, column, column === 'score' ? 'Enter a number' : issue.message);
+        if (column) add(row, column, column !== 'score' ? issue.message : range.scale === 'yes-no' ? YES_NO_PROBLEM : 'Enter a number');
       }
     }
     if (score === null || Number.isFinite(score)) {

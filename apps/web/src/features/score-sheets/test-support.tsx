@@ -23,6 +23,7 @@ export function sheetFixture(overrides: Partial<ScoreSheetDetail> = {}, rows: Sc
     closesOn: '2026-05-22',
     measureId: '139ae8f8-5d07-480e-868c-375600720c0d',
     measureName: 'Oral reading fluency',
+    scale: 'score',
     minScore: 0,
     maxScore: 250,
     state: 'open',

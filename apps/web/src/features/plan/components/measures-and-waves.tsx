@@ -20,6 +20,12 @@ import { applyApiError, type FormProblem } from '@/lib/form-errors';
 import { plainMessages } from '@/lib/form-messages';
 
 const kindLabels: Record<Measure['kind'], string> = { achievement: 'Achievement', behaviour: 'Behaviour' };
+
+/** How a measure's answers and its good direction read: "0 to 200" and "Higher", or "Yes or no" and "Yes". */
+export function measureLabels(m: Pick<Measure, 'scale' | 'minScore' | 'maxScore' | 'higherIsBetter'>): { answers: string; better: string } {
+  if (m.scale === 'yes-no') return { answers: 'Yes or no', better: `“${m.higherIsBetter ? 'Yes' : 'No'}” is the good answer` };
+  return { answers: `${m.minScore} to ${m.maxScore}`, better: m.higherIsBetter ? 'Higher scores' : 'Lower scores' };
+}
 const waveKindLabels: Record<Wave['kind'], string> = { baseline: 'Baseline', outcome: 'Outcome', 'follow-up': 'Follow-up' };
 
 export function MeasuresList({ measures }: { measures: Measure[] }) {
@@ -30,15 +36,15 @@ export function MeasuresList({ measures }: { measures: Measure[] }) {
       hideCaption
       columns={[
         { key: 'name', header: 'Measure' },
-        { key: 'range', header: 'Score range', numeric: true },
-        { key: 'direction', header: 'Better scores are' },
+        { key: 'range', header: 'Answers' },
+        { key: 'direction', header: 'Better' },
         { key: 'kind', header: 'Kind' },
       ]}
       rows={measures.map((m) => ({
         id: m.id,
         name: m.name,
-        range: `${m.minScore} to ${m.maxScore}`,
-        direction: m.higherIsBetter ? 'Higher' : 'Lower',
+        range: measureLabels(m).answers,
+        direction: measureLabels(m).better,
         kind: kindLabels[m.kind],
       }))}
     />
@@ -70,11 +76,15 @@ export function AddMeasureForm({ onAdd }: { onAdd: (input: CreateMeasure) => Pro
     handleSubmit,
     setError,
     reset,
+    watch,
     formState: { errors, isSubmitting },
   } = useForm({
     resolver: zodResolver(createMeasureSchema, plainMessages),
-    defaultValues: { name: '', higherIsBetter: true, kind: 'achievement' as const },
+    defaultValues: { name: '', scale: 'score' as const, higherIsBetter: true, kind: 'achievement' as const },
+    // A yes/no measure has no range fields: hidden fields leave the values sent.
+    shouldUnregister: true,
   });
+  const yesNo = watch('scale') === 'yes-no';
 
   const onSubmit = handleSubmit(async (input) => {
     setProblem(null);
@@ -84,7 +94,7 @@ export function AddMeasureForm({ onAdd }: { onAdd: (input: CreateMeasure) => Pro
       reset();
       setAdded(`${input.name} is added.`);
     } catch (error) {
-      setProblem(applyApiError(error, setError, ['name', 'minScore', 'maxScore', 'higherIsBetter', 'kind']));
+      setProblem(applyApiError(error, setError, ['name', 'scale', 'minScore', 'maxScore', 'higherIsBetter', 'kind']));
     }
   });
 
@@ -96,17 +106,29 @@ export function AddMeasureForm({ onAdd }: { onAdd: (input: CreateMeasure) => Pro
         {(control) => <TextInput {...control} autoComplete="off" {...register('name')} />}
       </Field>
       <div className="grid gap-4 sm:grid-cols-2">
-        <Field label="Lowest possible score" error={errors.minScore?.message}>
-          {(control) => <TextInput {...control} type="number" step="any" {...register('minScore', { valueAsNumber: true })} />}
+        <Field label="Each student gets" hint="A yes/no measure: met the cut, chronically absent, on track…" error={errors.scale?.message}>
+          {(control) => (
+            <Select {...control} {...register('scale')}>
+              <option value="score">A score</option>
+              <option value="yes-no">Yes or no</option>
+            </Select>
+          )}
         </Field>
-        <Field label="Highest possible score" error={errors.maxScore?.message}>
-          {(control) => <TextInput {...control} type="number" step="any" {...register('maxScore', { valueAsNumber: true })} />}
-        </Field>
-        <Field label="Better scores are" error={errors.higherIsBetter?.message}>
+        {!yesNo && (
+          <>
+            <Field label="Lowest possible score" error={errors.minScore?.message}>
+              {(control) => <TextInput {...control} type="number" step="any" {...register('minScore', { valueAsNumber: true })} />}
+            </Field>
+            <Field label="Highest possible score" error={errors.maxScore?.message}>
+              {(control) => <TextInput {...control} type="number" step="any" {...register('maxScore', { valueAsNumber: true })} />}
+            </Field>
+          </>
+        )}
+        <Field label={yesNo ? 'The good answer is' : 'Better scores are'} error={errors.higherIsBetter?.message}>
           {(control) => (
             <Select {...control} {...register('higherIsBetter', { setValueAs: (v: string | boolean) => v === true || v === 'true' })}>
-              <option value="true">Higher</option>
-              <option value="false">Lower</option>
+              <option value="true">{yesNo ? 'Yes' : 'Higher'}</option>
+              <option value="false">{yesNo ? 'No' : 'Lower'}</option>
             </Select>
           )}
         </Field>

@@ -7,7 +7,7 @@ import { blankPlan, PlanForm } from '@/features/plan/components/plan-form';
 
 const studyId = '5b0c7a1e-2f4d-4e6a-9b8c-1d2e3f4a5b6c';
 const measures: Measure[] = [
-  { id: '0f6e2d1c-3b4a-4c5d-8e9f-a0b1c2d3e4f5', studyId, name: 'Reading fluency', minScore: 0, maxScore: 250, higherIsBetter: true, kind: 'achievement' },
+  { id: '0f6e2d1c-3b4a-4c5d-8e9f-a0b1c2d3e4f5', studyId, name: 'Reading fluency', scale: 'score', minScore: 0, maxScore: 250, higherIsBetter: true, kind: 'achievement' },
 ];
 const waves: Wave[] = [
   { id: '1a2b3c4d-5e6f-4a7b-8c9d-0e1f2a3b4c5d', studyId, kind: 'baseline', name: 'Autumn', opensOn: '2026-09-14', closesOn: '2026-10-09' },

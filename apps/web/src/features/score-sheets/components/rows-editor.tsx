@@ -54,12 +54,12 @@ function codesIn(reasons: string | null, rows: readonly GridRow[]): Set<string> 
  * the server's answer: a refused save keeps the rows and puts the server's messages on their cells.
  */
 export function RowsEditor({ sheet, initialRows, saveDelay }: RowsEditorProps) {
-  const [rows, setRows] = useState<GridRow[]>(() => initialRows ?? rowsFromSheet(sheet.rows));
+  const [rows, setRows] = useState<GridRow[]>(() => initialRows ?? rowsFromSheet(sheet.rows, sheet.scale));
   const [serverIssues, setServerIssues] = useState<Map<string, CellIssues>>(() => new Map());
   // The row being typed into: its own problems wait until the person moves on.
   const [editingRow, setEditingRow] = useState<string | null>(null);
   const [pasteNote, setPasteNote] = useState('');
-  const range = useMemo(() => ({ minScore: sheet.minScore, maxScore: sheet.maxScore }), [sheet.minScore, sheet.maxScore]);
+  const range = useMemo(() => ({ minScore: sheet.minScore, maxScore: sheet.maxScore, scale: sheet.scale }), [sheet.minScore, sheet.maxScore, sheet.scale]);
   const clientIssues = useMemo(() => checkGrid(rows, range), [rows, range]);
   // Rows without a score save as a draft; they are flagged once the teacher tries to submit.
   const [flagMissing, setFlagMissing] = useState(false);
@@ -72,7 +72,7 @@ export function RowsEditor({ sheet, initialRows, saveDelay }: RowsEditorProps) {
 
   const save = useCallback(
     async (snapshot: GridRow[]) => {
-      const { rows: payload, gridIndex } = toScoreRows(snapshot);
+      const { rows: payload, gridIndex } = toScoreRows(snapshot, range.scale);
       try {
         await saveRows.mutateAsync({ rows: payload });
         setServerIssues(new Map());
@@ -81,7 +81,7 @@ export function RowsEditor({ sheet, initialRows, saveDelay }: RowsEditorProps) {
         throw error;
       }
     },
-    [saveRows],
+    [saveRows, range.scale],
   );
   const blocked = useCallback((snapshot: GridRow[]) => checkGrid(snapshot, range).size > 0, [range]);
   const autosave = useAutosave({ value: rows, enabled: sheet.editable, blocked, save, delay: saveDelay });
@@ -153,7 +153,7 @@ export function RowsEditor({ sheet, initialRows, saveDelay }: RowsEditorProps) {
 
   async function onReplaced() {
     const fresh = await queryClient.ensureQueryData(sheetQueryOptions(sheet.id));
-    const next = rowsFromSheet(fresh.rows);
+    const next = rowsFromSheet(fresh.rows, fresh.scale);
     autosave.reset(next);
     setRows(next);
     setServerIssues(new Map());

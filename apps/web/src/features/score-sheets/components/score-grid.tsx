@@ -27,7 +27,8 @@ interface ScoreGridProps {
   onActiveRowChange?: (rowId: string | null) => void;
   /** A block of cells was pasted: how many rows it filled. */
   onPasted?: (rows: number) => void;
-  range: { minScore: number; maxScore: number };
+  /** A yes/no measure's score column takes y/n (and yes/no, 1/0, true/false). */
+  range: { minScore: number; maxScore: number; scale?: 'score' | 'yes-no' };
   /** Student codes (upper case) the coordinator named when returning the sheet: their rows are marked. */
   mentioned?: ReadonlySet<string>;
 }
@@ -160,6 +161,14 @@ export function ScoreGrid({ label, rows, issues, onRowsChange, onActiveRowChange
         addButtonRef.current?.focus();
         return;
     }
+    // A yes/no answer is one key: y or n fills the cell and moves down, so a class is entered in one pass.
+    const answer = event.key.toLowerCase();
+    if (range.scale === 'yes-no' && cell.column === 1 && (answer === 'y' || answer === 'n') && !event.shiftKey) {
+      event.preventDefault();
+      tabStart.current = null;
+      onCellChange(rows[cell.row].id, 'score', answer === 'y' ? 'yes' : 'no');
+      if (cell.row < last) moveTo({ row: cell.row + 1, column: 1 });
+    }
   }
 
   function onPaste(event: ClipboardEvent<HTMLTableElement>) {
@@ -215,9 +224,7 @@ export function ScoreGrid({ label, rows, issues, onRowsChange, onActiveRowChange
               </th>
               <th scope="col" className="border-b border-line px-3 py-2 font-semibold">
                 {columnLabels.score}{' '}
-                <span className="font-normal text-ink-muted">
-                  ({range.minScore}–{range.maxScore})
-                </span>
+                <span className="font-normal text-ink-muted">{range.scale === 'yes-no' ? '(y or n)' : `(${range.minScore}–${range.maxScore})`}</span>
               </th>
               <th scope="col" className="border-b border-line px-3 py-2 font-semibold">
                 {columnLabels.left}

@@ -44,7 +44,8 @@ export function SheetRowsTable({ sheet }: { sheet: ScoreSheetDetail }) {
               <th scope="col" className="w-14 px-3 py-2">Row</th>
               <th scope="col" className="px-3 py-2">Student code</th>
               <th scope="col" className="px-3 py-2">
-                Score <span className="font-normal text-ink-muted">({sheet.minScore}–{sheet.maxScore})</span>
+                {sheet.scale === 'yes-no' ? 'Answer' : 'Score'}{' '}
+                <span className="font-normal text-ink-muted">{sheet.scale === 'yes-no' ? '(yes or no)' : `(${sheet.minScore}–${sheet.maxScore})`}</span>
               </th>
               <th scope="col" className="px-3 py-2">Left the study</th>
               <th scope="col" className="px-3 py-2">Note</th>
@@ -57,7 +58,7 @@ export function SheetRowsTable({ sheet }: { sheet: ScoreSheetDetail }) {
                 <th scope="row" className="px-3 py-1.5 font-normal">
                   {r.studentCode}
                 </th>
-                <td className="px-3 py-1.5 tabular-nums">{r.score ?? '—'}</td>
+                <td className="px-3 py-1.5 tabular-nums">{r.score === null ? '—' : sheet.scale === 'yes-no' ? (r.score === 1 ? 'Yes' : 'No') : r.score}</td>
                 <td className="px-3 py-1.5">{r.left ? 'Yes' : 'No'}</td>
                 <td className="px-3 py-1.5">{r.note}</td>
               </tr>
