@@ -142,6 +142,6 @@ describe('large sheets', () => {
     const csv = lines(6_000, () => '10') + 'big-00007,11\n';
     const res = await upload(teacher2, sheet2, csv, '?replace=true&dryRun=true');
     expect(res.status).toBe(400);
-    expect(res.body.error.details.rows).toEqual([{ row: 6_002, column: 'student_code', message: 'Student code big-00007 is also on row 9' }]);
+    expect(res.body.error.details.rows).toEqual([{ row: 6_002, column: 'student_code', message: 'Student code BIG-00007 is also on row 9' }]);
   });
 });

@@ -76,7 +76,7 @@ describe('teacher entry by form', () => {
     expect(res.status).toBe(400);
     expect(res.body.error.details.rows).toEqual([
       { row: 1, column: 'score', message: "The score 250 is outside the measure's range 0–200" },
-      { row: 3, column: 'student_code', message: 'Student code lv-0001 is also on row 1' },
+      { row: 3, column: 'student_code', message: 'Student code LV-0001 is also on row 1' },
     ]);
     expect(await scores(sheet1)).toEqual(before);
   });
@@ -108,6 +108,24 @@ describe('teacher entry by form', () => {
     expect(dry.status).toBe(400);
     expect(dry.body.error.details.rows).toEqual([{ row: 2, column: 'student_code', message: 'Student code LV-0002 cannot be used in this classroom' }]);
     expect(JSON.stringify(dry.body)).not.toMatch(/Room 1|another classroom/);
+  });
+
+  it('when a code differs from another classroom’s only by letter case or spaces, then it is the same student: refused, and codes are stored upper-case', async () => {
+    for (const code of ['lv-0002', ' Lv-0002 ']) {
+      const res = await put(teacher2, sheet2, [{ studentCode: code, score: 50 }]);
+      expect(res.status).toBe(400);
+      expect(res.body.error.details.rows[0].message).toBe('Student code LV-0002 cannot be used in this classroom');
+    }
+    const upload1 = await upload(teacher2, sheet2, 'student_code,score\nlv-0002,50\n', '?dryRun=true');
+    expect(upload1.body.error.details.rows).toEqual([{ row: 2, column: 'student_code', message: 'Student code LV-0002 cannot be used in this classroom' }]);
+    await put(teacher2, sheet2, [{ studentCode: 'case-abc', score: 50 }]).expect(200);
+    expect(await scores(sheet2)).toEqual([{ student_code: 'CASE-ABC', score: 50, left_study: false }]);
+    const [registered] = await t.db.query(`SELECT student_code FROM students WHERE study_id = $1 AND upper(student_code) = 'CASE-ABC'`, [s.studyId]);
+    expect(registered.student_code).toBe('CASE-ABC');
+    expect((await put(teacher1, sheet1, [...(await scores(sheet1)).map((r: { student_code: string; score: number | null; left_study: boolean }) => ({ studentCode: r.student_code, score: r.score, left: r.left_study })), { studentCode: 'CASE-ABC', score: 51 }])).status).toBe(400);
+    // The database holds to the same rule, whoever writes.
+    await expect(t.db.query(`INSERT INTO students (study_id, student_code, classroom_id) SELECT study_id, 'case-abd', classroom_id FROM score_sheets WHERE id = $1`, [sheet2])).rejects.toThrow(/students_code_normalised/);
+    await put(teacher2, sheet2, []).expect(200);
   });
 
   it('when a teacher opens or writes another teacher’s sheet, then it answers 404; a coordinator cannot enter scores', async () => {

@@ -8,14 +8,17 @@ export type SheetState = z.infer<typeof sheetStateSchema>;
 
 /**
  * A student code: letters, digits, dash, underscore or dot, up to 40 characters. Never a name —
- * spaces are refused, which catches most names typed by mistake.
+ * spaces are refused, which catches most names typed by mistake. One rule everywhere: a code is
+ * trimmed and upper-cased on entry, so `case-abc` and `CASE-ABC` are one student (the database
+ * refuses a code in any other form).
  */
 export const studentCodeSchema = z
   .string()
   .trim()
   .min(1, 'Enter the student code')
   .max(40, 'Student codes are at most 40 characters')
-  .regex(/^[A-Za-z0-9][A-Za-z0-9._-]*$/, 'Use the student code (letters, digits, - _ .), not a name');
+  .regex(/^[A-Za-z0-9][A-Za-z0-9._-]*$/, 'Use the student code (letters, digits, - _ .), not a name')
+  .toUpperCase();
 
 /** One row as the grid or an upload sends it; range checks need the measure, so they run on the server too. */
 export const scoreRowSchema = z.object({
