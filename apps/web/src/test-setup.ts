@@ -1,6 +1,10 @@
 import '@testing-library/jest-dom/vitest';
-import { cleanup } from '@testing-library/react';
+import { cleanup, configure } from '@testing-library/react';
 import { afterEach } from 'vitest';
+
+// Signed-in pages load through their routes' `lazy`, and in the test run a page's first import compiles its modules:
+// give `findBy…` more than the default second.
+configure({ asyncUtilTimeout: 5000 });
 
 afterEach(() => {
   cleanup();

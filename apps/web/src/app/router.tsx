@@ -6,35 +6,21 @@ import { PublicLayout } from '@/app/public-layout';
 import { RouteError } from '@/app/route-error';
 import { SignedInLayout } from '@/app/signed-in-layout';
 import { Loading } from '@/components/ui/spinner';
-import { AccountsPage, accountsLoader, accountsShouldRevalidate } from '@/features/accounts/routes';
-import { AuditPage, auditLoader, auditShouldRevalidate, StudyAuditPage, studyAuditLoader } from '@/features/audit/routes';
 import { sessionQueryOptions } from '@/features/auth/api';
 import { ForgotPasswordPage, SetPasswordPage, SignInPage } from '@/features/auth/routes';
-import { DigestsPage, digestsLoader, digestsShouldRevalidate, EmailPreferencesPage } from '@/features/digests/routes';
-import { NoRolePage, ToDoPanel } from '@/features/home/routes';
-import { MySchoolPage, mySchoolLoader } from '@/features/my-school/routes';
-import { DrawPage, drawLoader } from '@/features/draw/routes';
-import { SitesPage, sitesLoader } from '@/features/sites/routes';
-import {
-  MyClassesPage,
-  myClassesLoader,
-  ScoreSheetPage,
-  scoreSheetLoader,
-  StudyScoreSheetsPage,
-  studyScoreSheetsLoader,
-  StudySheetPage,
-  studySheetLoader,
-} from '@/features/score-sheets/routes';
-import {
-  StudiesPage,
-  studiesLoader,
-  studiesShouldRevalidate,
-  StudyLayout,
-  studyIndexLoader,
-  studyLoader,
-  StudyOverviewPage,
-} from '@/features/studies/routes';
 import { areas, studyTabs } from '@/lib/navigation';
+
+// Only the public pages and the frames are in the first download (the sign-in page's JavaScript, measured by
+// `npm run bench -w apps/web`); each signed-in page loads on first visit through its route's `lazy`.
+const accounts = () => import('@/features/accounts/routes');
+const audit = () => import('@/features/audit/routes');
+const digests = () => import('@/features/digests/routes');
+const home = () => import('@/features/home/routes');
+const mySchool = () => import('@/features/my-school/routes');
+const draw = () => import('@/features/draw/routes');
+const sites = () => import('@/features/sites/routes');
+const scoreSheets = () => import('@/features/score-sheets/routes');
+const studies = () => import('@/features/studies/routes');
 
 export function createRoutes(queryClient: QueryClient): RouteObject[] {
   return [
@@ -57,7 +43,7 @@ export function createRoutes(queryClient: QueryClient): RouteObject[] {
             { path: 'forgot-password', Component: ForgotPasswordPage },
             { path: 'set-password', Component: SetPasswordPage },
             // Opened from a digest's links, signed in or not.
-            { path: 'email-preferences', Component: EmailPreferencesPage },
+            { path: 'email-preferences', lazy: async () => ({ Component: (await digests()).EmailPreferencesPage }) },
           ],
         },
         {
@@ -71,29 +57,57 @@ export function createRoutes(queryClient: QueryClient): RouteObject[] {
               // Inside the layout, so a refused or failed page keeps the header and navigation.
               errorElement: <RouteError />,
               children: [
-                { index: true, loader: homeLoader(queryClient), Component: NoRolePage },
-                { path: areas.myClasses.path, loader: guardArea(queryClient, areas.myClasses, myClassesLoader(queryClient)), Component: MyClassesPage },
-                { path: areas.scoreSheet.path, loader: guardArea(queryClient, areas.scoreSheet, scoreSheetLoader(queryClient)), Component: ScoreSheetPage },
-                { path: areas.mySchool.path, loader: guardArea(queryClient, areas.mySchool, mySchoolLoader(queryClient)), Component: MySchoolPage },
+                { index: true, loader: homeLoader(queryClient), lazy: async () => ({ Component: (await home()).NoRolePage }) },
+                {
+                  path: areas.myClasses.path,
+                  lazy: async () => {
+                    const { MyClassesPage, myClassesLoader } = await scoreSheets();
+                    return { loader: guardArea(queryClient, areas.myClasses, myClassesLoader(queryClient)), Component: MyClassesPage };
+                  },
+                },
+                {
+                  path: areas.scoreSheet.path,
+                  lazy: async () => {
+                    const { ScoreSheetPage, scoreSheetLoader } = await scoreSheets();
+                    return { loader: guardArea(queryClient, areas.scoreSheet, scoreSheetLoader(queryClient)), Component: ScoreSheetPage };
+                  },
+                },
+                {
+                  path: areas.mySchool.path,
+                  lazy: async () => {
+                    const { MySchoolPage, mySchoolLoader } = await mySchool();
+                    return { loader: guardArea(queryClient, areas.mySchool, mySchoolLoader(queryClient)), Component: MySchoolPage };
+                  },
+                },
                 {
                   path: areas.studies.path,
-                  loader: guardArea(queryClient, areas.studies, studiesLoader(queryClient)),
-                  shouldRevalidate: studiesShouldRevalidate,
-                  element: <StudiesPage toDo={<ToDoPanel home={areas.studies.path} />} />,
+                  lazy: async () => {
+                    const [{ StudiesPage, studiesLoader, studiesShouldRevalidate }, { ToDoPanel }] = await Promise.all([studies(), home()]);
+                    return {
+                      loader: guardArea(queryClient, areas.studies, studiesLoader(queryClient)),
+                      shouldRevalidate: studiesShouldRevalidate,
+                      element: <StudiesPage toDo={<ToDoPanel home={areas.studies.path} />} />,
+                    };
+                  },
                 },
                 {
                   // A study's tabs: each guarded by the role table in lib/navigation.ts (studyTabs).
                   path: `${areas.studies.path}/:studyId`,
-                  loader: guardArea(queryClient, areas.studies, studyLoader(queryClient)),
-                  Component: StudyLayout,
+                  lazy: async () => {
+                    const { StudyLayout, studyLoader } = await studies();
+                    return { loader: guardArea(queryClient, areas.studies, studyLoader(queryClient)), Component: StudyLayout };
+                  },
                   children: [
                     {
                       // Inside the study, so a refused tab keeps the study's header and tabs.
                       errorElement: <RouteError />,
                       // The tabs that draw charts load on first visit: the chart library is over a quarter of the app's weight.
                       children: [
-                        { index: true, loader: studyIndexLoader },
-                        { path: studyTabs.overview.path, loader: guardArea(queryClient, studyTabs.overview), Component: StudyOverviewPage },
+                        { index: true, lazy: async () => ({ loader: (await studies()).studyIndexLoader }) },
+                        {
+                          path: studyTabs.overview.path,
+                          lazy: async () => ({ loader: guardArea(queryClient, studyTabs.overview), Component: (await studies()).StudyOverviewPage }),
+                        },
                         {
                           path: studyTabs.plan.path,
                           lazy: async () => {
@@ -101,17 +115,33 @@ export function createRoutes(queryClient: QueryClient): RouteObject[] {
                             return { loader: guardArea(queryClient, studyTabs.plan, planLoader(queryClient)), Component: PlanPage };
                           },
                         },
-                        { path: studyTabs.sites.path, loader: guardArea(queryClient, studyTabs.sites, sitesLoader(queryClient)), Component: SitesPage },
-                        { path: studyTabs.draw.path, loader: guardArea(queryClient, studyTabs.draw, drawLoader(queryClient)), Component: DrawPage },
+                        {
+                          path: studyTabs.sites.path,
+                          lazy: async () => {
+                            const { SitesPage, sitesLoader } = await sites();
+                            return { loader: guardArea(queryClient, studyTabs.sites, sitesLoader(queryClient)), Component: SitesPage };
+                          },
+                        },
+                        {
+                          path: studyTabs.draw.path,
+                          lazy: async () => {
+                            const { DrawPage, drawLoader } = await draw();
+                            return { loader: guardArea(queryClient, studyTabs.draw, drawLoader(queryClient)), Component: DrawPage };
+                          },
+                        },
                         {
                           path: studyTabs.scoreSheets.path,
-                          loader: guardArea(queryClient, studyTabs.scoreSheets, studyScoreSheetsLoader(queryClient)),
-                          Component: StudyScoreSheetsPage,
+                          lazy: async () => {
+                            const { StudyScoreSheetsPage, studyScoreSheetsLoader } = await scoreSheets();
+                            return { loader: guardArea(queryClient, studyTabs.scoreSheets, studyScoreSheetsLoader(queryClient)), Component: StudyScoreSheetsPage };
+                          },
                         },
                         {
                           path: `${studyTabs.scoreSheets.path}/:sheetId`,
-                          loader: guardArea(queryClient, studyTabs.scoreSheets, studySheetLoader(queryClient)),
-                          Component: StudySheetPage,
+                          lazy: async () => {
+                            const { StudySheetPage, studySheetLoader } = await scoreSheets();
+                            return { loader: guardArea(queryClient, studyTabs.scoreSheets, studySheetLoader(queryClient)), Component: StudySheetPage };
+                          },
                         },
                         {
                           path: studyTabs.checks.path,
@@ -144,15 +174,17 @@ export function createRoutes(queryClient: QueryClient): RouteObject[] {
                         },
                         {
                           path: studyTabs.digests.path,
-                          loader: guardArea(queryClient, studyTabs.digests, digestsLoader(queryClient)),
-                          shouldRevalidate: digestsShouldRevalidate,
-                          Component: DigestsPage,
+                          lazy: async () => {
+                            const { DigestsPage, digestsLoader, digestsShouldRevalidate } = await digests();
+                            return { loader: guardArea(queryClient, studyTabs.digests, digestsLoader(queryClient)), shouldRevalidate: digestsShouldRevalidate, Component: DigestsPage };
+                          },
                         },
                         {
                           path: studyTabs.audit.path,
-                          loader: guardArea(queryClient, studyTabs.audit, studyAuditLoader(queryClient)),
-                          shouldRevalidate: auditShouldRevalidate,
-                          Component: StudyAuditPage,
+                          lazy: async () => {
+                            const { StudyAuditPage, studyAuditLoader, auditShouldRevalidate } = await audit();
+                            return { loader: guardArea(queryClient, studyTabs.audit, studyAuditLoader(queryClient)), shouldRevalidate: auditShouldRevalidate, Component: StudyAuditPage };
+                          },
                         },
                       ],
                     },
@@ -160,15 +192,21 @@ export function createRoutes(queryClient: QueryClient): RouteObject[] {
                 },
                 {
                   path: areas.accounts.path,
-                  loader: guardArea(queryClient, areas.accounts, accountsLoader(queryClient)),
-                  shouldRevalidate: accountsShouldRevalidate,
-                  element: <AccountsPage toDo={<ToDoPanel home={areas.accounts.path} />} />,
+                  lazy: async () => {
+                    const [{ AccountsPage, accountsLoader, accountsShouldRevalidate }, { ToDoPanel }] = await Promise.all([accounts(), home()]);
+                    return {
+                      loader: guardArea(queryClient, areas.accounts, accountsLoader(queryClient)),
+                      shouldRevalidate: accountsShouldRevalidate,
+                      element: <AccountsPage toDo={<ToDoPanel home={areas.accounts.path} />} />,
+                    };
+                  },
                 },
                 {
                   path: areas.audit.path,
-                  loader: guardArea(queryClient, areas.audit, auditLoader(queryClient)),
-                  shouldRevalidate: auditShouldRevalidate,
-                  Component: AuditPage,
+                  lazy: async () => {
+                    const { AuditPage, auditLoader, auditShouldRevalidate } = await audit();
+                    return { loader: guardArea(queryClient, areas.audit, auditLoader(queryClient)), shouldRevalidate: auditShouldRevalidate, Component: AuditPage };
+                  },
                 },
               ],
             },
