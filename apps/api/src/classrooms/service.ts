@@ -2,6 +2,7 @@ import type { DataSource, EntityManager } from 'typeorm';
 import {
   classroomCsvColumns,
   classroomCsvRowSchema,
+  districtWideRoles,
   type Classroom,
   type Cohort,
   type CreateClassroom,
@@ -55,7 +56,7 @@ const classroomSelect = `SELECT c.id, c.study_id, c.site_id, s.name AS site_name
 /** Teachers see their own classrooms, principals their school's; district roles all of the study's. */
 export async function listClassrooms(db: DataSource, user: SessionUser, studyId: string): Promise<{ items: Classroom[]; total: number }> {
   await findVisibleStudy(db.manager, user, studyId);
-  const districtWide = hasRole(user, 'coordinator', 'research_lead', 'reviewer', 'admin');
+  const districtWide = hasRole(user, ...districtWideRoles);
   const rows: ClassroomRow[] = await db.query(
     `${classroomSelect} WHERE c.study_id = $1 AND ($2 OR c.teacher_id = $3 OR c.site_id = ANY($4))
      ORDER BY s.name, h.name, c.name`,

@@ -1,6 +1,6 @@
 import type { DataSource, EntityManager } from 'typeorm';
 import { benjaminiHochberg } from '@evenhand/stats';
-import { decidingTest, type Comparison, type ComparisonSchedule, type CreateComparison, type PlanContent, type PrincipalRun, type QueueRun, type Run, type RunResults, type SessionUser } from '@evenhand/entities';
+import { decidingTest, smallCellViewerRoles, type Comparison, type ComparisonSchedule, type CreateComparison, type PlanContent, type PrincipalRun, type QueueRun, type Run, type RunResults, type SessionUser } from '@evenhand/entities';
 import { recordAudit } from '../audit/service.js';
 import type { Deps } from '../deps.js';
 import { createLockDigests } from '../digests/service.js';
@@ -313,7 +313,7 @@ async function multiplicityFor(manager: EntityManager, run: RunRow): Promise<Run
 export async function getRun(db: DataSource, user: SessionUser, runId: string): Promise<Run | PrincipalRun> {
   const run = await loadRun(db.manager, user, runId);
   const full = toRun(run, await multiplicityFor(db.manager, run));
-  if (hasRole(user, 'research_lead', 'reviewer', 'coordinator')) return full;
+  if (hasRole(user, ...smallCellViewerRoles)) return full;
   if (run.state !== 'locked') throw AppError.notFound('The run');
   return principalView(full, sitesOf(user, 'principal'));
 }

@@ -7,6 +7,7 @@ import { AppError } from '../errors.js';
 import { findVisibleStudy, hasRole, sitesOf } from '../studies/access.js';
 import { advanceStatus } from '../studies/service.js';
 import { ensurePerson } from '../users/service.js';
+import { districtWideRoles } from '@evenhand/entities';
 
 interface SiteRow {
   id: string;
@@ -94,7 +95,7 @@ export async function enrolSite(deps: Deps, actor: SessionUser, studyId: string,
 
 /** Coordinators and leads see any site; a principal only their own (others answer 404). */
 export async function getSite(db: DataSource, user: SessionUser, id: string): Promise<Site> {
-  if (!hasRole(user, 'coordinator', 'research_lead', 'admin') && !sitesOf(user, 'principal').includes(id)) throw AppError.notFound('The site');
+  if (!hasRole(user, ...districtWideRoles) && !sitesOf(user, 'principal').includes(id)) throw AppError.notFound('The site');
   return siteById(db.manager, id);
 }
 
