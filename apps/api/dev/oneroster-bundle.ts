@@ -13,12 +13,12 @@ import { crc32, deflateRawSync } from 'node:zlib';
 
 /** The demo district's schools (apps/api/src/seed/demo.ts), as the export names them. */
 export const DEMO_SCHOOLS = [
-  { code: 'ALD', name: 'Alder Street Elementary' },
-  { code: 'BRK', name: 'Brookfield Middle School' },
-  { code: 'CDH', name: 'Cedar Hollow Elementary' },
-  { code: 'DNP', name: 'Dunmore Park Elementary' },
-  { code: 'ELR', name: 'Elm Ridge Middle School' },
-  { code: 'FRN', name: 'Fernbank Elementary' },
+  { code: 'ALD', name: 'Alderquill Elementary' },
+  { code: 'BRK', name: 'Brackenwold Middle School' },
+  { code: 'CDH', name: 'Cinderhaze Elementary' },
+  { code: 'DNP', name: 'Dunnowick Park Elementary' },
+  { code: 'ELR', name: 'Emberlark Middle School' },
+  { code: 'FRN', name: 'Fernquillow Elementary' },
 ];
 const GIVEN = ['Ondine', 'Perrin', 'Quill', 'Rosalind', 'Soren', 'Talia', 'Ulric', 'Vesper'];
 

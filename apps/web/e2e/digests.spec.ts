@@ -27,9 +27,9 @@ async function mailTo(page: Page, address: string): Promise<Caught[]> {
 test('a principal lands on My school and reads their school’s participation and the locked result in plain words', async ({ page }) => {
   await signIn(page, 'principal1@evenhand.test');
   await expect(page.getByRole('heading', { level: 1, name: 'My school', exact: true })).toBeVisible();
-  await expect(page.getByRole('heading', { level: 2, name: 'Alder Street Elementary' })).toBeVisible();
+  await expect(page.getByRole('heading', { level: 2, name: 'Alderquill Elementary' })).toBeVisible();
   // Only their own school.
-  await expect(page.getByText('Brookfield Middle School')).toHaveCount(0);
+  await expect(page.getByText('Brackenwold Middle School')).toHaveCount(0);
 
   const taking = page.getByRole('table', { name: 'Classrooms and students with scores, by group' });
   await expect(taking.getByRole('rowheader', { name: 'Intervention classrooms' })).toBeVisible();
@@ -71,9 +71,9 @@ test('the coordinator previews a digest as the principal sees it, sends digests 
 
   await outbox.getByRole('row').filter({ hasText: 'principal1@evenhand.test' }).first().getByRole('button', { name: /^Preview/ }).click();
   const dialog = page.getByRole('dialog', { name: 'As the principal sees it' });
-  await expect(dialog.getByText('Dr. Helena Voss <principal1@evenhand.test>')).toBeVisible();
+  await expect(dialog.getByText('Dr. Helena Moonquarry <principal1@evenhand.test>')).toBeVisible();
   const frame = dialog.frameLocator('iframe');
-  await expect(frame.getByText('Alder Street Elementary', { exact: true })).toBeVisible();
+  await expect(frame.getByText('Alderquill Elementary', { exact: true })).toBeVisible();
   await expect(frame.getByText(/Hedges’ g = /).first()).toBeVisible();
   await dialog.getByRole('button', { name: 'Plain text' }).click();
   await expect(dialog.getByText(/Stop these e-mails: /)).toBeVisible();
@@ -90,9 +90,9 @@ test('the coordinator previews a digest as the principal sees it, sends digests 
     .poll(async () => (await mailTo(page, 'principal1@evenhand.test')).filter((m) => m.subject.startsWith('Update on')).length, { timeout: 20_000 })
     .toBe(before + 1);
   const mail = (await mailTo(page, 'principal1@evenhand.test')).filter((m) => m.subject.startsWith('Update on')).at(-1)!;
-  expect(mail.subject).toBe('Update on Lantern Reading Routine in grades 3 and 4 (Alder Street Elementary)');
-  expect(mail.text).toContain('Alder Street Elementary');
-  expect(mail.text).not.toContain('Brookfield Middle School');
+  expect(mail.subject).toBe('Update on Lantern Reading Routine in grades 3 and 4 (Alderquill Elementary)');
+  expect(mail.text).toContain('Alderquill Elementary');
+  expect(mail.text).not.toContain('Brackenwold Middle School');
   await expect(outbox.getByRole('row').filter({ hasText: 'Sent now' }).first()).toContainText('Sent', { timeout: 20_000 });
 });
 
@@ -102,7 +102,7 @@ test('the e-mail’s link changes how often a principal gets digests, without si
   const link = mail.text.match(/Stop these e-mails: (\S+)/)![1];
   await page.goto(new URL(link).pathname + new URL(link).search);
   await expect(page.getByRole('heading', { level: 1, name: 'E-mail digests' })).toBeVisible();
-  await expect(page.getByText('Hello Samuel Achterberg.', { exact: false })).toBeVisible();
+  await expect(page.getByText('Hello Samuel Driftwillow.', { exact: false })).toBeVisible();
   await expect(page.getByLabel('No digests')).toBeChecked();
   await expectAccessible(page);
   await page.getByRole('button', { name: 'Stop the digests' }).click();

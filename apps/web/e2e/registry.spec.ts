@@ -249,7 +249,7 @@ test.describe('the registry screens of the demo study are accessible', () => {
     await signIn(page, 'coordinator@evenhand.test');
     await openDemoStudy(page);
     await page.getByRole('navigation', { name: 'Study' }).getByRole('link', { name: 'Sites & classes' }).click();
-    await expect(page.getByRole('table', { name: 'Enrolled sites' })).toContainText('Alder Street Elementary');
+    await expect(page.getByRole('table', { name: 'Enrolled sites' })).toContainText('Alderquill Elementary');
     await expectAccessible(page);
     await page.getByRole('navigation', { name: 'Study' }).getByRole('link', { name: 'Draw' }).click();
     await expect(page.getByText('larkspur-valley-2025')).toBeVisible();

@@ -30,7 +30,7 @@ test.describe.serial('the coordinator enrols a study’s roster from a OneRoster
     await signIn(page, 'coordinator@evenhand.test');
     await openSites(page);
     const dialog = await previewBundle(page);
-    await expect(dialog.getByRole('group', { name: /Alder Street Elementary/ })).toBeVisible();
+    await expect(dialog.getByRole('group', { name: /Alderquill Elementary/ })).toBeVisible();
     await expect(dialog.getByText('Given1')).toHaveCount(0);
     await expectAccessible(page);
     await dialog.getByRole('button', { name: 'Choose other files' }).click();
@@ -40,8 +40,8 @@ test.describe.serial('the coordinator enrols a study’s roster from a OneRoster
     await signIn(page, 'coordinator@evenhand.test');
     await openSites(page);
     const dialog = await previewBundle(page);
-    const brookfield = dialog.getByRole('group', { name: /Brookfield Middle School/ });
-    await brookfield.getByRole('row', { name: /Grade 4 Reading 2/ }).getByRole('checkbox').uncheck();
+    const brackenwold = dialog.getByRole('group', { name: /Brackenwold Middle School/ });
+    await brackenwold.getByRole('row', { name: /Grade 4 Reading 2/ }).getByRole('checkbox').uncheck();
     await expectAccessible(page);
     await dialog.getByRole('button', { name: 'Import the chosen classes' }).click();
     await expect(dialog.getByText(/The roster is imported: 3 classrooms added, 36 students joined/)).toBeVisible();

@@ -74,7 +74,7 @@ async function createOpenStudy(baseURL: string): Promise<OwnStudy> {
   const site = await created(coordinator.post(`/api/studies/${study.id}/sites`, { data: { name: `Juniper Lane ${suffix}`, code: `J${suffix}` } }));
   await created(
     coordinator.post(`/api/studies/${study.id}/classrooms`, {
-      data: { siteId: site.id, cohortId: cohort.id, name: 'Room 12', grade: '3', expectedSize: 20, teacher: { email: 'teacher1@evenhand.test', name: 'Tomasz Ferreira' } },
+      data: { siteId: site.id, cohortId: cohort.id, name: 'Room 12', grade: '3', expectedSize: 20, teacher: { email: 'teacher1@evenhand.test', name: 'Tomasz Thimblewick' } },
     }),
   );
   await lead.dispose();
@@ -123,7 +123,7 @@ test('a teacher fixes the sheet the coordinator returned and resubmits it; the c
   await page.getByRole('link', { name: DEMO_STUDY }).click();
   await page.getByRole('navigation', { name: 'Study' }).getByRole('link', { name: 'Score sheets' }).click();
   await expect(page.getByRole('heading', { name: 'Score sheets', level: 2 })).toBeVisible();
-  await page.getByLabel('School').selectOption({ label: 'Alder Street Elementary' });
+  await page.getByLabel('School').selectOption({ label: 'Alderquill Elementary' });
   await page.getByLabel('State').selectOption({ label: 'Submitted' });
   await expectAccessible(page);
   await page.getByRole('link', { name: /^Room 3B, Spring 2026, Oral reading fluency.*: Submitted/ }).click();
@@ -131,7 +131,7 @@ test('a teacher fixes the sheet the coordinator returned and resubmits it; the c
   await page.getByRole('button', { name: 'Accept' }).click();
   await expect(page.getByText("Accepted. Room 3B's sheet is now read-only.")).toBeVisible();
   await page.getByRole('link', { name: 'All score sheets' }).click();
-  await page.getByLabel('School').selectOption({ label: 'Alder Street Elementary' });
+  await page.getByLabel('School').selectOption({ label: 'Alderquill Elementary' });
   await expect(page.getByRole('link', { name: /^Room 3B, Spring 2026, Oral reading fluency.*: Accepted/ })).toBeVisible();
 });
 

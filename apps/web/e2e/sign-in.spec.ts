@@ -65,7 +65,7 @@ test('outside production the sign-in page lists the demo accounts, and one is pi
   const panel = page.getByRole('complementary', { name: 'Demo accounts' });
   await expect(panel).toContainText(PASSWORD);
   for (const { email } of homes) await expect(panel.getByRole('button', { name: email })).toBeVisible();
-  const principal = panel.getByRole('button', { name: /Principal · Alder Street Elementary/ });
+  const principal = panel.getByRole('button', { name: /Principal · Alderquill Elementary/ });
   for (let i = 0; i < 30 && !(await principal.evaluate((el) => el === document.activeElement)); i++) await page.keyboard.press('Tab');
   await expect(principal).toBeFocused();
   await page.keyboard.press('Enter');

@@ -126,7 +126,7 @@ async function expectToDo({ page, role }: Visit) {
   const item = (title: string | RegExp, study: string) => panel.getByRole('listitem').filter({ hasText: study }).filter({ has: page.getByRole('link', { name: title }) });
   if (role === 'coordinator') {
     await expect(item('Enrol the schools', DRAFT_STUDY).getByRole('link')).toHaveAttribute('href', /\/sites$/);
-    // The seed leaves the Fernbank Room 3A spring sheets unentered after their wave closed.
+    // The seed leaves the Fernquillow Room 3A spring sheets unentered after their wave closed.
     const late = item(/^\d+ score sheets are late$/, DEMO_STUDY).getByRole('link');
     await expect(late).toHaveAttribute('href', /\/score-sheets$/);
     expect(Number((await late.textContent())!.split(' ')[0])).toBeGreaterThanOrEqual(2);
@@ -185,7 +185,7 @@ const areaChecks: Partial<Record<keyof typeof areas, (v: Visit) => Promise<void>
   async myClasses({ page }) {
     await expect(page.getByRole('heading', { level: 1, name: 'My classes' })).toBeVisible();
     const study = main(page).getByRole('region', { name: DEMO_STUDY, exact: true });
-    const room = study.getByRole('region', { name: 'Room 3A · Alder Street Elementary' });
+    const room = study.getByRole('region', { name: 'Room 3A · Alderquill Elementary' });
     await expect(bodyRows(room.getByRole('table'))).toHaveCount(4);
     // What to do next: the sheets the coordinator returned to this teacher (the seed returns one; a journey may fix it).
     const [{ returned }] = await queryDatabase<{ returned: number }>(
@@ -195,11 +195,11 @@ const areaChecks: Partial<Record<keyof typeof areas, (v: Visit) => Promise<void>
     const waiting = main(page).getByRole('status').filter({ hasText: 'Waiting for you' });
     if (returned > 0) await expect(waiting).toContainText(`${returned} sheet${returned === 1 ? ' was' : 's were'} returned by the coordinator for corrections.`);
     else await expect(waiting).not.toContainText('returned by the coordinator');
-    // Only this teacher's classrooms: both of them at Alder Street, none elsewhere.
-    await expect(study.getByRole('heading', { level: 3 })).toHaveText(['Room 3A · Alder Street Elementary', 'Room 3B · Alder Street Elementary']);
+    // Only this teacher's classrooms: both of them at Alderquill, none elsewhere.
+    await expect(study.getByRole('heading', { level: 3 })).toHaveText(['Room 3A · Alderquill Elementary', 'Room 3B · Alderquill Elementary']);
     await room.getByRole('link', { name: /^View the Autumn 2025 Oral reading fluency/ }).click();
     await expect(page.getByRole('heading', { level: 1, name: 'Room 3A · Autumn 2025' })).toBeVisible();
-    await expect(main(page)).toContainText('Alder Street Elementary');
+    await expect(main(page)).toContainText('Alderquill Elementary');
     await expectStudentCodesOnly(page);
     await expectAccessibleOnce(page);
     await page.getByRole('link', { name: 'My classes' }).first().click();
@@ -207,9 +207,9 @@ const areaChecks: Partial<Record<keyof typeof areas, (v: Visit) => Promise<void>
   },
   async mySchool({ page, runs }) {
     await expect(page.getByRole('heading', { level: 1, name: 'My school' })).toBeVisible();
-    const school = main(page).getByRole('region', { name: 'Alder Street Elementary', exact: true });
+    const school = main(page).getByRole('region', { name: 'Alderquill Elementary', exact: true });
     await expect(school).toContainText(DEMO_STUDY);
-    for (const other of ['Brookfield Middle School', 'Cedar Hollow Elementary', 'Fernbank Elementary']) await expect(main(page)).not.toContainText(other);
+    for (const other of ['Brackenwold Middle School', 'Cinderhaze Elementary', 'Fernquillow Elementary']) await expect(main(page)).not.toContainText(other);
     // The locked primary result in plain words, with the recomputed effect size and p.
     const primary = runs.find((r) => r.is_primary)!;
     const { g, primary: welch, a, b } = recompute(primary);
@@ -218,8 +218,8 @@ const areaChecks: Partial<Record<keyof typeof areas, (v: Visit) => Promise<void>
     await expect(result).toContainText(formatPStatement(welch.p));
     expect(a.length + b.length).toBeGreaterThan(0);
     // The school's own arms, recomputed from its rows; any group under 10 students must not show its count.
-    const own = primary.rows.filter((r) => r.site_name === 'Alder Street Elementary');
-    const ownTable = result.getByRole('table', { name: 'Alder Street Elementary on its own' });
+    const own = primary.rows.filter((r) => r.site_name === 'Alderquill Elementary');
+    const ownTable = result.getByRole('table', { name: 'Alderquill Elementary on its own' });
     for (const [arm, label] of [['intervention', 'Intervention classrooms'], ['comparison', 'Comparison classrooms']] as const) {
       const values = own.filter((r) => r.arm === arm).map((r) => r.score);
       const row = ownTable.getByRole('row').filter({ has: page.getByRole('rowheader', { name: label }) });
@@ -253,7 +253,7 @@ const tabChecks: Record<StudyTab, (v: Visit) => Promise<void>> = {
   },
   async sites({ page }) {
     await expect(bodyRows(table(page, 'Enrolled sites'))).toHaveCount(6);
-    await expect(table(page, 'Enrolled sites')).toContainText('Dr. Helena Voss');
+    await expect(table(page, 'Enrolled sites')).toContainText('Dr. Helena Moonquarry');
     await expect(bodyRows(table(page, 'Classrooms'))).toHaveCount(24);
     await expect(main(page).getByRole('region', { name: 'Cohorts' })).toContainText('Grade 3, 2025–26');
   },
@@ -266,7 +266,7 @@ const tabChecks: Record<StudyTab, (v: Visit) => Promise<void>> = {
   async scoreSheets({ page }) {
     await expect(main(page)).toContainText('24 classrooms, 96 sheets');
     const matrix = table(page, /^Completion of score sheets/);
-    await expect(matrix.getByRole('rowheader', { name: 'Alder Street Elementary · 4 classrooms' })).toBeVisible();
+    await expect(matrix.getByRole('rowheader', { name: 'Alderquill Elementary · 4 classrooms' })).toBeVisible();
     await matrix.getByRole('link', { name: 'Room 3A, Autumn 2025, Oral reading fluency (words correct per minute): Accepted 22 rows' }).first().click();
     await expect(page.getByRole('heading', { level: 2, name: 'Room 3A · Autumn 2025' })).toBeVisible();
     await expectStudentCodesOnly(page);

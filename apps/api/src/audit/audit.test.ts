@@ -12,10 +12,10 @@ describe('audit trail', () => {
     const admin = await signIn(t.app, 'admin@evenhand.test');
     const lead = await signIn(t.app, 'lead@evenhand.test');
     await admin.agent.patch(`/api/users/${lead.userId}`).set('x-csrf-token', admin.csrf).send({ name: 'Leigh Marsh' });
-    await admin.agent.patch(`/api/users/${lead.userId}`).set('x-csrf-token', admin.csrf).send({ name: 'Leigh Marsh-Tanaka' });
+    await admin.agent.patch(`/api/users/${lead.userId}`).set('x-csrf-token', admin.csrf).send({ name: 'Leigh Pennyquill' });
     const res = await lead.agent.get('/api/audit?limit=2');
     expect(res.status).toBe(200);
-    expect(res.body.items.map((e: { after: unknown }) => e.after)).toEqual(['Leigh Marsh-Tanaka', 'Leigh Marsh']);
+    expect(res.body.items.map((e: { after: unknown }) => e.after)).toEqual(['Leigh Pennyquill', 'Leigh Marsh']);
     expect(res.body.items[0].actor).toEqual({ id: admin.userId, email: 'admin@evenhand.test' });
     const none = await lead.agent.get('/api/audit?studyId=00000000-0000-4000-8000-000000000000');
     expect(none.body).toEqual({ items: [], total: 0 });

@@ -175,7 +175,7 @@ describe('sessions', () => {
     try {
       const me = await request(t.app).get('/api/auth/me').set('authorization', `Bearer ${token}`);
       expect(me.status).toBe(200);
-      expect(me.body.user.roles[0]).toMatchObject({ role: 'principal', siteName: 'Alder Street Elementary' });
+      expect(me.body.user.roles[0]).toMatchObject({ role: 'principal', siteName: 'Alderquill Elementary' });
     } finally {
       spy.mockRestore();
     }
@@ -303,8 +303,8 @@ describe('sign-in options', () => {
     expect(res.status).toBe(200);
     expect(res.body.demo.password).toBe(DEMO_PASSWORD);
     expect(res.body.demo.accounts.map((a: { email: string }) => a.email)).toEqual(featuredDemoAccounts.map((a) => a.email));
-    expect(res.body.demo.accounts[0]).toEqual({ email: 'admin@evenhand.test', name: 'Avery Okafor', role: 'admin', siteName: null });
-    expect(res.body.demo.accounts.find((a: { email: string }) => a.email === 'principal1@evenhand.test')).toMatchObject({ role: 'principal', siteName: 'Alder Street Elementary' });
+    expect(res.body.demo.accounts[0]).toEqual({ email: 'admin@evenhand.test', name: 'Avery Inkwhistle', role: 'admin', siteName: null });
+    expect(res.body.demo.accounts.find((a: { email: string }) => a.email === 'principal1@evenhand.test')).toMatchObject({ role: 'principal', siteName: 'Alderquill Elementary' });
   });
 
   it('when a demo account is deactivated, then it is not offered', async () => {

@@ -146,7 +146,7 @@ describe('sign-in with the district account', () => {
     const agent = request.agent(app);
     const done = await callback(agent, await atProvider(await start(agent), 'newcomer'));
     expect(done.message).toContain('no Evenhand account uses newcomer@evenhand.test');
-    expect(done.message).toContain('ask your district\'s Evenhand administrator (Avery Okafor, admin@evenhand.test) to invite newcomer@evenhand.test');
+    expect(done.message).toContain('ask your district\'s Evenhand administrator (Avery Inkwhistle, admin@evenhand.test) to invite newcomer@evenhand.test');
     expect(await signedInAs(agent)).toBeNull();
     expect(await t.db.query(`SELECT 1 FROM users WHERE email = 'newcomer@evenhand.test'`)).toHaveLength(0);
   });
@@ -187,7 +187,7 @@ describe('sign-in with the district account', () => {
       const agent = request.agent(app);
       const done = await callback(agent, await atProvider(await start(agent), 'teacher4'));
       expect(done.message).toContain('The Evenhand account for teacher4@evenhand.test is deactivated');
-      expect(done.message).toContain('Avery Okafor');
+      expect(done.message).toContain('Avery Inkwhistle');
       expect(await signedInAs(agent)).toBeNull();
       const password = await request(app).post('/api/auth/login').send({ email: 'teacher4@evenhand.test', password: DEMO_PASSWORD });
       expect(password.status).toBe(401);
@@ -216,7 +216,7 @@ describe('password sign-in turned off for everyone but the admin', () => {
     const off = await admin.agent.put('/api/sign-in-settings').set('x-csrf-token', admin.csrf).send({ passwordSignIn: 'admin_only' });
     try {
       expect(off.status).toBe(200);
-      expect(off.body).toMatchObject({ passwordSignIn: 'admin_only', districtSignIn: true, updatedBy: 'Avery Okafor' });
+      expect(off.body).toMatchObject({ passwordSignIn: 'admin_only', districtSignIn: true, updatedBy: 'Avery Inkwhistle' });
       const [audit] = await t.db.query(`SELECT actor_id, before, after FROM audit_events WHERE action = 'sign_in_settings.changed' ORDER BY at DESC LIMIT 1`);
       expect(audit).toEqual({ actor_id: admin.userId, before: { passwordSignIn: 'everyone' }, after: { passwordSignIn: 'admin_only' } });
       expect((await request(app).get('/api/auth/sign-in-options')).body).toMatchObject({ districtSignIn: true, passwordSignIn: 'admin_only' });
@@ -258,7 +258,7 @@ describe('password sign-in turned off for everyone but the admin', () => {
     const admin = await signIn(app, 'admin@evenhand.test');
     expect((await admin.agent.get('/api/sign-in-settings')).body).toMatchObject({ passwordSignIn: 'everyone', updatedAt: null, updatedBy: null });
     const off = await admin.agent.put('/api/sign-in-settings').set('x-csrf-token', admin.csrf).send({ passwordSignIn: 'admin_only' });
-    expect(off.body).toMatchObject({ passwordSignIn: 'admin_only', updatedBy: 'Avery Okafor' });
+    expect(off.body).toMatchObject({ passwordSignIn: 'admin_only', updatedBy: 'Avery Inkwhistle' });
     expect((await request(app).post('/api/auth/login').send({ email: 'lead@evenhand.test', password: DEMO_PASSWORD })).status).toBe(403);
     await admin.agent.put('/api/sign-in-settings').set('x-csrf-token', admin.csrf).send({ passwordSignIn: 'everyone' });
     expect((await request(app).post('/api/auth/login').send({ email: 'lead@evenhand.test', password: DEMO_PASSWORD })).status).toBe(200);

@@ -31,7 +31,7 @@ describe('sites', () => {
     const before = await count('sites');
     const res = await s.coordinator.agent.post(`/api/studies/${s.studyId}/sites`).set('x-csrf-token', s.coordinator.csrf).send({ name: 'Another', code: 'ALD' });
     expect(res.status).toBe(409);
-    expect(res.body.error.message).toBe('Site code ALD is already used by Alder Street Elementary');
+    expect(res.body.error.message).toBe('Site code ALD is already used by Alderquill Elementary');
     expect(await count('sites')).toBe(before);
   });
 
@@ -94,7 +94,7 @@ describe('classrooms', () => {
     const csv =
       '\uFEFFsite_code;cohort;classroom;grade;expected_size;teacher_email;teacher_name\r\n' +
       `${ald.code};Grade 5, 2026–27;Room 12;5;24;${uniqueAddress('csv')};Olu Baptiste\r\n` +
-      `${ald.code};Grade 5, 2026–27;Room 14;5;23;teacher1@evenhand.test;Tomasz Ferreira\r\n`;
+      `${ald.code};Grade 5, 2026–27;Room 14;5;23;teacher1@evenhand.test;Tomasz Thimblewick\r\n`;
     const res = await s.coordinator.agent
       .post(`/api/studies/${s.studyId}/classrooms/import`)
       .set('x-csrf-token', s.coordinator.csrf)

@@ -46,7 +46,7 @@ describe('previewing and importing a OneRoster bundle', () => {
     expect(preview.totals).toEqual({ schools: 2, classes: 4, students: 4 * DEMO_SHAPE.studentsPerClass });
     const [ald] = await t.db.query(`SELECT id FROM sites WHERE code = 'ALD'`);
     const alder = preview.schools.find((x) => x.identifier === 'ALD')!;
-    expect(alder).toMatchObject({ name: 'Alder Street Elementary', siteId: ald.id, principalFromExport: true, principal: { email: 'principal.ald@roster.evenhand.test' } });
+    expect(alder).toMatchObject({ name: 'Alderquill Elementary', siteId: ald.id, principalFromExport: true, principal: { email: 'principal.ald@roster.evenhand.test' } });
     expect(alder.classes[0]).toMatchObject({ title: 'Grade 4 Reading 1', grade: '04', students: 12, teacher: { email: 'teacher.ald1@roster.evenhand.test', name: 'Ondine Fictive-ALD1' }, classroomId: null, blocked: null });
     expect(await footprint()).toEqual(before);
   });
@@ -87,7 +87,7 @@ describe('previewing and importing a OneRoster bundle', () => {
 
   it('when a newer export is imported, then students who joined get codes, those who left are removed before the draw, nothing is duplicated, and the audit trail says which codes', async () => {
     const newer = oneRosterFiles({ ...DEMO_SHAPE, without: [1, 2] });
-    // One new student in the first class of Alder Street: the last student number of the demo shape plus one.
+    // One new student in the first class of Alderquill: the last student number of the demo shape plus one.
     newer['users.csv'] += `stu-000999,,,true,org-ald,student,,,Given999,Family999,,,,,,,04,\r\n`;
     newer['enrollments.csv'] += `enr-new-999,,,cls-ald-1,org-ald,stu-000999,student,false,,\r\n`;
     const preview = (await upload(s.coordinator, previewUrl(), zip(newer))).body as RosterPreview;

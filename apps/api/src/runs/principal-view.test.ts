@@ -48,7 +48,7 @@ function lockedRun(small: number, large: number): Run {
         notes: [`The comparison arm has ${small} students.`],
       },
       sites: [
-        { siteId: own, siteName: 'Alder Street Elementary', n1: 12, n2: small, mean1: 62, mean2: meanSmall, g: 0.7, se: 0.5, ci: [-0.2, 1.6], weight: 0.6 },
+        { siteId: own, siteName: 'Alderquill Elementary', n1: 12, n2: small, mean1: 62, mean2: meanSmall, g: 0.7, se: 0.5, ci: [-0.2, 1.6], weight: 0.6 },
         { siteId: other, siteName: 'Birch Road Elementary', n1: large - 12, n2: 0, mean1: 61, mean2: 0, g: 0, se: 0, ci: [0, 0], weight: 0.4 },
       ],
       pooled: null,

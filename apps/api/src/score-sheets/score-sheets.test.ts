@@ -38,7 +38,7 @@ describe('teacher entry by form', () => {
   it('lists only the teacher’s own sheets, one per wave and measure', async () => {
     const mine = (await teacher1.agent.get(`/api/score-sheets?studyId=${s.studyId}`)).body;
     expect(mine.total).toBe(2);
-    expect(new Set(mine.items.map((x: { teacherName: string }) => x.teacherName))).toEqual(new Set(['Tomasz Ferreira']));
+    expect(new Set(mine.items.map((x: { teacherName: string }) => x.teacherName))).toEqual(new Set(['Tomasz Thimblewick']));
     expect(mine.items.find((x: { id: string }) => x.id === sheet1)).toMatchObject({ state: 'open', editable: true, minScore: 0, maxScore: 200, summaryAllowed: false });
     expect(mine.items.find((x: { id: string }) => x.id === outcomeSheet1).editable).toBe(false); // its wave has not opened
   });
@@ -255,7 +255,7 @@ describe('the coordinator’s completion matrix and reminders', () => {
     expect(completionMatrixSchema.parse(res.body)).toEqual(res.body);
     expect(res.body.waves.map((w: { name: string }) => w.name)).toEqual(['Autumn', 'Spring']);
     expect(res.body.rows).toHaveLength(2);
-    const room2 = res.body.rows.find((r: { teacherName: string }) => r.teacherName === 'Priya Lindqvist');
+    const room2 = res.body.rows.find((r: { teacherName: string }) => r.teacherName === 'Priya Saltmarrow');
     expect(room2.cells.find((c: { waveId: string }) => c.waveId === s.baselineId)).toMatchObject({ state: 'open', rows: 1 });
   });
 

@@ -6,46 +6,46 @@ import { hashPassword } from '../auth/passwords.js';
 /** Every demo account signs in with this password (development and tests only). */
 export const DEMO_PASSWORD = 'evenhand-demo';
 
-/** Larkspur Valley is an invented district; its schools and people are made up. */
+/** Quillmarsh Valley is an invented district; its schools and people are made up. */
 export const demoSites = [
-  { code: 'ALD', name: 'Alder Street Elementary' },
-  { code: 'BRK', name: 'Brookfield Middle School' },
-  { code: 'CDH', name: 'Cedar Hollow Elementary' },
-  { code: 'DNP', name: 'Dunmore Park Elementary' },
-  { code: 'ELR', name: 'Elm Ridge Middle School' },
-  { code: 'FRN', name: 'Fernbank Elementary' },
+  { code: 'ALD', name: 'Alderquill Elementary' },
+  { code: 'BRK', name: 'Brackenwold Middle School' },
+  { code: 'CDH', name: 'Cinderhaze Elementary' },
+  { code: 'DNP', name: 'Dunnowick Park Elementary' },
+  { code: 'ELR', name: 'Emberlark Middle School' },
+  { code: 'FRN', name: 'Fernquillow Elementary' },
 ] as const;
 
 const extraTeacherNames = [
-  'Wendell Osei', 'Marguerite Lindahl', 'Castor Villanueva', 'Yetunde Harrow',
-  'Piers Kowalczyk', 'Anneliese Mbeki', 'Ruairi Santangelo', 'Delphine Okonkwo',
-  'Tobias Vantongeren', 'Keziah Rothfield', 'Emeric Oyelaran', 'Solveig Marchetti',
-  'Lucius Adebayo', 'Hollis Szymanski', 'Noor Castellanos', 'Fintan Abiodun',
+  'Wendell Quillstep', 'Marguerite Bramblewake', 'Castor Ashmantle', 'Yetunde Glimmerdale',
+  'Piers Nettlequaff', 'Anneliese Owlthorne', 'Ruairi Ploverkin', 'Delphine Reedwhistle',
+  'Tobias Sorrelwick', 'Keziah Tumblethorn', 'Emeric Umberwisp', 'Solveig Vellumgate',
+  'Lucius Wrenmantle', 'Hollis Yarrowick', 'Noor Zephyrcott', 'Fintan Amberquill',
 ];
 
 type DemoAccount = { email: string; name: string; grants: { role: Role; site?: string }[] };
 
 /** One account per role and the staff of the first two schools: the ones the sign-in page offers. */
 export const featuredDemoAccounts: DemoAccount[] = [
-  { email: 'admin@evenhand.test', name: 'Avery Okafor', grants: [{ role: 'admin' }] },
-  { email: 'coordinator@evenhand.test', name: 'Corin Delacroix', grants: [{ role: 'coordinator' }] },
-  { email: 'lead@evenhand.test', name: 'Leigh Marsh-Tanaka', grants: [{ role: 'research_lead' }] },
-  { email: 'teacher1@evenhand.test', name: 'Tomasz Ferreira', grants: [{ role: 'teacher', site: 'ALD' }] },
-  { email: 'teacher2@evenhand.test', name: 'Priya Lindqvist', grants: [{ role: 'teacher', site: 'ALD' }] },
-  { email: 'teacher3@evenhand.test', name: 'Jonah Abernethy', grants: [{ role: 'teacher', site: 'BRK' }] },
-  { email: 'teacher4@evenhand.test', name: 'Marisol Quinlan', grants: [{ role: 'teacher', site: 'BRK' }] },
-  { email: 'principal1@evenhand.test', name: 'Dr. Helena Voss', grants: [{ role: 'principal', site: 'ALD' }] },
-  { email: 'principal2@evenhand.test', name: 'Samuel Achterberg', grants: [{ role: 'principal', site: 'BRK' }] },
-  { email: 'reviewer@evenhand.test', name: 'Rowan Esterházy', grants: [{ role: 'reviewer' }] },
+  { email: 'admin@evenhand.test', name: 'Avery Inkwhistle', grants: [{ role: 'admin' }] },
+  { email: 'coordinator@evenhand.test', name: 'Corin Tallowmere', grants: [{ role: 'coordinator' }] },
+  { email: 'lead@evenhand.test', name: 'Leigh Pennyquill', grants: [{ role: 'research_lead' }] },
+  { email: 'teacher1@evenhand.test', name: 'Tomasz Thimblewick', grants: [{ role: 'teacher', site: 'ALD' }] },
+  { email: 'teacher2@evenhand.test', name: 'Priya Saltmarrow', grants: [{ role: 'teacher', site: 'ALD' }] },
+  { email: 'teacher3@evenhand.test', name: 'Jonah Kettleburn', grants: [{ role: 'teacher', site: 'BRK' }] },
+  { email: 'teacher4@evenhand.test', name: 'Marisol Brindlequay', grants: [{ role: 'teacher', site: 'BRK' }] },
+  { email: 'principal1@evenhand.test', name: 'Dr. Helena Moonquarry', grants: [{ role: 'principal', site: 'ALD' }] },
+  { email: 'principal2@evenhand.test', name: 'Samuel Driftwillow', grants: [{ role: 'principal', site: 'BRK' }] },
+  { email: 'reviewer@evenhand.test', name: 'Rowan Gleamfeather', grants: [{ role: 'reviewer' }] },
 ];
 
 export const demoAccounts: DemoAccount[] = [
   ...featuredDemoAccounts,
   // The other schools' staff, so every demo classroom has a teacher and every school a principal.
-  { email: 'principal3@evenhand.test', name: 'Oksana Treadwell', grants: [{ role: 'principal', site: 'CDH' }] },
-  { email: 'principal4@evenhand.test', name: 'Bartholomew Nwosu', grants: [{ role: 'principal', site: 'DNP' }] },
-  { email: 'principal5@evenhand.test', name: 'Greta Halvorsen', grants: [{ role: 'principal', site: 'ELR' }] },
-  { email: 'principal6@evenhand.test', name: 'Idris Calloway', grants: [{ role: 'principal', site: 'FRN' }] },
+  { email: 'principal3@evenhand.test', name: 'Oksana Ribbonmoor', grants: [{ role: 'principal', site: 'CDH' }] },
+  { email: 'principal4@evenhand.test', name: 'Bartholomew Cloudhopper', grants: [{ role: 'principal', site: 'DNP' }] },
+  { email: 'principal5@evenhand.test', name: 'Greta Sparrowgild', grants: [{ role: 'principal', site: 'ELR' }] },
+  { email: 'principal6@evenhand.test', name: 'Idris Tinderholt', grants: [{ role: 'principal', site: 'FRN' }] },
   ...['CDH', 'DNP', 'ELR', 'FRN'].flatMap((site, i) =>
     [0, 1, 2, 3].map((j) => ({
       email: `teacher${5 + i * 4 + j}@evenhand.test`,

@@ -42,7 +42,7 @@ describe('accounts (admin)', () => {
 
     const [mail] = await waitForMail(email);
     expect(mail.subject).toBe('You are invited to Evenhand');
-    expect(mail.text).toContain('Avery Okafor has invited you');
+    expect(mail.text).toContain('Avery Inkwhistle has invited you');
     expect(mail.html).toContain('Set your password');
 
     const before = await request(t.app).post('/api/auth/login').send({ email, password: 'anything-at-all' });
@@ -51,7 +51,7 @@ describe('accounts (admin)', () => {
     expect(accept.status).toBe(200);
     const teacher = await signIn(t.app, email, 'my-classroom-password');
     const me = await teacher.agent.get('/api/auth/me');
-    expect(me.body.user.roles).toEqual([{ role: 'teacher', siteId, siteName: 'Cedar Hollow Elementary' }]);
+    expect(me.body.user.roles).toEqual([{ role: 'teacher', siteId, siteName: 'Cinderhaze Elementary' }]);
 
     expect((await audit(res.body.id)).map((e: { action: string }) => e.action)).toEqual(['user.invited', 'user.invitation_accepted']);
   });

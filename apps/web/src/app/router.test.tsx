@@ -9,8 +9,8 @@ import { createRoutes } from '@/app/router';
 const teacher: SessionUser = {
   id: '0b7a4c55-8f0e-4a5e-9d55-6f1f3c2b9a10',
   email: 'teacher1@evenhand.test',
-  name: 'Tomasz Ferreira',
-  roles: [{ role: 'teacher', siteId: '7f1c1f0e-3b1a-4c59-9a56-2f3b7b9d0a11', siteName: 'Alder Street Elementary' }],
+  name: 'Tomasz Thimblewick',
+  roles: [{ role: 'teacher', siteId: '7f1c1f0e-3b1a-4c59-9a56-2f3b7b9d0a11', siteName: 'Alderquill Elementary' }],
 };
 
 function answer(status: number, body: unknown) {

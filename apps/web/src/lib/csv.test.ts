@@ -16,6 +16,6 @@ describe('csvCell', () => {
   });
 
   it('quotes commas, quotes and line breaks', () => {
-    expect(toCsv([['statistic', 'value'], ['site', 'Alder Street, "North"']])).toBe('statistic,value\r\nsite,"Alder Street, ""North"""\r\n');
+    expect(toCsv([['statistic', 'value'], ['site', 'Alderquill, "North"']])).toBe('statistic,value\r\nsite,"Alderquill, ""North"""\r\n');
   });
 });

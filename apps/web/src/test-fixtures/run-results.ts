@@ -47,7 +47,7 @@ const results: RunResults = {
       mean2: 144.19230769230768,
       siteId: '8fe67e41-87dd-4a7a-9569-248b8e291b32',
       weight: 0.16619276780563536,
-      siteName: 'Alder Street Elementary'
+      siteName: 'Alderquill Elementary'
     },
     {
       g: -0.2935752820817671,
@@ -62,7 +62,7 @@ const results: RunResults = {
       mean2: 114.04545454545455,
       siteId: '9befd8b0-c423-4336-968e-17efb0e580cc',
       weight: 0.1642951423847824,
-      siteName: 'Brookfield Middle School'
+      siteName: 'Brackenwold Middle School'
     },
     {
       g: 0.34329656218296584,
@@ -77,7 +77,7 @@ const results: RunResults = {
       mean2: 117.38095238095238,
       siteId: '125fcf0b-850c-4d21-95e0-720df687d330',
       weight: 0.16969012859560592,
-      siteName: 'Cedar Hollow Elementary'
+      siteName: 'Cinderhaze Elementary'
     },
     {
       g: -0.8761066583847057,
@@ -92,7 +92,7 @@ const results: RunResults = {
       mean2: 127.0909090909091,
       siteId: 'cc9c27ad-9cdd-472f-8b19-47604adfa89d',
       weight: 0.1687690589602538,
-      siteName: 'Dunmore Park Elementary'
+      siteName: 'Dunnowick Park Elementary'
     },
     {
       g: 1.6032329836614687,
@@ -107,7 +107,7 @@ const results: RunResults = {
       mean2: 79.1590909090909,
       siteId: '6eb623f6-5050-4352-8452-e221818d8169',
       weight: 0.16709797837246956,
-      siteName: 'Elm Ridge Middle School'
+      siteName: 'Emberlark Middle School'
     },
     {
       g: 1.103330564544197,
@@ -122,7 +122,7 @@ const results: RunResults = {
       mean2: 112.11363636363636,
       siteId: 'bb65c852-ee12-424c-a6ad-b9727960fdff',
       weight: 0.163954923881253,
-      siteName: 'Fernbank Elementary'
+      siteName: 'Fernquillow Elementary'
     }
   ],
   pooled: {

@@ -44,7 +44,7 @@ describe('DataTable', () => {
   });
 
   it('renders the page it is given and counts across all pages', () => {
-    renderTable({ rows: [{ id: 'ALD', name: 'Alder Street' }, { id: 'BRK', name: 'Brookfield' }], total: 5 });
+    renderTable({ rows: [{ id: 'ALD', name: 'Alderquill' }, { id: 'BRK', name: 'Brackenwold' }], total: 5 });
     const body = screen.getAllByRole('rowgroup')[1];
     expect(within(body).getAllByRole('row')).toHaveLength(2);
     expect(screen.getByText(/Showing 1–2 of 5 schools/)).toBeInTheDocument();
@@ -53,7 +53,7 @@ describe('DataTable', () => {
 
   it('asks for the next page', () => {
     const onPaginationChange = vi.fn();
-    renderTable({ rows: [{ id: 'ALD', name: 'Alder Street' }, { id: 'BRK', name: 'Brookfield' }], total: 5, onPaginationChange });
+    renderTable({ rows: [{ id: 'ALD', name: 'Alderquill' }, { id: 'BRK', name: 'Brackenwold' }], total: 5, onPaginationChange });
     fireEvent.click(screen.getByRole('button', { name: 'Next' }));
     expect(onPaginationChange).toHaveBeenCalledWith({ pageIndex: 1, pageSize: 2 });
     expect(screen.getByRole('button', { name: 'Previous' })).toBeDisabled();
@@ -62,7 +62,7 @@ describe('DataTable', () => {
   it('asks the server for the other sort order when a sorted header is clicked, and marks the column', () => {
     const onSortingChange = vi.fn();
     renderTable({
-      rows: [{ id: 'ALD', name: 'Alder Street' }],
+      rows: [{ id: 'ALD', name: 'Alderquill' }],
       total: 1,
       sorting: [{ id: 'name', desc: false }],
       onSortingChange,

@@ -9,8 +9,8 @@ import { SignInPage } from '@/features/auth/routes';
 const demo: NonNullable<SignInOptions['demo']> = {
   password: 'evenhand-demo',
   accounts: [
-    { email: 'lead@evenhand.test', name: 'Leigh Marsh-Tanaka', role: 'research_lead', siteName: null },
-    { email: 'teacher1@evenhand.test', name: 'Tomasz Ferreira', role: 'teacher', siteName: 'Alder Street Elementary' },
+    { email: 'lead@evenhand.test', name: 'Leigh Pennyquill', role: 'research_lead', siteName: null },
+    { email: 'teacher1@evenhand.test', name: 'Tomasz Thimblewick', role: 'teacher', siteName: 'Alderquill Elementary' },
   ],
 };
 
@@ -46,7 +46,7 @@ describe('the sign-in page', () => {
     openSignIn({ demo, ...passwordsOnly });
     const panel = await screen.findByRole('complementary', { name: 'Demo accounts' });
     expect(panel).toHaveTextContent('evenhand-demo');
-    const teacher = screen.getByRole('button', { name: /Teacher · Alder Street Elementary/ });
+    const teacher = screen.getByRole('button', { name: /Teacher · Alderquill Elementary/ });
     expect(teacher).toHaveTextContent('teacher1@evenhand.test');
     fireEvent.click(teacher);
     await waitFor(() => expect(screen.getByLabelText('E-mail address')).toHaveValue('teacher1@evenhand.test'));

@@ -24,7 +24,7 @@ const study: Study = {
 const person = (role: SessionUser['roles'][number]['role']): SessionUser => ({
   id: '0b7a4c55-8f0e-4a5e-9d55-6f1f3c2b9a10',
   email: `${role}@evenhand.test`,
-  name: 'Corin Delacroix',
+  name: 'Corin Tallowmere',
   roles: [{ role, siteId: null, siteName: null }],
 });
 

@@ -5,8 +5,8 @@ import { InviteForm } from '@/features/accounts/components/invite-form';
 import { ApiError } from '@/lib/api-client';
 
 const sites: Site[] = [
-  { id: '7f1c1f0e-3b1a-4c59-9a56-2f3b7b9d0a11', name: 'Alder Street Elementary', code: 'ALD', principal: null },
-  { id: '2d4e6f80-1a2b-4c3d-8e9f-0a1b2c3d4e5f', name: 'Brookfield Middle School', code: 'BRK', principal: null },
+  { id: '7f1c1f0e-3b1a-4c59-9a56-2f3b7b9d0a11', name: 'Alderquill Elementary', code: 'ALD', principal: null },
+  { id: '2d4e6f80-1a2b-4c3d-8e9f-0a1b2c3d4e5f', name: 'Brackenwold Middle School', code: 'BRK', principal: null },
 ];
 
 function fillIn(label: string, value: string) {

@@ -24,7 +24,7 @@ function committedDraw(overrides: Partial<Draw> = {}): Draw {
     assignments: result.assignments.map((a, i) => ({ blockId: a.blockId, unitId: a.unitId, unitName: `Room ${i + 1}`, arm: a.arm as 'intervention' | 'comparison' })),
     balance: [],
     committedAt: '2026-09-20T08:00:00.000Z',
-    committedBy: { id: '5a2f9b00-3e5d-4f0d-8c00-1e6e8b7a4f65', name: 'Corin Delacroix' },
+    committedBy: { id: '5a2f9b00-3e5d-4f0d-8c00-1e6e8b7a4f65', name: 'Corin Tallowmere' },
     verified: true,
     reassignments: [],
     ...overrides,

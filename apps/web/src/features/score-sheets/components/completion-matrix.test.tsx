@@ -21,9 +21,9 @@ const matrix: CompletionMatrix = {
   waves: [autumn, spring],
   measures: [fluency],
   rows: [
-    { classroomId: id(10), classroomName: 'Room 3A', siteId: id(20), siteName: 'Alder Street', teacherName: 'T. Ferreira', arm: 'intervention', cells: [cell(1, autumn.id, 'accepted'), cell(2, spring.id, 'returned', 20, 2)] },
-    { classroomId: id(11), classroomName: 'Room 4A', siteId: id(21), siteName: 'Brookfield', teacherName: 'M. Quinlan', arm: 'comparison', cells: [cell(3, autumn.id, 'accepted'), cell(4, spring.id, 'submitted')] },
-    { classroomId: id(12), classroomName: 'Room 4B', siteId: id(21), siteName: 'Brookfield', teacherName: 'M. Quinlan', arm: null, cells: [cell(5, autumn.id, 'accepted'), cell(6, spring.id, 'open', 0)] },
+    { classroomId: id(10), classroomName: 'Room 3A', siteId: id(20), siteName: 'Alderquill', teacherName: 'T. Ferreira', arm: 'intervention', cells: [cell(1, autumn.id, 'accepted'), cell(2, spring.id, 'returned', 20, 2)] },
+    { classroomId: id(11), classroomName: 'Room 4A', siteId: id(21), siteName: 'Brackenwold', teacherName: 'M. Quinlan', arm: 'comparison', cells: [cell(3, autumn.id, 'accepted'), cell(4, spring.id, 'submitted')] },
+    { classroomId: id(12), classroomName: 'Room 4B', siteId: id(21), siteName: 'Brackenwold', teacherName: 'M. Quinlan', arm: null, cells: [cell(5, autumn.id, 'accepted'), cell(6, spring.id, 'open', 0)] },
   ],
   totals: { open: 1, submitted: 1, accepted: 3, returned: 1 },
 };
@@ -31,7 +31,7 @@ const matrix: CompletionMatrix = {
 describe('viewOf', () => {
   it('keeps every classroom by site, and counts the shown sheets by state', () => {
     const view = viewOf(matrix, {});
-    expect(view.sites.map((s) => [s.siteName, s.rows.length])).toEqual([['Alder Street', 1], ['Brookfield', 2]]);
+    expect(view.sites.map((s) => [s.siteName, s.rows.length])).toEqual([['Alderquill', 1], ['Brackenwold', 2]]);
     expect(view.totals).toEqual({ open: 1, submitted: 1, accepted: 3, returned: 1 });
   });
 
@@ -63,7 +63,7 @@ describe('CompletionTable', () => {
     expect(returned).toHaveAttribute('href', `/sheets/${id(102)}`);
     expect(screen.getByRole('link', { name: 'Room 4B, Spring, Fluency: Not due yet no rows' })).toBeInTheDocument();
     expect(screen.getByRole('columnheader', { name: 'Spring' })).toHaveAttribute('scope', 'colgroup');
-    expect(screen.getByRole('rowheader', { name: /Brookfield · 2 classrooms/ })).toBeInTheDocument();
+    expect(screen.getByRole('rowheader', { name: /Brackenwold · 2 classrooms/ })).toBeInTheDocument();
     const footer = screen.getAllByRole('rowgroup').at(-1)!;
     expect(within(footer).getAllByRole('cell').map((c) => c.textContent)).toEqual(['3 of 3', '0 of 3']);
   });

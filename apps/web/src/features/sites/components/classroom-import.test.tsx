@@ -5,7 +5,7 @@ import { describe, expect, it, vi } from 'vitest';
 import { ClassroomImport, classroomTemplate } from '@/features/sites/components/classroom-import';
 import { ApiError } from '@/lib/api-client';
 
-const sites = [{ id: '7f1c1f0e-3b1a-4c59-9a56-2f3b7b9d0a11', name: 'Alder Street Elementary', code: 'ALD', principal: null, classrooms: 0, expectedStudents: 0 }];
+const sites = [{ id: '7f1c1f0e-3b1a-4c59-9a56-2f3b7b9d0a11', name: 'Alderquill Elementary', code: 'ALD', principal: null, classrooms: 0, expectedStudents: 0 }];
 const file = new File(['site_code,cohort\n'], 'classrooms.csv', { type: 'text/csv' });
 
 async function upload(onImport: (file: File) => Promise<{ created: number }>) {

@@ -22,7 +22,7 @@ const preview: RosterPreview = {
   schools: [
     {
       sourcedId: 'org-ald',
-      name: 'Alder Street Elementary',
+      name: 'Alderquill Elementary',
       identifier: 'ALD',
       siteId,
       enrolled: false,
@@ -60,7 +60,7 @@ describe('RosterImportPanel', () => {
     expect(onPreview).toHaveBeenCalledWith([file]);
     expect(await screen.findByText(/The export lists 1 school, 3 classes and 36 students/)).toBeInTheDocument();
     expect(screen.getByText('The export names no principal: name one in the Sites table after importing.', { exact: false })).toBeInTheDocument();
-    const table = screen.getByRole('table', { name: 'Classes at Alder Street Elementary' });
+    const table = screen.getByRole('table', { name: 'Classes at Alderquill Elementary' });
     const blocked = within(table).getByRole('checkbox', { name: /Reading 3/ });
     expect(blocked).toBeDisabled();
     expect(blocked).not.toBeChecked();
