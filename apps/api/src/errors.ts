@@ -51,6 +51,45 @@ export const apiNotFound: RequestHandler = (req, _res, next) => {
 
 type BodyParserError = Error & { type?: string; status?: number };
 
+type DatabaseError = Error & { code?: string; constraint?: string; driverError?: { code?: string; constraint?: string; message?: string } };
+
+/** What a unique index or key means to the person who ran into it. */
+const duplicateOf: Record<string, string> = {
+  classrooms_site_name: 'This school already has a classroom with this name',
+  users_email_key: 'An account with this e-mail address already exists',
+  cohorts_study_name: 'This study already has a cohort with this name',
+  measures_study_name: 'This study already has a measure with this name',
+  waves_study_name: 'This study already has a wave with this name',
+  sites_code_key: 'A school with this code already exists',
+};
+
+/**
+ * A refusal by the database that the services did not see coming (two requests racing for one name, a guard
+ * trigger): the person gets a clear 4xx, never a 500. Null for anything else.
+ */
+function fromDatabase(err: DatabaseError): AppError | null {
+  const code = err.driverError?.code ?? err.code;
+  const constraint = err.driverError?.constraint ?? err.constraint;
+  switch (code) {
+    case '23505':
+      return AppError.conflict((constraint && duplicateOf[constraint]) ?? 'This would duplicate something that already exists');
+    case '23000': // the guard triggers: locked, append-only, read by a locked result
+    case '23503':
+    case '23514':
+      return AppError.conflict(`The database refused this change: ${err.driverError?.message ?? err.message}`);
+    case '40001':
+    case '40P01':
+      return AppError.conflict('Another change was made at the same moment; try again');
+    case '22P02':
+    case '22021':
+    case '22001':
+    case '22003':
+      return AppError.validation('A value is not in a form this field accepts');
+    default:
+      return null;
+  }
+}
+
 export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
   let error: AppError;
   if (err instanceof AppError) {
@@ -60,8 +99,10 @@ export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
   } else if ((err as BodyParserError).type === 'entity.parse.failed') {
     error = AppError.validation('The request body is not valid JSON');
   } else {
-    req.log?.error({ err }, 'unhandled error');
-    error = new AppError('internal', 'Something went wrong on our side; the error has been logged');
+    const refused = fromDatabase(err as DatabaseError);
+    if (refused) req.log?.warn({ err }, 'refused by the database');
+    else req.log?.error({ err }, 'unhandled error');
+    error = refused ?? new AppError('internal', 'Something went wrong on our side; the error has been logged');
   }
   const body: { error: { code: string; message: string; details?: unknown } } = {
     error: { code: error.code, message: error.message },

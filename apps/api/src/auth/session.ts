@@ -1,6 +1,7 @@
 import { createHmac, randomBytes } from 'node:crypto';
 import type { CookieOptions, Response } from 'express';
 import jwt from 'jsonwebtoken';
+import { idSchema } from '@evenhand/entities';
 import type { Config } from '../config.js';
 
 export const SESSION_COOKIE = 'evenhand_session';
@@ -55,7 +56,7 @@ export function verifySession(config: Config, token: string): SessionClaims | nu
     const claims = jwt.verify(token, config.jwtSecret, { algorithms: ['HS256'] });
     if (typeof claims === 'string') return null;
     const { sub, jti, sv, auth_time } = claims as Partial<SessionClaims>;
-    if (typeof sub !== 'string' || !/^[0-9a-f-]{36}$/i.test(sub) || typeof jti !== 'string' || !Number.isInteger(sv) || !Number.isInteger(auth_time)) return null;
+    if (!idSchema.safeParse(sub).success || typeof jti !== 'string' || !Number.isInteger(sv) || !Number.isInteger(auth_time)) return null;
     if (nowSeconds() >= absoluteEnd(config, { auth_time: auth_time! })) return null;
     return claims as SessionClaims;
   } catch {

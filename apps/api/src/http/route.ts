@@ -42,7 +42,9 @@ function parse<T extends z.ZodType>(schema: T | undefined, value: unknown, where
   if (!schema) return value as z.infer<T>;
   const result = schema.safeParse(value);
   if (!result.success) {
-    throw AppError.validation(`Some ${where} values are not valid`, issuesOf(result.error));
+    const issues = issuesOf(result.error);
+    const fields = [...new Set(issues.map((i) => i.path || where))];
+    throw AppError.validation(`Some ${where} values are not valid: ${fields.slice(0, 5).join(', ')}${fields.length > 5 ? ', …' : ''}`, issues);
   }
   return result.data;
 }

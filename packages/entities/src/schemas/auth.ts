@@ -1,19 +1,18 @@
 import { z } from 'zod';
-import { idSchema } from './common.js';
+import { idSchema, plainText } from './common.js';
 import { roleGrantSchema, roleSchema } from './roles.js';
 import { passwordSignInSchema } from './district-sign-in.js';
 
-export const emailSchema = z.string().trim().toLowerCase().pipe(z.email({ message: 'Enter a valid e-mail address' }).max(254));
+export const emailSchema = plainText().trim().toLowerCase().pipe(z.email({ message: 'Enter a valid e-mail address' }).max(254));
 
 /** A new password: long enough to resist guessing, short enough for bcrypt's 72-byte input. */
-export const newPasswordSchema = z
-  .string()
+export const newPasswordSchema = plainText()
   .min(10, 'Use at least 10 characters')
   .max(72, 'Use at most 72 characters');
 
 export const loginRequestSchema = z.object({
   email: emailSchema,
-  password: z.string().min(1, 'Enter your password').max(200),
+  password: plainText().min(1, 'Enter your password').max(200),
 });
 export type LoginRequest = z.infer<typeof loginRequestSchema>;
 
@@ -40,14 +39,14 @@ export const meResponseSchema = z.object({ user: sessionUserSchema });
 export const passwordResetRequestSchema = z.object({ email: emailSchema });
 
 export const passwordResetConfirmSchema = z.object({
-  token: z.string().min(20).max(200),
+  token: plainText().min(20).max(200),
   password: newPasswordSchema,
 });
 export type PasswordResetConfirm = z.infer<typeof passwordResetConfirmSchema>;
 
 /** The set-password form: the same rules plus a repeat the browser checks. */
 export const setPasswordFormSchema = z
-  .object({ password: newPasswordSchema, repeat: z.string() })
+  .object({ password: newPasswordSchema, repeat: plainText() })
   .refine((v) => v.password === v.repeat, { path: ['repeat'], message: 'The two passwords differ' });
 
 export const messageResponseSchema = z.object({ message: z.string() });

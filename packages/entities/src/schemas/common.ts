@@ -2,6 +2,16 @@ import { z } from 'zod';
 
 export const idSchema = z.uuid();
 
+/** A NUL character, or half of a UTF-16 surrogate pair with its other half missing. */
+const NOT_TEXT = /\u0000|[\uD800-\uDBFF](?![\uDC00-\uDFFF])|(?<![\uD800-\uDBFF])[\uDC00-\uDFFF]/;
+
+/**
+ * Every text field people send goes through this: PostgreSQL cannot store a NUL character, and a lone surrogate
+ * is not text at all (it would not survive the audit trail's JSON), so both are refused at validation, where the
+ * error names the field. Chain `.trim()`, `.min()`, `.max()` as for any string.
+ */
+export const plainText = () => z.string().refine((s) => !NOT_TEXT.test(s), 'Remove the control character or broken symbol from this text');
+
 function isTimeZone(name: string): boolean {
   try {
     new Intl.DateTimeFormat('en-US', { timeZone: name });

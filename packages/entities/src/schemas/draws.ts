@@ -1,10 +1,10 @@
 import { z } from 'zod';
-import { idSchema } from './common.js';
+import { idSchema, plainText } from './common.js';
 import { armSchema } from './studies.js';
 
 export const drawRequestSchema = z.object({
   /** Leave empty for a seed from a cryptographically random source. */
-  seed: z.string().trim().min(1).max(200).optional(),
+  seed: plainText().trim().min(1).max(200).optional(),
   /** False previews the assignment without storing it. */
   commit: z.boolean().default(false),
 });
@@ -23,7 +23,7 @@ export type BalanceRow = z.infer<typeof balanceRowSchema>;
 export const reassignmentSchema = z.object({
   classroomId: idSchema,
   arm: armSchema,
-  reason: z.string().trim().min(10, 'Explain the reassignment in a sentence or more').max(4000),
+  reason: plainText().trim().min(10, 'Explain the reassignment in a sentence or more').max(4000),
 });
 export type Reassignment = z.infer<typeof reassignmentSchema>;
 

@@ -1,5 +1,6 @@
 import { z } from 'zod';
-import { idSchema } from './common.js';
+import { emailSchema } from './auth.js';
+import { idSchema, plainText } from './common.js';
 
 /** A person the export names for a school or a class (teachers and principals only; students have no names here). */
 const rosterPersonSchema = z.object({ name: z.string(), email: z.string() });
@@ -45,8 +46,12 @@ export type RosterPreview = z.infer<typeof rosterPreviewSchema>;
 
 /** Which of the bundle's schools and classes take part (their sourcedIds); sent as the multipart field `selection`. */
 export const rosterSelectionSchema = z.object({
-  schools: z.array(z.string().min(1).max(255)).min(1, 'Choose at least one school').max(500),
-  classes: z.array(z.string().min(1).max(255)).min(1, 'Choose at least one class').max(5000),
+  schools: z.array(plainText().min(1).max(255)).min(1, 'Choose at least one school').max(500),
+  classes: z.array(plainText().min(1).max(255)).min(1, 'Choose at least one class').max(5000),
+  /** Principals the coordinator names for chosen schools the export names none for, by the school's sourcedId. */
+  principals: z
+    .record(z.string().min(1).max(255), z.object({ name: z.string().trim().min(1, 'Enter the principal’s name').max(120), email: emailSchema }))
+    .optional(),
 });
 export type RosterSelection = z.infer<typeof rosterSelectionSchema>;
 

@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { idSchema } from './common.js';
+import { idSchema, plainText } from './common.js';
 import { armSchema, waveKindSchema } from './studies.js';
 
 export const sheetStates = ['open', 'submitted', 'accepted', 'returned'] as const;
@@ -25,7 +25,7 @@ export const scoreRowSchema = z.object({
   studentCode: studentCodeSchema,
   score: z.number({ message: 'Enter a number' }).finite().nullable(),
   left: z.boolean().default(false),
-  note: z.string().trim().max(500).default(''),
+  note: plainText().trim().max(500).default(''),
 });
 export type ScoreRow = z.infer<typeof scoreRowSchema>;
 export type ScoreRowInput = z.input<typeof scoreRowSchema>;
@@ -85,7 +85,7 @@ export type SheetSummary = z.infer<typeof sheetSummarySchema>;
 
 export const saveSummarySchema = z.object({ summary: sheetSummarySchema });
 
-export const returnSheetSchema = z.object({ reasons: z.string().trim().min(5, 'Say what the teacher should fix').max(4000) });
+export const returnSheetSchema = z.object({ reasons: plainText().trim().min(5, 'Say what the teacher should fix').max(4000) });
 
 export const rowIssueSchema = z.object({ row: z.number().int(), column: z.string().nullable(), message: z.string() });
 export type RowIssue = z.infer<typeof rowIssueSchema>;

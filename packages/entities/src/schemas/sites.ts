@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { idSchema } from './common.js';
+import { idSchema, plainText } from './common.js';
 import { emailSchema } from './auth.js';
 
 export const siteCodeSchema = z
@@ -20,14 +20,14 @@ export type Site = z.infer<typeof siteSchema>;
 
 const principalSchema = z.object({
   email: emailSchema,
-  name: z.string().trim().min(1, 'Enter the principal’s name').max(120),
+  name: plainText().trim().min(1, 'Enter the principal’s name').max(120),
 });
 
 /** Enrol a school in a study: an existing district site by id, or a new one by name and code. */
 export const enrolSiteSchema = z.union([
   z.object({ siteId: idSchema, principal: principalSchema.optional() }),
   z.object({
-    name: z.string().trim().min(1, 'Enter the school’s name').max(160),
+    name: plainText().trim().min(1, 'Enter the school’s name').max(160),
     code: siteCodeSchema,
     principal: principalSchema.optional(),
   }),
@@ -36,7 +36,7 @@ export type EnrolSite = z.infer<typeof enrolSiteSchema>;
 
 export const updateSiteSchema = z
   .object({
-    name: z.string().trim().min(1).max(160).optional(),
+    name: plainText().trim().min(1).max(160).optional(),
     code: siteCodeSchema.optional(),
     principal: principalSchema.optional(),
   })

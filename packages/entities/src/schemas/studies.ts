@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { idSchema, paginationQuerySchema } from './common.js';
+import { idSchema, paginationQuerySchema, plainText } from './common.js';
 
 export const studyStatuses = ['drafting', 'registered', 'enrolling', 'collecting', 'analysing', 'reported', 'archived'] as const;
 export const studyStatusSchema = z.enum(studyStatuses);
@@ -13,7 +13,7 @@ export const arms = ['intervention', 'comparison'] as const;
 export const armSchema = z.enum(arms);
 export type Arm = z.infer<typeof armSchema>;
 
-const text = (label: string, max: number) => z.string().trim().min(1, `Enter ${label}`).max(max);
+const text = (label: string, max: number) => plainText().trim().min(1, `Enter ${label}`).max(max);
 
 export const createStudySchema = z.object({
   title: text('a title', 160),

@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { idSchema, paginationQuerySchema } from './common.js';
+import { idSchema, paginationQuerySchema, plainText } from './common.js';
 import { emailSchema } from './auth.js';
 import { roleGrantSchema, roleSchema, siteScopedRoles } from './roles.js';
 
@@ -35,14 +35,14 @@ export type User = z.infer<typeof userSchema>;
 
 export const inviteUserSchema = z.object({
   email: emailSchema,
-  name: z.string().trim().min(1, 'Enter a name').max(120),
+  name: plainText().trim().min(1, 'Enter a name').max(120),
   roles: grantsSchema,
 });
 export type InviteUser = z.infer<typeof inviteUserSchema>;
 
 export const updateUserSchema = z
   .object({
-    name: z.string().trim().min(1).max(120).optional(),
+    name: plainText().trim().min(1).max(120).optional(),
     active: z.boolean().optional(),
     roles: grantsSchema.optional(),
   })
@@ -50,7 +50,7 @@ export const updateUserSchema = z
 export type UpdateUser = z.infer<typeof updateUserSchema>;
 
 export const usersQuerySchema = paginationQuerySchema.extend({
-  q: z.string().trim().max(100).optional(),
+  q: plainText().trim().max(100).optional(),
   role: roleSchema.optional(),
   sort: z.enum(['name', 'email', 'createdAt', 'lastSignInAt']).default('name'),
   order: z.enum(['asc', 'desc']).default('asc'),
