@@ -162,6 +162,31 @@ describe('a student moving between classrooms before the draw', () => {
   });
 });
 
+describe('principals', () => {
+  it('when the export names no administrator for a new school, then the principal the coordinator names is invited for it', async () => {
+    const study = await createStudy(t.app);
+    // Seven schools: the seventh is new to the district; its administrator row is taken out.
+    const files = oneRosterFiles({ schools: 7, classesPerSchool: 1, studentsPerClass: 2 });
+    files['users.csv'] = files['users.csv'].split('\r\n').filter((line) => !line.startsWith('adm-sch7,')).join('\r\n');
+    const url = `/api/studies/${study.studyId}/roster-imports`;
+    const preview = (await upload(study.coordinator, `${url}/preview`, zip(files))).body as RosterPreview;
+    expect(preview.schools.find((x) => x.sourcedId === 'org-sch7')).toMatchObject({ siteId: null, principal: null, principalFromExport: false });
+
+    const named = { name: 'Noor Fictive', email: 'noor.fictive@roster.evenhand.test' };
+    const res = await upload(study.coordinator, url, zip(files), { schools: ['org-sch7'], classes: ['cls-sch7-1'], principals: { 'org-sch7': named } });
+    expect(res.status).toBe(201);
+    expect(res.body).toMatchObject({ sitesEnrolled: 1, invitationsSent: 2 });
+    const [site] = await t.db.query(`SELECT s.name, s.code, u.email FROM sites s JOIN users u ON u.id = s.principal_id WHERE s.roster_sourced_id = 'org-sch7'`);
+    expect(site).toEqual({ name: 'Invented School 7', code: 'SCH7', email: named.email });
+    await waitForMail(named.email);
+
+    // Naming one for a school whose principal the export names is refused.
+    const refused = await upload(study.coordinator, url, zip(files), { schools: ['org-ald'], classes: ['cls-ald-1'], principals: { 'org-ald': named } });
+    expect(refused.status).toBe(400);
+    expect(refused.body.error.details.issues[0].message).toBe('The export names the principal of Alderquill Elementary');
+  });
+});
+
 describe('refusing bad bundles: a clear 4xx and nothing changes', () => {
   const good = () => oneRosterFiles({ schools: 1, classesPerSchool: 1, studentsPerClass: 3 });
   const refusedWith = async (files: { name: string; data: Buffer | string }[], status: number, selection = { schools: ['org-ald'], classes: ['cls-ald-1'] }) => {

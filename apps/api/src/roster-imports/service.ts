@@ -183,6 +183,11 @@ export async function commitRoster(deps: Deps, actor: SessionUser, studyId: stri
       else if (!selection.schools.includes(c.school)) issues.push({ path: 'classes', message: `Class “${c.title}” belongs to a school that was not chosen` });
       else if (c.blocked) issues.push({ path: 'classes', message: `Class “${c.title}” cannot take part: ${c.blocked}` });
     }
+    for (const id of Object.keys(selection.principals ?? {})) {
+      const school = schools.get(id);
+      if (!school || !selection.schools.includes(id)) issues.push({ path: 'principals', message: `School ${id} is not among the chosen schools` });
+      else if (school.principalFromExport) issues.push({ path: 'principals', message: `The export names the principal of ${school.name}` });
+    }
     if (issues.length) throw AppError.validation('The choice of schools and classes does not fit the bundle', issues);
     const chosen = selection.classes.map((id) => classes.get(id)!);
 
@@ -219,10 +224,11 @@ export async function commitRoster(deps: Deps, actor: SessionUser, studyId: stri
         await recordAudit(manager, { actorId: actor.id, studyId, action: 'site.enrolled', entityType: 'site', entityId: siteId, after: { name: s.name, rosterSourcedId: s.sourcedId } });
         sitesEnrolled += 1;
       }
-      // The export's administrator becomes the principal of a site that has none; otherwise the coordinator names one.
+      // The export's administrator, or else the one the coordinator names, becomes the principal of a site that has none.
       const [{ principal_id }] = await manager.query(`SELECT principal_id FROM sites WHERE id = $1`, [siteId]);
-      if (s.principalFromExport && s.principal && !principal_id) {
-        const { userId, invited } = await ensurePerson(manager, deps, actor, s.principal, { role: 'principal', siteId }, studyId);
+      const principal = s.principalFromExport ? s.principal : selection.principals?.[id];
+      if (principal && !principal_id) {
+        const { userId, invited } = await ensurePerson(manager, deps, actor, principal, { role: 'principal', siteId }, studyId);
         await manager.query(`UPDATE sites SET principal_id = $2 WHERE id = $1`, [siteId, userId]);
         pending.push(invited);
       }

@@ -59,7 +59,9 @@ describe('RosterImportPanel', () => {
 
     expect(onPreview).toHaveBeenCalledWith([file]);
     expect(await screen.findByText(/The export lists 1 school, 3 classes and 36 students/)).toBeInTheDocument();
-    expect(screen.getByText('The export names no principal: name one in the Sites table after importing.', { exact: false })).toBeInTheDocument();
+    expect(screen.getByText('The export names no principal: name one here, or later.', { exact: false })).toBeInTheDocument();
+    await user.type(screen.getByLabelText('Principal’s name'), 'Marlo Fictive');
+    await user.type(screen.getByLabelText('Principal’s e-mail address'), 'marlo.fictive@roster.evenhand.test');
     const table = screen.getByRole('table', { name: 'Classes at Alderquill Elementary' });
     const blocked = within(table).getByRole('checkbox', { name: /Reading 3/ });
     expect(blocked).toBeDisabled();
@@ -67,7 +69,11 @@ describe('RosterImportPanel', () => {
     await user.click(within(table).getByRole('checkbox', { name: /Reading 2/ }));
     await user.click(screen.getByRole('button', { name: 'Import the chosen classes' }));
 
-    expect(onImport).toHaveBeenCalledWith([file], { schools: ['org-ald'], classes: ['cls-1'] });
+    expect(onImport).toHaveBeenCalledWith([file], {
+      schools: ['org-ald'],
+      classes: ['cls-1'],
+      principals: { 'org-ald': { name: 'Marlo Fictive', email: 'marlo.fictive@roster.evenhand.test' } },
+    });
     expect(await screen.findByRole('status')).toHaveTextContent(
       'The roster is imported: 1 classroom added, 12 students joined, 1 person invited by e-mail.',
     );

@@ -41,6 +41,7 @@ export function RosterImportPanel({ onPreview, onImport, onClose }: RosterImport
   const [preview, setPreview] = useState<RosterPreview | null>(null);
   const [schools, setSchools] = useState<Set<string>>(new Set());
   const [classes, setClasses] = useState<Set<string>>(new Set());
+  const [principals, setPrincipals] = useState<Record<string, { name: string; email: string }>>({});
   const [busy, setBusy] = useState(false);
   const [problem, setProblem] = useState<Problem | null>(null);
   const [done, setDone] = useState<string | null>(null);
@@ -68,10 +69,17 @@ export function RosterImportPanel({ onPreview, onImport, onClose }: RosterImport
     const chosenSchools = preview.schools.filter((s) => schools.has(s.sourcedId));
     const chosenClasses = chosenSchools.flatMap((s) => s.classes.filter((c) => classes.has(c.sourcedId) && !c.blocked).map((c) => c.sourcedId));
     if (!chosenClasses.length) return setProblem({ message: 'Choose at least one class.' });
+    // A principal named here counts when both fields are filled in.
+    const named = Object.fromEntries(
+      chosenSchools.flatMap((s) => {
+        const p = principals[s.sourcedId];
+        return !s.principal && p?.name.trim() && p.email.trim() ? [[s.sourcedId, { name: p.name.trim(), email: p.email.trim() }]] : [];
+      }),
+    );
     setBusy(true);
     setProblem(null);
     try {
-      const result = await onImport(files, { schools: chosenSchools.map((s) => s.sourcedId), classes: chosenClasses });
+      const result = await onImport(files, { schools: chosenSchools.map((s) => s.sourcedId), classes: chosenClasses, principals: named });
       setDone(describeImport(result));
       setPreview(null);
     } catch (error) {
@@ -149,8 +157,29 @@ export function RosterImportPanel({ onPreview, onImport, onClose }: RosterImport
                   {school.siteId ? (school.enrolled ? 'Already in the study.' : 'A district site; it will be enrolled.') : 'New to Evenhand; it will be added and enrolled.'}{' '}
                   {school.principal
                     ? `Principal: ${school.principal.name} (${school.principal.email})${school.principalFromExport ? ', from the export' : ''}.`
-                    : 'The export names no principal: name one in the Sites table after importing.'}
+                    : 'The export names no principal: name one here, or later.'}
                 </p>
+                {!school.principal && (
+                  <div className="grid gap-3 sm:grid-cols-2">
+                    {(['name', 'email'] as const).map((field) => (
+                      <label key={field} className="flex flex-col gap-1 text-sm">
+                        <span className="font-semibold">{field === 'name' ? 'Principal’s name' : 'Principal’s e-mail address'}</span>
+                        <input
+                          type={field === 'email' ? 'email' : 'text'}
+                          disabled={!schoolOn}
+                          value={principals[school.sourcedId]?.[field] ?? ''}
+                          onChange={(e) =>
+                            setPrincipals((all) => ({
+                              ...all,
+                              [school.sourcedId]: { name: '', email: '', ...all[school.sourcedId], [field]: e.target.value },
+                            }))
+                          }
+                          className="rounded-md border border-line-strong bg-surface px-3 py-2"
+                        />
+                      </label>
+                    ))}
+                  </div>
+                )}
                 <div className="overflow-x-auto">
                   <table className="w-full border-collapse text-sm">
                     <caption className="sr-only">Classes at {school.name}</caption>
