@@ -196,6 +196,16 @@ describe('sign-in with the district account', () => {
     }
   });
 
+  it('when the provider cannot be reached, then the browser returns to the sign-in page with a message, not an error page', async () => {
+    const config = testConfig(t.databaseUrl, { OIDC_ISSUER_URL: 'http://127.0.0.1:9', OIDC_CLIENT_ID: FAKE_CLIENT.id, OIDC_CLIENT_SECRET: FAKE_CLIENT.secret });
+    const unreachable = createApp({ config, db: t.db, mailer, logger: pino({ level: 'silent' }), jobs: t.jobs });
+    const res = await request(unreachable).get('/api/auth/district/start');
+    expect(res.status).toBe(302);
+    const ticket = new URL(res.headers.location, 'http://127.0.0.1:3999').searchParams.get('district_problem');
+    const problem = await request(unreachable).get('/api/auth/district/problem').query({ ticket });
+    expect(problem.body.message).toMatch(/could not complete the sign-in with your district account/);
+  });
+
   it('refuses a forged or expired problem ticket with a 400 in the error shape', async () => {
     const res = await request(app).get('/api/auth/district/problem').query({ ticket: 'eyJhbGciOiJub25lIn0.e30.' });
     expect(res.status).toBe(400);
