@@ -1,7 +1,6 @@
 import {
   pageOf,
   signInSettingsSchema,
-  siteSchema,
   userSchema,
   type InviteUser,
   type PasswordSignIn,
@@ -12,14 +11,12 @@ import { keepPreviousData, queryOptions, useMutation, useQueryClient } from '@ta
 import { apiRequest } from '@/lib/api-client';
 
 const usersPageSchema = pageOf(userSchema);
-const sitesPageSchema = pageOf(siteSchema);
 
 // No details/detail(id) keys: the API has no single-account read, and the table's rows carry all an edit needs.
 export const accountKeys = {
   all: ['accounts'] as const,
   lists: () => [...accountKeys.all, 'list'] as const,
   list: (query: UsersQuery) => [...accountKeys.lists(), query] as const,
-  sites: () => [...accountKeys.all, 'sites'] as const,
   signInSettings: () => [...accountKeys.all, 'sign-in-settings'] as const,
 };
 
@@ -28,15 +25,6 @@ export function accountsQueryOptions(query: UsersQuery) {
     queryKey: accountKeys.list(query),
     queryFn: ({ signal }) => apiRequest('/users', { query, schema: usersPageSchema, signal }),
     placeholderData: keepPreviousData,
-  });
-}
-
-/** The schools a teacher or principal grant can name. */
-export function siteChoicesQueryOptions() {
-  return queryOptions({
-    queryKey: accountKeys.sites(),
-    queryFn: ({ signal }) => apiRequest('/sites', { schema: sitesPageSchema, signal }),
-    staleTime: 10 * 60_000,
   });
 }
 

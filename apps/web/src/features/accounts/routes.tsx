@@ -6,12 +6,13 @@ import { Alert } from '@/components/ui/alert';
 import { Button } from '@/components/ui/button';
 import { Dialog } from '@/components/ui/dialog';
 import { PageHeader } from '@/components/ui/page-header';
-import { accountsQueryOptions, siteChoicesQueryOptions, useInviteAccount, useUpdateAccount } from '@/features/accounts/api';
+import { accountsQueryOptions, useInviteAccount, useUpdateAccount } from '@/features/accounts/api';
 import { AccountAccess } from '@/features/accounts/components/account-access';
 import { AccountsTable } from '@/features/accounts/components/accounts-table';
 import { EditAccountForm } from '@/features/accounts/components/edit-account-form';
 import { InviteForm } from '@/features/accounts/components/invite-form';
 import { SignInSettings } from '@/features/accounts/components/sign-in-settings';
+import { districtSitesQueryOptions } from '@/lib/queries';
 
 const PAGE_SIZE = 25;
 const defaults = usersQuerySchema.parse({ limit: PAGE_SIZE });
@@ -47,7 +48,7 @@ export function accountsLoader(queryClient: QueryClient) {
     const query = queryFromSearch(new URL(request.url).searchParams);
     await Promise.all([
       queryClient.ensureQueryData(accountsQueryOptions(query)),
-      queryClient.ensureQueryData(siteChoicesQueryOptions()),
+      queryClient.ensureQueryData(districtSitesQueryOptions()),
     ]);
     return null;
   };
@@ -62,7 +63,7 @@ export function AccountsPage({ toDo }: { toDo?: ReactNode }) {
   const [params, setParams] = useSearchParams();
   const query = queryFromSearch(params);
   const accounts = useQuery(accountsQueryOptions(query));
-  const sites = useQuery(siteChoicesQueryOptions());
+  const sites = useQuery(districtSitesQueryOptions());
   const invite = useInviteAccount();
   const update = useUpdateAccount();
   const [inviting, setInviting] = useState(false);

@@ -1,6 +1,5 @@
 import {
   measureSchema,
-  pageOf,
   planSchema,
   waveSchema,
   type Amendment,
@@ -12,16 +11,11 @@ import { queryOptions, useMutation, useQueryClient, type QueryClient } from '@ta
 import { apiRequest } from '@/lib/api-client';
 import { studyKeys } from '@/lib/study';
 
-const measuresPageSchema = pageOf(measureSchema);
-const wavesPageSchema = pageOf(waveSchema);
-
-// Keyed by study: a study has one plan, and its measures and waves are always listed whole.
+// Keyed by study: a study has one plan. Its measures and waves are shared reads (@/lib/queries), keyed under the study.
 export const planKeys = {
   all: ['plan'] as const,
   details: () => [...planKeys.all, 'detail'] as const,
   detail: (studyId: string) => [...planKeys.details(), studyId] as const,
-  measures: (studyId: string) => [...planKeys.all, 'measures', studyId] as const,
-  waves: (studyId: string) => [...planKeys.all, 'waves', studyId] as const,
 };
 
 export function planQueryOptions(studyId: string) {
@@ -31,21 +25,7 @@ export function planQueryOptions(studyId: string) {
   });
 }
 
-export function measuresQueryOptions(studyId: string) {
-  return queryOptions({
-    queryKey: planKeys.measures(studyId),
-    queryFn: ({ signal }) => apiRequest(`/studies/${studyId}/measures`, { schema: measuresPageSchema, signal }),
-  });
-}
-
-export function wavesQueryOptions(studyId: string) {
-  return queryOptions({
-    queryKey: planKeys.waves(studyId),
-    queryFn: ({ signal }) => apiRequest(`/studies/${studyId}/waves`, { schema: wavesPageSchema, signal }),
-  });
-}
-
-/** The study's state, plan version and counts change with its plan, measures and waves. */
+/** The study's state, plan version and counts change with its plan, measures and waves (keyed under it, so they refresh too). */
 function invalidateStudy(queryClient: QueryClient, studyId: string) {
   return Promise.all([
     queryClient.invalidateQueries({ queryKey: studyKeys.detail(studyId) }),
@@ -57,8 +37,7 @@ export function useAddMeasure(studyId: string) {
   const queryClient = useQueryClient();
   return useMutation({
     mutationFn: (input: CreateMeasure) => apiRequest(`/studies/${studyId}/measures`, { method: 'POST', body: input, schema: measureSchema }),
-    onSuccess: () =>
-      Promise.all([queryClient.invalidateQueries({ queryKey: planKeys.measures(studyId) }), invalidateStudy(queryClient, studyId)]),
+    onSuccess: () => invalidateStudy(queryClient, studyId),
   });
 }
 
@@ -66,7 +45,7 @@ export function useAddWave(studyId: string) {
   const queryClient = useQueryClient();
   return useMutation({
     mutationFn: (input: CreateWave) => apiRequest(`/studies/${studyId}/waves`, { method: 'POST', body: input, schema: waveSchema }),
-    onSuccess: () => Promise.all([queryClient.invalidateQueries({ queryKey: planKeys.waves(studyId) }), invalidateStudy(queryClient, studyId)]),
+    onSuccess: () => invalidateStudy(queryClient, studyId),
   });
 }
 

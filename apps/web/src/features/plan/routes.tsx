@@ -8,22 +8,14 @@ import { EmptyState } from '@/components/ui/empty-state';
 import { Loading } from '@/components/ui/spinner';
 import { Section } from '@/components/ui/section';
 import { useSession } from '@/features/auth/api';
-import {
-  measuresQueryOptions,
-  planQueryOptions,
-  useAddMeasure,
-  useAddWave,
-  useAmendPlan,
-  useSaveDraft,
-  useSealPlan,
-  wavesQueryOptions,
-} from '@/features/plan/api';
+import { planQueryOptions, useAddMeasure, useAddWave, useAmendPlan, useSaveDraft, useSealPlan } from '@/features/plan/api';
 import { AddMeasureForm, AddWaveForm, MeasuresList, WavesList } from '@/features/plan/components/measures-and-waves';
 import { blankPlan, PlanForm } from '@/features/plan/components/plan-form';
 import { Fingerprint, PlanSummary, VersionHistory } from '@/features/plan/components/plan-record';
 import { PlanningPanel } from '@/features/plan/components/planning-panel';
 import { formatDateTime } from '@/lib/format';
 import { hasRole } from '@/lib/navigation';
+import { measuresQueryOptions, wavesQueryOptions } from '@/lib/queries';
 import { useCurrentStudy } from '@/lib/study';
 
 export function planLoader(queryClient: QueryClient) {

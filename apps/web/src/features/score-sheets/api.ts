@@ -5,7 +5,6 @@ import {
   scoreSheetDetailSchema,
   scoreSheetSchema,
   uploadResultSchema,
-  waveSchema,
   type ScoreRowInput,
   type ScoreSheet,
   type ScoreSheetDetail,
@@ -17,7 +16,6 @@ import { apiRequest } from '@/lib/api-client';
 import { uploadFile } from '@/lib/upload';
 
 const sheetsPageSchema = pageOf(scoreSheetSchema);
-const wavesPageSchema = pageOf(waveSchema);
 
 export interface SheetsFilter {
   studyId: string;
@@ -34,7 +32,6 @@ export const scoreSheetKeys = {
   detail: (id: string) => [...scoreSheetKeys.details(), id] as const,
   completions: () => [...scoreSheetKeys.all, 'completion'] as const,
   completion: (studyId: string) => [...scoreSheetKeys.completions(), studyId] as const,
-  waves: (studyId: string) => [...scoreSheetKeys.all, 'waves', studyId] as const,
 };
 
 export function sheetsQueryOptions(filter: SheetsFilter) {
@@ -55,15 +52,6 @@ export function completionQueryOptions(studyId: string) {
   return queryOptions({
     queryKey: scoreSheetKeys.completion(studyId),
     queryFn: ({ signal }) => apiRequest(`/studies/${studyId}/completion`, { schema: completionMatrixSchema, signal }),
-  });
-}
-
-/** The study's waves with their dates, which the matrix shows but does not carry. */
-export function wavesQueryOptions(studyId: string) {
-  return queryOptions({
-    queryKey: scoreSheetKeys.waves(studyId),
-    queryFn: ({ signal }) => apiRequest(`/studies/${studyId}/waves`, { schema: wavesPageSchema, signal }),
-    staleTime: 5 * 60_000,
   });
 }
 

@@ -15,7 +15,6 @@ import {
   sheetQueryOptions,
   sheetsQueryOptions,
   useSendReminders,
-  wavesQueryOptions,
 } from '@/features/score-sheets/api';
 import { CompletionTable, MatrixTotals, viewOf, type MatrixFilter } from '@/features/score-sheets/components/completion-matrix';
 import { byClassroom, ClassroomSheetsTable } from '@/features/score-sheets/components/my-classes';
@@ -28,6 +27,7 @@ import { SummaryForm } from '@/features/score-sheets/components/summary-form';
 import { countsText, nextStep, readOnlyReason, sheetStateLabels } from '@/features/score-sheets/sheet-state';
 import { formatDay } from '@/lib/format';
 import { areas, hasRole, studyPath } from '@/lib/navigation';
+import { wavesQueryOptions } from '@/lib/queries';
 import { studiesQueryOptions, useCurrentStudy, useStudyId } from '@/lib/study';
 
 /** Teachers take part in few studies: one page of them is all of them. */

@@ -14,17 +14,16 @@ import {
 } from '@evenhand/entities';
 import { queryOptions, useMutation, useQueryClient } from '@tanstack/react-query';
 import { apiRequest } from '@/lib/api-client';
+import { sharedKeys } from '@/lib/queries';
 import { studyKeys } from '@/lib/study';
 import { uploadFile } from '@/lib/upload';
 
 const studySitesPageSchema = pageOf(studySiteSchema);
-const sitesPageSchema = pageOf(siteSchema);
 const cohortsPageSchema = pageOf(cohortSchema);
 
 // A study's sites and cohorts are always listed whole, so they are keyed by study; classrooms live in lib/study.
 export const siteKeys = {
   all: ['sites'] as const,
-  district: () => [...siteKeys.all, 'district'] as const,
   lists: () => [...siteKeys.all, 'study'] as const,
   list: (studyId: string) => [...siteKeys.lists(), studyId] as const,
   cohorts: (studyId: string) => [...siteKeys.all, 'cohorts', studyId] as const,
@@ -34,14 +33,6 @@ export function studySitesQueryOptions(studyId: string) {
   return queryOptions({
     queryKey: siteKeys.list(studyId),
     queryFn: ({ signal }) => apiRequest(`/studies/${studyId}/sites`, { schema: studySitesPageSchema, signal }),
-  });
-}
-
-/** The district's schools, to enrol one that exists already. */
-export function districtSitesQueryOptions() {
-  return queryOptions({
-    queryKey: siteKeys.district(),
-    queryFn: ({ signal }) => apiRequest('/sites', { schema: sitesPageSchema, signal }),
   });
 }
 
@@ -61,7 +52,7 @@ function useRefreshStudy(studyId: string) {
       queryClient.invalidateQueries({ queryKey: studyKeys.lists() }),
       queryClient.invalidateQueries({ queryKey: siteKeys.list(studyId) }),
       queryClient.invalidateQueries({ queryKey: siteKeys.cohorts(studyId) }),
-      queryClient.invalidateQueries({ queryKey: siteKeys.district() }),
+      queryClient.invalidateQueries({ queryKey: sharedKeys.districtSites() }),
     ]);
 }
 

@@ -9,7 +9,6 @@ import { Section } from '@/components/ui/section';
 import { useSession } from '@/features/auth/api';
 import {
   cohortsQueryOptions,
-  districtSitesQueryOptions,
   studySitesQueryOptions,
   useAddClassroom,
   useAddCohort,
@@ -26,6 +25,7 @@ import { EnrolSiteForm } from '@/features/sites/components/enrol-site-form';
 import { RosterImportPanel } from '@/features/sites/components/roster-import';
 import { SitesTable } from '@/features/sites/components/sites-table';
 import { hasRole } from '@/lib/navigation';
+import { districtSitesQueryOptions } from '@/lib/queries';
 import { studyClassroomsQueryOptions, useCurrentStudy } from '@/lib/study';
 
 export function sitesLoader(queryClient: QueryClient) {
