@@ -208,6 +208,23 @@ describe('digests on lock', () => {
   });
 });
 
+describe('lock digests gathered while they wait', () => {
+  it('when a lock digest waits unsent, then its message may be rewritten to name later locks; once a worker tried it, never', async () => {
+    const attempt = (attempts: number) =>
+      t.db.transaction(async (manager) => {
+        const [row] = await manager.query(
+          `INSERT INTO digests (study_id, site_id, recipient_id, recipient_email, kind, unique_key, run_id, subject, html, text, attempts)
+           SELECT $1, $2, u.id, u.email, 'lock', $3, $4, 'The result is locked', '<p>one</p>', 'one', $5 FROM users u WHERE u.email = $6 RETURNING id`,
+          [s.studyId, sites[0].id, `gather-test:${attempts}`, runId, attempts, sites[0].principal],
+        );
+        await manager.query(`UPDATE digests SET subject = '2 results are locked', html = '<p>two</p>', text = 'two' WHERE id = $1`, [row.id]);
+        throw new Error('rolled back');
+      });
+    await expect(attempt(0)).rejects.toThrow('rolled back');
+    await expect(attempt(1)).rejects.toThrow(/the message of digest .* cannot change/);
+  });
+});
+
 describe('My school', () => {
   it('shows a principal their own school only, with the same facts and suppression as the digest', async () => {
     const res = await sites[0].session!.agent.get('/api/my-school');

@@ -122,7 +122,27 @@ async function createDigests(
     const [exists] = await manager.query(`SELECT 1 FROM digests WHERE unique_key = $1`, [key]);
     if (exists) continue;
     if (!facts.has(r.site_id)) facts.set(r.site_id, await buildSiteFacts(manager, input.studyId, r.site_id));
-    const message = await renderDigest(facts.get(r.site_id)!, input.kind, r.name, linksFor(ctx.config, r.user_id));
+    const siteFacts = facts.get(r.site_id)!;
+    if (input.kind === 'lock') {
+      // A lead often locks several comparisons in a row: while this principal's lock digest still waits in the outbox
+      // (no worker holds it), it is rewritten to name every result locked since, so one e-mail tells of the event.
+      const [waiting]: { id: string; locked_at: Date }[] = await manager.query(
+        `SELECT d.id, r.locked_at FROM digests d JOIN runs r ON r.id = d.run_id
+          WHERE d.study_id = $1 AND d.site_id = $2 AND d.recipient_id = $3 AND d.kind = 'lock' AND d.state = 'queued' AND d.attempts = 0
+          ORDER BY d.created_at LIMIT 1 FOR UPDATE OF d SKIP LOCKED`,
+        [input.studyId, r.site_id, r.user_id],
+      );
+      if (waiting) {
+        const since = new Date(waiting.locked_at).getTime();
+        const newly = siteFacts.results.filter((x) => x.runId === input.runId || Date.parse(x.lockedAt) >= since).map((x) => x.runId);
+        const merged = await renderDigest(siteFacts, 'lock', r.name, linksFor(ctx.config, r.user_id), newly);
+        await manager.query(`UPDATE digests SET subject = $2, html = $3, text = $4 WHERE id = $1`, [waiting.id, merged.subject, merged.html, merged.text]);
+        // A worker that skipped the row while this transaction held it has finished its job: queue the delivery again.
+        await ctx.jobs.enqueueDigest(manager, waiting.id);
+        continue;
+      }
+    }
+    const message = await renderDigest(siteFacts, input.kind, r.name, linksFor(ctx.config, r.user_id), input.runId ? [input.runId] : []);
     const rows: { id: string }[] = await manager.query(
       `INSERT INTO digests (study_id, site_id, recipient_id, recipient_email, kind, unique_key, run_id, subject, html, text)
        VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10)

@@ -27,9 +27,9 @@ const esc = (s: string) => s.replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&
 
 const kindTitle: Record<DigestKind, string> = { weekly: 'Weekly digest', lock: 'A result is locked', manual: 'Digest' };
 
-export function digestSubject(kind: DigestKind, facts: SiteFacts): string {
+export function digestSubject(kind: DigestKind, facts: SiteFacts, newlyLocked: string[] = []): string {
   const where = `${facts.study.title} (${facts.site.name})`;
-  if (kind === 'lock') return `The result is locked: ${where}`;
+  if (kind === 'lock') return newlyLocked.length > 1 ? `${newlyLocked.length} results are locked: ${where}` : `The result is locked: ${where}`;
   if (kind === 'weekly') return `This week in ${where}`;
   return `Update on ${where}`;
 }
@@ -51,11 +51,19 @@ interface Block {
 }
 
 /** The content of a digest as plain blocks, so the HTML and the text alternative say exactly the same. */
-function blocks(facts: SiteFacts, kind: DigestKind): Block[] {
+/** A result's heading: in a lock digest, whether this event locked it or an earlier one did. */
+function resultHeading(r: SiteFacts['results'][number], kind: DigestKind, newlyLocked: string[]): string {
+  if (kind === 'lock') return `${newlyLocked.includes(r.runId) ? 'Newly locked' : 'Locked earlier'}: ${r.measureName} at ${r.waveName}`;
+  return `${r.isPrimary ? 'The result' : 'Another locked result'}: ${r.measureName} at ${r.waveName}`;
+}
+
+function blocks(facts: SiteFacts, kind: DigestKind, newlyLocked: string[]): Block[] {
   const out: Block[] = [];
-  const resultBlocks: Block[] = facts.results.flatMap((r) => [
+  // The newly locked results first, so the e-mail opens with what changed.
+  const ordered = kind === 'lock' ? [...facts.results].sort((a, b) => Number(newlyLocked.includes(b.runId)) - Number(newlyLocked.includes(a.runId))) : facts.results;
+  const resultBlocks: Block[] = ordered.flatMap((r) => [
     {
-      heading: `${r.isPrimary ? 'The result' : 'Another locked result'}: ${r.measureName} at ${r.waveName}`,
+      heading: resultHeading(r, kind, newlyLocked),
       paragraphs: r.sentences,
       table: {
         head: ['All schools in the study', 'Figure'],
@@ -126,17 +134,21 @@ function blocks(facts: SiteFacts, kind: DigestKind): Block[] {
   return out;
 }
 
-function intro(facts: SiteFacts, kind: DigestKind, name: string): string[] {
+function intro(facts: SiteFacts, kind: DigestKind, name: string, newlyLocked: string[]): string[] {
   const lines = [`Hello ${name},`];
-  if (kind === 'lock') lines.push(`The research lead has locked a confirmatory result of “${facts.study.title}”. Here it is in plain language, with how ${facts.site.name} is taking part.`);
+  if (kind === 'lock') {
+    const labels = facts.results.filter((r) => newlyLocked.includes(r.runId)).map((r) => `“${r.label}”`);
+    const what = labels.length > 1 ? `${labels.length} confirmatory results of “${facts.study.title}”: ${labels.slice(0, -1).join(', ')} and ${labels.at(-1)}` : `a confirmatory result of “${facts.study.title}”${labels.length ? `: ${labels[0]}` : ''}`;
+    lines.push(`The research lead has locked ${what}. Here ${labels.length > 1 ? 'they are' : 'it is'} in plain language, with how ${facts.site.name} is taking part.`);
+  }
   else if (kind === 'weekly') lines.push(`Here is this week’s summary of how ${facts.site.name} is taking part in “${facts.study.title}”.`);
   else lines.push(`Here is the latest on how ${facts.site.name} is taking part in “${facts.study.title}”.`);
   return lines;
 }
 
-function text(facts: SiteFacts, kind: DigestKind, name: string, links: DigestLinks): string {
-  const parts: string[] = [kindTitle[kind].toUpperCase(), '', ...intro(facts, kind, name).flatMap((l) => [l, ''])];
-  for (const b of blocks(facts, kind)) {
+function text(facts: SiteFacts, kind: DigestKind, name: string, links: DigestLinks, newlyLocked: string[]): string {
+  const parts: string[] = [kindTitle[kind].toUpperCase(), '', ...intro(facts, kind, name, newlyLocked).flatMap((l) => [l, ''])];
+  for (const b of blocks(facts, kind, newlyLocked)) {
     parts.push(b.heading, '-'.repeat(Math.min(60, b.heading.length)));
     for (const p of b.paragraphs ?? []) parts.push(p, '');
     if (b.table) {
@@ -169,7 +181,7 @@ ${t.rows.map((r) => `<tr>${r.map((c, i) => cell(c, i, false)).join('')}</tr>`).j
 </mj-table>`;
 }
 
-function html(facts: SiteFacts, kind: DigestKind, name: string, links: DigestLinks): string {
+function html(facts: SiteFacts, kind: DigestKind, name: string, links: DigestLinks, newlyLocked: string[]): string {
   const section = (b: Block) => `
 <mj-section background-color="${SURFACE}" padding="4px 24px 12px" border-left="1px solid ${LINE}" border-right="1px solid ${LINE}">
   <mj-column>
@@ -184,8 +196,8 @@ function html(facts: SiteFacts, kind: DigestKind, name: string, links: DigestLin
   const prefLink = (f: 'weekly' | 'locked' | 'none', label: string) => `<a href="${esc(links.preferences(f))}" style="color:${ACCENT}">${label}</a>`;
   return `<mjml lang="en">
 <mj-head>
-  <mj-title>${esc(digestSubject(kind, facts))}</mj-title>
-  <mj-preview>${esc(intro(facts, kind, name)[1])}</mj-preview>
+  <mj-title>${esc(digestSubject(kind, facts, newlyLocked))}</mj-title>
+  <mj-preview>${esc(intro(facts, kind, name, newlyLocked)[1])}</mj-preview>
   <mj-attributes>
     <mj-all font-family="${FONT}" />
     <mj-text font-size="16px" line-height="24px" color="${INK}" />
@@ -201,10 +213,10 @@ function html(facts: SiteFacts, kind: DigestKind, name: string, links: DigestLin
   </mj-section>
   <mj-section background-color="${SURFACE}" padding="16px 24px 4px" border-top="4px solid ${ACCENT}" border-left="1px solid ${LINE}" border-right="1px solid ${LINE}">
     <mj-column>
-      ${intro(facts, kind, name).map((l) => `<mj-text padding="4px 0">${esc(l)}</mj-text>`).join('\n')}
+      ${intro(facts, kind, name, newlyLocked).map((l) => `<mj-text padding="4px 0">${esc(l)}</mj-text>`).join('\n')}
     </mj-column>
   </mj-section>
-  ${blocks(facts, kind).map(section).join('\n')}
+  ${blocks(facts, kind, newlyLocked).map(section).join('\n')}
   <mj-section background-color="${SURFACE}" padding="8px 24px 24px" border-left="1px solid ${LINE}" border-right="1px solid ${LINE}" border-bottom="1px solid ${LINE}">
     <mj-column>
       <mj-button href="${esc(links.mySchool)}" background-color="${ACCENT}" color="#ffffff" font-size="16px" font-weight="600" border-radius="6px" align="left" padding="8px 0">Open My school</mj-button>
@@ -220,9 +232,12 @@ function html(facts: SiteFacts, kind: DigestKind, name: string, links: DigestLin
 </mjml>`;
 }
 
-/** The digest e-mail: HTML from the MJML template (no images, readable with them off) and its plain-text alternative. */
-export async function renderDigest(facts: SiteFacts, kind: DigestKind, recipientName: string, links: DigestLinks): Promise<RenderedDigest> {
-  const result = await mjml(html(facts, kind, recipientName, links), { validationLevel: 'strict', fonts: {}, keepComments: false });
+/**
+ * The digest e-mail: HTML from the MJML template (no images, readable with them off) and its plain-text alternative.
+ * A lock digest names the runs its event locked (`newlyLocked`) and lists them first.
+ */
+export async function renderDigest(facts: SiteFacts, kind: DigestKind, recipientName: string, links: DigestLinks, newlyLocked: string[] = []): Promise<RenderedDigest> {
+  const result = await mjml(html(facts, kind, recipientName, links, newlyLocked), { validationLevel: 'strict', fonts: {}, keepComments: false });
   if (result.errors.length) throw new Error(`digest template: ${result.errors.map((e) => e.formattedMessage).join('; ')}`);
-  return { subject: digestSubject(kind, facts), html: result.html, text: text(facts, kind, recipientName, links) };
+  return { subject: digestSubject(kind, facts, newlyLocked), html: result.html, text: text(facts, kind, recipientName, links, newlyLocked) };
 }

@@ -3,6 +3,7 @@ import { createDataSource } from '../db/data-source.js';
 import { createLogger } from '../logger.js';
 import { startQueue } from '../jobs/queue.js';
 import { startWorkers } from '../jobs/workers.js';
+import { startDigestWorkers } from '../digests/jobs.js';
 import { waitForOutbox } from '../digests/service.js';
 import { createMailer } from '../mail/mailer.js';
 import { resetDatabase, seedDemo } from './demo.js';
@@ -24,8 +25,10 @@ const { created } = await db.transaction((manager) => seedDemo(manager));
 const mailer = createMailer(config);
 const logger = createLogger({ logLevel: 'warn' });
 const jobs = await startQueue(config.databaseUrl, logger);
-await startWorkers(jobs, db, logger, 0.5, { mailer, config, schedule: false });
+await startWorkers(jobs, db, logger, 0.5);
 const studies = await seedDemoStudies({ config, db, mailer, logger, jobs });
+// The outbox is sent once every demo result is locked: each principal's lock digest, rewritten while it waited, names them all.
+await startDigestWorkers(jobs, db, logger, 0.5, { mailer, config, schedule: false });
 // Locking the demo runs put digests for the principals in the outbox: send them before exiting.
 const outbox = await waitForOutbox(db, 60_000);
 if (outbox.sent) console.log(`Digests sent: ${outbox.sent} (see the mail catcher)`);
