@@ -24,6 +24,7 @@ import {
 import { arms, type Arm, type Deciding, type PlanContent, type PrimaryTest, type RunResults } from '@evenhand/entities';
 import { ClusteredAnalysisError, assignedUnits, clusterRobust, siteEstimatesFromComponents, twoLevel, type AssignedUnits, type ModelEffect } from './clustered.js';
 import { NORMALITY_SAMPLE, type ClassroomAggregate, type Gathered } from './gather.js';
+import { YesNoAnalysisError, yesNoAnalysis } from './yes-no.js';
 
 export interface AnalysisContext {
   kind: 'monitoring' | 'confirmatory';
@@ -32,7 +33,7 @@ export interface AnalysisContext {
   unitOfAssignment: 'student' | 'classroom' | 'school';
   quasiExperimental: boolean;
   comparison: { unitOfAnalysis: 'student' | 'classroom' | 'school'; primaryTest: PrimaryTest; covariate: 'baseline' | 'none' };
-  measure: { id: string; name: string; kind: 'achievement' | 'behaviour'; higherIsBetter: boolean };
+  measure: { id: string; name: string; kind: 'achievement' | 'behaviour'; higherIsBetter: boolean; scale: 'score' | 'yes-no' };
   wave: { id: string; name: string };
 }
 
@@ -60,7 +61,10 @@ export function analyse(ctx: AnalysisContext, data: Gathered): RunResults {
   const s2 = armSummary(data.classrooms, 'comparison');
   for (const [arm, s] of [['intervention', s1], ['comparison', s2]] as const) {
     if (!s || s.n < 2) throw new AnalysisError(`The ${armLabel[arm]} arm has fewer than 2 students with an outcome score in the sheets this run may use`);
-    if (!(s.m2 > 0)) throw new AnalysisError(`Every student in the ${armLabel[arm]} arm has the same score; the comparison is undefined`);
+    if (!(s.m2 > 0)) {
+      const answer = ctx.measure.scale === 'yes-no' ? (s.mean === 1 ? 'answered yes' : 'answered no') : 'has the same score';
+      throw new AnalysisError(`Every student in the ${armLabel[arm]} arm ${answer}; the comparison is undefined`);
+    }
   }
   const a = s1!;
   const b = s2!;
@@ -226,7 +230,25 @@ export function analyse(ctx: AnalysisContext, data: Gathered): RunResults {
   }
   cautions.push('Student records are protected by law and district policy; share these results as your district’s data-privacy rules and research review board allow.');
 
-  const deciding: Deciding = decidingOf(primary, clustering, twoLevelRegistered, ctx.comparison.unitOfAnalysis);
+  let deciding: Deciding = decidingOf(primary, clustering, twoLevelRegistered, ctx.comparison.unitOfAnalysis);
+  // A yes/no measure is decided on the difference in proportions (cluster-robust when classrooms or schools were assigned).
+  let yesNo: RunResults['yesNo'] = null;
+  if (ctx.measure.scale === 'yes-no') {
+    try {
+      const y = yesNoAnalysis(data.classrooms, {
+        alpha: plan.alpha,
+        alternative: plan.alternative,
+        yesIsGood: ctx.measure.higherIsBetter,
+        measureKind: ctx.measure.kind,
+        unitOfAssignment: ctx.unitOfAssignment,
+      });
+      ({ yesNo, deciding } = y);
+      notes.push(...y.notes);
+    } catch (e) {
+      if (e instanceof YesNoAnalysisError) throw new AnalysisError(e.message);
+      throw e;
+    }
+  }
   const shownEffect = modelEffect && twoLevelRegistered ? modelEffect : { g: g.g, ci: g.ci as [number, number], se: g.se };
 
   return {
@@ -251,6 +273,7 @@ export function analyse(ctx: AnalysisContext, data: Gathered): RunResults {
     primary,
     deciding,
     twoLevel: model,
+    yesNo,
     effectSize: { ...shownEffect, improvementIndex: improvementIndex(shownEffect.g), substantivelyImportant: isSubstantivelyImportant(shownEffect.g) },
     clustering,
     sensitivity: {

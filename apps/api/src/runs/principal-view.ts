@@ -11,12 +11,23 @@ import { suppressCounts } from '../digests/wording.js';
  * of freedom, flow counts, diagnostics (the Shapiro–Wilk n, the variance-ratio df), sensitivity checks and other
  * schools' figures are never shown. Before adding a field, check it reveals no hidden count or mean with the rest.
  */
+const hiddenCount = { value: null, suppressed: true } as const;
+
 export function principalView(run: Run, ownSiteIds: readonly string[]): PrincipalRun {
   const r = run.results;
   const base = { id: run.id, comparisonId: run.comparisonId, studyId: run.studyId, kind: run.kind, state: run.state, planVersion: run.planVersion, engineVersion: run.engineVersion, lockedAt: run.lockedAt };
   if (!r) return { ...base, results: null, multiplicity: null };
   const counts = suppressCounts(r.descriptives.map((d) => d.students));
-  const shown = !counts.hidden;
+  // A yes/no measure: each arm's yes and no counts are cells too; a hidden one hides everything a count follows from.
+  const answers = r.yesNo ? r.yesNo.arms.map((a) => suppressCounts([a.yes, a.no])) : [];
+  const shown = !counts.hidden && !answers.some((a) => a.hidden);
+  const yesNoSite = (mean: number, n: number) => {
+    const yes = Math.round(mean * n);
+    return !suppressCounts([yes, n - yes]).hidden;
+  };
+  // A school's yes/no means give its yes counts (mean × n), so both arms' counts must show as well.
+  const siteShown = (s: { n1: number; n2: number; mean1: number; mean2: number }) =>
+    !suppressCounts([s.n1, s.n2]).hidden && (!r.yesNo || (yesNoSite(s.mean1, s.n1) && yesNoSite(s.mean2, s.n2)));
   const deciding = decidingTest(r);
   const results: PrincipalRunResults = {
     measure: { name: r.measure.name, higherIsBetter: r.measure.higherIsBetter },
@@ -34,9 +45,15 @@ export function principalView(run: Run, ownSiteIds: readonly string[]): Principa
     effectSize: shown ? { g: r.effectSize.g, ci: r.effectSize.ci, improvementIndex: r.effectSize.improvementIndex } : null,
     arms: r.descriptives.map((d, i) => ({ arm: d.arm, students: counts.cells[i], mean: shown ? d.mean : null, sd: shown ? d.sd : null })),
     sites: r.sites
-      .filter((s) => ownSiteIds.includes(s.siteId) && !suppressCounts([s.n1, s.n2]).hidden)
+      .filter((s) => ownSiteIds.includes(s.siteId) && siteShown(s))
       .map((s) => ({ siteId: s.siteId, siteName: s.siteName, n1: s.n1, n2: s.n2, mean1: s.mean1, mean2: s.mean2, g: s.g, ci: s.ci })),
-    suppressed: counts.hidden || r.sites.some((s) => ownSiteIds.includes(s.siteId) && suppressCounts([s.n1, s.n2]).hidden),
+    yesNo: r.yesNo
+      ? {
+          yesIsGood: r.yesNo.yesIsGood,
+          arms: r.yesNo.arms.map((a, i) => ({ arm: a.arm, yes: shown ? answers[i].cells[0] : hiddenCount, no: shown ? answers[i].cells[1] : hiddenCount, proportion: shown ? a.proportion : null })),
+        }
+      : null,
+    suppressed: !shown || r.sites.some((s) => ownSiteIds.includes(s.siteId) && !siteShown(s)),
   };
   // The verdict after Benjamini–Hochberg, without the adjusted p (it follows from p).
   return { ...base, results, multiplicity: run.multiplicity ? { rejected: run.multiplicity.rejected } : null };

@@ -21,6 +21,7 @@ interface ComparisonRow {
   measure_name: string;
   measure_kind: 'achievement' | 'behaviour';
   higher_is_better: boolean;
+  measure_scale: 'score' | 'yes-no';
   wave_id: string;
   wave_name: string;
   label: string;
@@ -59,7 +60,7 @@ interface RunRow {
 }
 
 const comparisonSelect = `
-  SELECT k.*, m.name AS measure_name, m.kind AS measure_kind, m.higher_is_better, w.name AS wave_name,
+  SELECT k.*, m.name AS measure_name, m.kind AS measure_kind, m.scale AS measure_scale, m.higher_is_better, w.name AS wave_name,
          w.opens_on::text AS opens_on, w.closes_on::text AS closes_on
     FROM comparisons k JOIN measures m ON m.id = k.measure_id JOIN waves w ON w.id = k.wave_id`;
 
@@ -263,7 +264,7 @@ export async function executeRun(db: DataSource, logger: Logger, runId: string):
           unitOfAssignment: study.unit_of_assignment,
           quasiExperimental: study.quasi_experimental,
           comparison: { unitOfAnalysis: k.unit_of_analysis, primaryTest: k.primary_test, covariate: k.covariate },
-          measure: { id: k.measure_id, name: k.measure_name, kind: k.measure_kind, higherIsBetter: k.higher_is_better },
+          measure: { id: k.measure_id, name: k.measure_name, kind: k.measure_kind, higherIsBetter: k.higher_is_better, scale: k.measure_scale },
           wave: { id: k.wave_id, name: k.wave_name },
         },
         data,

@@ -68,6 +68,7 @@ export interface Headline {
  */
 export function resultHeadline(r: RunResults): Headline {
   const d = decidingTest(r);
+  if (r.yesNo) return yesNoHeadline(r, r.yesNo, d);
   const diff = d.estimate;
   const size = formatNumber(Math.abs(diff), 2);
   const classroomMeans = d.analysis === 'classroom-means';
@@ -129,3 +130,50 @@ export function resultHeadline(r: RunResults): Headline {
   return { finding, favours, verdict, met: d.significant, decidedBy, clustering };
 }
 
+
+/** A proportion as a whole percent: 0.423 → "42 %". */
+export const formatPercent = (fraction: number) => `${formatNumber(fraction * 100, 0)} %`;
+
+/** A difference in proportions in percentage points: 0.0712 → "7.1". */
+const points = (fraction: number) => formatNumber(fraction * 100, 1);
+
+/**
+ * The headline of a yes/no measure: "42 % of intervention students met …, against 35 % of comparison students", the
+ * difference in percentage points with the deciding analysis's interval, and the verdict of that analysis.
+ */
+function yesNoHeadline(r: RunResults, y: NonNullable<RunResults['yesNo']>, d: DecidingTest): Headline {
+  const [i, c] = [y.arms.find((a) => a.arm === 'intervention')!, y.arms.find((a) => a.arm === 'comparison')!];
+  const where = `“${r.measure.name}” at ${r.wave.name}`;
+  const diff = d.estimate;
+  const same = points(Math.abs(diff)) === points(0);
+  const level = confidenceLabel(d.confidence);
+  const ci = d.ci;
+  const interval = !ci
+    ? 'no interval'
+    : d.alternative === 'greater' && ci[1] === null
+      ? `${level} confidence bound: at least ${points(ci[0]!)} points`
+      : d.alternative === 'less' && ci[0] === null
+        ? `${level} confidence bound: at most ${points(ci[1]!)} points`
+        : `${level} confidence interval: ${points(ci[0]!)} to ${points(ci[1]!)} points`;
+  const finding =
+    `${formatPercent(i.proportion)} of intervention students answered yes to ${where}, against ${formatPercent(c.proportion)} of comparison students` +
+    (same ? `: no difference (${interval}).` : `: ${points(Math.abs(diff))} percentage points ${diff > 0 ? 'more' : 'fewer'} (${interval}).`);
+  const favours = same
+    ? null
+    : `“${y.yesIsGood ? 'Yes' : 'No'}” is the good answer on this measure, so the difference favours the ${(diff > 0) === y.yesIsGood ? 'intervention' : 'comparison'} arm.`;
+  const test = `${decidingAnalysisNames[d.analysis]}, ${sidedness[d.alternative] ?? d.alternative}, at alpha ${formatAlpha(r.alpha)}`;
+  const pText = formatPStatement(d.p);
+  const verdict = d.significant
+    ? `This meets the pre-registered test (${test}): ${pText}.`
+    : `This does not meet the pre-registered test (${test}): ${pText}.${ci && ci[0] !== null && ci[1] !== null && ci[0] <= 0 && ci[1] >= 0 ? ' The interval includes no difference at all.' : ''}`;
+  const decidedBy =
+    d.analysis === 'linear-probability'
+      ? `Decided by ${decidingAnalysisNames[d.analysis]} (${pText}), which allows for students being grouped in the classrooms or schools that were assigned.`
+      : `Decided by ${decidingAnalysisNames[d.analysis]} (${pText}).`;
+  let clustering: string | null = null;
+  if (y.designEffect) {
+    const e = y.designEffect;
+    clustering = `Sensitivity check: with the difference’s variance inflated by the design effect ${formatNumber(e.designEffect, 2)} (ICC ${formatNumber(e.icc, 2)}, ${e.iccSource === 'observed' ? 'observed in these data' : 'the standard default for this kind of measure'}), ${formatPStatement(e.p)}.`;
+  }
+  return { finding, favours, verdict, met: d.significant, decidedBy, clustering };
+}

@@ -212,6 +212,11 @@ export const principalRunResultsSchema = z.object({
   arms: z.array(z.object({ arm: armSchema, students: reportedCountSchema, mean: z.number().nullable(), sd: z.number().nullable() })),
   /** The principal's own schools with both arms of at least MIN_REPORTED_STUDENTS students. */
   sites: z.array(z.object({ siteId: idSchema, siteName: z.string(), n1: z.number().int(), n2: z.number().int(), mean1: z.number(), mean2: z.number(), g: z.number(), ci: z.tuple([z.number(), z.number()]) })),
+  /** A yes/no measure's answers per arm: each count suppressed as the students are, the proportion only when every count shows. */
+  yesNo: z
+    .object({ yesIsGood: z.boolean(), arms: z.array(z.object({ arm: armSchema, yes: reportedCountSchema, no: reportedCountSchema, proportion: z.number().nullable() })) })
+    .nullable()
+    .optional(),
   /** Whether anything was withheld because a cell had fewer than MIN_REPORTED_STUDENTS students. */
   suppressed: z.boolean(),
 });

@@ -134,7 +134,7 @@ export type TwoLevelResult = z.infer<typeof twoLevelResultSchema>;
 /** The same regression by least squares with CR2 cluster-robust errors and small-sample df: a sensitivity check. */
 export const clusterRobustResultSchema = estimateWithInterval.extend({ units: unitsPerArm, students: z.number().int() });
 
-export const decidingAnalyses = ['two-level', 'welch', 'student', 'clustering-corrected', 'classroom-means'] as const;
+export const decidingAnalyses = ['two-level', 'welch', 'student', 'clustering-corrected', 'classroom-means', 'difference-in-proportions', 'linear-probability'] as const;
 export type DecidingAnalysis = (typeof decidingAnalyses)[number];
 
 /** How every screen, e-mail and export names the deciding analysis. */
@@ -144,14 +144,50 @@ export const decidingAnalysisNames: Record<DecidingAnalysis, string> = {
   student: 'Student’s pooled t test',
   'clustering-corrected': 'the t test over students with the clustering correction',
   'classroom-means': 'Welch’s t test on classroom averages',
+  'difference-in-proportions': 'the two-proportion z test, with Newcombe’s interval for the difference in proportions',
+  'linear-probability': 'the difference in proportions from a linear probability regression with CR2 cluster-robust errors',
 };
+
+/** One arm of a yes/no comparison: its counts and the proportion answering yes with its Wilson interval. */
+const yesNoArmSchema = z.object({ arm: armSchema, yes: z.number().int(), no: z.number().int(), n: z.number().int(), proportion: z.number(), ci: z.tuple([z.number(), z.number()]) });
+
+/**
+ * A yes/no measure's comparison, from the counts per arm (summed in SQL per classroom). Proportions and differences
+ * are fractions (0.42 = 42 %); the difference is intervention minus comparison.
+ */
+export const yesNoResultSchema = z.object({
+  /** Whether yes is the good answer (the measure's direction). */
+  yesIsGood: z.boolean(),
+  confidence: z.number(),
+  arms: z.array(yesNoArmSchema),
+  /** Newcombe's hybrid score interval (two-sided at `confidence`). */
+  difference: z.object({ estimate: z.number(), ci: z.tuple([z.number(), z.number()]) }),
+  /** Woolf's interval; ½ added to every cell when one is zero. */
+  oddsRatio: z.object({ estimate: z.number(), ci: z.tuple([z.number(), z.number()]), zeroCellAdjusted: z.boolean() }),
+  /** The evidence standard's effect size for yes/no outcomes, without the small-sample factor ω, and the improvement index from it. */
+  coxIndex: z.object({ value: z.number(), se: z.number(), improvementIndex: z.number(), zeroCellAdjusted: z.boolean(), substantivelyImportant: z.boolean() }),
+  /** Pooled two-proportion z test at the plan's sidedness; null when every student gave the same answer. */
+  zTest: z.object({ z: z.number(), p: z.number() }).nullable(),
+  chiSquare: z.object({ statistic: z.number(), p: z.number(), minExpected: z.number() }).nullable(),
+  chiSquareYates: z.object({ statistic: z.number(), p: z.number() }).nullable(),
+  fisher: z.object({ p: z.number() }),
+  /** Cluster-assigned studies: the linear probability regression with CR2 errors (the deciding analysis). */
+  linearProbability: clusterRobustResultSchema.nullable(),
+  /** Cluster-assigned studies: the difference with its variance inflated by the design effect 1 + (m − 1)ρ, a sensitivity check. */
+  designEffect: z
+    .object({ se: z.number(), p: z.number(), ci: z.tuple([z.number(), z.number()]), designEffect: z.number(), icc: z.number(), iccSource: z.enum(['observed', 'default']), averageClusterSize: z.number() })
+    .nullable(),
+});
+export type YesNoResult = z.infer<typeof yesNoResultSchema>;
 
 /** The analysis whose p, interval and verdict every screen, e-mail and export shows. */
 export const decidingSchema = z.object({
   analysis: z.enum(decidingAnalyses),
+  /** In the measure's units; for a yes/no measure the difference in proportions (0.07 = 7 percentage points). */
   estimate: z.number(),
   p: z.number(),
-  df: z.number(),
+  /** Infinite for a z test (stored as null). */
+  df: z.number().nullable(),
   /** Null when the deciding analysis gives no interval (a clustering-corrected p of a run made before it gave one). */
   ci: openInterval.nullable(),
   confidence: z.number(),
@@ -164,7 +200,8 @@ export const runResultsSchema = z
   .object({
     engineVersion: z.string(),
     planVersion: z.number().int().nullable(),
-    measure: z.object({ id: idSchema, name: z.string(), kind: z.string(), higherIsBetter: z.boolean() }),
+    /** `scale` is absent in runs made before yes/no measures (all scores). */
+    measure: z.object({ id: idSchema, name: z.string(), kind: z.string(), higherIsBetter: z.boolean(), scale: z.enum(['score', 'yes-no']).optional() }),
     wave: z.object({ id: idSchema, name: z.string() }),
     alpha: z.number(),
     descriptives: z.array(armDescriptivesSchema),
@@ -173,6 +210,8 @@ export const runResultsSchema = z
     /** Absent in runs made before the engine recorded it; read it through `decidingTest`. */
     deciding: decidingSchema.optional(),
     twoLevel: twoLevelResultSchema.nullable().optional(),
+    /** A yes/no measure's counts, proportions, difference, odds ratio, Cox index and tests; absent for scores. */
+    yesNo: yesNoResultSchema.nullable().optional(),
     effectSize: z.object({
       g: z.number(),
       ci: z.tuple([z.number(), z.number()]),

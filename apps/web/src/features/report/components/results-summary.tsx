@@ -13,6 +13,8 @@ const decidingAnalysisShortNames: Record<DecidingAnalysis, string> = {
   student: 'Student’s pooled t',
   'clustering-corrected': 'Welch’s t, clustering-corrected',
   'classroom-means': 'Classroom averages',
+  'difference-in-proportions': 'Two-proportion z',
+  'linear-probability': 'Linear probability, CR2',
 };
 
 function runStatus({ comparison, run }: ReportedComparison) {
@@ -56,8 +58,9 @@ export function ResultsTable({ items }: { items: ReportedComparison[] }) {
           status: runStatus(item),
           n: students ?? '—',
           analysis: d ? decidingAnalysisShortNames[d.analysis] : '—',
-          difference: d ? `${formatSigned(d.estimate, 2)} ${d.ci ? formatInterval(d.ci, 2) : '(no interval)'}` : '—',
-          g: r ? `${formatNumber(r.effectSize.g, 2)} ${formatInterval(r.effectSize.ci, 2)}` : '—',
+          // A yes/no measure: the difference in percentage points, and the Cox index in place of g.
+          difference: !d ? '—' : r?.yesNo ? `${formatSigned(d.estimate * 100, 1)} points ${d.ci ? formatInterval([d.ci[0] === null ? null : d.ci[0] * 100, d.ci[1] === null ? null : d.ci[1] * 100], 1) : '(no interval)'}` : `${formatSigned(d.estimate, 2)} ${d.ci ? formatInterval(d.ci, 2) : '(no interval)'}`,
+          g: !r ? '—' : r.yesNo ? `Cox index ${formatNumber(r.yesNo.coxIndex.value, 2)}` : `${formatNumber(r.effectSize.g, 2)} ${formatInterval(r.effectSize.ci, 2)}`,
           p: d ? formatP(d.p) : '—',
           bh: item.run?.kind === 'confirmatory' && item.run.multiplicity ? formatP(item.run.multiplicity.adjustedP) : '—',
         };

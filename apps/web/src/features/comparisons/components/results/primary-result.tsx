@@ -2,6 +2,7 @@ import { decidingTest, type Run, type RunResults } from '@evenhand/entities';
 import { Badge } from '@/components/ui/badge';
 import { formatAlpha, formatCount, formatInterval, formatNumber, formatPStatement, formatSigned } from '@/lib/format';
 import { confidenceLabel, iccSourceWords, resultHeadline, testNames } from '@/lib/result-wording';
+import { YesNoFigures } from '@/features/comparisons/components/results/yes-no-result';
 
 /** Hedges' g with its 95% CI and the improvement index: shown beside every p-value of the page. */
 export function EffectSize({ results }: { results: RunResults }) {
@@ -37,33 +38,37 @@ export function PrimaryResult({ results }: { results: RunResults }) {
       <p className="mt-2 max-w-prose font-semibold">{h.verdict}</p>
       {h.clustering && <p className="mt-2 max-w-prose">{h.clustering}</p>}
 
-      <div className="mt-5 grid gap-4 md:grid-cols-2">
-        {results.twoLevel && p.test === 'two-level' ? (
-          <TwoLevelFigures results={results} model={results.twoLevel} />
-        ) : (
+      {results.yesNo ? (
+        <YesNoFigures results={results} />
+      ) : (
+        <div className="mt-5 grid gap-4 md:grid-cols-2">
+          {results.twoLevel && p.test === 'two-level' ? (
+            <TwoLevelFigures results={results} model={results.twoLevel} />
+          ) : (
+            <div className="rounded-md bg-sunken px-4 py-3">
+              <p className="text-sm font-semibold text-ink-muted">{testNames[p.test]}, as registered</p>
+              <p className="mt-1 tabular-nums" data-testid="primary-test">
+                t = {formatNumber(p.t, 2)}, df = {formatNumber(p.df, 1)}, {formatPStatement(p.p)}; difference {formatSigned(p.meanDifference, 2)} (
+                {confidenceLabel(p.confidence)} CI {formatInterval(p.ci, 2)})
+              </p>
+              <p className="mt-1 text-sm text-ink-muted">
+                Alpha {formatAlpha(results.alpha)}, {p.alternative === 'two-sided' ? 'two-sided' : `one-sided (${p.alternative})`}.
+              </p>
+            </div>
+          )}
           <div className="rounded-md bg-sunken px-4 py-3">
-            <p className="text-sm font-semibold text-ink-muted">{testNames[p.test]}, as registered</p>
-            <p className="mt-1 tabular-nums" data-testid="primary-test">
-              t = {formatNumber(p.t, 2)}, df = {formatNumber(p.df, 1)}, {formatPStatement(p.p)}; difference {formatSigned(p.meanDifference, 2)} (
-              {confidenceLabel(p.confidence)} CI {formatInterval(p.ci, 2)})
+            <p className="text-sm font-semibold text-ink-muted">Effect size</p>
+            <p className="mt-1 tabular-nums" data-testid="effect-size">
+              <EffectSize results={results} />
             </p>
             <p className="mt-1 text-sm text-ink-muted">
-              Alpha {formatAlpha(results.alpha)}, {p.alternative === 'two-sided' ? 'two-sided' : `one-sided (${p.alternative})`}.
+              {e.substantivelyImportant
+                ? 'At least 0.25 standard deviations: large enough to count as substantively important, whatever the p-value.'
+                : 'Smaller than 0.25 standard deviations, the usual mark of a substantively important effect.'}
             </p>
           </div>
-        )}
-        <div className="rounded-md bg-sunken px-4 py-3">
-          <p className="text-sm font-semibold text-ink-muted">Effect size</p>
-          <p className="mt-1 tabular-nums" data-testid="effect-size">
-            <EffectSize results={results} />
-          </p>
-          <p className="mt-1 text-sm text-ink-muted">
-            {e.substantivelyImportant
-              ? 'At least 0.25 standard deviations: large enough to count as substantively important, whatever the p-value.'
-              : 'Smaller than 0.25 standard deviations, the usual mark of a substantively important effect.'}
-          </p>
         </div>
-      </div>
+      )}
     </section>
   );
 }

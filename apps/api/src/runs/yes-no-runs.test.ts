@@ -1,0 +1,174 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { decidingTest, type RunResults } from '@evenhand/entities';
+import { chiSquareTest, clusterRobustFromRows, coxIndexFromCounts, fisherExactTest, oddsRatio, proportionDifference, proportionWithInterval, twoProportionZTest } from '@evenhand/stats';
+import { startTestApp, type TestApp } from '../../test/app.js';
+import { createStudy, enrolClassrooms, fillSheet, samplePlan, send } from '../../test/fixtures.js';
+import { principalView } from './principal-view.js';
+import { yesNoAnalysis } from './yes-no.js';
+import type { ClassroomAggregate } from './gather.js';
+import { rowFromCsv } from '../score-sheets/rows.js';
+
+// The statistics are checked against SciPy, statsmodels and R in packages/stats (proportions.test.ts); here a yes/no
+// run must equal the engine's functions on the same counts, and the cluster-assigned one the engine's CR2 on 0/1 rows.
+
+let t: TestApp;
+
+async function waitFor(runId: string, who: { agent: { get: (url: string) => Promise<{ body: { state: string } & Record<string, unknown> }> } }) {
+  for (let i = 0; i < 150; i++) {
+    const res = await who.agent.get(`/api/runs/${runId}`);
+    if (['finished', 'failed'].includes(res.body.state)) return res.body;
+    await new Promise((r) => setTimeout(r, 200));
+  }
+  throw new Error(`run ${runId} did not finish`);
+}
+
+beforeAll(async () => {
+  t = await startTestApp({ workers: true });
+});
+afterAll(() => t.close());
+
+/** A classroom's aggregate as the classroom pass reads it: n, mean and M2 of 0/1 answers. */
+function classroom(id: string, arm: 'intervention' | 'comparison', yes: number, n: number): ClassroomAggregate {
+  const mean = yes / n;
+  return { classroomId: id, siteId: 's', siteName: 'S', arm, allocated: n, n, mean, m2: yes * (1 - mean), fromSummary: false, pairs: null };
+}
+
+describe('yes/no comparisons', () => {
+  it('when students were assigned one by one, then the z test decides with Newcombe’s interval, and every figure equals the engine’s functions on the counts', () => {
+    const classrooms = [classroom('a', 'intervention', 21, 50), classroom('b', 'intervention', 12, 28), classroom('c', 'comparison', 19, 54), classroom('d', 'comparison', 7, 26)];
+    const i = { yes: 33, n: 78 };
+    const c = { yes: 26, n: 80 };
+    const { yesNo, deciding } = yesNoAnalysis(classrooms, { alpha: 0.05, alternative: 'two-sided', yesIsGood: true, measureKind: 'achievement', unitOfAssignment: 'student' });
+    expect(yesNo.arms.map((a) => [a.arm, a.yes, a.no, a.n])).toEqual([['intervention', 33, 45, 78], ['comparison', 26, 54, 80]]);
+    expect(yesNo.arms[0].ci).toEqual(proportionWithInterval(i, { confidence: 0.95 }).ci);
+    const d = proportionDifference(i, c, { confidence: 0.95 });
+    expect(yesNo.difference).toEqual({ estimate: d.difference, ci: d.ci });
+    expect(yesNo.oddsRatio.estimate).toBe(oddsRatio(i, c).oddsRatio);
+    expect(yesNo.coxIndex.value).toBe(coxIndexFromCounts(i, c).coxIndex);
+    expect(yesNo.zTest!.p).toBe(twoProportionZTest(i, c).p);
+    expect(yesNo.chiSquare!.p).toBe(chiSquareTest(i, c, { correction: false }).p);
+    expect(yesNo.chiSquareYates!.p).toBe(chiSquareTest(i, c, { correction: true }).p);
+    expect(yesNo.fisher.p).toBe(fisherExactTest(i, c).p);
+    expect(deciding).toEqual({ analysis: 'difference-in-proportions', estimate: d.difference, p: twoProportionZTest(i, c).p, df: null, ci: d.ci, confidence: 0.95, alternative: 'two-sided', significant: twoProportionZTest(i, c).p < 0.05 });
+  });
+
+  it('when an arm answered all yes, then the counts still give Wilson’s and Fisher’s defined values and the odds use the ½ rule', () => {
+    const classrooms = [classroom('a', 'intervention', 12, 12), classroom('b', 'comparison', 5, 11)];
+    const { yesNo, notes } = yesNoAnalysis(classrooms, { alpha: 0.05, alternative: 'two-sided', yesIsGood: true, measureKind: 'achievement', unitOfAssignment: 'student' });
+    expect(yesNo.arms[0].ci[1]).toBe(1);
+    expect(yesNo.fisher.p).toBe(fisherExactTest({ yes: 12, n: 12 }, { yes: 5, n: 11 }).p);
+    expect(yesNo.coxIndex.zeroCellAdjusted).toBe(true);
+    expect(notes.join(' ')).toMatch(/½ was added/);
+  });
+
+  it('when classrooms were assigned, then a run decides by the linear probability regression with CR2 errors, equal to the engine on the 0/1 rows', async () => {
+    const s = await createStudy(t.app, { seal: false, unitOfAssignment: 'classroom' });
+    const measure = await send(s.lead, 'post', `/api/studies/${s.studyId}/measures`, { name: 'Read at grade level by spring', scale: 'yes-no', higherIsBetter: true, kind: 'achievement' }, 201);
+    expect(measure).toMatchObject({ scale: 'yes-no', minScore: 0, maxScore: 1 });
+    await send(s.lead, 'put', `/api/studies/${s.studyId}/plan`, samplePlan(measure.id, s.outcomeId), 200);
+    await send(s.lead, 'post', `/api/studies/${s.studyId}/plan/seal`, {}, 200);
+    const { classrooms } = await enrolClassrooms(s, 3, 4);
+    await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draws`, { seed: 'yes-no-classrooms', commit: true }, 201);
+    await s.coordinator.agent.get(`/api/studies/${s.studyId}/completion`).expect(200);
+    const arms: { id: string; arm: 'intervention' | 'comparison' }[] = await t.db.query(`SELECT id, arm FROM classrooms WHERE study_id = $1`, [s.studyId]);
+    const rows = { y: [] as number[], arm: [] as number[], cluster: [] as string[], block: [] as string[] };
+    const counts = { intervention: { yes: 0, n: 0 }, comparison: { yes: 0, n: 0 } };
+    let k = 0;
+    for (const c of classrooms) {
+      const arm = arms.find((a) => a.id === c.id)!.arm;
+      const size = 12 + (k % 4);
+      // Classrooms differ in how many meet the cut; the intervention's classrooms a little more often.
+      const answers = Array.from({ length: size }, (_, i) => (((i * 7 + k * 5) % 11) < 4 + (k % 3) + (arm === 'intervention' ? 2 : 0) ? 1 : 0));
+      await fillSheet(t.db, { classroomId: c.id, waveId: s.outcomeId, measureId: measure.id }, answers, `Y${k}`);
+      answers.forEach((y) => {
+        rows.y.push(y);
+        rows.arm.push(arm === 'intervention' ? 1 : 0);
+        rows.cluster.push(c.id);
+        rows.block.push(c.siteId);
+        counts[arm].yes += y;
+        counts[arm].n += 1;
+      });
+      k++;
+    }
+    const [comparison] = (await s.lead.agent.get(`/api/studies/${s.studyId}/comparisons`)).body.items;
+    const queued = await send(s.lead, 'post', `/api/comparisons/${comparison.id}/runs`, { kind: 'confirmatory' }, 202);
+    const run = await waitFor(queued.run.id, s.lead);
+    expect(run.error).toBeNull();
+    const r = run.results as RunResults;
+    expect(r.measure.scale).toBe('yes-no');
+    expect(r.yesNo!.arms.map((a) => ({ yes: a.yes, n: a.n }))).toEqual([counts.intervention, counts.comparison]);
+    const robust = clusterRobustFromRows({ y: rows.y, arm: rows.arm, cluster: rows.cluster, block: rows.block });
+    const lp = r.yesNo!.linearProbability!;
+    expect(lp.estimate).toBeCloseTo(robust.estimate, 10);
+    expect(lp.se).toBeCloseTo(robust.se, 10);
+    expect(lp.df).toBeCloseTo(robust.df, 8);
+    const d = decidingTest(r);
+    expect(d).toMatchObject({ analysis: 'linear-probability', basis: 'primary' });
+    expect(d.estimate).toBeCloseTo(robust.estimate, 10);
+    expect(d.p).toBeCloseTo(robust.p, 10);
+    expect(r.yesNo!.designEffect).not.toBeNull();
+    const diff = proportionDifference(counts.intervention, counts.comparison, { confidence: 0.95 });
+    expect(r.yesNo!.difference.estimate).toBeCloseTo(diff.difference, 14);
+  });
+
+  it('refuses a yes/no measure with a score range, and a yes/no CSV cell that is not an answer', async () => {
+    const s = await createStudy(t.app, { seal: false });
+    const res = await s.lead.agent
+      .post(`/api/studies/${s.studyId}/measures`)
+      .set('x-csrf-token', s.lead.csrf)
+      .send({ name: 'On track', scale: 'yes-no', minScore: 0, maxScore: 5 });
+    expect(res.status).toBe(400);
+    expect(res.body.error.code).toBe('validation_failed');
+    expect(['yes', 'Y', '1', 'TRUE', 'no', 'n', '0', 'false', ''].map((v) => rowFromCsv({ student_code: 'A1', score: v }, 2, 'yes-no').row?.score)).toEqual([1, 1, 1, 1, 0, 0, 0, 0, null]);
+    expect(rowFromCsv({ student_code: 'A1', score: 'maybe' }, 2, 'yes-no').issues[0]).toMatchObject({ column: 'score', message: expect.stringMatching(/yes or no/) });
+  });
+});
+
+describe('a principal’s view of a yes/no run', () => {
+  it('when an arm has fewer than 10 yes answers, then no yes or no count, proportion or estimate is shown from which it could be derived', () => {
+    const yesNo = yesNoAnalysis([classroom('a', 'intervention', 6, 40), classroom('b', 'comparison', 15, 42)], {
+      alpha: 0.05,
+      alternative: 'two-sided',
+      yesIsGood: true,
+      measureKind: 'achievement',
+      unitOfAssignment: 'student',
+    });
+    const run = {
+      id: '33333333-3333-4333-8333-333333333333',
+      comparisonId: '44444444-4444-4444-8444-444444444444',
+      studyId: '55555555-5555-4555-8555-555555555555',
+      kind: 'confirmatory',
+      state: 'locked',
+      planVersion: 1,
+      engineVersion: 'test',
+      lockedAt: '2026-11-02T09:00:00.000Z',
+      multiplicity: null,
+      results: {
+        measure: { id: '66666666-6666-4666-8666-666666666666', name: 'Read at grade level by spring', kind: 'achievement', higherIsBetter: true, scale: 'yes-no' },
+        wave: { id: '77777777-7777-4777-8777-777777777777', name: 'Spring' },
+        alpha: 0.05,
+        descriptives: [
+          { arm: 'intervention', classrooms: 1, students: 40, mean: 6 / 40, sd: 0.36, se: 0.06, quantiles: null },
+          { arm: 'comparison', classrooms: 1, students: 42, mean: 15 / 42, sd: 0.48, se: 0.07, quantiles: null },
+        ],
+        primary: { test: 'welch', t: -2, df: 78, p: 0.04, meanDifference: 6 / 40 - 15 / 42, se: 0.1, ci: [-0.4, -0.01], confidence: 0.95, alternative: 'two-sided', significant: true },
+        deciding: yesNo.deciding,
+        yesNo: yesNo.yesNo,
+        effectSize: { g: -0.5, ci: [-0.9, -0.1], se: 0.2, improvementIndex: -19, substantivelyImportant: true },
+        clustering: null,
+        sites: [{ siteId: 's', siteName: 'S', n1: 40, n2: 42, mean1: 6 / 40, mean2: 15 / 42, g: -0.5, se: 0.2, ci: [-0.9, -0.1], weight: 1 }],
+      },
+    } as unknown as Parameters<typeof principalView>[0];
+    const view = principalView(run, ['s']);
+    const r = view.results!;
+    expect(r.yesNo!.arms.every((a) => a.yes.suppressed && a.no.suppressed && a.proportion === null)).toBe(true);
+    expect(r.arms.every((a) => a.mean === null)).toBe(true);
+    expect(r.deciding).toMatchObject({ estimate: null, ci: null, p: null });
+    expect(r.sites).toEqual([]);
+    expect(r.suppressed).toBe(true);
+    // Nothing left in the view equals a hidden count (6 yes), its complement (34 no) or the proportions.
+    const shown = JSON.stringify(view);
+    for (const hidden of [6 / 40, 15 / 42, 34 / 40]) expect(shown).not.toContain(String(hidden));
+    expect(JSON.stringify(r.yesNo)).not.toMatch(/\b(6|34|15|27)\b/);
+  });
+});

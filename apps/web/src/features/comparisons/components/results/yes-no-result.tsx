@@ -1,0 +1,80 @@
+import type { RunResults } from '@evenhand/entities';
+import { FigureTable } from '@/components/ui/figure-table';
+import { formatCount, formatInterval, formatNumber, formatPStatement, formatSigned } from '@/lib/format';
+import { confidenceLabel, formatPercent } from '@/lib/result-wording';
+
+const percentInterval = (ci: readonly [number | null, number | null]) => formatInterval([ci[0] === null ? null : ci[0] * 100, ci[1] === null ? null : ci[1] * 100], 1);
+const armNames = { intervention: 'Intervention', comparison: 'Comparison' } as const;
+
+/**
+ * A yes/no measure's figures: each arm's counts and percentage answering yes (Wilson interval), the difference in
+ * percentage points (Newcombe), the odds ratio, the Cox index with the improvement index, and the tests of the table;
+ * in a cluster-assigned study the cluster-robust regression and the design-effect check.
+ */
+export function YesNoFigures({ results }: { results: RunResults }) {
+  const y = results.yesNo;
+  if (!y) return null;
+  const level = confidenceLabel(y.confidence);
+  const lp = y.linearProbability;
+  return (
+    <div className="mt-5 space-y-4" data-testid="yes-no-figures">
+      <FigureTable
+        caption="Answers by arm"
+        columns={[
+          { key: 'arm', header: 'Arm' },
+          { key: 'yes', header: 'Yes', numeric: true },
+          { key: 'no', header: 'No', numeric: true },
+          { key: 'n', header: 'Students', numeric: true },
+          { key: 'percent', header: `Yes (${level} CI, Wilson)`, numeric: true },
+        ]}
+        rows={y.arms.map((a) => ({
+          id: a.arm,
+          arm: armNames[a.arm],
+          yes: formatCount(a.yes),
+          no: formatCount(a.no),
+          n: formatCount(a.n),
+          percent: `${formatPercent(a.proportion)} ${percentInterval(a.ci)}`,
+        }))}
+      />
+      <div className="grid gap-4 md:grid-cols-2">
+        <div className="rounded-md bg-sunken px-4 py-3">
+          <p className="text-sm font-semibold text-ink-muted">Difference and odds</p>
+          <p className="mt-1 tabular-nums" data-testid="yes-no-difference">
+            Difference {formatSigned(y.difference.estimate * 100, 1)} percentage points ({level} CI {percentInterval(y.difference.ci)}, Newcombe); odds ratio{' '}
+            {formatNumber(y.oddsRatio.estimate, 2)} ({level} CI {formatInterval(y.oddsRatio.ci, 2)})
+          </p>
+          {lp && (
+            <p className="mt-1 tabular-nums" data-testid="primary-test">
+              Linear probability regression with CR2 errors: {formatSigned(lp.estimate * 100, 1)} points ({confidenceLabel(lp.confidence)} CI {percentInterval(lp.ci)}); t ={' '}
+              {formatNumber(lp.t, 2)}, df = {formatNumber(lp.df, 1)} (Satterthwaite), {formatPStatement(lp.p)}; {formatCount(lp.units.intervention)} intervention and{' '}
+              {formatCount(lp.units.comparison)} comparison units
+            </p>
+          )}
+          {y.designEffect && (
+            <p className="mt-1 text-sm text-ink-muted">
+              Design-effect check: SE inflated by √{formatNumber(y.designEffect.designEffect, 2)} (ICC {formatNumber(y.designEffect.icc, 2)}), {formatPStatement(y.designEffect.p)},{' '}
+              interval {percentInterval(y.designEffect.ci)} points.
+            </p>
+          )}
+        </div>
+        <div className="rounded-md bg-sunken px-4 py-3">
+          <p className="text-sm font-semibold text-ink-muted">Effect size and tests</p>
+          <p className="mt-1 tabular-nums" data-testid="effect-size">
+            Cox index = {formatNumber(y.coxIndex.value, 2)}; improvement index {formatSigned(y.coxIndex.improvementIndex, 1)} percentile points
+          </p>
+          <p className="mt-1 text-sm tabular-nums text-ink-muted">
+            {y.zTest ? `Two-proportion z = ${formatNumber(y.zTest.z, 2)}, ${formatPStatement(y.zTest.p)}; ` : ''}
+            {y.chiSquare ? `χ² = ${formatNumber(y.chiSquare.statistic, 2)}, ${formatPStatement(y.chiSquare.p)}; ` : ''}
+            {y.chiSquareYates ? `with Yates’s correction ${formatPStatement(y.chiSquareYates.p)}; ` : ''}
+            Fisher’s exact test {formatPStatement(y.fisher.p)}.
+          </p>
+          <p className="mt-1 text-sm text-ink-muted">
+            {y.coxIndex.substantivelyImportant
+              ? 'The Cox index is at least 0.25: large enough to count as substantively important, whatever the p-value.'
+              : 'The Cox index is smaller than 0.25, the usual mark of a substantively important effect.'}
+          </p>
+        </div>
+      </div>
+    </div>
+  );
+}
