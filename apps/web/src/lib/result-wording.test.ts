@@ -1,4 +1,5 @@
 import { describe, expect, it } from 'vitest';
+import { proportionDifference, twoProportionZTest } from '@evenhand/stats';
 import { resultHeadline } from '@/lib/result-wording';
 import { demoResults } from '@/test-fixtures/run-results';
 
@@ -72,5 +73,55 @@ describe('resultHeadline', () => {
     const h = resultHeadline(r);
     expect(h.met).toBe(false);
     expect(h.verdict).toContain('The data do not show the intervention arm scoring lower.');
+  });
+});
+
+describe('resultHeadline of a yes/no measure', () => {
+  /** 84 of 200 intervention students and 70 of 200 comparison students answered yes. */
+  function yesNoResults() {
+    const r = demoResults();
+    const [i, c] = [{ yes: 84, n: 200 }, { yes: 70, n: 200 }];
+    const d = proportionDifference(i, c, { confidence: 0.95 });
+    const z = twoProportionZTest(i, c);
+    r.measure = { ...r.measure, name: 'Read at grade level by spring', scale: 'yes-no' };
+    r.deciding = { analysis: 'difference-in-proportions', estimate: d.difference, p: z.p, df: null, ci: d.ci, confidence: 0.95, alternative: 'two-sided', significant: false };
+    r.yesNo = {
+      yesIsGood: true,
+      confidence: 0.95,
+      arms: [
+        { arm: 'intervention', yes: 84, no: 116, n: 200, proportion: 0.42, ci: [0.35, 0.49] },
+        { arm: 'comparison', yes: 70, no: 130, n: 200, proportion: 0.35, ci: [0.29, 0.42] },
+      ],
+      difference: { estimate: d.difference, ci: d.ci },
+      oddsRatio: { estimate: 1.34, ci: [0.9, 2.0], zeroCellAdjusted: false },
+      coxIndex: { value: 0.18, se: 0.12, improvementIndex: 7.1, zeroCellAdjusted: false, substantivelyImportant: false },
+      zTest: { z: z.z, p: z.p },
+      chiSquare: null,
+      chiSquareYates: null,
+      fisher: { p: 0.18 },
+      linearProbability: null,
+      designEffect: null,
+    };
+    return r;
+  }
+
+  it('says what share of each arm answered yes and the difference in percentage points with Newcombe’s interval', () => {
+    // Newcombe's interval −0.0252 to 0.1634 and z p = .150: statsmodels 0.13 confint_proportions_2indep(84, 200, 70, 200,
+    // method='newcomb') and proportions_ztest([84, 70], [200, 200]), run on Debian's python3-statsmodels.
+    const h = resultHeadline(yesNoResults());
+    expect(h.finding).toBe(
+      '42 % of intervention students answered yes to “Read at grade level by spring” at Spring 2026, against 35 % of comparison students: 7.0 percentage points more (95% confidence interval: −2.5 to 16.3 points).',
+    );
+    expect(h.favours).toBe('“Yes” is the good answer on this measure, so the difference favours the intervention arm.');
+    expect(h.met).toBe(false);
+    expect(h.verdict).toBe(
+      'This does not meet the pre-registered test (the two-proportion z test, with Newcombe’s interval for the difference in proportions, two-sided, at alpha .05): p = .150. The interval includes no difference at all.',
+    );
+  });
+
+  it('when “no” is the good answer, then more yes answers favour the comparison arm', () => {
+    const r = yesNoResults();
+    r.yesNo!.yesIsGood = false;
+    expect(resultHeadline(r).favours).toBe('“No” is the good answer on this measure, so the difference favours the comparison arm.');
   });
 });

@@ -14,6 +14,17 @@ import {
 const range = { minScore: 0, maxScore: 250 };
 const row = (studentCode: string, score: string, extra: Partial<GridRow> = {}): GridRow => ({ ...blankRow(), studentCode, score, ...extra });
 
+describe('a yes/no measure’s grid', () => {
+  const yesNo = { minScore: 0, maxScore: 1, scale: 'yes-no' as const };
+  it('reads pasted yes/no, y/n, 1/0 and true/false as 1 and 0, and flags anything else with the answers it takes', () => {
+    const pasted = pasteBlock([blankRow()], 0, 0, 'A1\tYes\nA2\tn\nA3\t1\nA4\tfalse\nA5\tmaybe\n').rows;
+    expect(toScoreRows(pasted, 'yes-no').rows.map((r) => r.score)).toEqual([1, 0, 1, 0, Number.NaN]);
+    const issues = checkGrid(pasted, yesNo);
+    expect([...issues.values()]).toEqual([{ score: 'Answer yes or no (y/n, yes/no, 1/0 or true/false)' }]);
+    expect(issues.has(pasted[4].id)).toBe(true);
+  });
+});
+
 describe('parseScore', () => {
   it('reads numbers, a decimal comma and nothing; anything else is not a number', () => {
     expect(parseScore('81.5')).toBe(81.5);

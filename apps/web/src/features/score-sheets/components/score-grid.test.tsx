@@ -5,14 +5,14 @@ import { describe, expect, it, vi } from 'vitest';
 import { ScoreGrid, type RowsUpdate } from '@/features/score-sheets/components/score-grid';
 import { blankRow, type GridRow } from '@/features/score-sheets/grid-model';
 
-function Harness({ initial, onPasted }: { initial: GridRow[]; onPasted?: (n: number) => void }) {
+function Harness({ initial, onPasted, scale = 'score' }: { initial: GridRow[]; onPasted?: (n: number) => void; scale?: 'score' | 'yes-no' }) {
   const [rows, setRows] = useState(initial);
   return (
     <ScoreGrid
       label="Scores"
       rows={rows}
       issues={new Map()}
-      range={{ minScore: 0, maxScore: 250 }}
+      range={scale === 'yes-no' ? { minScore: 0, maxScore: 1, scale } : { minScore: 0, maxScore: 250 }}
       onRowsChange={(update: RowsUpdate) => setRows(update)}
       onPasted={onPasted}
     />
@@ -22,6 +22,15 @@ function Harness({ initial, onPasted }: { initial: GridRow[]; onPasted?: (n: num
 const cell = (column: string, row: number) => screen.getByRole('textbox', { name: `${column}, row ${row}` });
 
 describe('ScoreGrid', () => {
+  it('when the measure is yes/no, then y and n fill the answer and move down, so a class is entered in one pass', async () => {
+    const user = userEvent.setup();
+    render(<Harness initial={[blankRow(), blankRow(), blankRow()]} scale="yes-no" />);
+    await user.click(cell('Score', 1));
+    await user.keyboard('ynY');
+    expect([1, 2, 3].map((row) => (cell('Score', row) as HTMLInputElement).value)).toEqual(['yes', 'no', 'yes']);
+    expect(cell('Score', 3)).toHaveFocus();
+  });
+
   it('fills student codes and scores from a two-column block pasted from a spreadsheet, adding the rows it needs', async () => {
     const user = userEvent.setup();
     const onPasted = vi.fn();

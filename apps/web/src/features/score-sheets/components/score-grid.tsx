@@ -163,7 +163,7 @@ export function ScoreGrid({ label, rows, issues, onRowsChange, onActiveRowChange
     }
     // A yes/no answer is one key: y or n fills the cell and moves down, so a class is entered in one pass.
     const answer = event.key.toLowerCase();
-    if (range.scale === 'yes-no' && cell.column === 1 && (answer === 'y' || answer === 'n') && !event.shiftKey) {
+    if (range.scale === 'yes-no' && cell.column === 1 && (answer === 'y' || answer === 'n')) {
       event.preventDefault();
       tabStart.current = null;
       onCellChange(rows[cell.row].id, 'score', answer === 'y' ? 'yes' : 'no');
