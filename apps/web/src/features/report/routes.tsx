@@ -1,4 +1,4 @@
-import type { MeasureChecks, PlanVersion } from '@evenhand/entities';
+import type { MeasureChecks, PlanVersion, RunResults } from '@evenhand/entities';
 import { useSuspenseQuery, type QueryClient } from '@tanstack/react-query';
 import type { ReactNode } from 'react';
 import { Link, type LoaderFunctionArgs } from 'react-router-dom';
@@ -153,6 +153,19 @@ function Registration({ versions, refs }: { versions: PlanVersion[]; refs: Study
   );
 }
 
+/** Locking does not wait for sheets that are not accepted: the report says how many classrooms that left out. */
+function OpenSheetsNote({ flow, locked }: { flow: RunResults['flow']; locked: boolean }) {
+  const allocated = flow.reduce((t, a) => t + a.classroomsAllocated, 0);
+  const left = allocated - flow.reduce((t, a) => t + a.classroomsAnalysed, 0);
+  if (left === 0) return null;
+  return (
+    <p className="max-w-prose" data-testid="open-sheets-note">
+      {locked ? 'The result was locked while' : 'When this run was made,'} {left} of {allocated} classrooms had no accepted outcome sheet (not
+      entered, returned for corrections or awaiting review). Evenhand lets a result be locked without them; they are counted as not analysed.
+    </p>
+  );
+}
+
 function primaryOf(report: StudyReport) {
   return report.comparisons.find((c) => c.comparison.isPrimary) ?? report.comparisons.find((c) => c.comparison.prespecified) ?? null;
 }
@@ -239,11 +252,14 @@ export function StudyReportPage() {
         <>
           <ReportSection id="report-flow" title="Participant flow">
             {primaryResults && primary?.run ? (
-              <FlowDiagram
-                study={study}
-                flow={primaryResults.flow}
-                source={`From the ${primary.run.state === 'locked' ? 'locked' : 'latest finished'} run of ${primary.comparison.label}.`}
-              />
+              <>
+                <FlowDiagram
+                  study={study}
+                  flow={primaryResults.flow}
+                  source={`From the ${primary.run.state === 'locked' ? 'locked' : 'latest finished'} run of ${primary.comparison.label}.`}
+                />
+                <OpenSheetsNote flow={primaryResults.flow} locked={primary.run.state === 'locked'} />
+              </>
             ) : (
               <p className="text-ink-muted">The flow is drawn from the primary comparison’s result, which has no finished run yet.</p>
             )}

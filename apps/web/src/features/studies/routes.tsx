@@ -174,11 +174,12 @@ export function StudyLayout() {
     <>
       <title>{`${tab ? `${tab.label} · ` : ''}${study.title} · Evenhand`}</title>
       <div className="mb-6">
-        <p className="text-sm font-semibold text-ink-muted">
+        {/* On paper the study's title stays; the way back and the state pills are for the screen. */}
+        <p className="text-sm font-semibold text-ink-muted print:hidden" data-testid="breadcrumb">
           <NavLink to="/studies">Studies</NavLink>
         </p>
         <h1 className="mt-1 text-3xl font-semibold tracking-tight">{study.title}</h1>
-        <div className="mt-3 flex flex-wrap items-center gap-2">
+        <div className="mt-3 flex flex-wrap items-center gap-2 print:hidden" data-testid="study-state">
           <StudyBadges study={study} />
           <span className="text-sm text-ink-muted">
             Assigns {unitLabels[study.unitOfAssignment].plural} to the intervention or the comparison

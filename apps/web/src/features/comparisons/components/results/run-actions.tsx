@@ -24,6 +24,10 @@ export function RunActions({ run, comparison, canLock, canDownloadBundle, onLock
   const lockedElsewhere = comparison?.lockedRunId && comparison.lockedRunId !== run.id ? comparison.lockedRunId : null;
   const lockable = canLock && run.kind === 'confirmatory' && run.state === 'finished' && !lockedElsewhere;
   const hasBundle = run.state === 'finished' || run.state === 'locked';
+  // A run reads accepted sheets only; locking does not wait for the rest, so the dialog says how many are left out.
+  const flow = run.results?.flow ?? [];
+  const allocated = flow.reduce((t, a) => t + a.classroomsAllocated, 0);
+  const withoutOutcome = allocated - flow.reduce((t, a) => t + a.classroomsAnalysed, 0);
 
   const lock = async () => {
     setLocking(true);
@@ -78,6 +82,12 @@ export function RunActions({ run, comparison, canLock, canDownloadBundle, onLock
             <li>Principals’ digests and school pages report locked results only, in plain language.</li>
             <li>A later re-analysis is a new run with a written reason, and it can never be locked.</li>
           </ul>
+          {withoutOutcome > 0 && (
+            <Alert tone="info" title="Sheets still open">
+              {withoutOutcome} of {allocated} classrooms have no accepted outcome sheet in this run (not entered, returned for corrections or
+              awaiting review). Locking does not wait for them: they stay out of this result, and the report counts them as not analysed.
+            </Alert>
+          )}
           {lockError && <Alert tone="error">{lockError}</Alert>}
           <div className="flex flex-wrap gap-3">
             <Button onClick={lock} busy={locking}>
