@@ -1,5 +1,5 @@
 import type { MeasureKind, PlanContentInput, UnitOfAssignment } from '@evenhand/entities';
-import { DEFAULT_ICC_ACHIEVEMENT, DEFAULT_ICC_BEHAVIOR, mdes, power, type Design } from '@evenhand/stats';
+import { DEFAULT_ICC_ACHIEVEMENT, DEFAULT_ICC_BEHAVIOR, mdes, power, proportionMdes, type Design, type ProportionMdesResult } from '@evenhand/stats';
 
 /** What the planning panel reads from the plan form, as typed so far (numbers may be NaN or missing). */
 export type PlanningValues = Pick<
@@ -37,6 +37,18 @@ export interface PlanningContext {
   unit: UnitOfAssignment;
   /** The primary measure's kind, which sets the standard default ICC; null before one is chosen. */
   measureKind: MeasureKind | null;
+  /** The primary measure is yes/no: the panel also says what difference in proportions the plan can detect. */
+  yesNo?: boolean;
+}
+
+/**
+ * For a yes/no primary measure: the smallest difference in proportions the planned design detects at 80% power, given
+ * the share expected to answer yes in the comparison arm (`proportionMdes`: the MDES times √(p(1 − p))); null when the
+ * share is not strictly between 0 and 1.
+ */
+export function proportionPlanning(design: Design, comparisonProportion: number): ProportionMdesResult | null {
+  if (!(comparisonProportion > 0 && comparisonProportion < 1)) return null;
+  return proportionMdes({ ...design, power: POWER, comparisonProportion });
 }
 
 export interface IccChoice {

@@ -178,7 +178,7 @@ function PlanWithPanel({ plan, refs, unit, children }: { plan: PlanContent; refs
         {children}
         <PlanSummary plan={plan} {...refs} />
       </div>
-      <PlanningPanel values={plan} context={{ unit, measureKind: measure?.kind ?? null }} />
+      <PlanningPanel values={plan} context={{ unit, measureKind: measure?.kind ?? null, yesNo: measure?.scale === 'yes-no' }} />
     </div>
   );
 }

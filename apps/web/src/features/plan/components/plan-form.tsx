@@ -317,7 +317,7 @@ function LivePlanningPanel({ unit, measures }: { unit: UnitOfAssignment; measure
   const watched = useWatch({ control, name: [...planningFields, 'primaryMeasureId'] });
   const values = Object.fromEntries(planningFields.map((f, i) => [f, watched[i]])) as PlanningValues;
   const measure = measures.find((m) => m.id === watched[planningFields.length]);
-  return <PlanningPanel values={values} context={{ unit, measureKind: measure?.kind ?? null }} />;
+  return <PlanningPanel values={values} context={{ unit, measureKind: measure?.kind ?? null, yesNo: measure?.scale === 'yes-no' }} />;
 }
 
 interface PlanFormProps extends RefsProps {

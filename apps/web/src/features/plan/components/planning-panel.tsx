@@ -2,7 +2,8 @@ import * as Plot from '@observablehq/plot';
 import { useCallback, useMemo, useState } from 'react';
 import { Chart, chartColors } from '@/components/ui/chart';
 import { FigureTable } from '@/components/ui/figure-table';
-import { curveUnit, planningFields, planningFigures, type CurvePoint, type PlanningContext, type PlanningValues } from '@/features/plan/planning';
+import type { Design } from '@evenhand/stats';
+import { curveUnit, planningFields, planningFigures, proportionPlanning, type CurvePoint, type PlanningContext, type PlanningValues } from '@/features/plan/planning';
 
 const sd = (v: number) => v.toFixed(2);
 const percent = (v: number) => `${Math.round(v * 100)}%`;
@@ -88,6 +89,7 @@ export function PlanningPanel({ values, context }: PlanningPanelProps) {
           </dl>
         )}
       </div>
+      {figures.ok && context.yesNo && <YesNoPlanning design={figures.design} />}
       {figures.ok && (
         <>
           <p className="mt-3 text-sm">
@@ -126,5 +128,35 @@ export function PlanningPanel({ values, context }: PlanningPanelProps) {
         </>
       )}
     </section>
+  );
+}
+
+/** A yes/no primary measure: the detectable difference in percentage points for the share expected in the comparison arm. */
+function YesNoPlanning({ design }: { design: Design }) {
+  const [expected, setExpected] = useState('50');
+  const share = Number(expected) / 100;
+  const r = proportionPlanning(design, share);
+  return (
+    <div className="mt-3 rounded-md bg-sunken px-4 py-3" data-testid="planning-yes-no">
+      <label className="text-sm font-semibold" htmlFor="expected-yes">
+        Share of comparison students expected to answer yes (%)
+      </label>
+      <input
+        id="expected-yes"
+        type="number"
+        min={1}
+        max={99}
+        value={expected}
+        onChange={(e) => setExpected(e.target.value)}
+        className="ml-2 w-20 rounded border border-line px-2 py-1"
+      />
+      <p className="mt-2 text-sm">
+        {r
+          ? `At 80% power the plan detects a difference of ${(r.detectableDifference * 100).toFixed(1)} percentage points: from ${Math.round(share * 100)} % to ${
+              r.detectableProportionAbove === null ? 'more than 100 %' : `${Math.round(r.detectableProportionAbove * 100)} %`
+            } answering yes (or down to ${r.detectableProportionBelow === null ? 'below 0 %' : `${Math.round(r.detectableProportionBelow * 100)} %`}).`
+          : 'Enter a share between 1 and 99 %.'}
+      </p>
+    </div>
   );
 }
