@@ -51,6 +51,18 @@ function armSummary(classrooms: ClassroomAggregate[], arm: Arm): Summary | null 
 
 const armLabel: Record<Arm, string> = { intervention: 'intervention', comparison: 'comparison' };
 
+const CLASSROOM_MEANS_EQUAL = 'every classroom in each arm has the same mean score, so the classroom means do not vary and their t statistic is undefined';
+
+/** Welch's t on the classroom means, or null with the reason in `notComputed` when the means do not vary within either arm. */
+function classroomMeansTest(intervention: number[], comparison: number[], opts: { alternative: PlanContent['alternative']; confidence: number }, notComputed: { check: string; why: string }[]) {
+  const varies = (xs: number[]) => xs.some((x) => x !== xs[0]);
+  if (!varies(intervention) && !varies(comparison)) {
+    notComputed.push({ check: 'classroom means', why: `Not computed: ${CLASSROOM_MEANS_EQUAL}.` });
+    return null;
+  }
+  return welchT(intervention, comparison, opts);
+}
+
 /**
  * Computes a comparison from what `gather` read: the pre-registered primary test first, then effect size,
  * clustering correction, sensitivity checks, diagnostics, per-site estimates and their pooled estimate.
@@ -78,10 +90,12 @@ export function analyse(ctx: AnalysisContext, data: Gathered): RunResults {
 
   const perClass = (arm: Arm) => data.classrooms.filter((c) => c.arm === arm && c.n > 0);
   const meansOf = (arm: Arm) => perClass(arm).map((c) => c.mean as number);
-  const classroomMeans = meansOf('intervention').length >= 2 && meansOf('comparison').length >= 2 ? welchT(meansOf('intervention'), meansOf('comparison'), ci95) : null;
+  // A sensitivity check that cannot be computed says so, and why; the run goes on.
+  const notComputed: { check: string; why: string }[] = [];
+  const enoughClassrooms = meansOf('intervention').length >= 2 && meansOf('comparison').length >= 2;
+  const classroomMeans = enoughClassrooms ? classroomMeansTest(meansOf('intervention'), meansOf('comparison'), ci95, notComputed) : null;
 
   // The analyses that match a cluster-assigned design: the two-level model and, as a sensitivity check, CR2 errors.
-  const notComputed: { check: string; why: string }[] = [];
   let assigned: AssignedUnits | null = null;
   let model: RunResults['twoLevel'] = null;
   let modelEffect: ModelEffect | null = null;
@@ -114,7 +128,8 @@ export function analyse(ctx: AnalysisContext, data: Gathered): RunResults {
   } else if (ctx.comparison.unitOfAnalysis === 'student') {
     primaryBase = (ctx.comparison.primaryTest === 'student' ? studentTFromSummary : welchTFromSummary)(toGroup(a), toGroup(b), opts);
   } else {
-    if (!classroomMeans) throw new AnalysisError('A classroom-level analysis needs at least 2 classrooms with scores in each arm');
+    if (!enoughClassrooms) throw new AnalysisError('A classroom-level analysis needs at least 2 classrooms with scores in each arm');
+    if (!classroomMeans) throw new AnalysisError(`A classroom-level analysis is undefined here: ${CLASSROOM_MEANS_EQUAL}`);
     primaryBase = welchT(meansOf('intervention'), meansOf('comparison'), opts);
   }
   const primary = { ...primaryBase, test: ctx.comparison.primaryTest, significant: primaryBase.p < plan.alpha };

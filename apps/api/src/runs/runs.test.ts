@@ -297,6 +297,30 @@ describe('comparison runs', () => {
     expect(run.error).toMatch(/arm has fewer than 2 students/);
   });
 
+  it('finishes a run whose classroom means are identical within each arm; the classroom-means check says it could not be computed and why', async () => {
+    const other = await createStudy(t.app);
+    await enrolClassrooms(other, 1, 4);
+    await send(other.coordinator, 'post', `/api/studies/${other.studyId}/draws`, { seed: 'equal-means', commit: true }, 201);
+    await other.coordinator.agent.get(`/api/studies/${other.studyId}/completion`).expect(200);
+    const rooms: { id: string; arm: string }[] = await t.db.query(`SELECT id, arm FROM classrooms WHERE study_id = $1 ORDER BY arm, id`, [other.studyId]);
+    const raw: Record<string, number[]> = { intervention: [], comparison: [] };
+    for (const [k, c] of rooms.entries()) {
+      // Same scores in every classroom of an arm, in a different order: the classroom means cannot vary within an arm.
+      const base = c.arm === 'intervention' ? [48, 52, 61, 39] : [44, 50, 57, 37];
+      const scores = k % 2 ? [...base].reverse() : base;
+      raw[c.arm].push(...scores);
+      await fill(c.id, other.outcomeId, other.measureId, scores, `E${k}`);
+    }
+    const [k] = (await other.lead.agent.get(`/api/studies/${other.studyId}/comparisons`)).body.items;
+    const queued = await send(other.lead, 'post', `/api/comparisons/${k.id}/runs`, { kind: 'confirmatory' }, 202);
+    const run = await waitFor(queued.run.id, other.lead);
+    expect(run).toMatchObject({ state: 'finished', error: null });
+    expect(run.results.sensitivity.classroomMeans).toBeNull();
+    expect(run.results.sensitivity.notComputed).toContainEqual({ check: 'classroom means', why: expect.stringMatching(/same mean score, so the classroom means do not vary/) });
+    // The student-level Welch test is unaffected (the engine is checked against SciPy in packages/stats).
+    expect(run.results.sensitivity.welch.t).toBeCloseTo(welchT(raw.intervention, raw.comparison).t, 9);
+  });
+
   it('puts a summary-only classroom in the bundle and the data hash, and the bundle alone recomputes the primary result', async () => {
     const other = await createStudy(t.app);
     await enrolClassrooms(other, 2, 2);
