@@ -4,6 +4,7 @@ import { expect } from 'vitest';
 import type { SignedIn } from './app.js';
 import { signIn } from './app.js';
 import { uniqueAddress } from './mail.js';
+import { acceptOpenInvitations } from '../src/users/role-invitations.js';
 
 /** Sends a state-changing request with the session's CSRF header and checks the status. */
 export async function send(s: SignedIn, method: 'post' | 'put' | 'patch', url: string, body: object, status: number) {
@@ -51,7 +52,7 @@ export async function createStudy(app: Express, { seal = true, unitOfAssignment 
 }
 
 /** Enrols `sites` new schools with `perSite` classrooms each, all in one cohort; teachers are new unless named. */
-export async function enrolClassrooms(s: StudySetup, sites: number, perSite: number, teacherEmails: string[] = []) {
+export async function enrolClassrooms(s: StudySetup, sites: number, perSite: number, teacherEmails: string[] = [], db?: DataSource) {
   const cohort = await send(s.coordinator, 'post', `/api/studies/${s.studyId}/cohorts`, { name: 'Grade 4, 2026–27' }, 201);
   const classrooms: { id: string; siteId: string; teacherEmail: string }[] = [];
   for (let i = 0; i < sites; i++) {
@@ -71,7 +72,17 @@ export async function enrolClassrooms(s: StudySetup, sites: number, perSite: num
     }
   }
   expect(classrooms).toHaveLength(sites * perSite);
+  // Existing accounts named as teachers are offered the role; with `db`, each accepts, as by the e-mailed link.
+  if (db) await acceptRoleInvitations(db);
   return { cohortId: cohort.id, classrooms };
+}
+
+/** Accepts every open role invitation as its invitee would (tests in which the named people then act). */
+export async function acceptRoleInvitations(db: DataSource) {
+  const open: { user_id: string }[] = await db.query(`SELECT DISTINCT user_id FROM role_invitations WHERE state = 'pending'`);
+  await db.transaction(async (manager) => {
+    for (const { user_id } of open) await acceptOpenInvitations(manager, user_id);
+  });
 }
 
 /** Writes scores straight into a classroom's sheet (whatever its wave's dates) and moves the sheet to `state`. */

@@ -13,6 +13,7 @@ const expectedAccess: Record<string, 'anyone' | 'signed-in' | Role[]> = {
   'POST /api/auth/login': 'anyone',
   'GET /api/auth/sign-in-options': 'anyone',
   'POST /api/auth/logout': 'signed-in',
+  'POST /api/role-invitations/accept': 'signed-in',
   'GET /api/auth/me': 'signed-in',
   'POST /api/auth/password-reset': 'anyone',
   'POST /api/auth/password-reset/confirm': 'anyone',

@@ -2,7 +2,7 @@ import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { signIn, startTestApp, type TestApp } from '../../test/app.js';
 import { createStudy, enrolClassrooms, send, type StudySetup } from '../../test/fixtures.js';
-import { linkToken, uniqueAddress, waitForMail } from '../../test/mail.js';
+import { linkToken, mailTo, uniqueAddress, waitForMail, type CaughtMail } from '../../test/mail.js';
 
 let t: TestApp;
 let s: StudySetup;
@@ -149,5 +149,66 @@ describe('classrooms', () => {
       .attach('file', Buffer.alloc(1024 * 1024 + 10, 'a'), 'big.csv');
     expect(res.status).toBe(413);
     expect(res.body.error.message).toMatch(/larger than the 1 MB limit/);
+  });
+});
+
+describe('naming people for school roles', () => {
+  const acceptLink = (text: string) => decodeURIComponent(text.match(/invitations\/accept\?token=([A-Za-z0-9_%-]+)/)![1]);
+  let siteId: string;
+  let siteName: string;
+  let cohortId: string;
+  beforeAll(async () => {
+    const code = `N${Math.random().toString(36).slice(2, 7).toUpperCase()}`;
+    siteName = `Naming School ${code}`;
+    siteId = (await send(s.coordinator, 'post', `/api/studies/${s.studyId}/sites`, { name: siteName, code }, 201)).id;
+    cohortId = (await send(s.coordinator, 'post', `/api/studies/${s.studyId}/cohorts`, { name: `Naming cohort ${code}` }, 201)).id;
+  });
+  const room = (name: string, email: string) => ({ siteId, cohortId, name, grade: '4', expectedSize: 20, teacher: { email, name: 'Named Person' } });
+  const grants = async (email: string) =>
+    (await t.db.query(`SELECT g.role, g.site_id FROM role_grants g JOIN users u ON u.id = g.user_id WHERE u.email = $1 ORDER BY g.role`, [email])).map((g: { role: string; site_id: string | null }) => `${g.role}@${g.site_id ?? '-'}`);
+
+  it('refuses to name the coordinator themselves or an account with the reviewer role, with 409, and changes nothing', async () => {
+    const before = await count('classrooms');
+    const self = await s.coordinator.agent.post(`/api/studies/${s.studyId}/classrooms`).set('x-csrf-token', s.coordinator.csrf).send(room('Self Room', 'coordinator@evenhand.test'));
+    expect(self.status).toBe(409);
+    expect(self.body.error.message).toBe('You cannot name yourself as teacher; name the person who will do it');
+    const reviewer = await s.coordinator.agent.post(`/api/studies/${s.studyId}/classrooms`).set('x-csrf-token', s.coordinator.csrf).send(room('Review Room', 'reviewer@evenhand.test'));
+    expect(reviewer.status).toBe(409);
+    expect(reviewer.body.error).toMatchObject({ message: 'reviewer@evenhand.test has the reviewer role, which cannot also be a school’s teacher; name someone else', details: { issues: [{ path: 'teacher.email' }] } });
+    const principal = await s.coordinator.agent.patch(`/api/sites/${siteId}`).set('x-csrf-token', s.coordinator.csrf).send({ principal: { email: 'reviewer@evenhand.test', name: 'R' } });
+    expect(principal.status).toBe(409);
+    expect(await count('classrooms')).toBe(before);
+    expect(await grants('coordinator@evenhand.test')).toEqual(['coordinator@-']);
+    expect(await grants('reviewer@evenhand.test')).toEqual(['reviewer@-']);
+  });
+
+  it('when an existing account is named teacher, then it gets a link and no role until it accepts; replacing it removes the role', async () => {
+    const email = 'teacher3@evenhand.test';
+    const before = await grants(email);
+    const classroom = await send(s.coordinator, 'post', `/api/studies/${s.studyId}/classrooms`, room('Offer Room', email), 201);
+    expect(classroom.teacher).toMatchObject({ email, invitationPending: true });
+    expect(await grants(email)).toEqual(before);
+    let mail: CaughtMail | undefined;
+    await expect.poll(async () => (mail = (await mailTo(email)).find((m) => m.subject === `Accept your role at ${siteName}`)), { timeout: 10_000 }).toBeTruthy();
+    expect(mail!.text).toContain(`has named you teacher at ${siteName}`);
+
+    // Named but not accepted: the classroom's sheets are not theirs yet.
+    const teacher = await signIn(t.app, email);
+    expect((await teacher.agent.get(`/api/score-sheets?studyId=${s.studyId}`)).status).toBe(404);
+    // Someone else's link does not work for this account, and the link works once.
+    const other = await signIn(t.app, 'teacher4@evenhand.test');
+    expect((await other.agent.post('/api/role-invitations/accept').set('x-csrf-token', other.csrf).send({ token: acceptLink(mail!.text) })).status).toBe(404);
+    const accepted = await teacher.agent.post('/api/role-invitations/accept').set('x-csrf-token', teacher.csrf).send({ token: acceptLink(mail!.text) });
+    expect(accepted.status).toBe(200);
+    expect(accepted.body).toEqual({ role: 'teacher', siteId, siteName });
+    expect((await teacher.agent.post('/api/role-invitations/accept').set('x-csrf-token', teacher.csrf).send({ token: acceptLink(mail!.text) })).status).toBe(404);
+    expect(await grants(email)).toContain(`teacher@${siteId}`);
+    const sheets = await teacher.agent.get(`/api/score-sheets?studyId=${s.studyId}`);
+    expect(sheets.body.items.map((x: { classroomId: string }) => x.classroomId)).toContain(classroom.id);
+
+    // Another teacher named for the classroom: the first loses the school's teacher role and its session ends.
+    await send(s.coordinator, 'patch', `/api/classrooms/${classroom.id}`, { teacher: { email: uniqueAddress('successor'), name: 'Successor Teacher' } }, 200);
+    expect(await grants(email)).toEqual(before);
+    expect((await teacher.agent.get('/api/auth/me')).status).toBe(401);
   });
 });

@@ -16,7 +16,7 @@ import type { Deps } from '../deps.js';
 import { AppError } from '../errors.js';
 import { readSmallCsv } from '../lib/csv.js';
 import { findVisibleStudy, hasRole, sitesOf } from '../studies/access.js';
-import { ensurePerson } from '../users/service.js';
+import { ensurePerson, releaseRole } from '../users/role-invitations.js';
 
 interface ClassroomRow {
   id: string;
@@ -50,7 +50,7 @@ const toClassroom = (r: ClassroomRow): Classroom => ({
 });
 
 const classroomSelect = `SELECT c.id, c.study_id, c.site_id, s.name AS site_name, c.cohort_id, h.name AS cohort_name, c.name, c.grade,
-    c.expected_size, c.teacher_id, u.name AS teacher_name, u.email AS teacher_email, (u.password_hash IS NULL) AS teacher_pending, c.arm
+    c.expected_size, c.teacher_id, u.name AS teacher_name, u.email AS teacher_email, (u.password_hash IS NULL OR NOT EXISTS (SELECT 1 FROM role_grants tg WHERE tg.user_id = c.teacher_id AND tg.role = 'teacher' AND tg.site_id = c.site_id)) AS teacher_pending, c.arm
   FROM classrooms c JOIN sites s ON s.id = c.site_id JOIN cohorts h ON h.id = c.cohort_id JOIN users u ON u.id = c.teacher_id`;
 
 /** Teachers see their own classrooms, principals their school's; district roles all of the study's. */
@@ -58,9 +58,9 @@ export async function listClassrooms(db: DataSource, user: SessionUser, studyId:
   await findVisibleStudy(db.manager, user, studyId);
   const districtWide = hasRole(user, ...districtWideRoles);
   const rows: ClassroomRow[] = await db.query(
-    `${classroomSelect} WHERE c.study_id = $1 AND ($2 OR c.teacher_id = $3 OR c.site_id = ANY($4))
+    `${classroomSelect} WHERE c.study_id = $1 AND ($2 OR (c.teacher_id = $3 AND c.site_id = ANY($5)) OR c.site_id = ANY($4))
      ORDER BY s.name, h.name, c.name`,
-    [studyId, districtWide, user.id, sitesOf(user, 'principal')],
+    [studyId, districtWide, user.id, sitesOf(user, 'principal'), sitesOf(user, 'teacher')],
   );
   return { items: rows.map(toClassroom), total: rows.length };
 }
@@ -201,6 +201,8 @@ export async function updateClassroom(deps: Deps, actor: SessionUser, id: string
     });
     const after = await classroomById(manager, id);
     await recordAudit(manager, { actorId: actor.id, studyId: before.studyId, action: 'classroom.updated', entityType: 'classroom', entityId: id, before, after });
+    // The replaced teacher keeps the school's teacher role only while another classroom there names them.
+    if (after.teacher.id !== before.teacher.id) await releaseRole(manager, actor, before.teacher.id, 'teacher', before.siteId, before.studyId);
     return after;
   });
 }

@@ -24,6 +24,19 @@ export function invitationMail(v: { name: string; invitedBy: string; link: strin
   };
 }
 
+export function roleInvitationMail(v: { name: string; invitedBy: string; role: string; siteName: string; link: string }) {
+  const lines = [
+    `Hello ${v.name},`,
+    `${v.invitedBy} has named you ${v.role} at ${v.siteName} in Evenhand.`,
+    'Sign in and accept to take on this role; until you do, nothing changes for your account. The link expires in 14 days.',
+  ];
+  return {
+    subject: `Accept your role at ${v.siteName}`,
+    text: `${lines.join('\n\n')}\n\nAccept the role: ${v.link}\n`,
+    html: layout(`Your role at ${v.siteName}`, lines, { label: 'Accept the role', link: v.link }),
+  };
+}
+
 export function passwordResetMail(v: { name: string; link: string }) {
   const lines = [
     `Hello ${v.name},`,

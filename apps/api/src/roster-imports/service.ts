@@ -6,7 +6,7 @@ import type { Deps } from '../deps.js';
 import { AppError } from '../errors.js';
 import { findVisibleStudy } from '../studies/access.js';
 import { advanceStatus } from '../studies/service.js';
-import { ensurePerson } from '../users/service.js';
+import { ensurePerson } from '../users/role-invitations.js';
 import type { Bundle } from './bundle.js';
 import { refuseRows, stageBundle } from './parser.js';
 

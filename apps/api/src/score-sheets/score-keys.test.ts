@@ -15,7 +15,7 @@ let sheet2: string;
 beforeAll(async () => {
   t = await startTestApp();
   s = await createStudy(t.app);
-  await enrolClassrooms(s, 1, 2, ['teacher1@evenhand.test', 'teacher2@evenhand.test']);
+  await enrolClassrooms(s, 1, 2, ['teacher1@evenhand.test', 'teacher2@evenhand.test'], t.db);
   teacher1 = await signIn(t.app, 'teacher1@evenhand.test');
   teacher2 = await signIn(t.app, 'teacher2@evenhand.test');
   sheet1 = (await teacher1.agent.get(`/api/score-sheets?studyId=${s.studyId}&waveId=${s.baselineId}`)).body.items[0].id;

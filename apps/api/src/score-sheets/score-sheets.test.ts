@@ -19,7 +19,7 @@ const storedDigest = async (sheetId: string): Promise<string | null> =>
 beforeAll(async () => {
   t = await startTestApp();
   s = await createStudy(t.app);
-  await enrolClassrooms(s, 1, 2, ['teacher1@evenhand.test', 'teacher2@evenhand.test']);
+  await enrolClassrooms(s, 1, 2, ['teacher1@evenhand.test', 'teacher2@evenhand.test'], t.db);
   teacher1 = await signIn(t.app, 'teacher1@evenhand.test');
   teacher2 = await signIn(t.app, 'teacher2@evenhand.test');
   const mine = (await teacher1.agent.get(`/api/score-sheets?studyId=${s.studyId}`)).body.items;
@@ -239,7 +239,7 @@ describe('CSV upload', () => {
     const other = await createStudy(t.app, { seal: false });
     await send(other.lead, 'put', `/api/studies/${other.studyId}/plan`, { ...samplePlan(other.measureId, other.outcomeId), summaryEntryAllowed: true }, 200);
     await send(other.lead, 'post', `/api/studies/${other.studyId}/plan/seal`, {}, 200);
-    await enrolClassrooms(other, 1, 1, ['teacher3@evenhand.test']);
+    await enrolClassrooms(other, 1, 1, ['teacher3@evenhand.test'], t.db);
     const teacher3 = await signIn(t.app, 'teacher3@evenhand.test');
     const [sheet] = (await teacher3.agent.get(`/api/score-sheets?studyId=${other.studyId}&waveId=${other.baselineId}`)).body.items;
     expect(sheet).toMatchObject({ summaryAllowed: true, mode: 'rows' });

@@ -5,7 +5,7 @@ import { recordAudit } from '../audit/service.js';
 import { AppError } from '../errors.js';
 import { csvBatches } from '../lib/csv.js';
 import { currentPlan } from '../plans/service.js';
-import { findVisibleStudy, hasRole } from '../studies/access.js';
+import { findVisibleStudy, hasRole, sitesOf, teaches } from '../studies/access.js';
 import { storeSheetDigests } from './digest.js';
 import { rowFromCsv } from './rows.js';
 import { applyStaged, stageRows } from './write.js';
@@ -124,9 +124,9 @@ export async function listSheets(db: DataSource, user: SessionUser, q: { studyId
   const rows: SheetRow[] = await db.query(
     `${sheetSelect}
      WHERE sh.study_id = $1 AND ($2::uuid IS NULL OR sh.classroom_id = $2) AND ($3::uuid IS NULL OR sh.wave_id = $3)
-       AND ($4::text IS NULL OR sh.state = $4) AND ($5 OR c.teacher_id = $6)
+       AND ($4::text IS NULL OR sh.state = $4) AND ($5 OR (c.teacher_id = $6 AND c.site_id = ANY($7)))
      ORDER BY s.name, c.name, w.opens_on, m.name`,
-    [q.studyId, q.classroomId ?? null, q.waveId ?? null, q.state ?? null, seesWholeStudy(user), user.id],
+    [q.studyId, q.classroomId ?? null, q.waveId ?? null, q.state ?? null, seesWholeStudy(user), user.id, sitesOf(user, 'teacher')],
   );
   return { items: rows.map(toSheet), total: rows.length };
 }
@@ -135,7 +135,7 @@ export async function listSheets(db: DataSource, user: SessionUser, q: { studyId
 async function loadSheet(manager: EntityManager, user: SessionUser, id: string, lock = false): Promise<SheetRow> {
   if (lock) await manager.query(`SELECT 1 FROM score_sheets WHERE id = $1 FOR UPDATE`, [id]);
   const [row]: SheetRow[] = await manager.query(`${sheetSelect} WHERE sh.id = $1`, [id]);
-  if (!row || (!seesWholeStudy(user) && row.teacher_id !== user.id)) throw AppError.notFound('The score sheet');
+  if (!row || (!seesWholeStudy(user) && !teaches(user, row))) throw AppError.notFound('The score sheet');
   await findVisibleStudy(manager, user, row.study_id);
   return row;
 }

@@ -6,7 +6,7 @@ import type { Deps } from '../deps.js';
 import { AppError } from '../errors.js';
 import { findVisibleStudy, hasRole, sitesOf } from '../studies/access.js';
 import { advanceStatus } from '../studies/service.js';
-import { ensurePerson } from '../users/service.js';
+import { ensurePerson, releaseRole } from '../users/role-invitations.js';
 import { districtWideRoles } from '@evenhand/entities';
 
 interface SiteRow {
@@ -31,7 +31,7 @@ const toSite = (r: SiteRow): Site => ({
 });
 
 const siteSelect = `SELECT s.id, s.name, s.code, s.principal_id, u.name AS principal_name, u.email AS principal_email,
-  (u.password_hash IS NULL) AS principal_pending FROM sites s LEFT JOIN users u ON u.id = s.principal_id`;
+  (u.password_hash IS NULL OR NOT EXISTS (SELECT 1 FROM role_grants pg WHERE pg.user_id = s.principal_id AND pg.role = 'principal' AND pg.site_id = s.id)) AS principal_pending FROM sites s LEFT JOIN users u ON u.id = s.principal_id`;
 
 export async function listDistrictSites(db: DataSource): Promise<{ items: Site[]; total: number }> {
   const rows: SiteRow[] = await db.query(`${siteSelect} ORDER BY s.name`);
@@ -67,7 +67,10 @@ async function assignPrincipal(
 ) {
   if (!principal) return;
   const { userId } = await ensurePerson(manager, deps, actor, principal, { role: 'principal', siteId }, studyId);
+  const [{ principal_id: before }] = await manager.query(`SELECT principal_id FROM sites WHERE id = $1 FOR UPDATE`, [siteId]);
   await manager.update(SiteEntity, siteId, { principalId: userId });
+  // The school's previous principal loses the role there.
+  if (before && before !== userId) await releaseRole(manager, actor, before, 'principal', siteId, studyId);
 }
 
 /** Enrols an existing school, or registers a new one, in a study; invites its principal if new. */

@@ -1,7 +1,8 @@
 import type { OpenAPIRegistry } from '@asteasolutions/zod-to-openapi';
-import { idParamsSchema, inviteUserSchema, pageOf, updateUserSchema, userSchema, usersQuerySchema } from '@evenhand/entities';
+import { acceptedRoleSchema, acceptRoleInvitationSchema, idParamsSchema, inviteUserSchema, pageOf, updateUserSchema, userSchema, usersQuerySchema } from '@evenhand/entities';
 import type { Deps } from '../deps.js';
 import { ResourceRouter } from '../http/route.js';
+import { acceptRoleInvitation } from './role-invitations.js';
 import { inviteUser, listUsers, updateUser } from './service.js';
 
 export function usersRouter(deps: Deps, registry: OpenAPIRegistry) {
@@ -46,6 +47,19 @@ export function usersRouter(deps: Deps, registry: OpenAPIRegistry) {
       responses: { 200: { description: 'The account as it is now', schema: userSchema } },
     },
     async ({ params, body, user }) => ({ body: await updateUser(deps, user!, params.id, body) }),
+  );
+
+  r.route(
+    {
+      method: 'post',
+      path: '/role-invitations/accept',
+      summary: 'Accept the school role one was named for (the token from the e-mailed link); the grant is made now',
+      access: 'signed-in',
+      tag,
+      body: acceptRoleInvitationSchema,
+      responses: { 200: { description: 'The role now held', schema: acceptedRoleSchema } },
+    },
+    async ({ body, user }) => ({ body: await acceptRoleInvitation(deps, user!, body.token) }),
   );
 
   return r.router;

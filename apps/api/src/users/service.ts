@@ -112,38 +112,3 @@ export async function updateUser(deps: Deps, actor: SessionUser, id: string, inp
     return after;
   });
 }
-
-/**
- * Makes sure a person has an account with the given grant: an existing account gets the grant
- * added; a new address gets an account without a password and an invitation in the outbox.
- */
-export async function ensurePerson(
-  manager: EntityManager,
-  ctx: Pick<Deps, 'config' | 'jobs'>,
-  actor: SessionUser,
-  person: { email: string; name: string },
-  grant: RoleGrant,
-  studyId: string | null,
-): Promise<{ userId: string; invited: boolean }> {
-  const existing = await manager.findOneBy(UserEntity, { email: person.email });
-  const user = existing ?? (await manager.save(manager.create(UserEntity, { email: person.email, name: person.name, passwordHash: null, active: true })));
-  const inserted = await manager.query(
-    `INSERT INTO role_grants (user_id, role, site_id) VALUES ($1, $2, $3) ON CONFLICT DO NOTHING RETURNING id`,
-    [user.id, grant.role, grant.siteId],
-  );
-  if (!existing || inserted.length) {
-    await recordAudit(manager, {
-      actorId: actor.id,
-      studyId,
-      action: existing ? 'user.roles_changed' : 'user.invited',
-      entityType: 'user',
-      entityId: user.id,
-      after: { email: user.email, added: grant },
-    });
-  }
-  if (!existing) {
-    const token = await issueToken(manager, user.id, 'invitation');
-    await queueInvitation(manager, ctx, { userId: user.id, email: user.email, name: user.name, token, invitedBy: actor, studyId });
-  }
-  return { userId: user.id, invited: !existing };
-}

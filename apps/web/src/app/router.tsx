@@ -7,7 +7,7 @@ import { RouteError } from '@/app/route-error';
 import { SignedInLayout } from '@/app/signed-in-layout';
 import { Loading } from '@/components/ui/spinner';
 import { sessionQueryOptions } from '@/features/auth/api';
-import { ForgotPasswordPage, SetPasswordPage, SignInPage } from '@/features/auth/routes';
+import { AcceptRolePage, ForgotPasswordPage, SetPasswordPage, SignInPage } from '@/features/auth/routes';
 import { areas, studyTabs } from '@/lib/navigation';
 
 // Only the public pages and the frames are in the first download (the sign-in page's JavaScript, measured by
@@ -58,6 +58,8 @@ export function createRoutes(queryClient: QueryClient): RouteObject[] {
               errorElement: <RouteError />,
               children: [
                 { index: true, loader: homeLoader(queryClient), lazy: async () => ({ Component: (await home()).NoRolePage }) },
+                // The link that names someone for a school role; the layout has them sign in first.
+                { path: 'invitations/accept', Component: AcceptRolePage },
                 {
                   path: areas.myClasses.path,
                   lazy: async () => {

@@ -47,3 +47,12 @@ export const roleGrantSchema = z
   })
   .meta({ id: 'RoleGrant' });
 export type RoleGrant = z.infer<typeof roleGrantSchema>;
+
+/** Accepting a school role one was named for: the token from the e-mailed link. */
+export const acceptRoleInvitationSchema = z.object({ token: z.string().min(20).max(200) });
+export type AcceptRoleInvitation = z.infer<typeof acceptRoleInvitationSchema>;
+
+export const acceptedRoleSchema = z
+  .object({ role: z.enum(['teacher', 'principal']), siteId: idSchema, siteName: z.string() })
+  .meta({ id: 'AcceptedRole' });
+export type AcceptedRole = z.infer<typeof acceptedRoleSchema>;

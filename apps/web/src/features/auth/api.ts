@@ -1,4 +1,5 @@
 import {
+  acceptedRoleSchema,
   districtSignInProblemSchema,
   loginResponseSchema,
   meResponseSchema,
@@ -108,5 +109,14 @@ export function useConfirmPasswordReset() {
   return useMutation({
     mutationFn: (input: PasswordResetConfirm) =>
       apiRequest('/auth/password-reset/confirm', { method: 'POST', body: input, schema: messageResponseSchema }),
+  });
+}
+
+/** Accepts a school role from an e-mailed link; the session's roles are read again afterwards. */
+export function useAcceptRole() {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: (token: string) => apiRequest('/role-invitations/accept', { method: 'POST', body: { token }, schema: acceptedRoleSchema }),
+    onSuccess: () => queryClient.invalidateQueries({ queryKey: authKeys.session() }),
   });
 }

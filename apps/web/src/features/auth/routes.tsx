@@ -1,6 +1,7 @@
 import { useQuery } from '@tanstack/react-query';
 import { Link, useNavigate, useSearchParams } from 'react-router-dom';
 import { signInOptionsQueryOptions } from '@/features/auth/api';
+import { AcceptRole } from '@/features/auth/components/accept-role';
 import { AuthCard } from '@/features/auth/components/auth-card';
 import { ForgotPasswordForm } from '@/features/auth/components/forgot-password-form';
 import { SetPasswordForm } from '@/features/auth/components/set-password-form';
@@ -52,6 +53,17 @@ export function SetPasswordPage() {
           <Link to="/forgot-password">ask for a new link</Link>.
         </p>
       )}
+    </AuthCard>
+  );
+}
+
+/** Opened from the e-mail that names someone for a school role; signed in first (the layout asks). */
+export function AcceptRolePage() {
+  const [params] = useSearchParams();
+  const token = params.get('token');
+  return (
+    <AuthCard title="Accept your role" intro="Check that the e-mail was meant for the account you are signed in with.">
+      {token ? <AcceptRole token={token} /> : <p>This link is missing its code. Open the link from your e-mail again.</p>}
     </AuthCard>
   );
 }
