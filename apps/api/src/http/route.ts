@@ -38,6 +38,13 @@ export interface RouteContext<P, Q, B> {
 
 export type RouteResult = { status?: number; body?: unknown } | void;
 
+/**
+ * No API answer is stored by a browser or a proxy: many carry student-level data (bundles, score sheets, exports,
+ * audit entries), and one rule for all cannot be forgotten on the next such route.
+ */
+const NO_STORE = 'no-store';
+const noStoreHeader = { 'Cache-Control': { description: 'Always `no-store`', schema: { type: 'string' as const, enum: [NO_STORE] } } };
+
 function parse<T extends z.ZodType>(schema: T | undefined, value: unknown, where: string): z.infer<T> {
   if (!schema) return value as z.infer<T>;
   const result = schema.safeParse(value);
@@ -64,6 +71,8 @@ export class ResourceRouter {
   ): void {
     this.document(spec);
     const run: RequestHandler = async (req, res) => {
+      // Before anything can fail, so errors (a refused upload lists student codes) carry it too.
+      res.setHeader('Cache-Control', NO_STORE);
       const ctx = {
         params: parse(spec.params, req.params, 'path'),
         query: parse(spec.query, req.query, 'query'),
@@ -83,21 +92,23 @@ export class ResourceRouter {
 
   private document(spec: RouteSpec<z.ZodType, z.ZodType, z.ZodType>) {
     const path = spec.path.replace(/:(\w+)/g, '{$1}');
+    const error = (description: string) => ({ description, headers: noStoreHeader, content: { 'application/json': { schema: errorBodySchema } } });
+    // Every route can answer each of these, in the one error shape.
     const errors = {
-      400: { description: 'Invalid input', content: { 'application/json': { schema: errorBodySchema } } },
-      ...(spec.access === 'anyone'
-        ? {}
-        : {
-            401: { description: 'Not signed in', content: { 'application/json': { schema: errorBodySchema } } },
-            403: { description: 'Not allowed for your role', content: { 'application/json': { schema: errorBodySchema } } },
-          }),
+      400: error('Invalid input: `details.issues` lists each field (`path`) and what is wrong with it'),
+      ...(spec.access === 'anyone' ? {} : { 401: error('Not signed in'), 403: error('Not allowed for your role') }),
+      404: error('Not found, or not visible to you'),
+      409: error('Conflicts with the current state (locked, already exists, changed meanwhile)'),
+      413: error('The request body or upload is too large'),
+      429: error('Too many requests; try again later'),
+      500: error('Something went wrong on our side; the error has been logged'),
     };
     const responses = Object.fromEntries(
       Object.entries(spec.responses).map(([status, r]) => [
         status,
         r.schema
-          ? { description: r.description, content: { [r.contentType ?? 'application/json']: { schema: r.schema } } }
-          : { description: r.description },
+          ? { description: r.description, headers: noStoreHeader, content: { [r.contentType ?? 'application/json']: { schema: r.schema } } }
+          : { description: r.description, headers: noStoreHeader },
       ]),
     );
     this.registry.registerPath({

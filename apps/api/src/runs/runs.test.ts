@@ -163,7 +163,9 @@ describe('comparison runs', () => {
   });
 
   it('gives a bundle whose rows hash to the run’s data hash and recompute the same primary result', async () => {
-    const bundle = (await reviewer.agent.get(`/api/runs/${runId}/bundle`)).body;
+    const res = await reviewer.agent.get(`/api/runs/${runId}/bundle`);
+    expect(res.headers['cache-control']).toBe('no-store'); // student-level rows: never stored by a browser or a proxy
+    const bundle = res.body;
     expect(bundleHash(bundle.rows, bundle.summaries)).toBe(bundle.dataSha256);
     expect(bundle.rows).toEqual([...bundle.rows].sort((a: string, b: string) => Buffer.compare(Buffer.from(a), Buffer.from(b))));
     const byArm: Record<string, number[]> = { intervention: [], comparison: [] };
