@@ -98,6 +98,9 @@ export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
     error = new AppError('payload_too_large', 'The request body is too large');
   } else if ((err as BodyParserError).type === 'entity.parse.failed') {
     error = AppError.validation('The request body is not valid JSON');
+  } else if (err instanceof URIError || (err as BodyParserError).status === 400) {
+    // Express refuses a path whose percent-encoding is not UTF-8 (and parsers other malformed requests) with status 400.
+    error = AppError.validation('The request’s address or body is malformed');
   } else {
     const refused = fromDatabase(err as DatabaseError);
     if (refused) req.log?.warn({ err }, 'refused by the database');
