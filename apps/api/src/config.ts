@@ -25,8 +25,6 @@ const envSchema = z
     SESSION_MINUTES: z.coerce.number().int().min(5).max(24 * 60).default(60),
     /** A sign-in's absolute lifetime: the session renews while in use, but never past this many hours after sign-in. */
     SESSION_ABSOLUTE_HOURS: z.coerce.number().int().min(1).max(24 * 30).default(12),
-    /** A sign-in's absolute lifetime: the session renews while in use, but never past this many hours after sign-in. */
-    SESSION_ABSOLUTE_HOURS: z.coerce.number().int().min(1).max(24 * 30).default(12),
     SMTP_HOST: z.string().default('127.0.0.1'),
     SMTP_PORT: z.coerce.number().int().default(1025),
     SMTP_SECURE: bool.default(false),
@@ -75,15 +73,14 @@ export function loadConfig(env: Record<string, string | undefined> = process.env
     production: e.NODE_ENV === 'production',
     host: e.HOST,
     port: e.PORT,
-    migrationDatabaseUrl: e.MIGRATION_DATABASE_URL ?? e.DATABASE_URL,
     appUrl: e.APP_URL ?? `http://127.0.0.1:${e.PORT}`,
     databaseUrl: e.DATABASE_URL,
+    migrationDatabaseUrl: e.MIGRATION_DATABASE_URL ?? e.DATABASE_URL,
     // Production refuses to start without its own secret (above); elsewhere each data folder makes its own.
     jwtSecret: e.JWT_SECRET ?? localSecret(e.DATA_DIR),
     // Kept outside the database it protects; changing it unlinks earlier imports' students (a new export then gets new codes).
     rosterLinkSecret: e.ROSTER_LINK_SECRET ?? localSecret(e.DATA_DIR, 'roster-link-secret'),
     sessionMinutes: e.SESSION_MINUTES,
-    sessionAbsoluteHours: e.SESSION_ABSOLUTE_HOURS,
     sessionAbsoluteHours: e.SESSION_ABSOLUTE_HOURS,
     smtp: {
       host: e.SMTP_HOST,

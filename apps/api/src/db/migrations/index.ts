@@ -11,6 +11,7 @@ import { MonitoringSchedules1796191200000 } from './1796191200000-monitoring-sch
 import { SheetDigests1796194800000 } from './1796194800000-sheet-digests.js';
 import { RunArms1796198400000 } from './1796198400000-run-arms.js';
 import { LockedResultGuards1796198500000 } from './1796198500000-locked-result-guards.js';
+import { StudentCodeCase1796198600000 } from './1796198600000-student-code-case.js';
 import { TwoLevelPrimaryTest1796208000000 } from './1796208000000-two-level-primary-test.js';
 import { RosterImports1796204000000 } from './1796204000000-roster-imports.js';
 import { SessionVersions1796200000000 } from './1796200000000-session-versions.js';
@@ -19,6 +20,5 @@ import { RoleInvitations1796200800000 } from './1796200800000-role-invitations.j
 import { DistrictSignIn1796202000000 } from './1796202000000-district-sign-in.js';
 import { YesNoMeasures1796210000000 } from './1796210000000-yes-no-measures.js';
 import { GatheredLockDigests1796209000000 } from './1796209000000-gathered-lock-digests.js';
-import { StudentCodeCase1796198600000 } from './1796198600000-student-code-case.js';
 
-export const migrations = [Foundation1796169600000, StudyRegistry1796173200000, ScoreSheets1796176800000, ComparisonRuns1796180400000, ScoreStudentIndex1796182200000, Digests1796184000000, SetWiseScoreKeys1796187600000, DraftRowsWithoutScores1796188500000, MonitoringSchedules1796191200000, SheetDigests1796194800000, RunArms1796198400000, LockedResultGuards1796198500000, TwoLevelPrimaryTest1796208000000, RosterImports1796204000000, SessionVersions1796200000000, MailOutbox1796200400000, RoleInvitations1796200800000, DistrictSignIn1796202000000, YesNoMeasures1796210000000, StudentCodeCase1796198600000, GatheredLockDigests1796209000000];
+export const migrations = [Foundation1796169600000, StudyRegistry1796173200000, ScoreSheets1796176800000, ComparisonRuns1796180400000, ScoreStudentIndex1796182200000, Digests1796184000000, SetWiseScoreKeys1796187600000, DraftRowsWithoutScores1796188500000, MonitoringSchedules1796191200000, SheetDigests1796194800000, RunArms1796198400000, LockedResultGuards1796198500000, StudentCodeCase1796198600000, TwoLevelPrimaryTest1796208000000, RosterImports1796204000000, SessionVersions1796200000000, MailOutbox1796200400000, RoleInvitations1796200800000, DistrictSignIn1796202000000, YesNoMeasures1796210000000, GatheredLockDigests1796209000000];
