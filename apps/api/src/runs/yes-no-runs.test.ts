@@ -7,6 +7,9 @@ import { principalView } from './principal-view.js';
 import { yesNoAnalysis } from './yes-no.js';
 import type { ClassroomAggregate } from './gather.js';
 import { rowFromCsv } from '../score-sheets/rows.js';
+import { createLogger } from '../logger.js';
+import { createMailer } from '../mail/mailer.js';
+import { seedDemoStudies } from '../seed/demo-study.js';
 
 // The statistics are checked against SciPy, statsmodels and R in packages/stats (proportions.test.ts); here a yes/no
 // run must equal the engine's functions on the same counts, and the cluster-assigned one the engine's CR2 on 0/1 rows.
@@ -122,6 +125,28 @@ describe('yes/no comparisons', () => {
     expect(['yes', 'Y', '1', 'TRUE', 'no', 'n', '0', 'false', ''].map((v) => rowFromCsv({ student_code: 'A1', score: v }, 2, 'yes-no').row?.score)).toEqual([1, 1, 1, 1, 0, 0, 0, 0, null]);
     expect(rowFromCsv({ student_code: 'A1', score: 'maybe' }, 2, 'yes-no').issues[0]).toMatchObject({ column: 'score', message: expect.stringMatching(/yes or no/) });
   });
+});
+
+describe('the demo study', () => {
+  it('pre-specifies “Read at grade level by spring” as a yes/no comparison, whose seeded run reports the yes/no result', async () => {
+    const mailer = createMailer(t.config);
+    try {
+      await seedDemoStudies({ config: t.config, db: t.db, mailer, logger: createLogger(t.config), jobs: t.jobs });
+    } finally {
+      mailer.close();
+    }
+    const [k]: { id: string; prespecified: boolean; scale: string }[] = await t.db.query(
+      `SELECT k.id, k.prespecified, m.scale FROM comparisons k JOIN measures m ON m.id = k.measure_id WHERE m.name = 'Read at grade level by spring'`,
+    );
+    expect(k).toMatchObject({ prespecified: true, scale: 'yes-no' });
+    const [run]: { state: string; results: RunResults; error: string | null }[] = await t.db.query(
+      `SELECT state, results, error FROM runs WHERE comparison_id = $1 AND results IS NOT NULL ORDER BY queued_at DESC LIMIT 1`,
+      [k.id],
+    );
+    expect(run.error).toBeNull();
+    expect(decidingTest(run.results).analysis).toBe('linear-probability');
+    expect(run.results.yesNo!.arms.every((a) => a.n > 100 && a.yes > 0 && a.no > 0)).toBe(true);
+  }, 240_000);
 });
 
 describe('a principal’s view of a yes/no run', () => {

@@ -27,10 +27,12 @@ async function writeScores(db: EntityManager, studyId: string): Promise<void> {
     [studyId],
   );
   const waves: { id: string; kind: string }[] = await db.query(`SELECT id, kind FROM waves WHERE study_id = $1`, [studyId]);
-  const measures: { id: string; kind: string }[] = await db.query(`SELECT id, kind FROM measures WHERE study_id = $1`, [studyId]);
+  const measures: { id: string; kind: string; scale: string }[] = await db.query(`SELECT id, kind, scale FROM measures WHERE study_id = $1`, [studyId]);
   const baseline = waves.find((w) => w.kind === 'baseline')!.id;
   const outcome = waves.find((w) => w.kind === 'outcome')!.id;
-  const fluency = measures.find((m) => m.kind === 'achievement')!.id;
+  const fluency = measures.find((m) => m.kind === 'achievement' && m.scale === 'score')!.id;
+  // Yes/no: reading at grade level (a fluency cut for the grade), in autumn and by spring; stored as 1 and 0.
+  const gradeLevel = measures.find((m) => m.scale === 'yes-no')?.id;
   const engagement = measures.find((m) => m.kind === 'behaviour')!.id;
 
   // The sheets that tell the collection story: one returned for corrections, one awaiting review, two never entered.
@@ -65,6 +67,11 @@ async function writeScores(db: EntityManager, studyId: string): Promise<void> {
       (rows[`${baseline}|${engagement}`] ??= []).push({ code, score: e0, left: false, note: '' });
       (rows[`${outcome}|${fluency}`] ??= []).push({ code, score: left ? null : f1, left, note: left ? 'moved to another district' : '' });
       (rows[`${outcome}|${engagement}`] ??= []).push({ code, score: left ? null : e1, left, note: '' });
+      if (gradeLevel) {
+        const cut = c.grade === '4' ? 100 : 90;
+        (rows[`${baseline}|${gradeLevel}`] ??= []).push({ code, score: f0 >= cut ? 1 : 0, left: false, note: '' });
+        (rows[`${outcome}|${gradeLevel}`] ??= []).push({ code, score: left ? null : f1 >= cut + 10 ? 1 : 0, left, note: '' });
+      }
     }
     await db.query(`INSERT INTO students (study_id, student_code, classroom_id) SELECT $1, unnest($2::varchar[]), $3`, [studyId, rows[`${baseline}|${fluency}`].map((r) => r.code), c.id]);
     for (const [key, list] of Object.entries(rows)) {

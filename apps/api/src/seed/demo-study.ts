@@ -45,6 +45,8 @@ export async function seedDemoStudies(deps: Deps): Promise<boolean> {
   });
   const fluency = await createMeasure(deps.db, lead, study.id, { name: 'Oral reading fluency (words correct per minute)', minScore: 0, maxScore: 250, higherIsBetter: true, kind: 'achievement' });
   await createMeasure(deps.db, lead, study.id, { name: 'Classroom engagement rating', minScore: 1, maxScore: 5, higherIsBetter: true, kind: 'behaviour' });
+  // A yes/no measure, pre-specified with the others: the sealed plan's comparisons cover every measure at the outcome wave.
+  await createMeasure(deps.db, lead, study.id, { name: 'Read at grade level by spring', scale: 'yes-no', higherIsBetter: true, kind: 'achievement' });
   await createWave(deps.db, lead, study.id, { kind: 'baseline', name: 'Autumn 2025', opensOn: '2025-09-15', closesOn: '2025-10-10' });
   const spring = await createWave(deps.db, lead, study.id, { kind: 'outcome', name: 'Spring 2026', opensOn: '2026-04-27', closesOn: '2026-05-22' });
   const plan = {
