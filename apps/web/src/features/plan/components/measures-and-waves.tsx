@@ -16,8 +16,8 @@ import { Field, Select, TextInput } from '@/components/ui/field';
 import { FigureTable } from '@/components/ui/figure-table';
 import { FormProblemAlert } from '@/components/ui/form-problem-alert';
 import { formatDay } from '@/lib/format';
-import { applyApiError, type FormProblem } from '@/lib/form-errors';
 import { plainMessages } from '@/lib/form-messages';
+import { useApiSubmit } from '@/lib/use-api-submit';
 
 const kindLabels: Record<Measure['kind'], string> = { achievement: 'Achievement', behaviour: 'Behaviour' };
 
@@ -69,33 +69,26 @@ export function WavesList({ waves }: { waves: Wave[] }) {
 }
 
 export function AddMeasureForm({ onAdd }: { onAdd: (input: CreateMeasure) => Promise<unknown> }) {
-  const [problem, setProblem] = useState<FormProblem | null>(null);
   const [added, setAdded] = useState<string | null>(null);
-  const {
-    register,
-    handleSubmit,
-    setError,
-    reset,
-    watch,
-    formState: { errors, isSubmitting },
-  } = useForm({
+  const form = useForm({
     resolver: zodResolver(createMeasureSchema, plainMessages),
     defaultValues: { name: '', scale: 'score' as const, higherIsBetter: true, kind: 'achievement' as const },
     // A yes/no measure has no range fields: hidden fields leave the values sent.
     shouldUnregister: true,
   });
+  const {
+    register,
+    reset,
+    watch,
+    formState: { errors, isSubmitting },
+  } = form;
   const yesNo = watch('scale') === 'yes-no';
 
-  const onSubmit = handleSubmit(async (input) => {
-    setProblem(null);
+  const { onSubmit, problem } = useApiSubmit(form, ['name', 'scale', 'minScore', 'maxScore', 'higherIsBetter', 'kind'], async (input) => {
     setAdded(null);
-    try {
-      await onAdd(input);
-      reset();
-      setAdded(`${input.name} is added.`);
-    } catch (error) {
-      setProblem(applyApiError(error, setError, ['name', 'scale', 'minScore', 'maxScore', 'higherIsBetter', 'kind']));
-    }
+    await onAdd(input);
+    reset();
+    setAdded(`${input.name} is added.`);
   });
 
   return (
@@ -164,29 +157,22 @@ function nextWaveKind(waves: Wave[]): Wave['kind'] {
 }
 
 export function AddWaveForm({ waves, onAdd }: { waves: Wave[]; onAdd: (input: CreateWave) => Promise<unknown> }) {
-  const [problem, setProblem] = useState<FormProblem | null>(null);
   const [added, setAdded] = useState<string | null>(null);
-  const {
-    register,
-    handleSubmit,
-    setError,
-    reset,
-    formState: { errors, isSubmitting },
-  } = useForm({
+  const form = useForm({
     resolver: zodResolver(createWaveSchema, plainMessages),
     defaultValues: { kind: nextWaveKind(waves), name: '', opensOn: '', closesOn: '' },
   });
+  const {
+    register,
+    reset,
+    formState: { errors, isSubmitting },
+  } = form;
 
-  const onSubmit = handleSubmit(async (input) => {
-    setProblem(null);
+  const { onSubmit, problem } = useApiSubmit(form, ['kind', 'name', 'opensOn', 'closesOn'], async (input) => {
     setAdded(null);
-    try {
-      await onAdd(input);
-      reset({ kind: nextWaveKind([...waves, { kind: input.kind } as Wave]), name: '', opensOn: '', closesOn: '' });
-      setAdded(`${input.name} is added.`);
-    } catch (error) {
-      setProblem(applyApiError(error, setError, ['kind', 'name', 'opensOn', 'closesOn']));
-    }
+    await onAdd(input);
+    reset({ kind: nextWaveKind([...waves, { kind: input.kind } as Wave]), name: '', opensOn: '', closesOn: '' });
+    setAdded(`${input.name} is added.`);
   });
 
   return (

@@ -1,0 +1,25 @@
+import { useState } from 'react';
+import type { FieldValues, UseFormReturn } from 'react-hook-form';
+import { applyApiError, type FormProblem } from '@/lib/form-errors';
+
+/**
+ * The one way a form sends to the API: clears the last problem, runs `send` with the validated values, and when the
+ * API refuses puts its field issues on the form's `fields` and keeps the rest as `problem`, for `<FormProblemAlert>`
+ * above the fields. `send` may throw; anything it does after the request (reset, a message) runs only on success.
+ */
+export function useApiSubmit<TFieldValues extends FieldValues, TContext, TValues>(
+  form: UseFormReturn<TFieldValues, TContext, TValues>,
+  fields: readonly (keyof TFieldValues & string)[],
+  send: (values: TValues) => Promise<unknown>,
+) {
+  const [problem, setProblem] = useState<FormProblem | null>(null);
+  const onSubmit = form.handleSubmit(async (values) => {
+    setProblem(null);
+    try {
+      await send(values);
+    } catch (error) {
+      setProblem(applyApiError(error, form.setError, fields));
+    }
+  });
+  return { onSubmit, problem };
+}
