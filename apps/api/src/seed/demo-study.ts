@@ -16,6 +16,9 @@ export const DEMO_STUDY_TITLE = 'Lantern Reading Routine in grades 3 and 4';
 export const DRAFT_STUDY_TITLE = 'Number Journal Prompts in grade 5';
 export const DEMO_DRAW_SEED = 'larkspur-valley-2025';
 
+/** A calendar date (UTC) this many days after the day the seed runs. */
+const daysFromToday = (days: number) => new Date(Date.now() + days * 86_400_000).toISOString().slice(0, 10);
+
 async function actor(deps: Deps, email: string): Promise<SessionUser> {
   const [row] = await deps.db.query(`SELECT id FROM users WHERE email = $1`, [email]);
   const user = row ? await loadSessionUser(deps.db, row.id) : null;
@@ -120,7 +123,8 @@ export async function seedDemoStudies(deps: Deps): Promise<boolean> {
     unitOfAssignment: 'classroom',
   });
   await createMeasure(deps.db, lead, draft.id, { name: 'Spring mathematics assessment (scale score)', minScore: 100, maxScore: 400, higherIsBetter: true, kind: 'achievement' });
-  await createWave(deps.db, lead, draft.id, { kind: 'baseline', name: 'Autumn 2026', opensOn: '2026-09-14', closesOn: '2026-10-09' });
-  await createWave(deps.db, lead, draft.id, { kind: 'outcome', name: 'Spring 2027', opensOn: '2027-04-26', closesOn: '2027-05-21' });
+  // Still being planned, so its windows lie ahead of whatever day the demo is seeded on.
+  await createWave(deps.db, lead, draft.id, { kind: 'baseline', name: 'Baseline', opensOn: daysFromToday(42), closesOn: daysFromToday(67) });
+  await createWave(deps.db, lead, draft.id, { kind: 'outcome', name: 'Outcome', opensOn: daysFromToday(266), closesOn: daysFromToday(291) });
   return true;
 }
