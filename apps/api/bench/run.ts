@@ -4,7 +4,8 @@
 // information, the 2 000 000-score run again with each student's pretest from a baseline wave (pretest adjustment).
 // Then the two-level model (schools as blocks, the pretest) at 2 000 000 scores, in classrooms of 250 and of a real
 // class's 25, against one scan of both waves; and, when Rscript with lme4 and lmerTest is installed, the same model
-// fitted to the same rows by lme4 + lmerTest in the same run.
+// fitted to the same rows by lme4 + lmerTest in the same run. And a yes/no measure's run over 2 000 000 answers (the
+// counts per classroom summed in SQL, the cluster-robust linear probability regression) against one scan of them.
 import { execFileSync } from 'node:child_process';
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -125,6 +126,31 @@ export async function benchRun() {
     // What the run did not compute at this size, in its own words.
     for (const note of r.notes) console.log(`  note: ${note}`);
   }
+  // A yes/no measure: 2 000 000 answers stored as 1 and 0 (about 45 % yes in the intervention arm, 38 % in the comparison).
+  {
+    const y = await study(8000, Math.max(2, Math.round(8000 / 80)) | 1);
+    await db.query(`UPDATE measures SET scale = 'yes-no', min_score = 0, max_score = 1 WHERE id = $1`, [y.measureId]);
+    await db.query(
+      `INSERT INTO students (study_id, student_code, classroom_id)
+       SELECT $1, 'P' || c.k || '-' || j, c.id FROM (SELECT id, row_number() OVER () AS k FROM classrooms WHERE study_id = $1) c, generate_series(1, 250) j`,
+      [y.studyId],
+    );
+    await db.query(
+      `INSERT INTO scores (sheet_id, study_id, classroom_id, wave_id, measure_id, student_code, score, left_study)
+       SELECT sh.id, $1, st.classroom_id, $2, $3, st.student_code, (random() < CASE WHEN c.arm = 'intervention' THEN 0.45 ELSE 0.38 END)::int, false
+         FROM students st JOIN classrooms c ON c.id = st.classroom_id JOIN score_sheets sh ON sh.classroom_id = c.id
+        WHERE st.study_id = $1`,
+      [y.studyId, y.waveId, y.measureId],
+    );
+    await acceptSheets(y);
+    const yesNo = await measure(y, (await listComparisons(db, lead, y.studyId)).items[0].id);
+    console.log(`\nYes/no run over 2,000,000 answers (median of 3)`);
+    console.log(`  bare aggregate scan:        ${yesNo.scan.toFixed(0)} ms`);
+    console.log(`  full run:                   ${yesNo.run.toFixed(0)} ms`);
+    console.log(`  ratio:                      ${(yesNo.run / yesNo.scan).toFixed(2)}×   (goal ≤ 4×)`);
+    console.log(`  peak extra heap + buffers:  ${(yesNo.peak.js / 2 ** 20).toFixed(1)} MB`);
+  }
+
   // With pretest adjustment: the same 2 000 000 outcome scores each paired with a baseline score of the same student.
   const { study: s, comparisonId } = large;
   const baselineWaveId = await addPretests(s);
