@@ -74,6 +74,12 @@ def generate(spec):
 
 
 # --- exact helpers ----------------------------------------------------------------------------------------------
+def exact_median(fx):
+    s = sorted(fx)
+    n = len(s)
+    return s[n // 2] if n % 2 else (s[n // 2 - 1] + s[n // 2]) / 2
+
+
 def F(x):
     return Fraction(x)
 
@@ -421,7 +427,9 @@ def two_sample_case(cid, description, spec_a, spec_b, alternative, confidence, n
         res = stats.levene(A, B, center=center)
         zs = []
         for ex, arr in ((ea, A), (eb, B)):
-            c = ex.mean if center == 'mean' else F(float(np.median(arr)))
+            # The exact median ((a + b)/2 in fractions for even n); SciPy rounds it to double, so offsets far from zero
+            # make SciPy's W miss the exact one and the exact value becomes the reference.
+            c = ex.mean if center == 'mean' else exact_median(ex.fx)
             ge = [v for v in ex.fx if v >= c]
             lt = [v for v in ex.fx if v < c]
             sz = (sum(ge, Fraction(0)) - c * len(ge)) - (sum(lt, Fraction(0)) - c * len(lt))
@@ -441,12 +449,12 @@ def two_sample_case(cid, description, spec_a, spec_b, alternative, confidence, n
             'p': pick(f'{cid} levene {center} p', res.pvalue, p_e, REL_P, ABS_P, notes),
         }
 
-    # variance ratio F
-    if ea.var > 0 and eb.var > 0:
+    # variance ratio F (a constant group a gives F = 0, where P(F ≤ 0) = 0, so p = 0; a constant group b is undefined)
+    if eb.var > 0:
         f_e = ea.var / eb.var
         d1 = ea.n - 1
         d2 = eb.n - 1
-        p_e = min(mp.mpf(1), 2 * min(f_cdf(mpf(f_e), d1, d2), f_sf(mpf(f_e), d1, d2)))
+        p_e = mp.mpf(0) if f_e == 0 else min(mp.mpf(1), 2 * min(f_cdf(mpf(f_e), d1, d2), f_sf(mpf(f_e), d1, d2)))
         f_s = A.var(ddof=1) / B.var(ddof=1)
         p_s = min(1.0, 2 * min(stats.f.cdf(f_s, d1, d2), stats.f.sf(f_s, d1, d2)))
         exp['varianceRatio'] = {

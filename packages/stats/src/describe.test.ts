@@ -40,3 +40,21 @@ suite('describe against the fixture (NumPy percentile, linear; SciPy skew/kurtos
     expect(() => describe([3, Infinity])).toThrow(/non-finite/);
   });
 });
+
+suite('describe of values near 1e-170 (scale before squaring)', () => {
+  for (const c of fixture.twoSample.filter((x) => ['unequal-8-30', 'skewed-40-40', 'scores-480-500'].includes(x.id))) {
+    it(`${c.id} × 2^-565 (≈ 1.5e-170): SD and mean scale exactly, skewness and kurtosis are unchanged (SciPy fixture)`, () => {
+      const factor = 2 ** -565;
+      const ref = c.expected.describe;
+      const d = describe(generate(c.a).map((v) => v * factor));
+      expectClose(d.sd / factor, ref.sd.value as number, 1e-10, 0, 'sd');
+      expectClose(d.se / factor, (ref.sd.value as number) / Math.sqrt(d.n), 1e-10, 0, 'se');
+      expectClose(d.mean / factor, ref.mean.value as number, 1e-12, 0, 'mean');
+      expectClose(d.median / factor, ref.median, 1e-14, 0, 'median');
+      expectStat(d.skewness as number, ref.skewness ?? null, 'skewness', 1e-9, 1e-12);
+      expectStat(d.kurtosis as number, ref.kurtosis ?? null, 'kurtosis', 1e-9, 1e-12);
+      // The variance itself (≈ 1e-340) is below the smallest double: its nearest double is 0.
+      expect(d.variance).toBe(0);
+    });
+  }
+});

@@ -1,6 +1,6 @@
 import { type Sample } from './input.js';
 import { copyChecked } from './select.js';
-import { moments } from './summary.js';
+import { ldexp, momentsOnCommonScale } from './summary.js';
 
 export interface Description {
   n: number;
@@ -41,14 +41,19 @@ export function quantileSorted(sorted: ArrayLike<number>, p: number): number {
  * G2 = (n−1)/((n−2)(n−3)) · [(n+1)(m4/m2² − 3) + 6], with m_k the k-th central moment (Joanes & Gill 1998).
  */
 export function describe(values: Sample): Description {
-  const m = moments(values, 'values');
+  // Tiny values (below ~1e-120) are described on a power-of-two scale so their squares cannot underflow.
+  const {
+    moments: [m],
+    exponent,
+  } = momentsOnCommonScale([values], ['values']);
+  const back = (v: number) => (exponent === 0 ? v : ldexp(v, -exponent));
   const sorted = copyChecked(values, 'values').sort();
   const n = m.n;
   let m2 = 0;
   let m3 = 0;
   let m4 = 0;
   for (let i = 0; i < n; i++) {
-    const d = sorted[i] - m.mean - m.meanResidual;
+    const d = (exponent === 0 ? sorted[i] : ldexp(sorted[i], exponent)) - m.mean - m.meanResidual;
     const d2 = d * d;
     m2 += d2;
     m3 += d2 * d;
@@ -57,14 +62,15 @@ export function describe(values: Sample): Description {
   m2 /= n;
   m3 /= n;
   m4 /= n;
-  const sd = Math.sqrt(m.variance);
+  const sd = back(Math.sqrt(m.variance));
   const skewness = n >= 3 && m2 > 0 ? ((Math.sqrt(n * (n - 1)) / (n - 2)) * m3) / Math.pow(m2, 1.5) : null;
   const kurtosis = n >= 4 && m2 > 0 ? ((n - 1) / ((n - 2) * (n - 3))) * ((n + 1) * (m4 / (m2 * m2) - 3) + 6) : null;
   return {
     n,
-    mean: m.mean,
+    mean: back(m.mean),
     sd,
-    variance: m.variance,
+    // The nearest double: for SDs below ~1e-162 the variance underflows to 0 although the SD does not.
+    variance: back(back(m.variance)),
     se: sd / Math.sqrt(n),
     min: sorted[0],
     q1: quantileSorted(sorted, 0.25),

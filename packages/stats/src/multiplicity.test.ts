@@ -32,3 +32,15 @@ describe('benjaminiHochberg against statsmodels multipletests(method="fdr_bh")',
     expect(() => benjaminiHochberg([])).toThrow(/at least one/);
   });
 });
+
+describe('benjaminiHochberg input types', () => {
+  it('accepts a Float64Array of p-values and gives the same result as a plain array', () => {
+    const p = [0.01, 0.04, 0.03, 0.2, 0.005];
+    expect(benjaminiHochberg(Float64Array.from(p), 0.05)).toEqual(benjaminiHochberg(p, 0.05));
+  });
+
+  it('refuses a non-array and an empty array', () => {
+    expect(() => benjaminiHochberg('0.01' as never)).toThrow(/array of p-values/);
+    expect(() => benjaminiHochberg(new Float64Array(0))).toThrow(/at least one p-value/);
+  });
+});

@@ -14,8 +14,11 @@ export interface BenjaminiHochbergResult {
  * adjusted p_(i) = min_{j ≥ i} min(1, m·p_(j)/j); reject when adjusted ≤ q (Benjamini & Hochberg 1995, JRSS-B 57:289–300;
  * WWC practice per Schochet 2008 — V).
  */
-export function benjaminiHochberg(pValues: readonly number[], q = 0.05): BenjaminiHochbergResult {
-  if (!Array.isArray(pValues) || pValues.length === 0) throw new StatsInputError('benjaminiHochberg needs at least one p-value');
+export function benjaminiHochberg(values: ArrayLike<number>, q = 0.05): BenjaminiHochbergResult {
+  // Any array of numbers, typed arrays included (a Float64Array of p-values is as valid as a plain array).
+  if (!Array.isArray(values) && !ArrayBuffer.isView(values)) throw new StatsInputError('benjaminiHochberg needs an array of p-values');
+  const pValues = Array.from(values);
+  if (pValues.length === 0) throw new StatsInputError('benjaminiHochberg needs at least one p-value');
   if (typeof q !== 'number' || !(q > 0 && q < 1)) throw new StatsInputError(`benjaminiHochberg: q must be strictly between 0 and 1 (got ${String(q)})`);
   pValues.forEach((p, i) => {
     if (typeof p !== 'number' || !(p >= 0 && p <= 1)) throw new StatsInputError(`benjaminiHochberg: p-value ${i + 1} must be in [0, 1] (got ${String(p)})`);

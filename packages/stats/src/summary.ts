@@ -179,3 +179,64 @@ export function checkGroupSummary(g: GroupSummary, label: string): void {
   if (!Number.isFinite(g.mean)) throw new StatsInputError(`${label}.mean must be finite (got ${g.mean})`);
   if (!Number.isFinite(g.sd) || g.sd < 0) throw new StatsInputError(`${label}.sd must be finite and >= 0 (got ${g.sd})`);
 }
+
+/** Below this m2 (2⁻⁹⁰⁰ ≈ 1e-271) squared deviations may have lost digits to underflow. */
+const TINY_M2 = 2 ** -900;
+/** Magnitudes outside [2⁻⁴⁰⁰, 2⁴⁰⁰] (≈ 4e-121 … 3e120) are rescaled before squaring. */
+const SAFE_LOW = 2 ** -400;
+const SAFE_HIGH = 2 ** 400;
+
+/** x · 2^k, exact unless the result is subnormal; two steps so 2^k itself never overflows (|k| ≤ 2100). */
+export function ldexp(x: number, k: number): number {
+  const half = Math.trunc(k / 2);
+  return x * 2 ** half * 2 ** (k - half);
+}
+
+/**
+ * The power-of-two exponent e that brings a magnitude near 1 (m·2^e in [½, 1)) when m lies outside the range where
+ * squares are safe, else 0 (m = 0 also gives 0).
+ */
+export function rescaleExponent(magnitude: number): number {
+  if (!(magnitude > 0) || (magnitude >= SAFE_LOW && magnitude <= SAFE_HIGH)) return 0;
+  let e = -Math.floor(Math.log2(magnitude)) - 1;
+  while (ldexp(magnitude, e) >= 1) e--;
+  while (ldexp(magnitude, e) < 0.5) e++;
+  return e;
+}
+
+/** True when an m2 (or other sum of squares) is small enough that its squares may have underflowed. */
+export function mayHaveUnderflowed(m2: number): boolean {
+  return m2 < TINY_M2;
+}
+
+/** The common exponent e for rescaling samples whose every |x| is below 2⁻⁴⁰⁰ (≈ 4e-121); 0 otherwise. */
+export function tinySamplesExponent(samples: readonly Sample[]): number {
+  let maxAbs = 0;
+  for (const x of samples) for (let i = 0; i < x.length; i++) maxAbs = Math.max(maxAbs, Math.abs(x[i]));
+  return maxAbs >= SAFE_LOW ? 0 : rescaleExponent(maxAbs);
+}
+
+/** Copies of the samples multiplied by 2^e (exact for normal and subnormal values alike). */
+export function scaleSamples(samples: readonly Sample[], exponent: number): Float64Array[] {
+  return samples.map((x) => {
+    const out = new Float64Array(x.length);
+    for (let i = 0; i < x.length; i++) out[i] = ldexp(x[i], exponent);
+    return out;
+  });
+}
+
+/**
+ * Moments of several samples on one power-of-two scale. When a sample's squared deviations could have underflowed
+ * (m2 below 2⁻⁹⁰⁰, possible only when every |x| is below about 1e-120), all samples are multiplied by the same power of
+ * two 2^e (exact) so the largest |x| is near 1, and their moments recomputed. Locations and spreads of the result are on
+ * that scale (multiply by 2^−e, `ldexp(v, −exponent)`); t, df, p, F and W do not depend on it. Values too large to
+ * square (|x − x₁| above about 1e154) are refused by `moments` with a clear message.
+ */
+export function momentsOnCommonScale(samples: readonly Sample[], labels: readonly string[]): { moments: Moments[]; exponent: number } {
+  const first = samples.map((x, i) => moments(x, labels[i]));
+  // m2 = 0 may be a constant sample or a total underflow; the magnitude check tells them apart.
+  if (!first.some((m) => mayHaveUnderflowed(m.m2))) return { moments: first, exponent: 0 };
+  const exponent = tinySamplesExponent(samples);
+  if (exponent === 0) return { moments: first, exponent: 0 };
+  return { moments: scaleSamples(samples, exponent).map((x, i) => moments(x, labels[i])), exponent };
+}

@@ -185,3 +185,53 @@ describe('input validation', () => {
     expect(r.ci[1]).toBe(Infinity);
   });
 });
+
+describe('data far below 1 in magnitude (scale before squaring)', () => {
+  // t, df and p do not depend on the unit; a power of two rescales exactly, 1e-80 to within one rounding per value.
+  const ids = ['unequal-5-12', 'unequal-var-small-large', 'scores-480-500', 'constant-group', 'near-zero-t'];
+  for (const c of fixture.twoSample.filter((x) => ids.includes(x.id))) {
+    for (const [label, factor] of [
+      ['2^-1000 ≈ 9e-302', 2 ** -1000],
+      ['1e-80', 1e-80],
+    ] as const) {
+      it(`${c.id} × ${label}: t, df and p are the SciPy fixture's, the mean difference and SE scale`, () => {
+        const a = generate(c.a).map((v) => v * factor);
+        const b = generate(c.b).map((v) => v * factor);
+        const opts = { alternative: c.alternative, confidence: c.confidence };
+        for (const [name, fn] of [
+          ['welch', welchT],
+          ['student', studentT],
+        ] as const) {
+          const ref = c.expected[name] as TTestRef;
+          const r = fn(a, b, opts);
+          expectStat(r.t, ref.t, `${name} t`, 1e-10, 1e-13);
+          expectStat(r.df, ref.df, `${name} df`);
+          expectP(r.p, ref.p, `${name} p`);
+          expectClose(r.meanDifference / factor, ref.meanDifference.value as number, 1e-10, 1e-13, `${name} mean difference`);
+          expectClose(r.se / factor, ref.se.value as number, 1e-10, 0, `${name} se`);
+          if (Number.isFinite(r.ci[0])) expectClose(r.ci[0] / factor, ref.ci[0].value as number, 1e-10, 1e-13, `${name} ci lower`);
+        }
+      });
+    }
+  }
+
+  it('from summaries, SDs of 1e-300 or 1e200 give the same t, df and p as SDs of 1 (NIST §1.3.5.3 data, rescaled)', () => {
+    const a = { n: 249, mean: 20.14458, sd: 6.4147 };
+    const b = { n: 79, mean: 30.48101, sd: 6.10771 };
+    const base = welchTFromSummary(a, b);
+    for (const f of [1e-300, 1e200]) {
+      const r = welchTFromSummary({ ...a, mean: a.mean * f, sd: a.sd * f }, { ...b, mean: b.mean * f, sd: b.sd * f });
+      expectClose(r.t, base.t, 1e-13, 0, 't');
+      expectClose(r.df, base.df, 1e-13, 0, 'df');
+      expectClose(r.p, base.p, 1e-12, 0, 'p');
+      expectClose(r.se / f, base.se, 1e-13, 0, 'se');
+      const s = studentTFromSummary({ ...a, mean: a.mean * f, sd: a.sd * f }, { ...b, mean: b.mean * f, sd: b.sd * f });
+      expectClose(s.t, studentTFromSummary(a, b).t, 1e-13, 0, 'student t');
+    }
+  });
+
+  it('still refuses two constant groups, however small (not a false "zero variance" from underflow)', () => {
+    expect(() => welchT([1e-300, 1e-300, 1e-300], [2e-300, 2e-300])).toThrow(/both groups have zero variance/);
+    expect(() => welchT([1e-300, 2e-300, 3e-300], [2e-300, 2e-300])).not.toThrow();
+  });
+});

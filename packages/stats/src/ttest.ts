@@ -1,7 +1,7 @@
 import { studentTCdf, studentTQuantile, studentTSf, studentTTwoSidedP } from './distributions.js';
 import { StatsInputError } from './errors.js';
 import { checkOptions, readAlternative, readConfidence, type Alternative, type Sample } from './input.js';
-import { checkGroupSummary, meanDifference, moments, type GroupSummary } from './summary.js';
+import { checkGroupSummary, ldexp, meanDifference, momentsOnCommonScale, rescaleExponent, type GroupSummary } from './summary.js';
 
 export interface TTestOptions {
   alternative?: Alternative;
@@ -59,6 +59,7 @@ function finish(
   method: 'welch' | 'student',
   opts: TTestOptions | undefined,
   fn: string,
+  exponent: number,
 ): TTestResult {
   const o = checkOptions(opts, OPTION_KEYS, fn);
   const alternative = readAlternative(o.alternative, fn);
@@ -73,35 +74,56 @@ function finish(
     const va = a.variance / a.n;
     const vb = b.variance / b.n;
     se = Math.sqrt(va + vb);
-    df = ((va + vb) * (va + vb)) / ((va * va) / (a.n - 1) + (vb * vb) / (b.n - 1));
+    // Scaled to the larger term before squaring: (va + vb)² and va² underflow for data near 1e-80 (df is scale-free).
+    const big = Math.max(va, vb);
+    const ra = va / big;
+    const rb = vb / big;
+    df = ((ra + rb) * (ra + rb)) / ((ra * ra) / (a.n - 1) + (rb * rb) / (b.n - 1));
   } else {
     df = a.n + b.n - 2;
     const pooled = ((a.n - 1) * a.variance + (b.n - 1) * b.variance) / df;
     se = Math.sqrt(pooled * (1 / a.n + 1 / b.n));
   }
   const t = diff / se;
+  // Back from the common power-of-two scale the moments were computed on (exponent 0: unchanged).
+  const back = (v: number) => (exponent === 0 ? v : ldexp(v, -exponent));
+  const ci = tInterval(diff, se, df, confidence, alternative);
   return {
     t,
     df,
     p: tPValue(t, df, alternative),
-    meanDifference: diff,
-    se,
-    ci: tInterval(diff, se, df, confidence, alternative),
+    meanDifference: back(diff),
+    se: back(se),
+    ci: [back(ci[0]), back(ci[1])],
     confidence,
     alternative,
     method,
     n1: a.n,
     n2: b.n,
-    mean1: a.mean,
-    mean2: b.mean,
-    sd1: Math.sqrt(a.variance),
-    sd2: Math.sqrt(b.variance),
+    mean1: back(a.mean),
+    mean2: back(b.mean),
+    sd1: back(Math.sqrt(a.variance)),
+    sd2: back(Math.sqrt(b.variance)),
   };
 }
 
-function fromSummary(s: GroupSummary, label: string): GroupStats {
-  checkGroupSummary(s, label);
-  return { n: s.n, mean: s.mean, meanResidual: 0, variance: s.sd * s.sd };
+function fromSummaries(a: GroupSummary, b: GroupSummary): { a: GroupStats; b: GroupStats; exponent: number } {
+  checkGroupSummary(a, 'group a');
+  checkGroupSummary(b, 'group b');
+  // SDs below ~1e-120 or above ~1e120 are brought near 1 by a common power of two before squaring.
+  const exponent = rescaleExponent(Math.max(a.sd, b.sd));
+  const stats = (s: GroupSummary): GroupStats => {
+    const sd = ldexp(s.sd, exponent);
+    const mean = ldexp(s.mean, exponent);
+    if (!Number.isFinite(mean)) throw new StatsInputError('the means are too large relative to the SDs to compare in double precision');
+    return { n: s.n, mean, meanResidual: 0, variance: sd * sd };
+  };
+  return { a: stats(a), b: stats(b), exponent };
+}
+
+function fromSamples(a: Sample, b: Sample): { a: GroupStats; b: GroupStats; exponent: number } {
+  const { moments, exponent } = momentsOnCommonScale([a, b], ['group a', 'group b']);
+  return { a: moments[0], b: moments[1], exponent };
 }
 
 /**
@@ -110,7 +132,8 @@ function fromSummary(s: GroupSummary, label: string): GroupStats {
  * Satterthwaite 1946). Evenhand's default two-group comparison: valid whether or not the arms' variances differ.
  */
 export function welchT(a: Sample, b: Sample, opts?: TTestOptions): TTestResult {
-  return finish(moments(a, 'group a'), moments(b, 'group b'), 'welch', opts, 'welchT');
+  const g = fromSamples(a, b);
+  return finish(g.a, g.b, 'welch', opts, 'welchT', g.exponent);
 }
 
 /**
@@ -118,15 +141,18 @@ export function welchT(a: Sample, b: Sample, opts?: TTestOptions): TTestResult {
  * df = n_a + n_b − 2 (Student 1908; Fisher 1925). Use only when equal variances are part of the pre-registered plan.
  */
 export function studentT(a: Sample, b: Sample, opts?: TTestOptions): TTestResult {
-  return finish(moments(a, 'group a'), moments(b, 'group b'), 'student', opts, 'studentT');
+  const g = fromSamples(a, b);
+  return finish(g.a, g.b, 'student', opts, 'studentT', g.exponent);
 }
 
 /** Welch's t test from published class summaries { n, mean, sd } (Welch 1947; NIST/SEMATECH e-Handbook §1.3.5.3). */
 export function welchTFromSummary(a: GroupSummary, b: GroupSummary, opts?: TTestOptions): TTestResult {
-  return finish(fromSummary(a, 'group a'), fromSummary(b, 'group b'), 'welch', opts, 'welchTFromSummary');
+  const g = fromSummaries(a, b);
+  return finish(g.a, g.b, 'welch', opts, 'welchTFromSummary', g.exponent);
 }
 
 /** Student's pooled t test from published summaries { n, mean, sd } (Student 1908; NIST/SEMATECH e-Handbook §1.3.5.3). */
 export function studentTFromSummary(a: GroupSummary, b: GroupSummary, opts?: TTestOptions): TTestResult {
-  return finish(fromSummary(a, 'group a'), fromSummary(b, 'group b'), 'student', opts, 'studentTFromSummary');
+  const g = fromSummaries(a, b);
+  return finish(g.a, g.b, 'student', opts, 'studentTFromSummary', g.exponent);
 }

@@ -1,8 +1,9 @@
+import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { expectClose, expectP, expectStat, fixture, generate } from '../test/fixtures.js';
+import { expectClose, expectP, expectStat, fixture, generate, type DataSpec } from '../test/fixtures.js';
 import { fQuantile, fSf } from './distributions.js';
 import { StatsInputError } from './errors.js';
-import { summarize } from './summary.js';
+import { summarize, twoSum } from './summary.js';
 import { levene, leveneFromDeviations, varianceRatioF, varianceRatioFFromSummary } from './variance.js';
 
 /** Straightforward Levene/Brown–Forsythe by sorting and two passes — the reference for the single-pass large-n path. */
@@ -138,7 +139,6 @@ describe('input validation', () => {
 
   it('varianceRatioF names the group with zero variance', () => {
     expect(() => varianceRatioF([1, 2, 3], [4, 4, 4])).toThrow(/group b has zero variance/);
-    expect(() => varianceRatioF([4, 4], [1, 2])).toThrow(/group a has zero variance/);
   });
 });
 
@@ -150,7 +150,12 @@ function deviationsOf(x: Float64Array, center: 'mean' | 'median') {
   const s = Float64Array.from(x).sort();
   const n = s.length;
   const m = summarize(x);
-  const [c, r] = center === 'median' ? [n % 2 ? s[(n - 1) / 2] : (s[n / 2 - 1] + s[n / 2]) / 2, 0] : [m.mean, m.meanResidual ?? 0];
+  // The median of an even group is (a + b)/2 exactly: its double plus the rounding error, as the engine keeps it.
+  const halves = (a: number, b: number): [number, number] => {
+    const [sum, err] = twoSum(a, b);
+    return [sum / 2, err / 2];
+  };
+  const [c, r] = center === 'median' ? (n % 2 ? [s[(n - 1) / 2], 0] : halves(s[n / 2 - 1], s[n / 2])) : [m.mean, m.meanResidual ?? 0];
   const sum = (f: (v: number) => number) => {
     let t = 0;
     let e = 0;
@@ -197,4 +202,47 @@ describe('leveneFromDeviations against the SciPy fixture (scipy.stats.levene) an
     expect(() => leveneFromDeviations([ok, ok], 'trimmed' as never)).toThrow(/center must be/);
     expect(() => leveneFromDeviations([ok], 'mean')).toThrow(/at least 2 groups/);
   });
+});
+
+describe('Brown–Forsythe with an even group size uses the exact median (exact fractions; make-range-fixtures.py)', () => {
+  const range = JSON.parse(readFileSync(new URL('../test/fixtures/range.json', import.meta.url), 'utf8')) as {
+    levene: { id: string; description: string; groups: DataSpec[]; statistic: number; p: number; scipyStatistic: number }[];
+  };
+  for (const c of range.levene) {
+    it(`${c.id}: ${c.description}`, () => {
+      const groups = c.groups.map((g) => Float64Array.from(generate(g)));
+      const r = levene(groups, { center: 'median' });
+      expectClose(r.statistic, c.statistic, 1e-10, 0, 'W (exact)');
+      expectClose(r.p, c.p, 1e-8, 1e-15, 'p (mpmath)');
+      // SciPy rounds the median to double, which is why the exact value is the reference here.
+      expect(Math.abs(c.scipyStatistic - c.statistic) / c.statistic).toBeGreaterThan(1e-10);
+    });
+  }
+});
+
+describe('variance tests at the edges of their range', () => {
+  it('when group a is constant, then F = 0 and the two-sided p is 0 (P(F ≤ 0) = 0); a constant group b still throws', () => {
+    const r = varianceRatioF([5, 5, 5, 5], [1, 2, 4, 8, 9]);
+    expect(r.f).toBe(0);
+    expect(r.p).toBe(0);
+    expect(varianceRatioFFromSummary({ n: 4, mean: 5, sd: 0 }, { n: 5, mean: 4.8, sd: 3.4 }).f).toBe(0);
+    expect(() => varianceRatioF([1, 2, 4, 8, 9], [5, 5, 5, 5])).toThrow(/group b has zero variance/);
+  });
+
+  for (const c of fixture.twoSample.filter((x) => ['unequal-5-12', 'scores-480-500', 'skewed-large-6000'].includes(x.id))) {
+    it(`${c.id} × 2^-1000: Levene (both centres) and F equal the SciPy fixture's`, () => {
+      const factor = 2 ** -1000;
+      const a = generate(c.a).map((v) => v * factor);
+      const b = generate(c.b).map((v) => v * factor);
+      for (const center of ['mean', 'median'] as const) {
+        const ref = c.expected.levene[center];
+        if (ref === null) continue;
+        const r = levene([a, b], { center });
+        expectStat(r.statistic, ref.statistic, `W ${center}`);
+        expectP(r.p, ref.p, `p ${center}`);
+      }
+      const f = c.expected.varianceRatio;
+      if (f !== null) expectStat(varianceRatioF(a, b).f, f.f, 'F');
+    });
+  }
 });

@@ -2,7 +2,18 @@ import { fCdf, fSf } from './distributions.js';
 import { StatsInputError } from './errors.js';
 import { checkOptions, describeNonFinite, requireInteger, requireNonNegative, requirePlainNumbers, requireSample, type Sample } from './input.js';
 import { copyChecked, finishBand, planBand, selectInPlace, SMALL } from './select.js';
-import { checkGroupSummary, moments, type GroupSummary } from './summary.js';
+import {
+  checkGroupSummary,
+  ldexp,
+  mayHaveUnderflowed,
+  moments,
+  momentsOnCommonScale,
+  rescaleExponent,
+  scaleSamples,
+  tinySamplesExponent,
+  twoSum,
+  type GroupSummary,
+} from './summary.js';
 
 export type LeveneCenter = 'mean' | 'median';
 
@@ -61,13 +72,12 @@ function medianDeviationsSmall(x: Sample, label: string): Deviations {
   const n = buf.length;
   const k = (n - 1) >> 1;
   selectInPlace(buf, k);
-  let med = buf[k];
-  if (n % 2 === 0) {
-    let next = buf[k + 1];
-    for (let i = k + 2; i < n; i++) if (buf[i] < next) next = buf[i];
-    med = (med + next) / 2;
-  }
-  return deviationsTwoPass(buf, med, 0);
+  if (n % 2 === 1) return deviationsTwoPass(buf, buf[k], 0);
+  let next = buf[k + 1];
+  for (let i = k + 2; i < n; i++) if (buf[i] < next) next = buf[i];
+  // The median (a + b)/2 as a double plus its rounding error, so the deviations use the exact median.
+  const [sum, error] = twoSum(buf[k], next);
+  return deviationsTwoPass(buf, sum / 2, error / 2);
 }
 
 /** Outputs of scanForMedianDeviations: Σu, Σu², Σ|u|, count below lo. */
@@ -178,8 +188,11 @@ function medianDeviationsLarge(x: Sample, label: string): Deviations {
   if (!Number.isFinite(s1) || !Number.isFinite(s2) || !Number.isFinite(sa)) throw describeNonFinite(x, label);
   const found = finishBand(band, m, below, k, kHigh, n);
   if (found === null) return medianDeviationsSmall(x, label);
-  const med = found[0] === found[1] ? found[0] : (found[0] + found[1]) / 2;
-  const d = med - shift;
+  // For even n the median (a + b)/2 is kept exact: d = M − K from the two differences, and M with its rounding error.
+  const [sum, error] = twoSum(found[0], found[1]);
+  const med = sum / 2;
+  const medResidual = error / 2;
+  const d = found[0] === found[1] ? found[0] - shift : (found[0] - shift + (found[1] - shift)) / 2;
   const low = Math.min(0, d);
   const high = Math.max(0, d);
   // Outside the band: below lo counts as "down", above hi as "up". Selection reordered the band but kept its values.
@@ -198,7 +211,7 @@ function medianDeviationsLarge(x: Sample, label: string): Deviations {
   const sumZ2 = s2 - 2 * d * s1 + n * d * d;
   const zMean = sumZ / n;
   const ss = sumZ2 - sumZ * zMean;
-  if (!(ss * 1e4 >= sumZ2)) return deviationsTwoPass(x, med, 0);
+  if (!(ss * 1e4 >= sumZ2)) return deviationsTwoPass(x, med, medResidual);
   return { n, zMean, zSs: Math.max(0, ss) };
 }
 
@@ -223,7 +236,12 @@ export function levene(groups: readonly Sample[], opts?: { center?: LeveneCenter
     throw new StatsInputError(`levene: center must be 'mean' or 'median' (got ${String(center)})`);
   }
   if (!Array.isArray(groups) || groups.length < 2) throw new StatsInputError('levene needs at least 2 groups');
-  return fromDeviations(groups.map((g, i) => groupDeviations(g, `group ${i + 1}`, center)), center);
+  const dev = groups.map((g, i) => groupDeviations(g, `group ${i + 1}`, center));
+  // Deviations below ~1e-150 square to subnormals; W is scale-free, so tiny data are rescaled by a power of two.
+  const exponent = dev.some((d) => mayHaveUnderflowed(d.zSs)) ? tinySamplesExponent(groups) : 0;
+  if (exponent === 0) return fromDeviations(dev, center);
+  const scaled = scaleSamples(groups, exponent);
+  return fromDeviations(scaled.map((g, i) => groupDeviations(g, `group ${i + 1}`, center)), center);
 }
 
 /** One group's absolute deviations z = |x − centre|: their count, mean, and sum of squares about that mean. */
@@ -278,7 +296,7 @@ function fromDeviations(dev: Deviations[], center: LeveneCenter): LeveneResult {
 function ratioTest(va: number, na: number, vb: number, nb: number): VarianceRatioResult {
   if (va === 0 && vb === 0) throw new StatsInputError('varianceRatioF: both groups have zero variance; F is undefined');
   if (vb === 0) throw new StatsInputError('varianceRatioF: group b has zero variance; F = s_a²/s_b² is undefined');
-  if (va === 0) throw new StatsInputError('varianceRatioF: group a has zero variance; the F test is degenerate');
+  // A constant group a gives F = 0, where P(F ≤ 0) = 0 and so the two-sided p is 0.
   const f = va / vb;
   const df1 = na - 1;
   const df2 = nb - 1;
@@ -291,8 +309,9 @@ function ratioTest(va: number, na: number, vb: number, nb: number): VarianceRati
  * P(F ≥ f)) (Snedecor & Cochran 1989; NIST/SEMATECH e-Handbook §1.3.5.9). Sensitive to non-normality; prefer Levene.
  */
 export function varianceRatioF(a: Sample, b: Sample): VarianceRatioResult {
-  const ma = moments(a, 'group a');
-  const mb = moments(b, 'group b');
+  const {
+    moments: [ma, mb],
+  } = momentsOnCommonScale([a, b], ['group a', 'group b']);
   return ratioTest(ma.variance, ma.n, mb.variance, mb.n);
 }
 
@@ -300,5 +319,9 @@ export function varianceRatioF(a: Sample, b: Sample): VarianceRatioResult {
 export function varianceRatioFFromSummary(a: GroupSummary, b: GroupSummary): VarianceRatioResult {
   checkGroupSummary(a, 'group a');
   checkGroupSummary(b, 'group b');
-  return ratioTest(a.sd * a.sd, a.n, b.sd * b.sd, b.n);
+  // SDs outside ~1e-120…1e120 are brought near 1 by a common power of two before squaring (F is scale-free).
+  const e = rescaleExponent(Math.max(a.sd, b.sd));
+  const sa = ldexp(a.sd, e);
+  const sb = ldexp(b.sd, e);
+  return ratioTest(sa * sa, a.n, sb * sb, b.n);
 }
