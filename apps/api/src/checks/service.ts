@@ -1,5 +1,5 @@
 import type { DataSource } from 'typeorm';
-import { attrition, baselineEquivalence, hedgesGFromSummary } from '@evenhand/stats';
+import { attrition, baselineEquivalence, baselineEquivalenceYesNo, coxIndexFromCounts, hedgesGFromSummary, normalQuantile } from '@evenhand/stats';
 import type { Arm, SessionUser } from '@evenhand/entities';
 import { currentPlan } from '../plans/service.js';
 import { findVisibleStudy } from '../studies/access.js';
@@ -11,12 +11,21 @@ const bandAdvice = {
   fails: 'Not equivalent at baseline (|g| > 0.25): the groups differed before the intervention.',
 } as const;
 
+const coxAdvice = {
+  satisfies: 'Equivalent at baseline (|Cox index| ≤ 0.05).',
+  'requires-adjustment': 'Equivalent only if the analysis adjusts for the baseline answer (0.05 < |Cox index| ≤ 0.25).',
+  fails: 'Not equivalent at baseline (|Cox index| > 0.25): the groups differed before the intervention.',
+} as const;
+
 /** The research lead's data checks: completeness, box plots, attrition against the published boundaries, baseline equivalence. */
 export async function studyChecks(db: DataSource, user: SessionUser, studyId: string) {
   const study = await findVisibleStudy(db.manager, user, studyId);
   await ensureSheets(db.manager, studyId);
   const plan = await currentPlan(db.manager, studyId);
-  const measures: { id: string; name: string; min_score: string; max_score: string }[] = await db.query(`SELECT id, name, min_score, max_score FROM measures WHERE study_id = $1 ORDER BY created_at`, [studyId]);
+  const measures: { id: string; name: string; scale: 'score' | 'yes-no'; min_score: string; max_score: string }[] = await db.query(
+    `SELECT id, name, scale, min_score, max_score FROM measures WHERE study_id = $1 ORDER BY created_at`,
+    [studyId],
+  );
   const waves: { id: string; name: string; kind: string }[] = await db.query(`SELECT id, name, kind FROM waves WHERE study_id = $1 ORDER BY opens_on`, [studyId]);
   const baseline = waves.find((w) => w.kind === 'baseline');
   const outcomeWaveId = plan?.content.primaryWaveId ?? waves.find((w) => w.kind === 'outcome')?.id;
@@ -69,8 +78,8 @@ export async function studyChecks(db: DataSource, user: SessionUser, studyId: st
     // Baseline equivalence on the analytic sample: students with both a baseline and an outcome score.
     let equivalence = null;
     if (baseline && outcomeWaveId) {
-      const rows: { arm: Arm; n: number; mean: number; sd: number }[] = await db.query(
-        `SELECT c.arm, count(*)::int AS n, avg(b.score::float8) AS mean, stddev_samp(b.score::float8) AS sd
+      const rows: { arm: Arm; n: number; mean: number; sd: number; yes: number }[] = await db.query(
+        `SELECT c.arm, count(*)::int AS n, avg(b.score::float8) AS mean, stddev_samp(b.score::float8) AS sd, sum(b.score)::int AS yes
            FROM scores b JOIN scores o ON o.student_code = b.student_code AND o.study_id = b.study_id AND o.wave_id = $3 AND o.measure_id = b.measure_id AND o.score IS NOT NULL
            JOIN classrooms c ON c.id = b.classroom_id
           WHERE b.study_id = $1 AND b.wave_id = $2 AND b.measure_id = $4 AND b.score IS NOT NULL AND c.arm IS NOT NULL
@@ -79,10 +88,30 @@ export async function studyChecks(db: DataSource, user: SessionUser, studyId: st
       );
       const bi = rows.find((r) => r.arm === 'intervention');
       const bc = rows.find((r) => r.arm === 'comparison');
-      if (bi && bc && bi.n >= 2 && bc.n >= 2 && bi.sd + bc.sd > 0) {
+      if (m.scale === 'yes-no' && bi && bc) {
+        // A yes/no characteristic: the Cox index, banded as g is (the published standard for binary characteristics).
+        const [ci, cc] = [{ yes: bi.yes, n: bi.n }, { yes: bc.yes, n: bc.n }];
+        const e = baselineEquivalenceYesNo(ci, cc, { zeroCell: 'add-half' });
+        const se = coxIndexFromCounts(ci, cc, { zeroCell: 'add-half' }).se;
+        const z = normalQuantile(0.975);
+        const { yes: _y1, ...intervention } = bi;
+        const { yes: _y2, ...comparison } = bc;
+        equivalence = {
+          g: e.coxIndex,
+          ci: [e.coxIndex - z * se, e.coxIndex + z * se] as [number, number],
+          effectSize: 'cox-index' as const,
+          band: e.band,
+          advice: coxAdvice[e.band],
+          intervention,
+          comparison,
+          adjustedInPlan: plan?.content.covariate === 'baseline',
+        };
+      } else if (bi && bc && bi.n >= 2 && bc.n >= 2 && bi.sd + bc.sd > 0) {
         const g = hedgesGFromSummary(bi, bc);
         const band = baselineEquivalence(g.g);
-        equivalence = { g: g.g, ci: g.ci, band: band.band, advice: bandAdvice[band.band], intervention: bi, comparison: bc, adjustedInPlan: plan?.content.covariate === 'baseline' };
+        const { yes: _y1, ...intervention } = bi;
+        const { yes: _y2, ...comparison } = bc;
+        equivalence = { g: g.g, ci: g.ci, effectSize: 'hedges-g' as const, band: band.band, advice: bandAdvice[band.band], intervention, comparison, adjustedInPlan: plan?.content.covariate === 'baseline' };
       }
     }
     perMeasure.push({

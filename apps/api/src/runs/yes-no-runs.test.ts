@@ -1,6 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { decidingTest, type RunResults } from '@evenhand/entities';
-import { chiSquareTest, clusterRobustFromRows, coxIndexFromCounts, fisherExactTest, oddsRatio, proportionDifference, proportionWithInterval, twoProportionZTest } from '@evenhand/stats';
+import { baselineEquivalenceYesNo, chiSquareTest, clusterRobustFromRows, coxIndexFromCounts, fisherExactTest, oddsRatio, proportionDifference, proportionWithInterval, twoProportionZTest } from '@evenhand/stats';
 import { startTestApp, type TestApp } from '../../test/app.js';
 import { createStudy, enrolClassrooms, fillSheet, samplePlan, send } from '../../test/fixtures.js';
 import { principalView } from './principal-view.js';
@@ -124,6 +124,34 @@ describe('yes/no comparisons', () => {
     expect(res.body.error.code).toBe('validation_failed');
     expect(['yes', 'Y', '1', 'TRUE', 'no', 'n', '0', 'false', ''].map((v) => rowFromCsv({ student_code: 'A1', score: v }, 2, 'yes-no').row?.score)).toEqual([1, 1, 1, 1, 0, 0, 0, 0, null]);
     expect(rowFromCsv({ student_code: 'A1', score: 'maybe' }, 2, 'yes-no').issues[0]).toMatchObject({ column: 'score', message: expect.stringMatching(/yes or no/) });
+  });
+});
+
+describe('checks of a yes/no measure', () => {
+  it('bands baseline equivalence of a yes/no characteristic by the Cox index of the analytic sample’s baseline answers', async () => {
+    const s = await createStudy(t.app, { seal: false, unitOfAssignment: 'classroom' });
+    const measure = await send(s.lead, 'post', `/api/studies/${s.studyId}/measures`, { name: 'Chronically absent', scale: 'yes-no', higherIsBetter: false, kind: 'behaviour' }, 201);
+    await send(s.lead, 'put', `/api/studies/${s.studyId}/plan`, samplePlan(measure.id, s.outcomeId), 200);
+    await send(s.lead, 'post', `/api/studies/${s.studyId}/plan/seal`, {}, 200);
+    const { classrooms } = await enrolClassrooms(s, 1, 2);
+    await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draws`, { seed: 'yes-no-checks', commit: true }, 201);
+    await s.coordinator.agent.get(`/api/studies/${s.studyId}/completion`).expect(200);
+    const arms: { id: string; arm: 'intervention' | 'comparison' }[] = await t.db.query(`SELECT id, arm FROM classrooms WHERE study_id = $1`, [s.studyId]);
+    const counts = { intervention: { yes: 0, n: 0 }, comparison: { yes: 0, n: 0 } };
+    for (const [k, c] of classrooms.entries()) {
+      const arm = arms.find((a) => a.id === c.id)!.arm;
+      // 20 students; the last has no outcome, so only 19 enter the analytic sample.
+      const before = Array.from({ length: 20 }, (_, i) => (i < 5 + 3 * k ? 1 : 0));
+      const after = before.map((_, i) => (i === 19 ? null : i % 3 === 0 ? 1 : 0));
+      await fillSheet(t.db, { classroomId: c.id, waveId: s.baselineId, measureId: measure.id }, before, `B${k}`);
+      await fillSheet(t.db, { classroomId: c.id, waveId: s.outcomeId, measureId: measure.id }, after, `B${k}`);
+      counts[arm] = { yes: before.slice(0, 19).reduce((a, b) => a + b, 0), n: 19 };
+    }
+    const checks = (await s.lead.agent.get(`/api/studies/${s.studyId}/checks`).expect(200)).body;
+    const eq = checks.measures.find((m: { measureId: string }) => m.measureId === measure.id).baselineEquivalence;
+    const expected = baselineEquivalenceYesNo(counts.intervention, counts.comparison, { zeroCell: 'add-half' });
+    expect(eq).toMatchObject({ effectSize: 'cox-index', band: expected.band });
+    expect(eq.g).toBeCloseTo(expected.coxIndex, 12);
   });
 });
 

@@ -72,8 +72,11 @@ export const measureChecksSchema = z.object({
   }),
   baselineEquivalence: z
     .object({
+      /** Hedges' g for a score; for a yes/no characteristic the Cox index (`effectSize` says which). */
       g: z.number(),
       ci: z.tuple([z.number(), z.number()]),
+      /** Absent in answers made before yes/no measures: Hedges' g. */
+      effectSize: z.enum(['hedges-g', 'cox-index']).optional(),
       band: z.enum(baselineBands),
       advice: z.string(),
       intervention: armBaselineSchema,

@@ -46,14 +46,18 @@ export function BaselinePanel({ measure, quasiExperimental }: { measure: Measure
       ) : (
         <>
           <div className="mt-3 flex flex-wrap items-baseline gap-x-4 gap-y-2">
-            <p className="text-2xl font-semibold tabular-nums">Hedges’ g = {formatNumber(b.g, 2)}</p>
+            <p className="text-2xl font-semibold tabular-nums">
+              {b.effectSize === 'cox-index' ? 'Cox index' : 'Hedges’ g'} = {formatNumber(b.g, 2)}
+            </p>
             <p className="tabular-nums text-ink-muted">95% CI {formatInterval(b.ci, 2)}</p>
             <Badge tone={bandBadges[b.band].tone}>{bandBadges[b.band].label}</Badge>
           </div>
           <p className="mt-2">
-            {b.advice} The pretest means are {formatNumber(b.intervention.mean, 1)} (intervention, {formatCount(b.intervention.n)} students)
-            and {formatNumber(b.comparison.mean, 1)} (comparison, {formatCount(b.comparison.n)} students), counting only students who also
-            have an outcome score.
+            {b.advice}{' '}
+            {b.effectSize === 'cox-index'
+              ? `At baseline ${formatNumber(b.intervention.mean * 100, 0)} % answered yes in the intervention arm (${formatCount(b.intervention.n)} students) and ${formatNumber(b.comparison.mean * 100, 0)} % in the comparison arm (${formatCount(b.comparison.n)} students)`
+              : `The pretest means are ${formatNumber(b.intervention.mean, 1)} (intervention, ${formatCount(b.intervention.n)} students) and ${formatNumber(b.comparison.mean, 1)} (comparison, ${formatCount(b.comparison.n)} students)`}
+            , counting only students who also have an outcome score.
           </p>
           <ul className="mt-4 space-y-2" aria-label="What each band requires">
             {bandRequirements(b.adjustedInPlan).map((r) => {
