@@ -90,7 +90,7 @@ export function DataTable<T>(props: DataTableProps<T>) {
         role="region"
         aria-labelledby={captionId}
         tabIndex={0}
-        className="overflow-x-auto rounded-lg border border-line bg-surface"
+        className="relative overflow-x-auto rounded-lg border border-line bg-surface"
       >
         <table className={`w-full border-collapse text-left ${refreshing ? 'opacity-60' : ''}`} aria-busy={loading || refreshing}>
           <caption id={captionId} className="sr-only">

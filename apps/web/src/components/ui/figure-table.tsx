@@ -23,6 +23,8 @@ interface FigureTableProps<K extends string> {
  * A small, fixed table of figures (a result's descriptives, a chart's numbers). Lists that page, sort
  * and filter on the server use DataTable instead.
  */
+// The frame is `relative` so that screen-reader-only text in a cell (absolutely positioned) stays inside the scrolling
+// frame; otherwise it widens the whole page on a phone.
 export function FigureTable<K extends string>({ caption, hideCaption = false, columns, rows, footer, className = '' }: FigureTableProps<K>) {
   const captionId = useId();
   const cell = (column: FigureColumn<K>, i: number) =>
@@ -33,7 +35,7 @@ export function FigureTable<K extends string>({ caption, hideCaption = false, co
       role="region"
       aria-labelledby={captionId}
       tabIndex={0}
-      className={`figure-table overflow-x-auto rounded-lg border border-line bg-surface ${className}`}
+      className={`figure-table relative overflow-x-auto rounded-lg border border-line bg-surface ${className}`}
     >
       <table className="w-full border-collapse text-sm">
         <caption id={captionId} className={hideCaption ? 'sr-only' : 'px-3 pt-3 pb-1 text-left font-semibold'}>

@@ -68,7 +68,7 @@ export function CompletionTable({ view, waveDates = [], highlight, sheetHref }: 
   const span = 3 + columns.length;
 
   return (
-    <div role="region" aria-labelledby="matrix-caption" tabIndex={0} className="overflow-x-auto rounded-lg border border-line bg-surface">
+    <div role="region" aria-labelledby="matrix-caption" tabIndex={0} className="relative overflow-x-auto rounded-lg border border-line bg-surface">
       <table className="w-full border-collapse text-left">
         <caption id="matrix-caption" className="sr-only">
           Completion of score sheets: classrooms by wave and measure

@@ -225,7 +225,7 @@ function UploadPreview({
       <Alert tone="success" title={`${stage.file.name} is ready: ${stage.rows} row${stage.rows === 1 ? '' : 's'}, no problems found`}>
         <p>Nothing has changed yet. {shown.length < stage.rows ? `The first ${shown.length} rows:` : 'The rows:'}</p>
       </Alert>
-      <div className="overflow-x-auto rounded-lg border border-line">
+      <div className="relative overflow-x-auto rounded-lg border border-line">
         <table className="w-full border-collapse text-left">
           <caption className="sr-only">
             The first rows of {stage.file.name}
@@ -270,7 +270,7 @@ function UploadProblems({ stage, onCancel }: { stage: Extract<Stage, { kind: 're
       </Alert>
       {stage.issues.length > 0 && (
         <>
-          <div className="overflow-x-auto rounded-lg border border-line">
+          <div className="relative overflow-x-auto rounded-lg border border-line">
             <table className="w-full border-collapse text-left">
               <caption className="sr-only">Problems in {stage.file.name}, by line</caption>
               <thead className="bg-sunken text-sm">

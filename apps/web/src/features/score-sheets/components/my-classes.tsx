@@ -75,7 +75,7 @@ export function ClassroomSheetsTable({ study, group }: { study: Study; group: Cl
       <h3 id={headingId} className="text-lg font-semibold">
         {group.classroomName} <span className="font-normal text-ink-muted">· {group.siteName}</span>
       </h3>
-      <div className="overflow-x-auto rounded-lg border border-line bg-surface">
+      <div className="relative overflow-x-auto rounded-lg border border-line bg-surface">
         <table className="w-full min-w-[48rem] table-fixed border-collapse text-left">
           <caption className="sr-only">
             Score sheets of {group.classroomName} in {study.title}

@@ -188,7 +188,7 @@ export function ScoreGrid({ label, rows, issues, onRowsChange, onActiveRowChange
         Arrow keys, Enter and Tab move between cells; Enter on the last row adds a row; Escape leaves the grid. To paste from a
         spreadsheet, copy the cells (for example the student code and score columns) and paste into the first cell to fill.
       </p>
-      <div className="overflow-x-auto rounded-lg border border-line bg-surface">
+      <div className="relative overflow-x-auto rounded-lg border border-line bg-surface">
         <table
           ref={tableRef}
           role="grid"

@@ -34,7 +34,7 @@ export function SheetRowsTable({ sheet }: { sheet: ScoreSheetDetail }) {
       <h2 id="rows-read-heading" className="text-xl font-semibold">
         Scores by student code
       </h2>
-      <div role="region" aria-labelledby="rows-read-heading" tabIndex={0} className="max-h-[36rem] overflow-auto rounded-lg border border-line bg-surface">
+      <div role="region" aria-labelledby="rows-read-heading" tabIndex={0} className="relative max-h-[36rem] overflow-auto rounded-lg border border-line bg-surface">
         <table className="w-full border-collapse text-left">
           <caption className="sr-only">
             Scores for {sheet.classroomName}, {sheet.waveName}, {sheet.measureName}
