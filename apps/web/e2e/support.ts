@@ -13,7 +13,8 @@ export async function signIn(page: Page, email: string, password = DEMO_PASSWORD
   await page.getByLabel('E-mail address').fill(email);
   await page.getByLabel('Password', { exact: true }).fill(password);
   await page.getByRole('button', { name: 'Sign in' }).click();
-  await expect(page).not.toHaveURL(/\/sign-in/);
+  // Password hashing is slow on purpose; on a busy machine signing in can take several seconds.
+  await expect(page).not.toHaveURL(/\/sign-in/, { timeout: 20_000 });
 }
 
 /** No serious or critical accessibility problems on the page as it is now. */

@@ -1,4 +1,4 @@
-import { clusterAdjusted, hedgesG, improvementIndex, studentT, welchT } from '@evenhand/stats';
+import { clusterAdjusted, hedgesCorrection, hedgesG, improvementIndex, studentTQuantile, twoLevelFromRows, welchT } from '@evenhand/stats';
 import { expect, test, type Locator, type Page } from '@playwright/test';
 import { formatCount, formatInterval, formatNumber, formatPStatement, formatSigned } from '../src/lib/format';
 import { areas, homePathFor, navigationFor, studyTabs, studyTabsFor, type Area, type StudyTab } from '../src/lib/navigation';
@@ -31,6 +31,8 @@ interface ScoreRow {
   classroom_id: string;
   site_name: string;
   score: number;
+  /** The student's score on the classroom's baseline sheet the run read (same measure), or null. */
+  pretest: number | null;
 }
 
 interface LockedRun {
@@ -44,7 +46,10 @@ interface LockedRun {
   rows: ScoreRow[];
 }
 
-/** The demo study's locked runs, each with the outcome rows of the sheets it froze (classroom arms as drawn). */
+/**
+ * The demo study's locked runs, each with the outcome rows of the sheets it froze (classroom arms as drawn) and each
+ * student's pretest from the baseline sheet of the same classroom among the run's input sheets.
+ */
 async function lockedRuns(): Promise<LockedRun[]> {
   const runs = await queryDatabase<Omit<LockedRun, 'rows'>>(
     `SELECT r.id, r.study_id, k.label, k.is_primary, (p.content->>'alpha')::float8 AS alpha, p.content->>'alternative' AS alternative,
@@ -58,11 +63,14 @@ async function lockedRuns(): Promise<LockedRun[]> {
     runs.map(async (run) => ({
       ...run,
       rows: await queryDatabase<ScoreRow>(
-        `SELECT c.arm, c.id AS classroom_id, si.name AS site_name, o.score::float8 AS score
+        `SELECT c.arm, c.id AS classroom_id, si.name AS site_name, o.score::float8 AS score, b.score::float8 AS pretest
            FROM runs r JOIN comparisons k ON k.id = r.comparison_id
            JOIN score_sheets sh ON sh.id = ANY (r.input_sheet_ids) AND sh.wave_id = k.wave_id AND sh.measure_id = k.measure_id
            JOIN scores o ON o.sheet_id = sh.id AND o.score IS NOT NULL
            JOIN classrooms c ON c.id = o.classroom_id JOIN sites si ON si.id = c.site_id
+           LEFT JOIN (score_sheets bs JOIN waves bw ON bw.id = bs.wave_id AND bw.kind = 'baseline')
+                  ON bs.id = ANY (r.input_sheet_ids) AND bs.classroom_id = sh.classroom_id AND bs.measure_id = sh.measure_id
+           LEFT JOIN scores b ON b.sheet_id = bs.id AND b.student_code = o.student_code AND b.score IS NOT NULL
           WHERE r.id = $1`,
         [run.id],
       ),
@@ -70,21 +78,66 @@ async function lockedRuns(): Promise<LockedRun[]> {
   );
 }
 
+const mean = (xs: number[]) => xs.reduce((s, x) => s + x, 0) / xs.length;
+const sd = (xs: number[]) => Math.sqrt(xs.reduce((s, x) => s + (x - mean(xs)) ** 2, 0) / (xs.length - 1));
+
+/**
+ * The registered two-level model refitted from the rows: students with both scores nested in their classrooms, the
+ * schools as blocks and the pretest as covariate (as apps/api/src/runs/clustered.ts fits it from the same students).
+ * Its g's 95% interval is the adjusted difference's interval on g's scale, as the run reports it.
+ */
 function recompute(run: LockedRun) {
   const arm = (a: ScoreRow['arm']) => run.rows.filter((r) => r.arm === a);
   const scores = (a: ScoreRow['arm']) => arm(a).map((r) => r.score);
   const classrooms = (a: ScoreRow['arm']) => new Set(arm(a).map((r) => r.classroom_id)).size;
   const [a, b] = [scores('intervention'), scores('comparison')];
-  const ci95 = { alternative: run.alternative, confidence: 0.95 };
-  const primary = welchT(a, b, { alternative: run.alternative, confidence: 1 - run.alpha });
-  const g = hedgesG(a, b);
-  const clustering = clusterAdjusted({ g: g.g, n1: a.length, n2: b.length, clusters1: classrooms('intervention'), clusters2: classrooms('comparison'), icc: run.icc });
-  return { a, b, primary, student: studentT(a, b, ci95), g, clustering, classrooms };
+  const both = run.rows.filter((r) => r.pretest !== null);
+  const model = twoLevelFromRows(
+    {
+      y: both.map((r) => r.score),
+      arm: both.map((r) => (r.arm === 'intervention' ? 1 : 0)),
+      cluster: both.map((r) => r.classroom_id),
+      block: both.map((r) => r.site_name),
+      covariates: [both.map((r) => r.pretest!)],
+    },
+    { confidence: 1 - run.alpha, alternative: run.alternative },
+  );
+  const scale = model.gCorrection / model.pooledSd;
+  const q = studentTQuantile(0.975, model.df);
+  const g = { g: model.g, ci: [scale * (model.estimate - q * model.se), scale * (model.estimate + q * model.se)] as [number, number] };
+  const clustering = clusterAdjusted({ g: hedgesG(a, b).g, n1: a.length, n2: b.length, clusters1: classrooms('intervention'), clusters2: classrooms('comparison'), icc: run.icc });
+  return { a, b, model, g, welch: welchT(a, b, { alternative: run.alternative, confidence: 0.95 }), clustering, classrooms, met: model.p < run.alpha };
 }
 
-const mean = (xs: number[]) => xs.reduce((s, x) => s + x, 0) / xs.length;
-const sd = (xs: number[]) => Math.sqrt(xs.reduce((s, x) => s + (x - mean(xs)) ** 2, 0) / (xs.length - 1));
-const effectSizeText = (g: ReturnType<typeof hedgesG>) =>
+/**
+ * Each site's arms as the results page weighs them: classroom means weighted by 1/(τ² + σ²/n) with the variance
+ * components of the model without pretest or blocks, over every student with an outcome; g on the whole
+ * comparison's pooled SD with Hedges' correction (apps/api/src/runs/clustered.ts siteEstimatesFromComponents).
+ */
+function siteRows(run: LockedRun) {
+  const { tau2, sigma2 } = twoLevelFromRows({
+    y: run.rows.map((r) => r.score),
+    arm: run.rows.map((r) => (r.arm === 'intervention' ? 1 : 0)),
+    cluster: run.rows.map((r) => r.classroom_id),
+  });
+  const [a, b] = [run.rows.filter((r) => r.arm === 'intervention').map((r) => r.score), run.rows.filter((r) => r.arm === 'comparison').map((r) => r.score)];
+  const ss = (xs: number[]) => xs.reduce((t, x) => t + (x - mean(xs)) ** 2, 0);
+  const pooledSd = Math.sqrt((ss(a) + ss(b)) / (a.length + b.length - 2));
+  const omega = hedgesCorrection(a.length + b.length - 2);
+  return [...new Set(run.rows.map((r) => r.site_name))].map((site) => {
+    const side = (arm: ScoreRow['arm']) => {
+      const byRoom = new Map<string, number[]>();
+      for (const r of run.rows) if (r.site_name === site && r.arm === arm) byRoom.set(r.classroom_id, [...(byRoom.get(r.classroom_id) ?? []), r.score]);
+      const rooms = [...byRoom.values()].map((xs) => ({ n: xs.length, mean: mean(xs), w: 1 / (tau2 + sigma2 / xs.length) }));
+      const total = rooms.reduce((t, c) => t + c.w, 0);
+      return { n: rooms.reduce((t, c) => t + c.n, 0), mean: rooms.reduce((t, c) => t + c.w * c.mean, 0) / total };
+    };
+    const [x, y] = [side('intervention'), side('comparison')];
+    return { site, x, y, g: (omega * (x.mean - y.mean)) / pooledSd };
+  });
+}
+
+const effectSizeText = (g: { g: number; ci: [number, number] }) =>
   `Hedges’ g = ${formatNumber(g.g, 2)} (95% CI ${formatInterval(g.ci, 2)}); improvement index ${formatSigned(improvementIndex(g.g), 1)} percentile points`;
 
 // ---------------------------------------------------------------------------------------------------------------
@@ -212,10 +265,12 @@ const areaChecks: Partial<Record<keyof typeof areas, (v: Visit) => Promise<void>
     for (const other of ['Brackenwold Middle School', 'Cinderhaze Elementary', 'Fernquillow Elementary']) await expect(main(page)).not.toContainText(other);
     // The locked primary result in plain words, with the recomputed effect size and p.
     const primary = runs.find((r) => r.is_primary)!;
-    const { g, primary: welch, a, b } = recompute(primary);
+    const { g, model, met, a, b } = recompute(primary);
     const result = school.getByRole('article', { name: primary.label, exact: true });
     await expect(result).toContainText(`Hedges’ g = ${formatNumber(g.g, 2)} (95% interval ${formatNumber(g.ci[0], 2)} to ${formatNumber(g.ci[1], 2)})`);
-    await expect(result).toContainText(formatPStatement(welch.p));
+    // The deciding analysis's p (the two-level model), never the student-level one.
+    await expect(result.getByRole('definition').filter({ hasText: /^(Met|Not met)$/ })).toHaveText(met ? 'Met' : 'Not met');
+    await expect(result).toContainText(formatPStatement(model.p));
     expect(a.length + b.length).toBeGreaterThan(0);
     // The school's own arms, recomputed from its rows; any group under 10 students must not show its count.
     const own = primary.rows.filter((r) => r.site_name === 'Alderquill Elementary');
@@ -245,7 +300,7 @@ const tabChecks: Record<StudyTab, (v: Visit) => Promise<void>> = {
   async plan({ page }) {
     const plan = main(page).getByRole('region', { name: 'The plan in force: version 2' });
     await expect(plan).toContainText('Oral reading fluency (words correct per minute)');
-    await expect(plan).toContainText('Welch’s t test');
+    await expect(plan).toContainText('Two-level model: students within their assigned classrooms or schools');
     await expect(main(page).getByRole('region', { name: 'Version history' })).toContainText('Version 2 · amendment');
     // The power chart's text equivalent: its name says what it shows and a table lists its points.
     await expect(plan.getByRole('img', { name: /minimum detectable effect size falls/ })).toBeVisible();
@@ -296,30 +351,30 @@ const tabChecks: Record<StudyTab, (v: Visit) => Promise<void>> = {
     await lockedLink(primary).click();
     await expect(page).toHaveURL(new RegExp(`/comparisons/runs/${primary.id}$`));
     await expect(page.getByTestId('primary-test')).toHaveText(
-      `t = ${formatNumber(x.primary.t, 2)}, df = ${formatNumber(x.primary.df, 1)}, ${formatPStatement(x.primary.p)}; difference ` +
-        `${formatSigned(x.primary.meanDifference, 2)} (${Math.round((1 - primary.alpha) * 100)}% CI ${formatInterval(x.primary.ci, 2)})`,
+      `Difference ${formatSigned(x.model.estimate, 2)} (${Math.round((1 - primary.alpha) * 100)}% CI ${formatInterval(x.model.ci, 2)}); ` +
+        `t = ${formatNumber(x.model.t, 2)}, df = ${formatNumber(x.model.df, 1)}, ${formatPStatement(x.model.p)}`,
     );
-    await expect(page.getByTestId('headline')).toContainText(`${formatNumber(Math.abs(x.primary.meanDifference), 2)} higher`);
+    await expect(page.getByTestId('headline')).toContainText(`${formatNumber(Math.abs(x.model.estimate), 2)} ${x.model.estimate > 0 ? 'higher' : 'lower'}`);
     await expect(page.getByTestId('effect-size')).toHaveText(effectSizeText(x.g));
-    await expect(page.getByTestId('clustering')).toContainText(
-      `t = ${formatNumber(x.clustering.tAdjusted, 2)}, df h = ${formatNumber(x.clustering.df, 1)}, ${formatPStatement(x.clustering.p)}`,
-    );
     const arms = table(page, `${primary.label}, by arm`);
     for (const [arm, values] of [['Intervention', x.a], ['Comparison', x.b]] as const) {
       const cells = [formatCount(values.length), String(x.classrooms(arm === 'Intervention' ? 'intervention' : 'comparison')), formatNumber(mean(values), 2), formatNumber(sd(values), 2), formatNumber(sd(values) / Math.sqrt(values.length), 2)];
       await expect(arms.getByRole('row').filter({ has: page.getByRole('rowheader', { name: arm, exact: true }) }).getByRole('cell')).toHaveText([...cells, /./, /./, /./, /./, /./]);
     }
-    await expect(table(page, 'Sensitivity checks').getByRole('row').filter({ hasText: 'Student’s pooled t test' })).toContainText(
-      `t = ${formatNumber(x.student.t, 2)}, df = ${formatNumber(x.student.df, 1)}`,
+    // Welch's t over students and the clustering correction are sensitivity checks now, each a row of their own.
+    const sensitivity = table(page, 'Sensitivity checks');
+    await expect(sensitivity.getByRole('row').filter({ hasText: 'Welch’s t test over students' })).toContainText(
+      `t = ${formatNumber(x.welch.t, 2)}, df = ${formatNumber(x.welch.df, 1)}`,
     );
-    // The forest plot's text equivalent: each site's arms and effect size, recomputed from that site's rows.
+    await expect(sensitivity.getByRole('row').filter({ hasText: 'Welch’s t with the clustering correction' })).toContainText(
+      `t = ${formatNumber(x.clustering.tAdjusted, 2)}, degrees of freedom ${formatNumber(x.clustering.df, 1)}`,
+    );
+    // The forest plot's text equivalent: each site's students, its arms as the model weighs its classrooms, and g.
     const bySite = table(page, 'Effect size by site');
-    const sites = [...new Set(primary.rows.map((r) => r.site_name))];
+    const sites = siteRows(primary);
     await expect(bodyRows(bySite)).toHaveCount(sites.length + 1);
-    for (const site of sites) {
-      const own = (a: ScoreRow['arm']) => primary.rows.filter((r) => r.site_name === site && r.arm === a).map((r) => r.score);
-      const [si, sc] = [own('intervention'), own('comparison')];
-      const cells = [formatCount(si.length), formatCount(sc.length), formatNumber(mean(si), 1), formatNumber(mean(sc), 1), formatNumber(hedgesG(si, sc).g, 2)];
+    for (const { site, x: si, y: sc, g } of sites) {
+      const cells = [formatCount(si.n), formatCount(sc.n), formatNumber(si.mean, 1), formatNumber(sc.mean, 1), formatNumber(g, 2)];
       await expect(bySite.getByRole('row').filter({ has: page.getByRole('rowheader', { name: site, exact: true }) }).getByRole('cell')).toHaveText([...cells, /./, /./]);
     }
     await expect(page.getByRole('img', { name: new RegExp(`^Forest plot of Hedges’ g for ${sites.length} sites`) })).toBeVisible();
@@ -335,9 +390,19 @@ const tabChecks: Record<StudyTab, (v: Visit) => Promise<void>> = {
     await expect(results.getByRole('row').filter({ hasText: primary.label })).toContainText(`${formatNumber(x.g.g, 2)}`);
     await expect(main(page).getByRole('region', { name: 'Intervention arm', exact: true })).toContainText(formatCount(x.a.length));
     await expectAccessibleOnce(page);
+    // The seed locks while some sheets are not accepted; the report says so beside the flow.
+    const notAnalysed = await queryDatabase<{ n: number }>(
+      `SELECT count(*)::int AS n FROM classrooms c WHERE c.study_id = $1 AND NOT EXISTS (
+         SELECT 1 FROM runs r JOIN score_sheets sh ON sh.id = ANY (r.input_sheet_ids) JOIN comparisons k ON k.id = r.comparison_id
+          WHERE r.id = $2 AND sh.classroom_id = c.id AND sh.wave_id = k.wave_id AND sh.measure_id = k.measure_id)`,
+      [primary.study_id, primary.id],
+    ).then(([r]) => r.n);
+    if (notAnalysed > 0) await expect(page.getByTestId('open-sheets-note')).toContainText(`The result was locked while ${notAnalysed} of 24 classrooms had no accepted outcome sheet`);
     await page.emulateMedia({ media: 'print' });
     await expect(page.getByRole('navigation', { name: 'Main' })).toBeHidden();
     await expect(page.getByRole('navigation', { name: 'Study' })).toBeHidden();
+    await expect(page.getByTestId('breadcrumb')).toBeHidden();
+    await expect(page.getByTestId('study-state')).toBeHidden();
     await expect(page.getByRole('button', { name: 'Print the report' })).toBeHidden();
     await expect(page.getByRole('heading', { name: 'Participant flow' })).toBeVisible();
     await expect(page.getByRole('img', { name: /^Effect sizes of \d+ comparisons/ })).toBeVisible();
