@@ -35,5 +35,7 @@ export default defineConfig({
     // Playwright specs live in e2e/ and the build in dist/: keep both out of the unit run.
     include: ['src/**/*.test.{ts,tsx}'],
     setupFiles: ['src/test-setup.ts'],
+    // A test that opens a lazily loaded page compiles that page's modules on first import, which a busy machine makes slow.
+    testTimeout: 15_000,
   },
 });

@@ -4,7 +4,7 @@ import { afterEach } from 'vitest';
 
 // Signed-in pages load through their routes' `lazy`, and in the test run a page's first import compiles its modules:
 // give `findBy…` more than the default second.
-configure({ asyncUtilTimeout: 5000 });
+configure({ asyncUtilTimeout: 10_000 });
 
 afterEach(() => {
   cleanup();

@@ -9,7 +9,7 @@ import { applyApiError, type FormProblem } from '@/lib/form-errors';
  */
 export function useApiSubmit<TFieldValues extends FieldValues, TContext, TValues>(
   form: UseFormReturn<TFieldValues, TContext, TValues>,
-  fields: readonly (keyof TFieldValues & string)[],
+  fields: readonly string[],
   send: (values: TValues) => Promise<unknown>,
 ) {
   const [problem, setProblem] = useState<FormProblem | null>(null);

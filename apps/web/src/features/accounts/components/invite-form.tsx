@@ -1,12 +1,11 @@
 import { inviteUserSchema, type InviteUser, type Site } from '@evenhand/entities';
 import { zodResolver } from '@hookform/resolvers/zod';
-import { useState } from 'react';
 import { FormProvider, useForm } from 'react-hook-form';
 import { Button } from '@/components/ui/button';
 import { Field, TextInput } from '@/components/ui/field';
 import { FormProblemAlert } from '@/components/ui/form-problem-alert';
 import { GrantsFieldset } from '@/features/accounts/components/grants-fieldset';
-import { applyApiError, type FormProblem } from '@/lib/form-errors';
+import { useApiSubmit } from '@/lib/use-api-submit';
 
 interface InviteFormProps {
   sites: Site[];
@@ -15,26 +14,15 @@ interface InviteFormProps {
 }
 
 export function InviteForm({ sites, onInvite, onCancel }: InviteFormProps) {
-  const [problem, setProblem] = useState<FormProblem | null>(null);
   const form = useForm({
     resolver: zodResolver(inviteUserSchema),
     defaultValues: { email: '', name: '', roles: [{ role: 'teacher' as const, siteId: null }] },
   });
   const {
     register,
-    handleSubmit,
-    setError,
     formState: { errors, isSubmitting },
   } = form;
-
-  const onSubmit = handleSubmit(async (input) => {
-    setProblem(null);
-    try {
-      await onInvite(input);
-    } catch (error) {
-      setProblem(applyApiError(error, setError, ['email', 'name', 'roles']));
-    }
-  });
+  const { onSubmit, problem } = useApiSubmit(form, ['email', 'name', 'roles'], onInvite);
 
   return (
     <FormProvider {...form}>

@@ -1,13 +1,12 @@
 import { enrolSiteSchema, type EnrolSite, type Site } from '@evenhand/entities';
 import { zodResolver } from '@hookform/resolvers/zod';
-import { useState } from 'react';
 import { useForm, type Resolver } from 'react-hook-form';
 import { Button } from '@/components/ui/button';
 import { ChoiceGroup } from '@/components/ui/choice-group';
 import { Field, Select, TextInput } from '@/components/ui/field';
 import { FormProblemAlert } from '@/components/ui/form-problem-alert';
-import { applyApiError, type FormProblem } from '@/lib/form-errors';
 import { plainMessages } from '@/lib/form-messages';
+import { useApiSubmit } from '@/lib/use-api-submit';
 
 interface Values {
   source: 'existing' | 'new';
@@ -39,29 +38,20 @@ interface EnrolSiteFormProps {
 }
 
 export function EnrolSiteForm({ available, onEnrol, onCancel }: EnrolSiteFormProps) {
-  const [problem, setProblem] = useState<FormProblem | null>(null);
-  const {
-    register,
-    handleSubmit,
-    setError,
-    watch,
-    formState: { errors, isSubmitting },
-  } = useForm<Values, unknown, EnrolSite>({
+  const form = useForm<Values, unknown, EnrolSite>({
     resolver,
     defaultValues: { source: available.length > 0 ? 'existing' : 'new', siteId: '', name: '', code: '', principal: { email: '', name: '' } },
   });
+  const {
+    register,
+    watch,
+    formState: { errors, isSubmitting },
+  } = form;
   const source = watch('source');
   const siteId = watch('siteId');
   const chosen = available.find((s) => s.id === siteId);
 
-  const onSubmit = handleSubmit(async (input) => {
-    setProblem(null);
-    try {
-      await onEnrol(input);
-    } catch (error) {
-      setProblem(applyApiError(error, setError, ['siteId', 'name', 'code', 'principal']));
-    }
-  });
+  const { onSubmit, problem } = useApiSubmit(form, ['siteId', 'name', 'code', 'principal'], onEnrol);
 
   return (
     <form noValidate onSubmit={onSubmit} className="space-y-5">

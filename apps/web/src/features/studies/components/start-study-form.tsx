@@ -1,12 +1,11 @@
 import { createStudySchema, unitsOfAssignment, type CreateStudy } from '@evenhand/entities';
 import { zodResolver } from '@hookform/resolvers/zod';
-import { useState } from 'react';
 import { useForm } from 'react-hook-form';
 import { Button } from '@/components/ui/button';
 import { Field, Select, TextArea, TextInput } from '@/components/ui/field';
 import { FormProblemAlert } from '@/components/ui/form-problem-alert';
-import { applyApiError, type FormProblem } from '@/lib/form-errors';
 import { unitLabels } from '@/lib/study';
+import { useApiSubmit } from '@/lib/use-api-submit';
 
 interface StartStudyFormProps {
   onStart: (input: CreateStudy) => Promise<unknown>;
@@ -20,27 +19,17 @@ const unitHints: Record<(typeof unitsOfAssignment)[number], string> = {
 };
 
 export function StartStudyForm({ onStart, onCancel }: StartStudyFormProps) {
-  const [problem, setProblem] = useState<FormProblem | null>(null);
-  const {
-    register,
-    handleSubmit,
-    setError,
-    watch,
-    formState: { errors, isSubmitting },
-  } = useForm({
+  const form = useForm({
     resolver: zodResolver(createStudySchema),
     defaultValues: { title: '', intervention: '', comparisonCondition: '', unitOfAssignment: 'classroom' as const },
   });
+  const {
+    register,
+    watch,
+    formState: { errors, isSubmitting },
+  } = form;
   const unit = watch('unitOfAssignment');
-
-  const onSubmit = handleSubmit(async (input) => {
-    setProblem(null);
-    try {
-      await onStart(input);
-    } catch (error) {
-      setProblem(applyApiError(error, setError, Object.keys(createStudySchema.shape)));
-    }
-  });
+  const { onSubmit, problem } = useApiSubmit(form, Object.keys(createStudySchema.shape), onStart);
 
   return (
     <form noValidate onSubmit={onSubmit} className="space-y-5">
