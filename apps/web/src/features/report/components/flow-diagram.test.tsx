@@ -20,8 +20,8 @@ describe('FlowDiagram', () => {
     const steps = within(intervention).getAllByRole('listitem');
     expect(steps.map((s) => within(s).getByRole('heading').textContent)).toEqual(['Allocated', 'Followed up', 'Analysed']);
     expect(steps[0]).toHaveTextContent('12 classrooms, 313 students');
-    expect(steps[1]).toHaveTextContent('227 students with an outcome score; 86 lost to follow-up');
-    expect(steps[2]).toHaveTextContent('10 classrooms, 227 students; 2 classrooms without any outcome score');
+    expect(steps[1]).toHaveTextContent('227 students with an outcome score on an accepted sheet; 86 not analysed (left the study, no score, or their classroom’s sheet not accepted');
+    expect(steps[2]).toHaveTextContent('10 classrooms, 227 students; 2 classrooms without an accepted outcome sheet');
     expect(screen.getByRole('region', { name: 'Comparison arm' })).toHaveTextContent('12 classrooms, 299 students');
   });
 });

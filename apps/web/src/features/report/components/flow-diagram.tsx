@@ -39,15 +39,15 @@ function ArmColumn({ flow }: { flow: Flow }) {
         <li>
           <Arrow />
           <Box title="Followed up">
-            {formatCount(flow.studentsFollowedUp)} students with an outcome score; {formatCount(lost)} lost to follow-up (left the study or no
-            outcome score)
+            {formatCount(flow.studentsFollowedUp)} students with an outcome score on an accepted sheet; {formatCount(lost)} not analysed (left
+            the study, no score, or their classroom’s sheet not accepted: not entered, returned or awaiting review)
           </Box>
         </li>
         <li>
           <Arrow />
           <Box title="Analysed">
             {formatCount(flow.classroomsAnalysed)} classrooms, {formatCount(flow.studentsAnalysed)} students
-            {classroomsLost > 0 && `; ${formatCount(classroomsLost)} ${classroomsLost === 1 ? 'classroom' : 'classrooms'} without any outcome score`}
+            {classroomsLost > 0 && `; ${formatCount(classroomsLost)} ${classroomsLost === 1 ? 'classroom' : 'classrooms'} without an accepted outcome sheet`}
             {excluded > 0 && `; ${formatCount(excluded)} students excluded`}
           </Box>
         </li>
