@@ -319,7 +319,11 @@ describe('sign-in options', () => {
   });
 
   it('when the API runs in production, then it lists no demo account, even with the demo accounts in its database', async () => {
-    const config = testConfig(t.databaseUrl, { NODE_ENV: 'production', JWT_SECRET: 'a-production-secret-of-at-least-32-characters' });
+    const config = testConfig(t.databaseUrl, {
+      NODE_ENV: 'production',
+      JWT_SECRET: 'a-production-secret-of-at-least-32-characters',
+      ROSTER_LINK_SECRET: 'a-production-roster-key-of-at-least-32-characters',
+    });
     const mailer = createMailer(config);
     try {
       const production = createApp({ config, db: t.db, mailer, logger: createLogger(config), jobs: t.jobs });
