@@ -204,7 +204,6 @@ const tr = (A: number[][]) => A[0].map((_, j) => A.map((row) => row[j]));
 
 /** V = Σ (c'MX_j'A_j e_j)², A_j by eigen-decomposition of I − X_j M X_j'; P_ij = g_i'g_j with g_j = (I − H)[:, j] A_j X_j M c. */
 function denseCr2(rows: { y: number[]; arm: number[]; cluster: string[]; block?: string[]; covariates?: number[][] }) {
-  const N = rows.y.length;
   const labels = rows.block ? [...new Set(rows.block)].sort() : [];
   const X = rows.y.map((_, i) => [
     1,

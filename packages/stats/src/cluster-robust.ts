@@ -391,7 +391,7 @@ function inverseOfGram(G: Float64Array, p: number, collinear: (c: number) => str
  * and Σ_{i≠j} P_ij² = tr((MΩ)²) − Σ_j (w_j'Mw_j)² with Ω = Σ_j w_j w_j', w_j = X_j'a_j.
  */
 function cr2ForArm(d: Design, fit: LeastSquares): { estimate: number; se: number; df: number; singularUnits: number } {
-  const { J, k, B, p, n, meanY, meanX, spXY, spXX } = d;
+  const { J, k, B, p, n, meanY, spXY, spXX } = d;
   const { M, beta } = fit;
   const K = k + 1;
   const armCol = B;

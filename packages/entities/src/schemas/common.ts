@@ -3,6 +3,7 @@ import { z } from 'zod';
 export const idSchema = z.uuid();
 
 /** A NUL character, or half of a UTF-16 surrogate pair with its other half missing. */
+// eslint-disable-next-line no-control-regex -- the NUL character is exactly what this refuses
 const NOT_TEXT = /\u0000|[\uD800-\uDBFF](?![\uDC00-\uDFFF])|(?<![\uD800-\uDBFF])[\uDC00-\uDFFF]/;
 
 /**

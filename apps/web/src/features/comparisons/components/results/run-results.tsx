@@ -33,7 +33,7 @@ export function Cautions({ cautions }: { cautions: string[] }) {
 }
 
 /** A run's results in Evenhand's order: the registered primary result first, then what qualifies it. */
-export function RunResultsView({ run, results, comparison }: { run: Run; results: RunResults; comparison: Comparison | undefined }) {
+export function RunResultsView({ run, results }: { run: Run; results: RunResults; comparison: Comparison | undefined }) {
   return (
     <div className="space-y-10">
       <div className="grid gap-6 lg:grid-cols-[minmax(0,2fr)_minmax(0,1fr)]">
