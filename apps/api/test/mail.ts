@@ -16,8 +16,8 @@ export async function mailTo(address: string): Promise<CaughtMail[]> {
   return all.filter((m) => m.to.some((t) => t.address.toLowerCase() === address.toLowerCase()));
 }
 
-/** Waits for the n-th message to an address (mail is sent after the response in some flows). */
-export async function waitForMail(address: string, count = 1, timeoutMs = 10_000): Promise<CaughtMail[]> {
+/** Waits for the n-th message to an address: every e-mail is sent by the outbox's job, after the response. */
+export async function waitForMail(address: string, count = 1, timeoutMs = 30_000): Promise<CaughtMail[]> {
   const until = Date.now() + timeoutMs;
   for (;;) {
     const found = await mailTo(address);
