@@ -189,7 +189,7 @@ describe('naming people for school roles', () => {
     expect(classroom.teacher).toMatchObject({ email, invitationPending: true });
     expect(await grants(email)).toEqual(before);
     let mail: CaughtMail | undefined;
-    await expect.poll(async () => (mail = (await mailTo(email)).find((m) => m.subject === `Accept your role at ${siteName}`)), { timeout: 10_000 }).toBeTruthy();
+    await expect.poll(async () => (mail = (await mailTo(email)).find((m) => m.subject === `Accept your role at ${siteName}`)), { timeout: 30_000 }).toBeTruthy();
     expect(mail!.text).toContain(`has named you teacher at ${siteName}`);
 
     // Named but not accepted: the classroom's sheets are not theirs yet.
