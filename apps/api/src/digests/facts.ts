@@ -16,6 +16,7 @@ interface LockedRunRow {
 
 /** The plain-language result a principal reads, from the run's own numbers. */
 export function resultSentences(r: RunResults, favours: SiteResult['district']['favours']): string[] {
+  if (r.yesNo) return yesNoSentences(r, r.yesNo, favours);
   const g = r.effectSize.g;
   const where = `on ${r.measure.name} at ${r.wave.name}`;
   const same = formatNumber(g, 2) === formatNumber(0, 2);
@@ -41,6 +42,35 @@ export function resultSentences(r: RunResults, favours: SiteResult['district']['
   return [finding, size, verdict];
 }
 
+/**
+ * A yes/no measure in a principal's words: the share of each arm answering yes (only while no yes or no count of the
+ * district is under the minimum), the difference in percentage points, the Cox index and the deciding test.
+ */
+function yesNoSentences(r: RunResults, y: NonNullable<RunResults['yesNo']>, favours: SiteResult['district']['favours']): string[] {
+  const [i, c] = [y.arms.find((a) => a.arm === 'intervention')!, y.arms.find((a) => a.arm === 'comparison')!];
+  const pct = (x: number) => `${formatNumber(x * 100, 0)} %`;
+  const where = `“${r.measure.name}” at ${r.wave.name}`;
+  const hidden = y.arms.some((a) => suppressCounts([a.yes, a.no]).hidden);
+  const d = decidingTest(r);
+  const points = formatNumber(Math.abs(d.estimate) * 100, 1);
+  const good = `“${y.yesIsGood ? 'Yes' : 'No'}” is the good answer on this measure`;
+  const finding = hidden
+    ? `Across all schools in the study, the share of each group answering yes to ${where} is not shown: a group has ${SUPPRESSED_WORDS} answering yes or no.`
+    : favours === 'neither'
+      ? `Across all schools in the study, ${pct(i.proportion)} of students in intervention classrooms answered yes to ${where}, against ${pct(c.proportion)} in comparison classrooms: about the same.`
+      : `Across all schools in the study, ${pct(i.proportion)} of students in intervention classrooms answered yes to ${where}, against ${pct(c.proportion)} in comparison classrooms: ${points} percentage points ${d.estimate > 0 ? 'more' : 'fewer'}. ${good}, so the difference favours the ${favours}.`;
+  const cox = y.coxIndex;
+  const size = `The size of the difference is a Cox index of ${formatNumber(cox.value, 2)} (the published evidence standard's effect size for yes/no outcomes), an improvement index of ${formatSigned(cox.improvementIndex, 0)}. ${
+    cox.substantivelyImportant ? 'That is at least the 0.25 the standard counts as substantively important.' : 'That is below the 0.25 the standard counts as substantively important.'
+  }`;
+  const test = `${decidingAnalysisNames[d.analysis]}, ${sidedness[d.alternative] ?? d.alternative}, at alpha ${formatAlpha(r.alpha)}`;
+  const verdict = `${d.significant ? 'It meets' : 'It does not meet'} the test registered in the plan before the data were in (${test}): ${formatPStatement(d.p)}. A p-value is not the size of the effect: read it with the Cox index.`;
+  return hidden ? [finding, verdict] : [finding, size, verdict];
+}
+
+/** A school's yes/no share reveals its yes count (share × students): shown only when both that count and the no count may be. */
+const yesNoShareShown = (mean: number, n: number) => !suppressCounts([Math.round(mean * n), n - Math.round(mean * n)]).hidden;
+
 function siteResult(run: LockedRunRow, siteId: string): SiteResult {
   const r = run.results;
   const g = r.effectSize.g;
@@ -52,10 +82,11 @@ function siteResult(run: LockedRunRow, siteId: string): SiteResult {
   let site: SiteResult['site'] = null;
   if (own) {
     const counts = suppressCounts([own.n1, own.n2]);
+    const shares = !r.yesNo || (yesNoShareShown(own.mean1, own.n1) && yesNoShareShown(own.mean2, own.n2));
     site = {
       arms: [
-        { arm: 'intervention', students: counts.cells[0], mean: counts.cells[0].suppressed ? null : own.mean1 },
-        { arm: 'comparison', students: counts.cells[1], mean: counts.cells[1].suppressed ? null : own.mean2 },
+        { arm: 'intervention', students: counts.cells[0], mean: counts.cells[0].suppressed || !shares ? null : own.mean1 },
+        { arm: 'comparison', students: counts.cells[1], mean: counts.cells[1].suppressed || !shares ? null : own.mean2 },
       ],
       totalStudents: counts.total,
       note: counts.hidden

@@ -4,6 +4,7 @@ import { baselineEquivalenceYesNo, chiSquareTest, clusterRobustFromRows, coxInde
 import { startTestApp, type TestApp } from '../../test/app.js';
 import { createStudy, enrolClassrooms, fillSheet, samplePlan, send } from '../../test/fixtures.js';
 import { principalView } from './principal-view.js';
+import { resultSentences } from '../digests/facts.js';
 import { yesNoAnalysis } from './yes-no.js';
 import type { ClassroomAggregate } from './gather.js';
 import { rowFromCsv } from '../score-sheets/rows.js';
@@ -145,13 +146,40 @@ describe('checks of a yes/no measure', () => {
       const after = before.map((_, i) => (i === 19 ? null : i % 3 === 0 ? 1 : 0));
       await fillSheet(t.db, { classroomId: c.id, waveId: s.baselineId, measureId: measure.id }, before, `B${k}`);
       await fillSheet(t.db, { classroomId: c.id, waveId: s.outcomeId, measureId: measure.id }, after, `B${k}`);
-      counts[arm] = { yes: before.slice(0, 19).reduce((a, b) => a + b, 0), n: 19 };
+      counts[arm] = { yes: before.slice(0, 19).reduce<number>((a, b) => a + b, 0), n: 19 };
     }
     const checks = (await s.lead.agent.get(`/api/studies/${s.studyId}/checks`).expect(200)).body;
     const eq = checks.measures.find((m: { measureId: string }) => m.measureId === measure.id).baselineEquivalence;
     const expected = baselineEquivalenceYesNo(counts.intervention, counts.comparison, { zeroCell: 'add-half' });
     expect(eq).toMatchObject({ effectSize: 'cox-index', band: expected.band });
     expect(eq.g).toBeCloseTo(expected.coxIndex, 12);
+  });
+});
+
+describe('digests and My school of a yes/no run', () => {
+  const results = (intervention: [number, number], comparison: [number, number]) => {
+    const y = yesNoAnalysis([classroom('a', 'intervention', ...intervention), classroom('b', 'comparison', ...comparison)], {
+      alpha: 0.05,
+      alternative: 'two-sided',
+      yesIsGood: true,
+      measureKind: 'achievement',
+      unitOfAssignment: 'student',
+    });
+    return { measure: { name: 'Read at grade level by spring', higherIsBetter: true }, wave: { name: 'Spring' }, alpha: 0.05, deciding: y.deciding, yesNo: y.yesNo } as unknown as RunResults;
+  };
+
+  it('says what share of each arm answered yes, in percentage points, with the Cox index', () => {
+    const [finding, size] = resultSentences(results([84, 200], [70, 200]), 'intervention');
+    expect(finding).toBe(
+      'Across all schools in the study, 42 % of students in intervention classrooms answered yes to “Read at grade level by spring” at Spring, against 35 % in comparison classrooms: 7.0 percentage points more. “Yes” is the good answer on this measure, so the difference favours the intervention.',
+    );
+    expect(size).toMatch(/^The size of the difference is a Cox index of 0\.18/);
+  });
+
+  it('when an arm has fewer than 10 yes answers, then no share is given', () => {
+    const sentences = resultSentences(results([6, 200], [70, 200]), 'comparison');
+    expect(sentences[0]).toMatch(/is not shown: a group has fewer than 10 students/);
+    expect(sentences.join(' ')).not.toMatch(/%|Cox index of/);
   });
 });
 
