@@ -390,7 +390,11 @@ intercept per unit, by restricted maximum likelihood, with Satterthwaite degrees
 the classroom (or its school when schools were assigned) and the blocks are the classrooms' schools when classrooms
 were assigned in two or more schools. With @evenhand/stats: twoLevelFromRows({ y, arm, cluster, block, covariates:
 [pretest] }); the cluster-robust check is clusterRobustFromRows with the same fields (CR2 errors, Pustejovsky–Tipton
-degrees of freedom). Any mixed-model library fitting the same model gives the same numbers.`;
+degrees of freedom). Any mixed-model library fitting the same model gives the same numbers.
+When the measure is yes/no (results.yesNo): each outcome is 1 (yes) or 0 (no); per arm count the yes answers and the
+rows with an outcome, and recompute with proportionWithInterval (Wilson), proportionDifference (Newcombe), oddsRatio,
+coxIndexFromCounts, twoProportionZTest, chiSquareTest and fisherExactTest; when classrooms or schools were assigned,
+the deciding difference is clusterRobustFromRows({ y, arm, cluster, block }) on the 0/1 rows, without the pretest.`;
 
 export async function runBundle(db: DataSource, user: SessionUser, runId: string) {
   const run = await loadRun(db.manager, user, runId);
