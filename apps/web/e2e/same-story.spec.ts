@@ -6,7 +6,7 @@ import { DEMO_STUDY, queryDatabase, signIn } from './support';
 /**
  * Every screen tells the same story: for the demo's locked primary result, the deciding analysis's p, its interval,
  * Hedges' g with its 95% interval and the verdict read the same on the results page, in the study report, on the
- * principal's My school, in the principal's lock digest (the newest in the mail catcher) and in the results CSV.
+ * principal's My school, in the principal's lock digest as caught by the mail catcher, and in the results CSV.
  */
 
 const MAILDEV = process.env.MAILDEV_URL ?? 'http://127.0.0.1:1080';
@@ -90,13 +90,22 @@ test('the locked primary result reads the same on the results page, the report, 
   });
 
   await test.step('the digest e-mail: one per principal for the demo’s locks, naming both results', async () => {
+    // The mail catcher may also hold mail from other seeds (another database, same catcher): take this database's
+    // lock digest for principal1 from the outbox, then the caught mail that carries exactly its text.
+    const [sent] = await queryDatabase<{ text: string }>(
+      `SELECT d.text FROM digests d WHERE d.study_id = $1 AND d.kind = 'lock' AND d.recipient_email = 'principal1@evenhand.test' AND d.state = 'sent'`,
+      [studyId],
+    );
+    expect(sent).toBeTruthy();
     const res = await principal.request.get(`${MAILDEV}/api/email`);
     expect(res.ok()).toBe(true);
+    const plain = (t: string) => t.replace(/\r\n/g, '\n').trim();
+    const same = (a: string) => plain(a) === plain(sent.text);
     const mails = ((await res.json()) as Caught[])
-      .filter((m) => m.to.some((t) => t.address === 'principal1@evenhand.test') && /locked/.test(m.subject))
+      .filter((m) => m.to.some((t) => t.address === 'principal1@evenhand.test') && same(m.text))
       .sort((a, b) => Date.parse(b.date) - Date.parse(a.date));
     const newest = mails[0];
-    expect(newest).toBeTruthy();
+    expect(newest, 'the lock digest of this database in the mail catcher').toBeTruthy();
     const block = newest.text.slice(newest.text.indexOf(`: ${label}`));
     expect(block).toContain(`Pre-registered test: ${met ? 'Met' : 'Not met'} (${p})`);
     expect(block).toContain(`Effect size (Hedges’ g): ${g} (95% interval ${gLow} to ${gHigh})`);

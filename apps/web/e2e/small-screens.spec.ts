@@ -72,7 +72,7 @@ for (const size of sizes) {
     test.use({ viewport: { width: size.width, height: size.height } });
 
     test('a teacher signs in, finds the class, types, pastes, saves and submits a score sheet without the page scrolling sideways', async ({ page }) => {
-      test.setTimeout(120_000);
+      test.setTimeout(240_000); // two sign-ins' worth of hashing, three axe scans and a lazy page on a busy machine
       await page.goto('/sign-in');
       await expect(page.getByLabel('E-mail address')).toBeVisible({ timeout: 30_000 });
       await expectNoSidewaysScroll(page);
