@@ -171,7 +171,7 @@ export function RosterImportPanel({ onPreview, onImport, onClose }: RosterImport
                           onChange={(e) =>
                             setPrincipals((all) => ({
                               ...all,
-                              [school.sourcedId]: { name: '', email: '', ...all[school.sourcedId], [field]: e.target.value },
+                              [school.sourcedId]: { ...(all[school.sourcedId] ?? { name: '', email: '' }), [field]: e.target.value },
                             }))
                           }
                           className="rounded-md border border-line-strong bg-surface px-3 py-2"
