@@ -7,9 +7,10 @@ import { DEMO_PASSWORD, DEMO_STUDY, expectAccessible, signIn } from './support';
  * serious accessibility finding.
  */
 
+// Student codes are unique within a study, so each size's classroom has codes of its own.
 const sizes = [
-  { name: 'a phone', width: 390, height: 844, room: 'Room 21' },
-  { name: 'a tablet', width: 768, height: 1024, room: 'Room 22' },
+  { name: 'a phone', width: 390, height: 844, room: 'Room 21', codes: 'QP' },
+  { name: 'a tablet', width: 768, height: 1024, room: 'Room 22', codes: 'QT' },
 ] as const;
 
 /** The page itself never scrolls sideways. */
@@ -91,16 +92,16 @@ for (const size of sizes) {
 
       // Typing, then a block pasted from a spreadsheet into the next row.
       await page.getByRole('textbox', { name: 'Student code, row 1' }).click();
-      await page.keyboard.type('QS-001');
+      await page.keyboard.type(`${size.codes}-001`);
       await page.keyboard.press('Tab');
       await page.keyboard.type('50');
       await page.keyboard.press('Enter');
-      await page.getByRole('textbox', { name: 'Student code, row 2' }).evaluate((el) => {
+      await page.getByRole('textbox', { name: 'Student code, row 2' }).evaluate((el, codes) => {
         const data = new DataTransfer();
-        data.setData('text/plain', 'QS-002\t61\nQS-003\t72\n');
+        data.setData('text/plain', `${codes}-002\t61\n${codes}-003\t72\n`);
         el.dispatchEvent(new ClipboardEvent('paste', { clipboardData: data, bubbles: true, cancelable: true }));
-      });
-      await expect(page.getByRole('textbox', { name: 'Student code, row 3' })).toHaveValue('QS-003');
+      }, size.codes);
+      await expect(page.getByRole('textbox', { name: 'Student code, row 3' })).toHaveValue(`${size.codes}-003`);
       await expect(page.getByText(/Saved at \d/)).toBeVisible({ timeout: 20_000 });
       await expectNoSidewaysScroll(page);
       await expectAccessible(page);
