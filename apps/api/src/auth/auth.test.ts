@@ -208,7 +208,7 @@ describe('throttling of failed sign-ins', () => {
     // Success clears the count: the next failure is free again.
     expect((await login(app, 'teacher3@evenhand.test', 'wrong-again')).status).toBe(401);
     expect((await login(app, 'teacher3@evenhand.test', DEMO_PASSWORD)).status).toBe(200);
-  });
+  }, 90_000); // many bcrypt checks: slow on a busy machine
 
   it('when a stranger fails on an account from their address, then the owner signing in from another address is not slowed (TRUST_PROXY gives the address)', async () => {
     const config = testConfig(t.databaseUrl, { TRUST_PROXY: '1' });
@@ -218,7 +218,7 @@ describe('throttling of failed sign-ins', () => {
     expect(stranger.status).toBe(429);
     expect(Number(stranger.headers['retry-after'])).toBeGreaterThanOrEqual(1);
     expect((await login(app, 'teacher4@evenhand.test', DEMO_PASSWORD, '198.51.100.7')).status).toBe(200);
-  });
+  }, 90_000); // many bcrypt checks: slow on a busy machine
 
   it('when one address fails 20 times across different accounts, then it is refused with 429; another address is not', async () => {
     const config = testConfig(t.databaseUrl, { TRUST_PROXY: '1' });
@@ -228,7 +228,7 @@ describe('throttling of failed sign-ins', () => {
     expect(blocked.status).toBe(429);
     expect(blocked.body.error.message).toMatch(/from this address/);
     expect((await login(app, 'admin@evenhand.test', DEMO_PASSWORD, '203.0.113.10')).status).toBe(200);
-  });
+  }, 90_000); // many bcrypt checks: slow on a busy machine
 
   it('when sign-ins succeed, then they do not count against the limit', async () => {
     const app = t.freshApp(); // its own counters
@@ -236,7 +236,7 @@ describe('throttling of failed sign-ins', () => {
       const res = await request(app).post('/api/auth/login').send({ email: 'principal1@evenhand.test', password: DEMO_PASSWORD });
       expect(res.status).toBe(200);
     }
-  });
+  }, 90_000); // many bcrypt checks: slow on a busy machine
 });
 
 describe('password reset', () => {
