@@ -47,12 +47,15 @@ export function principalView(run: Run, ownSiteIds: readonly string[]): Principa
     sites: r.sites
       .filter((s) => ownSiteIds.includes(s.siteId) && siteShown(s))
       .map((s) => ({ siteId: s.siteId, siteName: s.siteName, n1: s.n1, n2: s.n2, mean1: s.mean1, mean2: s.mean2, g: s.g, ci: s.ci })),
-    yesNo: r.yesNo
+    // Only a yes/no run has the field.
+    ...(r.yesNo
       ? {
-          yesIsGood: r.yesNo.yesIsGood,
-          arms: r.yesNo.arms.map((a, i) => ({ arm: a.arm, yes: shown ? answers[i].cells[0] : hiddenCount, no: shown ? answers[i].cells[1] : hiddenCount, proportion: shown ? a.proportion : null })),
+          yesNo: {
+            yesIsGood: r.yesNo.yesIsGood,
+            arms: r.yesNo.arms.map((a, i) => ({ arm: a.arm, yes: shown ? answers[i].cells[0] : hiddenCount, no: shown ? answers[i].cells[1] : hiddenCount, proportion: shown ? a.proportion : null })),
+          },
         }
-      : null,
+      : {}),
     suppressed: !shown || r.sites.some((s) => ownSiteIds.includes(s.siteId) && !siteShown(s)),
   };
   // The verdict after Benjamini–Hochberg, without the adjusted p (it follows from p).
