@@ -12,7 +12,6 @@ import { seedDemoStudies } from './demo-study.js';
 const reset = process.argv.includes('--reset');
 const config = loadConfig();
 if (config.production) throw new Error('The demo seed never runs against a production database');
-const db = createDataSource(config.databaseUrl);
 if (reset) {
   // Emptying guarded tables takes the schema's owner (see resetDatabase); the seed itself writes as the application.
   const owner = createDataSource(config.migrationDatabaseUrl);
@@ -20,6 +19,7 @@ if (reset) {
   await owner.transaction((manager) => resetDatabase(manager));
   await owner.destroy();
 }
+const db = createDataSource(config.databaseUrl);
 await db.initialize();
 const { created } = await db.transaction((manager) => seedDemo(manager));
 const mailer = createMailer(config);
