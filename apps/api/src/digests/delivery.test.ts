@@ -55,7 +55,8 @@ interface Caught {
 
 async function caught(): Promise<Caught[]> {
   const res = await fetch(`http://127.0.0.1:${WEB_PORT}/api/email`);
-  return ((await res.json()) as Caught[]).filter((m) => m.to.some((x) => x.address === principal));
+  // The principal's invitation leaves through the same outbox; only the digest counts here.
+  return ((await res.json()) as Caught[]).filter((m) => m.to.some((x) => x.address === principal) && m.subject.startsWith('Update on'));
 }
 
 async function digestState(id: string, until: (d: { state: string; attempts: number }) => boolean, timeoutMs = 25_000) {
