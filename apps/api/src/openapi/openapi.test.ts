@@ -33,7 +33,7 @@ describe('the OpenAPI document', () => {
 describe('student-level answers', () => {
   it('are never stored: score sheets, a refused upload that lists codes, the audit trail and a bundle send Cache-Control: no-store', async () => {
     const s = await createStudy(t.app);
-    await enrolClassrooms(s, 1, 1, ['teacher1@evenhand.test']);
+    await enrolClassrooms(s, 1, 1, ['teacher1@evenhand.test'], t.db);
     const teacher = await signIn(t.app, 'teacher1@evenhand.test');
     const sheets = await teacher.agent.get(`/api/score-sheets?studyId=${s.studyId}`);
     expect(sheets.status).toBe(200);
