@@ -80,7 +80,7 @@ describe('toScoreRows and issuesFromServer', () => {
       sent.gridIndex,
     );
     expect([...issues.keys()]).toEqual([rows[2].id]);
-    expect(issues.get(rows[2].id)?.studentCode).toMatch(/another classroom/);
+    expect(issues.get(rows[2].id)?.studentCode).toMatch(/cannot be used in this classroom/);
   });
 
   it('also maps validation issues named by path', () => {
