@@ -1,5 +1,5 @@
 import { expect, request as playwrightRequest, test, type APIRequestContext, type Page } from '@playwright/test';
-import { expectAccessible } from './support';
+import { acceptRoleOffer, expectAccessible } from './support';
 
 const PASSWORD = 'evenhand-demo';
 const DEMO_STUDY = 'Lantern Reading Routine in grades 3 and 4';
@@ -79,29 +79,8 @@ async function createOpenStudy(baseURL: string): Promise<OwnStudy> {
   );
   await lead.dispose();
   await coordinator.dispose();
-  await acceptRoleOffer(baseURL, 'teacher1@evenhand.test', site.id, `Juniper Lane ${suffix}`);
+  await acceptRoleOffer(baseURL, 'teacher1@evenhand.test', `Juniper Lane ${suffix}`);
   return { id: study.id, title };
-}
-
-/** An existing account named as a school's teacher holds the role once it follows the e-mailed link: as the teacher would. */
-async function acceptRoleOffer(baseURL: string, email: string, siteId: string, siteName: string) {
-  const mail = await playwrightRequest.newContext();
-  let token: string | null = null;
-  for (let i = 0; i < 150 && !token; i++) {
-    const all = (await (await mail.get(`${MAILDEV}/api/email`)).json()) as { text: string; to: { address: string }[] }[];
-    const links = all
-      .filter((m) => m.to.some((t) => t.address === email) && m.text.includes(siteName))
-      .map((m) => /\/invitations\/accept\?token=([^\s"<]+)/.exec(m.text)?.[1])
-      .filter((t): t is string => Boolean(t));
-    token = links.length ? decodeURIComponent(links[links.length - 1]) : null;
-    if (!token) await new Promise((r) => setTimeout(r, 200));
-  }
-  await mail.dispose();
-  expect(token, `no role offer e-mailed to ${email}`).not.toBeNull();
-  const teacher = await apiAs(baseURL, email);
-  const accepted = await created<{ siteId: string }>(teacher.post('/api/role-invitations/accept', { data: { token } }), 200);
-  expect(accepted.siteId).toBe(siteId);
-  await teacher.dispose();
 }
 
 let own: OwnStudy;

@@ -1,5 +1,5 @@
 import { expect, request as playwrightRequest, test, type APIRequestContext, type Page } from '@playwright/test';
-import { DEMO_PASSWORD, DEMO_STUDY, expectAccessible, signIn } from './support';
+import { DEMO_PASSWORD, DEMO_STUDY, acceptRoleOffer, expectAccessible, signIn } from './support';
 
 /**
  * Phones and tablets: sign-in, My classes, the score sheet (typing, pasting a block, autosave, submit) and My school
@@ -66,6 +66,7 @@ test.beforeAll(async ({ baseURL }) => {
   }
   await lead.dispose();
   await coordinator.dispose();
+  await acceptRoleOffer(baseURL!, 'teacher1@evenhand.test', `Quillhaven Pocket School ${suffix}`);
 });
 
 for (const size of sizes) {

@@ -1,5 +1,5 @@
 import AxeBuilder from '@axe-core/playwright';
-import { expect, type Page } from '@playwright/test';
+import { expect, request as playwrightRequest, type Page } from '@playwright/test';
 import pg from 'pg';
 
 /** The seed's shared password and its study (apps/api/src/seed). */
@@ -46,4 +46,34 @@ export async function queryDatabase<T>(sql: string, params: unknown[] = []): Pro
   } finally {
     await client.end();
   }
+}
+
+/**
+ * An existing account named as a school's teacher or principal holds the role only once it follows the e-mailed
+ * offer: reads the offer for `siteName` from the mail catcher and accepts it as the person would.
+ */
+export async function acceptRoleOffer(baseURL: string, email: string, siteName: string) {
+  const maildev = process.env.MAILDEV_URL ?? 'http://127.0.0.1:1080';
+  const mail = await playwrightRequest.newContext();
+  let token: string | null = null;
+  for (let i = 0; i < 150 && !token; i++) {
+    const all = (await (await mail.get(`${maildev}/api/email`)).json()) as { text: string; to: { address: string }[] }[];
+    const links = all
+      .filter((m) => m.to.some((t) => t.address === email) && m.text.includes(siteName))
+      .map((m) => /\/invitations\/accept\?token=([^\s"<]+)/.exec(m.text)?.[1])
+      .filter((t): t is string => Boolean(t));
+    token = links.length ? decodeURIComponent(links[links.length - 1]) : null;
+    if (!token) await new Promise((r) => setTimeout(r, 200));
+  }
+  await mail.dispose();
+  expect(token, `no role offer for ${siteName} e-mailed to ${email}`).not.toBeNull();
+  const api = await playwrightRequest.newContext({ baseURL });
+  const login = await api.post('/api/auth/login', { data: { email, password: DEMO_PASSWORD } });
+  expect(login.status()).toBe(200);
+  const accepted = await api.post('/api/role-invitations/accept', {
+    data: { token },
+    headers: { Authorization: `Bearer ${(await login.json()).token}` },
+  });
+  expect(accepted.status(), await accepted.text()).toBe(200);
+  await api.dispose();
 }
