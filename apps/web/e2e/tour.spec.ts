@@ -239,7 +239,8 @@ const areaChecks: Partial<Record<keyof typeof areas, (v: Visit) => Promise<void>
     await expect(page.getByRole('heading', { level: 1, name: 'My classes' })).toBeVisible();
     const study = main(page).getByRole('region', { name: DEMO_STUDY, exact: true });
     const room = study.getByRole('region', { name: 'Room 3A · Alderquill Elementary' });
-    await expect(bodyRows(room.getByRole('table'))).toHaveCount(4);
+    // Three measures (two scores and a yes/no) at two waves.
+    await expect(bodyRows(room.getByRole('table'))).toHaveCount(6);
     // What to do next: the sheets the coordinator returned to this teacher (the seed returns one; a journey may fix it).
     const [{ returned }] = await queryDatabase<{ returned: number }>(
       `SELECT count(*)::int AS returned FROM score_sheets sh JOIN classrooms c ON c.id = sh.classroom_id JOIN users u ON u.id = c.teacher_id
@@ -272,13 +273,14 @@ const areaChecks: Partial<Record<keyof typeof areas, (v: Visit) => Promise<void>
     await expect(result.getByRole('definition').filter({ hasText: /^(Met|Not met)$/ })).toHaveText(met ? 'Met' : 'Not met');
     await expect(result).toContainText(formatPStatement(model.p));
     expect(a.length + b.length).toBeGreaterThan(0);
-    // The school's own arms, recomputed from its rows; any group under 10 students must not show its count.
+    // The school's own arms, recomputed from its rows as the forest plot weighs them; any group under 10 students must not show its count.
     const own = primary.rows.filter((r) => r.site_name === 'Alderquill Elementary');
+    const weighed = siteRows(primary).find((r) => r.site === 'Alderquill Elementary')!;
     const ownTable = result.getByRole('table', { name: 'Alderquill Elementary on its own' });
     for (const [arm, label] of [['intervention', 'Intervention classrooms'], ['comparison', 'Comparison classrooms']] as const) {
       const values = own.filter((r) => r.arm === arm).map((r) => r.score);
       const row = ownTable.getByRole('row').filter({ has: page.getByRole('rowheader', { name: label }) });
-      if (values.length >= 10) await expect(row.getByRole('cell')).toHaveText([formatCount(values.length), formatNumber(mean(values), 1)]);
+      if (values.length >= 10) await expect(row.getByRole('cell')).toHaveText([formatCount(values.length), formatNumber((arm === 'intervention' ? weighed.x : weighed.y).mean, 1)]);
       else await expect(row).toContainText('fewer than 10 students');
     }
     const counts = await studentCountsShown(page);
@@ -293,7 +295,7 @@ const areaChecks: Partial<Record<keyof typeof areas, (v: Visit) => Promise<void>
 const tabChecks: Record<StudyTab, (v: Visit) => Promise<void>> = {
   async overview({ page }) {
     const numbers = main(page).getByRole('region', { name: 'In numbers' });
-    await expect(numbers.getByRole('definition')).toHaveText(['6', '24', '2', '2']);
+    await expect(numbers.getByRole('definition')).toHaveText(['6', '24', '3', '2']);
     await expect(main(page).getByRole('region', { name: 'Where it stands' })).toContainText('version 2 is in force');
     await expect(main(page).getByRole('region', { name: 'Next steps for you' }).getByRole('listitem').first()).toBeVisible();
   },
