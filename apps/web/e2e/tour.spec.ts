@@ -321,7 +321,7 @@ const tabChecks: Record<StudyTab, (v: Visit) => Promise<void>> = {
     await expect(bodyRows(draw.getByRole('table', { name: /^Balance/ })).first()).toBeVisible();
   },
   async scoreSheets({ page }) {
-    await expect(main(page)).toContainText('24 classrooms, 96 sheets');
+    await expect(main(page)).toContainText('24 classrooms, 144 sheets');
     const matrix = table(page, /^Completion of score sheets/);
     await expect(matrix.getByRole('rowheader', { name: 'Alderquill Elementary · 4 classrooms' })).toBeVisible();
     await matrix.getByRole('link', { name: 'Room 3A, Autumn 2025, Oral reading fluency (words correct per minute): Accepted 22 rows' }).first().click();
