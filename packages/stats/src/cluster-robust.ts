@@ -1,4 +1,5 @@
 import { StatsInputError } from './errors.js';
+import { inverseFromCholesky } from './linear-algebra.js';
 import { checkOptions, readAlternative, readConfidence, type Alternative } from './input.js';
 import { tInterval, tPValue } from './ttest.js';
 import { unitMomentsFromRows, type ClusteredRows, type UnitMoments } from './unit-moments.js';
@@ -357,25 +358,10 @@ function inverseOfGram(G: Float64Array, p: number, collinear: (c: number) => str
       }
     }
   }
-  // L⁻¹ (lower triangular), then G⁻¹ = S L⁻ᵀ L⁻¹ S.
-  const Li = new Float64Array(p * p);
-  for (let c = 0; c < p; c++) {
-    Li[c * p + c] = 1 / L[c * p + c];
-    for (let r = c + 1; r < p; r++) {
-      let s = 0;
-      for (let m = c; m < r; m++) s -= L[r * p + m] * Li[m * p + c];
-      Li[r * p + c] = s / L[r * p + r];
-    }
-  }
-  const inv = new Float64Array(p * p);
+  // G⁻¹ = S L⁻ᵀ L⁻¹ S.
+  const inv = inverseFromCholesky(L, p);
   for (let a = 0; a < p; a++) {
-    for (let b = 0; b <= a; b++) {
-      let s = 0;
-      for (let m = a; m < p; m++) s += Li[m * p + a] * Li[m * p + b];
-      const v = s * scale[a] * scale[b];
-      inv[a * p + b] = v;
-      inv[b * p + a] = v;
-    }
+    for (let b = 0; b < p; b++) inv[a * p + b] = inv[a * p + b] * scale[a] * scale[b];
   }
   return inv;
 }

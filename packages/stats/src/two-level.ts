@@ -1,5 +1,6 @@
 import { hedgesCorrection, type SmallSampleCorrection } from './effect-size.js';
 import { StatsInputError } from './errors.js';
+import { inverseFromCholesky } from './linear-algebra.js';
 import { checkOptions, readAlternative, readConfidence, type Alternative } from './input.js';
 import { tInterval, tPValue } from './ttest.js';
 import { unitMomentsFromRows, type ClusteredRows, type UnitMoments } from './unit-moments.js';
@@ -166,29 +167,6 @@ function cholesky(a: Float64Array, stride: number, m: number, out: Float64Array,
     }
   }
   return -1;
-}
-
-/** A⁻¹ = L'⁻¹L⁻¹ from the Cholesky factor (m × m). */
-function inverseFromCholesky(L: Float64Array, m: number): Float64Array {
-  const inv = new Float64Array(m * m); // L⁻¹, lower triangular
-  for (let j = 0; j < m; j++) {
-    inv[j * m + j] = 1 / L[j * m + j];
-    for (let i = j + 1; i < m; i++) {
-      let s = 0;
-      for (let c = j; c < i; c++) s -= L[i * m + c] * inv[c * m + j];
-      inv[i * m + j] = s / L[i * m + i];
-    }
-  }
-  const out = new Float64Array(m * m);
-  for (let i = 0; i < m; i++) {
-    for (let j = 0; j <= i; j++) {
-      let s = 0;
-      for (let c = i; c < m; c++) s += inv[c * m + i] * inv[c * m + j];
-      out[i * m + j] = s;
-      out[j * m + i] = s;
-    }
-  }
-  return out;
 }
 
 function prepare(units: readonly UnitMoments[]): Prepared & { names: string[]; blockLabels: string[]; units: [number, number]; students: [number, number]; pooledSs: number } {
