@@ -1,41 +1,12 @@
-import { expect, request as playwrightRequest, test, type APIRequestContext, type Page } from '@playwright/test';
-import { acceptRoleOffer, expectAccessible } from './support';
+import { expect, test, type Page } from '@playwright/test';
+import { DEMO_STUDY, acceptRoleOffer, apiAs, expectAccessible, expectStatus, isoDay, signIn } from './support';
 
-const PASSWORD = 'evenhand-demo';
-const DEMO_STUDY = 'Lantern Reading Routine in grades 3 and 4';
 const MAILDEV = process.env.MAILDEV_URL ?? 'http://127.0.0.1:1080';
-
-async function signIn(page: Page, email: string) {
-  await page.goto('/sign-in');
-  await page.getByLabel('E-mail address').fill(email);
-  await page.getByLabel('Password', { exact: true }).fill(PASSWORD);
-  await page.getByRole('button', { name: 'Sign in' }).click();
-  // Password hashing is slow on purpose; on a busy machine signing in can take several seconds.
-  await expect(page).not.toHaveURL(/\/sign-in/, { timeout: 20_000 });
-}
 
 async function signOut(page: Page) {
   await page.getByRole('button', { name: 'Sign out' }).click();
   await expect(page.getByRole('button', { name: 'Sign in' })).toBeVisible();
 }
-
-/** An API session for set-up, authenticated with the bearer token (no CSRF header needed). */
-async function apiAs(baseURL: string, email: string): Promise<APIRequestContext> {
-  const anonymous = await playwrightRequest.newContext({ baseURL });
-  const login = await anonymous.post('/api/auth/login', { data: { email, password: PASSWORD } });
-  expect(login.status()).toBe(200);
-  const { token } = await login.json();
-  await anonymous.dispose();
-  return playwrightRequest.newContext({ baseURL, extraHTTPHeaders: { Authorization: `Bearer ${token}` } });
-}
-
-async function created<T = { id: string }>(response: Promise<import('@playwright/test').APIResponse>, status = 201): Promise<T> {
-  const res = await response;
-  expect(res.status(), await res.text()).toBe(status);
-  return res.json() as Promise<T>;
-}
-
-const isoDay = (offsetDays: number) => new Date(Date.now() + offsetDays * 86_400_000).toISOString().slice(0, 10);
 
 interface OwnStudy {
   id: string;
@@ -48,15 +19,15 @@ async function createOpenStudy(baseURL: string): Promise<OwnStudy> {
   const coordinator = await apiAs(baseURL, 'coordinator@evenhand.test');
   const suffix = Math.random().toString(36).slice(2, 7).toUpperCase();
   const title = `Score sheet journeys ${suffix}`;
-  const study = await created(
+  const study = await expectStatus(
     lead.post('/api/studies', {
       data: { title, intervention: 'Paired reading twice a week', comparisonCondition: 'Business-as-usual reading block', unitOfAssignment: 'classroom' },
     }),
   );
-  const measure = await created(lead.post(`/api/studies/${study.id}/measures`, { data: { name: 'Words read correctly', minScore: 0, maxScore: 200, kind: 'achievement' } }));
-  await created(lead.post(`/api/studies/${study.id}/waves`, { data: { kind: 'baseline', name: 'Pretest', opensOn: isoDay(-5), closesOn: isoDay(20) } }));
-  const outcome = await created(lead.post(`/api/studies/${study.id}/waves`, { data: { kind: 'outcome', name: 'Posttest', opensOn: isoDay(120), closesOn: isoDay(150) } }));
-  await created(
+  const measure = await expectStatus(lead.post(`/api/studies/${study.id}/measures`, { data: { name: 'Words read correctly', minScore: 0, maxScore: 200, kind: 'achievement' } }));
+  await expectStatus(lead.post(`/api/studies/${study.id}/waves`, { data: { kind: 'baseline', name: 'Pretest', opensOn: isoDay(-5), closesOn: isoDay(20) } }));
+  const outcome = await expectStatus(lead.post(`/api/studies/${study.id}/waves`, { data: { kind: 'outcome', name: 'Posttest', opensOn: isoDay(120), closesOn: isoDay(150) } }));
+  await expectStatus(
     lead.put(`/api/studies/${study.id}/plan`, {
       data: {
         primaryMeasureId: measure.id,
@@ -69,10 +40,10 @@ async function createOpenStudy(baseURL: string): Promise<OwnStudy> {
     }),
     200,
   );
-  await created(lead.post(`/api/studies/${study.id}/plan/seal`, { data: {} }), 200);
-  const cohort = await created(coordinator.post(`/api/studies/${study.id}/cohorts`, { data: { name: 'Grade 3, this year' } }));
-  const site = await created(coordinator.post(`/api/studies/${study.id}/sites`, { data: { name: `Juniper Lane ${suffix}`, code: `J${suffix}` } }));
-  await created(
+  await expectStatus(lead.post(`/api/studies/${study.id}/plan/seal`, { data: {} }), 200);
+  const cohort = await expectStatus(coordinator.post(`/api/studies/${study.id}/cohorts`, { data: { name: 'Grade 3, this year' } }));
+  const site = await expectStatus(coordinator.post(`/api/studies/${study.id}/sites`, { data: { name: `Juniper Lane ${suffix}`, code: `J${suffix}` } }));
+  await expectStatus(
     coordinator.post(`/api/studies/${study.id}/classrooms`, {
       data: { siteId: site.id, cohortId: cohort.id, name: 'Room 12', grade: '3', expectedSize: 20, teacher: { email: 'teacher1@evenhand.test', name: 'Tomasz Thimblewick' } },
     }),

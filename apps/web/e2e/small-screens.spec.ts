@@ -1,5 +1,5 @@
-import { expect, request as playwrightRequest, test, type APIRequestContext, type Page } from '@playwright/test';
-import { DEMO_PASSWORD, DEMO_STUDY, acceptRoleOffer, expectAccessible, signIn } from './support';
+import { expect, test, type Page } from '@playwright/test';
+import { DEMO_STUDY, acceptRoleOffer, apiAs, expectAccessible, expectStatus, isoDay, signIn } from './support';
 
 /**
  * Phones and tablets: sign-in, My classes, the score sheet (typing, pasting a block, autosave, submit) and My school
@@ -19,22 +19,6 @@ async function expectNoSidewaysScroll(page: Page) {
   expect(scroll, `the page is ${scroll}px wide in a ${view}px window`).toBeLessThanOrEqual(view);
 }
 
-async function apiAs(baseURL: string, email: string): Promise<APIRequestContext> {
-  const anonymous = await playwrightRequest.newContext({ baseURL });
-  const login = await anonymous.post('/api/auth/login', { data: { email, password: DEMO_PASSWORD } });
-  expect(login.status()).toBe(200);
-  const { token } = await login.json();
-  await anonymous.dispose();
-  return playwrightRequest.newContext({ baseURL, extraHTTPHeaders: { Authorization: `Bearer ${token}` } });
-}
-
-async function ok<T = { id: string }>(response: Promise<import('@playwright/test').APIResponse>, status = 201): Promise<T> {
-  const res = await response;
-  expect(res.status(), await res.text()).toBe(status);
-  return res.json() as Promise<T>;
-}
-
-const isoDay = (offsetDays: number) => new Date(Date.now() + offsetDays * 86_400_000).toISOString().slice(0, 10);
 let title = '';
 
 /** A study of this file's own with a baseline wave open today and two of teacher1's classrooms, one per screen size. */
@@ -44,21 +28,21 @@ test.beforeAll(async ({ baseURL }) => {
   const coordinator = await apiAs(baseURL!, 'coordinator@evenhand.test');
   const suffix = Math.random().toString(36).slice(2, 7).toUpperCase();
   title = `Small screens ${suffix}`;
-  const study = await ok(lead.post('/api/studies', { data: { title, intervention: 'Paired reading twice a week', comparisonCondition: 'Usual reading block', unitOfAssignment: 'classroom' } }));
-  const measure = await ok(lead.post(`/api/studies/${study.id}/measures`, { data: { name: 'Words read correctly', minScore: 0, maxScore: 200, kind: 'achievement' } }));
-  await ok(lead.post(`/api/studies/${study.id}/waves`, { data: { kind: 'baseline', name: 'Pretest', opensOn: isoDay(-3), closesOn: isoDay(20) } }));
-  const outcome = await ok(lead.post(`/api/studies/${study.id}/waves`, { data: { kind: 'outcome', name: 'Posttest', opensOn: isoDay(120), closesOn: isoDay(150) } }));
-  await ok(
+  const study = await expectStatus(lead.post('/api/studies', { data: { title, intervention: 'Paired reading twice a week', comparisonCondition: 'Usual reading block', unitOfAssignment: 'classroom' } }));
+  const measure = await expectStatus(lead.post(`/api/studies/${study.id}/measures`, { data: { name: 'Words read correctly', minScore: 0, maxScore: 200, kind: 'achievement' } }));
+  await expectStatus(lead.post(`/api/studies/${study.id}/waves`, { data: { kind: 'baseline', name: 'Pretest', opensOn: isoDay(-3), closesOn: isoDay(20) } }));
+  const outcome = await expectStatus(lead.post(`/api/studies/${study.id}/waves`, { data: { kind: 'outcome', name: 'Posttest', opensOn: isoDay(120), closesOn: isoDay(150) } }));
+  await expectStatus(
     lead.put(`/api/studies/${study.id}/plan`, {
       data: { primaryMeasureId: measure.id, primaryWaveId: outcome.id, hypothesis: 'Paired reading classrooms read more words correctly at the posttest.', plannedSites: 1, plannedClassrooms: 2, plannedStudentsPerClassroom: 20 },
     }),
     200,
   );
-  await ok(lead.post(`/api/studies/${study.id}/plan/seal`, { data: {} }), 200);
-  const cohort = await ok(coordinator.post(`/api/studies/${study.id}/cohorts`, { data: { name: 'Grade 3, this year' } }));
-  const site = await ok(coordinator.post(`/api/studies/${study.id}/sites`, { data: { name: `Quillhaven Pocket School ${suffix}`, code: `Q${suffix}` } }));
+  await expectStatus(lead.post(`/api/studies/${study.id}/plan/seal`, { data: {} }), 200);
+  const cohort = await expectStatus(coordinator.post(`/api/studies/${study.id}/cohorts`, { data: { name: 'Grade 3, this year' } }));
+  const site = await expectStatus(coordinator.post(`/api/studies/${study.id}/sites`, { data: { name: `Quillhaven Pocket School ${suffix}`, code: `Q${suffix}` } }));
   for (const { room } of sizes) {
-    await ok(
+    await expectStatus(
       coordinator.post(`/api/studies/${study.id}/classrooms`, {
         data: { siteId: site.id, cohortId: cohort.id, name: room, grade: '3', expectedSize: 20, teacher: { email: 'teacher1@evenhand.test', name: 'Tomasz Thimblewick' } },
       }),

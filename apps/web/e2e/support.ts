@@ -1,5 +1,5 @@
 import AxeBuilder from '@axe-core/playwright';
-import { expect, request as playwrightRequest, type Page } from '@playwright/test';
+import { expect, request as playwrightRequest, type APIRequestContext, type APIResponse, type Page } from '@playwright/test';
 import pg from 'pg';
 
 /** The seed's shared password and its study (apps/api/src/seed). */
@@ -16,6 +16,26 @@ export async function signIn(page: Page, email: string, password = DEMO_PASSWORD
   // Password hashing is slow on purpose; on a busy machine signing in can take several seconds.
   await expect(page).not.toHaveURL(/\/sign-in/, { timeout: 20_000 });
 }
+
+/** An API session for set-up, authenticated with the bearer token (no CSRF header needed). */
+export async function apiAs(baseURL: string, email: string): Promise<APIRequestContext> {
+  const anonymous = await playwrightRequest.newContext({ baseURL });
+  const login = await anonymous.post('/api/auth/login', { data: { email, password: DEMO_PASSWORD } });
+  expect(login.status()).toBe(200);
+  const { token } = await login.json();
+  await anonymous.dispose();
+  return playwrightRequest.newContext({ baseURL, extraHTTPHeaders: { Authorization: `Bearer ${token}` } });
+}
+
+/** The body of a set-up request that must answer `status` (201 unless told), failing with the API's message otherwise. */
+export async function expectStatus<T = { id: string }>(response: Promise<APIResponse>, status = 201): Promise<T> {
+  const res = await response;
+  expect(res.status(), await res.text()).toBe(status);
+  return res.json() as Promise<T>;
+}
+
+/** The ISO date `offsetDays` from today, for waves that must be open (or not yet open) when a journey runs. */
+export const isoDay = (offsetDays: number) => new Date(Date.now() + offsetDays * 86_400_000).toISOString().slice(0, 10);
 
 /** No serious or critical accessibility problems on the page as it is now. */
 export async function expectAccessible(page: Page) {
