@@ -18,6 +18,7 @@ export * from './two-level.js';
 export * from './cluster-robust.js';
 export * from './regression.js';
 export * from './standards.js';
+export * from './evidence/index.js';
 export * from './meta.js';
 export * from './multiplicity.js';
 export * from './power.js';

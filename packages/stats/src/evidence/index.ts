@@ -1,0 +1,3 @@
+export * from './rating.js';
+export * from './tier.js';
+export * from './preview.js';
