@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { attritionMargin, evidenceVerdict, planPreview, rateComparison, type ComparisonDescription, type EvidenceReason } from './index.js';
+import { attritionMargin, evidenceVerdict, planPreview, rateComparison, ratingRisks, type ComparisonDescription, type EvidenceReason } from './index.js';
 
 // Sources: SOURCES.md beside this file. Attrition boundaries: WWC Handbook v4.1 Table II.1 (T, as in standards.md);
 // equivalence bands: WWC FAQ citing Handbook v3.0 (V); tiers: 20 U.S.C. 7801(21)(A) (V) and the 2016 guidance (T/M).
@@ -305,4 +305,17 @@ describe('what a plan can reach, and how far attrition is from the boundary', ()
     // 11/12 vs 12/12: overall 4.17 %, differential 8.33 pp > interpolated 6.03 pp (cautious) → high.
     expect(attritionMargin(students(12, 11, 12, 12), 'cautious')).toEqual({ band: 'high', lossesToHigh: null, recoveriesToLow: { arm: 'intervention', count: 1 } });
   });
+  it('when one intervention classroom of 12 has no accepted outcome sheet, then Checks says that one more sheet brings classroom attrition back to low', () => {
+    const risks = ratingRisks(base({ unitOfAssignment: 'classroom', clusters: students(12, 11, 12, 12), students: students(300, 275, 300, 300), joiners: 0 }));
+    expect(risks[0]).toEqual({ text: 'Attrition of classrooms is high under the cautious boundary; 1 more intervention classroom with an accepted outcome sheet would bring it back to low.', seeOn: 'checks' });
+  });
+  it('when attrition sits on the boundary, then Checks says how many more losses make it high', () => {
+    expect(ratingRisks(base({ students: students(2000, 1737, 2000, 1863) }))).toContainEqual({ text: '1 more intervention student without an outcome score would make attrition of students high under the cautious boundary.', seeOn: 'checks' });
+  });
+  it('when the baseline difference needs adjustment the analysis does not make, a reassignment was recorded and one teacher delivers an arm, then each is a risk', () => {
+    const risks = ratingRisks(base({ baseline: { effectSize: 0.12, kind: 'hedges-g' }, adjustsForBaseline: false, reassignments: 1, teachers: { intervention: ['t1'], comparison: ['t2'] } }));
+    expect(risks.map((r) => r.seeOn)).toEqual(['draw', 'checks', 'draw', 'draw']);
+    expect(risks[1].text).toContain('(0.12) is above 0.05');
+  });
 });
+

@@ -1,5 +1,5 @@
 import { attrition, WWC_ATTRITION_TABLE, type AttritionBoundary } from '../standards.js';
-import type { ArmCounts, ArmPair } from './rating.js';
+import type { ArmCounts, ArmPair, ComparisonDescription, SeeOn } from './rating.js';
 import { evidenceVerdict, LARGE_SAMPLE_GROUPS, LARGE_SAMPLE_GROUP_SIZE, LARGE_SAMPLE_STUDENTS, type Verdict } from './tier.js';
 
 export interface PlannedDesign {
@@ -105,4 +105,56 @@ export function attritionMargin(counts: ArmPair<ArmCounts>, boundary: AttritionB
     }
   }
   return { band, lossesToHigh: band === 'low' ? best : null, recoveriesToLow: band === 'high' ? best : null };
+}
+
+export interface RatingRisk {
+  text: string;
+  seeOn: SeeOn;
+}
+
+const plural = (n: number, one: string, many: string) => `${n} ${n === 1 ? one : many}`;
+
+/**
+ * What currently puts a comparison's rating at risk, in plain words with the numbers that would change it: attrition
+ * margins against the chosen boundary, a baseline difference that needs adjustment, reassignments, joiners, confounds.
+ */
+export function ratingRisks(d: ComparisonDescription): RatingRisk[] {
+  const risks: RatingRisk[] = [];
+  const intact = d.randomised && d.reassignments === 0;
+  const unitWords = d.unitOfAssignment === 'school' ? (['school', 'schools'] as const) : (['classroom', 'classrooms'] as const);
+  const margin = (counts: ArmPair<ArmCounts> | null, one: string, many: string, lostAs: string, foundAs: string) => {
+    if (!intact || !counts || counts.intervention.randomised === 0 || counts.comparison.randomised === 0) return;
+    const m = attritionMargin(counts, d.boundary);
+    if (m.band === 'low' && m.lossesToHigh) {
+      risks.push({ text: `${plural(m.lossesToHigh.count, `more ${m.lossesToHigh.arm} ${one}`, `more ${m.lossesToHigh.arm} ${many}`)} ${lostAs} would make attrition of ${many} high under the ${d.boundary} boundary.`, seeOn: 'checks' });
+    } else if (m.band === 'high') {
+      risks.push({
+        text: m.recoveriesToLow
+          ? `Attrition of ${many} is high under the ${d.boundary} boundary; ${plural(m.recoveriesToLow.count, `more ${m.recoveriesToLow.arm} ${one}`, `more ${m.recoveriesToLow.arm} ${many}`)} ${foundAs} would bring it back to low.`
+          : `Attrition of ${many} is high under the ${d.boundary} boundary, and no further ${foundAs.replace(/^with /, '')} can bring it back to low: the groups must be shown equivalent at baseline.`,
+        seeOn: 'checks',
+      });
+    }
+  };
+  if (d.unitOfAssignment !== 'student') margin(d.clusters, unitWords[0], unitWords[1], 'without an accepted outcome sheet', 'with an accepted outcome sheet');
+  margin(d.students, 'student', 'students', 'without an outcome score', 'with an outcome score');
+
+  if (d.reassignments > 0) risks.push({ text: `${plural(d.reassignments, 'reassignment', 'reassignments')} after the draw: random assignment is compromised, so the best rating is with reservations and needs baseline equivalence.`, seeOn: 'draw' });
+  if (d.joiners !== null && d.joiners > 0) risks.push({ text: `${plural(d.joiners, 'analysed student', 'analysed students')} joined a classroom after the draw: baseline equivalence is required.`, seeOn: 'checks' });
+  if (d.baseline !== null && d.baseline !== 'not-measured') {
+    const g = Math.abs(d.baseline.effectSize);
+    if (g > 0.25) risks.push({ text: `The baseline difference (${g.toFixed(2)}) is above 0.25: wherever equivalence is required, the comparison cannot meet the standards.`, seeOn: 'checks' });
+    else if (g > 0.05 && !d.adjustsForBaseline) risks.push({ text: `The baseline difference (${g.toFixed(2)}) is above 0.05 and the analysis does not adjust for it: wherever equivalence is required, it is not shown.`, seeOn: 'checks' });
+    else if (g > 0.2) risks.push({ text: `The baseline difference (${g.toFixed(2)}) is ${(0.25 - g).toFixed(2)} from 0.25, beyond which the groups are not equivalent.`, seeOn: 'checks' });
+  } else if (d.baseline === 'not-measured' && d.randomised) {
+    risks.push({ text: 'There is no baseline score of this measure: if attrition turns high, equivalence cannot be shown and the comparison would not meet the standards.', seeOn: 'plan' });
+  }
+  for (const kind of ['teachers', 'schools'] as const) {
+    for (const arm of ['intervention', 'comparison'] as const) {
+      const mine = d[kind][arm];
+      const other = d[kind][arm === 'intervention' ? 'comparison' : 'intervention'];
+      if (mine.length === 1 && !other.includes(mine[0])) risks.push({ text: `A single ${kind === 'teachers' ? 'teacher' : 'school'} delivers the ${arm} arm: the comparison cannot meet the standards.`, seeOn: 'draw' });
+    }
+  }
+  return risks;
 }
