@@ -1,11 +1,12 @@
 import { createHash, randomBytes } from 'node:crypto';
-import { IsNull, MoreThan, type DataSource, type EntityManager } from 'typeorm';
+import { DataSource, IsNull, MoreThan, type EntityManager } from 'typeorm';
 import type { Role, SessionUser, SignInOptions } from '@evenhand/entities';
 import { AuthTokenEntity, UserEntity, type AuthTokenKind } from '@evenhand/entities/orm';
 import type { Deps } from '../deps.js';
 import { AppError } from '../errors.js';
 import { recordAudit } from '../audit/service.js';
-import { queueMail, type MailContext } from '../mail/outbox.js';
+import { changeFeed, TaggedCache } from '../db/change-feed.js';
+import { queueMail, queueMails, type MailContext } from '../mail/outbox.js';
 import { invitationMail, passwordResetMail } from '../mail/templates.js';
 import { DEMO_PASSWORD, featuredDemoAccounts } from '../seed/demo.js';
 import { districtSignInOptions, PASSWORD_SIGN_IN_OFF, passwordSignInAllowed } from './district-sign-in.js';
@@ -36,16 +37,35 @@ export async function loadSessionUser(db: DataSource | EntityManager, id: string
   return row?.active ? sessionUser(row) : null;
 }
 
+type SessionRow = Awaited<ReturnType<typeof sessionRow>>;
+const sessionRows = new WeakMap<DataSource, TaggedCache<SessionRow>>();
+
+/**
+ * The session check's row from memory when nothing it holds has changed since it was read (the change feed drops
+ * it at the commit of any change to the account, its grants or their schools), else from the database.
+ */
+function cachedSessionRow(db: DataSource, id: string): Promise<SessionRow> {
+  let cache = sessionRows.get(db);
+  if (!cache) sessionRows.set(db, (cache = new TaggedCache<SessionRow>(changeFeed(db), 10_000)));
+  return cache.read(id, () => sessionRow(db, id), (row) => (row ? [`user:${id}`, ...row.roles.flatMap((g) => (g.siteId ? [`site:${g.siteId}`] : []))] : null));
+}
+
 /** A token's account, if it is active and still at the token's session version; else why the token is refused. */
 export async function checkSession(db: DataSource, id: string, sessionVersion: number): Promise<{ user: SessionUser } | { problem: string }> {
-  const row = await sessionRow(db, id);
+  const row = await cachedSessionRow(db, id);
   if (!row?.active) return { problem: 'This account is no longer active' };
   if (row.session_version !== sessionVersion) return { problem: 'Your session has ended (signed out, or the password or roles changed); please sign in again' };
   return { user: sessionUser(row) };
 }
 
+/** Marks the account's session row as changing, before the caller's transaction commits (see ChangeFeed.expect). */
+export function sessionChanging(manager: DataSource | EntityManager, userId: string): void {
+  changeFeed(manager instanceof DataSource ? manager : manager.connection).expect(`user:${userId}`);
+}
+
 /** Ends every session of the account (all its tokens and cookies), inside the caller's transaction. */
 export async function endSessions(manager: DataSource | EntityManager, userId: string): Promise<void> {
+  sessionChanging(manager, userId);
   await manager.query(`UPDATE users SET session_version = session_version + 1 WHERE id = $1`, [userId]);
 }
 
@@ -70,28 +90,51 @@ const hashToken = (token: string) => createHash('sha256').update(token).digest('
 
 /** Creates a single-use token; only its hash is stored, the plain value goes into the e-mail. */
 export async function issueToken(manager: EntityManager, userId: string, kind: AuthTokenKind): Promise<string> {
-  const token = randomBytes(32).toString('base64url');
-  await manager.insert(AuthTokenEntity, {
-    userId,
-    kind,
-    tokenHash: hashToken(token),
-    expiresAt: new Date(Date.now() + TOKEN_HOURS[kind] * 3600_000),
-  });
-  return token;
+  return (await issueTokens(manager, [userId], kind))[0];
+}
+
+/** `issueToken` for many accounts in one statement: one token each, in their order. */
+export async function issueTokens(manager: EntityManager, userIds: readonly string[], kind: AuthTokenKind): Promise<string[]> {
+  const tokens = userIds.map(() => randomBytes(32).toString('base64url'));
+  if (!tokens.length) return tokens;
+  await manager.query(
+    `INSERT INTO auth_tokens (user_id, kind, token_hash, expires_at) SELECT user_id, $2, token_hash, $4 FROM unnest($1::uuid[], $3::text[]) AS t(user_id, token_hash)`,
+    [userIds, kind, tokens.map(hashToken), new Date(Date.now() + TOKEN_HOURS[kind] * 3600_000)],
+  );
+  return tokens;
 }
 
 export function setPasswordLink(ctx: { config: Pick<Deps['config'], 'appUrl'> }, token: string): string {
   return `${ctx.config.appUrl}/set-password?token=${encodeURIComponent(token)}`;
 }
 
+interface NewAccountInvitation {
+  userId: string;
+  email: string;
+  name: string;
+  token: string;
+  invitedBy: { id: string; name: string };
+  studyId?: string | null;
+}
+
 /** Puts a new account's invitation (a set-password link) in the outbox, inside the caller's transaction. */
-export async function queueInvitation(
-  manager: EntityManager,
-  ctx: MailContext & { config: Pick<Deps['config'], 'appUrl'> },
-  invitation: { userId: string; email: string; name: string; token: string; invitedBy: { id: string; name: string }; studyId?: string | null },
-): Promise<void> {
-  const message = invitationMail({ name: invitation.name, invitedBy: invitation.invitedBy.name, link: setPasswordLink(ctx, invitation.token) });
-  await queueMail(manager, ctx, { kind: 'invitation', recipient: { id: invitation.userId, email: invitation.email }, message, actorId: invitation.invitedBy.id, studyId: invitation.studyId });
+export async function queueInvitation(manager: EntityManager, ctx: MailContext & { config: Pick<Deps['config'], 'appUrl'> }, invitation: NewAccountInvitation): Promise<void> {
+  await queueInvitations(manager, ctx, [invitation]);
+}
+
+/** `queueInvitation` for many new accounts at once. */
+export async function queueInvitations(manager: EntityManager, ctx: MailContext & { config: Pick<Deps['config'], 'appUrl'> }, invitations: readonly NewAccountInvitation[]): Promise<void> {
+  await queueMails(
+    manager,
+    ctx,
+    invitations.map((i) => ({
+      kind: 'invitation' as const,
+      recipient: { id: i.userId, email: i.email },
+      message: invitationMail({ name: i.name, invitedBy: i.invitedBy.name, link: setPasswordLink(ctx, i.token) }),
+      actorId: i.invitedBy.id,
+      studyId: i.studyId,
+    })),
+  );
 }
 
 /**

@@ -2,6 +2,7 @@ import { createHash } from 'node:crypto';
 import type { Request, Response } from 'express';
 import type { DataSource } from 'typeorm';
 import { districtWideRoles, smallCellViewerRoles, type SessionUser } from '@evenhand/entities';
+import { changeFeed, TaggedCache } from '../db/change-feed.js';
 import { findVisibleStudy, hasRole, sitesOf } from '../studies/access.js';
 import { getRun } from './service.js';
 
@@ -20,16 +21,30 @@ interface LockedRunProbe {
   version: string;
 }
 
+const probes = new WeakMap<DataSource, TaggedCache<LockedRunProbe | undefined>>();
+
+/**
+ * The run's state and its study's version; a locked run's from memory until the change feed says a run of its study
+ * finished, was locked or went (`runs:<study id>`), so the version read is always the current one.
+ */
+function probeRun(db: DataSource, runId: string): Promise<LockedRunProbe | undefined> {
+  let cache = probes.get(db);
+  if (!cache) probes.set(db, (cache = new TaggedCache<LockedRunProbe | undefined>(changeFeed(db), 5_000)));
+  const load = async () =>
+    ((await db.query(
+      `SELECT r.state, r.study_id,
+              (SELECT count(*) || '/' || coalesce(max(coalesce(x.locked_at, x.finished_at))::text, '')
+                 FROM runs x JOIN comparisons k ON k.id = x.comparison_id
+                WHERE x.study_id = r.study_id AND x.kind = 'confirmatory' AND x.state IN ('finished', 'locked') AND k.prespecified) AS version
+         FROM runs r WHERE r.id = $1`,
+      [runId],
+    )) as LockedRunProbe[])[0];
+  return cache.read(runId, load, (probe) => (probe?.state === 'locked' ? [`runs:${probe.study_id}`] : null));
+}
+
 /** The answer to `GET /api/runs/:id` for a locked run, or null when the run is not locked (or does not exist). */
 export async function lockedRunAnswer(db: DataSource, user: SessionUser, runId: string): Promise<{ json: string; etag: string } | null> {
-  const [probe]: LockedRunProbe[] = await db.query(
-    `SELECT r.state, r.study_id,
-            (SELECT count(*) || '/' || coalesce(max(coalesce(x.locked_at, x.finished_at))::text, '')
-               FROM runs x JOIN comparisons k ON k.id = x.comparison_id
-              WHERE x.study_id = r.study_id AND x.kind = 'confirmatory' AND x.state IN ('finished', 'locked') AND k.prespecified) AS version
-       FROM runs r WHERE r.id = $1`,
-    [runId],
-  );
+  const probe = await probeRun(db, runId);
   if (!probe || probe.state !== 'locked') return null;
   // District-wide staff see every study; anyone else is checked against the study as getRun would (404 if not theirs).
   if (!hasRole(user, ...districtWideRoles)) await findVisibleStudy(db.manager, user, probe.study_id);

@@ -2,6 +2,7 @@ import type { DataSource, EntityManager } from 'typeorm';
 import { benjaminiHochberg } from '@evenhand/stats';
 import { decidingTest, smallCellViewerRoles, type Comparison, type ComparisonSchedule, type CreateComparison, type PlanContent, type PrincipalRun, type QueueRun, type Run, type RunResults, type SessionUser } from '@evenhand/entities';
 import { recordAudit } from '../audit/service.js';
+import { changeFeed } from '../db/change-feed.js';
 import type { Deps } from '../deps.js';
 import { createLockDigests } from '../digests/service.js';
 import { AppError } from '../errors.js';
@@ -9,6 +10,7 @@ import type { Logger } from '../logger.js';
 import { currentPlan } from '../plans/service.js';
 import { findVisibleStudy, hasRole, sitesOf } from '../studies/access.js';
 import { advanceStatus } from '../studies/service.js';
+import { accountFor, needsPretest } from './accounting.js';
 import { AnalysisError, analyse } from './engine.js';
 import { bundleRowsSql, canonicalSummariesSql, gather, sheetStatesFor } from './gather.js';
 import { principalView } from './principal-view.js';
@@ -249,13 +251,17 @@ export async function executeRun(db: DataSource, logger: Logger, runId: string):
       const [planRow] = await manager.query(`SELECT content FROM plan_versions WHERE study_id = $1 AND version = $2`, [k.study_id, claimed.plan_version]);
       const plan = planRow.content as PlanContent;
       const [baseline] = await manager.query(`SELECT id FROM waves WHERE study_id = $1 AND kind = 'baseline' LIMIT 1`, [k.study_id]);
+      const states = sheetStatesFor(claimed.kind);
       const data = await gather(manager, {
         studyId: k.study_id,
         measureId: k.measure_id,
         waveId: k.wave_id,
         baselineWaveId: k.covariate === 'baseline' ? (baseline?.id ?? null) : null,
-        states: sheetStatesFor(claimed.kind),
+        states,
       });
+      // Who was analysed and who was lost, and why, in the same snapshot as the data: the run stores what it read.
+      const pretest = needsPretest({ primaryTest: k.primary_test, covariate: k.covariate, scale: k.measure_scale, hasBaselineWave: Boolean(baseline) });
+      const accounting = await accountFor(manager, { studyId: k.study_id, measureId: k.measure_id, waveId: k.wave_id, reads: states, pretestWaveId: pretest ? baseline.id : null });
       const computed = analyse(
         {
           kind: claimed.kind,
@@ -269,8 +275,10 @@ export async function executeRun(db: DataSource, logger: Logger, runId: string):
         },
         data,
       );
-      return { computed, data };
+      return { computed: { ...computed, accounting }, data };
     });
+    // A finished confirmatory run moves its study's adjusted figures: cached locked answers are read afresh.
+    changeFeed(db).expect(`runs:${claimed.study_id}`);
     await db.query(
       `UPDATE runs SET state = 'finished', finished_at = now(), results = $2, engine_version = $3, data_sha256 = $4, input_sheet_ids = $5, classroom_arms = $6 WHERE id = $1`,
       [runId, results.computed, results.computed.engineVersion, results.data.dataSha256, results.data.sheetIds, Object.fromEntries(results.data.classrooms.map((c) => [c.classroomId, c.arm]))],
@@ -340,6 +348,7 @@ export async function lockRun(deps: Pick<Deps, 'db' | 'config' | 'jobs'>, user: 
     );
     if (moved) throw AppError.conflict(`Classroom ${moved.name} was reassigned after this run read the data; run the comparison again and lock that run`);
     await manager.query(`UPDATE score_sheets SET locked = true WHERE id = ANY($1) AND NOT locked`, [run.input_sheet_ids]);
+    changeFeed(db).expect(`runs:${run.study_id}`);
     await manager.query(`UPDATE runs SET state = 'locked', locked_at = now(), locked_by = $2 WHERE id = $1`, [runId, user.id]);
     await recordAudit(manager, {
       actorId: user.id,
@@ -372,6 +381,16 @@ This file holds everything needed to recompute a locked comparison:
   "summary,classroom_id,arm,n,mean,sd", in byte order. They count in the t tests and effect sizes, not in the
   rank, median, normality or baseline-adjusted checks;
 - classrooms: each classroom's school (site), for the two-level model's blocks or, when schools were assigned, its units;
+- accounting: who was analysed and who was lost, and why (the same as results.accounting, stored when the run read
+  the data), per arm in classrooms and students: randomised (the classrooms the draw gave an arm and the student
+  codes registered to them), analysed (students with an outcome score on a sheet the run read and, when "needsPretest"
+  is true, a pretest score; classrooms with an analysed student) and the others by reason: "sheet-not-entered",
+  "sheet-not-submitted", "awaiting-review" and "returned" (the classroom's outcome sheet was not read; all its
+  students share the reason), "left-study" (marked as having left), "no-outcome-score" (registered, no outcome score
+  on the sheet read), "no-pretest" (an outcome score but no pretest, which the analysis adjusts for).
+  "lostClassrooms" lists each classroom not analysed with its reason; "attrition" is worked out from these counts
+  (overall and differential, against both published boundaries). The analysed students per arm are the rows with an
+  outcome (and a pretest when "needsPretest"), plus the summaries' n when it is false;
 - results: the numbers Evenhand computed, with the statistics engine's version.
 
 To check the data: for each classroom (its rows are consecutive), take "student_code,outcome" of the rows with an
@@ -433,6 +452,8 @@ export async function runBundle(db: DataSource, user: SessionUser, runId: string
     rows: lines.map((l) => l.line),
     summaries: summaries.map((l) => l.line),
     classrooms: schools.map((c) => ({ classroomId: c.classroom_id, siteId: c.site_id })),
+    // What the run stored when it read the data; null for a run made before it was stored.
+    accounting: run.results?.accounting ?? null,
     results: run.results,
   };
 }

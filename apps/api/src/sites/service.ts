@@ -2,6 +2,7 @@ import type { DataSource, EntityManager } from 'typeorm';
 import type { EnrolSite, SessionUser, Site, StudySite, UpdateSite } from '@evenhand/entities';
 import { SiteEntity, StudySiteEntity } from '@evenhand/entities/orm';
 import { recordAudit } from '../audit/service.js';
+import { changeFeed } from '../db/change-feed.js';
 import type { Deps } from '../deps.js';
 import { AppError } from '../errors.js';
 import { findVisibleStudy, hasRole, sitesOf } from '../studies/access.js';
@@ -108,6 +109,8 @@ export async function updateSite(deps: Deps, actor: SessionUser, id: string, inp
     if (input.code && input.code !== before.code && (await manager.existsBy(SiteEntity, { code: input.code }))) {
       throw AppError.conflict(`Site code ${input.code} is already used`, { issues: [{ path: 'code', message: 'This code is already used' }] });
     }
+    // Sessions show their schools' names: the session check reads this one afresh from the next request on.
+    if (input.name) changeFeed(deps.db).expect(`site:${id}`);
     if (input.name || input.code) await manager.update(SiteEntity, id, { name: input.name ?? before.name, code: input.code ?? before.code });
     await assignPrincipal(manager, deps, actor, id, input.principal, null);
     const after = await siteById(manager, id);

@@ -1,11 +1,11 @@
 import { createHash, randomBytes } from 'node:crypto';
 import type { EntityManager } from 'typeorm';
 import { roleLabels, type RoleGrant, type SessionUser } from '@evenhand/entities';
-import { recordAudit } from '../audit/service.js';
-import { endSessions, issueToken, queueInvitation } from '../auth/service.js';
+import { recordAudit, recordAudits } from '../audit/service.js';
+import { endSessions, issueTokens, queueInvitations, sessionChanging } from '../auth/service.js';
 import type { Deps } from '../deps.js';
 import { AppError } from '../errors.js';
-import { queueMail } from '../mail/outbox.js';
+import { queueMails } from '../mail/outbox.js';
 import { roleInvitationMail } from '../mail/templates.js';
 
 /** The school roles a coordinator can offer by naming a person. */
@@ -21,12 +21,28 @@ const INVITATION_DAYS = 14;
 const hashToken = (token: string) => createHash('sha256').update(token).digest('hex');
 const roleWord = (role: SchoolRole) => roleLabels[role].toLowerCase();
 
+/** A person named for a school role at a school. */
+export interface Naming {
+  person: { email: string; name: string };
+  offered: { role: SchoolRole; siteId: string };
+}
+
+/** A naming that cannot stand, by its place in the list: the message, and the issue for the form's field. */
+export interface NamingRefusal {
+  index: number;
+  field: string;
+  message: string;
+  issue: string;
+}
+
+/** A form names one person: the first refusal answers 409 with its field's issue. */
+function refuseNaming([first]: NamingRefusal[]): never {
+  throw AppError.conflict(first.message, { issues: [{ path: first.field, message: first.issue }] });
+}
+
 /**
- * Names a person for a school role. An existing account is offered the role by an e-mailed link and holds it only once
- * it accepts; a new address gets an account with the role but no password, usable once the person accepts the
- * invitation by choosing a password. Nobody may name
- * themselves, nor an account holding a conflicting role (409). A person who already holds the role there is simply
- * named. Everything goes into the outbox within the caller's transaction.
+ * Names a person for a school role: `ensurePeople` for one. Nobody may name themselves, nor an account holding a
+ * conflicting role (409).
  */
 export async function ensurePerson(
   manager: EntityManager,
@@ -37,50 +53,144 @@ export async function ensurePerson(
   studyId: string | null,
 ): Promise<{ userId: string; invited: boolean }> {
   if (!offered.siteId) throw new Error('a school role names its school');
-  const grant = { role: offered.role, siteId: offered.siteId };
-  const field = `${grant.role}.email`;
-  const [existing]: { id: string; email: string; name: string; roles: string[]; has_role: boolean }[] = await manager.query(
+  return (await ensurePeople(manager, ctx, actor, [{ person, offered: { role: offered.role, siteId: offered.siteId } }], studyId))[0];
+}
+
+/**
+ * Names people for school roles, set-wise (a roster import names thousands), with the outcome of naming them one
+ * after another. An existing account is offered the role by an e-mailed link and holds it only once it accepts; a new
+ * address gets an account with the first role named for it but no password, usable once the person accepts the
+ * invitation by choosing a password (any other role named for it in the same list is offered like an existing
+ * account's). A person who already holds the role there is simply named; the same person, role and school named
+ * twice is one naming. If anyone named is the actor or holds a conflicting role, `refuse` throws and nothing is
+ * written. Everything goes into the outbox within the caller's transaction. Answers each naming's account, and
+ * whether that naming sent mail.
+ */
+export async function ensurePeople(
+  manager: EntityManager,
+  ctx: Pick<Deps, 'config' | 'jobs'>,
+  actor: SessionUser,
+  named: readonly Naming[],
+  studyId: string | null,
+  refuse: (refused: NamingRefusal[]) => never = refuseNaming,
+): Promise<{ userId: string; invited: boolean }[]> {
+  if (!named.length) return [];
+  // Locked in one order, so two imports naming the same people cannot deadlock.
+  const found: { id: string; email: string; name: string; roles: string[]; held: string[] }[] = await manager.query(
     `SELECT u.id, u.email, u.name,
             ARRAY(SELECT g.role FROM role_grants g WHERE g.user_id = u.id) AS roles,
-            EXISTS (SELECT 1 FROM role_grants g WHERE g.user_id = u.id AND g.role = $2 AND g.site_id = $3) AS has_role
-       FROM users u WHERE u.email = $1 FOR UPDATE`,
-    [person.email, grant.role, grant.siteId],
+            ARRAY(SELECT g.role || '@' || g.site_id FROM role_grants g WHERE g.user_id = u.id AND g.site_id IS NOT NULL) AS held
+       FROM users u WHERE u.email = ANY($1) ORDER BY u.id FOR UPDATE`,
+    [[...new Set(named.map((n) => n.person.email))]],
   );
-  if (existing?.id === actor.id) {
-    throw AppError.conflict(`You cannot name yourself as ${roleWord(grant.role)}; name the person who will do it`, { issues: [{ path: field, message: 'This is your own account' }] });
-  }
-  const conflict = existing?.roles.find((r) => (conflictingRoles as readonly string[]).includes(r));
-  if (conflict) {
-    const label = roleLabels[conflict as keyof typeof roleLabels].toLowerCase();
-    throw AppError.conflict(`${existing!.email} has the ${label} role, which cannot also be a school’s ${roleWord(grant.role)}; name someone else`, {
-      issues: [{ path: field, message: `This account has the ${label} role` }],
-    });
-  }
-  if (existing?.has_role) return { userId: existing.id, invited: false };
+  const accounts = new Map(found.map((u) => [u.email, { ...u, held: new Set(u.held) }]));
 
-  if (!existing) {
-    // A new account: the role comes with it, unusable until the person accepts by setting a password from the e-mail.
-    const [{ id: userId }] = await manager.query(`INSERT INTO users (email, name, password_hash) VALUES ($1, $2, NULL) RETURNING id`, [person.email, person.name]);
-    await manager.query(`INSERT INTO role_grants (user_id, role, site_id) VALUES ($1, $2, $3)`, [userId, grant.role, grant.siteId]);
-    await recordAudit(manager, { actorId: actor.id, studyId, action: 'user.invited', entityType: 'user', entityId: userId, after: { email: person.email, added: grant } });
-    const setPassword = await issueToken(manager, userId, 'invitation');
-    await queueInvitation(manager, ctx, { userId, email: person.email, name: person.name, token: setPassword, invitedBy: actor, studyId });
-    return { userId, invited: true };
+  const refused: NamingRefusal[] = [];
+  named.forEach(({ person, offered }, index) => {
+    const account = accounts.get(person.email);
+    const field = `${offered.role}.email`;
+    if (account?.id === actor.id) {
+      refused.push({ index, field, message: `You cannot name yourself as ${roleWord(offered.role)}; name the person who will do it`, issue: 'This is your own account' });
+      return;
+    }
+    const conflict = account?.roles.find((r) => (conflictingRoles as readonly string[]).includes(r));
+    if (conflict) {
+      const label = roleLabels[conflict as keyof typeof roleLabels].toLowerCase();
+      refused.push({
+        index,
+        field,
+        message: `${account!.email} has the ${label} role, which cannot also be a school’s ${roleWord(offered.role)}; name someone else`,
+        issue: `This account has the ${label} role`,
+      });
+    }
+  });
+  if (refused.length) refuse(refused);
+
+  // New addresses: an account each, with the first role named for it; the role comes with it, unusable until the
+  // person accepts by setting a password from the e-mail.
+  const fresh = new Map<string, Naming>();
+  for (const n of named) if (!accounts.has(n.person.email) && !fresh.has(n.person.email)) fresh.set(n.person.email, n);
+  const newcomers = [...fresh.values()];
+  if (newcomers.length) {
+    const made: { id: string; email: string; name: string }[] = await manager.query(
+      `INSERT INTO users (email, name, password_hash) SELECT email, name, NULL FROM unnest($1::text[], $2::text[]) AS p(email, name) RETURNING id, email, name`,
+      [newcomers.map((n) => n.person.email), newcomers.map((n) => n.person.name)],
+    );
+    for (const u of made) accounts.set(u.email, { ...u, roles: [], held: new Set([`${fresh.get(u.email)!.offered.role}@${fresh.get(u.email)!.offered.siteId}`]) });
+    const ids = newcomers.map((n) => accounts.get(n.person.email)!.id);
+    await manager.query(`INSERT INTO role_grants (user_id, role, site_id) SELECT * FROM unnest($1::uuid[], $2::text[], $3::uuid[])`, [
+      ids,
+      newcomers.map((n) => n.offered.role),
+      newcomers.map((n) => n.offered.siteId),
+    ]);
+    const tokens = await issueTokens(manager, ids, 'invitation');
+    await recordAudits(
+      manager,
+      newcomers.map((n, i) => ({ actorId: actor.id, studyId, action: 'user.invited', entityType: 'user', entityId: ids[i], after: { email: n.person.email, added: n.offered } })),
+    );
+    await queueInvitations(
+      manager,
+      ctx,
+      newcomers.map((n, i) => ({ userId: ids[i], email: n.person.email, name: n.person.name, token: tokens[i], invitedBy: actor, studyId })),
+    );
   }
-  const userId = existing.id;
-  const token = randomBytes(32).toString('base64url');
-  // A newer offer of the same role replaces an open one (only the newest link works).
-  await manager.query(`UPDATE role_invitations SET state = 'withdrawn', decided_at = now() WHERE user_id = $1 AND role = $2 AND site_id = $3 AND state = 'pending'`, [userId, grant.role, grant.siteId]);
-  await manager.query(
-    `INSERT INTO role_invitations (user_id, role, site_id, invited_by, token_hash, expires_at) VALUES ($1, $2, $3, $4, $5, now() + $6 * interval '1 day')`,
-    [userId, grant.role, grant.siteId, actor.id, hashToken(token), INVITATION_DAYS],
-  );
-  await recordAudit(manager, { actorId: actor.id, studyId, action: 'user.role_offered', entityType: 'user', entityId: userId, after: { email: person.email, offered: grant } });
-  const [{ name: siteName }] = await manager.query(`SELECT name FROM sites WHERE id = $1`, [grant.siteId]);
-  const link = `${ctx.config.appUrl}/invitations/accept?token=${encodeURIComponent(token)}`;
-  const message = roleInvitationMail({ name: existing.name, invitedBy: actor.name, role: roleWord(grant.role), siteName, link });
-  await queueMail(manager, ctx, { kind: 'role_invitation', recipient: { id: userId, email: existing.email }, message, actorId: actor.id, studyId });
-  return { userId, invited: true };
+
+  // Everyone else not yet holding the role there: an offer each (a newer offer of the same role replaces an open
+  // one: only the newest link works).
+  const mailed = new Set(newcomers.map((n) => `${n.person.email}|${n.offered.role}|${n.offered.siteId}`));
+  const offers: (Naming & { userId: string; name: string; token: string })[] = [];
+  for (const n of named) {
+    const key = `${n.person.email}|${n.offered.role}|${n.offered.siteId}`;
+    const account = accounts.get(n.person.email)!;
+    if (mailed.has(key) || account.held.has(`${n.offered.role}@${n.offered.siteId}`)) continue;
+    mailed.add(key);
+    offers.push({ ...n, userId: account.id, name: account.name, token: randomBytes(32).toString('base64url') });
+  }
+  if (offers.length) {
+    const columns = [offers.map((o) => o.userId), offers.map((o) => o.offered.role), offers.map((o) => o.offered.siteId)];
+    await manager.query(
+      `UPDATE role_invitations i SET state = 'withdrawn', decided_at = now() FROM unnest($1::uuid[], $2::text[], $3::uuid[]) AS o(user_id, role, site_id)
+        WHERE i.user_id = o.user_id AND i.role = o.role AND i.site_id = o.site_id AND i.state = 'pending'`,
+      columns,
+    );
+    await manager.query(
+      `INSERT INTO role_invitations (user_id, role, site_id, invited_by, token_hash, expires_at)
+       SELECT user_id, role, site_id, $5, token_hash, now() + $6 * interval '1 day' FROM unnest($1::uuid[], $2::text[], $3::uuid[], $4::text[]) AS o(user_id, role, site_id, token_hash)`,
+      [...columns, offers.map((o) => hashToken(o.token)), actor.id, INVITATION_DAYS],
+    );
+    await recordAudits(
+      manager,
+      offers.map((o) => ({ actorId: actor.id, studyId, action: 'user.role_offered', entityType: 'user', entityId: o.userId, after: { email: o.person.email, offered: o.offered } })),
+    );
+    const sites: { id: string; name: string }[] = await manager.query(`SELECT id, name FROM sites WHERE id = ANY($1)`, [[...new Set(columns[2])]]);
+    const siteName = new Map(sites.map((x) => [x.id, x.name]));
+    await queueMails(
+      manager,
+      ctx,
+      offers.map((o) => ({
+        kind: 'role_invitation' as const,
+        recipient: { id: o.userId, email: o.person.email },
+        message: roleInvitationMail({
+          name: o.name,
+          invitedBy: actor.name,
+          role: roleWord(o.offered.role),
+          siteName: siteName.get(o.offered.siteId)!,
+          link: `${ctx.config.appUrl}/invitations/accept?token=${encodeURIComponent(o.token)}`,
+        }),
+        actorId: actor.id,
+        studyId,
+      })),
+    );
+  }
+
+  // Each naming's account; only the first naming of a person, role and school that sent mail counts as invited.
+  const counted = new Set<string>();
+  return named.map((n) => {
+    const key = `${n.person.email}|${n.offered.role}|${n.offered.siteId}`;
+    const invited = mailed.has(key) && !counted.has(key);
+    counted.add(key);
+    return { userId: accounts.get(n.person.email)!.id, invited };
+  });
 }
 
 interface OpenInvitation {
@@ -102,6 +212,8 @@ async function grant(manager: EntityManager, inv: OpenInvitation): Promise<boole
   const stands = stillNamed && !conflict && !inv.expired;
   await manager.query(`UPDATE role_invitations SET state = $2, decided_at = now() WHERE id = $1`, [inv.id, stands ? 'accepted' : 'withdrawn']);
   if (!stands) return false;
+  // The accepted role works in the sessions the person already has, from the next request on.
+  sessionChanging(manager, inv.user_id);
   await manager.query(`INSERT INTO role_grants (user_id, role, site_id) VALUES ($1, $2, $3) ON CONFLICT DO NOTHING`, [inv.user_id, inv.role, inv.site_id]);
   await recordAudit(manager, { actorId: inv.user_id, action: 'user.role_accepted', entityType: 'user', entityId: inv.user_id, after: { role: inv.role, siteId: inv.site_id } });
   return true;

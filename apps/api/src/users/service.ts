@@ -4,7 +4,7 @@ import { RoleGrantEntity, SiteEntity, UserEntity } from '@evenhand/entities/orm'
 import type { Deps } from '../deps.js';
 import { AppError } from '../errors.js';
 import { recordAudit } from '../audit/service.js';
-import { endSessions, issueToken, queueInvitation } from '../auth/service.js';
+import { endSessions, issueToken, queueInvitation, sessionChanging } from '../auth/service.js';
 
 function toUser(u: UserEntity): User {
   return {
@@ -89,6 +89,7 @@ export async function updateUser(deps: Deps, actor: SessionUser, id: string, inp
       throw AppError.conflict('You cannot deactivate yourself or remove your own admin role');
     }
     if (input.name !== undefined || input.active !== undefined) {
+      sessionChanging(manager, id);
       await manager.update(UserEntity, id, { name: input.name ?? user.name, active: input.active ?? user.active });
     }
     if (input.roles) {
