@@ -352,3 +352,43 @@ describe('difference in proportions for cluster-assigned studies (CR2 linear pro
     );
   });
 });
+
+/** Written only by scripts/make-degenerate-proportion-fixtures.R (R 4.2 prop.test, fisher.test), 15 significant digits. */
+const degenerate = JSON.parse(readFileSync(new URL('../test/fixtures/proportions-degenerate.json', import.meta.url), 'utf8')) as {
+  tables: {
+    id: string;
+    intervention: YesNoCounts;
+    comparison: YesNoCounts;
+    wilson: Record<string, [[number, number], [number, number]]>;
+    fisher: Record<'two-sided' | 'less' | 'greater', number>;
+    sampleOddsRatio: number | null;
+  }[];
+};
+
+describe('an arm that answered all yes or all no, against R', () => {
+  for (const c of degenerate.tables) {
+    const [a, b] = [c.intervention, c.comparison];
+    it(`${c.id}: Wilson (R prop.test without correction) and Fisher (R fisher.test) are defined; the odds ratio and Cox index are refused by name`, () => {
+      for (const [conf, refs] of Object.entries(c.wilson)) {
+        [a, b].forEach((arm, i) => {
+          const r = proportionWithInterval(arm, { confidence: Number(conf) });
+          expectClose(r.ci[0], refs[i][0], 1e-13, 1e-15, `${c.id} arm ${i + 1} lower @${conf}`);
+          expectClose(r.ci[1], refs[i][1], 1e-13, 1e-15, `${c.id} arm ${i + 1} upper @${conf}`);
+        });
+        // Newcombe's interval is built from these Wilson bounds, so it is defined too, within [−1, 1].
+        const d = proportionDifference(a, b, { confidence: Number(conf) });
+        expect(d.ci[0]).toBeGreaterThanOrEqual(-1);
+        expect(d.ci[1]).toBeLessThanOrEqual(1);
+        expect(d.ci[0]).toBeLessThanOrEqual(d.difference);
+        expect(d.ci[1]).toBeGreaterThanOrEqual(d.difference);
+      }
+      for (const alt of ['two-sided', 'less', 'greater'] as const) {
+        expectClose(fisherExactTest(a, b, { alternative: alt }).p, c.fisher[alt], 1e-13, 1e-15, `${c.id} Fisher ${alt}`);
+      }
+      // R's sample odds ratio is 0, infinite or 0/0 for every one of these tables.
+      expect(c.sampleOddsRatio).toBeNull();
+      expect(() => oddsRatio(a, b, { zeroCell: 'refuse' })).toThrow(/oddsRatio: an arm has no yes or no "no" answers \(a zero cell\), so the log odds are infinite/);
+      expect(() => coxIndexFromCounts(a, b)).toThrow(/coxIndexFromCounts: an arm has no yes or no "no" answers \(a zero cell\)/);
+    });
+  }
+});

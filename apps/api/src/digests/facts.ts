@@ -60,11 +60,14 @@ function yesNoSentences(r: RunResults, y: NonNullable<RunResults['yesNo']>, favo
       ? `Across all schools in the study, ${pct(i.proportion)} of students in intervention classrooms answered yes to ${where}, against ${pct(c.proportion)} in comparison classrooms: about the same.`
       : `Across all schools in the study, ${pct(i.proportion)} of students in intervention classrooms answered yes to ${where}, against ${pct(c.proportion)} in comparison classrooms: ${points} percentage points ${d.estimate > 0 ? 'more' : 'fewer'}. ${good}, so the difference favours the ${favours}.`;
   const cox = y.coxIndex;
-  const size = `The size of the difference is a Cox index of ${formatNumber(cox.value, 2)} (the published evidence standard's effect size for yes/no outcomes), an improvement index of ${formatSigned(cox.improvementIndex, 0)}. ${
-    cox.substantivelyImportant ? 'That is at least the 0.25 the standard counts as substantively important.' : 'That is below the 0.25 the standard counts as substantively important.'
-  }`;
+  const undefinedCox = y.notComputed?.find((n) => n.statistic.startsWith('Cox index'));
+  const size = cox
+    ? `The size of the difference is a Cox index of ${formatNumber(cox.value, 2)} (the published evidence standard's effect size for yes/no outcomes), an improvement index of ${formatSigned(cox.improvementIndex, 0)}. ${
+        cox.substantivelyImportant ? 'That is at least the 0.25 the standard counts as substantively important.' : 'That is below the 0.25 the standard counts as substantively important.'
+      }`
+    : `The Cox index, the published evidence standard's effect size for yes/no outcomes, is not given: ${undefinedCox ? undefinedCox.why.replace(/^Undefined: /, '') : 'an arm answered all yes or all no'}. Read the difference in percentage points instead.`;
   const test = `${decidingAnalysisNames[d.analysis]}, ${sidedness[d.alternative] ?? d.alternative}, at alpha ${formatAlpha(r.alpha)}`;
-  const verdict = `${d.significant ? 'It meets' : 'It does not meet'} the test registered in the plan before the data were in (${test}): ${formatPStatement(d.p)}. A p-value is not the size of the effect: read it with the Cox index.`;
+  const verdict = `${d.significant ? 'It meets' : 'It does not meet'} the test registered in the plan before the data were in (${test}): ${formatPStatement(d.p)}. A p-value is not the size of the effect: read it with ${cox ? 'the Cox index' : 'the difference in percentage points'}.`;
   return hidden ? [finding, verdict] : [finding, size, verdict];
 }
 

@@ -71,15 +71,22 @@ export function analyse(ctx: AnalysisContext, data: Gathered): RunResults {
   const { plan } = ctx;
   const s1 = armSummary(data.classrooms, 'intervention');
   const s2 = armSummary(data.classrooms, 'comparison');
+  const yesNoMeasure = ctx.measure.scale === 'yes-no';
   for (const [arm, s] of [['intervention', s1], ['comparison', s2]] as const) {
     if (!s || s.n < 2) throw new AnalysisError(`The ${armLabel[arm]} arm has fewer than 2 students with an outcome score in the sheets this run may use`);
-    if (!(s.m2 > 0)) {
-      const answer = ctx.measure.scale === 'yes-no' ? (s.mean === 1 ? 'answered yes' : 'answered no') : 'has the same score';
-      throw new AnalysisError(`Every student in the ${armLabel[arm]} arm ${answer}; the comparison is undefined`);
-    }
+    // An arm whose students all answered yes (or all no) is a defined yes/no table; only a score needs spread in each arm.
+    if (!(s.m2 > 0) && !yesNoMeasure) throw new AnalysisError(`Every student in the ${armLabel[arm]} arm has the same score; the comparison is undefined`);
   }
   const a = s1!;
   const b = s2!;
+  if (yesNoMeasure && !(a.m2 + b.m2 > 0)) {
+    const answers = (s: Summary) => (s.mean === 1 ? 'yes' : 'no');
+    throw new AnalysisError(
+      answers(a) === answers(b)
+        ? `Every student in both arms answered ${answers(a)}: the difference is 0 percentage points and Fisher’s exact p is 1, but no registered test can compare arms without any spread`
+        : `Every intervention student answered ${answers(a)} and every comparison student ${answers(b)}: with no spread in either arm the registered test’s standard error is 0, so it is undefined`,
+    );
+  }
   const opts = { alternative: plan.alternative, confidence: 1 - plan.alpha };
   const ci95 = { alternative: plan.alternative, confidence: 0.95 };
   const welch = welchTFromSummary(toGroup(a), toGroup(b), ci95);
@@ -111,7 +118,8 @@ export function analyse(ctx: AnalysisContext, data: Gathered): RunResults {
       ({ model, effect: modelEffect } = twoLevel(assigned, opts));
     } catch (e) {
       if (!(e instanceof ClusteredAnalysisError)) throw e;
-      if (twoLevelRegistered) throw new AnalysisError(e.message);
+      // A yes/no measure is decided by the linear probability regression, so the model is only a check there.
+      if (twoLevelRegistered && !yesNoMeasure) throw new AnalysisError(e.message);
       notComputed.push({ check: 'two-level model', why: e.message });
     }
     const r = clusterRobust(assigned, ci95);
@@ -122,8 +130,8 @@ export function analyse(ctx: AnalysisContext, data: Gathered): RunResults {
 
   // The primary test as registered, at the registered unit of analysis.
   let primaryBase;
-  if (twoLevelRegistered) {
-    const m = model!;
+  if (twoLevelRegistered && model) {
+    const m = model;
     primaryBase = { t: m.t, df: m.df, p: m.p, meanDifference: m.estimate, se: m.se, ci: m.ci, confidence: m.confidence, alternative: m.alternative };
   } else if (ctx.comparison.unitOfAnalysis === 'student') {
     primaryBase = (ctx.comparison.primaryTest === 'student' ? studentTFromSummary : welchTFromSummary)(toGroup(a), toGroup(b), opts);
@@ -132,7 +140,9 @@ export function analyse(ctx: AnalysisContext, data: Gathered): RunResults {
     if (!classroomMeans) throw new AnalysisError(`A classroom-level analysis is undefined here: ${CLASSROOM_MEANS_EQUAL}`);
     primaryBase = welchT(meansOf('intervention'), meansOf('comparison'), opts);
   }
-  const primary = { ...primaryBase, test: ctx.comparison.primaryTest, significant: primaryBase.p < plan.alpha };
+  // A yes/no run whose model could not be fitted (see notComputed) names the test its figures here come from.
+  const primaryTest = twoLevelRegistered && !model ? 'welch' : ctx.comparison.primaryTest;
+  const primary = { ...primaryBase, test: primaryTest, significant: primaryBase.p < plan.alpha };
 
   // Clustering: classrooms or schools were assigned but students analysed.
   let clustering: RunResults['clustering'] = null;
@@ -192,7 +202,9 @@ export function analyse(ctx: AnalysisContext, data: Gathered): RunResults {
     const lmed = leveneFromDeviations([v1.deviations.median, v2.deviations.median], 'median');
     leveneMean = { statistic: lm.statistic, df1: lm.df1, df2: lm.df2, p: lm.p };
     leveneMedian = { statistic: lmed.statistic, df1: lmed.df1, df2: lmed.df2, p: lmed.p };
-    if (v1.n >= 3 && v2.n >= 3) {
+    if (yesNoMeasure) {
+      notes.push('A yes/no answer is 0 or 1, so its normality is not tested.');
+    } else if (v1.n >= 3 && v2.n >= 3) {
       shapiro = arms.map((arm) => ({ arm, ...shapiroWilk(data.values[arm]!.normalitySample) }));
       const sampled = arms.filter((arm) => data.values[arm]!.n > NORMALITY_SAMPLE);
       if (sampled.length) {
@@ -301,7 +313,7 @@ export function analyse(ctx: AnalysisContext, data: Gathered): RunResults {
       studentLevelEffect: shownEffect === modelEffect ? { g: g.g, ci: g.ci as [number, number], se: g.se } : null,
       notComputed,
     },
-    diagnostics: { leveneMean, leveneMedian, varianceRatio: varianceRatioFFromSummary(toGroup(a), toGroup(b)), shapiroWilk: shapiro, notes },
+    diagnostics: { leveneMean, leveneMedian, varianceRatio: b.m2 > 0 ? varianceRatioFFromSummary(toGroup(a), toGroup(b)) : null, shapiroWilk: shapiro, notes },
     sites: siteRows,
     pooled,
     flow,

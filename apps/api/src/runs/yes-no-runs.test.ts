@@ -47,8 +47,8 @@ describe('yes/no comparisons', () => {
     expect(yesNo.arms[0].ci).toEqual(proportionWithInterval(i, { confidence: 0.95 }).ci);
     const d = proportionDifference(i, c, { confidence: 0.95 });
     expect(yesNo.difference).toEqual({ estimate: d.difference, ci: d.ci });
-    expect(yesNo.oddsRatio.estimate).toBe(oddsRatio(i, c).oddsRatio);
-    expect(yesNo.coxIndex.value).toBe(coxIndexFromCounts(i, c).coxIndex);
+    expect(yesNo.oddsRatio!.estimate).toBe(oddsRatio(i, c).oddsRatio);
+    expect(yesNo.coxIndex!.value).toBe(coxIndexFromCounts(i, c).coxIndex);
     expect(yesNo.zTest!.p).toBe(twoProportionZTest(i, c).p);
     expect(yesNo.chiSquare!.p).toBe(chiSquareTest(i, c, { correction: false }).p);
     expect(yesNo.chiSquareYates!.p).toBe(chiSquareTest(i, c, { correction: true }).p);
@@ -56,13 +56,25 @@ describe('yes/no comparisons', () => {
     expect(deciding).toEqual({ analysis: 'difference-in-proportions', estimate: d.difference, p: twoProportionZTest(i, c).p, df: null, ci: d.ci, confidence: 0.95, alternative: 'two-sided', significant: twoProportionZTest(i, c).p < 0.05 });
   });
 
-  it('when an arm answered all yes, then the counts still give Wilson’s and Fisher’s defined values and the odds use the ½ rule', () => {
+  it('when an arm answered all yes, then Wilson, Newcombe and Fisher give their defined values and the odds ratio and Cox index are named as undefined, never NaN', () => {
+    // 12 of 12 vs 5 of 11: Wilson's upper bound is exactly 1, Newcombe and Fisher are defined (their references for such
+    // tables: packages/stats test/fixtures/proportions.json 'all-yes-intervention', statsmodels and SciPy); a logit of 1 is not.
     const classrooms = [classroom('a', 'intervention', 12, 12), classroom('b', 'comparison', 5, 11)];
-    const { yesNo, notes } = yesNoAnalysis(classrooms, { alpha: 0.05, alternative: 'two-sided', yesIsGood: true, measureKind: 'achievement', unitOfAssignment: 'student' });
+    const { yesNo, deciding } = yesNoAnalysis(classrooms, { alpha: 0.05, alternative: 'two-sided', yesIsGood: true, measureKind: 'achievement', unitOfAssignment: 'student' });
+    const [i, c] = [{ yes: 12, n: 12 }, { yes: 5, n: 11 }];
     expect(yesNo.arms[0].ci[1]).toBe(1);
-    expect(yesNo.fisher.p).toBe(fisherExactTest({ yes: 12, n: 12 }, { yes: 5, n: 11 }).p);
-    expect(yesNo.coxIndex.zeroCellAdjusted).toBe(true);
-    expect(notes.join(' ')).toMatch(/½ was added/);
+    expect(yesNo.arms[0].ci).toEqual(proportionWithInterval(i, { confidence: 0.95 }).ci);
+    expect(yesNo.difference.ci).toEqual(proportionDifference(i, c, { confidence: 0.95 }).ci);
+    expect(yesNo.fisher.p).toBe(fisherExactTest(i, c).p);
+    expect(yesNo.zTest!.p).toBe(twoProportionZTest(i, c).p);
+    expect(deciding.analysis).toBe('difference-in-proportions');
+    expect(yesNo.oddsRatio).toBeNull();
+    expect(yesNo.coxIndex).toBeNull();
+    expect(yesNo.notComputed).toEqual([
+      { statistic: 'odds ratio', why: 'Undefined: every intervention student answered yes, so the odds of yes in that arm are infinite.' },
+      { statistic: 'Cox index and improvement index', why: 'Undefined: every intervention student answered yes, and the log odds of 0 % or 100 % are infinite.' },
+    ]);
+    expect(JSON.stringify(yesNo)).not.toMatch(/NaN|Infinity/);
   });
 
   it('when classrooms were assigned, then a run decides by the linear probability regression with CR2 errors, equal to the engine on the 0/1 rows', async () => {
@@ -113,6 +125,63 @@ describe('yes/no comparisons', () => {
     expect(r.yesNo!.designEffect).not.toBeNull();
     const diff = proportionDifference(counts.intervention, counts.comparison, { confidence: 0.95 });
     expect(r.yesNo!.difference.estimate).toBeCloseTo(diff.difference, 14);
+  });
+
+  it('when every intervention student answered yes, then the run finishes, gives Wilson, Newcombe and Fisher, and names the odds ratio and Cox index as undefined', async () => {
+    const s = await createStudy(t.app, { seal: false, unitOfAssignment: 'classroom' });
+    const measure = await send(s.lead, 'post', `/api/studies/${s.studyId}/measures`, { name: 'Passed the course', scale: 'yes-no', higherIsBetter: true, kind: 'achievement' }, 201);
+    await send(s.lead, 'put', `/api/studies/${s.studyId}/plan`, samplePlan(measure.id, s.outcomeId), 200);
+    await send(s.lead, 'post', `/api/studies/${s.studyId}/plan/seal`, {}, 200);
+    const { classrooms } = await enrolClassrooms(s, 2, 3);
+    await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draws`, { seed: 'yes-no-all-yes', commit: true }, 201);
+    await s.coordinator.agent.get(`/api/studies/${s.studyId}/completion`).expect(200);
+    const arms: { id: string; arm: 'intervention' | 'comparison' }[] = await t.db.query(`SELECT id, arm FROM classrooms WHERE study_id = $1`, [s.studyId]);
+    const counts = { intervention: { yes: 0, n: 0 }, comparison: { yes: 0, n: 0 } };
+    for (const [k, c] of classrooms.entries()) {
+      const arm = arms.find((a) => a.id === c.id)!.arm;
+      const answers = Array.from({ length: 14 }, (_, i) => (arm === 'intervention' || i % 3 === k % 3 ? 1 : 0));
+      await fillSheet(t.db, { classroomId: c.id, waveId: s.outcomeId, measureId: measure.id }, answers, `AY${k}`);
+      counts[arm].yes += answers.reduce<number>((x, y) => x + y, 0);
+      counts[arm].n += answers.length;
+    }
+    expect(counts.intervention.yes).toBe(counts.intervention.n);
+    const comparison = (await s.lead.agent.get(`/api/studies/${s.studyId}/comparisons`)).body.items.find((k: { measureId: string }) => k.measureId === measure.id);
+    const queued = await send(s.lead, 'post', `/api/comparisons/${comparison.id}/runs`, { kind: 'confirmatory' }, 202);
+    const run = await waitFor(queued.run.id, s.lead);
+    expect(run.state).toBe('finished');
+    expect(run.error).toBeNull();
+    const y = (run.results as RunResults).yesNo!;
+    expect(y.arms.map((a) => ({ yes: a.yes, n: a.n }))).toEqual([counts.intervention, counts.comparison]);
+    expect(y.arms[0].ci).toEqual(proportionWithInterval(counts.intervention, { confidence: 0.95 }).ci);
+    expect(y.arms[0].ci[1]).toBe(1);
+    expect(y.difference.ci).toEqual(proportionDifference(counts.intervention, counts.comparison, { confidence: 0.95 }).ci);
+    expect(y.fisher.p).toBe(fisherExactTest(counts.intervention, counts.comparison).p);
+    expect(y.oddsRatio).toBeNull();
+    expect(y.coxIndex).toBeNull();
+    expect(y.notComputed!.map((n) => n.statistic)).toEqual(['odds ratio', 'Cox index and improvement index']);
+    expect(y.notComputed![0].why).toMatch(/every intervention student answered yes/);
+    // The deciding regression is defined (the comparison arm varies) and no figure anywhere is NaN or infinite.
+    const d = decidingTest(run.results as RunResults);
+    expect(d.analysis).toBe('linear-probability');
+    expect(Number.isFinite(d.p) && Number.isFinite(d.estimate)).toBe(true);
+    expect(JSON.stringify(run.results)).not.toMatch(/NaN|Infinity/);
+    expect((run.results as RunResults).diagnostics.shapiroWilk).toBeNull();
+  });
+
+  it('when every student in both arms answered yes, then the run fails with a message that says so and gives the defined values', async () => {
+    const s = await createStudy(t.app, { seal: false, unitOfAssignment: 'classroom' });
+    const measure = await send(s.lead, 'post', `/api/studies/${s.studyId}/measures`, { name: 'Enrolled', scale: 'yes-no', higherIsBetter: true, kind: 'behaviour' }, 201);
+    await send(s.lead, 'put', `/api/studies/${s.studyId}/plan`, samplePlan(measure.id, s.outcomeId), 200);
+    await send(s.lead, 'post', `/api/studies/${s.studyId}/plan/seal`, {}, 200);
+    const { classrooms } = await enrolClassrooms(s, 1, 2);
+    await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draws`, { seed: 'yes-no-everyone', commit: true }, 201);
+    await s.coordinator.agent.get(`/api/studies/${s.studyId}/completion`).expect(200);
+    for (const [k, c] of classrooms.entries()) await fillSheet(t.db, { classroomId: c.id, waveId: s.outcomeId, measureId: measure.id }, Array(11).fill(1), `EV${k}`);
+    const comparison = (await s.lead.agent.get(`/api/studies/${s.studyId}/comparisons`)).body.items.find((k: { measureId: string }) => k.measureId === measure.id);
+    const queued = await send(s.lead, 'post', `/api/comparisons/${comparison.id}/runs`, { kind: 'confirmatory' }, 202);
+    const run = await waitFor(queued.run.id, s.lead);
+    expect(run.state).toBe('failed');
+    expect(run.error).toBe('Every student in both arms answered yes: the difference is 0 percentage points and Fisher’s exact p is 1, but no registered test can compare arms without any spread');
   });
 
   it('refuses a yes/no measure with a score range, and a yes/no CSV cell that is not an answer', async () => {

@@ -66,9 +66,19 @@ export function yesNoAnalysis(classrooms: ClassroomAggregate[], ctx: YesNoContex
     return { arm, yes: c.yes, no: c.n - c.yes, n: c.n, proportion: w.proportion, ci: w.ci };
   });
   const difference = proportionDifference(a, b, { confidence });
-  const odds = oddsRatio(a, b, { confidence, zeroCell: 'add-half' });
-  const cox = coxIndexFromCounts(a, b, { zeroCell: 'add-half' });
-  if (cox.zeroCellAdjusted) notes.push('An arm had no yes or no “no” answers, so ½ was added to every cell of the table for the odds ratio and the Cox index.');
+  // Wilson, Newcombe and Fisher are defined for every table; the odds and the tests below are not, and say why.
+  const notComputed: { statistic: string; why: string }[] = [];
+  const allSame = armRows.filter((r) => r.yes === 0 || r.no === 0).map((r) => `every ${r.arm} student answered ${r.yes === 0 ? 'no' : 'yes'}`);
+  const zeroCell = allSame.length > 0;
+  const odds = zeroCell ? null : oddsRatio(a, b, { confidence, zeroCell: 'refuse' });
+  const cox = zeroCell ? null : coxIndexFromCounts(a, b, { zeroCell: 'refuse' });
+  if (zeroCell) {
+    const which = allSame.join(' and ');
+    notComputed.push(
+      { statistic: 'odds ratio', why: `Undefined: ${which}, so the odds of yes in that arm are ${allSame.some((w) => w.endsWith('yes')) ? 'infinite' : '0'}.` },
+      { statistic: 'Cox index and improvement index', why: `Undefined: ${which}, and the log odds of 0 % or 100 % are infinite.` },
+    );
+  }
   const z = unlessUndefined(() => twoProportionZTest(a, b, { alternative: ctx.alternative }));
   const chi = unlessUndefined(() => chiSquareTest(a, b, { correction: false }));
   const yates = unlessUndefined(() => chiSquareTest(a, b, { correction: true }));
@@ -109,14 +119,15 @@ export function yesNoAnalysis(classrooms: ClassroomAggregate[], ctx: YesNoContex
     confidence,
     arms: armRows,
     difference: { estimate: difference.difference, ci: difference.ci },
-    oddsRatio: { estimate: odds.oddsRatio, ci: odds.ci, zeroCellAdjusted: odds.zeroCellAdjusted },
-    coxIndex: { value: cox.coxIndex, se: cox.se, improvementIndex: cox.improvementIndex, zeroCellAdjusted: cox.zeroCellAdjusted, substantivelyImportant: isSubstantivelyImportant(cox.coxIndex) },
+    oddsRatio: odds ? { estimate: odds.oddsRatio, ci: odds.ci } : null,
+    coxIndex: cox ? { value: cox.coxIndex, se: cox.se, improvementIndex: cox.improvementIndex, substantivelyImportant: isSubstantivelyImportant(cox.coxIndex) } : null,
     zTest: z ? { z: z.z, p: z.p } : null,
     chiSquare: chi ? { statistic: chi.statistic, p: chi.p, minExpected: chi.minExpected } : null,
     chiSquareYates: yates ? { statistic: yates.statistic, p: yates.p } : null,
     fisher: { p: fisher.p },
     linearProbability,
     designEffect,
+    notComputed,
   };
   return { yesNo, deciding, notes };
 }

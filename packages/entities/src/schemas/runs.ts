@@ -162,10 +162,13 @@ export const yesNoResultSchema = z.object({
   arms: z.array(yesNoArmSchema),
   /** Newcombe's hybrid score interval (two-sided at `confidence`). */
   difference: z.object({ estimate: z.number(), ci: z.tuple([z.number(), z.number()]) }),
-  /** Woolf's interval; ½ added to every cell when one is zero. */
-  oddsRatio: z.object({ estimate: z.number(), ci: z.tuple([z.number(), z.number()]), zeroCellAdjusted: z.boolean() }),
-  /** The evidence standard's effect size for yes/no outcomes, without the small-sample factor ω, and the improvement index from it. */
-  coxIndex: z.object({ value: z.number(), se: z.number(), improvementIndex: z.number(), zeroCellAdjusted: z.boolean(), substantivelyImportant: z.boolean() }),
+  /** Woolf's interval; null when an arm answered all yes or all no (its odds are 0 or infinite: see `notComputed`). */
+  oddsRatio: z.object({ estimate: z.number(), ci: z.tuple([z.number(), z.number()]) }).nullable(),
+  /**
+   * The evidence standard's effect size for yes/no outcomes, without the small-sample factor ω, and the improvement index
+   * from it; null when an arm answered all yes or all no (a logit of 0 or 1 is infinite: see `notComputed`).
+   */
+  coxIndex: z.object({ value: z.number(), se: z.number(), improvementIndex: z.number(), substantivelyImportant: z.boolean() }).nullable(),
   /** Pooled two-proportion z test at the plan's sidedness; null when every student gave the same answer. */
   zTest: z.object({ z: z.number(), p: z.number() }).nullable(),
   chiSquare: z.object({ statistic: z.number(), p: z.number(), minExpected: z.number() }).nullable(),
@@ -177,6 +180,8 @@ export const yesNoResultSchema = z.object({
   designEffect: z
     .object({ se: z.number(), p: z.number(), ci: z.tuple([z.number(), z.number()]), designEffect: z.number(), icc: z.number(), iccSource: z.enum(['observed', 'default']), averageClusterSize: z.number() })
     .nullable(),
+  /** Statistics these counts leave undefined, each with why (absent in runs made before it was recorded). */
+  notComputed: z.array(z.object({ statistic: z.string(), why: z.string() })).optional(),
 });
 export type YesNoResult = z.infer<typeof yesNoResultSchema>;
 
@@ -251,7 +256,8 @@ export const runResultsSchema = z
     diagnostics: z.object({
       leveneMean: z.object({ statistic: z.number(), df1: z.number(), df2: z.number(), p: z.number() }).nullable(),
       leveneMedian: z.object({ statistic: z.number(), df1: z.number(), df2: z.number(), p: z.number() }).nullable(),
-      varianceRatio: z.object({ f: z.number(), df1: z.number(), df2: z.number(), p: z.number() }),
+      /** Null when the denominator's arm has no spread (a yes/no arm that answered all yes or all no). */
+      varianceRatio: z.object({ f: z.number(), df1: z.number(), df2: z.number(), p: z.number() }).nullable(),
       /** n: the values tested (a seeded sample of 5 000 in a larger arm); absent in runs made before it was recorded. */
       shapiroWilk: z.array(z.object({ arm: armSchema, w: z.number(), p: z.number(), n: z.number().int().optional() })).nullable(),
       notes: z.array(z.string()),

@@ -60,7 +60,7 @@ export function ResultsTable({ items }: { items: ReportedComparison[] }) {
           analysis: d ? decidingAnalysisShortNames[d.analysis] : '—',
           // A yes/no measure: the difference in percentage points, and the Cox index in place of g.
           difference: !d ? '—' : r?.yesNo ? `${formatSigned(d.estimate * 100, 1)} points ${d.ci ? formatInterval([d.ci[0] === null ? null : d.ci[0] * 100, d.ci[1] === null ? null : d.ci[1] * 100], 1) : '(no interval)'}` : `${formatSigned(d.estimate, 2)} ${d.ci ? formatInterval(d.ci, 2) : '(no interval)'}`,
-          g: !r ? '—' : r.yesNo ? `Cox index ${formatNumber(r.yesNo.coxIndex.value, 2)}` : `${formatNumber(r.effectSize.g, 2)} ${formatInterval(r.effectSize.ci, 2)}`,
+          g: !r ? '—' : r.yesNo ? (r.yesNo.coxIndex ? `Cox index ${formatNumber(r.yesNo.coxIndex.value, 2)}` : 'Cox index undefined (an arm answered all yes or all no)') : `${formatNumber(r.effectSize.g, 2)} ${formatInterval(r.effectSize.ci, 2)}`,
           p: d ? formatP(d.p) : '—',
           bh: item.run?.kind === 'confirmatory' && item.run.multiplicity ? formatP(item.run.multiplicity.adjustedP) : '—',
         };

@@ -191,13 +191,15 @@ export function DiagnosticsTable({ results }: { results: RunResults }) {
   if (d.leveneMedian) {
     rows.push({ id: 'brown-forsythe', check: 'Brown–Forsythe (centred on the median)', statistic: `W = ${formatNumber(d.leveneMedian.statistic, 2)}`, df: `${d.leveneMedian.df1}, ${d.leveneMedian.df2}`, p: formatP(d.leveneMedian.p) });
   }
-  rows.push({
-    id: 'variance-ratio',
-    check: 'Variance ratio (intervention ÷ comparison)',
-    statistic: `F = ${formatNumber(d.varianceRatio.f, 2)}`,
-    df: `${d.varianceRatio.df1}, ${d.varianceRatio.df2}`,
-    p: formatP(d.varianceRatio.p),
-  });
+  if (d.varianceRatio) {
+    rows.push({
+      id: 'variance-ratio',
+      check: 'Variance ratio (intervention ÷ comparison)',
+      statistic: `F = ${formatNumber(d.varianceRatio.f, 2)}`,
+      df: `${d.varianceRatio.df1}, ${d.varianceRatio.df2}`,
+      p: formatP(d.varianceRatio.p),
+    });
+  }
   for (const s of d.shapiroWilk ?? []) {
     rows.push({ id: `shapiro-${s.arm}`, check: `Shapiro–Wilk, ${armLabels[s.arm].toLowerCase()} arm`, statistic: `W = ${formatNumber(s.w, 3)}`, df: '—', p: formatP(s.p) });
   }

@@ -40,8 +40,8 @@ export function YesNoFigures({ results }: { results: RunResults }) {
         <div className="rounded-md bg-sunken px-4 py-3">
           <p className="text-sm font-semibold text-ink-muted">Difference and odds</p>
           <p className="mt-1 tabular-nums" data-testid="yes-no-difference">
-            Difference {formatSigned(y.difference.estimate * 100, 1)} percentage points ({level} CI {percentInterval(y.difference.ci)}, Newcombe); odds ratio{' '}
-            {formatNumber(y.oddsRatio.estimate, 2)} ({level} CI {formatInterval(y.oddsRatio.ci, 2)})
+            Difference {formatSigned(y.difference.estimate * 100, 1)} percentage points ({level} CI {percentInterval(y.difference.ci)}, Newcombe)
+            {y.oddsRatio ? `; odds ratio ${formatNumber(y.oddsRatio.estimate, 2)} (${level} CI ${formatInterval(y.oddsRatio.ci, 2)})` : ''}
           </p>
           {lp && (
             <p className="mt-1 tabular-nums" data-testid="primary-test">
@@ -59,20 +59,33 @@ export function YesNoFigures({ results }: { results: RunResults }) {
         </div>
         <div className="rounded-md bg-sunken px-4 py-3">
           <p className="text-sm font-semibold text-ink-muted">Effect size and tests</p>
-          <p className="mt-1 tabular-nums" data-testid="effect-size">
-            Cox index = {formatNumber(y.coxIndex.value, 2)}; improvement index {formatSigned(y.coxIndex.improvementIndex, 1)} percentile points
-          </p>
+          {y.coxIndex && (
+            <p className="mt-1 tabular-nums" data-testid="effect-size">
+              Cox index = {formatNumber(y.coxIndex.value, 2)}; improvement index {formatSigned(y.coxIndex.improvementIndex, 1)} percentile points
+            </p>
+          )}
           <p className="mt-1 text-sm tabular-nums text-ink-muted">
             {y.zTest ? `Two-proportion z = ${formatNumber(y.zTest.z, 2)}, ${formatPStatement(y.zTest.p)}; ` : ''}
             {y.chiSquare ? `χ² = ${formatNumber(y.chiSquare.statistic, 2)}, ${formatPStatement(y.chiSquare.p)}; ` : ''}
             {y.chiSquareYates ? `with Yates’s correction ${formatPStatement(y.chiSquareYates.p)}; ` : ''}
             Fisher’s exact test {formatPStatement(y.fisher.p)}.
           </p>
-          <p className="mt-1 text-sm text-ink-muted">
-            {y.coxIndex.substantivelyImportant
-              ? 'The Cox index is at least 0.25: large enough to count as substantively important, whatever the p-value.'
-              : 'The Cox index is smaller than 0.25, the usual mark of a substantively important effect.'}
-          </p>
+          {y.coxIndex && (
+            <p className="mt-1 text-sm text-ink-muted">
+              {y.coxIndex.substantivelyImportant
+                ? 'The Cox index is at least 0.25: large enough to count as substantively important, whatever the p-value.'
+                : 'The Cox index is smaller than 0.25, the usual mark of a substantively important effect.'}
+            </p>
+          )}
+          {y.notComputed && y.notComputed.length > 0 && (
+            <ul className="mt-2 space-y-1 text-sm" data-testid="yes-no-not-computed">
+              {y.notComputed.map((n) => (
+                <li key={n.statistic}>
+                  <span className="font-semibold">Not given — {n.statistic}:</span> {n.why.replace(/^Undefined: /, '')}
+                </li>
+              ))}
+            </ul>
+          )}
         </div>
       </div>
     </div>
