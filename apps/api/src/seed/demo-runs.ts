@@ -2,6 +2,7 @@ import { setTimeout as sleep } from 'node:timers/promises';
 import type { SessionUser } from '@evenhand/entities';
 import type { Deps } from '../deps.js';
 import { listComparisons, lockRun, queueRun } from '../runs/service.js';
+import { demoTimeline } from './demo-timeline.js';
 
 async function finished(deps: Deps, runId: string): Promise<string> {
   for (let i = 0; i < 300; i++) {
@@ -13,14 +14,19 @@ async function finished(deps: Deps, runId: string): Promise<string> {
   throw new Error('demo run did not finish; is a worker running?');
 }
 
-/** One locked confirmatory run per pre-specified comparison and one interim monitoring run, through the job queue. */
-export async function seedDemoRuns(deps: Deps, lead: SessionUser, studyId: string): Promise<void> {
+/**
+ * One monitoring run and one locked confirmatory run per pre-specified comparison, through the job queue, after every
+ * outcome sheet was accepted. `step` marks when each happens in the demo's story (see seedDemoStudies).
+ */
+export async function seedDemoRuns(deps: Deps, lead: SessionUser, studyId: string, step: (story: Date) => Promise<void> = async () => {}, timeline = demoTimeline(new Date())): Promise<void> {
   const [any] = await deps.db.query(`SELECT 1 FROM runs WHERE study_id = $1 LIMIT 1`, [studyId]);
   if (any) return;
   const { items } = await listComparisons(deps.db, lead, studyId);
   const primary = items.find((c) => c.isPrimary)!;
+  await step(timeline.monitoringRun);
   const monitoring = await queueRun(deps, lead, primary.id, { kind: 'monitoring' });
   await finished(deps, monitoring.id);
+  await step(timeline.locked);
   for (const comparison of items.filter((c) => c.prespecified)) {
     const run = await queueRun(deps, lead, comparison.id, { kind: 'confirmatory' });
     await finished(deps, run.id);

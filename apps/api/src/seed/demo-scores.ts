@@ -1,21 +1,48 @@
 import seedrandom from 'seedrandom';
 import type { DataSource, EntityManager } from 'typeorm';
 import { ensureSheets } from '../score-sheets/service.js';
+import { addDays, REVIEW_DAYS, type DemoTimeline, type DemoWindow } from './demo-timeline.js';
+
+type Phase = 'collection' | 'follow-up';
 
 /**
  * Invented scores for the demo study, from a fixed seed: pupils vary within classrooms and
  * classrooms vary around their arm (ICC about .15), with a modest true effect of the routine and a
  * little more attrition in the intervention arm. Written straight to the tables, since the demo's
- * waves closed long ago.
+ * waves closed long ago; each sheet is submitted inside its wave's window and reviewed soon after
+ * (`timeline`). The 'collection' phase fills the baseline and outcome waves, every sheet accepted before
+ * the result is locked; the 'follow-up' phase, after the lock, tells the collection story.
  */
-export async function seedDemoScores(dataSource: DataSource, studyId: string): Promise<void> {
-  await dataSource.transaction((manager) => writeScores(manager, studyId));
+export async function seedDemoScores(dataSource: DataSource, studyId: string, timeline: DemoTimeline, phase: Phase = 'collection'): Promise<void> {
+  await dataSource.transaction((manager) => writeScores(manager, studyId, timeline, phase));
 }
 
-async function writeScores(db: EntityManager, studyId: string): Promise<void> {
-  const [already] = await db.query(`SELECT 1 FROM scores WHERE study_id = $1 LIMIT 1`, [studyId]);
+/** When the `index`-th sheet of a wave was submitted and reviewed: inside the window, reviewed within days of it. */
+function sheetTimes(w: DemoWindow, index: number): { submitted: Date; reviewed: Date } {
+  const span = Math.round((new Date(w.closesOn).getTime() - new Date(w.opensOn).getTime()) / 86_400_000) - 5;
+  const submitted = addDays(`${w.opensOn}T14:00:00Z`, 3 + (index % span));
+  const submittedAt = new Date(submitted.getTime() + (index % 53) * 60_000);
+  const latest = addDays(`${w.closesOn}T16:00:00Z`, REVIEW_DAYS);
+  const reviewed = addDays(submittedAt, 1 + (index % 3));
+  return { submitted: submittedAt, reviewed: reviewed < latest ? reviewed : latest };
+}
+
+async function writeScores(db: EntityManager, studyId: string, timeline: DemoTimeline, phase: Phase): Promise<void> {
+  const waves: { id: string; kind: string }[] = await db.query(`SELECT id, kind FROM waves WHERE study_id = $1`, [studyId]);
+  const baseline = waves.find((w) => w.kind === 'baseline')!.id;
+  const outcome = waves.find((w) => w.kind === 'outcome')!.id;
+  const followUp = waves.find((w) => w.kind === 'follow-up')?.id;
+  const phaseWaves = phase === 'collection' ? [baseline, outcome] : followUp ? [followUp] : [];
+  if (!phaseWaves.length) return;
+  const [already] = await db.query(`SELECT 1 FROM scores WHERE study_id = $1 AND wave_id = ANY($2) LIMIT 1`, [studyId, phaseWaves]);
   if (already) return;
   await ensureSheets(db, studyId);
+  const windows = new Map<string, DemoWindow>([
+    [baseline, timeline.baseline],
+    [outcome, timeline.outcome],
+    ...(followUp ? [[followUp, timeline.followUp] as [string, DemoWindow]] : []),
+  ]);
+  const sheetsInWave = new Map<string, number>();
   let random = seedrandom('larkspur-valley-scores');
   const normal = () => Math.sqrt(-2 * Math.log(1 - random())) * Math.cos(2 * Math.PI * random());
   const clamp = (x: number, lo: number, hi: number) => Math.min(hi, Math.max(lo, x));
@@ -26,21 +53,18 @@ async function writeScores(db: EntityManager, studyId: string): Promise<void> {
       WHERE c.study_id = $1 ORDER BY c.arm, s.code, c.name`,
     [studyId],
   );
-  const waves: { id: string; kind: string }[] = await db.query(`SELECT id, kind FROM waves WHERE study_id = $1`, [studyId]);
   const measures: { id: string; kind: string; scale: string }[] = await db.query(`SELECT id, kind, scale FROM measures WHERE study_id = $1`, [studyId]);
-  const baseline = waves.find((w) => w.kind === 'baseline')!.id;
-  const outcome = waves.find((w) => w.kind === 'outcome')!.id;
   const fluency = measures.find((m) => m.kind === 'achievement' && m.scale === 'score')!.id;
   // Yes/no: reading at grade level (a fluency cut for the grade), in autumn and by spring; stored as 1 and 0.
   const gradeLevel = measures.find((m) => m.scale === 'yes-no')?.id;
   const engagement = measures.find((m) => m.kind === 'behaviour')!.id;
 
-  // The sheets that tell the collection story: one returned for corrections, one awaiting review, two never entered.
+  // The follow-up sheets that tell the collection story: one returned for corrections, one awaiting review, and a
+  // classroom that never entered its own. The locked runs read none of them (they read the baseline and outcome).
   const story = new Map<string, 'returned' | 'submitted' | 'missing'>([
     [`ALD|Room 3B|${fluency}`, 'returned'],
     [`BRK|Room 4A|${fluency}`, 'submitted'],
-    [`FRN|Room 3A|${fluency}`, 'missing'],
-    [`FRN|Room 3A|${engagement}`, 'missing'],
+    ...measures.map((m) => [`FRN|Room 3A|${m.id}`, 'missing'] as [string, 'missing']),
   ]);
 
   // Each classroom draws from its own stream, keyed by its place within its arm, so the story is the same whichever
@@ -51,6 +75,9 @@ async function writeScores(db: EntityManager, studyId: string): Promise<void> {
     const place = placeInArm.get(c.arm) ?? 0;
     placeInArm.set(c.arm, place + 1);
     random = seedrandom(`larkspur-valley-scores|${c.arm}|${place}`);
+    // The follow-up draws from a stream of its own, so it leaves the first two waves' scores as they were.
+    const later = seedrandom(`larkspur-valley-scores|${c.arm}|${place}|follow-up`);
+    const laterNormal = () => Math.sqrt(-2 * Math.log(1 - later())) * Math.cos(2 * Math.PI * later());
     const treated = c.arm === 'intervention';
     const classEffect = { fluency: normal() * 8, engagement: normal() * 0.2 }; // outcome ICC about .15
     const rows: Record<string, { code: string; score: number | null; left: boolean; note: string }[]> = {};
@@ -67,19 +94,30 @@ async function writeScores(db: EntityManager, studyId: string): Promise<void> {
       (rows[`${baseline}|${engagement}`] ??= []).push({ code, score: e0, left: false, note: '' });
       (rows[`${outcome}|${fluency}`] ??= []).push({ code, score: left ? null : f1, left, note: left ? 'moved to another district' : '' });
       (rows[`${outcome}|${engagement}`] ??= []).push({ code, score: left ? null : e1, left, note: '' });
+      const f2 = clamp(Math.round(0.8 * f1 + 30 + gradeShift * 0.25 + classEffect.fluency * 0.5 + (treated ? 4 : 0) + laterNormal() * 18), 0, 250);
+      const e2 = clamp(Math.round((0.7 * e1 + 1 + classEffect.engagement * 0.5 + laterNormal() * 0.5) * 10) / 10, 1, 5);
+      if (followUp) {
+        (rows[`${followUp}|${fluency}`] ??= []).push({ code, score: left ? null : f2, left, note: '' });
+        (rows[`${followUp}|${engagement}`] ??= []).push({ code, score: left ? null : e2, left, note: '' });
+      }
       if (gradeLevel) {
         const cut = c.grade === '4' ? 100 : 90;
         (rows[`${baseline}|${gradeLevel}`] ??= []).push({ code, score: f0 >= cut ? 1 : 0, left: false, note: '' });
         (rows[`${outcome}|${gradeLevel}`] ??= []).push({ code, score: left ? null : f1 >= cut + 10 ? 1 : 0, left, note: '' });
+        if (followUp) (rows[`${followUp}|${gradeLevel}`] ??= []).push({ code, score: left ? null : f2 >= cut + 20 ? 1 : 0, left, note: '' });
       }
     }
-    await db.query(`INSERT INTO students (study_id, student_code, classroom_id) SELECT $1, unnest($2::varchar[]), $3`, [studyId, rows[`${baseline}|${fluency}`].map((r) => r.code), c.id]);
+    if (phase === 'collection') await db.query(`INSERT INTO students (study_id, student_code, classroom_id) SELECT $1, unnest($2::varchar[]), $3`, [studyId, rows[`${baseline}|${fluency}`].map((r) => r.code), c.id]);
     for (const [key, list] of Object.entries(rows)) {
       const [waveId, measureId] = key.split('|');
-      const role = waveId === outcome ? story.get(`${c.site_code}|${c.name}|${measureId}`) : undefined;
+      if (!phaseWaves.includes(waveId)) continue;
+      const role = waveId === followUp ? story.get(`${c.site_code}|${c.name}|${measureId}`) : undefined;
       if (role === 'missing') continue;
       const [sheet] = await db.query(`SELECT id FROM score_sheets WHERE classroom_id = $1 AND wave_id = $2 AND measure_id = $3`, [c.id, waveId, measureId]);
-      // The slip the coordinator spotted: a spring score far below the pupil's autumn one.
+      const index = sheetsInWave.get(waveId) ?? 0;
+      sheetsInWave.set(waveId, index + 1);
+      const times = sheetTimes(windows.get(waveId)!, index);
+      // The slip the coordinator spotted: a follow-up score far below the pupil's spring one.
       if (role === 'returned') list[3].score = 12;
       await db.query(
         `INSERT INTO scores (sheet_id, study_id, classroom_id, wave_id, measure_id, student_code, score, left_study, note)
@@ -88,9 +126,10 @@ async function writeScores(db: EntityManager, studyId: string): Promise<void> {
         [sheet.id, studyId, c.id, waveId, measureId, list.map((r) => r.code), list.map((r) => r.score), list.map((r) => r.left), list.map((r) => r.note)],
       );
       const state = role ?? 'accepted';
+      const reviewed = state === 'submitted' ? null : times.reviewed;
       await db.query(
-        `UPDATE score_sheets SET state = $2::varchar, submitted_at = now(), return_reasons = $3, reviewed_at = CASE WHEN $2::varchar IN ('accepted', 'returned') THEN now() END WHERE id = $1`,
-        [sheet.id, state, state === 'returned' ? `${list[3].code} reads 12 words per minute in spring, far below autumn — please check the recording.` : null],
+        `UPDATE score_sheets SET state = $2::varchar, submitted_at = $4::timestamptz, return_reasons = $3, reviewed_at = $5::timestamptz, updated_at = coalesce($5::timestamptz, $4::timestamptz) WHERE id = $1`,
+        [sheet.id, state, state === 'returned' ? `${list[3].code} reads 12 words per minute at the follow-up, far below spring — please check the recording.` : null, times.submitted, reviewed],
       );
     }
   }

@@ -11,13 +11,11 @@ import { createStudy } from '../studies/service.js';
 import { demoAccounts, demoSites } from './demo.js';
 import { seedDemoRuns } from './demo-runs.js';
 import { seedDemoScores } from './demo-scores.js';
+import { demoTimeline, isoDaysFrom, type SeededTimeline, type TimelineMark } from './demo-timeline.js';
 
 export const DEMO_STUDY_TITLE = 'Lantern Reading Routine in grades 3 and 4';
 export const DRAFT_STUDY_TITLE = 'Number Journal Prompts in grade 5';
 export const DEMO_DRAW_SEED = 'larkspur-valley-2025';
-
-/** A calendar date (UTC) this many days after the day the seed runs. */
-const daysFromToday = (days: number) => new Date(Date.now() + days * 86_400_000).toISOString().slice(0, 10);
 
 async function actor(deps: Deps, email: string): Promise<SessionUser> {
   const [row] = await deps.db.query(`SELECT id FROM users WHERE email = $1`, [email]);
@@ -29,16 +27,28 @@ async function actor(deps: Deps, email: string): Promise<SessionUser> {
 /**
  * The demo study, built through the same services people use, so it obeys every rule:
  * six schools, two cohorts, 24 classrooms, a sealed plan with one amendment and a committed draw.
+ * The services stamp everything with the real clock; each step takes a mark of when it ran and when it happens in
+ * the demo's story (`demoTimeline(today)`), so `placeOnTimeline` can move the stamps there as the schema's owner.
+ * Answers null when the demo study already existed.
  */
-export async function seedDemoStudies(deps: Deps): Promise<boolean> {
+export async function seedDemoStudies(deps: Deps, today = new Date()): Promise<SeededTimeline | null> {
+  const timeline = demoTimeline(today);
   const existing = await deps.db.manager.findOneBy(StudyEntity, { title: DEMO_STUDY_TITLE });
   const lead = await actor(deps, 'lead@evenhand.test');
   if (existing) {
-    await seedDemoScores(deps.db, existing.id);
+    await seedDemoScores(deps.db, existing.id, timeline);
     await seedDemoRuns(deps, lead, existing.id);
-    return false;
+    await seedDemoScores(deps.db, existing.id, timeline, 'follow-up');
+    return null;
   }
   const coordinator = await actor(deps, 'coordinator@evenhand.test');
+  const marks: TimelineMark[] = [];
+  const realNow = async (): Promise<Date> => (await deps.db.query(`SELECT clock_timestamp() AS now`))[0].now;
+  const step = async (story: Date) => {
+    marks.push({ real: await realNow(), story });
+  };
+
+  await step(timeline.studyCreated);
 
   const study = await createStudy(deps.db, lead, {
     title: DEMO_STUDY_TITLE,
@@ -50,8 +60,11 @@ export async function seedDemoStudies(deps: Deps): Promise<boolean> {
   await createMeasure(deps.db, lead, study.id, { name: 'Classroom engagement rating', minScore: 1, maxScore: 5, higherIsBetter: true, kind: 'behaviour' });
   // A yes/no measure, pre-specified with the others: the sealed plan's comparisons cover every measure at the outcome wave.
   await createMeasure(deps.db, lead, study.id, { name: 'Read at grade level by spring', scale: 'yes-no', higherIsBetter: true, kind: 'achievement' });
-  await createWave(deps.db, lead, study.id, { kind: 'baseline', name: 'Autumn 2025', opensOn: '2025-09-15', closesOn: '2025-10-10' });
-  const spring = await createWave(deps.db, lead, study.id, { kind: 'outcome', name: 'Spring 2026', opensOn: '2026-04-27', closesOn: '2026-05-22' });
+  await createWave(deps.db, lead, study.id, { kind: 'baseline', ...timeline.baseline });
+  const spring = await createWave(deps.db, lead, study.id, { kind: 'outcome', ...timeline.outcome });
+  // A follow-up the next autumn, after the result is locked: where the demo's collection story (a sheet returned,
+  // one awaiting review, one classroom not entered) lives, since the locked runs read only the first two waves.
+  await createWave(deps.db, lead, study.id, { kind: 'follow-up', ...timeline.followUp });
   const plan = {
     primaryMeasureId: fluency.id,
     primaryWaveId: spring.id,
@@ -73,15 +86,19 @@ export async function seedDemoStudies(deps: Deps): Promise<boolean> {
     summaryEntryAllowed: false,
     covariateR2: 0.5,
   };
+  await step(timeline.planDrafted);
   await saveDraft(deps.db, lead, study.id, plan);
+  await step(timeline.planSealed);
   await sealPlan(deps.db, lead, study.id);
+  await step(timeline.planAmended);
   await amendPlan(deps.db, lead, study.id, {
     reason: 'Last year’s district screening data showed an intraclass correlation of about .15 for fluency; the plan now assumes that value instead of the standard default.',
     plan: { ...plan, iccSource: 'assumed', icc: 0.15 },
   });
 
-  const grade3 = await createCohort(deps.db, coordinator, study.id, 'Grade 3, 2025–26');
-  const grade4 = await createCohort(deps.db, coordinator, study.id, 'Grade 4, 2025–26');
+  await step(timeline.enrolled);
+  const grade3 = await createCohort(deps.db, coordinator, study.id, `Grade 3, ${timeline.schoolYear}`);
+  const grade4 = await createCohort(deps.db, coordinator, study.id, `Grade 4, ${timeline.schoolYear}`);
   const teachersBySite = new Map<string, { email: string; name: string }[]>();
   for (const a of demoAccounts) {
     const g = a.grants.find((x) => x.role === 'teacher');
@@ -111,9 +128,15 @@ export async function seedDemoStudies(deps: Deps): Promise<boolean> {
       });
     }
   }
+  await step(timeline.drawn);
   await drawAssignment(deps.db, coordinator, study.id, { seed: DEMO_DRAW_SEED, commit: true });
-  await seedDemoScores(deps.db, study.id);
-  await seedDemoRuns(deps, lead, study.id);
+  // The sheets carry their own submission and review times from the timeline.
+  await step(new Date(`${timeline.baseline.opensOn}T08:00:00Z`));
+  await seedDemoScores(deps.db, study.id, timeline);
+  await seedDemoRuns(deps, lead, study.id, step, timeline);
+  await step(new Date(`${timeline.followUp.opensOn}T08:00:00Z`));
+  await seedDemoScores(deps.db, study.id, timeline, 'follow-up');
+  const end = await realNow();
 
   // A second study, still drafting, to show the planning calculator.
   const draft = await createStudy(deps.db, lead, {
@@ -124,7 +147,7 @@ export async function seedDemoStudies(deps: Deps): Promise<boolean> {
   });
   await createMeasure(deps.db, lead, draft.id, { name: 'Spring mathematics assessment (scale score)', minScore: 100, maxScore: 400, higherIsBetter: true, kind: 'achievement' });
   // Still being planned, so its windows lie ahead of whatever day the demo is seeded on.
-  await createWave(deps.db, lead, draft.id, { kind: 'baseline', name: 'Baseline', opensOn: daysFromToday(42), closesOn: daysFromToday(67) });
-  await createWave(deps.db, lead, draft.id, { kind: 'outcome', name: 'Outcome', opensOn: daysFromToday(266), closesOn: daysFromToday(291) });
-  return true;
+  await createWave(deps.db, lead, draft.id, { kind: 'baseline', name: 'Baseline', opensOn: isoDaysFrom(today, 42), closesOn: isoDaysFrom(today, 67) });
+  await createWave(deps.db, lead, draft.id, { kind: 'outcome', name: 'Outcome', opensOn: isoDaysFrom(today, 266), closesOn: isoDaysFrom(today, 291) });
+  return { timeline, marks, end };
 }

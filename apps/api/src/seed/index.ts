@@ -8,6 +8,7 @@ import { waitForOutbox } from '../digests/service.js';
 import { createMailer } from '../mail/mailer.js';
 import { resetDatabase, seedDemo } from './demo.js';
 import { seedDemoStudies } from './demo-study.js';
+import { placeOnTimeline } from './demo-timeline.js';
 
 const reset = process.argv.includes('--reset');
 const config = loadConfig();
@@ -27,6 +28,13 @@ const logger = createLogger({ logLevel: 'warn' });
 const jobs = await startQueue(config.databaseUrl, logger);
 await startWorkers(jobs, db, logger, 0.5);
 const studies = await seedDemoStudies({ config, db, mailer, logger, jobs });
+if (studies) {
+  // The services stamped the demo study with today's clock; its story happened over the past school year.
+  const owner = createDataSource(config.migrationDatabaseUrl);
+  await owner.initialize();
+  await owner.transaction((manager) => placeOnTimeline(manager, studies));
+  await owner.destroy();
+}
 // The outbox is sent once every demo result is locked: each principal's lock digest, rewritten while it waited, names them all.
 await startDigestWorkers(jobs, db, logger, 0.5, { mailer, config, schedule: false });
 // Locking the demo runs put digests for the principals in the outbox: send them before exiting.
