@@ -14,16 +14,27 @@ export interface AuditEntry {
 
 /** Records an audit event inside the caller's transaction, so the change and its record land together. */
 export async function recordAudit(manager: EntityManager, entry: AuditEntry): Promise<void> {
-  await manager.insert(AuditEventEntity, {
-    actorId: entry.actorId,
-    action: entry.action,
-    entityType: entry.entityType,
-    entityId: entry.entityId ?? null,
-    studyId: entry.studyId ?? null,
-    // jsonb columns take any JSON value; TypeORM's insert typing only knows objects.
-    before: (entry.before ?? null) as object,
-    after: (entry.after ?? null) as object,
-  });
+  await recordAudits(manager, [entry]);
+}
+
+/** Records audit events in one statement (a bulk change audits each row it touched), in the caller's transaction. */
+export async function recordAudits(manager: EntityManager, entries: readonly AuditEntry[]): Promise<void> {
+  if (!entries.length) return;
+  // jsonb columns take any JSON value; undefined (an absent before or after) is stored as null.
+  const json = (v: unknown) => (v === undefined || v === null ? null : JSON.stringify(v));
+  await manager.query(
+    `INSERT INTO audit_events (actor_id, action, entity_type, entity_id, study_id, before, after)
+     SELECT * FROM unnest($1::uuid[], $2::text[], $3::text[], $4::text[], $5::uuid[], $6::jsonb[], $7::jsonb[])`,
+    [
+      entries.map((e) => e.actorId),
+      entries.map((e) => e.action),
+      entries.map((e) => e.entityType),
+      entries.map((e) => e.entityId ?? null),
+      entries.map((e) => e.studyId ?? null),
+      entries.map((e) => json(e.before)),
+      entries.map((e) => json(e.after)),
+    ],
+  );
 }
 
 /** Audit actions whose entries carry student-level values (scores or lists by student code). */

@@ -15,8 +15,8 @@ export const PASSWORD_RESET_QUEUE = 'password-reset-request';
 export interface JobQueue {
   /** Enqueues a run inside the caller's transaction: the run row and its job commit together or not at all. */
   enqueueRun(manager: EntityManager, runId: string): Promise<void>;
-  /** Enqueues a digest's delivery inside the caller's transaction, optionally after a delay (a retry). */
-  enqueueDigest(manager: EntityManager, digestId: string, afterSeconds?: number): Promise<void>;
+  /** Enqueues the delivery of one digest or many (one statement) inside the caller's transaction, optionally after a delay (a retry). */
+  enqueueDigest(manager: EntityManager, digestIds: string | readonly string[], afterSeconds?: number): Promise<void>;
   /** Enqueues a password-reset request: the same work whether or not the address has an account. */
   enqueuePasswordReset(email: string): Promise<void>;
   boss: PgBoss;
@@ -43,8 +43,11 @@ export async function startQueue(databaseUrl: string, logger: Logger, timing: Qu
       const db = { executeSql: async (text: string, values: unknown[]) => ({ rows: await manager.query(text, values) }) };
       await boss.send(RUN_QUEUE, { runId }, { db, singletonKey: runId });
     },
-    async enqueueDigest(manager, digestId, afterSeconds) {
-      await boss.send(DIGEST_SEND_QUEUE, { digestId }, { db: inTransaction(manager), singletonKey: digestId, ...(afterSeconds ? { startAfter: afterSeconds } : {}) });
+    async enqueueDigest(manager, digestIds, afterSeconds) {
+      const ids = typeof digestIds === 'string' ? [digestIds] : digestIds;
+      if (!ids.length) return;
+      const jobs = ids.map((digestId) => ({ name: DIGEST_SEND_QUEUE, data: { digestId }, singletonKey: digestId, ...(afterSeconds ? { startAfter: `${afterSeconds} seconds` } : {}) }));
+      await boss.insert(jobs, { db: inTransaction(manager) });
     },
     async enqueuePasswordReset(email) {
       await boss.send(PASSWORD_RESET_QUEUE, { email });

@@ -1,5 +1,6 @@
+import { randomUUID } from 'node:crypto';
 import type { EntityManager } from 'typeorm';
-import { recordAudit } from '../audit/service.js';
+import { recordAudits } from '../audit/service.js';
 import type { JobQueue } from '../jobs/queue.js';
 
 /** Kinds of mail besides digests; each goes through the outbox like a digest does. */
@@ -26,19 +27,30 @@ export interface QueuedMail {
  * its text (links in it carry single-use tokens).
  */
 export async function queueMail(manager: EntityManager, ctx: MailContext, mail: QueuedMail): Promise<string> {
-  const [{ id }]: { id: string }[] = await manager.query(
-    `INSERT INTO digests (recipient_id, recipient_email, kind, unique_key, subject, html, text)
-     VALUES ($1, $2, $3, 'mail:' || gen_random_uuid(), $4, $5, $6) RETURNING id`,
-    [mail.recipient.id, mail.recipient.email, mail.kind, mail.message.subject, mail.message.html, mail.message.text],
+  return (await queueMails(manager, ctx, [mail]))[0];
+}
+
+/** `queueMail` for many messages at once (a roster import's invitations): three statements whatever the number. */
+export async function queueMails(manager: EntityManager, ctx: MailContext, mails: readonly QueuedMail[]): Promise<string[]> {
+  if (!mails.length) return [];
+  const ids = mails.map(() => randomUUID());
+  await manager.query(
+    `INSERT INTO digests (id, recipient_id, recipient_email, kind, unique_key, subject, html, text)
+     SELECT id, recipient_id, recipient_email, kind, 'mail:' || id, subject, html, text
+       FROM unnest($1::uuid[], $2::uuid[], $3::text[], $4::text[], $5::text[], $6::text[], $7::text[]) AS m(id, recipient_id, recipient_email, kind, subject, html, text)`,
+    [ids, mails.map((m) => m.recipient.id), mails.map((m) => m.recipient.email), mails.map((m) => m.kind), mails.map((m) => m.message.subject), mails.map((m) => m.message.html), mails.map((m) => m.message.text)],
   );
-  await ctx.jobs.enqueueDigest(manager, id);
-  await recordAudit(manager, {
-    actorId: mail.actorId,
-    studyId: mail.studyId ?? null,
-    action: 'mail.queued',
-    entityType: 'mail',
-    entityId: id,
-    after: { kind: mail.kind, to: mail.recipient.email, subject: mail.message.subject },
-  });
-  return id;
+  await ctx.jobs.enqueueDigest(manager, ids);
+  await recordAudits(
+    manager,
+    mails.map((mail, i) => ({
+      actorId: mail.actorId,
+      studyId: mail.studyId ?? null,
+      action: 'mail.queued',
+      entityType: 'mail',
+      entityId: ids[i],
+      after: { kind: mail.kind, to: mail.recipient.email, subject: mail.message.subject },
+    })),
+  );
+  return ids;
 }

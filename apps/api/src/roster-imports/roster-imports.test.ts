@@ -4,7 +4,7 @@ import type { RosterImport, RosterPreview } from '@evenhand/entities';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { startTestApp, type SignedIn, type TestApp } from '../../test/app.js';
 import { createStudy, type StudySetup } from '../../test/fixtures.js';
-import { waitForMail } from '../../test/mail.js';
+import { uniqueAddress, waitForMail } from '../../test/mail.js';
 import { DEMO_BUNDLE, DEMO_SHAPE, oneRosterFiles, zipBundle, zipEntries } from '../../dev/oneroster-bundle.js';
 import { MAX_PACKING_RATIO } from './bundle.js';
 import { linkHash } from './parser.js';
@@ -184,6 +184,77 @@ describe('principals', () => {
     const refused = await upload(study.coordinator, url, zip(files), { schools: ['org-ald'], classes: ['cls-ald-1'], principals: { 'org-ald': named } });
     expect(refused.status).toBe(400);
     expect(refused.body.error.details.issues[0].message).toBe('The export names the principal of Alderquill Elementary');
+  });
+});
+
+describe('teachers named by the export, all at once', () => {
+  const shape = { schools: 2, classesPerSchool: 2, studentsPerClass: 2 };
+  /** The export with some teachers' e-mail addresses replaced (by their users.csv sourcedId). */
+  const withTeachers = (emails: Record<string, string>) => {
+    const files = oneRosterFiles(shape);
+    for (const [id, email] of Object.entries(emails)) files['users.csv'] = files['users.csv'].replace(new RegExp(`^(${id},(?:[^,]*,){11})[^,]*`, 'm'), `$1${email}`);
+    return files;
+  };
+  const outbox = async (email: string) =>
+    (await t.db.query(`SELECT kind FROM digests WHERE recipient_email = $1 ORDER BY kind`, [email])).map((r: { kind: string }) => r.kind);
+  const grantsOf = async (email: string) =>
+    (await t.db.query(`SELECT g.role, s.code FROM role_grants g JOIN users u ON u.id = g.user_id JOIN sites s ON s.id = g.site_id WHERE u.email = $1 ORDER BY s.code`, [email])).map(
+      (g: { role: string; code: string }) => `${g.role}@${g.code}`,
+    );
+  const offersOf = async (email: string) =>
+    (await t.db.query(`SELECT i.role, s.code FROM role_invitations i JOIN users u ON u.id = i.user_id JOIN sites s ON s.id = i.site_id WHERE u.email = $1 AND i.state = 'pending' ORDER BY s.code`, [email])).map(
+      (g: { role: string; code: string }) => `${g.role}@${g.code}`,
+    );
+  const auditCount = async (action: string, email: string) =>
+    (await t.db.query(`SELECT count(*)::int AS n FROM audit_events WHERE action = $1 AND after->>'email' = $2`, [action, email]))[0].n;
+
+  it('when one new address teaches two classes of a school and one of another, then it gets one account and one invitation, and the other school is offered', async () => {
+    const study = await createStudy(t.app);
+    const shared = uniqueAddress('shared-teacher');
+    const files = withTeachers({ 'tch-ald-1': shared, 'tch-ald-2': shared, 'tch-brk-1': shared });
+    const res = await upload(study.coordinator, `/api/studies/${study.studyId}/roster-imports`, zip(files), { schools: ['org-ald', 'org-brk'], classes: ['cls-ald-1', 'cls-ald-2', 'cls-brk-1'] });
+    expect(res.status).toBe(201);
+    expect(res.body).toMatchObject({ classroomsCreated: 3, invitationsSent: 2 });
+    const teachers = await t.db.query(`SELECT DISTINCT c.teacher_id, u.email FROM classrooms c JOIN users u ON u.id = c.teacher_id WHERE c.study_id = $1`, [study.studyId]);
+    expect(teachers).toHaveLength(1);
+    expect(teachers[0].email).toBe(shared);
+    // Named one after another it would be the same: the account comes with the first school's role, the second is offered.
+    expect(await grantsOf(shared)).toEqual(['teacher@ALD']);
+    expect(await offersOf(shared)).toEqual(['teacher@BRK']);
+    expect(await outbox(shared)).toEqual(['invitation', 'role_invitation']);
+    expect([await auditCount('user.invited', shared), await auditCount('user.role_offered', shared)]).toEqual([1, 1]);
+    const invitation = (await waitForMail(shared, 2)).find((m) => m.subject === 'You are invited to Evenhand');
+    expect(invitation?.text).toContain('/set-password?token=');
+  });
+
+  it('when an existing account is named teacher of two classes, then it gets one offer and no role until it accepts', async () => {
+    const study = await createStudy(t.app);
+    const existing = uniqueAddress('existing-teacher');
+    await t.db.query(`INSERT INTO users (email, name, password_hash) VALUES ($1, 'Existing Person', NULL)`, [existing]);
+    const files = withTeachers({ 'tch-ald-1': existing, 'tch-ald-2': existing });
+    const res = await upload(study.coordinator, `/api/studies/${study.studyId}/roster-imports`, zip(files), { schools: ['org-ald'], classes: ['cls-ald-1', 'cls-ald-2'] });
+    expect(res.status).toBe(201);
+    expect(res.body).toMatchObject({ classroomsCreated: 2, invitationsSent: 1 });
+    expect(await grantsOf(existing)).toEqual([]);
+    expect(await offersOf(existing)).toEqual(['teacher@ALD']);
+    expect(await outbox(existing)).toEqual(['role_invitation']);
+    expect([await auditCount('user.invited', existing), await auditCount('user.role_offered', existing)]).toEqual([0, 1]);
+    expect((await t.db.query(`SELECT count(*)::int AS n FROM users WHERE email = $1`, [existing]))[0].n).toBe(1);
+  });
+
+  it('when the export names the coordinator or a reviewer as a teacher, then it is refused with their users.csv lines and nothing changes', async () => {
+    const study = await createStudy(t.app);
+    // users.csv: line 1 the header, 2 the administrator, 3 the first teacher, 4–5 their students, 6 the second teacher.
+    const files = withTeachers({ 'tch-ald-1': 'coordinator@evenhand.test', 'tch-ald-2': 'reviewer@evenhand.test' });
+    const before = await footprint();
+    const res = await upload(study.coordinator, `/api/studies/${study.studyId}/roster-imports`, zip(files), { schools: ['org-ald'], classes: ['cls-ald-1', 'cls-ald-2'] });
+    expect(res.status).toBe(400);
+    expect(res.body.error.details.rows).toEqual([
+      { row: 3, column: 'users.csv: email', message: 'You cannot name yourself as teacher; name the person who will do it' },
+      { row: 6, column: 'users.csv: email', message: 'reviewer@evenhand.test has the reviewer role, which cannot also be a school’s teacher; name someone else' },
+    ]);
+    expect(await footprint()).toEqual(before);
+    expect(await grantsOf('reviewer@evenhand.test')).toEqual([]);
   });
 });
 

@@ -1,12 +1,12 @@
 import type { DataSource, EntityManager } from 'typeorm';
 import type { CsvRowIssue, RosterImport, RosterPreview, RosterSchoolPreview, RosterSelection, SessionUser } from '@evenhand/entities';
 import { DrawEntity } from '@evenhand/entities/orm';
-import { recordAudit } from '../audit/service.js';
+import { recordAudit, recordAudits } from '../audit/service.js';
 import type { Deps } from '../deps.js';
 import { AppError } from '../errors.js';
 import { findVisibleStudy } from '../studies/access.js';
 import { advanceStatus } from '../studies/service.js';
-import { ensurePerson } from '../users/role-invitations.js';
+import { ensurePeople, type Naming, type NamingRefusal } from '../users/role-invitations.js';
 import type { Bundle } from './bundle.js';
 import { refuseRows, stageBundle } from './parser.js';
 
@@ -29,6 +29,7 @@ interface ClassRow {
   line: number;
   teacher_email: string | null;
   teacher_name: string | null;
+  teacher_line: number | null;
   students: number;
   classroom_id: string | null;
   joined: number;
@@ -43,12 +44,19 @@ interface SchoolRow {
   enrolled: boolean;
   admin_email: string | null;
   admin_name: string | null;
+  admin_line: number | null;
   principal_email: string | null;
   principal_name: string | null;
 }
 
-/** The staged schools and classes against the study as it is; `selected` limits the classes' comparison to the choice. */
-async function describe(manager: EntityManager, studyId: string, drawCommitted: boolean): Promise<RosterPreview> {
+/** Where in users.csv the export names each class's teacher and each school's administrator (for row-numbered refusals). */
+interface PeopleLines {
+  teacher: Map<string, number>;
+  administrator: Map<string, number>;
+}
+
+/** The staged schools and classes against the study as it is, and the lines that name their people. */
+async function describe(manager: EntityManager, studyId: string, drawCommitted: boolean): Promise<{ preview: RosterPreview; lines: PeopleLines }> {
   // Each class's students as the export lists them and as earlier imports left them, as tables with statistics:
   // the comparison of the two then plans as hash joins at any size.
   await manager.query(
@@ -76,7 +84,7 @@ async function describe(manager: EntityManager, studyId: string, drawCommitted: 
      leaving AS (
        SELECT x.class, count(*)::int AS n FROM roster_current x LEFT JOIN roster_members_all m ON m.class = x.class AND m.user_link = x.link_hash
         WHERE m.class IS NULL GROUP BY x.class)
-     SELECT c.school, c.sourced_id, c.title, c.grade, c.line, t.email AS teacher_email, t.name AS teacher_name,
+     SELECT c.school, c.sourced_id, c.title, c.grade, c.line, t.email AS teacher_email, t.name AS teacher_name, t.line AS teacher_line,
             coalesce(n.students, 0) AS students, cr.id AS classroom_id,
             CASE WHEN cr.id IS NULL THEN 0 ELSE coalesce(j.n, 0) END AS joined, coalesce(l.n, 0) AS left
        FROM roster_classes c
@@ -90,13 +98,13 @@ async function describe(manager: EntityManager, studyId: string, drawCommitted: 
   );
   const schools: SchoolRow[] = await manager.query(
     `SELECT o.sourced_id, o.name, coalesce(o.identifier, '') AS identifier, s.id AS site_id,
-            (ss.site_id IS NOT NULL) AS enrolled, a.email AS admin_email, a.name AS admin_name, p.email AS principal_email, p.name AS principal_name
+            (ss.site_id IS NOT NULL) AS enrolled, a.email AS admin_email, a.name AS admin_name, a.line AS admin_line, p.email AS principal_email, p.name AS principal_name
        FROM roster_orgs o
        LEFT JOIN LATERAL (SELECT s.* FROM sites s WHERE s.roster_sourced_id = o.sourced_id OR (o.identifier <> '' AND upper(s.code) = upper(o.identifier))
                            ORDER BY (s.roster_sourced_id = o.sourced_id) DESC NULLS LAST LIMIT 1) s ON true
        LEFT JOIN study_sites ss ON ss.study_id = $1 AND ss.site_id = s.id
        LEFT JOIN users p ON p.id = s.principal_id
-       LEFT JOIN LATERAL (SELECT u.email, u.name FROM roster_users u
+       LEFT JOIN LATERAL (SELECT u.email, u.name, u.line FROM roster_users u
                            WHERE u.role = 'administrator' AND u.email IS NOT NULL AND o.sourced_id = ANY(string_to_array(replace(u.orgs, ' ', ''), ','))
                            ORDER BY u.line LIMIT 1) a ON true
       WHERE o.type = 'school' AND EXISTS (SELECT 1 FROM roster_classes c WHERE c.school = o.sourced_id)
@@ -143,7 +151,13 @@ async function describe(manager: EntityManager, studyId: string, drawCommitted: 
     classes: bySchool.get(s.sourced_id) ?? [],
   }));
   const [{ students }] = await manager.query(`SELECT count(DISTINCT user_link)::int AS students FROM roster_members_all`);
-  return { drawCommitted, schools: items, totals: { schools: items.length, classes: classes.length, students } };
+  return {
+    preview: { drawCommitted, schools: items, totals: { schools: items.length, classes: classes.length, students } },
+    lines: {
+      teacher: new Map(classes.flatMap((c) => (c.teacher_line ? [[c.sourced_id, c.teacher_line] as const] : []))),
+      administrator: new Map(schools.flatMap((x) => (x.admin_line ? [[x.sourced_id, x.admin_line] as const] : []))),
+    },
+  };
 }
 
 /** What the bundle would enrol; nothing is written. */
@@ -155,7 +169,7 @@ export async function previewRoster(deps: Deps, actor: SessionUser, studyId: str
     await findVisibleStudy(runner.manager, actor, studyId);
     await stageBundle(runner.manager, bundle, deps.config.rosterLinkSecret);
     const drawCommitted = await runner.manager.existsBy(DrawEntity, { studyId });
-    return await describe(runner.manager, studyId, drawCommitted);
+    return (await describe(runner.manager, studyId, drawCommitted)).preview;
   } finally {
     await runner.rollbackTransaction();
     await runner.release();
@@ -170,7 +184,7 @@ export async function commitRoster(deps: Deps, actor: SessionUser, studyId: stri
     await findVisibleStudy(manager, actor, studyId, true);
     await stageBundle(manager, bundle, deps.config.rosterLinkSecret);
     const drawCommitted = await manager.existsBy(DrawEntity, { studyId });
-    const preview = await describe(manager, studyId, drawCommitted);
+    const { preview, lines } = await describe(manager, studyId, drawCommitted);
 
     // The choice must name the bundle's own schools and classes, each class with its school.
     const issues: { path: string; message: string }[] = [];
@@ -205,67 +219,90 @@ export async function commitRoster(deps: Deps, actor: SessionUser, studyId: stri
       throw refuseRows(twice.map((r) => rowError(r.line, 'enrollments.csv: userSourcedId', `The student is also in another chosen class (line ${r.first}); a student belongs to one classroom of a study`)), twice.length);
     }
 
-    // Schools: an earlier import's site, or the site whose code is the org's identifier, or a new site.
-    const pending: boolean[] = []; // whether each person named was sent an invitation (through the outbox)
-    const siteOf = new Map<string, string>();
-    let sitesEnrolled = 0;
-    for (const id of selection.schools) {
-      const s = schools.get(id)!;
-      let siteId = s.siteId;
-      if (!siteId) {
-        const code = await freeSiteCode(manager, s.identifier || s.name);
-        [{ id: siteId }] = await manager.query(`INSERT INTO sites (name, code, roster_sourced_id) VALUES ($1, $2, $3) RETURNING id`, [s.name, code, s.sourcedId]);
-      } else {
-        await manager.query(`UPDATE sites SET roster_sourced_id = $2 WHERE id = $1 AND roster_sourced_id IS NULL`, [siteId, s.sourcedId]);
-      }
-      if (!s.enrolled) {
-        await manager.query(`INSERT INTO study_sites (study_id, site_id) VALUES ($1, $2)`, [studyId, siteId]);
-        await advanceStatus(manager, studyId, 'enrolling', actor.id);
-        await recordAudit(manager, { actorId: actor.id, studyId, action: 'site.enrolled', entityType: 'site', entityId: siteId, after: { name: s.name, rosterSourcedId: s.sourcedId } });
-        sitesEnrolled += 1;
-      }
-      // The export's administrator, or else the one the coordinator names, becomes the principal of a site that has none.
-      const [{ principal_id }] = await manager.query(`SELECT principal_id FROM sites WHERE id = $1`, [siteId]);
-      const principal = s.principalFromExport ? s.principal : selection.principals?.[id];
-      if (principal && !principal_id) {
-        const { userId, invited } = await ensurePerson(manager, deps, actor, principal, { role: 'principal', siteId }, studyId);
-        await manager.query(`UPDATE sites SET principal_id = $2 WHERE id = $1`, [siteId, userId]);
-        pending.push(invited);
-      }
-      siteOf.set(id, siteId!);
+    // Schools, set-wise: an earlier import's site, or the site whose code is the org's identifier, or a new site.
+    const chosenSchools = selection.schools.map((id) => schools.get(id)!);
+    const siteOf = new Map(chosenSchools.flatMap((x) => (x.siteId ? [[x.sourcedId, x.siteId] as const] : [])));
+    const fresh = chosenSchools.filter((x) => !x.siteId);
+    if (fresh.length) {
+      const codes = await freeSiteCodes(manager, fresh.map((x) => x.identifier || x.name));
+      const made: { id: string; roster_sourced_id: string }[] = await manager.query(
+        `INSERT INTO sites (name, code, roster_sourced_id) SELECT * FROM unnest($1::text[], $2::text[], $3::text[]) RETURNING id, roster_sourced_id`,
+        [fresh.map((x) => x.name), codes, fresh.map((x) => x.sourcedId)],
+      );
+      for (const m of made) siteOf.set(m.roster_sourced_id, m.id);
+    }
+    const matched = chosenSchools.filter((x) => x.siteId);
+    await manager.query(
+      `UPDATE sites s SET roster_sourced_id = m.sourced_id FROM unnest($1::uuid[], $2::text[]) AS m(id, sourced_id) WHERE s.id = m.id AND s.roster_sourced_id IS NULL`,
+      [matched.map((x) => x.siteId), matched.map((x) => x.sourcedId)],
+    );
+    const enrolling = chosenSchools.filter((x) => !x.enrolled);
+    if (enrolling.length) {
+      await manager.query(`INSERT INTO study_sites (study_id, site_id) SELECT $1, unnest($2::uuid[])`, [studyId, enrolling.map((x) => siteOf.get(x.sourcedId))]);
+      await advanceStatus(manager, studyId, 'enrolling', actor.id);
+      await recordAudits(
+        manager,
+        enrolling.map((x) => ({ actorId: actor.id, studyId, action: 'site.enrolled', entityType: 'site', entityId: siteOf.get(x.sourcedId), after: { name: x.name, rosterSourcedId: x.sourcedId } })),
+      );
     }
 
-    // Teachers: invited, or matched to existing accounts, by e-mail through the users service; a teacher who
-    // already teaches at the school (a re-import, or a second study) needs nothing more.
-    const teacherIds = new Map<string, string>();
-    const known: { key: string; id: string }[] = await manager.query(
-      `SELECT u.email || '|' || g.site_id AS key, u.id FROM users u JOIN role_grants g ON g.user_id = u.id AND g.role = 'teacher'
-        WHERE u.email = ANY($1) AND g.site_id = ANY($2)`,
-      [[...new Set(chosen.map((c) => c.teacher!.email))], [...new Set(siteOf.values())]],
+    // People, named all at once through the users service: the export's administrator (or else the one the
+    // coordinator names) as the principal of a site that has none, and each chosen class's teacher at its school.
+    const leaderless = new Set(
+      ((await manager.query(`SELECT id FROM sites WHERE id = ANY($1) AND principal_id IS NULL`, [[...siteOf.values()]])) as { id: string }[]).map((r) => r.id),
     );
-    for (const k of known) teacherIds.set(k.key, k.id);
-    for (const c of chosen) {
-      const key = `${c.teacher!.email}|${siteOf.get(c.school)}`;
-      if (teacherIds.has(key)) continue;
-      const { userId, invited } = await ensurePerson(manager, deps, actor, c.teacher!, { role: 'teacher', siteId: siteOf.get(c.school)! }, studyId);
-      teacherIds.set(key, userId);
-      pending.push(invited);
+    const naming: (Naming & { line: number | null; school: string })[] = [];
+    for (const x of chosenSchools) {
+      const principal = x.principalFromExport ? x.principal : selection.principals?.[x.sourcedId];
+      const siteId = siteOf.get(x.sourcedId)!;
+      if (principal && leaderless.has(siteId)) {
+        naming.push({ person: principal, offered: { role: 'principal', siteId }, line: x.principalFromExport ? lines.administrator.get(x.sourcedId)! : null, school: x.sourcedId });
+      }
     }
+    const teacherAt = (c: (typeof chosen)[number]) => `${c.teacher!.email}|${siteOf.get(c.school)}`;
+    const teacherNaming = new Map<string, number>();
+    for (const c of chosen) {
+      if (teacherNaming.has(teacherAt(c))) continue;
+      teacherNaming.set(teacherAt(c), naming.length);
+      naming.push({ person: c.teacher!, offered: { role: 'teacher', siteId: siteOf.get(c.school)! }, line: lines.teacher.get(c.sourcedId)!, school: c.school });
+    }
+    // Someone who cannot take the role is refused: a principal the coordinator named, by the choice; anyone the
+    // export names, by the users.csv line that names them.
+    const refuse = (refused: NamingRefusal[]): never => {
+      const fromChoice = refused.filter((r) => naming[r.index].line === null);
+      if (fromChoice.length) {
+        throw AppError.conflict(fromChoice[0].message, { issues: fromChoice.map((r) => ({ path: `principals.${naming[r.index].school}.email`, message: r.message })) });
+      }
+      throw refuseRows(refused.map((r) => rowError(naming[r.index].line!, 'users.csv: email', r.message)), refused.length);
+    };
+    const people = await ensurePeople(manager, deps, actor, naming, studyId, refuse);
+    const principals = naming.flatMap((n, i) => (n.offered.role === 'principal' ? [{ siteId: n.offered.siteId, userId: people[i].userId }] : []));
+    await manager.query(`UPDATE sites s SET principal_id = p.user_id FROM unnest($1::uuid[], $2::uuid[]) AS p(site_id, user_id) WHERE s.id = p.site_id`, [
+      principals.map((p) => p.siteId),
+      principals.map((p) => p.userId),
+    ]);
+    const teacherIds = new Map([...teacherNaming].map(([key, i]) => [key, people[i].userId]));
 
     // Cohorts by grade ("Grade 4"), reused across imports.
-    const cohortIds = new Map<string, string>();
-    for (const grade of new Set(chosen.map((c) => c.grade))) {
-      const name = `Grade ${grade}`;
-      const [found] = await manager.query(`SELECT id FROM cohorts WHERE study_id = $1 AND lower(name) = lower($2)`, [studyId, name]);
-      cohortIds.set(grade, found?.id ?? (await manager.query(`INSERT INTO cohorts (study_id, name) VALUES ($1, $2) RETURNING id`, [studyId, name]))[0].id);
-    }
+    const cohorts: { grade: string; id: string }[] = await manager.query(
+      `WITH wanted AS (SELECT grade, 'Grade ' || grade AS name FROM unnest($2::text[]) AS g(grade)),
+            made AS (INSERT INTO cohorts (study_id, name)
+                     SELECT DISTINCT ON (lower(w.name)) $1, w.name FROM wanted w
+                      WHERE NOT EXISTS (SELECT 1 FROM cohorts c WHERE c.study_id = $1 AND lower(c.name) = lower(w.name))
+                     RETURNING id, name)
+       SELECT w.grade, coalesce(c.id, m.id) AS id FROM wanted w
+         LEFT JOIN cohorts c ON c.study_id = $1 AND lower(c.name) = lower(w.name)
+         LEFT JOIN made m ON lower(m.name) = lower(w.name)`,
+      [studyId, [...new Set(chosen.map((c) => c.grade))]],
+    );
+    const cohortIds = new Map(cohorts.map((c) => [c.grade, c.id]));
 
     // Classrooms, set-wise: update the earlier import's, create the new (before the draw only).
     const targets = chosen.map((c) => ({
       sourced_id: c.sourcedId,
       site_id: siteOf.get(c.school)!,
       cohort_id: cohortIds.get(c.grade)!,
-      teacher_id: teacherIds.get(`${c.teacher!.email}|${siteOf.get(c.school)}`)!,
+      teacher_id: teacherIds.get(teacherAt(c))!,
       name: c.title,
       grade: c.grade,
       expected_size: c.students,
@@ -322,13 +359,13 @@ export async function commitRoster(deps: Deps, actor: SessionUser, studyId: stri
 
     const students = await applyStudents(manager, studyId, actor.id, drawCommitted);
     const summary = {
-      sitesEnrolled,
+      sitesEnrolled: enrolling.length,
       classroomsCreated: created.length,
       classroomsUpdated: updated.length,
       studentsJoined: students.joined,
       studentsRemoved: students.removed,
       studentsLeft: students.left,
-      invitationsSent: pending.filter(Boolean).length,
+      invitationsSent: people.filter((p) => p.invited).length,
       classrooms: students.classrooms,
     };
     const [row] = await manager.query(
@@ -349,13 +386,19 @@ export async function commitRoster(deps: Deps, actor: SessionUser, studyId: stri
   return result;
 }
 
-/** A site code from the org's identifier (or name), made unique among the district's sites. */
-async function freeSiteCode(manager: EntityManager, from: string): Promise<string> {
-  const base = from.toUpperCase().replace(/[^A-Z0-9]/g, '').slice(0, 16) || 'SCHOOL';
-  for (let n = 0; ; n++) {
+/** Site codes from the orgs' identifiers (or names), each made unique among the district's sites and each other. */
+async function freeSiteCodes(manager: EntityManager, from: string[]): Promise<string[]> {
+  const bases = from.map((x) => x.toUpperCase().replace(/[^A-Z0-9]/g, '').slice(0, 16) || 'SCHOOL');
+  const taken = new Set(
+    ((await manager.query(`SELECT upper(code) AS code FROM sites WHERE upper(code) LIKE ANY($1)`, [[...new Set(bases)].map((b) => `${b}%`)])) as { code: string }[]).map((r) => r.code),
+  );
+  return bases.map((base) => {
+    let n = 0;
+    while (taken.has(n ? `${base}${n}` : base)) n++;
     const code = n ? `${base}${n}` : base;
-    if (!(await manager.query(`SELECT 1 FROM sites WHERE upper(code) = $1`, [code])).length) return code;
-  }
+    taken.add(code);
+    return code;
+  });
 }
 
 /**
