@@ -11,6 +11,7 @@ export * from './schemas/plan.js';
 export * from './schemas/classrooms.js';
 export * from './schemas/draws.js';
 export * from './schemas/score-sheets.js';
+export * from './schemas/accounting.js';
 export * from './schemas/runs.js';
 export * from './schemas/checks.js';
 export * from './schemas/digests.js';

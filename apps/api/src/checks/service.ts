@@ -1,8 +1,9 @@
 import type { DataSource } from 'typeorm';
-import { attrition, baselineEquivalence, baselineEquivalenceYesNo, coxIndexFromCounts, hedgesGFromSummary, normalQuantile } from '@evenhand/stats';
-import type { Arm, SessionUser } from '@evenhand/entities';
+import { baselineEquivalence, baselineEquivalenceYesNo, coxIndexFromCounts, hedgesGFromSummary, normalQuantile } from '@evenhand/stats';
+import type { Accounting, Arm, SessionUser } from '@evenhand/entities';
 import { currentPlan } from '../plans/service.js';
 import { findVisibleStudy } from '../studies/access.js';
+import { accountFor, needsPretest } from '../runs/accounting.js';
 import { ensureSheets } from '../score-sheets/service.js';
 
 const bandAdvice = {
@@ -16,6 +17,21 @@ const coxAdvice = {
   'requires-adjustment': 'Equivalent only if the analysis adjusts for the baseline answer (0.05 < |Cox index| ≤ 0.25).',
   fails: 'Not equivalent at baseline (|Cox index| > 0.25): the groups differed before the intervention.',
 } as const;
+
+/**
+ * The accounting of a measure at the outcome wave: its pre-specified comparison's locked run's, as stored (a locked
+ * result never changes), else that of today's accepted sheets under the plan's rule for the pretest.
+ */
+export async function accountingOf(db: DataSource, scope: { studyId: string; measureId: string; waveId: string; pretest: string | null }): Promise<{ accounting: Accounting; runId: string | null }> {
+  const [locked]: { id: string; accounting: Accounting | null }[] = await db.query(
+    `SELECT r.id, r.results->'accounting' AS accounting FROM runs r JOIN comparisons k ON k.id = r.comparison_id
+      WHERE k.study_id = $1 AND k.measure_id = $2 AND k.wave_id = $3 AND k.prespecified AND r.state = 'locked'`,
+    [scope.studyId, scope.measureId, scope.waveId],
+  );
+  if (locked?.accounting) return { accounting: locked.accounting, runId: locked.id };
+  const { pretest, ...where } = scope;
+  return { accounting: await accountFor(db.manager, { ...where, reads: ['accepted'], pretestWaveId: pretest }), runId: null };
+}
 
 /** The research lead's data checks: completeness, box plots, attrition against the published boundaries, baseline equivalence. */
 export async function studyChecks(db: DataSource, user: SessionUser, studyId: string) {
@@ -55,25 +71,10 @@ export async function studyChecks(db: DataSource, user: SessionUser, studyId: st
 
   const perMeasure = [];
   for (const m of measures) {
-    // Attrition: randomised = codes registered to each arm's classrooms; analysed = those with an outcome score.
-    const counts: { arm: Arm; randomized: number; analyzed: number; classrooms: number; classrooms_analyzed: number }[] = outcomeWaveId
-      ? await db.query(
-          `SELECT c.arm, count(DISTINCT st.student_code)::int AS randomized,
-                  count(DISTINCT x.student_code) FILTER (WHERE x.score IS NOT NULL)::int AS analyzed,
-                  count(DISTINCT c.id)::int AS classrooms,
-                  count(DISTINCT x.classroom_id) FILTER (WHERE x.score IS NOT NULL)::int AS classrooms_analyzed
-             FROM classrooms c
-             LEFT JOIN students st ON st.classroom_id = c.id AND st.study_id = c.study_id
-             LEFT JOIN scores x ON x.student_code = st.student_code AND x.study_id = c.study_id AND x.wave_id = $2 AND x.measure_id = $3
-            WHERE c.study_id = $1 AND c.arm IS NOT NULL GROUP BY c.arm`,
-          [studyId, outcomeWaveId, m.id],
-        )
-      : [];
-    const arm = (a: Arm) => counts.find((c) => c.arm === a);
-    const i = arm('intervention');
-    const c = arm('comparison');
-    const attritionStudents = i && c && i.randomized > 0 && c.randomized > 0 ? attrition({ randomized1: i.randomized, analyzed1: i.analyzed, randomized2: c.randomized, analyzed2: c.analyzed }) : null;
-    const attritionClassrooms = i && c && i.classrooms > 0 && c.classrooms > 0 ? attrition({ randomized1: i.classrooms, analyzed1: i.classrooms_analyzed, randomized2: c.classrooms, analyzed2: c.classrooms_analyzed }) : null;
+    // Analysed and lost: the locked result's own accounting (what it read), else the accepted sheets as they stand.
+    const { accounting, runId: accountingRunId } = outcomeWaveId
+      ? await accountingOf(db, { studyId, measureId: m.id, waveId: outcomeWaveId, pretest: needsPretest({ primaryTest: plan?.content.primaryTest ?? 'welch', covariate: plan?.content.covariate ?? 'none', scale: m.scale, hasBaselineWave: Boolean(baseline) }) ? baseline!.id : null })
+      : { accounting: null, runId: null };
 
     // Baseline equivalence on the analytic sample: students with both a baseline and an outcome score.
     let equivalence = null;
@@ -125,10 +126,11 @@ export async function studyChecks(db: DataSource, user: SessionUser, studyId: st
       boxPlots: boxes
         .filter((b) => b.measure_id === m.id)
         .map((b) => ({ waveId: b.wave_id, arm: b.arm, siteId: b.site_id, siteName: b.site_name, n: b.n, min: b.q[0], q1: b.q[1], median: b.q[2], q3: b.q[3], max: b.q[4] })),
-      attrition: { students: attritionStudents, classrooms: attritionClassrooms, counts },
+      accounting,
+      accountingRunId,
       baselineEquivalence: equivalence,
       // Baseline equivalence is required when assignment was not (or no longer) random, or attrition is high.
-      equivalenceRequired: study.quasiExperimental || attritionStudents?.cautious.band === 'high',
+      equivalenceRequired: study.quasiExperimental || accounting?.attrition.students?.cautious.band === 'high',
     });
   }
   return { studyId, quasiExperimental: study.quasiExperimental, outcomeWaveId: outcomeWaveId ?? null, measures: perMeasure };

@@ -236,18 +236,6 @@ export function analyse(ctx: AnalysisContext, data: Gathered): RunResults {
     pooled = { estimate: re.estimate, se: re.se, ci: re.ci, p: re.p, tau2: re.tau2, q: re.q, df: re.df, pQ: re.pQ, i2: re.i2 };
   } else notes.push('Fewer than two sites have both arms, so no pooled estimate across sites.');
 
-  const flow = arms.map((arm) => {
-    const rows = data.classrooms.filter((c) => c.arm === arm);
-    return {
-      arm,
-      classroomsAllocated: rows.length,
-      studentsAllocated: rows.reduce((t, c) => t + c.allocated, 0),
-      studentsFollowedUp: rows.reduce((t, c) => t + c.n, 0),
-      classroomsAnalysed: rows.filter((c) => c.n > 0).length,
-      studentsAnalysed: rows.reduce((t, c) => t + c.n, 0),
-    };
-  });
-
   cautions.push('A p-value is not the size or the importance of an effect: read it with the effect size and its interval.');
   cautions.push('These results describe groups of students, not individual students or teachers: do not use them to evaluate teachers or to place students.');
   if (ctx.kind === 'monitoring') cautions.unshift('Interim — not confirmatory. This monitoring run may change as data arrive and must not be reported as the study’s result.');
@@ -316,7 +304,6 @@ export function analyse(ctx: AnalysisContext, data: Gathered): RunResults {
     diagnostics: { leveneMean, leveneMedian, varianceRatio: b.m2 > 0 ? varianceRatioFFromSummary(toGroup(a), toGroup(b)) : null, shapiroWilk: shapiro, notes },
     sites: siteRows,
     pooled,
-    flow,
     cautions,
   };
 }

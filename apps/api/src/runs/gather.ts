@@ -5,7 +5,7 @@ import type { Arm } from '@evenhand/entities';
 import { sheetDigestsSql } from '../score-sheets/digest.js';
 
 /** Which sheets a run reads: a confirmatory run only accepted ones; monitoring also those awaiting review. */
-export const sheetStatesFor = (kind: 'monitoring' | 'confirmatory') => (kind === 'confirmatory' ? ['accepted'] : ['accepted', 'submitted']);
+export const sheetStatesFor = (kind: 'monitoring' | 'confirmatory'): ('accepted' | 'submitted')[] => (kind === 'confirmatory' ? ['accepted'] : ['accepted', 'submitted']);
 
 /** Shapiro–Wilk's approximation is validated for 3 to 5 000 values (Royston 1995); larger arms are tested on a seeded sample of this size. */
 export const NORMALITY_SAMPLE = 5000;
@@ -15,8 +15,6 @@ export interface ClassroomAggregate {
   siteId: string;
   siteName: string;
   arm: Arm;
-  /** Students allocated: codes registered to the classroom. */
-  allocated: number;
   /** Outcome: students analysed, their mean and sum of squared deviations (from SQL aggregates). */
   n: number;
   mean: number | null;
@@ -87,19 +85,15 @@ export async function gather(manager: EntityManager, scope: Scope): Promise<Gath
     site_id: string;
     site_name: string;
     arm: Arm;
-    allocated: number;
     summary_n: number | null;
     summary_mean: number | null;
     summary_m2: number | null;
   }[] = await manager.query(
-    `WITH sh AS (SELECT * FROM score_sheets WHERE study_id = $1 AND wave_id = $2 AND measure_id = $3 AND state = ANY($4) AND mode = 'summary'),
-          -- One pass over the registry, materialized: inlined, the planner sometimes reran the count per classroom (minutes at 8 000).
-          allocated AS MATERIALIZED (SELECT classroom_id, count(*) AS allocated FROM students WHERE study_id = $1 GROUP BY classroom_id)
-     SELECT c.id AS classroom_id, c.site_id, s.name AS site_name, c.arm, coalesce(st.allocated, 0)::int AS allocated,
+    `WITH sh AS (SELECT * FROM score_sheets WHERE study_id = $1 AND wave_id = $2 AND measure_id = $3 AND state = ANY($4) AND mode = 'summary')
+     SELECT c.id AS classroom_id, c.site_id, s.name AS site_name, c.arm,
             sh.summary_n, sh.summary_mean::float8 AS summary_mean, (sh.summary_sd::float8 ^ 2) * (sh.summary_n - 1) AS summary_m2
        FROM classrooms c JOIN sites s ON s.id = c.site_id
        LEFT JOIN sh ON sh.classroom_id = c.id
-       LEFT JOIN allocated st ON st.classroom_id = c.id
       WHERE c.study_id = $1 AND c.arm IS NOT NULL
       ORDER BY s.name, c.name`,
     p,
@@ -177,7 +171,6 @@ export async function gather(manager: EntityManager, scope: Scope): Promise<Gath
         siteId: c.site_id,
         siteName: c.site_name,
         arm: c.arm,
-        allocated: c.allocated,
         n: fromSummary ? c.summary_n! : (rows?.n ?? 0),
         mean: fromSummary ? c.summary_mean : (rows?.mean ?? null),
         m2: fromSummary ? c.summary_m2 : (rows?.m2 ?? null),

@@ -1,9 +1,23 @@
 import { describe, expect, it } from 'vitest';
-import { MIN_REPORTED_STUDENTS, principalRunSchema, type Run } from '@evenhand/entities';
+import { MIN_REPORTED_STUDENTS, principalRunSchema, type Accounting, type Run } from '@evenhand/entities';
 import { principalView } from './principal-view.js';
 
 const own = '11111111-1111-4111-8111-111111111111';
 const other = '22222222-2222-4222-8222-222222222222';
+
+/** What the run read: a few students lost in each arm (the principal never sees it). */
+function accountingOf(small: number, large: number): Accounting {
+  return {
+    reads: ['accepted'],
+    needsPretest: false,
+    arms: [
+      { arm: 'intervention', classrooms: { randomised: 3, analysed: 3, lost: [] }, students: { randomised: large + 1, analysed: large, lost: [{ reason: 'left-study', n: 1 }] } },
+      { arm: 'comparison', classrooms: { randomised: 1, analysed: 1, lost: [] }, students: { randomised: small + 3, analysed: small, lost: [{ reason: 'no-outcome-score', n: 3 }] } },
+    ],
+    attrition: { students: null, classrooms: null },
+    lostClassrooms: [],
+  };
+}
 
 /** A locked run of a small study: the comparison arm has 8 students (under MIN_REPORTED_STUDENTS), the intervention 30. */
 function lockedRun(small: number, large: number): Run {
@@ -52,10 +66,7 @@ function lockedRun(small: number, large: number): Run {
         { siteId: other, siteName: 'Birch Road Elementary', n1: large - 12, n2: 0, mean1: 61, mean2: 0, g: 0, se: 0, ci: [0, 0], weight: 0.4 },
       ],
       pooled: null,
-      flow: [
-        { arm: 'comparison', classroomsAllocated: 1, studentsAllocated: small, studentsFollowedUp: small, classroomsAnalysed: 1, studentsAnalysed: small },
-        { arm: 'intervention', classroomsAllocated: 3, studentsAllocated: large, studentsFollowedUp: large, classroomsAnalysed: 3, studentsAnalysed: large },
-      ],
+      accounting: accountingOf(small, large),
       cautions: [`Only ${small} students in the comparison arm.`],
     },
   } as Run;
@@ -89,7 +100,7 @@ describe('the principal’s view of a run', () => {
     // The hidden values and whatever derives them (n, n − 1, n1 + n2, n1 + n2 − 2, the hidden mean, the difference) appear nowhere.
     const seen = leaves(view);
     for (const derived of [small, small - 1, large, large - 1, small + large, small + large - 2, 55.25, 61.5 - 55.25, 0.0412, 0.0206]) expect(seen).not.toContain(derived);
-    // Only allow-listed fields: no flow, diagnostics, sensitivity checks, notes or cautions.
+    // Only allow-listed fields: no accounting (flow counts), diagnostics, sensitivity checks, notes or cautions.
     expect(Object.keys(r).sort()).toEqual(['alpha', 'arms', 'deciding', 'effectSize', 'measure', 'sites', 'suppressed', 'wave']);
     expect(Object.keys(view).sort()).toEqual(['comparisonId', 'engineVersion', 'id', 'kind', 'lockedAt', 'multiplicity', 'planVersion', 'results', 'state', 'studyId']);
   });

@@ -456,10 +456,13 @@ describe('checks', () => {
     const res = await s.lead.agent.get(`/api/studies/${s.studyId}/checks`);
     expect(res.status).toBe(200);
     const m = res.body.measures[0];
-    // 8 classrooms × 12 students, one leaver each: 8.33 % overall, 0 differential.
-    expect(m.attrition.students.overall).toBeCloseTo(100 / 12, 10);
-    expect(m.attrition.students.differential).toBeCloseTo(0, 10);
-    expect(m.attrition.students.cautious).toMatchObject({ band: 'low', interpolated: true });
+    // 8 classrooms × 12 students, one leaver each: 8.33 % overall, 0 differential. The attrition now lives in the one
+    // accounting the runs store (runs/accounting.ts); Welch decides here, so a student needs no pretest to be analysed.
+    const a = m.accounting.attrition.students;
+    expect(a.overall).toBeCloseTo(100 / 12, 10);
+    expect(a.differential).toBeCloseTo(0, 10);
+    expect(a.cautious).toMatchObject({ band: 'low', interpolated: true });
+    expect(m.accounting.arms[0].students.lost).toEqual([{ reason: 'left-study', n: 4 }]);
     expect(['satisfies', 'requires-adjustment', 'fails']).toContain(m.baselineEquivalence.band);
     expect(m.quality.find((q: { waveId: string }) => q.waveId === s.outcomeId)).toMatchObject({ accepted: 8, left: 8 });
     expect(m.boxPlots.some((b: { siteId: string | null }) => b.siteId === null)).toBe(true);

@@ -10,24 +10,66 @@ export function demoRun(overrides: Partial<Run> = {}): Run {
 }
 
 const results: RunResults = {
-  flow: [
-    {
-      arm: 'intervention',
-      studentsAnalysed: 227,
-      studentsAllocated: 313,
-      classroomsAnalysed: 10,
-      studentsFollowedUp: 227,
-      classroomsAllocated: 12
+  // The demo's losses, each under its reason: counts consistent with the arms' analysed students below.
+  accounting: {
+    reads: ['accepted'],
+    needsPretest: true,
+    arms: [
+      {
+        arm: 'intervention',
+        classrooms: { randomised: 12, analysed: 10, lost: [{ reason: 'awaiting-review', n: 1 }, { reason: 'returned', n: 1 }] },
+        students: {
+          randomised: 313,
+          analysed: 227,
+          lost: [
+            { reason: 'awaiting-review', n: 28 },
+            { reason: 'returned', n: 26 },
+            { reason: 'left-study', n: 10 },
+            { reason: 'no-outcome-score', n: 12 },
+            { reason: 'no-pretest', n: 10 },
+          ],
+        },
+      },
+      {
+        arm: 'comparison',
+        classrooms: { randomised: 12, analysed: 11, lost: [{ reason: 'sheet-not-entered', n: 1 }] },
+        students: {
+          randomised: 299,
+          analysed: 244,
+          lost: [
+            { reason: 'sheet-not-entered', n: 25 },
+            { reason: 'left-study', n: 9 },
+            { reason: 'no-outcome-score', n: 11 },
+            { reason: 'no-pretest', n: 10 },
+          ],
+        },
+      },
+    ],
+    // attrition() of @evenhand/stats on the counts above.
+    attrition: {
+      students: {
+        overall: 23.039215686274506,
+        differential: 9.081389509226714,
+        attrition1: 27.47603833865815,
+        attrition2: 18.394648829431436,
+        cautious: { boundary: 'cautious', maxDifferential: 5.03529411764706, band: 'high', interpolated: true, bracketingRows: [20, 25], basis: 'interpolated' },
+        optimistic: { boundary: 'optimistic', maxDifferential: 9.513725490196078, band: 'low', interpolated: true, bracketingRows: [20, 25], basis: 'interpolated' },
+      },
+      classrooms: {
+        overall: 12.5,
+        differential: 8.333333333333327,
+        attrition1: 16.666666666666664,
+        attrition2: 8.333333333333337,
+        cautious: { boundary: 'cautious', maxDifferential: 6.133333333333333, band: 'high', interpolated: true, bracketingRows: [10, 13], basis: 'interpolated' },
+        optimistic: { boundary: 'optimistic', maxDifferential: 10.816666666666666, band: 'low', interpolated: true, bracketingRows: [10, 13], basis: 'interpolated' },
+      },
     },
-    {
-      arm: 'comparison',
-      studentsAnalysed: 244,
-      studentsAllocated: 299,
-      classroomsAnalysed: 11,
-      studentsFollowedUp: 244,
-      classroomsAllocated: 12
-    }
-  ],
+    lostClassrooms: [
+      { classroomId: '0b6e2a51-3c0d-4f1e-9a41-1d5c2f7a9e01', arm: 'intervention', reason: 'returned', students: 26 },
+      { classroomId: '5d8f1c22-7b3e-4a90-8c11-2e6b9d4f0a02', arm: 'intervention', reason: 'awaiting-review', students: 28 },
+      { classroomId: '9a3c7e13-1f2b-4d6a-b5e0-4c8d2a6f1b03', arm: 'comparison', reason: 'sheet-not-entered', students: 25 },
+    ],
+  },
   wave: {
     id: '60960c7e-9499-4073-b98b-7b4fda541b68',
     name: 'Spring 2026'

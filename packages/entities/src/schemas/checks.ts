@@ -1,30 +1,7 @@
 import { z } from 'zod';
 import { idSchema } from './common.js';
+import { accountingSchema } from './accounting.js';
 import { armSchema } from './studies.js';
-
-export const attritionBoundarySchema = z.object({
-  boundary: z.enum(['cautious', 'optimistic']),
-  /** Highest differential (percentage points) still counted as low attrition at this overall rate; null when none is. */
-  maxDifferential: z.number().nullable(),
-  band: z.enum(['low', 'high']),
-  /** True when the boundary lies between two rows the handbook lists, and was interpolated between them. */
-  interpolated: z.boolean(),
-  bracketingRows: z.tuple([z.number(), z.number()]).nullable(),
-  basis: z.enum(['listed-row', 'interpolated', 'always-high']),
-});
-export type AttritionBoundaryCheck = z.infer<typeof attritionBoundarySchema>;
-
-export const attritionCheckSchema = z.object({
-  /** % of the randomised sample without outcome data. */
-  overall: z.number(),
-  /** |attrition₁ − attrition₂| in percentage points. */
-  differential: z.number(),
-  attrition1: z.number(),
-  attrition2: z.number(),
-  cautious: attritionBoundarySchema,
-  optimistic: attritionBoundarySchema,
-});
-export type AttritionCheck = z.infer<typeof attritionCheckSchema>;
 
 export const baselineBands = ['satisfies', 'requires-adjustment', 'fails'] as const;
 
@@ -63,13 +40,13 @@ export const measureChecksSchema = z.object({
       max: z.number(),
     }),
   ),
-  attrition: z.object({
-    students: attritionCheckSchema.nullable(),
-    classrooms: attritionCheckSchema.nullable(),
-    counts: z.array(
-      z.object({ arm: armSchema, randomized: z.number().int(), analyzed: z.number().int(), classrooms: z.number().int(), classrooms_analyzed: z.number().int() }),
-    ),
-  }),
+  /**
+   * Who was analysed and who was lost, and why, at the plan's outcome wave (`accountingOf` in the API): the locked
+   * result's own accounting when the measure's pre-specified comparison is locked, else today's accepted sheets.
+   */
+  accounting: accountingSchema.nullable(),
+  /** Where the accounting comes from: the locked run it was stored with, or null when it reflects the sheets today. */
+  accountingRunId: idSchema.nullable(),
   baselineEquivalence: z
     .object({
       /** Hedges' g for a score; for a yes/no characteristic the Cox index (`effectSize` says which). */

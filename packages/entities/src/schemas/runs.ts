@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import { accountingSchema } from './accounting.js';
 import { idSchema, plainText, timeZoneSchema } from './common.js';
 import { primaryTests } from './plan.js';
 import { armSchema } from './studies.js';
@@ -266,9 +267,8 @@ export const runResultsSchema = z
     pooled: z
       .object({ estimate: z.number(), se: z.number(), ci: z.tuple([z.number(), z.number()]), p: z.number(), tau2: z.number(), q: z.number(), df: z.number(), pQ: z.number(), i2: z.number() })
       .nullable(),
-    flow: z.array(
-      z.object({ arm: armSchema, classroomsAllocated: z.number().int(), studentsAllocated: z.number().int(), studentsFollowedUp: z.number().int(), classroomsAnalysed: z.number().int(), studentsAnalysed: z.number().int() }),
-    ),
+    /** Who was analysed and who was lost, and why: what the run read (absent in runs made before it was stored). */
+    accounting: accountingSchema.optional(),
     cautions: z.array(z.string()),
   })
   .meta({ id: 'RunResults' });

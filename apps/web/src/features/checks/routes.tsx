@@ -8,7 +8,8 @@ import { AttritionPanel, type ArmCounts } from '@/features/checks/components/att
 import { BaselinePanel } from '@/features/checks/components/baseline-panel';
 import { BoxPlots } from '@/features/checks/components/box-plots';
 import { DataQualityTable } from '@/features/checks/components/data-quality-table';
-import { useStudyId } from '@/lib/study';
+import { armAccount, lossLines } from '@/lib/accounting';
+import { armLabels, useStudyId } from '@/lib/study';
 
 export function checksLoader(queryClient: QueryClient) {
   return async ({ params }: LoaderFunctionArgs) => {
@@ -18,16 +19,12 @@ export function checksLoader(queryClient: QueryClient) {
 }
 
 function armCounts(measure: MeasureChecks, unit: 'students' | 'classrooms'): ArmCounts | null {
-  const of = (arm: 'intervention' | 'comparison') => measure.attrition.counts.find((c) => c.arm === arm);
-  const i = of('intervention');
-  const c = of('comparison');
-  if (!i || !c) return null;
-  return unit === 'students'
-    ? { intervention: { randomised: i.randomized, analysed: i.analyzed }, comparison: { randomised: c.randomized, analysed: c.analyzed } }
-    : {
-        intervention: { randomised: i.classrooms, analysed: i.classrooms_analyzed },
-        comparison: { randomised: c.classrooms, analysed: c.classrooms_analyzed },
-      };
+  const a = measure.accounting;
+  if (!a) return null;
+  const of = (arm: 'intervention' | 'comparison') => ({ randomised: armAccount(a, arm, unit).randomised, analysed: armAccount(a, arm, unit).analysed });
+  const words: [string, string] = unit === 'students' ? ['student', 'students'] : ['classroom', 'classrooms'];
+  const lost = (['intervention', 'comparison'] as const).flatMap((arm) => lossLines(armAccount(a, arm, unit), words).map((l) => `${armLabels[arm]}: ${l}`));
+  return { intervention: of('intervention'), comparison: of('comparison'), lost };
 }
 
 function MeasureSection({ measure, quasiExperimental }: { measure: MeasureChecks; quasiExperimental: boolean }) {
@@ -46,17 +43,23 @@ function MeasureSection({ measure, quasiExperimental }: { measure: MeasureChecks
       <div className="space-y-3">
         <h3 className="text-xl font-semibold">Attrition</h3>
         <p className="max-w-prose text-ink-muted">
-          Attrition is the share of the randomised sample without an outcome score. The published standards judge the difference between
+          Attrition is the share of the randomised sample not analysed: a student is analysed with an outcome score on an accepted sheet
+          {measure.accounting?.needsPretest ? ' and a pretest score, which the analysis adjusts for' : ''}, and each one who is not is
+          counted under one reason.{' '}
+          {measure.accountingRunId
+            ? 'These are the locked result’s counts, as it read the data; the report and its bundle show the same.'
+            : 'These counts follow the sheets as they stand today; a locked result keeps the counts it read.'}{' '}
+          The published standards judge the difference between
           the arms against two boundaries: the <strong className="text-ink">cautious</strong> one applies when the intervention could
           plausibly affect who leaves the study, the <strong className="text-ink">optimistic</strong> one when that is unlikely. Decide
           which applies from the intervention, not from these numbers.
         </p>
         <div className="grid gap-4 xl:grid-cols-2">
-          <AttritionPanel title="Students" unit={['student', 'students']} attrition={measure.attrition.students} counts={armCounts(measure, 'students')} />
+          <AttritionPanel title="Students" unit={['student', 'students']} attrition={measure.accounting?.attrition.students ?? null} counts={armCounts(measure, 'students')} />
           <AttritionPanel
             title="Classrooms"
             unit={['classroom', 'classrooms']}
-            attrition={measure.attrition.classrooms}
+            attrition={measure.accounting?.attrition.classrooms ?? null}
             counts={armCounts(measure, 'classrooms')}
           />
         </div>

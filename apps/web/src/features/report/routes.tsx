@@ -1,4 +1,4 @@
-import type { MeasureChecks, PlanVersion, RunResults } from '@evenhand/entities';
+import type { Accounting, MeasureChecks, PlanVersion } from '@evenhand/entities';
 import { useSuspenseQuery, type QueryClient } from '@tanstack/react-query';
 import type { ReactNode } from 'react';
 import { Link, type LoaderFunctionArgs } from 'react-router-dom';
@@ -9,6 +9,7 @@ import { FigureTable } from '@/components/ui/figure-table';
 import { studyReportQueryOptions, type StudyReport } from '@/features/report/api';
 import { FlowDiagram } from '@/features/report/components/flow-diagram';
 import { EffectSizeChart, ResultsTable } from '@/features/report/components/results-summary';
+import { classroomsWithoutReadSheet, totalAccount } from '@/lib/accounting';
 import { formatAlpha, formatCount, formatDateTime, formatInterval, formatNumber, formatPercent } from '@/lib/format';
 import { studyPath } from '@/lib/navigation';
 import { fieldLabel, formatPlanValue } from '@/lib/plan-labels';
@@ -69,31 +70,46 @@ function BaselineTable({ measures }: { measures: MeasureChecks[] }) {
   );
 }
 
-function AttritionTable({ measures }: { measures: MeasureChecks[] }) {
+/** Each measure's accounting: its pre-specified comparison's reported run's (what it read), else the Checks' (the sheets today). */
+function accountings(report: StudyReport): { measureId: string; measureName: string; accounting: Accounting }[] {
+  return report.checks.measures.flatMap((m) => {
+    const reported = report.comparisons.find((c) => c.comparison.prespecified && c.comparison.measureId === m.measureId && c.comparison.waveId === report.checks.outcomeWaveId);
+    const accounting = reported?.run?.results?.accounting ?? m.accounting;
+    return accounting ? [{ measureId: m.measureId, measureName: m.measureName, accounting }] : [];
+  });
+}
+
+function AttritionTable({ report }: { report: StudyReport }) {
   const rating = (band: 'low' | 'high') => (band === 'low' ? 'low' : 'high');
-  if (!measures.some((m) => m.attrition.students || m.attrition.classrooms)) {
-    return <p className="text-ink-muted">Attrition can be worked out once both arms have outcome scores.</p>;
+  const rows = accountings(report);
+  if (!rows.some((m) => m.accounting.attrition.students || m.accounting.attrition.classrooms)) {
+    return <p className="text-ink-muted">Attrition can be worked out once both arms have classrooms and students randomised.</p>;
   }
   return (
     <FigureTable
-      caption="Attrition against the published boundaries (cautious / optimistic)"
+      caption="Attrition against the published boundaries (cautious / optimistic), from the same counts as the flow"
       columns={[
         { key: 'measure', header: 'Measure' },
         { key: 'unit', header: 'Unit' },
+        { key: 'randomised', header: 'Randomised', numeric: true },
+        { key: 'analysed', header: 'Analysed', numeric: true },
         { key: 'overall', header: 'Overall', numeric: true },
         { key: 'differential', header: 'Differential', numeric: true },
         { key: 'rating', header: 'Rating (cautious / optimistic)' },
       ]}
-      rows={measures.flatMap((m) =>
+      rows={rows.flatMap((m) =>
         (['students', 'classrooms'] as const).flatMap((unit) => {
-          const a = m.attrition[unit];
+          const a = m.accounting.attrition[unit];
           if (!a) return [];
           const interpolated = a.cautious.interpolated || a.optimistic.interpolated;
+          const total = totalAccount(m.accounting, unit);
           return [
             {
               id: `${m.measureId}-${unit}`,
               measure: m.measureName,
               unit: unit === 'students' ? 'Students' : 'Classrooms',
+              randomised: formatCount(total.randomised),
+              analysed: formatCount(total.analysed),
               overall: formatPercent(a.overall),
               differential: `${formatNumber(a.differential, 1)} pp`,
               rating: `${rating(a.cautious.band)} / ${rating(a.optimistic.band)}${interpolated ? ' (boundary interpolated between the handbook’s listed rows)' : ''}`,
@@ -154,14 +170,15 @@ function Registration({ versions, refs }: { versions: PlanVersion[]; refs: Study
 }
 
 /** Locking does not wait for sheets that are not accepted: the report says how many classrooms that left out. */
-function OpenSheetsNote({ flow, locked }: { flow: RunResults['flow']; locked: boolean }) {
-  const allocated = flow.reduce((t, a) => t + a.classroomsAllocated, 0);
-  const left = allocated - flow.reduce((t, a) => t + a.classroomsAnalysed, 0);
+function OpenSheetsNote({ accounting, locked }: { accounting: Accounting; locked: boolean }) {
+  const allocated = totalAccount(accounting, 'classrooms').randomised;
+  const left = classroomsWithoutReadSheet(accounting);
   if (left === 0) return null;
   return (
     <p className="max-w-prose" data-testid="open-sheets-note">
-      {locked ? 'The result was locked while' : 'When this run was made,'} {left} of {allocated} classrooms had no accepted outcome sheet (not
-      entered, returned for corrections or awaiting review). Evenhand lets a result be locked without them; they are counted as not analysed.
+      {locked ? 'The result was locked while' : 'When this run was made,'} {left} of {allocated} classrooms had no accepted outcome sheet (never
+      entered, not submitted, returned to the teacher or awaiting review). Evenhand lets a result be locked without them; they are counted as not
+      analysed, each under its reason above.
     </p>
   );
 }
@@ -251,19 +268,23 @@ export function StudyReportPage() {
       ) : (
         <>
           <ReportSection id="report-flow" title="Participant flow">
-            {primaryResults && primary?.run ? (
+            {primaryResults?.accounting && primary?.run ? (
               <>
                 <FlowDiagram
                   study={study}
-                  flow={primaryResults.flow}
-                  source={`From the ${primary.run.state === 'locked' ? 'locked' : 'latest finished'} run of ${primary.comparison.label}.`}
+                  accounting={primaryResults.accounting}
+                  source={`From the ${primary.run.state === 'locked' ? 'locked' : 'latest finished'} run of ${primary.comparison.label}, as it read the data.`}
                 />
-                <OpenSheetsNote flow={primaryResults.flow} locked={primary.run.state === 'locked'} />
+                <OpenSheetsNote accounting={primaryResults.accounting} locked={primary.run.state === 'locked'} />
               </>
             ) : (
-              <p className="text-ink-muted">The flow is drawn from the primary comparison’s result, which has no finished run yet.</p>
+              <p className="text-ink-muted">
+                {primaryResults
+                  ? 'The primary comparison’s result was made before Evenhand recorded who was analysed and why the others were not; run it again to draw the flow.'
+                  : 'The flow is drawn from the primary comparison’s result, which has no finished run yet.'}
+              </p>
             )}
-            <AttritionTable measures={report.checks.measures} />
+            <AttritionTable report={report} />
           </ReportSection>
 
           <ReportSection id="report-baseline" title="The arms at baseline">

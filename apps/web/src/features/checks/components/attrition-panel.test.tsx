@@ -17,7 +17,7 @@ function attritionAt(overall: number, interpolated: boolean): AttritionCheck {
   };
 }
 
-const counts = { intervention: { randomised: 313, analysed: 249 }, comparison: { randomised: 299, analysed: 271 } };
+const counts = { intervention: { randomised: 313, analysed: 249 }, comparison: { randomised: 299, analysed: 271 }, lost: ['Intervention: 64 students: outcome sheet returned to the teacher', 'Comparison: 28 students: marked as having left the study'] };
 
 describe('AttritionPanel', () => {
   it('when the boundary was interpolated, then the note names the two stored rows it lies between', () => {
@@ -38,6 +38,8 @@ describe('AttritionPanel', () => {
     const rows = within(screen.getByRole('table')).getAllByRole('row');
     expect(rows[1]).toHaveTextContent(/Cautious boundary\s*5\.9 pp\s*11\.1 pp\s*High attrition/);
     expect(rows[2]).toHaveTextContent(/Optimistic boundary\s*10\.7 pp\s*11\.1 pp\s*High attrition/);
-    expect(screen.getByText(/Of 612 students randomised, 520 have an outcome score/)).toBeInTheDocument();
+    expect(screen.getByText(/Of 612 students randomised, 520 were analysed/)).toBeInTheDocument();
+    // Each loss under its reason, as the counts gave them.
+    expect(within(screen.getByRole('list', { name: 'Students not analysed, by reason' })).getAllByRole('listitem').map((li) => li.textContent)).toEqual(counts.lost);
   });
 });

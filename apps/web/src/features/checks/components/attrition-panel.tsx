@@ -6,6 +6,8 @@ import { formatCount, formatNumber, formatPercent } from '@/lib/format';
 export interface ArmCounts {
   intervention: { randomised: number; analysed: number };
   comparison: { randomised: number; analysed: number };
+  /** Those not analysed, one line per reason ("3 students: outcome sheet returned to the teacher"). */
+  lost: string[];
 }
 
 /** Percentage points, abbreviated as the standards do and spelled out for screen readers. */
@@ -75,10 +77,17 @@ export function AttritionPanel({ title, unit, attrition, counts }: { title: stri
       </dl>
       {randomised !== null && analysed !== null && (
         <p className="mt-3 text-sm text-ink-muted">
-          Of {formatCount(randomised)} {unit[1]} randomised, {formatCount(analysed)} have an outcome score (intervention{' '}
+          Of {formatCount(randomised)} {unit[1]} randomised, {formatCount(analysed)} were analysed (intervention{' '}
           {formatCount(counts!.intervention.analysed)} of {formatCount(counts!.intervention.randomised)}, comparison{' '}
           {formatCount(counts!.comparison.analysed)} of {formatCount(counts!.comparison.randomised)}).
         </p>
+      )}
+      {counts && counts.lost.length > 0 && (
+        <ul aria-label={`${title} not analysed, by reason`} className="mt-2 list-disc pl-5 text-sm text-ink-muted">
+          {counts.lost.map((l) => (
+            <li key={l}>{l}</li>
+          ))}
+        </ul>
       )}
 
       <FigureTable

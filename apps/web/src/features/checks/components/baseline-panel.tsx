@@ -27,12 +27,12 @@ function bandRequirements(adjustedInPlan: boolean): { band: Band; range: string;
 /** The pretest difference between the arms in SD units, banded as the published standards do. */
 export function BaselinePanel({ measure, quasiExperimental }: { measure: MeasureChecks; quasiExperimental: boolean }) {
   const b = measure.baselineEquivalence;
-  const highAttrition = measure.attrition.students?.cautious.band === 'high';
+  const highAttrition = measure.accounting?.attrition.students?.cautious.band === 'high';
   const why = quasiExperimental
     ? 'Required for this study: assignment was changed by hand after the random draw, so the arms were not formed at random.'
     : highAttrition
       ? 'Required for this study: student attrition is high under the cautious boundary, so the students who remain may no longer be alike.'
-      : measure.attrition.students
+      : measure.accounting?.attrition.students
         ? 'Not strictly required (random assignment with low attrition), and shown for completeness.'
         : 'Whether it is required depends on attrition, which cannot be worked out until both arms have outcome scores.';
 

@@ -13,15 +13,26 @@ const study = {
 } as Study;
 
 describe('FlowDiagram', () => {
-  it('follows each arm from allocation to analysis in classrooms and students, with the losses between', () => {
-    render(<FlowDiagram study={study} flow={demoResults().flow} source="From the locked run." />);
+  it('follows each arm from allocation to analysis in classrooms and students, with every loss under its reason', () => {
+    render(<FlowDiagram study={study} accounting={demoResults().accounting!} source="From the locked run." />);
     expect(screen.getByText(/6 sites, 24 classrooms, 612 students registered by code/)).toBeInTheDocument();
     const intervention = screen.getByRole('region', { name: 'Intervention arm' });
-    const steps = within(intervention).getAllByRole('listitem');
-    expect(steps.map((s) => within(s).getByRole('heading').textContent)).toEqual(['Allocated', 'Followed up', 'Analysed']);
+    const steps = within(intervention).getAllByRole('listitem').filter((li) => within(li).queryByRole('heading'));
+    expect(steps.map((s) => within(s).getByRole('heading').textContent)).toEqual(['Allocated', 'Not analysed', 'Analysed']);
     expect(steps[0]).toHaveTextContent('12 classrooms, 313 students');
-    expect(steps[1]).toHaveTextContent('227 students with an outcome score on an accepted sheet; 86 not analysed (left the study, no score, or their classroom’s sheet not accepted');
-    expect(steps[2]).toHaveTextContent('10 classrooms, 227 students; 2 classrooms without an accepted outcome sheet');
+    // 313 − 227 = 86 students and 12 − 10 = 2 classrooms, each counted once under one reason.
+    expect(within(steps[1]).getByTestId('flow-lost')).toHaveTextContent('2 classrooms, 86 students');
+    expect(within(steps[1]).getAllByRole('listitem').map((li) => li.textContent)).toEqual([
+      '1 classroom: outcome sheet submitted, awaiting review',
+      '1 classroom: outcome sheet returned to the teacher',
+      '28 students: outcome sheet submitted, awaiting review',
+      '26 students: outcome sheet returned to the teacher',
+      '10 students: marked as having left the study',
+      '12 students: no outcome score on their classroom’s sheet',
+      '10 students: no pretest score, which the analysis adjusts for',
+    ]);
+    expect(steps[2]).toHaveTextContent('10 classrooms, 227 students');
     expect(screen.getByRole('region', { name: 'Comparison arm' })).toHaveTextContent('12 classrooms, 299 students');
+    expect(screen.getByRole('figure')).toHaveTextContent('analysed means an outcome score on an accepted sheet and a pretest score, which the analysis adjusts for');
   });
 });

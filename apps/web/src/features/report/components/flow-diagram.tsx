@@ -1,9 +1,8 @@
-import type { RunResults, Study } from '@evenhand/entities';
+import { arms, type Accounting, type Arm, type Study } from '@evenhand/entities';
 import type { ReactNode } from 'react';
+import { armAccount, lossLines, totalAccount } from '@/lib/accounting';
 import { formatCount } from '@/lib/format';
 import { armLabels } from '@/lib/study';
-
-type Flow = RunResults['flow'][number];
 
 function Box({ title, children, tone = 'plain' }: { title: string; children: ReactNode; tone?: 'plain' | 'accent' }) {
   return (
@@ -23,32 +22,40 @@ function Arrow() {
   );
 }
 
-function ArmColumn({ flow }: { flow: Flow }) {
-  const lost = flow.studentsAllocated - flow.studentsFollowedUp;
-  const excluded = flow.studentsFollowedUp - flow.studentsAnalysed;
-  const classroomsLost = flow.classroomsAllocated - flow.classroomsAnalysed;
+function ArmColumn({ accounting, arm }: { accounting: Accounting; arm: Arm }) {
+  const classrooms = armAccount(accounting, arm, 'classrooms');
+  const students = armAccount(accounting, arm, 'students');
+  const lines = [...lossLines(classrooms, ['classroom', 'classrooms']), ...lossLines(students, ['student', 'students'])];
   return (
-    <section aria-label={`${armLabels[flow.arm]} arm`} className="flow-arm">
-      <h4 className="mb-2 text-center font-semibold">{armLabels[flow.arm]} arm</h4>
+    <section aria-label={`${armLabels[arm]} arm`} className="flow-arm">
+      <h4 className="mb-2 text-center font-semibold">{armLabels[arm]} arm</h4>
       <ol className="space-y-0">
         <li>
-          <Box title="Allocated" tone={flow.arm === 'intervention' ? 'accent' : 'plain'}>
-            {formatCount(flow.classroomsAllocated)} classrooms, {formatCount(flow.studentsAllocated)} students
+          <Box title="Allocated" tone={arm === 'intervention' ? 'accent' : 'plain'}>
+            {formatCount(classrooms.randomised)} classrooms, {formatCount(students.randomised)} students
           </Box>
         </li>
         <li>
           <Arrow />
-          <Box title="Followed up">
-            {formatCount(flow.studentsFollowedUp)} students with an outcome score on an accepted sheet; {formatCount(lost)} not analysed (left
-            the study, no score, or their classroom’s sheet not accepted: not entered, returned or awaiting review)
+          <Box title="Not analysed">
+            <p data-testid="flow-lost">
+              {formatCount(classrooms.randomised - classrooms.analysed)} classrooms, {formatCount(students.randomised - students.analysed)} students
+            </p>
+            {lines.length > 0 && (
+              <ul className="mt-1 list-disc pl-5">
+                {lines.map((l) => (
+                  <li key={l}>{l}</li>
+                ))}
+              </ul>
+            )}
           </Box>
         </li>
         <li>
           <Arrow />
           <Box title="Analysed">
-            {formatCount(flow.classroomsAnalysed)} classrooms, {formatCount(flow.studentsAnalysed)} students
-            {classroomsLost > 0 && `; ${formatCount(classroomsLost)} ${classroomsLost === 1 ? 'classroom' : 'classrooms'} without an accepted outcome sheet`}
-            {excluded > 0 && `; ${formatCount(excluded)} students excluded`}
+            <p data-testid="flow-analysed">
+              {formatCount(classrooms.analysed)} classrooms, {formatCount(students.analysed)} students
+            </p>
           </Box>
         </li>
       </ol>
@@ -60,9 +67,8 @@ function ArmColumn({ flow }: { flow: Flow }) {
  * The participant flow (enrolment → allocation → follow-up → analysis), per arm, in classrooms and
  * students, drawn as boxes in HTML so it reads in order and prints as it looks.
  */
-export function FlowDiagram({ study, flow, source }: { study: Study; flow: Flow[]; source: string }) {
-  const totalStudents = flow.reduce((t, f) => t + f.studentsAllocated, 0);
-  const ordered = [...flow].sort((a, b) => (a.arm === 'intervention' ? -1 : b.arm === 'intervention' ? 1 : 0));
+export function FlowDiagram({ study, accounting, source }: { study: Study; accounting: Accounting; source: string }) {
+  const totalStudents = totalAccount(accounting, 'students').randomised;
   return (
     <figure className="flow-diagram" aria-labelledby="flow-caption">
       <div className="mx-auto max-w-xl">
@@ -78,12 +84,15 @@ export function FlowDiagram({ study, flow, source }: { study: Study; flow: Flow[
         <Arrow />
       </div>
       <div className="grid gap-6 sm:grid-cols-2">
-        {ordered.map((f) => (
-          <ArmColumn key={f.arm} flow={f} />
+        {arms.map((arm) => (
+          <ArmColumn key={arm} accounting={accounting} arm={arm} />
         ))}
       </div>
       <figcaption id="flow-caption" className="mt-3 text-sm text-ink-muted">
-        Participant flow per arm, in classrooms and students. {source}
+        Participant flow per arm, in classrooms and students: analysed means an outcome score on{' '}
+        {accounting.reads.includes('submitted') ? 'an accepted sheet or one awaiting review' : 'an accepted sheet'}
+        {accounting.needsPretest ? ' and a pretest score, which the analysis adjusts for' : ''}; each student or classroom not analysed is
+        counted once, under one reason. {source}
       </figcaption>
     </figure>
   );

@@ -5,6 +5,7 @@ import { Alert } from '@/components/ui/alert';
 import { Button } from '@/components/ui/button';
 import { Dialog } from '@/components/ui/dialog';
 import { resultsCsv } from '@/features/comparisons/components/results/results-csv';
+import { classroomsWithoutReadSheet, totalAccount } from '@/lib/accounting';
 import { downloadText } from '@/lib/csv';
 import { runPath } from '@/lib/results';
 
@@ -25,9 +26,9 @@ export function RunActions({ run, comparison, canLock, canDownloadBundle, onLock
   const lockable = canLock && run.kind === 'confirmatory' && run.state === 'finished' && !lockedElsewhere;
   const hasBundle = run.state === 'finished' || run.state === 'locked';
   // A run reads accepted sheets only; locking does not wait for the rest, so the dialog says how many are left out.
-  const flow = run.results?.flow ?? [];
-  const allocated = flow.reduce((t, a) => t + a.classroomsAllocated, 0);
-  const withoutOutcome = allocated - flow.reduce((t, a) => t + a.classroomsAnalysed, 0);
+  const accounting = run.results?.accounting;
+  const allocated = accounting ? totalAccount(accounting, 'classrooms').randomised : 0;
+  const withoutOutcome = accounting ? classroomsWithoutReadSheet(accounting) : 0;
 
   const lock = async () => {
     setLocking(true);
@@ -84,8 +85,8 @@ export function RunActions({ run, comparison, canLock, canDownloadBundle, onLock
           </ul>
           {withoutOutcome > 0 && (
             <Alert tone="info" title="Sheets still open">
-              {withoutOutcome} of {allocated} classrooms have no accepted outcome sheet in this run (not entered, returned for corrections or
-              awaiting review). Locking does not wait for them: they stay out of this result, and the report counts them as not analysed.
+              {withoutOutcome} of {allocated} classrooms have no accepted outcome sheet in this run (never entered, not submitted, returned to the
+              teacher or awaiting review). Locking does not wait for them: they stay out of this result, and the report counts them as not analysed.
             </Alert>
           )}
           {lockError && <Alert tone="error">{lockError}</Alert>}
