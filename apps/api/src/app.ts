@@ -4,7 +4,6 @@ import { OpenAPIRegistry } from '@asteasolutions/zod-to-openapi';
 import cookieParser from 'cookie-parser';
 import express from 'express';
 import helmet from 'helmet';
-import { pinoHttp } from 'pino-http';
 import { auditRouter } from './audit/router.js';
 import { checksRouter } from './checks/router.js';
 import { classroomsRouter } from './classrooms/router.js';
@@ -22,6 +21,7 @@ import { districtSignInRouter } from './auth/district-sign-in-router.js';
 import type { Deps } from './deps.js';
 import { apiNotFound, AppError, errorHandler } from './errors.js';
 import { healthRouter } from './health/router.js';
+import { requestLog } from './http/request-log.js';
 import { homeRouter } from './home/router.js';
 import { openApiRouter } from './openapi/router.js';
 import { sitesRouter } from './sites/router.js';
@@ -35,7 +35,7 @@ export function createApp(deps: Deps) {
   app.set('etag', false);
   app.set('trust proxy', deps.config.trustProxy);
   app.use(helmet({ contentSecurityPolicy: { directives: { 'upgrade-insecure-requests': deps.config.production ? [] : null } } }));
-  app.use(pinoHttp({ logger: deps.logger, autoLogging: { ignore: (req) => req.url === '/api/health' } }));
+  app.use(requestLog(deps.logger, { ignore: (url) => url === '/api/health' }));
 
   const registry = new OpenAPIRegistry();
   const api = express.Router();

@@ -43,7 +43,8 @@ export function authenticate({ config, db }: Deps): RequestHandler {
     const { user } = session;
     req.user = user;
     req.authVia = bearer ? 'bearer' : 'cookie';
-    req.csrfToken = csrfTokenFor(config, claims.jti);
+    // Only a cookie caller is asked for it (a bearer token cannot be sent by another site's page).
+    if (req.authVia === 'cookie') req.csrfToken = csrfTokenFor(config, claims.jti);
     // Sliding session for the browser: renew once half of the lifetime has passed, within the sign-in's absolute lifetime.
     const remaining = claims.exp * 1000 - Date.now();
     if (req.authVia === 'cookie' && remaining < (config.sessionMinutes * 60 * 1000) / 2) {

@@ -88,8 +88,10 @@ export class ChangeFeed {
       // The listener alone must not keep the process alive.
       (client as unknown as { connection: { stream: Socket } }).connection.stream.unref();
       await client.query(`LISTEN ${CHANNEL}`);
-      // Notices sent while no one listened are lost: start from nothing.
+      // Notices sent while no one listened are lost: start from nothing. From now on every commit is heard, so a
+      // write marked before (whose notice may have gone unheard) is covered by its notice or already readable.
       for (const cache of this.caches) cache.clear();
+      this.pending.clear();
       this.generation++;
       this.live = true;
     } catch {
