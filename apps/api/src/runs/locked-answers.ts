@@ -13,7 +13,12 @@ import { getRun } from './service.js';
  * builds a new answer, in every API process alike.
  */
 const MAX_ANSWERS = 500;
-const answers = new Map<string, { json: string; etag: string }>();
+/** An answer as the bytes sent, so serving it encodes nothing. */
+interface Answer {
+  body: Buffer;
+  etag: string;
+}
+const answers = new Map<string, Answer>();
 
 interface LockedRunProbe {
   state: string;
@@ -43,7 +48,7 @@ function probeRun(db: DataSource, runId: string): Promise<LockedRunProbe | undef
 }
 
 /** The answer to `GET /api/runs/:id` for a locked run, or null when the run is not locked (or does not exist). */
-export async function lockedRunAnswer(db: DataSource, user: SessionUser, runId: string): Promise<{ json: string; etag: string } | null> {
+export async function lockedRunAnswer(db: DataSource, user: SessionUser, runId: string): Promise<Answer | null> {
   const probe = await probeRun(db, runId);
   if (!probe || probe.state !== 'locked') return null;
   // District-wide staff see every study; anyone else is checked against the study as getRun would (404 if not theirs).
@@ -53,7 +58,7 @@ export async function lockedRunAnswer(db: DataSource, user: SessionUser, runId: 
   let answer = answers.get(key);
   if (!answer) {
     const json = JSON.stringify(await getRun(db, user, runId));
-    answer = { json, etag: `"${createHash('sha256').update(json).digest('base64url').slice(0, 32)}"` };
+    answer = { body: Buffer.from(json), etag: `"${createHash('sha256').update(json).digest('base64url').slice(0, 32)}"` };
     if (answers.size >= MAX_ANSWERS) answers.delete(answers.keys().next().value!);
     answers.set(key, answer);
   }
@@ -61,9 +66,9 @@ export async function lockedRunAnswer(db: DataSource, user: SessionUser, runId: 
 }
 
 /** Sends a built answer; a client that already holds it (If-None-Match) gets 304 and no body. */
-export function sendAnswer(req: Request, res: Response, answer: { json: string; etag: string }): void {
+export function sendAnswer(req: Request, res: Response, answer: Answer): void {
   res.setHeader('ETag', answer.etag);
-  res.type('application/json');
+  res.setHeader('Content-Type', 'application/json; charset=utf-8');
   if (req.fresh) res.status(304).end();
-  else res.send(answer.json);
+  else res.send(answer.body);
 }
