@@ -2,6 +2,7 @@ import { createHash } from 'node:crypto';
 import { readFile } from 'node:fs/promises';
 import { twoLevelFromRows, welchT } from '@evenhand/stats';
 import { expect, test, type Page } from '@playwright/test';
+import { formatCount, formatPercent } from '../src/lib/format';
 import { expectAccessible } from './support';
 
 const PASSWORD = 'evenhand-demo';
@@ -163,6 +164,7 @@ test('the research lead runs the primary comparison, reads its result, locks or 
   await expect(page.getByRole('heading', { name: 'Study report' })).toBeVisible();
   await expect(page.getByRole('heading', { name: 'Participant flow' })).toBeVisible();
   await expect(page.getByRole('region', { name: 'Intervention arm', exact: true })).toContainText('Allocated');
+  await expectFlowMatchesAttrition(page, primary.measureName);
   await expectAccessible(page);
 
   await page.emulateMedia({ media: 'print' });
@@ -195,3 +197,31 @@ test('a monitoring check is marked interim and has no Benjamini–Hochberg line 
   await expect(page.getByTestId('multiplicity')).toHaveCount(0);
   await expect(page.getByRole('button', { name: 'Lock this result' })).toHaveCount(0);
 });
+
+/**
+ * The report's flow and its attrition table count from one accounting: summed over the arms, the flow's allocated and
+ * analysed classrooms and students are the table's randomised and analysed for the primary measure, and its overall
+ * attrition is the share not analysed.
+ */
+async function expectFlowMatchesAttrition(page: Page, measureName: string) {
+  const numbers = async (testId: string) => {
+    let classrooms = 0;
+    let students = 0;
+    for (const arm of ['Intervention arm', 'Comparison arm']) {
+      const text = await page.getByRole('region', { name: arm, exact: true }).getByTestId(testId).innerText();
+      const [, c, s] = /([\d,]+) classrooms?, ([\d,]+) students?/.exec(text)!;
+      classrooms += Number(c.replaceAll(',', ''));
+      students += Number(s.replaceAll(',', ''));
+    }
+    return { classrooms, students };
+  };
+  const [allocated, analysed] = [await numbers('flow-allocated'), await numbers('flow-analysed')];
+  expect(analysed.students).toBeLessThanOrEqual(allocated.students);
+  const attrition = page.getByRole('table', { name: /^Attrition against the published boundaries/ });
+  for (const [unit, key] of [['Students', 'students'], ['Classrooms', 'classrooms']] as const) {
+    const row = attrition.getByRole('row').filter({ has: page.getByRole('rowheader', { name: measureName, exact: true }) }).filter({ hasText: unit });
+    const overall = 100 * (1 - analysed[key] / allocated[key]);
+    await expect(row.getByRole('cell')).toHaveText([unit, formatCount(allocated[key]), formatCount(analysed[key]), formatPercent(overall), /pp$/, /./]);
+  }
+}
+

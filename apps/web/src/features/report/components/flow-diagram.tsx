@@ -32,7 +32,9 @@ function ArmColumn({ accounting, arm }: { accounting: Accounting; arm: Arm }) {
       <ol className="space-y-0">
         <li>
           <Box title="Allocated" tone={arm === 'intervention' ? 'accent' : 'plain'}>
-            {formatCount(classrooms.randomised)} classrooms, {formatCount(students.randomised)} students
+            <p data-testid="flow-allocated">
+              {formatCount(classrooms.randomised)} classrooms, {formatCount(students.randomised)} students
+            </p>
           </Box>
         </li>
         <li>
