@@ -6,7 +6,7 @@ import { countWords, formatAlpha, formatNumber, formatPStatement, formatSigned, 
 const sidedness: Record<string, string> = { 'two-sided': 'two-sided', greater: 'one-sided', less: 'one-sided' };
 const armOrder = (arm: Arm | null) => (arm === 'intervention' ? 0 : arm === 'comparison' ? 1 : 2);
 
-interface LockedRunRow {
+export interface LockedRunRow {
   id: string;
   results: RunResults;
   locked_at: Date;
@@ -67,19 +67,26 @@ function yesNoSentences(r: RunResults, y: NonNullable<RunResults['yesNo']>, favo
       }`
     : `The Cox index, the published evidence standard's effect size for yes/no outcomes, is not given: ${undefinedCox ? undefinedCox.why.replace(/^Undefined: /, '') : 'an arm answered all yes or all no'}. Read the difference in percentage points instead.`;
   const test = `${decidingAnalysisNames[d.analysis]}, ${sidedness[d.alternative] ?? d.alternative}, at alpha ${formatAlpha(r.alpha)}`;
-  const verdict = `${d.significant ? 'It meets' : 'It does not meet'} the test registered in the plan before the data were in (${test}): ${formatPStatement(d.p)}. A p-value is not the size of the effect: read it with ${cox ? 'the Cox index' : 'the difference in percentage points'}.`;
+  const verdict = hidden
+    ? `${d.significant ? 'It meets' : 'It does not meet'} the test registered in the plan before the data were in (${test}); its p-value is not shown, since with it the hidden counts could be worked out.`
+    : `${d.significant ? 'It meets' : 'It does not meet'} the test registered in the plan before the data were in (${test}): ${formatPStatement(d.p)}. A p-value is not the size of the effect: read it with ${cox ? 'the Cox index' : 'the difference in percentage points'}.`;
   return hidden ? [finding, verdict] : [finding, size, verdict];
 }
 
 /** A school's yes/no share reveals its yes count (share × students): shown only when both that count and the no count may be. */
 const yesNoShareShown = (mean: number, n: number) => !suppressCounts([Math.round(mean * n), n - Math.round(mean * n)]).hidden;
 
-function siteResult(run: LockedRunRow, siteId: string): SiteResult {
+/** One locked run as a principal of `siteId` reads it (exported for tests). */
+export function siteResult(run: LockedRunRow, siteId: string): SiteResult {
   const r = run.results;
   const g = r.effectSize.g;
-  const same = formatNumber(g, 2) === formatNumber(0, 2);
-  const favours: SiteResult['district']['favours'] = same ? 'neither' : (g > 0) === r.measure.higherIsBetter ? 'intervention' : 'comparison';
   const deciding = decidingTest(r);
+  // A yes/no result favours an arm by its difference in percentage points (to one decimal, as worded), a score by g.
+  const y = r.yesNo;
+  const same = y ? formatNumber(deciding.estimate * 100, 1) === formatNumber(0, 1) : formatNumber(g, 2) === formatNumber(0, 2);
+  const favours: SiteResult['district']['favours'] = same ? 'neither' : ((y ? deciding.estimate : g) > 0) === r.measure.higherIsBetter ? 'intervention' : 'comparison';
+  const answers = y ? y.arms.map((a) => suppressCounts([a.yes, a.no])) : [];
+  const hidden = answers.some((a) => a.hidden);
   const districtStudents = suppressCounts(r.descriptives.map((d) => d.students)).total;
   const own = r.sites.find((s) => s.siteId === siteId);
   let site: SiteResult['site'] = null;
@@ -105,15 +112,15 @@ function siteResult(run: LockedRunRow, siteId: string): SiteResult {
     isPrimary: run.is_primary,
     lockedAt: new Date(run.locked_at).toISOString(),
     district: {
-      g,
-      gCi: r.effectSize.ci,
-      improvementIndex: r.effectSize.improvementIndex,
-      substantivelyImportant: r.effectSize.substantivelyImportant,
+      g: hidden ? null : g,
+      gCi: hidden ? null : r.effectSize.ci,
+      improvementIndex: hidden ? null : r.effectSize.improvementIndex,
+      substantivelyImportant: y ? !hidden && !!y.coxIndex?.substantivelyImportant : r.effectSize.substantivelyImportant,
       favours,
       analysis: deciding.analysis,
-      estimate: deciding.estimate,
-      p: deciding.p,
-      ci: deciding.ci,
+      estimate: hidden ? null : deciding.estimate,
+      p: hidden ? null : deciding.p,
+      ci: hidden ? null : deciding.ci,
       confidence: deciding.confidence,
       alpha: r.alpha,
       alternative: deciding.alternative,
@@ -121,6 +128,13 @@ function siteResult(run: LockedRunRow, siteId: string): SiteResult {
       students: districtStudents,
       classrooms: r.descriptives.reduce((t, d) => t + d.classrooms, 0),
     },
+    yesNo: y
+      ? {
+          yesIsGood: y.yesIsGood,
+          arms: y.arms.map((a, i) => ({ arm: a.arm, yes: answers[i].cells[0], no: answers[i].cells[1], proportion: hidden ? null : a.proportion })),
+          coxIndex: !hidden && y.coxIndex ? { value: y.coxIndex.value, improvementIndex: y.coxIndex.improvementIndex } : null,
+        }
+      : null,
     sentences: resultSentences(r, favours),
     site,
   };
@@ -181,7 +195,8 @@ export async function buildSiteFacts(manager: EntityManager, studyId: string, si
   const cautions: string[] = [];
   const anyHidden = counts.hidden || results.some((r) => r.site?.arms.some((a) => a.students.suppressed) || r.site?.totalStudents.suppressed);
   if (results.length) {
-    cautions.push('A p-value is not the size or the importance of an effect: the effect size (Hedges’ g) and its interval are given beside it.');
+    const sizes = results.some((r) => r.yesNo) ? (results.every((r) => r.yesNo) ? 'the effect size (the Cox index)' : 'the effect size (Hedges’ g for scores, the Cox index for yes/no answers)') : 'the effect size (Hedges’ g) and its interval';
+    cautions.push(`A p-value is not the size or the importance of an effect: ${sizes} ${sizes.endsWith('interval') ? 'are' : 'is'} given beside it.`);
   }
   cautions.push('These figures describe groups of students, never individual students or teachers: they are not for evaluating teachers or for placing students.');
   if (results.some((r) => runs.find((x) => x.id === r.runId)!.results.cautions.some((c) => c.startsWith('The samples are small')))) {

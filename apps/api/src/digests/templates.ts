@@ -57,6 +57,36 @@ function resultHeading(r: SiteFacts['results'][number], kind: DigestKind, newlyL
   return `${r.isPrimary ? 'The result' : 'Another locked result'}: ${r.measureName} at ${r.waveName}`;
 }
 
+type SiteResultFacts = SiteFacts['results'][number];
+const hiddenWords = 'not shown';
+
+function scoreDistrictRows(r: SiteResultFacts): string[][] {
+  const d = r.district;
+  return [
+    ['Effect size (Hedges’ g)', d.g === null || d.gCi === null ? hiddenWords : `${formatNumber(d.g, 2)} (95% interval ${formatNumber(d.gCi[0], 2)} to ${formatNumber(d.gCi[1], 2)})`],
+    ['Improvement index', d.improvementIndex === null ? hiddenWords : `${formatSigned(d.improvementIndex, 0)} percentile points`],
+    ['Pre-registered test', `${d.met ? 'Met' : 'Not met'}${d.p === null ? '' : ` (${formatPStatement(d.p)})`}`],
+    ['Students analysed', countWords(d.students)],
+  ];
+}
+
+/** A yes/no result: each arm's yes count of its students and share, the difference in percentage points, the Cox index. */
+function yesNoDistrictRows(r: SiteResultFacts, y: NonNullable<SiteResultFacts['yesNo']>): string[][] {
+  const d = r.district;
+  const points = (x: number | null) => (x === null ? '…' : formatNumber(x * 100, 1));
+  const arms = y.arms.map((a) => [
+    `Answered yes, ${a.arm} classrooms`,
+    a.proportion === null || a.yes.value === null || a.no.value === null ? `${hiddenWords} (${SUPPRESSED_WORDS} in a group)` : `${formatNumber(a.proportion * 100, 0)} % (${a.yes.value} of ${a.yes.value + a.no.value})`,
+  ]);
+  return [
+    ...arms,
+    ['Difference', d.estimate === null ? hiddenWords : `${formatSigned(d.estimate * 100, 1)} percentage points${d.ci ? ` (${Math.round(d.confidence * 100)}% interval ${points(d.ci[0])} to ${points(d.ci[1])})` : ''}`],
+    ['Effect size (Cox index)', y.coxIndex ? `${formatNumber(y.coxIndex.value, 2)}, improvement index ${formatSigned(y.coxIndex.improvementIndex, 0)}` : d.estimate === null ? hiddenWords : 'undefined: an arm answered all yes or all no'],
+    ['Pre-registered test', `${d.met ? 'Met' : 'Not met'}${d.p === null ? '' : ` (${formatPStatement(d.p)})`}`],
+    ['Students analysed', countWords(d.students)],
+  ];
+}
+
 function blocks(facts: SiteFacts, kind: DigestKind, newlyLocked: string[]): Block[] {
   const out: Block[] = [];
   // The newly locked results first, so the e-mail opens with what changed.
@@ -67,12 +97,7 @@ function blocks(facts: SiteFacts, kind: DigestKind, newlyLocked: string[]): Bloc
       paragraphs: r.sentences,
       table: {
         head: ['All schools in the study', 'Figure'],
-        rows: [
-          ['Effect size (Hedges’ g)', `${formatNumber(r.district.g, 2)} (95% interval ${formatNumber(r.district.gCi[0], 2)} to ${formatNumber(r.district.gCi[1], 2)})`],
-          ['Improvement index', `${formatSigned(r.district.improvementIndex, 0)} percentile points`],
-          ['Pre-registered test', `${r.district.met ? 'Met' : 'Not met'} (${formatPStatement(r.district.p)})`],
-          ['Students analysed', countWords(r.district.students)],
-        ],
+        rows: r.yesNo ? yesNoDistrictRows(r, r.yesNo) : scoreDistrictRows(r),
         numeric: [false, true],
       },
     },
@@ -80,9 +105,9 @@ function blocks(facts: SiteFacts, kind: DigestKind, newlyLocked: string[]): Bloc
       heading: `${facts.site.name} on its own`,
       table: r.site
         ? {
-            head: ['Group', 'Students analysed', 'Average score'],
+            head: ['Group', 'Students analysed', r.yesNo ? 'Answered yes' : 'Average score'],
             rows: [
-              ...r.site.arms.map((a) => [armWords(a.arm), countCell(a.students), a.mean === null ? 'not shown' : formatNumber(a.mean, 1)]),
+              ...r.site.arms.map((a) => [armWords(a.arm), countCell(a.students), a.mean === null ? 'not shown' : r.yesNo ? `${formatNumber(a.mean * 100, 0)} %` : formatNumber(a.mean, 1)]),
               ['All', countCell(r.site.totalStudents), ''],
             ],
             numeric: [false, true, true],

@@ -4,7 +4,8 @@ import { baselineEquivalenceYesNo, chiSquareTest, clusterRobustFromRows, coxInde
 import { startTestApp, type TestApp } from '../../test/app.js';
 import { createStudy, enrolClassrooms, fillSheet, samplePlan, send } from '../../test/fixtures.js';
 import { principalView } from './principal-view.js';
-import { resultSentences } from '../digests/facts.js';
+import { buildSiteFacts, resultSentences, siteResult } from '../digests/facts.js';
+import { renderDigest } from '../digests/templates.js';
 import { yesNoAnalysis } from './yes-no.js';
 import type { ClassroomAggregate } from './gather.js';
 import { rowFromCsv } from '../score-sheets/rows.js';
@@ -245,6 +246,19 @@ describe('digests and My school of a yes/no run', () => {
     expect(size).toMatch(/^The size of the difference is a Cox index of 0\.18/);
   });
 
+  it('when an arm has fewer than 10 yes answers, then My school and the digest show neither that count nor the no count, and no share, difference, g, p or Cox index it could be solved from', () => {
+    const r = { ...results([6, 200], [70, 200]), effectSize: { g: -0.6, ci: [-0.8, -0.4], se: 0.1, improvementIndex: -22, substantivelyImportant: true }, descriptives: [], sites: [] } as unknown as RunResults;
+    const site = siteResult({ id: '88888888-8888-4888-8888-888888888888', results: r, locked_at: new Date('2026-11-02T09:00:00Z'), label: 'Read at grade level by spring at Spring', is_primary: false }, 's');
+    expect(site.yesNo!.arms).toEqual([
+      { arm: 'intervention', yes: { value: null, suppressed: true }, no: { value: null, suppressed: true }, proportion: null },
+      { arm: 'comparison', yes: { value: 70, suppressed: false }, no: { value: 130, suppressed: false }, proportion: null },
+    ]);
+    expect(site.yesNo!.coxIndex).toBeNull();
+    expect(site.district).toMatchObject({ g: null, gCi: null, improvementIndex: null, estimate: null, ci: null, p: null });
+    expect(site.sentences.join(' ')).not.toMatch(/%|p = |p < /);
+    expect(JSON.stringify(site)).not.toMatch(/\b(6|194)\b/);
+  });
+
   it('when an arm has fewer than 10 yes answers, then no share is given', () => {
     const sentences = resultSentences(results([6, 200], [70, 200]), 'comparison');
     expect(sentences[0]).toMatch(/is not shown: a group has fewer than 10 students/);
@@ -261,16 +275,37 @@ describe('the demo study', () => {
       mailer.close();
     }
     const [k]: { id: string; prespecified: boolean; scale: string }[] = await t.db.query(
-      `SELECT k.id, k.prespecified, m.scale FROM comparisons k JOIN measures m ON m.id = k.measure_id WHERE m.name = 'Read at grade level by spring'`,
+      // The demo's (other tests here name a measure alike, without locking its run).
+      `SELECT k.id, k.prespecified, m.scale FROM comparisons k JOIN measures m ON m.id = k.measure_id
+        WHERE m.name = 'Read at grade level by spring' AND EXISTS (SELECT 1 FROM runs r WHERE r.comparison_id = k.id AND r.state = 'locked')`,
     );
     expect(k).toMatchObject({ prespecified: true, scale: 'yes-no' });
     const [run]: { state: string; results: RunResults; error: string | null }[] = await t.db.query(
-      `SELECT state, results, error FROM runs WHERE comparison_id = $1 AND results IS NOT NULL ORDER BY queued_at DESC LIMIT 1`,
+      `SELECT state, results, error FROM runs WHERE comparison_id = $1 AND results IS NOT NULL ORDER BY (state = 'locked') DESC, queued_at DESC LIMIT 1`,
       [k.id],
     );
     expect(run.error).toBeNull();
     expect(decidingTest(run.results).analysis).toBe('linear-probability');
     expect(run.results.yesNo!.arms.map((a) => [a.yes > 0, a.no > 0, a.yes + a.no === a.n])).toEqual([[true, true, true], [true, true, true]]);
+
+    // My school and the digest: each arm's share and yes count of its students, the difference in points and the Cox index,
+    // the same numbers as the run's, and no average score of 0/1 answers.
+    const [site]: { study_id: string; site_id: string; name: string }[] = await t.db.query(
+      `SELECT k.study_id, c.site_id, x.name FROM comparisons k JOIN classrooms c ON c.study_id = k.study_id JOIN sites x ON x.id = c.site_id WHERE k.id = $1 ORDER BY x.name LIMIT 1`,
+      [k.id],
+    );
+    const facts = await buildSiteFacts(t.db.manager, site.study_id, site.site_id);
+    const result = facts.results.find((x) => x.measureName === 'Read at grade level by spring')!;
+    const y = run.results.yesNo!;
+    expect(result.yesNo!.arms).toEqual(y.arms.map((a) => ({ arm: a.arm, yes: { value: a.yes, suppressed: false }, no: { value: a.no, suppressed: false }, proportion: a.proportion })));
+    expect(result.district.estimate).toBe(decidingTest(run.results).estimate);
+    expect(result.yesNo!.coxIndex).toEqual({ value: y.coxIndex!.value, improvementIndex: y.coxIndex!.improvementIndex });
+    const mail = await renderDigest(facts, 'lock', 'Principal', { mySchool: 'https://evenhand.test/my-school', preferences: () => 'https://evenhand.test/p' }, [result.runId]);
+    const pct = (x: number) => `${Math.round(x * 100)} %`;
+    for (const a of y.arms) expect(mail.text).toContain(`Answered yes, ${a.arm} classrooms: ${pct(a.proportion)} (${a.yes} of ${a.n})`);
+    expect(mail.text).toContain(`Effect size (Cox index): ${y.coxIndex!.value.toFixed(2)}`);
+    const block = mail.text.slice(mail.text.indexOf('Read at grade level by spring'), mail.text.indexOf('on its own', mail.text.indexOf('Read at grade level by spring')));
+    expect(block).not.toMatch(/Hedges|Average score/);
   }, 240_000);
 });
 

@@ -1,5 +1,5 @@
 import { decidingAnalysisNames, decidingTest, type DecidingTest, type RunResults } from '@evenhand/entities';
-import { formatAlpha, formatNumber, formatPStatement } from '@/lib/format';
+import { formatAlpha, formatInterval, formatNumber, formatPStatement, formatSigned } from '@/lib/format';
 
 /** The registered primary test by its name in the trade. */
 export const testNames: Record<RunResults['primary']['test'], string> = {
@@ -130,6 +130,22 @@ export function resultHeadline(r: RunResults): Headline {
   return { finding, favours, verdict, met: d.significant, decidedBy, clustering };
 }
 
+
+/**
+ * The effect size that travels with a p-value: Hedges' g with its interval for a score; for a yes/no measure the Cox
+ * index with its improvement index (the standard's effect size for yes/no outcomes), or, when an arm answered all yes or
+ * all no and the Cox index is undefined, the difference in percentage points with its interval.
+ */
+export function effectSizeWords(r: RunResults): string {
+  const y = r.yesNo;
+  if (!y) {
+    const e = r.effectSize;
+    return `Hedges’ g = ${formatNumber(e.g, 2)} (95% CI ${formatInterval(e.ci, 2)}); improvement index ${formatSigned(e.improvementIndex, 1)} percentile points`;
+  }
+  if (y.coxIndex) return `Cox index = ${formatNumber(y.coxIndex.value, 2)}; improvement index ${formatSigned(y.coxIndex.improvementIndex, 1)} percentile points`;
+  const ci = y.difference.ci;
+  return `difference ${formatSigned(y.difference.estimate * 100, 1)} percentage points (${confidenceLabel(y.confidence)} CI ${formatInterval([ci[0] * 100, ci[1] * 100], 1)}; the Cox index is undefined when an arm answered all yes or all no)`;
+}
 
 /** A proportion as a whole percent: 0.423 → "42 %". */
 export const formatPercent = (fraction: number) => `${formatNumber(fraction * 100, 0)} %`;

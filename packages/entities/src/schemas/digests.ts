@@ -37,17 +37,20 @@ export const siteResultSchema = z.object({
   waveName: z.string(),
   isPrimary: z.boolean(),
   lockedAt: z.iso.datetime({ offset: true }),
-  /** The district-wide result, all sites together. */
+  /**
+   * The district-wide result, all sites together. For a yes/no measure g, estimate, interval and p are null while a yes
+   * or no count of the district is hidden (with them and the students analysed one could solve for the counts).
+   */
   district: z.object({
-    g: z.number(),
-    gCi: z.tuple([z.number(), z.number()]),
-    improvementIndex: z.number(),
+    g: z.number().nullable(),
+    gCi: z.tuple([z.number(), z.number()]).nullable(),
+    improvementIndex: z.number().nullable(),
     substantivelyImportant: z.boolean(),
     favours: z.enum(['intervention', 'comparison', 'neither']),
-    /** The deciding analysis's estimate (intervention − comparison, in the measure's units), p and interval. */
+    /** The deciding analysis's estimate (intervention − comparison, in the measure's units; a fraction for yes/no), p and interval. */
     analysis: z.enum(decidingAnalyses),
-    estimate: z.number(),
-    p: z.number(),
+    estimate: z.number().nullable(),
+    p: z.number().nullable(),
     ci: z.tuple([z.number().nullable(), z.number().nullable()]).nullable(),
     confidence: z.number(),
     alpha: z.number(),
@@ -56,9 +59,21 @@ export const siteResultSchema = z.object({
     students: reportedCountSchema,
     classrooms: z.number().int(),
   }),
+  /**
+   * A yes/no measure's district answers per arm, each count suppressed as students are (a hidden yes count hides the
+   * arm's no count, which would give it away), the shares and the Cox index only while every count shows; null for a score.
+   */
+  yesNo: z
+    .object({
+      yesIsGood: z.boolean(),
+      arms: z.array(z.object({ arm: armSchema, yes: reportedCountSchema, no: reportedCountSchema, proportion: z.number().nullable() })),
+      coxIndex: z.object({ value: z.number(), improvementIndex: z.number() }).nullable(),
+    })
+    .nullable()
+    .optional(),
   /** The same result in plain language, as the digest says it. */
   sentences: z.array(z.string()),
-  /** The site's own descriptive figures for this measure and wave; null when the site has no analysed students. */
+  /** The site's own descriptive figures for this measure and wave (a yes/no mean is the share answering yes); null when the site has no analysed students. */
   site: z
     .object({
       arms: z.array(z.object({ arm: armSchema, students: reportedCountSchema, mean: z.number().nullable() })),

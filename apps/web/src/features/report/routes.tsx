@@ -13,7 +13,7 @@ import { classroomsWithoutReadSheet, totalAccount } from '@/lib/accounting';
 import { formatAlpha, formatCount, formatDateTime, formatInterval, formatNumber, formatPercent } from '@/lib/format';
 import { studyPath } from '@/lib/navigation';
 import { fieldLabel, formatPlanValue } from '@/lib/plan-labels';
-import { iccSourceWords, resultHeadline, testNames } from '@/lib/result-wording';
+import { effectSizeWords, iccSourceWords, resultHeadline, testNames } from '@/lib/result-wording';
 import { runPath } from '@/lib/results';
 import { unitLabels, useCurrentStudy, useStudyId } from '@/lib/study';
 
@@ -302,7 +302,7 @@ export function StudyReportPage() {
                 <p className="mt-2 max-w-prose">{resultHeadline(primaryResults).finding}</p>
                 <p className="mt-1 max-w-prose font-semibold">{resultHeadline(primaryResults).verdict}</p>
                 <p className="mt-1 max-w-prose">
-                  Hedges’ g = {formatNumber(primaryResults.effectSize.g, 2)} (95% CI {formatInterval(primaryResults.effectSize.ci, 2)}).{' '}
+                  {effectSizeWords(primaryResults)}.{' '}
                   <Link to={runPath(studyId, primary.run!.id)} className="print:hidden">
                     Read the full result
                   </Link>

@@ -99,6 +99,55 @@ describe('SchoolFacts', () => {
     expect(screen.getByText(/Room 2/).closest('li')).toHaveTextContent('returned for corrections');
   });
 
+  it('shows a yes/no result as each group’s share answering yes, its yes count of the students, the difference in points and the Cox index — no Hedges’ g or average score', () => {
+    const base = facts().results[0];
+    const yesNoResult = {
+      ...base,
+      measureName: 'Read at grade level by spring',
+      district: { ...base.district, analysis: 'linear-probability' as const, estimate: 0.0712, ci: [0.012, 0.131] as [number, number], p: 0.021 },
+      yesNo: {
+        yesIsGood: true,
+        arms: [
+          { arm: 'intervention' as const, yes: { value: 84, suppressed: false }, no: { value: 116, suppressed: false }, proportion: 0.42 },
+          { arm: 'comparison' as const, yes: { value: 70, suppressed: false }, no: { value: 130, suppressed: false }, proportion: 0.35 },
+        ],
+        coxIndex: { value: 0.1796, improvementIndex: 7.12 },
+      },
+      site: { arms: [{ arm: 'intervention' as const, students: { value: 24, suppressed: false }, mean: 0.5 }, { arm: 'comparison' as const, students: { value: 26, suppressed: false }, mean: 0.3846 }], totalStudents: { value: 50, suppressed: false }, note: null },
+    };
+    render(<SchoolFacts facts={facts({ results: [yesNoResult] })} />);
+    const district = screen.getByTestId('yes-no-district');
+    expect(district).toHaveTextContent('Answered yes, intervention classrooms42 %84 of 200 students');
+    expect(district).toHaveTextContent('Answered yes, comparison classrooms35 %70 of 200 students');
+    expect(district).toHaveTextContent('Difference+7.1 points95% interval 1.2 to 13.1');
+    expect(district).toHaveTextContent('p = .021; Cox index 0.18, improvement index +7');
+    const own = screen.getByRole('table', { name: 'Willow Lane Elementary on its own' });
+    expect(within(own).getByRole('columnheader', { name: 'Answered yes' })).toBeInTheDocument();
+    expect(within(own).getByRole('row', { name: /Intervention/ })).toHaveTextContent('50 %');
+    expect(screen.queryByText(/Hedges|Average score/)).not.toBeInTheDocument();
+  });
+
+  it('when the server withheld a yes/no count, then the shares, difference and p read “Not shown”', () => {
+    const base = facts().results[0];
+    const hiddenResult = {
+      ...base,
+      district: { ...base.district, g: null, gCi: null, improvementIndex: null, estimate: null, ci: null, p: null },
+      yesNo: {
+        yesIsGood: true,
+        arms: [
+          { arm: 'intervention' as const, yes: hidden, no: hidden, proportion: null },
+          { arm: 'comparison' as const, yes: { value: 70, suppressed: false }, no: { value: 130, suppressed: false }, proportion: null },
+        ],
+        coxIndex: null,
+      },
+    };
+    render(<SchoolFacts facts={facts({ results: [hiddenResult] })} />);
+    const district = screen.getByTestId('yes-no-district');
+    expect(within(district).getAllByText('Not shown')).toHaveLength(3);
+    expect(district).toHaveTextContent('fewer than 10 students in a group');
+    expect(district).not.toHaveTextContent(/p = |Cox/);
+  });
+
   it('shows counts of 10 or more as numbers, and no locked result before there is one', () => {
     render(
       <SchoolFacts

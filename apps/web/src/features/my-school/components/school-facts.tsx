@@ -1,4 +1,4 @@
-import type { Arm, SiteFacts, SiteResult } from '@evenhand/entities';
+import { SUPPRESSED_WORDS, type Arm, type SiteFacts, type SiteResult } from '@evenhand/entities';
 import { useId } from 'react';
 import { Badge } from '@/components/ui/badge';
 import { FigureTable } from '@/components/ui/figure-table';
@@ -23,6 +23,37 @@ function KeyFigure({ label, value, detail }: { label: string; value: string; det
   );
 }
 
+/**
+ * A yes/no result for all schools: each group's share answering yes with its yes count of the students, the
+ * difference in percentage points and the Cox index; a share or count the server withheld reads "not shown".
+ */
+function YesNoFigures({ result, yesNo }: { result: SiteResult; yesNo: NonNullable<SiteResult['yesNo']> }) {
+  const d = result.district;
+  const points = (x: number | null) => (x === null ? '…' : formatNumber(x * 100, 1));
+  return (
+    <dl className="grid gap-3 sm:grid-cols-2 lg:grid-cols-4" aria-label="All schools in the study" data-testid="yes-no-district">
+      {yesNo.arms.map((a) => (
+        <KeyFigure
+          key={a.arm}
+          label={`Answered yes, ${groupLabel(a.arm).toLowerCase()}`}
+          value={a.proportion === null ? 'Not shown' : `${formatNumber(a.proportion * 100, 0)} %`}
+          detail={a.yes.value === null || a.no.value === null ? `${SUPPRESSED_WORDS} in a group` : `${a.yes.value} of ${a.yes.value + a.no.value} students`}
+        />
+      ))}
+      <KeyFigure
+        label="Difference"
+        value={d.estimate === null ? 'Not shown' : `${formatSigned(d.estimate * 100, 1)} points`}
+        detail={d.ci ? `${Math.round(d.confidence * 100)}% interval ${points(d.ci[0])} to ${points(d.ci[1])}` : undefined}
+      />
+      <KeyFigure
+        label="Pre-registered test"
+        value={d.met ? 'Met' : 'Not met'}
+        detail={[d.p === null ? null : formatPStatement(d.p), yesNo.coxIndex ? `Cox index ${formatNumber(yesNo.coxIndex.value, 2)}, improvement index ${formatSigned(yesNo.coxIndex.improvementIndex, 0)}` : null].filter(Boolean).join('; ') || undefined}
+      />
+    </dl>
+  );
+}
+
 function ResultPanel({ result, siteName }: { result: SiteResult; siteName: string }) {
   const headingId = useId();
   const d = result.district;
@@ -35,11 +66,15 @@ function ResultPanel({ result, siteName }: { result: SiteResult; siteName: strin
         <Badge tone={d.met ? 'accent' : 'muted'}>{d.met ? 'Met the pre-registered test' : 'Did not meet the pre-registered test'}</Badge>
         {!result.isPrimary && <Badge tone="muted">Secondary measure</Badge>}
       </div>
-      <dl className="grid gap-3 sm:grid-cols-3" aria-label="All schools in the study">
-        <KeyFigure label="Effect size (Hedges’ g)" value={formatNumber(d.g, 2)} detail={`95% interval ${formatNumber(d.gCi[0], 2)} to ${formatNumber(d.gCi[1], 2)}`} />
-        <KeyFigure label="Improvement index" value={formatSigned(d.improvementIndex, 0)} detail="percentile points" />
-        <KeyFigure label="Pre-registered test" value={d.met ? 'Met' : 'Not met'} detail={formatPStatement(d.p)} />
-      </dl>
+      {result.yesNo ? (
+        <YesNoFigures result={result} yesNo={result.yesNo} />
+      ) : (
+        <dl className="grid gap-3 sm:grid-cols-3" aria-label="All schools in the study">
+          <KeyFigure label="Effect size (Hedges’ g)" value={d.g === null ? 'Not shown' : formatNumber(d.g, 2)} detail={d.gCi ? `95% interval ${formatNumber(d.gCi[0], 2)} to ${formatNumber(d.gCi[1], 2)}` : undefined} />
+          <KeyFigure label="Improvement index" value={d.improvementIndex === null ? 'Not shown' : formatSigned(d.improvementIndex, 0)} detail="percentile points" />
+          <KeyFigure label="Pre-registered test" value={d.met ? 'Met' : 'Not met'} detail={d.p === null ? undefined : formatPStatement(d.p)} />
+        </dl>
+      )}
       <div className="max-w-prose space-y-2">
         {result.sentences.map((s) => (
           <p key={s}>{s}</p>
@@ -52,13 +87,13 @@ function ResultPanel({ result, siteName }: { result: SiteResult; siteName: strin
             columns={[
               { key: 'group', header: 'Group' },
               { key: 'students', header: 'Students analysed', numeric: true },
-              { key: 'mean', header: 'Average score', numeric: true },
+              { key: 'mean', header: result.yesNo ? 'Answered yes' : 'Average score', numeric: true },
             ]}
             rows={result.site.arms.map((a) => ({
               id: a.arm,
               group: groupLabel(a.arm),
               students: <ReportedCountText count={a.students} />,
-              mean: a.mean === null ? <span className="text-ink-muted italic">not shown</span> : formatNumber(a.mean, 1),
+              mean: a.mean === null ? <span className="text-ink-muted italic">not shown</span> : result.yesNo ? `${formatNumber(a.mean * 100, 0)} %` : formatNumber(a.mean, 1),
             }))}
             footer={{ group: 'All', students: <ReportedCountText count={result.site.totalStudents} />, mean: '' }}
           />

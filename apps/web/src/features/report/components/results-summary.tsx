@@ -36,7 +36,7 @@ export function ResultsTable({ items }: { items: ReportedComparison[] }) {
         { key: 'n', header: 'Students analysed (intervention / comparison)', numeric: true },
         { key: 'analysis', header: 'Deciding analysis' },
         { key: 'difference', header: 'Difference (CI)', numeric: true },
-        { key: 'g', header: 'Hedges’ g (95% CI)', numeric: true },
+        { key: 'g', header: 'Effect size: Hedges’ g (95% CI), or the Cox index for yes/no', numeric: true },
         { key: 'p', header: 'p', numeric: true },
         { key: 'bh', header: 'p, Benjamini–Hochberg', numeric: true },
       ]}
@@ -74,14 +74,16 @@ export function EffectSizeChart({ items }: { items: ReportedComparison[] }) {
   const rows = useMemo(
     () =>
       items
-        .filter((i) => i.run?.results)
-        .map((i) => ({
-          label: `${i.comparison.label}${i.comparison.prespecified ? '' : ' (exploratory)'}`,
-          g: i.run!.results!.effectSize.g,
-          lo: i.run!.results!.effectSize.ci[0],
-          hi: i.run!.results!.effectSize.ci[1],
-          kind: i.comparison.prespecified ? 'Pre-specified' : 'Exploratory',
-        })),
+        .filter((i) => i.run?.results && (!i.run.results.yesNo || i.run.results.yesNo.coxIndex))
+        .map((i) => {
+          const r = i.run!.results!;
+          const label = `${i.comparison.label}${i.comparison.prespecified ? '' : ' (exploratory)'}`;
+          const kind = i.comparison.prespecified ? 'Pre-specified' : 'Exploratory';
+          // A yes/no comparison's effect size is its Cox index, on g's scale by design, ± 1.96 SE (Woolf's SE over 1.65).
+          const cox = r.yesNo?.coxIndex;
+          if (cox) return { label: `${label} (Cox index)`, name: 'Cox index', g: cox.value, lo: cox.value - 1.959964 * cox.se, hi: cox.value + 1.959964 * cox.se, kind };
+          return { label, name: 'g', g: r.effectSize.g, lo: r.effectSize.ci[0], hi: r.effectSize.ci[1], kind };
+        }),
     [items],
   );
   const plot = useMemo(
@@ -91,7 +93,7 @@ export function EffectSizeChart({ items }: { items: ReportedComparison[] }) {
         height: 70 + 40 * rows.length,
         marginLeft: Math.min(360, width / 2),
         marginBottom: 42,
-        x: { label: 'Hedges’ g (intervention − comparison), 95% CI', labelAnchor: 'center', labelArrow: 'none', grid: true, nice: true },
+        x: { label: 'Effect size (intervention − comparison), 95% CI', labelAnchor: 'center', labelArrow: 'none', grid: true, nice: true },
         y: { domain: rows.map((r) => r.label), label: null, tickFormat: (d: string) => (d.length > 48 ? `${d.slice(0, 46)}…` : d) },
         color: { domain: ['Pre-specified', 'Exploratory'], range: [chartColors.intervention, chartColors.comparison], legend: true },
         marks: [
@@ -107,9 +109,9 @@ export function EffectSizeChart({ items }: { items: ReportedComparison[] }) {
     <Chart
       plot={plot}
       summary={`Effect sizes of ${rows.length} comparisons with their 95% confidence intervals: ${rows
-        .map((r) => `${r.label}, g ${formatNumber(r.g, 2)} from ${formatNumber(r.lo, 2)} to ${formatNumber(r.hi, 2)}`)
+        .map((r) => `${r.label}, ${r.name} ${formatNumber(r.g, 2)} from ${formatNumber(r.lo, 2)} to ${formatNumber(r.hi, 2)}`)
         .join('; ')}.`}
-      caption="Each dot is a comparison’s Hedges’ g with its 95% confidence interval; right of the dashed line favours the intervention arm. The same numbers are in the table above."
+      caption="Each dot is a comparison’s Hedges’ g (the Cox index for a yes/no measure, marked) with its 95% confidence interval; right of the dashed line means more (or higher) in the intervention arm. The same numbers are in the table above."
     />
   );
 }

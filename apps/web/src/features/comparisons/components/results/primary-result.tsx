@@ -1,18 +1,12 @@
 import { decidingTest, type Run, type RunResults } from '@evenhand/entities';
 import { Badge } from '@/components/ui/badge';
 import { formatAlpha, formatCount, formatInterval, formatNumber, formatPStatement, formatSigned } from '@/lib/format';
-import { confidenceLabel, iccSourceWords, resultHeadline, testNames } from '@/lib/result-wording';
+import { confidenceLabel, effectSizeWords, iccSourceWords, resultHeadline, testNames } from '@/lib/result-wording';
 import { YesNoFigures } from '@/features/comparisons/components/results/yes-no-result';
 
-/** Hedges' g with its 95% CI and the improvement index: shown beside every p-value of the page. */
+/** The effect size with its interval or improvement index (Hedges' g; the Cox index for yes/no): shown beside every p-value of the page. */
 export function EffectSize({ results }: { results: RunResults }) {
-  const e = results.effectSize;
-  return (
-    <>
-      Hedges’ g = {formatNumber(e.g, 2)} (95% CI {formatInterval(e.ci, 2)}); improvement index {formatSigned(e.improvementIndex, 1)} percentile
-      points
-    </>
-  );
+  return <>{effectSizeWords(results)}</>;
 }
 
 /** The plain-language headline, then the primary test as registered, with its effect size beside it. */

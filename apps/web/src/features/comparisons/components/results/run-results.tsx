@@ -3,6 +3,7 @@ import type { ReactNode } from 'react';
 import { ClusteringResult, MultiplicityResult, PrimaryResult } from '@/features/comparisons/components/results/primary-result';
 import { SiteForest } from '@/features/comparisons/components/results/site-forest';
 import { DescriptivesTable, DiagnosticsTable, SensitivityTable } from '@/features/comparisons/components/results/tables';
+import { YesNoNotes } from '@/features/comparisons/components/results/yes-no-result';
 
 function Section({ id, title, intro, children }: { id: string; title: string; intro?: ReactNode; children: ReactNode }) {
   return (
@@ -42,6 +43,22 @@ export function RunResultsView({ run, results }: { run: Run; results: RunResults
       </div>
       <ClusteringResult results={results} />
       <MultiplicityResult run={run} />
+      {results.yesNo ? (
+        // A yes/no answer is 0 or 1: means, SDs, t tests, g, normality and per-site g would read it as a score.
+        <Section id="notes" title="Notes on this analysis">
+          <YesNoNotes results={results} />
+        </Section>
+      ) : (
+        <ScoreSections results={results} />
+      )}
+    </div>
+  );
+}
+
+/** The sections that read a score: the arms' descriptives, sensitivity checks, diagnostics and the per-site forest plot. */
+function ScoreSections({ results }: { results: RunResults }) {
+  return (
+    <>
       <Section id="arms" title="The two arms">
         <DescriptivesTable results={results} />
       </Section>
@@ -58,6 +75,6 @@ export function RunResultsView({ run, results }: { run: Run; results: RunResults
       <Section id="sites" title="Site by site" intro="The effect size in each site, and the random-effects estimate across sites.">
         <SiteForest results={results} />
       </Section>
-    </div>
+    </>
   );
 }
