@@ -6,6 +6,7 @@ import { applyApiError, type FormProblem } from '@/lib/form-errors';
  * The one way a form sends to the API: clears the last problem, runs `send` with the validated values, and when the
  * API refuses puts its field issues on the form's `fields` and keeps the rest as `problem`, for `<FormProblemAlert>`
  * above the fields. `send` may throw; anything it does after the request (reset, a message) runs only on success.
+ * `clearProblem` is for a form that starts over another way (e.g. filled in from a list).
  */
 export function useApiSubmit<TFieldValues extends FieldValues, TContext, TValues>(
   form: UseFormReturn<TFieldValues, TContext, TValues>,
@@ -21,5 +22,5 @@ export function useApiSubmit<TFieldValues extends FieldValues, TContext, TValues
       setProblem(applyApiError(error, form.setError, fields));
     }
   });
-  return { onSubmit, problem };
+  return { onSubmit, problem, clearProblem: () => setProblem(null) };
 }

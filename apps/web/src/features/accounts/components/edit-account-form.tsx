@@ -1,12 +1,11 @@
 import { updateUserSchema, type Site, type UpdateUser, type User } from '@evenhand/entities';
 import { zodResolver } from '@hookform/resolvers/zod';
-import { useState } from 'react';
 import { FormProvider, useForm } from 'react-hook-form';
 import { Button } from '@/components/ui/button';
 import { Field, TextInput } from '@/components/ui/field';
 import { FormProblemAlert } from '@/components/ui/form-problem-alert';
 import { GrantsFieldset } from '@/features/accounts/components/grants-fieldset';
-import { applyApiError, type FormProblem } from '@/lib/form-errors';
+import { useApiSubmit } from '@/lib/use-api-submit';
 
 interface EditAccountFormProps {
   user: User;
@@ -16,26 +15,18 @@ interface EditAccountFormProps {
 }
 
 export function EditAccountForm({ user, sites, onSave, onCancel }: EditAccountFormProps) {
-  const [problem, setProblem] = useState<FormProblem | null>(null);
   const form = useForm({
     resolver: zodResolver(updateUserSchema),
     defaultValues: { name: user.name, roles: user.roles },
   });
   const {
     register,
-    handleSubmit,
-    setError,
     formState: { errors, isSubmitting, isDirty },
   } = form;
 
-  const onSubmit = handleSubmit(async (changes) => {
+  const { onSubmit, problem } = useApiSubmit(form, ['name', 'roles'], async (changes) => {
     if (!isDirty) return onCancel();
-    setProblem(null);
-    try {
-      await onSave(changes);
-    } catch (error) {
-      setProblem(applyApiError(error, setError, ['name', 'roles']));
-    }
+    await onSave(changes);
   });
 
   return (

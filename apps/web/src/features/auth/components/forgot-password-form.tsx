@@ -1,31 +1,23 @@
 import { passwordResetRequestSchema } from '@evenhand/entities';
 import { zodResolver } from '@hookform/resolvers/zod';
-import { useState } from 'react';
 import { useForm } from 'react-hook-form';
 import { Alert } from '@/components/ui/alert';
 import { Button } from '@/components/ui/button';
 import { FormProblemAlert } from '@/components/ui/form-problem-alert';
 import { Field, TextInput } from '@/components/ui/field';
 import { useRequestPasswordReset } from '@/features/auth/api';
-import { applyApiError, type FormProblem } from '@/lib/form-errors';
+import { useApiSubmit } from '@/lib/use-api-submit';
 
 export function ForgotPasswordForm() {
   const requestReset = useRequestPasswordReset();
-  const [problem, setProblem] = useState<FormProblem | null>(null);
+  const form = useForm({ resolver: zodResolver(passwordResetRequestSchema), defaultValues: { email: '' } });
   const {
     register,
-    handleSubmit,
-    setError,
     formState: { errors },
-  } = useForm({ resolver: zodResolver(passwordResetRequestSchema), defaultValues: { email: '' } });
+  } = form;
 
-  const onSubmit = handleSubmit(async ({ email }) => {
-    setProblem(null);
-    try {
-      await requestReset.mutateAsync(email);
-    } catch (error) {
-      setProblem(applyApiError(error, setError, ['email']));
-    }
+  const { onSubmit, problem } = useApiSubmit(form, ['email'], async ({ email }) => {
+    await requestReset.mutateAsync(email);
   });
 
   return (

@@ -1,6 +1,5 @@
 import { setPasswordFormSchema } from '@evenhand/entities';
 import { zodResolver } from '@hookform/resolvers/zod';
-import { useState } from 'react';
 import { useForm } from 'react-hook-form';
 import { Link } from 'react-router-dom';
 import { Alert } from '@/components/ui/alert';
@@ -8,26 +7,19 @@ import { Button } from '@/components/ui/button';
 import { FormProblemAlert } from '@/components/ui/form-problem-alert';
 import { Field, TextInput } from '@/components/ui/field';
 import { useConfirmPasswordReset } from '@/features/auth/api';
-import { applyApiError, type FormProblem } from '@/lib/form-errors';
+import { useApiSubmit } from '@/lib/use-api-submit';
 
 /** Used by invitation and password-reset links alike: both carry a single-use token. */
 export function SetPasswordForm({ token }: { token: string }) {
   const confirm = useConfirmPasswordReset();
-  const [problem, setProblem] = useState<FormProblem | null>(null);
+  const form = useForm({ resolver: zodResolver(setPasswordFormSchema), defaultValues: { password: '', repeat: '' } });
   const {
     register,
-    handleSubmit,
-    setError,
     formState: { errors },
-  } = useForm({ resolver: zodResolver(setPasswordFormSchema), defaultValues: { password: '', repeat: '' } });
+  } = form;
 
-  const onSubmit = handleSubmit(async ({ password }) => {
-    setProblem(null);
-    try {
-      await confirm.mutateAsync({ token, password });
-    } catch (error) {
-      setProblem(applyApiError(error, setError, ['password']));
-    }
+  const { onSubmit, problem } = useApiSubmit(form, ['password'], async ({ password }) => {
+    await confirm.mutateAsync({ token, password });
   });
 
   if (confirm.data) {

@@ -1,6 +1,6 @@
 import { loginRequestSchema, type SessionUser, type SignInOptions } from '@evenhand/entities';
 import { zodResolver } from '@hookform/resolvers/zod';
-import { useRef, useState } from 'react';
+import { useRef } from 'react';
 import { useForm } from 'react-hook-form';
 import { Link } from 'react-router-dom';
 import { Button } from '@/components/ui/button';
@@ -10,7 +10,7 @@ import { AuthCard } from '@/features/auth/components/auth-card';
 import { DemoAccounts } from '@/features/auth/components/demo-accounts';
 import { DistrictSignIn, DistrictSignInProblem } from '@/features/auth/components/district-sign-in';
 import { useSignIn } from '@/features/auth/api';
-import { applyApiError, type FormProblem } from '@/lib/form-errors';
+import { useApiSubmit } from '@/lib/use-api-submit';
 
 export function SignInForm({
   onSignedIn,
@@ -28,24 +28,17 @@ export function SignInForm({
 }) {
   const demo = options?.demo ?? null;
   const signIn = useSignIn();
-  const [problem, setProblem] = useState<FormProblem | null>(null);
   const submitRef = useRef<HTMLButtonElement>(null);
+  const form = useForm({ resolver: zodResolver(loginRequestSchema), defaultValues: { email: '', password: '' } });
   const {
     register,
-    handleSubmit,
-    setError,
     setValue,
     formState: { errors },
-  } = useForm({ resolver: zodResolver(loginRequestSchema), defaultValues: { email: '', password: '' } });
+  } = form;
 
-  const onSubmit = handleSubmit(async (credentials) => {
-    setProblem(null);
-    try {
-      const { user } = await signIn.mutateAsync(credentials);
-      onSignedIn(user);
-    } catch (error) {
-      setProblem(applyApiError(error, setError, ['email', 'password']));
-    }
+  const { onSubmit, problem, clearProblem } = useApiSubmit(form, ['email', 'password'], async (credentials) => {
+    const { user } = await signIn.mutateAsync(credentials);
+    onSignedIn(user);
   });
 
   return (
@@ -77,7 +70,7 @@ export function SignInForm({
           onPick={(email, password) => {
             setValue('email', email, { shouldValidate: true });
             setValue('password', password, { shouldValidate: true });
-            setProblem(null);
+            clearProblem();
             submitRef.current?.focus();
           }}
         />

@@ -1,12 +1,12 @@
 import { createComparisonSchema, type CreateComparison, type Measure, type Wave } from '@evenhand/entities';
 import { zodResolver } from '@hookform/resolvers/zod';
-import { useState } from 'react';
 import { Controller, useForm } from 'react-hook-form';
 import { Button } from '@/components/ui/button';
 import { Field, Select, TextInput } from '@/components/ui/field';
 import { FormProblemAlert } from '@/components/ui/form-problem-alert';
-import { applyApiError, emptyToUndefined, type FormProblem } from '@/lib/form-errors';
+import { emptyToUndefined } from '@/lib/form-errors';
 import { ScheduleChoice } from './schedule-choice';
+import { useApiSubmit } from '@/lib/use-api-submit';
 
 interface AddComparisonFormProps {
   measures: Measure[];
@@ -20,14 +20,7 @@ const fields = ['measureId', 'waveId', 'label', 'unitOfAnalysis', 'primaryTest',
 
 /** An analysis the sealed plan did not name. It is marked exploratory everywhere and can only run as a monitoring check. */
 export function AddComparisonForm({ measures, waves, onAdd, onCancel }: AddComparisonFormProps) {
-  const [problem, setProblem] = useState<FormProblem | null>(null);
-  const {
-    register,
-    control,
-    handleSubmit,
-    setError,
-    formState: { errors, isSubmitting },
-  } = useForm({
+  const form = useForm({
     resolver: zodResolver(createComparisonSchema),
     defaultValues: {
       measureId: measures[0]?.id ?? '',
@@ -39,14 +32,14 @@ export function AddComparisonForm({ measures, waves, onAdd, onCancel }: AddCompa
       scheduleCron: null,
     },
   });
+  const {
+    register,
+    control,
+    formState: { errors, isSubmitting },
+  } = form;
 
-  const onSubmit = handleSubmit(async (input) => {
-    setProblem(null);
-    try {
-      await onAdd(input);
-    } catch (error) {
-      setProblem(applyApiError(error, setError, fields));
-    }
+  const { onSubmit, problem } = useApiSubmit(form, fields, async (input) => {
+    await onAdd(input);
   });
 
   return (

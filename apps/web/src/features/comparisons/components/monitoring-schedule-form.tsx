@@ -1,12 +1,11 @@
 import { comparisonScheduleSchema, type Comparison, type ComparisonSchedule } from '@evenhand/entities';
 import { zodResolver } from '@hookform/resolvers/zod';
-import { useState } from 'react';
 import { Controller, useForm } from 'react-hook-form';
 import { Button } from '@/components/ui/button';
 import { Field, TextInput } from '@/components/ui/field';
 import { FormProblemAlert } from '@/components/ui/form-problem-alert';
-import { applyApiError, type FormProblem } from '@/lib/form-errors';
 import { ScheduleChoice } from './schedule-choice';
+import { useApiSubmit } from '@/lib/use-api-submit';
 
 interface MonitoringScheduleFormProps {
   comparison: Comparison;
@@ -16,25 +15,18 @@ interface MonitoringScheduleFormProps {
 
 /** When a comparison's interim checks run by themselves while its wave is open; 'only when someone runs a check' stops them. */
 export function MonitoringScheduleForm({ comparison, onSave, onCancel }: MonitoringScheduleFormProps) {
-  const [problem, setProblem] = useState<FormProblem | null>(null);
-  const {
-    register,
-    control,
-    handleSubmit,
-    setError,
-    formState: { errors, isSubmitting },
-  } = useForm({
+  const form = useForm({
     resolver: zodResolver(comparisonScheduleSchema),
     defaultValues: { scheduleCron: comparison.scheduleCron, scheduleTimezone: comparison.scheduleTimezone },
   });
+  const {
+    register,
+    control,
+    formState: { errors, isSubmitting },
+  } = form;
 
-  const onSubmit = handleSubmit(async (input) => {
-    setProblem(null);
-    try {
-      await onSave(input);
-    } catch (error) {
-      setProblem(applyApiError(error, setError, ['scheduleCron', 'scheduleTimezone']));
-    }
+  const { onSubmit, problem } = useApiSubmit(form, ['scheduleCron', 'scheduleTimezone'], async (input) => {
+    await onSave(input);
   });
 
   return (

@@ -1,11 +1,10 @@
 import { queueRunSchema, type QueueRun, type Run } from '@evenhand/entities';
 import { zodResolver } from '@hookform/resolvers/zod';
-import { useState } from 'react';
 import { useForm } from 'react-hook-form';
 import { Button } from '@/components/ui/button';
 import { Field, TextArea } from '@/components/ui/field';
 import { FormProblemAlert } from '@/components/ui/form-problem-alert';
-import { applyApiError, type FormProblem } from '@/lib/form-errors';
+import { useApiSubmit } from '@/lib/use-api-submit';
 
 interface ReanalysisFormProps {
   kind: Run['kind'];
@@ -15,21 +14,14 @@ interface ReanalysisFormProps {
 
 /** A comparison with a locked result is analysed again only with a recorded reason. */
 export function ReanalysisForm({ kind, onQueue, onCancel }: ReanalysisFormProps) {
-  const [problem, setProblem] = useState<FormProblem | null>(null);
+  const form = useForm({ resolver: zodResolver(queueRunSchema), defaultValues: { kind, reason: '' } });
   const {
     register,
-    handleSubmit,
-    setError,
     formState: { errors, isSubmitting },
-  } = useForm({ resolver: zodResolver(queueRunSchema), defaultValues: { kind, reason: '' } });
+  } = form;
 
-  const onSubmit = handleSubmit(async (input) => {
-    setProblem(null);
-    try {
-      await onQueue(input);
-    } catch (error) {
-      setProblem(applyApiError(error, setError, ['reason']));
-    }
+  const { onSubmit, problem } = useApiSubmit(form, ['reason'], async (input) => {
+    await onQueue(input);
   });
 
   return (

@@ -6,7 +6,7 @@ import { Alert } from '@/components/ui/alert';
 import { Button } from '@/components/ui/button';
 import { Field, Select, TextInput } from '@/components/ui/field';
 import { FormProblemAlert } from '@/components/ui/form-problem-alert';
-import { applyApiError, type FormProblem } from '@/lib/form-errors';
+import { useApiSubmit } from '@/lib/use-api-submit';
 
 interface ScheduleFormProps {
   schedule: DigestSchedule;
@@ -17,29 +17,22 @@ const hours = Array.from({ length: 24 }, (_, h) => h);
 
 /** When the weekly digest goes out while a wave is open, or that it does not. */
 export function ScheduleForm({ schedule, onSave }: ScheduleFormProps) {
-  const [problem, setProblem] = useState<FormProblem | null>(null);
   const [saved, setSaved] = useState(false);
   const checkboxId = useId();
+  const form = useForm({ resolver: zodResolver(digestScheduleSchema), defaultValues: schedule });
   const {
     register,
-    handleSubmit,
-    setError,
     watch,
     formState: { errors, isSubmitting, isDirty },
     reset,
-  } = useForm({ resolver: zodResolver(digestScheduleSchema), defaultValues: schedule });
+  } = form;
   const enabled = watch('weeklyEnabled');
 
-  const onSubmit = handleSubmit(async (input) => {
-    setProblem(null);
+  const { onSubmit, problem } = useApiSubmit(form, Object.keys(digestScheduleSchema.shape), async (input) => {
     setSaved(false);
-    try {
-      await onSave(input);
-      reset(input);
-      setSaved(true);
-    } catch (error) {
-      setProblem(applyApiError(error, setError, Object.keys(digestScheduleSchema.shape)));
-    }
+    await onSave(input);
+    reset(input);
+    setSaved(true);
   });
 
   return (

@@ -8,9 +8,9 @@ import { Field, Select, TextArea } from '@/components/ui/field';
 import { FigureTable } from '@/components/ui/figure-table';
 import { FormProblemAlert } from '@/components/ui/form-problem-alert';
 import { formatDateTime } from '@/lib/format';
-import { applyApiError, type FormProblem } from '@/lib/form-errors';
 import { plainMessages } from '@/lib/form-messages';
 import { armLabels } from '@/lib/study';
+import { useApiSubmit } from '@/lib/use-api-submit';
 
 interface ReassignFormProps {
   classrooms: Classroom[];
@@ -18,33 +18,26 @@ interface ReassignFormProps {
 }
 
 export function ReassignForm({ classrooms, onReassign }: ReassignFormProps) {
-  const [problem, setProblem] = useState<FormProblem | null>(null);
   const [done, setDone] = useState<string | null>(null);
+  const form = useForm({
+    resolver: zodResolver(reassignmentSchema, plainMessages),
+    defaultValues: { classroomId: '', arm: 'comparison' as const, reason: '' },
+  });
   const {
     register,
-    handleSubmit,
-    setError,
     setValue,
     reset,
     watch,
     formState: { errors, isSubmitting },
-  } = useForm({
-    resolver: zodResolver(reassignmentSchema, plainMessages),
-    defaultValues: { classroomId: '', arm: 'comparison' as const, reason: '' },
-  });
+  } = form;
   const chosen = classrooms.find((c) => c.id === watch('classroomId'));
 
-  const onSubmit = handleSubmit(async (input) => {
-    setProblem(null);
+  const { onSubmit, problem } = useApiSubmit(form, ['classroomId', 'arm', 'reason'], async (input) => {
     setDone(null);
-    try {
-      await onReassign(input);
-      const name = classrooms.find((c) => c.id === input.classroomId)?.name ?? 'The classroom';
-      reset();
-      setDone(`${name} is now in the ${input.arm} arm. The study is marked quasi-experimental.`);
-    } catch (error) {
-      setProblem(applyApiError(error, setError, ['classroomId', 'arm', 'reason']));
-    }
+    await onReassign(input);
+    const name = classrooms.find((c) => c.id === input.classroomId)?.name ?? 'The classroom';
+    reset();
+    setDone(`${name} is now in the ${input.arm} arm. The study is marked quasi-experimental.`);
   });
 
   return (

@@ -9,7 +9,7 @@ import { Dialog } from '@/components/ui/dialog';
 import { Field } from '@/components/ui/field';
 import { FormProblemAlert } from '@/components/ui/form-problem-alert';
 import { useMoveSheet } from '@/features/score-sheets/api';
-import { applyApiError, type FormProblem } from '@/lib/form-errors';
+import { useApiSubmit } from '@/lib/use-api-submit';
 
 /** The coordinator's verdict on a sheet: accept a submitted one, or return it with reasons. */
 export function ReviewActions({ sheet }: { sheet: ScoreSheet }) {
@@ -99,21 +99,14 @@ export function ReviewActions({ sheet }: { sheet: ScoreSheet }) {
 type ReturnSheet = z.infer<typeof returnSheetSchema>;
 
 function ReturnForm({ onReturn, onCancel }: { onReturn: (input: ReturnSheet) => Promise<void>; onCancel: () => void }) {
-  const [problem, setProblem] = useState<FormProblem | null>(null);
+  const form = useForm({ resolver: zodResolver(returnSheetSchema), defaultValues: { reasons: '' } });
   const {
     register,
-    handleSubmit,
-    setError,
     formState: { errors, isSubmitting },
-  } = useForm({ resolver: zodResolver(returnSheetSchema), defaultValues: { reasons: '' } });
+  } = form;
 
-  const onSubmit = handleSubmit(async (input) => {
-    setProblem(null);
-    try {
-      await onReturn(input);
-    } catch (error) {
-      setProblem(applyApiError(error, setError, ['reasons']));
-    }
+  const { onSubmit, problem } = useApiSubmit(form, ['reasons'], async (input) => {
+    await onReturn(input);
   });
 
   return (

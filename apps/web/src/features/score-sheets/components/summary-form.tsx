@@ -7,8 +7,8 @@ import { Button } from '@/components/ui/button';
 import { Field, TextInput } from '@/components/ui/field';
 import { FormProblemAlert } from '@/components/ui/form-problem-alert';
 import { useSaveSummary } from '@/features/score-sheets/api';
-import { applyApiError, type FormProblem } from '@/lib/form-errors';
 import { formatDateTime } from '@/lib/format';
+import { useApiSubmit } from '@/lib/use-api-submit';
 
 const asNumber = (v: unknown) => (v === '' || v === null || v === undefined ? undefined : Number(String(v).replace(',', '.')));
 
@@ -17,7 +17,6 @@ const asNumber = (v: unknown) => (v === '' || v === null || v === undefined ? un
  * summary schema checks it, plus the measure's range for the mean, as the server does.
  */
 export function SummaryForm({ sheet }: { sheet: ScoreSheetDetail }) {
-  const [problem, setProblem] = useState<FormProblem | null>(null);
   const [savedAt, setSavedAt] = useState<string | null>(null);
   const save = useSaveSummary(sheet.id);
   // The shared schema, with the measure's range on the mean, so it is checked even while other fields are empty.
@@ -26,24 +25,18 @@ export function SummaryForm({ sheet }: { sheet: ScoreSheetDetail }) {
     const mean = sheetSummarySchema.shape.mean.min(sheet.minScore, message).max(sheet.maxScore, message);
     return saveSummarySchema.extend({ summary: sheetSummarySchema.extend({ mean }) });
   }, [sheet.minScore, sheet.maxScore]);
-  const {
-    register,
-    handleSubmit,
-    setError,
-    formState: { errors, isSubmitting },
-  } = useForm({
+  const form = useForm({
     resolver: zodResolver(schema, { error: (issue) => (issue.code === 'invalid_type' ? 'Enter a number' : undefined) }),
     defaultValues: sheet.summary ? { summary: sheet.summary } : undefined,
   });
+  const {
+    register,
+    formState: { errors, isSubmitting },
+  } = form;
 
-  const onSubmit = handleSubmit(async (input) => {
-    setProblem(null);
-    try {
-      const saved = await save.mutateAsync(input.summary);
-      setSavedAt(saved.updatedAt);
-    } catch (error) {
-      setProblem(applyApiError(error, setError, ['summary']));
-    }
+  const { onSubmit, problem } = useApiSubmit(form, ['summary'], async (input) => {
+    const saved = await save.mutateAsync(input.summary);
+    setSavedAt(saved.updatedAt);
   });
 
   const rowsWillGo = sheet.mode === 'rows' && sheet.counts.rows > 0;

@@ -5,8 +5,8 @@ import { useForm, type FieldErrors, type UseFormRegister } from 'react-hook-form
 import { Button } from '@/components/ui/button';
 import { Field, Select, TextInput } from '@/components/ui/field';
 import { FormProblemAlert } from '@/components/ui/form-problem-alert';
-import { applyApiError, type FormProblem } from '@/lib/form-errors';
 import { plainMessages } from '@/lib/form-messages';
+import { useApiSubmit } from '@/lib/use-api-submit';
 
 const classroomFields = ['siteId', 'cohortId', 'name', 'grade', 'expectedSize', 'teacher'];
 // An edit sends only what changed, but every field on screen is checked as the API checks a new classroom.
@@ -88,13 +88,7 @@ interface AddClassroomFormProps {
 }
 
 export function AddClassroomForm({ sites, cohorts, onAdd, onCancel }: AddClassroomFormProps) {
-  const [problem, setProblem] = useState<FormProblem | null>(null);
-  const {
-    register,
-    handleSubmit,
-    setError,
-    formState: { errors, isSubmitting },
-  } = useForm<CreateClassroom>({
+  const form = useForm<CreateClassroom>({
     resolver: zodResolver(createClassroomSchema, plainMessages),
     defaultValues: {
       siteId: sites.length === 1 ? sites[0].id : '',
@@ -104,14 +98,13 @@ export function AddClassroomForm({ sites, cohorts, onAdd, onCancel }: AddClassro
       teacher: { email: '', name: '' },
     },
   });
+  const {
+    register,
+    formState: { errors, isSubmitting },
+  } = form;
 
-  const onSubmit = handleSubmit(async (input) => {
-    setProblem(null);
-    try {
-      await onAdd(input);
-    } catch (error) {
-      setProblem(applyApiError(error, setError, classroomFields));
-    }
+  const { onSubmit, problem } = useApiSubmit(form, classroomFields, async (input) => {
+    await onAdd(input);
   });
 
   return (
@@ -138,7 +131,6 @@ interface EditClassroomFormProps {
 }
 
 export function EditClassroomForm({ classroom, cohorts, onSave, onCancel }: EditClassroomFormProps) {
-  const [problem, setProblem] = useState<FormProblem | null>(null);
   const initial = {
     cohortId: classroom.cohortId,
     name: classroom.name,
@@ -146,15 +138,13 @@ export function EditClassroomForm({ classroom, cohorts, onSave, onCancel }: Edit
     expectedSize: classroom.expectedSize,
     teacher: { email: classroom.teacher.email, name: classroom.teacher.name },
   };
+  const form = useForm({ resolver: zodResolver(editSchema, plainMessages), defaultValues: initial });
   const {
     register,
-    handleSubmit,
-    setError,
     formState: { errors, isSubmitting },
-  } = useForm({ resolver: zodResolver(editSchema, plainMessages), defaultValues: initial });
+  } = form;
 
-  const onSubmit = handleSubmit(async (values) => {
-    setProblem(null);
+  const { onSubmit, problem } = useApiSubmit(form, classroomFields, async (values) => {
     const changes: UpdateClassroom = {};
     if (values.cohortId !== initial.cohortId) changes.cohortId = values.cohortId;
     if (values.name !== initial.name) changes.name = values.name;
@@ -165,11 +155,7 @@ export function EditClassroomForm({ classroom, cohorts, onSave, onCancel }: Edit
       onCancel();
       return;
     }
-    try {
-      await onSave(changes);
-    } catch (error) {
-      setProblem(applyApiError(error, setError, classroomFields));
-    }
+    await onSave(changes);
   });
 
   return (
@@ -197,26 +183,19 @@ export function EditClassroomForm({ classroom, cohorts, onSave, onCancel }: Edit
 }
 
 export function AddCohortForm({ onAdd }: { onAdd: (name: string) => Promise<unknown> }) {
-  const [problem, setProblem] = useState<FormProblem | null>(null);
   const [added, setAdded] = useState<string | null>(null);
+  const form = useForm({ resolver: zodResolver(createCohortSchema, plainMessages), defaultValues: { name: '' } });
   const {
     register,
-    handleSubmit,
-    setError,
     reset,
     formState: { errors, isSubmitting },
-  } = useForm({ resolver: zodResolver(createCohortSchema, plainMessages), defaultValues: { name: '' } });
+  } = form;
 
-  const onSubmit = handleSubmit(async ({ name }) => {
-    setProblem(null);
+  const { onSubmit, problem } = useApiSubmit(form, ['name'], async ({ name }) => {
     setAdded(null);
-    try {
-      await onAdd(name);
-      reset();
-      setAdded(`Cohort ${name} is added.`);
-    } catch (error) {
-      setProblem(applyApiError(error, setError, ['name']));
-    }
+    await onAdd(name);
+    reset();
+    setAdded(`Cohort ${name} is added.`);
   });
 
   return (
