@@ -53,6 +53,7 @@ export function principalView(run: Run, ownSiteIds: readonly string[]): Principa
           yesNo: {
             yesIsGood: r.yesNo.yesIsGood,
             arms: r.yesNo.arms.map((a, i) => ({ arm: a.arm, yes: shown ? answers[i].cells[0] : hiddenCount, no: shown ? answers[i].cells[1] : hiddenCount, proportion: shown ? a.proportion : null })),
+            coxIndex: shown && r.yesNo.coxIndex ? { value: r.yesNo.coxIndex.value, improvementIndex: r.yesNo.coxIndex.improvementIndex } : null,
           },
         }
       : {}),

@@ -347,6 +347,12 @@ describe('a principal’s view of a yes/no run', () => {
     const view = principalView(run, ['s']);
     const r = view.results!;
     expect(r.yesNo!.arms.every((a) => a.yes.suppressed && a.no.suppressed && a.proportion === null)).toBe(true);
+    expect(r.yesNo!.coxIndex).toBeNull();
+    // Every count shown: the counts, shares and Cox index are the run's.
+    const open = yesNoAnalysis([classroom('a', 'intervention', 16, 40), classroom('b', 'comparison', 15, 42)], { alpha: 0.05, alternative: 'two-sided', yesIsGood: true, measureKind: 'achievement', unitOfAssignment: 'student' }).yesNo;
+    const visible = principalView({ ...run, results: { ...run.results, yesNo: open } } as typeof run, ['s']).results!.yesNo!;
+    expect(visible.arms.map((a) => [a.yes.value, a.no.value, a.proportion])).toEqual([[16, 24, 16 / 40], [15, 27, 15 / 42]]);
+    expect(visible.coxIndex).toEqual({ value: open.coxIndex!.value, improvementIndex: open.coxIndex!.improvementIndex });
     expect(r.arms.every((a) => a.mean === null)).toBe(true);
     expect(r.deciding).toMatchObject({ estimate: null, ci: null, p: null });
     expect(r.sites).toEqual([]);

@@ -229,7 +229,12 @@ export const principalRunResultsSchema = z.object({
   sites: z.array(z.object({ siteId: idSchema, siteName: z.string(), n1: z.number().int(), n2: z.number().int(), mean1: z.number(), mean2: z.number(), g: z.number(), ci: z.tuple([z.number(), z.number()]) })),
   /** A yes/no measure's answers per arm: each count suppressed as the students are, the proportion only when every count shows. */
   yesNo: z
-    .object({ yesIsGood: z.boolean(), arms: z.array(z.object({ arm: armSchema, yes: reportedCountSchema, no: reportedCountSchema, proportion: z.number().nullable() })) })
+    .object({
+      yesIsGood: z.boolean(),
+      arms: z.array(z.object({ arm: armSchema, yes: reportedCountSchema, no: reportedCountSchema, proportion: z.number().nullable() })),
+      /** The Cox index and its improvement index: null while a count is hidden, or when an arm answered all yes or all no. */
+      coxIndex: z.object({ value: z.number(), improvementIndex: z.number() }).nullable().optional(),
+    })
     .nullable()
     .optional(),
   /** Whether anything was withheld because a cell had fewer than MIN_REPORTED_STUDENTS students. */
