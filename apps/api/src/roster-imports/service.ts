@@ -77,36 +77,37 @@ async function describe(manager: EntityManager, studyId: string, drawCommitted: 
        SELECT DISTINCT ON (e.class) e.class, u.email, u.name, u.line
          FROM roster_enrolments e JOIN roster_users u ON u.key = e.user_key AND u.role = 'teacher'
         WHERE e.role = 'teacher' ORDER BY e.class, e.is_primary DESC, e.line),
-     counts AS (SELECT class, count(*)::int AS students FROM roster_members_all GROUP BY class),
-     joining AS (
-       SELECT m.class, count(*)::int AS n FROM roster_members_all m LEFT JOIN roster_current x ON x.class = m.class AND x.link_hash = m.user_link
-        WHERE x.class IS NULL GROUP BY m.class),
+     counts AS (
+       SELECT m.class, count(*)::int AS students, count(*) FILTER (WHERE x.class IS NULL)::int AS joining
+         FROM roster_members_all m LEFT JOIN roster_current x ON x.class = m.class AND x.link_hash = m.user_link GROUP BY m.class),
      leaving AS (
        SELECT x.class, count(*)::int AS n FROM roster_current x LEFT JOIN roster_members_all m ON m.class = x.class AND m.user_link = x.link_hash
         WHERE m.class IS NULL GROUP BY x.class)
      SELECT c.school, c.sourced_id, c.title, c.grade, c.line, t.email AS teacher_email, t.name AS teacher_name, t.line AS teacher_line,
             coalesce(n.students, 0) AS students, cr.id AS classroom_id,
-            CASE WHEN cr.id IS NULL THEN 0 ELSE coalesce(j.n, 0) END AS joined, coalesce(l.n, 0) AS left
+            CASE WHEN cr.id IS NULL THEN 0 ELSE coalesce(n.joining, 0) END AS joined, coalesce(l.n, 0) AS left
        FROM roster_classes c
        LEFT JOIN teachers t ON t.class = c.sourced_id
        LEFT JOIN counts n ON n.class = c.sourced_id
-       LEFT JOIN joining j ON j.class = c.sourced_id
        LEFT JOIN leaving l ON l.class = c.sourced_id
        LEFT JOIN classrooms cr ON cr.study_id = $1 AND cr.roster_sourced_id = c.sourced_id
       ORDER BY c.title, c.sourced_id`,
     [studyId],
   );
+  // A school's administrator: the first listed of those whose orgSourcedIds name it.
   const schools: SchoolRow[] = await manager.query(
-    `SELECT o.sourced_id, o.name, coalesce(o.identifier, '') AS identifier, s.id AS site_id,
+    `WITH administrators AS (
+       SELECT DISTINCT ON (org) org, u.email, u.name, u.line
+         FROM roster_users u CROSS JOIN LATERAL unnest(string_to_array(replace(u.orgs, ' ', ''), ',')) AS org
+        WHERE u.role = 'administrator' AND u.email IS NOT NULL ORDER BY org, u.line)
+     SELECT o.sourced_id, o.name, coalesce(o.identifier, '') AS identifier, s.id AS site_id,
             (ss.site_id IS NOT NULL) AS enrolled, a.email AS admin_email, a.name AS admin_name, a.line AS admin_line, p.email AS principal_email, p.name AS principal_name
        FROM roster_orgs o
        LEFT JOIN LATERAL (SELECT s.* FROM sites s WHERE s.roster_sourced_id = o.sourced_id OR (o.identifier <> '' AND upper(s.code) = upper(o.identifier))
                            ORDER BY (s.roster_sourced_id = o.sourced_id) DESC NULLS LAST LIMIT 1) s ON true
        LEFT JOIN study_sites ss ON ss.study_id = $1 AND ss.site_id = s.id
        LEFT JOIN users p ON p.id = s.principal_id
-       LEFT JOIN LATERAL (SELECT u.email, u.name, u.line FROM roster_users u
-                           WHERE u.role = 'administrator' AND u.email IS NOT NULL AND o.sourced_id = ANY(string_to_array(replace(u.orgs, ' ', ''), ','))
-                           ORDER BY u.line LIMIT 1) a ON true
+       LEFT JOIN administrators a ON a.org = o.sourced_id
       WHERE o.type = 'school' AND EXISTS (SELECT 1 FROM roster_classes c WHERE c.school = o.sourced_id)
       ORDER BY o.name`,
     [studyId],
@@ -209,10 +210,10 @@ export async function commitRoster(deps: Deps, actor: SessionUser, studyId: stri
     await manager.query(`CREATE TEMP TABLE roster_chosen (sourced_id text PRIMARY KEY, classroom_id uuid) ON COMMIT DROP`);
     await manager.query(`INSERT INTO roster_chosen (sourced_id) SELECT unnest($1::text[])`, [selection.classes]);
     const twice: { line: number; first: number }[] = await manager.query(
-      `SELECT line, first FROM (
-         SELECT e.line, min(e.line) OVER (PARTITION BY e.user_key) AS first
-           FROM roster_enrolments e JOIN roster_chosen k ON k.sourced_id = e.class JOIN roster_users u ON u.key = e.user_key AND u.role = 'student'
-          WHERE e.role = 'student') d
+      `WITH chosen AS (
+         SELECT e.line, e.user_key FROM roster_enrolments e JOIN roster_chosen k ON k.sourced_id = e.class JOIN roster_users u ON u.key = e.user_key AND u.role = 'student'
+          WHERE e.role = 'student')
+       SELECT line, first FROM chosen JOIN (SELECT user_key, min(line) AS first FROM chosen GROUP BY 1 HAVING count(*) > 1) d USING (user_key)
         WHERE line <> first ORDER BY line LIMIT 500`,
     );
     if (twice.length) {
