@@ -31,7 +31,7 @@ export function formatDay(isoDate: string): string {
   return dateWords.format(new Date(`${isoDate}T00:00:00Z`));
 }
 
-/** A count as a principal may read it: the number, or "fewer than 10 students" when it is hidden. */
+/** A count as a principal may read it: the number, or SUPPRESSED_WORDS when it is hidden. */
 export function countWords(count: ReportedCount, noun: [string, string] = ['student', 'students']): string {
   if (count.suppressed || count.value === null) return SUPPRESSED_WORDS;
   return `${count.value.toLocaleString('en-US')} ${count.value === 1 ? noun[0] : noun[1]}`;

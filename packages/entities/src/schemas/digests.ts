@@ -5,7 +5,7 @@ import { armSchema, studyStatusSchema, unitOfAssignmentSchema, waveKindSchema } 
 
 /** Figures based on fewer students than this are never shown to principals (NCES 2011-603: 10 is the most common minimum). */
 export const MIN_REPORTED_STUDENTS = 10;
-export const SUPPRESSED_WORDS = 'fewer than 10 students';
+export const SUPPRESSED_WORDS = `fewer than ${MIN_REPORTED_STUDENTS} students`;
 
 export const digestStates = ['queued', 'sent', 'retrying', 'undeliverable'] as const;
 export const digestStateSchema = z.enum(digestStates);

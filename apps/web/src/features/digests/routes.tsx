@@ -1,4 +1,4 @@
-import { digestFrequencySchema, digestsQuerySchema, type Digest, type DigestsQuery } from '@evenhand/entities';
+import { digestFrequencySchema, digestsQuerySchema, SUPPRESSED_WORDS, type Digest, type DigestsQuery } from '@evenhand/entities';
 import { useQuery, useSuspenseQuery, type QueryClient } from '@tanstack/react-query';
 import { useId, useState } from 'react';
 import { useSearchParams, type LoaderFunctionArgs, type ShouldRevalidateFunction } from 'react-router-dom';
@@ -95,7 +95,7 @@ export function DigestsPage() {
       <div className="flex flex-wrap items-start justify-between gap-6">
         <p className="max-w-prose text-ink-muted">
           Digests are the e-mails principals receive about their own school: participation, how complete the scores are, what is late, and
-          once a result is locked, that result in plain language. Figures based on fewer than 10 students are never shown.
+          once a result is locked, that result in plain language. Figures based on {SUPPRESSED_WORDS} are never shown.
         </p>
         <SendNow schools={study.counts.sites} onSend={() => send.mutateAsync()} />
       </div>
