@@ -6,6 +6,7 @@ import express from 'express';
 import helmet from 'helmet';
 import { auditRouter } from './audit/router.js';
 import { checksRouter } from './checks/router.js';
+import { evidenceRouter } from './evidence/router.js';
 import { classroomsRouter } from './classrooms/router.js';
 import { rosterImportsRouter } from './roster-imports/router.js';
 import { digestsRouter } from './digests/router.js';
@@ -55,6 +56,7 @@ export function createApp(deps: Deps) {
     scoreSheetsRouter(deps, registry),
     runsRouter(deps, registry),
     checksRouter(deps, registry),
+    evidenceRouter(deps, registry),
     digestsRouter(deps, registry),
     auditRouter(deps, registry),
     homeRouter(deps, registry),

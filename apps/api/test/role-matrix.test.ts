@@ -65,6 +65,7 @@ const expectedAccess: Record<string, 'anyone' | 'signed-in' | Role[]> = {
   'GET /api/studies/{id}/completion': ['coordinator', 'research_lead'],
   'POST /api/studies/{id}/reminders': ['coordinator'],
   'GET /api/studies/{id}/checks': ['research_lead', 'reviewer'],
+  'GET /api/studies/{id}/evidence': ['coordinator', 'research_lead', 'reviewer'],
   'GET /api/studies/{id}/comparisons': ['research_lead', 'reviewer'],
   'POST /api/studies/{id}/comparisons': ['research_lead'],
   'POST /api/comparisons/{id}/runs': ['research_lead'],

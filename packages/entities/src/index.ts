@@ -14,6 +14,7 @@ export * from './schemas/score-sheets.js';
 export * from './schemas/accounting.js';
 export * from './schemas/runs.js';
 export * from './schemas/checks.js';
+export * from './schemas/evidence.js';
 export * from './schemas/digests.js';
 export * from './schemas/home.js';
 export * from './schemas/roster-imports.js';

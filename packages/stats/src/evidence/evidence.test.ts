@@ -277,6 +277,7 @@ describe('three invented studies, worked by hand', () => {
     expect(v.rating).toBe('does-not-meet');
     expect(v.tier).toBe('none');
     expect(v.wording).toContain('would not meet the evidence standards');
+    expect(v.wording).toContain('It would not reach any of the evidence tiers of federal education law.');
   });
 });
 

@@ -42,7 +42,11 @@ export const PREVIEW_CAUTION = 'This is a preview, not a review: the evidence re
 
 /** One sentence every screen, e-mail and export uses for a verdict. */
 export function verdictWording(v: Pick<Verdict, 'rating' | 'tier' | 'settled'>): string {
-  const tier = v.settled ? `It would count as ${tierWords[v.tier]} under federal education law.` : 'Its evidence tier cannot be told yet.';
+  const tier = !v.settled
+    ? 'Its evidence tier cannot be told yet.'
+    : v.tier === 'none'
+      ? 'It would not reach any of the evidence tiers of federal education law.'
+      : `It would count as ${tierWords[v.tier]} under federal education law.`;
   return `This comparison ${ratingWords[v.rating]}. ${tier} ${PREVIEW_CAUTION}`;
 }
 
