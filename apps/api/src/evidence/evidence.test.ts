@@ -100,6 +100,9 @@ describe('GET /studies/:id/evidence', () => {
     expect(reason(e, 'large-sample').passed).toBe(false);
     expect(['promising', 'none']).toContain(e.comparisons[0].verdict.tier);
     expect(e.comparisons[0].verdict.tier).toBe(d.significant && d.estimate > 0 ? 'promising' : 'none');
+    // The bundle carries the same verdict with every reason.
+    const bundle = (await s.lead.agent.get(`/api/runs/${run.id}/bundle`)).body;
+    expect(bundle.evidence).toEqual({ boundary: 'cautious', ...e.comparisons[0].verdict });
   });
 
   it('when the boundary is not one of the two, then 400 in the one error shape; a principal is refused', async () => {

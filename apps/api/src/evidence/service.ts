@@ -3,7 +3,7 @@ import { evidenceVerdict, ratingRisks, type ArmCounts, type ArmPair, type Attrit
 import { decidingTest, type Accounting, type Arm, type RunResults, type SessionUser, type StudyEvidence } from '@evenhand/entities';
 import { accountingOf, studyChecks } from '../checks/service.js';
 import { needsPretest } from '../runs/accounting.js';
-import { listComparisons } from '../runs/service.js';
+import { listComparisons } from '../runs/comparisons.js';
 import { findVisibleStudy } from '../studies/access.js';
 import { analysedPerClassroomSql, confirmatoryComparisonsSql, deliverersSql, joinersSql, reassignmentCountSql } from './queries.js';
 
@@ -114,4 +114,16 @@ export async function studyEvidence(db: DataSource, user: SessionUser, studyId: 
     });
   }
   return { studyId, boundary, comparisons };
+}
+
+/**
+ * The verdict a run's bundle carries: its comparison's, when the verdict reads this run (the locked one, else the newest
+ * finished), judged against the cautious boundary; null otherwise (an exploratory comparison, or an older run).
+ */
+export async function runEvidence(db: DataSource, user: SessionUser, runId: string) {
+  const [run]: { study_id: string }[] = await db.query(`SELECT study_id FROM runs WHERE id = $1`, [runId]);
+  if (!run) return null;
+  const answer = await studyEvidence(db, user, run.study_id, 'cautious');
+  const mine = answer.comparisons.find((c) => c.runId === runId);
+  return mine ? { boundary: answer.boundary, ...mine.verdict } : null;
 }

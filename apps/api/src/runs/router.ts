@@ -2,9 +2,11 @@ import type { OpenAPIRegistry } from '@asteasolutions/zod-to-openapi';
 import { z } from 'zod';
 import { comparisonScheduleSchema, comparisonSchema, createComparisonSchema, idParamsSchema, pageOf, principalRunSchema, queueRunSchema, runSchema, studyParamsSchema } from '@evenhand/entities';
 import type { Deps } from '../deps.js';
+import { runEvidence } from '../evidence/service.js';
 import { ResourceRouter } from '../http/route.js';
 import { lockedRunAnswer, sendAnswer } from './locked-answers.js';
-import { createComparison, getRun, listComparisons, lockRun, queueRun, runBundle, setSchedule } from './service.js';
+import { createComparison, listComparisons, setSchedule } from './comparisons.js';
+import { getRun, lockRun, queueRun, runBundle } from './service.js';
 
 export function runsRouter(deps: Deps, registry: OpenAPIRegistry) {
   const r = new ResourceRouter(registry);
@@ -108,8 +110,10 @@ export function runsRouter(deps: Deps, registry: OpenAPIRegistry) {
     },
     async ({ user, params, res }) => {
       const bundle = await runBundle(deps.db, user!, params.id);
+      // The evidence verdict with every reason, as the report shows it (a preview: the evidence reviewers decide).
+      const evidence = await runEvidence(deps.db, user!, params.id);
       res.setHeader('content-disposition', `attachment; filename="evenhand-run-${params.id}.json"`);
-      return { body: bundle };
+      return { body: { ...bundle, evidence } };
     },
   );
 
