@@ -13,7 +13,8 @@ import { join } from 'node:path';
 import pgCopy from 'pg-copy-streams';
 import { pipeline } from 'node:stream/promises';
 import { createWriteStream } from 'node:fs';
-import { executeRun, listComparisons } from '../src/runs/service.js';
+import { listComparisons } from '../src/runs/comparisons.js';
+import { executeRun } from '../src/runs/service.js';
 import { storeSheetDigests } from '../src/score-sheets/digest.js';
 import { median, openBench, time } from './setup.js';
 

@@ -5,7 +5,8 @@ import type { Deps } from '../deps.js';
 import { runEvidence } from '../evidence/service.js';
 import { ResourceRouter } from '../http/route.js';
 import { lockedRunAnswer, sendAnswer } from './locked-answers.js';
-import { createComparison, getRun, listComparisons, lockRun, queueRun, runBundle, setSchedule } from './service.js';
+import { createComparison, listComparisons, setSchedule } from './comparisons.js';
+import { getRun, lockRun, queueRun, runBundle } from './service.js';
 
 export function runsRouter(deps: Deps, registry: OpenAPIRegistry) {
   const r = new ResourceRouter(registry);

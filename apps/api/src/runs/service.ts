@@ -1,6 +1,6 @@
 import type { DataSource, EntityManager } from 'typeorm';
 import { benjaminiHochberg } from '@evenhand/stats';
-import { decidingTest, smallCellViewerRoles, type Comparison, type ComparisonSchedule, type CreateComparison, type PlanContent, type PrincipalRun, type QueueRun, type Run, type RunResults, type SessionUser } from '@evenhand/entities';
+import { decidingTest, smallCellViewerRoles, type PlanContent, type PrincipalRun, type QueueRun, type Run, type RunResults, type SessionUser } from '@evenhand/entities';
 import { recordAudit } from '../audit/service.js';
 import { changeFeed } from '../db/change-feed.js';
 import type { Deps } from '../deps.js';
@@ -14,201 +14,10 @@ import { accountFor, needsPretest } from './accounting.js';
 import { AnalysisError, analyse } from './engine.js';
 import { bundleRowsSql, canonicalSummariesSql, gather, sheetStatesFor } from './gather.js';
 import { principalView } from './principal-view.js';
-import { checkSchedule, nextSlot, windowOf } from './schedule.js';
+import { comparisonSelect, multiplicityRunsSql, toRun, type ComparisonRow, type RunRow } from './queries.js';
 
-interface ComparisonRow {
-  id: string;
-  study_id: string;
-  measure_id: string;
-  measure_name: string;
-  measure_kind: 'achievement' | 'behaviour';
-  higher_is_better: boolean;
-  measure_scale: 'score' | 'yes-no';
-  wave_id: string;
-  wave_name: string;
-  label: string;
-  unit_of_analysis: Comparison['unitOfAnalysis'];
-  primary_test: Comparison['primaryTest'];
-  covariate: Comparison['covariate'];
-  prespecified: boolean;
-  is_primary: boolean;
-  schedule_cron: string | null;
-  schedule_timezone: string;
-  schedule_set_at: Date | null;
-  opens_on: string;
-  closes_on: string;
-}
-
-interface RunRow {
-  id: string;
-  comparison_id: string;
-  study_id: string;
-  kind: Run['kind'];
-  state: Run['state'];
-  reason: string | null;
-  plan_version: number | null;
-  engine_version: string | null;
-  data_sha256: string | null;
-  input_sheet_ids: string[];
-  /** The arm of each classroom the run read (classroom id → arm), stored when it finished. */
-  classroom_arms: Record<string, string> | null;
-  results: RunResults | null;
-  error: string | null;
-  queued_at: Date;
-  finished_at: Date | null;
-  locked_at: Date | null;
-  scheduled_for: Date | null;
-  started_at: Date | null;
-}
-
-const comparisonSelect = `
-  SELECT k.*, m.name AS measure_name, m.kind AS measure_kind, m.scale AS measure_scale, m.higher_is_better, w.name AS wave_name,
-         w.opens_on::text AS opens_on, w.closes_on::text AS closes_on
-    FROM comparisons k JOIN measures m ON m.id = k.measure_id JOIN waves w ON w.id = k.wave_id`;
-
-function toRun(r: RunRow, multiplicity: Run['multiplicity'] = null): Run {
-  return {
-    id: r.id,
-    comparisonId: r.comparison_id,
-    studyId: r.study_id,
-    kind: r.kind,
-    state: r.state,
-    reason: r.reason,
-    planVersion: r.plan_version,
-    engineVersion: r.engine_version,
-    dataSha256: r.data_sha256,
-    results: r.results,
-    error: r.error,
-    queuedAt: new Date(r.queued_at).toISOString(),
-    finishedAt: r.finished_at ? new Date(r.finished_at).toISOString() : null,
-    lockedAt: r.locked_at ? new Date(r.locked_at).toISOString() : null,
-    scheduledFor: r.scheduled_for ? new Date(r.scheduled_for).toISOString() : null,
-    multiplicity,
-  };
-}
-
-/** The sealed plan's comparisons: one per measure at the plan's primary wave, the primary measure first. */
-async function ensurePrespecified(manager: EntityManager, studyId: string): Promise<void> {
-  const plan = await currentPlan(manager, studyId);
-  if (!plan) return;
-  const p = plan.content;
-  await manager.query(
-    `INSERT INTO comparisons (study_id, measure_id, wave_id, label, unit_of_analysis, primary_test, covariate, prespecified, is_primary, created_by)
-     SELECT $1, m.id, $2, m.name || ' at ' || w.name, $3, $4, $5, true, m.id = $6, $7
-       FROM measures m JOIN waves w ON w.id = $2 WHERE m.study_id = $1
-     ON CONFLICT (study_id, measure_id, wave_id) WHERE prespecified DO NOTHING`,
-    [studyId, p.primaryWaveId, p.unitOfAnalysis, p.primaryTest, p.covariate, p.primaryMeasureId, plan.createdBy],
-  );
-}
-
-export async function listComparisons(db: DataSource, user: SessionUser, studyId: string): Promise<{ items: Comparison[]; total: number }> {
-  await findVisibleStudy(db.manager, user, studyId);
-  await ensurePrespecified(db.manager, studyId);
-  const rows: ComparisonRow[] = await db.query(`${comparisonSelect} WHERE k.study_id = $1 ORDER BY k.prespecified DESC, k.is_primary DESC, k.created_at`, [studyId]);
-  const runs: RunRow[] = await db.query(
-    `SELECT DISTINCT ON (comparison_id) id, comparison_id, study_id, kind, state, reason, plan_version, engine_version, data_sha256,
-            input_sheet_ids, NULL AS results, error, queued_at, finished_at, locked_at, scheduled_for
-       FROM runs WHERE study_id = $1 ORDER BY comparison_id, queued_at DESC`,
-    [studyId],
-  );
-  const locked: { comparison_id: string; id: string }[] = await db.query(`SELECT comparison_id, id FROM runs WHERE study_id = $1 AND state = 'locked'`, [studyId]);
-  const finished: { comparison_id: string; id: string }[] = await db.query(
-    `SELECT DISTINCT ON (comparison_id) comparison_id, id FROM runs WHERE study_id = $1 AND state IN ('finished', 'locked') ORDER BY comparison_id, queued_at DESC`,
-    [studyId],
-  );
-  const [study]: { status: string }[] = await db.query(`SELECT status FROM studies WHERE id = $1`, [studyId]);
-  const now = new Date();
-  return {
-    items: rows.map((k) => {
-      const latest = runs.find((r) => r.comparison_id === k.id);
-      const { results: _omit, ...latestRun } = latest ? toRun(latest) : { results: null };
-      const lockedRunId = locked.find((l) => l.comparison_id === k.id)?.id ?? null;
-      return {
-        id: k.id,
-        studyId: k.study_id,
-        measureId: k.measure_id,
-        measureName: k.measure_name,
-        waveId: k.wave_id,
-        waveName: k.wave_name,
-        label: k.label,
-        unitOfAnalysis: k.unit_of_analysis,
-        primaryTest: k.primary_test,
-        covariate: k.covariate,
-        prespecified: k.prespecified,
-        isPrimary: k.is_primary,
-        scheduleCron: k.schedule_cron,
-        scheduleTimezone: k.schedule_timezone,
-        nextMonitoringRunAt: nextMonitoringRun(k, lockedRunId === null && study.status !== 'archived', now),
-        latestRun: latest ? (latestRun as Comparison['latestRun']) : null,
-        latestFinishedRunId: finished.find((f) => f.comparison_id === k.id)?.id ?? null,
-        lockedRunId,
-      };
-    }),
-    total: rows.length,
-  };
-}
-
-/** What the web app shows beside a schedule; the tick decides from the same rules (see schedule.ts). */
-function nextMonitoringRun(k: ComparisonRow, running: boolean, now: Date): string | null {
-  if (!k.schedule_cron || !k.schedule_set_at || !running) return null;
-  try {
-    return nextSlot(windowOf({ ...k, schedule_cron: k.schedule_cron, schedule_set_at: k.schedule_set_at }), now)?.toISOString() ?? null;
-  } catch {
-    return null;
-  }
-}
-
-/** Comparisons added after sealing are exploratory, and marked so everywhere. */
-export async function createComparison(db: DataSource, user: SessionUser, studyId: string, input: CreateComparison): Promise<Comparison> {
-  const id = await db.transaction(async (manager) => {
-    await findVisibleStudy(manager, user, studyId, true);
-    if (!(await currentPlan(manager, studyId))) throw AppError.conflict('Seal the plan first: its comparisons are the pre-specified ones');
-    const [m] = await manager.query(`SELECT name FROM measures WHERE id = $1 AND study_id = $2`, [input.measureId, studyId]);
-    const [w] = await manager.query(`SELECT name, kind FROM waves WHERE id = $1 AND study_id = $2`, [input.waveId, studyId]);
-    const issues = [];
-    if (!m) issues.push({ path: 'measureId', message: 'Choose one of this study’s measures' });
-    if (!w) issues.push({ path: 'waveId', message: 'Choose one of this study’s waves' });
-    else if (w.kind === 'baseline') issues.push({ path: 'waveId', message: 'Compare outcomes after baseline' });
-    if (issues.length) throw AppError.validation('The comparison refers to things outside this study', issues);
-    checkSchedule(input.scheduleCron, input.scheduleTimezone);
-    const [row] = await manager.query(
-      `INSERT INTO comparisons (study_id, measure_id, wave_id, label, unit_of_analysis, primary_test, covariate, prespecified, schedule_cron, schedule_timezone, schedule_set_at, created_by)
-       VALUES ($1, $2, $3, $4, $5, $6, $7, false, $8, $9, CASE WHEN $8::varchar IS NULL THEN NULL ELSE now() END, $10) RETURNING id`,
-      [studyId, input.measureId, input.waveId, input.label ?? `${m.name} at ${w.name} (exploratory)`, input.unitOfAnalysis, input.primaryTest, input.covariate, input.scheduleCron, input.scheduleTimezone, user.id],
-    );
-    await recordAudit(manager, { actorId: user.id, studyId, action: 'comparison.created', entityType: 'comparison', entityId: row.id, after: input });
-    return row.id as string;
-  });
-  return (await listComparisons(db, user, studyId)).items.find((c) => c.id === id)!;
-}
-
-/**
- * Sets, changes or removes a comparison's automatic monitoring runs. The tick reads the comparisons table each minute,
- * so the new cron takes effect from its next slot; slots before now never fire.
- */
-export async function setSchedule(db: DataSource, user: SessionUser, comparisonId: string, input: ComparisonSchedule): Promise<Comparison> {
-  const studyId = await db.transaction(async (manager) => {
-    const [k]: ComparisonRow[] = await manager.query(`${comparisonSelect} WHERE k.id = $1 FOR UPDATE OF k`, [comparisonId]);
-    if (!k) throw AppError.notFound('The comparison');
-    await findVisibleStudy(manager, user, k.study_id, true);
-    checkSchedule(input.scheduleCron, input.scheduleTimezone);
-    await manager.query(
-      `UPDATE comparisons SET schedule_cron = $2, schedule_timezone = $3, schedule_set_at = CASE WHEN $2::varchar IS NULL THEN NULL ELSE now() END WHERE id = $1`,
-      [comparisonId, input.scheduleCron, input.scheduleTimezone],
-    );
-    await recordAudit(manager, {
-      actorId: user.id,
-      studyId: k.study_id,
-      action: input.scheduleCron ? 'comparison.schedule_set' : 'comparison.schedule_removed',
-      entityType: 'comparison',
-      entityId: comparisonId,
-      before: { scheduleCron: k.schedule_cron, scheduleTimezone: k.schedule_timezone },
-      after: input,
-    });
-    return k.study_id;
-  });
-  return (await listComparisons(db, user, studyId)).items.find((c) => c.id === comparisonId)!;
-}
+// Runs of a comparison: queued, executed once by a worker, read (whole or as a principal's view), locked, bundled.
+// The comparisons themselves are in ./comparisons.ts.
 
 export async function queueRun(deps: Deps, user: SessionUser, comparisonId: string, input: QueueRun): Promise<Run> {
   const run = await deps.db.transaction(async (manager) => {
@@ -305,10 +114,7 @@ async function loadRun(manager: EntityManager, user: SessionUser, runId: string)
 async function multiplicityFor(manager: EntityManager, run: RunRow): Promise<Run['multiplicity']> {
   if (run.kind !== 'confirmatory' || !run.results) return null;
   const latest: { id: string; primary: RunResults['primary']; clustering: RunResults['clustering']; deciding: RunResults['deciding'] | null }[] = await manager.query(
-    `SELECT DISTINCT ON (r.comparison_id) r.id, r.results->'primary' AS primary, r.results->'clustering' AS clustering, r.results->'deciding' AS deciding
-       FROM runs r JOIN comparisons k ON k.id = r.comparison_id
-      WHERE r.study_id = $1 AND r.kind = 'confirmatory' AND r.state IN ('finished', 'locked') AND k.prespecified
-      ORDER BY r.comparison_id, (r.state = 'locked') DESC, r.finished_at DESC`,
+    multiplicityRunsSql,
     [run.study_id],
   );
   const rows = latest.map((r) => ({ id: r.id, p: decidingTest({ primary: r.primary, clustering: r.clustering, deciding: r.deciding ?? undefined }).p }));

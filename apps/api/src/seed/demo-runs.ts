@@ -1,7 +1,8 @@
 import { setTimeout as sleep } from 'node:timers/promises';
 import type { SessionUser } from '@evenhand/entities';
 import type { Deps } from '../deps.js';
-import { listComparisons, lockRun, queueRun } from '../runs/service.js';
+import { listComparisons } from '../runs/comparisons.js';
+import { lockRun, queueRun } from '../runs/service.js';
 import { demoTimeline } from './demo-timeline.js';
 
 async function finished(deps: Deps, runId: string): Promise<string> {
