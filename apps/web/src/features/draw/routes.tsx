@@ -1,11 +1,13 @@
 import type { Draw } from '@evenhand/entities';
 import { useQuery, useQueryClient, type QueryClient } from '@tanstack/react-query';
 import { useState } from 'react';
+import { useForm } from 'react-hook-form';
 import type { LoaderFunctionArgs } from 'react-router-dom';
 import { Alert } from '@/components/ui/alert';
 import { Button } from '@/components/ui/button';
 import { Dialog } from '@/components/ui/dialog';
 import { EmptyState } from '@/components/ui/empty-state';
+import { FormProblemAlert } from '@/components/ui/form-problem-alert';
 import { Field, TextInput } from '@/components/ui/field';
 import { Loading } from '@/components/ui/spinner';
 import { Section } from '@/components/ui/section';
@@ -16,6 +18,7 @@ import { ReassignForm, ReassignmentsList } from '@/features/draw/components/reas
 import { VerifyDraw } from '@/features/draw/components/verify-draw';
 import { formatDateTime } from '@/lib/format';
 import { hasRole } from '@/lib/navigation';
+import { useApiSubmit } from '@/lib/use-api-submit';
 import { studyClassroomsQueryOptions, unitLabels, useCurrentStudy } from '@/lib/study';
 
 export function drawLoader(queryClient: QueryClient) {
@@ -71,10 +74,11 @@ function DrawResult({ draw }: { draw: Draw }) {
 
 /** The coordinator's preview and commit, before any draw is stored. */
 function RunTheDraw({ studyId, sealed, classrooms }: { studyId: string; sealed: boolean; classrooms: number }) {
-  const [seed, setSeed] = useState('');
   const [confirming, setConfirming] = useState(false);
   const preview = usePreviewDraw(studyId);
   const commit = useCommitDraw(studyId);
+  const seedForm = useForm({ defaultValues: { seed: '' } });
+  const { onSubmit: onPreview, problem: previewProblem } = useApiSubmit(seedForm, ['seed'], ({ seed }) => preview.mutateAsync(seed.trim() || undefined));
 
   if (!sealed) {
     return (
@@ -93,24 +97,25 @@ function RunTheDraw({ studyId, sealed, classrooms }: { studyId: string; sealed: 
 
   return (
     <div className="space-y-8">
-      <form
-        noValidate
-        aria-label="Preview the draw"
-        className="flex flex-wrap items-end gap-3"
-        onSubmit={(e) => {
-          e.preventDefault();
-          preview.mutate(seed.trim() || undefined);
-        }}
-      >
-        <Field label="Seed" hint="Leave empty for a random seed. The same seed always gives the same draw." className="w-full max-w-md">
-          {(control) => <TextInput {...control} value={seed} onChange={(e) => setSeed(e.target.value)} autoComplete="off" />}
+      <form noValidate aria-label="Preview the draw" className="flex flex-wrap items-end gap-3" onSubmit={onPreview}>
+        {previewProblem && (
+          <div className="w-full">
+            <FormProblemAlert problem={previewProblem} />
+          </div>
+        )}
+        <Field
+          label="Seed"
+          hint="Leave empty for a random seed. The same seed always gives the same draw."
+          error={seedForm.formState.errors.seed?.message}
+          className="w-full max-w-md"
+        >
+          {(control) => <TextInput {...control} autoComplete="off" {...seedForm.register('seed')} />}
         </Field>
-        <Button type="submit" variant="secondary" busy={preview.isPending}>
+        <Button type="submit" variant="secondary" busy={seedForm.formState.isSubmitting}>
           Preview the draw
         </Button>
       </form>
       <div aria-live="polite" className="space-y-6">
-        {preview.error && <Alert tone="error">{preview.error.message}</Alert>}
         {preview.data && (
           <>
             <Alert tone="info" title="Preview: nothing is stored yet">

@@ -1,7 +1,10 @@
 import { digestFrequencies, digestFrequencyLabels, type DigestFrequency, type DigestPreference } from '@evenhand/entities';
-import { useId, useState, type FormEvent } from 'react';
+import { useId, useState } from 'react';
+import { useForm } from 'react-hook-form';
 import { Alert } from '@/components/ui/alert';
 import { Button } from '@/components/ui/button';
+import { FormProblemAlert } from '@/components/ui/form-problem-alert';
+import { useApiSubmit } from '@/lib/use-api-submit';
 
 interface PreferenceFormProps {
   current: DigestPreference;
@@ -19,27 +22,16 @@ const after: Record<DigestFrequency, string> = {
 /** The choice behind a digest's "how often" links; the link's token is the proof, no sign-in needed. */
 export function PreferenceForm({ current, suggested, onSave }: PreferenceFormProps) {
   const id = useId();
-  const [choice, setChoice] = useState<DigestFrequency>(suggested ?? current.frequency);
   const [saved, setSaved] = useState<DigestPreference | null>(null);
-  const [error, setError] = useState<string | null>(null);
-  const [busy, setBusy] = useState(false);
-
-  async function submit(e: FormEvent) {
-    e.preventDefault();
-    setBusy(true);
-    setError(null);
-    try {
-      setSaved(await onSave(choice));
-    } catch (err) {
-      setError((err as Error).message);
-    } finally {
-      setBusy(false);
-    }
-  }
+  const form = useForm<{ frequency: DigestFrequency }>({ defaultValues: { frequency: suggested ?? current.frequency } });
+  const choice = form.watch('frequency');
+  const { onSubmit, problem } = useApiSubmit(form, ['frequency'], async ({ frequency }) => {
+    setSaved(await onSave(frequency));
+  });
 
   return (
-    <form onSubmit={submit} className="space-y-5">
-      {error && <Alert tone="error">{error}</Alert>}
+    <form noValidate onSubmit={onSubmit} className="space-y-5">
+      {problem && <FormProblemAlert problem={problem} />}
       <fieldset>
         <legend className="font-semibold">How often should we e-mail you about your school?</legend>
         <p className="text-sm text-ink-muted">Now: {digestFrequencyLabels[saved?.frequency ?? current.frequency].toLowerCase()}.</p>
@@ -49,10 +41,8 @@ export function PreferenceForm({ current, suggested, onSave }: PreferenceFormPro
               <input
                 id={`${id}-${f}`}
                 type="radio"
-                name="frequency"
                 value={f}
-                checked={choice === f}
-                onChange={() => setChoice(f)}
+                {...form.register('frequency')}
                 className="mt-1 size-4 accent-[var(--color-accent)]"
               />
               <label htmlFor={`${id}-${f}`}>{digestFrequencyLabels[f]}</label>
@@ -60,7 +50,7 @@ export function PreferenceForm({ current, suggested, onSave }: PreferenceFormPro
           ))}
         </div>
       </fieldset>
-      <Button type="submit" busy={busy}>
+      <Button type="submit" busy={form.formState.isSubmitting}>
         {choice === 'none' ? 'Stop the digests' : 'Save my choice'}
       </Button>
       <div aria-live="polite">{saved && <Alert tone="success" title="Saved">{after[saved.frequency]}</Alert>}</div>
