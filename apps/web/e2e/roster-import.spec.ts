@@ -64,4 +64,18 @@ test.describe.serial('the coordinator enrols a study’s roster from a OneRoster
     expect(students).toBe(36);
     await expectAccessible(page);
   });
+
+  test('at 390 px wide, the list of imports says when, by whom and what the import changed, without scrolling sideways', async ({ page }) => {
+    await page.setViewportSize({ width: 390, height: 844 });
+    await signIn(page, 'coordinator@evenhand.test');
+    await openSites(page);
+    const entry = page.getByRole('region', { name: 'Roster imports' }).getByRole('listitem').first();
+    await expect(entry).toContainText('by coordinator@evenhand.test');
+    await expect(entry).toContainText('2 sites enrolled');
+    await expect(entry).toContainText('3 classrooms added');
+    await expect(entry).toContainText('36 students joined');
+    await entry.scrollIntoViewIfNeeded();
+    expect(await page.evaluate(() => document.documentElement.scrollWidth)).toBeLessThanOrEqual(390);
+    await expectAccessible(page);
+  });
 });

@@ -20,6 +20,7 @@ import { uploadFile } from '@/lib/upload';
 
 const studySitesPageSchema = pageOf(studySiteSchema);
 const cohortsPageSchema = pageOf(cohortSchema);
+const rosterImportsPageSchema = pageOf(rosterImportSchema);
 
 // A study's sites and cohorts are always listed whole, so they are keyed by study; classrooms live in lib/study.
 export const siteKeys = {
@@ -27,6 +28,7 @@ export const siteKeys = {
   lists: () => [...siteKeys.all, 'study'] as const,
   list: (studyId: string) => [...siteKeys.lists(), studyId] as const,
   cohorts: (studyId: string) => [...siteKeys.all, 'cohorts', studyId] as const,
+  rosterImports: (studyId: string) => [...siteKeys.all, 'roster-imports', studyId] as const,
 };
 
 export function studySitesQueryOptions(studyId: string) {
@@ -40,6 +42,14 @@ export function cohortsQueryOptions(studyId: string) {
   return queryOptions({
     queryKey: siteKeys.cohorts(studyId),
     queryFn: ({ signal }) => apiRequest(`/studies/${studyId}/cohorts`, { schema: cohortsPageSchema, signal }),
+  });
+}
+
+/** The study's committed OneRoster imports, newest first (coordinators and research leads). */
+export function rosterImportsQueryOptions(studyId: string) {
+  return queryOptions({
+    queryKey: siteKeys.rosterImports(studyId),
+    queryFn: ({ signal }) => apiRequest(`/studies/${studyId}/roster-imports`, { schema: rosterImportsPageSchema, signal }),
   });
 }
 
@@ -108,9 +118,10 @@ export function usePreviewRoster(studyId: string) {
 /** The chosen schools and classes of the same bundle, all or nothing. */
 export function useImportRoster(studyId: string) {
   const refresh = useRefreshStudy(studyId);
+  const queryClient = useQueryClient();
   return useMutation({
     mutationFn: ({ files, selection }: { files: File[]; selection: RosterSelection }) =>
       uploadFile(`/studies/${studyId}/roster-imports`, { file: files, field: 'files', fields: { selection: JSON.stringify(selection) }, schema: rosterImportSchema }),
-    onSuccess: refresh,
+    onSuccess: () => Promise.all([refresh(), queryClient.invalidateQueries({ queryKey: siteKeys.rosterImports(studyId) })]),
   });
 }

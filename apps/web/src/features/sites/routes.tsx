@@ -9,6 +9,7 @@ import { Section } from '@/components/ui/section';
 import { useSession } from '@/features/auth/api';
 import {
   cohortsQueryOptions,
+  rosterImportsQueryOptions,
   studySitesQueryOptions,
   useAddClassroom,
   useAddCohort,
@@ -22,6 +23,7 @@ import { AddClassroomForm, AddCohortForm, EditClassroomForm } from '@/features/s
 import { ClassroomImport } from '@/features/sites/components/classroom-import';
 import { ClassroomsTable } from '@/features/sites/components/classrooms-table';
 import { EnrolSiteForm } from '@/features/sites/components/enrol-site-form';
+import { RosterHistory } from '@/features/sites/components/roster-history';
 import { RosterImportPanel } from '@/features/sites/components/roster-import';
 import { SitesTable } from '@/features/sites/components/sites-table';
 import { hasRole } from '@/lib/navigation';
@@ -46,10 +48,12 @@ export function SitesPage() {
   const study = useCurrentStudy();
   const grants = useSession().data?.roles ?? [];
   const coordinator = hasRole(grants, 'coordinator');
+  const seesImports = hasRole(grants, 'coordinator', 'research_lead');
   const sites = useQuery(studySitesQueryOptions(study.id));
   const cohorts = useQuery(cohortsQueryOptions(study.id));
   const classrooms = useQuery(studyClassroomsQueryOptions(study.id));
   const district = useQuery({ ...districtSitesQueryOptions(), enabled: coordinator });
+  const rosterImports = useQuery({ ...rosterImportsQueryOptions(study.id), enabled: seesImports });
   const enrol = useEnrolSite(study.id);
   const addCohort = useAddCohort(study.id);
   const addClassroom = useAddClassroom(study.id);
@@ -141,6 +145,12 @@ export function SitesPage() {
         )}
         {coordinator && !drawn && <AddCohortForm onAdd={(name) => addCohort.mutateAsync(name)} />}
       </Section>
+
+      {seesImports && (
+        <Section title="Roster imports" description="Each OneRoster export imported into this study: when, by whom, and what it changed.">
+          <RosterHistory imports={rosterImports.data?.items ?? []} loading={rosterImports.isPending} error={rosterImports.error} />
+        </Section>
+      )}
 
       <Dialog open={open === 'enrol'} title="Enrol a site" onClose={() => setOpen(null)}>
         <EnrolSiteForm
