@@ -391,7 +391,9 @@ const tabChecks: Record<StudyTab, (v: Visit) => Promise<void>> = {
     await expect(page.getByRole('heading', { name: 'Study report' })).toBeVisible();
     const results = table(page, 'Results of every comparison');
     await expect(results.getByRole('row').filter({ hasText: primary.label })).toContainText(`${formatNumber(x.g.g, 2)}`);
-    await expect(main(page).getByRole('region', { name: 'Intervention arm', exact: true })).toContainText(formatCount(x.a.length));
+    // Analysed are the students the deciding two-level model read: an outcome and a pretest score (runs/accounting.ts).
+    const analysedIntervention = primary.rows.filter((r) => r.arm === 'intervention' && r.pretest !== null).length;
+    await expect(main(page).getByRole('region', { name: 'Intervention arm', exact: true }).getByTestId('flow-analysed')).toContainText(`${formatCount(analysedIntervention)} students`);
     await expectAccessibleOnce(page);
     // The seed locks while some sheets are not accepted; the report says so beside the flow.
     const notAnalysed = await queryDatabase<{ n: number }>(
