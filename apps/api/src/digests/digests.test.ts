@@ -8,7 +8,8 @@ import { startQueue } from '../jobs/queue.js';
 import { startWorkers } from '../jobs/workers.js';
 import { createLogger } from '../logger.js';
 import { createMailer, type Mailer } from '../mail/mailer.js';
-import { createLockDigests, dueWeeklySlot, runDigestTick } from './service.js';
+import { dueWeeklySlot, runDigestTick } from './schedules.js';
+import { createLockDigests } from './service.js';
 import { formatNumber, formatSigned, suppressCounts } from './wording.js';
 
 const logger = createLogger({ logLevel: 'silent' });

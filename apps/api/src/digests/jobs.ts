@@ -4,7 +4,8 @@ import { sendPasswordReset } from '../auth/service.js';
 import { DIGEST_SEND_QUEUE, DIGEST_TICK_QUEUE, PASSWORD_RESET_QUEUE, type JobQueue } from '../jobs/queue.js';
 import type { Logger } from '../logger.js';
 import type { Mailer } from '../mail/mailer.js';
-import { defaultDelivery, deliverDigest, runDigestTick, type DeliveryPolicy } from './service.js';
+import { runDigestTick } from './schedules.js';
+import { defaultDelivery, deliverDigest, type DeliveryPolicy } from './service.js';
 
 export interface DigestWorkerOptions {
   mailer: Mailer;

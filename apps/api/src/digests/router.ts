@@ -16,7 +16,9 @@ import {
 } from '@evenhand/entities';
 import type { Deps } from '../deps.js';
 import { ResourceRouter } from '../http/route.js';
-import { getDigest, getPreference, getSchedule, listDigests, mySchool, saveSchedule, sendDigestsNow, setPreference } from './service.js';
+import { getPreference, mySchool, setPreference } from './preferences.js';
+import { getSchedule, saveSchedule } from './schedules.js';
+import { getDigest, listDigests, sendDigestsNow } from './service.js';
 
 export function digestsRouter(deps: Deps, registry: OpenAPIRegistry) {
   const r = new ResourceRouter(registry);
