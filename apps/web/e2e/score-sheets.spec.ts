@@ -1,5 +1,5 @@
 import { expect, test, type Page } from '@playwright/test';
-import { DEMO_STUDY, acceptRoleOffer, apiAs, expectAccessible, expectStatus, isoDay, signIn } from './support';
+import { DEMO_STUDY, acceptRoleOffer, apiAs, demoWaveName, expectAccessible, expectStatus, isoDay, signIn } from './support';
 
 const MAILDEV = process.env.MAILDEV_URL ?? 'http://127.0.0.1:1080';
 
@@ -67,7 +67,7 @@ test('a teacher fixes the sheet the coordinator returned and resubmits it; the c
   await expect(page.getByRole('heading', { level: 1, name: 'My classes', exact: true })).toBeVisible();
   const demo = page.getByRole('region', { name: DEMO_STUDY });
   const room3b = demo.getByRole('region', { name: /Room 3B/ });
-  await expect(room3b.getByText(/Returned: LV-\d{4} reads 12 words per minute in spring/)).toBeVisible();
+  await expect(room3b.getByText(/Returned: LV-\d{4} reads 12 words per minute at the follow-up/)).toBeVisible();
   await expectAccessible(page);
 
   const reason = await room3b.getByText(/Returned: LV-\d{4}/).textContent();
@@ -98,13 +98,16 @@ test('a teacher fixes the sheet the coordinator returned and resubmits it; the c
   await page.getByLabel('School').selectOption({ label: 'Alderquill Elementary' });
   await page.getByLabel('State').selectOption({ label: 'Submitted' });
   await expectAccessible(page);
-  await page.getByRole('link', { name: /^Room 3B, Spring 2026, Oral reading fluency.*: Submitted/ }).click();
-  await expect(page.getByRole('heading', { name: 'Room 3B · Spring 2026' })).toBeVisible();
+  // The seed returned this sheet in the follow-up wave, after the result was locked.
+  const followUp = await demoWaveName('follow-up');
+  await page.getByRole('link', { name: new RegExp(`^Room 3B, ${followUp}, Oral reading fluency.*: Submitted`) }).click();
+  await expect(page.getByRole('heading', { name: `Room 3B · ${followUp}` })).toBeVisible();
+  const sheetPath = new URL(page.url()).pathname;
   await page.getByRole('button', { name: 'Accept' }).click();
   await expect(page.getByText("Accepted. Room 3B's sheet is now read-only.")).toBeVisible();
   await page.getByRole('link', { name: 'All score sheets' }).click();
   await page.getByLabel('School').selectOption({ label: 'Alderquill Elementary' });
-  await expect(page.getByRole('link', { name: /^Room 3B, Spring 2026, Oral reading fluency.*: Accepted/ })).toBeVisible();
+  await expect(page.locator(`a[href="${sheetPath}"]`)).toHaveAccessibleName(new RegExp(`^Room 3B, ${followUp}, Oral reading fluency.*: Accepted`));
 });
 
 test('a CSV with one bad row is refused with its line number and changes nothing; a good one replaces the rows after a preview', async ({ page }) => {

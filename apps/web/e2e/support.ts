@@ -68,6 +68,12 @@ export async function queryDatabase<T>(sql: string, params: unknown[] = []): Pro
   }
 }
 
+/** The demo study's wave names ("Autumn 2025"), which the seed takes from the school year before the day it ran. */
+export async function demoWaveName(kind: 'baseline' | 'outcome' | 'follow-up'): Promise<string> {
+  const [wave] = await queryDatabase<{ name: string }>(`SELECT w.name FROM waves w JOIN studies s ON s.id = w.study_id WHERE s.title = $1 AND w.kind = $2`, [DEMO_STUDY, kind]);
+  return wave.name;
+}
+
 /**
  * An existing account named as a school's teacher or principal holds the role only once it follows the e-mailed
  * offer: reads the offer for `siteName` from the mail catcher and accepts it as the person would.

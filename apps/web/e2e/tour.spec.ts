@@ -2,7 +2,7 @@ import { clusterAdjusted, hedgesCorrection, hedgesG, improvementIndex, studentTQ
 import { expect, test, type Locator, type Page } from '@playwright/test';
 import { formatCount, formatInterval, formatNumber, formatPStatement, formatSigned } from '../src/lib/format';
 import { areas, homePathFor, navigationFor, studyTabs, studyTabsFor, type Area, type StudyTab } from '../src/lib/navigation';
-import { DEMO_PASSWORD, DEMO_STUDY, STUDENT_CODE, expectAccessible, queryDatabase, studentCountsShown } from './support';
+import { DEMO_PASSWORD, DEMO_STUDY, STUDENT_CODE, demoWaveName, expectAccessible, queryDatabase, studentCountsShown } from './support';
 
 /**
  * The demo tour: every demo role signs in with the keyboard alone, then opens its home, every other area it has
@@ -179,7 +179,7 @@ async function expectToDo({ page, role }: Visit) {
   const item = (title: string | RegExp, study: string) => panel.getByRole('listitem').filter({ hasText: study }).filter({ has: page.getByRole('link', { name: title }) });
   if (role === 'coordinator') {
     await expect(item('Enrol the schools', DRAFT_STUDY).getByRole('link')).toHaveAttribute('href', /\/sites$/);
-    // The seed leaves the Fernquillow Room 3A spring sheets unentered after their wave closed.
+    // The seed leaves the Fernquillow Room 3A follow-up sheets unentered after their wave closed.
     const late = item(/^\d+ score sheets are late$/, DEMO_STUDY).getByRole('link');
     await expect(late).toHaveAttribute('href', /\/score-sheets$/);
     expect(Number((await late.textContent())!.split(' ')[0])).toBeGreaterThanOrEqual(2);
@@ -239,8 +239,8 @@ const areaChecks: Partial<Record<keyof typeof areas, (v: Visit) => Promise<void>
     await expect(page.getByRole('heading', { level: 1, name: 'My classes' })).toBeVisible();
     const study = main(page).getByRole('region', { name: DEMO_STUDY, exact: true });
     const room = study.getByRole('region', { name: 'Room 3A · Alderquill Elementary' });
-    // Three measures (two scores and a yes/no) at two waves.
-    await expect(bodyRows(room.getByRole('table'))).toHaveCount(6);
+    // Three measures (two scores and a yes/no) at three waves.
+    await expect(bodyRows(room.getByRole('table'))).toHaveCount(9);
     // What to do next: the sheets the coordinator returned to this teacher (the seed returns one; a journey may fix it).
     const [{ returned }] = await queryDatabase<{ returned: number }>(
       `SELECT count(*)::int AS returned FROM score_sheets sh JOIN classrooms c ON c.id = sh.classroom_id JOIN users u ON u.id = c.teacher_id
@@ -251,8 +251,9 @@ const areaChecks: Partial<Record<keyof typeof areas, (v: Visit) => Promise<void>
     else await expect(waiting).not.toContainText('returned by the coordinator');
     // Only this teacher's classrooms: both of them at Alderquill, none elsewhere.
     await expect(study.getByRole('heading', { level: 3 })).toHaveText(['Room 3A · Alderquill Elementary', 'Room 3B · Alderquill Elementary']);
-    await room.getByRole('link', { name: /^View the Autumn 2025 Oral reading fluency/ }).click();
-    await expect(page.getByRole('heading', { level: 1, name: 'Room 3A · Autumn 2025' })).toBeVisible();
+    const baseline = await demoWaveName('baseline');
+    await room.getByRole('link', { name: new RegExp(`^View the ${baseline} Oral reading fluency`) }).click();
+    await expect(page.getByRole('heading', { level: 1, name: `Room 3A · ${baseline}` })).toBeVisible();
     await expect(main(page)).toContainText('Alderquill Elementary');
     await expectStudentCodesOnly(page);
     await expectAccessibleOnce(page);
@@ -296,7 +297,8 @@ const areaChecks: Partial<Record<keyof typeof areas, (v: Visit) => Promise<void>
 const tabChecks: Record<StudyTab, (v: Visit) => Promise<void>> = {
   async overview({ page }) {
     const numbers = main(page).getByRole('region', { name: 'In numbers' });
-    await expect(numbers.getByRole('definition')).toHaveText(['6', '24', '3', '2']);
+    // Schools, classrooms, measures, waves (baseline, outcome and follow-up).
+    await expect(numbers.getByRole('definition')).toHaveText(['6', '24', '3', '3']);
     await expect(main(page).getByRole('region', { name: 'Where it stands' })).toContainText('version 2 is in force');
     await expect(main(page).getByRole('region', { name: 'Next steps for you' }).getByRole('listitem').first()).toBeVisible();
   },
@@ -313,7 +315,9 @@ const tabChecks: Record<StudyTab, (v: Visit) => Promise<void>> = {
     await expect(bodyRows(table(page, 'Enrolled sites'))).toHaveCount(6);
     await expect(table(page, 'Enrolled sites')).toContainText('Dr. Helena Moonquarry');
     await expect(bodyRows(table(page, 'Classrooms'))).toHaveCount(24);
-    await expect(main(page).getByRole('region', { name: 'Cohorts' })).toContainText('Grade 3, 2025–26');
+    // The cohorts are named after the school year of the baseline wave ("Autumn 2025": 2025–26).
+    const year = Number((await demoWaveName('baseline')).slice(-4));
+    await expect(main(page).getByRole('region', { name: 'Cohorts' })).toContainText(`Grade 3, ${year}–${String((year + 1) % 100).padStart(2, '0')}`);
   },
   async draw({ page }) {
     const draw = main(page).getByRole('region', { name: 'The committed draw' });
@@ -322,11 +326,12 @@ const tabChecks: Record<StudyTab, (v: Visit) => Promise<void>> = {
     await expect(bodyRows(draw.getByRole('table', { name: /^Balance/ })).first()).toBeVisible();
   },
   async scoreSheets({ page }) {
-    await expect(main(page)).toContainText('24 classrooms, 144 sheets');
+    await expect(main(page)).toContainText('24 classrooms, 216 sheets');
     const matrix = table(page, /^Completion of score sheets/);
     await expect(matrix.getByRole('rowheader', { name: 'Alderquill Elementary · 4 classrooms' })).toBeVisible();
-    await matrix.getByRole('link', { name: 'Room 3A, Autumn 2025, Oral reading fluency (words correct per minute): Accepted 22 rows' }).first().click();
-    await expect(page.getByRole('heading', { level: 2, name: 'Room 3A · Autumn 2025' })).toBeVisible();
+    const baseline = await demoWaveName('baseline');
+    await matrix.getByRole('link', { name: `Room 3A, ${baseline}, Oral reading fluency (words correct per minute): Accepted 22 rows` }).first().click();
+    await expect(page.getByRole('heading', { level: 2, name: `Room 3A · ${baseline}` })).toBeVisible();
     await expectStudentCodesOnly(page);
     await expectAccessibleOnce(page);
     await page.getByRole('link', { name: 'All score sheets' }).click();
@@ -337,7 +342,8 @@ const tabChecks: Record<StudyTab, (v: Visit) => Promise<void>> = {
     await expect(bodyRows(fluency.getByRole('table', { name: /^Score sheets and scores by wave/ })).first()).toBeVisible();
     await expect(fluency.getByRole('table', { name: 'Students: attrition against the published boundaries' })).toContainText(/Cautious boundary/);
     // Box plots carry their medians in words, and a table of every box's quantiles.
-    await expect(fluency.getByRole('img', { name: /^Box plots of Oral reading fluency .* by arm and wave\. Autumn 2025: intervention median \d/ })).toBeVisible();
+    const baseline = await demoWaveName('baseline');
+    await expect(fluency.getByRole('img', { name: new RegExp(`^Box plots of Oral reading fluency .* by arm and wave\\. ${baseline}: intervention median \\d`) })).toBeVisible();
     await expect(fluency.getByRole('img', { name: /the table below lists every box’s quantiles/ })).toBeVisible();
   },
   async comparisons({ page, runs }) {
@@ -395,7 +401,7 @@ const tabChecks: Record<StudyTab, (v: Visit) => Promise<void>> = {
     const analysedIntervention = primary.rows.filter((r) => r.arm === 'intervention' && r.pretest !== null).length;
     await expect(main(page).getByRole('region', { name: 'Intervention arm', exact: true }).getByTestId('flow-analysed')).toContainText(`${formatCount(analysedIntervention)} students`);
     await expectAccessibleOnce(page);
-    // The seed locks while some sheets are not accepted; the report says so beside the flow.
+    // The seed locks once every outcome sheet is accepted, so no note of classrooms left out stands beside the flow.
     const notAnalysed = await queryDatabase<{ n: number }>(
       `SELECT count(*)::int AS n FROM classrooms c WHERE c.study_id = $1 AND NOT EXISTS (
          SELECT 1 FROM runs r JOIN score_sheets sh ON sh.id = ANY (r.input_sheet_ids) JOIN comparisons k ON k.id = r.comparison_id
@@ -403,6 +409,7 @@ const tabChecks: Record<StudyTab, (v: Visit) => Promise<void>> = {
       [primary.study_id, primary.id],
     ).then(([r]) => r.n);
     if (notAnalysed > 0) await expect(page.getByTestId('open-sheets-note')).toContainText(`The result was locked while ${notAnalysed} of 24 classrooms had no accepted outcome sheet`);
+    else await expect(page.getByTestId('open-sheets-note')).toHaveCount(0);
     await page.emulateMedia({ media: 'print' });
     await expect(page.getByRole('navigation', { name: 'Main' })).toBeHidden();
     await expect(page.getByRole('navigation', { name: 'Study' })).toBeHidden();
