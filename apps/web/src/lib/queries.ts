@@ -1,4 +1,4 @@
-import { measureSchema, pageOf, siteSchema, waveSchema } from '@evenhand/entities';
+import { measureSchema, pageOf, siteSchema, studyEvidenceSchema, waveSchema } from '@evenhand/entities';
 import { queryOptions } from '@tanstack/react-query';
 import { apiRequest } from '@/lib/api-client';
 import { studyKeys } from '@/lib/study';
@@ -12,6 +12,8 @@ import { studyKeys } from '@/lib/study';
 export const sharedKeys = {
   measures: (studyId: string) => [...studyKeys.detail(studyId), 'measures'] as const,
   waves: (studyId: string) => [...studyKeys.detail(studyId), 'waves'] as const,
+  /** The evidence verdict per pre-specified comparison: keyed under the study, so every change to its sheets or runs refreshes it. */
+  evidence: (studyId: string, boundary: 'cautious' | 'optimistic') => [...studyKeys.detail(studyId), 'evidence', boundary] as const,
   /** The district's schools; invalidate after a school is added or changed. */
   districtSites: () => ['sites', 'district'] as const,
 };
@@ -39,5 +41,13 @@ export function districtSitesQueryOptions() {
   return queryOptions({
     queryKey: sharedKeys.districtSites(),
     queryFn: ({ signal }) => apiRequest('/sites', { schema: sitesPageSchema, signal }),
+  });
+}
+
+/** The evidence verdict of each pre-specified comparison (the report, and the Checks' risks), judged against `boundary`. */
+export function studyEvidenceQueryOptions(studyId: string, boundary: 'cautious' | 'optimistic' = 'cautious') {
+  return queryOptions({
+    queryKey: sharedKeys.evidence(studyId, boundary),
+    queryFn: ({ signal }) => apiRequest(`/studies/${studyId}/evidence?boundary=${boundary}`, { schema: studyEvidenceSchema, signal }),
   });
 }

@@ -8,6 +8,7 @@ import { AttritionPanel, type ArmCounts } from '@/features/checks/components/att
 import { BaselinePanel } from '@/features/checks/components/baseline-panel';
 import { BoxPlots } from '@/features/checks/components/box-plots';
 import { DataQualityTable } from '@/features/checks/components/data-quality-table';
+import { EvidenceRisks } from '@/features/checks/components/evidence-risks';
 import { armAccount, lossLines } from '@/lib/accounting';
 import { armLabels, useStudyId } from '@/lib/study';
 
@@ -95,6 +96,9 @@ export function ChecksPage() {
           </Alert>
         </div>
       )}
+      <div className="mb-12">
+        <EvidenceRisks studyId={studyId} />
+      </div>
       {checks.measures.length === 0 ? (
         <EmptyState title="No measures yet">
           <p>Checks appear once the plan names its measures and teachers start entering scores.</p>

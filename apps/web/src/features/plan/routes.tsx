@@ -90,6 +90,7 @@ export function PlanPage() {
               initial={draft ?? blankPlan(study.unitOfAssignment)}
               {...refs}
               unit={study.unitOfAssignment}
+              quasiExperimental={study.quasiExperimental}
               onSaveDraft={(content) => saveDraft.mutateAsync(content)}
               onSeal={async (content) => {
                 await seal.mutateAsync(content);
@@ -147,6 +148,7 @@ export function PlanPage() {
             initial={{ ...current.content, reason: '' }}
             {...refs}
             unit={study.unitOfAssignment}
+            quasiExperimental={study.quasiExperimental}
             onCancel={() => setAmending(false)}
             onAmend={async (amendment) => {
               const next = await amend.mutateAsync(amendment);

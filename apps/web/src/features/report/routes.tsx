@@ -7,19 +7,21 @@ import { Button } from '@/components/ui/button';
 import { EmptyState } from '@/components/ui/empty-state';
 import { FigureTable } from '@/components/ui/figure-table';
 import { studyReportQueryOptions, type StudyReport } from '@/features/report/api';
+import { EvidenceSection } from '@/features/report/components/evidence-section';
 import { FlowDiagram } from '@/features/report/components/flow-diagram';
 import { EffectSizeChart, ResultsTable } from '@/features/report/components/results-summary';
 import { classroomsWithoutReadSheet, totalAccount } from '@/lib/accounting';
 import { formatAlpha, formatCount, formatDateTime, formatInterval, formatNumber, formatPercent } from '@/lib/format';
 import { studyPath } from '@/lib/navigation';
 import { fieldLabel, formatPlanValue } from '@/lib/plan-labels';
+import { studyEvidenceQueryOptions } from '@/lib/queries';
 import { effectSizeWords, iccSourceWords, resultHeadline, testNames } from '@/lib/result-wording';
 import { runPath } from '@/lib/results';
 import { unitLabels, useCurrentStudy, useStudyId } from '@/lib/study';
 
 export function reportLoader(queryClient: QueryClient) {
   return async ({ params }: LoaderFunctionArgs) => {
-    await queryClient.ensureQueryData(studyReportQueryOptions(params.studyId!));
+    await Promise.all([queryClient.ensureQueryData(studyReportQueryOptions(params.studyId!)), queryClient.ensureQueryData(studyEvidenceQueryOptions(params.studyId!))]);
     return null;
   };
 }
@@ -370,6 +372,10 @@ export function StudyReportPage() {
                 students, with the ICC taken from {plan.iccSource === 'assumed' && plan.icc !== null ? `an assumed value of ${formatNumber(plan.icc, 2)}` : plan.iccSource === 'observed' ? 'the data' : 'the standard default'}.
               </p>
             )}
+          </ReportSection>
+
+          <ReportSection id="report-evidence" title="Will it count as evidence?">
+            <EvidenceSection studyId={studyId} />
           </ReportSection>
 
           <ReportSection id="report-registration" title="Registration and amendments">

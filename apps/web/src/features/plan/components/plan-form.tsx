@@ -19,6 +19,7 @@ import { Checkbox, ChoiceGroup } from '@/components/ui/choice-group';
 import { Dialog } from '@/components/ui/dialog';
 import { Field, Select, TextArea, TextInput } from '@/components/ui/field';
 import { FormProblemAlert } from '@/components/ui/form-problem-alert';
+import { EvidencePreview } from '@/features/plan/components/evidence-preview';
 import { PlanningPanel } from '@/features/plan/components/planning-panel';
 import {
   alternativeLabels,
@@ -320,7 +321,40 @@ function LivePlanningPanel({ unit, measures }: { unit: UnitOfAssignment; measure
   return <PlanningPanel values={values} context={{ unit, measureKind: measure?.kind ?? null, yesNo: measure?.scale === 'yes-no' }} />;
 }
 
+/** What the design can reach under the evidence standards, live from the fields it depends on. */
+function LiveEvidencePreview({ unit, measures, waves, quasi }: RefsProps & { quasi: boolean }) {
+  const { control } = useFormContext<FormValues>();
+  const [plannedSites, plannedClassrooms, plannedStudentsPerClassroom, shareIntervention, covariate, primaryTest, primaryMeasureId] = useWatch({
+    control,
+    name: ['plannedSites', 'plannedClassrooms', 'plannedStudentsPerClassroom', 'shareIntervention', 'covariate', 'primaryTest', 'primaryMeasureId'],
+  });
+  const counts = [plannedSites, plannedClassrooms, plannedStudentsPerClassroom].map(Number);
+  if (counts.some((n) => !Number.isInteger(n) || n < 1) || !(Number(shareIntervention) > 0 && Number(shareIntervention) < 1)) return null;
+  const baselineMeasured = waves.some((w) => w.kind === 'baseline');
+  const yesNo = measures.find((m) => m.id === primaryMeasureId)?.scale === 'yes-no';
+  return (
+    <EvidencePreview
+      design={{
+        randomised: !quasi,
+        unitOfAssignment: unit,
+        plannedSites: counts[0],
+        plannedClassrooms: counts[1],
+        plannedStudentsPerClassroom: counts[2],
+        shareIntervention: Number(shareIntervention),
+        baselineMeasured,
+        // As the run decides: the two-level model adjusts for the pretest of a score measure (a yes/no one is decided without it).
+        adjustsForBaseline: primaryTest === 'two-level' && covariate === 'baseline' && !yesNo && baselineMeasured,
+        // Cluster-assigned studies are decided by the two-level model or with the clustering correction.
+        accountsForClustering: true,
+        boundary: 'cautious',
+      }}
+    />
+  );
+}
+
 interface PlanFormProps extends RefsProps {
+  /** The study is no longer (or never was) randomised: the evidence preview's best case is with reservations. */
+  quasiExperimental?: boolean;
   initial: FormValues;
   /** Draft mode: save the draft, or seal it after a confirmation. */
   onSaveDraft?: (plan: PlanContent) => Promise<unknown>;
@@ -330,7 +364,7 @@ interface PlanFormProps extends RefsProps {
   onCancel?: () => void;
 }
 
-export function PlanForm({ initial, measures, waves, unit, onSaveDraft, onSeal, onAmend, onCancel }: PlanFormProps) {
+export function PlanForm({ initial, measures, waves, unit, quasiExperimental = false, onSaveDraft, onSeal, onAmend, onCancel }: PlanFormProps) {
   const amending = onAmend !== undefined;
   const [problem, setProblem] = useState<FormProblem | null>(null);
   const [saved, setSaved] = useState<string | null>(null);
@@ -426,7 +460,10 @@ export function PlanForm({ initial, measures, waves, unit, onSaveDraft, onSeal, 
           </div>
         </form>
         <aside aria-label="Power and minimum detectable effect" className="xl:sticky xl:top-6 xl:self-start">
-          <LivePlanningPanel unit={unit} measures={measures} />
+          <div className="space-y-6">
+            <LivePlanningPanel unit={unit} measures={measures} />
+            <LiveEvidencePreview unit={unit} measures={measures} waves={waves} quasi={quasiExperimental} />
+          </div>
         </aside>
       </div>
 
