@@ -201,6 +201,16 @@ describe('degenerate yes/no tables', () => {
     }
   });
 
+  it("when the observed table is beyond double range (a district of a million students per arm), then Fisher's p is 0, as SciPy returns", () => {
+    // scipy.stats.fisher_exact([[450000, 550000], [380000, 620000]]) and ([[90000, 110000], [76000, 124000]]) give
+    // pvalue=0.0 (SciPy 1.10, Debian python3-scipy). The tails end in negligible weights, not a crawl through subnormals.
+    expect(fisherExactTest({ yes: 450_000, n: 1_000_000 }, { yes: 380_000, n: 1_000_000 }).p).toBe(0);
+    expect(fisherExactTest({ yes: 90_000, n: 200_000 }, { yes: 76_000, n: 200_000 }).p).toBe(0);
+    // One arm's greater tail at the same size is also 0, and the other direction is 1 to double precision.
+    expect(fisherExactTest({ yes: 450_000, n: 1_000_000 }, { yes: 380_000, n: 1_000_000 }, { alternative: 'greater' }).p).toBe(0);
+    expect(fisherExactTest({ yes: 450_000, n: 1_000_000 }, { yes: 380_000, n: 1_000_000 }, { alternative: 'less' }).p).toBeCloseTo(1, 12);
+  });
+
   it('refuses counts that are not whole numbers from 0 to n, and unknown options', () => {
     expect(() => proportionWithInterval({ yes: 3, n: 0 })).toThrow(/n must be a whole number >= 1/);
     expect(() => proportionWithInterval({ yes: 4, n: 3 })).toThrow(/yes must be a whole number from 0 to n = 3/);

@@ -393,6 +393,11 @@ const SCIPY_GAMMA_NUM = 100_000_000_000_001n;
 const SCIPY_GAMMA_DEN = 100_000_000_000_000n;
 /** Float weights this close to the observed one (relative) are compared exactly instead. */
 const NEAR_TIE = 1e-9;
+/**
+ * Relative weights below this are taken as 0: the tails of a large table run into subnormal doubles, which are slow and
+ * too coarse for the near-tie test (two different subnormals can compare equal), and any p they could add is < 1e-290.
+ */
+const NEGLIGIBLE_WEIGHT = 1e-300;
 
 /** Product of BigInts as a balanced tree (fast for long products). */
 function product(values: bigint[], from = 0, to = values.length): bigint {
@@ -445,15 +450,15 @@ export function fisherExactTest(
   const mode = Math.min(hi, Math.max(lo, Math.floor(((yes + 1) * (n1 + 1)) / (n1 + n2 + 2))));
   const w = new Float64Array(hi - lo + 1);
   w[mode - lo] = 1;
-  // Outward from the mode by the ratio recurrence; once a weight underflows, the rest of that side is 0.
+  // Outward from the mode by the ratio recurrence; once a weight is negligible, the rest of that side is 0.
   for (let k = mode; k < hi; k++) {
     const next = (w[k - lo] * ((n1 - k) * (yes - k))) / ((k + 1) * (n2 - yes + k + 1));
-    if (next === 0) break;
+    if (next < NEGLIGIBLE_WEIGHT) break;
     w[k + 1 - lo] = next;
   }
   for (let k = mode; k > lo; k--) {
     const prev = (w[k - lo] * (k * (n2 - yes + k))) / ((n1 - k + 1) * (yes - k + 1));
-    if (prev === 0) break;
+    if (prev < NEGLIGIBLE_WEIGHT) break;
     w[k - 1 - lo] = prev;
   }
   let sum = 0;
@@ -465,7 +470,7 @@ export function fisherExactTest(
     const wx = w[x - lo];
     for (let k = lo; k <= hi; k++) {
       const v = w[k - lo];
-      const asLikely = Math.abs(v - wx) <= NEAR_TIE * wx && wx > 0 ? exactlyAsLikely(n1, n2, yes, x, k) : v <= wx;
+      const asLikely = Math.abs(v - wx) <= NEAR_TIE * wx && wx > 0 && v > 0 ? exactlyAsLikely(n1, n2, yes, x, k) : v <= wx;
       if (asLikely) tail += v;
     }
   }
