@@ -15,7 +15,8 @@ export function PrimaryResult({ results }: { results: RunResults }) {
   const p = results.primary;
   const e = results.effectSize;
   return (
-    <section aria-labelledby="primary-result" className="rounded-lg border border-accent/50 bg-surface p-6">
+    // min-w-0: as a grid item it would otherwise widen to its widest table, and the page would scroll sideways on a phone.
+    <section aria-labelledby="primary-result" className="min-w-0 rounded-lg border border-accent/50 bg-surface p-6">
       <div className="flex flex-wrap items-center gap-3">
         <h3 id="primary-result" className="text-xl font-semibold">
           The primary result

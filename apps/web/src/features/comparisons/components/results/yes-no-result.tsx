@@ -25,13 +25,27 @@ export function YesNoFigures({ results }: { results: RunResults }) {
         columns={[
           { key: 'arm', header: 'Arm' },
           { key: 'yes', header: 'Answered yes', numeric: true },
-          { key: 'percent', header: `Yes, % (${level} CI)`, numeric: true },
+          {
+            key: 'percent',
+            header: (
+              <>
+                Yes, %{' '}<span className="block font-normal">({level} CI)</span>
+              </>
+            ),
+            numeric: true,
+          },
         ]}
         rows={y.arms.map((a) => ({
           id: a.arm,
           arm: armNames[a.arm],
           yes: `${formatCount(a.yes)} of ${formatCount(a.n)}`,
-          percent: `${formatNumber(a.proportion * 100, 1)} % ${percentInterval(a.ci)}`,
+          // The interval on its own line, so the table fits a phone.
+          percent: (
+            <>
+              {formatNumber(a.proportion * 100, 1)} %{' '}
+              <span className="block text-ink-muted">{percentInterval(a.ci)}</span>
+            </>
+          ),
         }))}
       />
       <p className="max-w-prose text-sm text-ink-muted">
