@@ -31,8 +31,8 @@ import {
 } from '@/lib/plan-labels';
 import { defaultIcc, planningFields, type PlanningValues } from '@/features/plan/planning';
 import { formatTime } from '@/lib/format';
-import { applyApiError, type FormProblem } from '@/lib/form-errors';
 import { plainMessages } from '@/lib/form-messages';
+import { useApiSubmit } from '@/lib/use-api-submit';
 
 /** The amendment form: the whole plan plus the reason, checked by the same schemas the API uses. */
 const amendFormSchema = planContentSchema.safeExtend({ reason: amendmentSchema.shape.reason });
@@ -366,7 +366,6 @@ interface PlanFormProps extends RefsProps {
 
 export function PlanForm({ initial, measures, waves, unit, quasiExperimental = false, onSaveDraft, onSeal, onAmend, onCancel }: PlanFormProps) {
   const amending = onAmend !== undefined;
-  const [problem, setProblem] = useState<FormProblem | null>(null);
   const [saved, setSaved] = useState<string | null>(null);
   const [sealing, setSealing] = useState<PlanContent | null>(null);
   const [sealBusy, setSealBusy] = useState(false);
@@ -379,33 +378,25 @@ export function PlanForm({ initial, measures, waves, unit, quasiExperimental = f
   const {
     register,
     handleSubmit,
-    setError,
     reset,
     formState: { errors, isSubmitting },
   } = form;
 
-  const fail = (error: unknown) => setProblem(applyApiError(error, setError, formFields));
-
-  const save = handleSubmit(async (values) => {
-    setProblem(null);
+  const { onSubmit: save, problem, clearProblem, sendOther } = useApiSubmit(form, formFields, async (values) => {
     setSaved(null);
     const plan = tidy(values as PlanContent);
-    try {
-      if (amending) {
-        await onAmend({ reason: values.reason ?? '', plan });
-      } else {
-        await onSaveDraft?.(plan);
-        reset(plan);
-        setEdited(false);
-        setSaved(`Draft saved at ${formatTime(new Date())}.`);
-      }
-    } catch (error) {
-      fail(error);
+    if (amending) {
+      await onAmend({ reason: values.reason ?? '', plan });
+    } else {
+      await onSaveDraft?.(plan);
+      reset(plan);
+      setEdited(false);
+      setSaved(`Draft saved at ${formatTime(new Date())}.`);
     }
   });
 
   const askToSeal = handleSubmit((values) => {
-    setProblem(null);
+    clearProblem();
     setSaved(null);
     setSealing(tidy(values as PlanContent));
   });
@@ -483,15 +474,9 @@ export function PlanForm({ initial, measures, waves, unit, quasiExperimental = f
             onClick={async () => {
               if (!sealing || !onSeal) return;
               setSealBusy(true);
-              try {
-                await onSeal(sealing);
-                setSealing(null);
-              } catch (error) {
-                setSealing(null);
-                fail(error);
-              } finally {
-                setSealBusy(false);
-              }
+              // The dialog closes either way; a refusal shows above the form like a refused draft.
+              await sendOther(() => onSeal(sealing).finally(() => setSealing(null)));
+              setSealBusy(false);
             }}
           >
             Seal the plan
