@@ -55,7 +55,8 @@ function MeasureSection({ measure, quasiExperimental }: { measure: MeasureChecks
           plausibly affect who leaves the study, the <strong className="text-ink">optimistic</strong> one when that is unlikely. Decide
           which applies from the intervention, not from these numbers.
         </p>
-        <div className="grid gap-4 xl:grid-cols-2">
+        {/* A grid item is as wide as its widest table unless allowed to shrink: then the table scrolls in its own frame on a phone. */}
+        <div className="grid gap-4 xl:grid-cols-2 [&>*]:min-w-0">
           <AttritionPanel title="Students" unit={['student', 'students']} attrition={measure.accounting?.attrition.students ?? null} counts={armCounts(measure, 'students')} />
           <AttritionPanel
             title="Classrooms"
