@@ -17,6 +17,16 @@ export interface LockedRunRow {
 /** The plain-language result a principal reads, from the run's own numbers. */
 export function resultSentences(r: RunResults, favours: SiteResult['district']['favours']): string[] {
   if (r.yesNo) return yesNoSentences(r, r.yesNo, favours);
+  // A district arm under the minimum: g, its interval and p could give its size back, so only the direction and the verdict.
+  if (suppressCounts(r.descriptives.map((d) => d.students)).hidden) {
+    const d = decidingTest(r);
+    const test = `${decidingAnalysisNames[d.analysis]}, ${sidedness[d.alternative] ?? d.alternative}, at alpha ${formatAlpha(r.alpha)}`;
+    const side = favours === 'neither' ? 'about the same in both groups' : `in favour of the ${favours}`;
+    return [
+      `Across all schools in the study, the result on ${r.measure.name} at ${r.wave.name} came out ${side}; its size is not shown, since a group has ${SUPPRESSED_WORDS} and the size would reveal how many.`,
+      `${d.significant ? 'It meets' : 'It does not meet'} the test registered in the plan before the data were in (${test}); its p-value is not shown either.`,
+    ];
+  }
   const g = r.effectSize.g;
   const where = `on ${r.measure.name} at ${r.wave.name}`;
   const same = formatNumber(g, 2) === formatNumber(0, 2);
@@ -86,8 +96,10 @@ export function siteResult(run: LockedRunRow, siteId: string): SiteResult {
   const same = y ? formatNumber(deciding.estimate * 100, 1) === formatNumber(0, 1) : formatNumber(g, 2) === formatNumber(0, 2);
   const favours: SiteResult['district']['favours'] = same ? 'neither' : ((y ? deciding.estimate : g) > 0) === r.measure.higherIsBetter ? 'intervention' : 'comparison';
   const answers = y ? y.arms.map((a) => suppressCounts([a.yes, a.no])) : [];
-  const hidden = answers.some((a) => a.hidden);
-  const districtStudents = suppressCounts(r.descriptives.map((d) => d.students)).total;
+  const districtCounts = suppressCounts(r.descriptives.map((d) => d.students));
+  // As in the principal view: a hidden district count hides every figure it could be worked back from.
+  const hidden = districtCounts.hidden || answers.some((a) => a.hidden);
+  const districtStudents = districtCounts.total;
   const own = r.sites.find((s) => s.siteId === siteId);
   let site: SiteResult['site'] = null;
   if (own) {
@@ -115,7 +127,7 @@ export function siteResult(run: LockedRunRow, siteId: string): SiteResult {
       g: hidden ? null : g,
       gCi: hidden ? null : r.effectSize.ci,
       improvementIndex: hidden ? null : r.effectSize.improvementIndex,
-      substantivelyImportant: y ? !hidden && !!y.coxIndex?.substantivelyImportant : r.effectSize.substantivelyImportant,
+      substantivelyImportant: !hidden && (y ? !!y.coxIndex?.substantivelyImportant : r.effectSize.substantivelyImportant),
       favours,
       analysis: deciding.analysis,
       estimate: hidden ? null : deciding.estimate,
