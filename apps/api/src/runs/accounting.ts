@@ -106,10 +106,7 @@ export function account(classrooms: readonly ClassroomStanding[], reads: readonl
  * pretest-paired rows (a student's pretest is their score on the classroom's baseline sheet, as the run pairs them).
  * $1 study, $2 outcome wave, $3 measure, $4 sheet states read, $5 baseline wave (only with `withPretest`).
  */
-const standingsSql = (withPretest: boolean) => `
-  -- One pass over the registry, materialized: inlined, the planner sometimes reran the count per classroom (minutes at 8 000).
-  WITH registered AS MATERIALIZED (SELECT classroom_id, count(*)::int AS n FROM students WHERE study_id = $1 GROUP BY classroom_id),
-       rowed AS (
+const standingsSql = (withPretest: boolean) => standingsWith(`
          SELECT o.classroom_id, count(*) FILTER (WHERE o.score IS NOT NULL)::int AS scored,
                 count(*) FILTER (WHERE o.score IS NULL AND o.left_study)::int AS "left",
                 ${withPretest ? 'count(b.score) FILTER (WHERE o.score IS NOT NULL)::int' : '0'} AS with_pretest
@@ -121,7 +118,23 @@ const standingsSql = (withPretest: boolean) => `
                : ''
            }
           WHERE o.study_id = $1 AND o.wave_id = $2 AND o.measure_id = $3
-          GROUP BY o.classroom_id)
+          GROUP BY o.classroom_id`);
+
+/**
+ * The same standings when a run's classroom pass has already counted the scored rows and their pretests: only the
+ * rows marked as left without a score are counted here, so the outcome scores are not joined to their pretests twice.
+ */
+const standingsAfterRunSql = standingsWith(`
+         SELECT o.classroom_id, 0 AS scored, count(*)::int AS "left", 0 AS with_pretest
+           FROM scores o JOIN score_sheets sh ON sh.id = o.sheet_id AND sh.state = ANY($4) AND sh.mode = 'rows'
+          WHERE o.study_id = $1 AND o.wave_id = $2 AND o.measure_id = $3 AND o.score IS NULL AND o.left_study
+          GROUP BY o.classroom_id`);
+
+function standingsWith(rowed: string): string {
+  return `
+  -- One pass over the registry, materialized: inlined, the planner sometimes reran the count per classroom (minutes at 8 000).
+  WITH registered AS MATERIALIZED (SELECT classroom_id, count(*)::int AS n FROM students WHERE study_id = $1 GROUP BY classroom_id),
+       rowed AS (${rowed})
   SELECT c.id AS classroom_id, c.arm, coalesce(r.n, 0)::int AS registered, sh.state AS sheet_state,
          (sh.summary_n IS NOT NULL OR EXISTS (SELECT 1 FROM scores x WHERE x.sheet_id = sh.id)) AS entered,
          CASE WHEN sh.mode = 'summary' AND sh.state = ANY($4) THEN sh.summary_n END AS summary_n,
@@ -131,6 +144,7 @@ const standingsSql = (withPretest: boolean) => `
     LEFT JOIN score_sheets sh ON sh.classroom_id = c.id AND sh.study_id = $1 AND sh.wave_id = $2 AND sh.measure_id = $3
     LEFT JOIN rowed w ON w.classroom_id = c.id
    WHERE c.study_id = $1 AND c.arm IS NOT NULL`;
+}
 
 export interface AccountingScope {
   studyId: string;
@@ -141,12 +155,26 @@ export interface AccountingScope {
   pretestWaveId: string | null;
 }
 
-/** The accounting of the sheets as they stand (a run calls it in its own snapshot, so it counts exactly what it read). */
-export async function accountFor(manager: EntityManager, scope: AccountingScope): Promise<Accounting> {
+/** Per classroom, what a run's classroom pass counted on the row sheets it read: scored outcomes and those with a pretest. */
+export type ReadCounts = ReadonlyMap<string, { scored: number; withPretest: number }>;
+
+/**
+ * The accounting of the sheets as they stand (a run calls it in its own snapshot, so it counts exactly what it read,
+ * and passes the counts its classroom pass already made).
+ */
+export async function accountFor(manager: EntityManager, scope: AccountingScope, read?: ReadCounts): Promise<Accounting> {
   const withPretest = scope.pretestWaveId !== null;
   const params: unknown[] = [scope.studyId, scope.waveId, scope.measureId, scope.reads];
-  const rows: { classroom_id: string; arm: Arm; registered: number; sheet_state: SheetState | null; entered: boolean | null; summary_n: number | null; scored: number; left: number; with_pretest: number }[] =
-    await manager.query(standingsSql(withPretest), withPretest ? [...params, scope.pretestWaveId] : params);
+  const rows: { classroom_id: string; arm: Arm; registered: number; sheet_state: SheetState | null; entered: boolean | null; summary_n: number | null; scored: number; left: number; with_pretest: number }[] = read
+    ? await manager.query(standingsAfterRunSql, params)
+    : await manager.query(standingsSql(withPretest), withPretest ? [...params, scope.pretestWaveId] : params);
+  if (read) {
+    for (const r of rows) {
+      const counted = read.get(r.classroom_id);
+      r.scored = counted?.scored ?? 0;
+      r.with_pretest = withPretest ? (counted?.withPretest ?? 0) : 0;
+    }
+  }
   const standings = rows.map((r) => ({
     classroomId: r.classroom_id,
     arm: r.arm,

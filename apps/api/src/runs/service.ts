@@ -70,7 +70,8 @@ export async function executeRun(db: DataSource, logger: Logger, runId: string):
       });
       // Who was analysed and who was lost, and why, in the same snapshot as the data: the run stores what it read.
       const pretest = needsPretest({ primaryTest: k.primary_test, covariate: k.covariate, scale: k.measure_scale, hasBaselineWave: Boolean(baseline) });
-      const accounting = await accountFor(manager, { studyId: k.study_id, measureId: k.measure_id, waveId: k.wave_id, reads: states, pretestWaveId: pretest ? baseline.id : null });
+      const read = new Map(data.classrooms.filter((c) => !c.fromSummary).map((c) => [c.classroomId, { scored: c.n, withPretest: c.pairs?.n ?? 0 }]));
+      const accounting = await accountFor(manager, { studyId: k.study_id, measureId: k.measure_id, waveId: k.wave_id, reads: states, pretestWaveId: pretest ? baseline.id : null }, read);
       const computed = analyse(
         {
           kind: claimed.kind,
