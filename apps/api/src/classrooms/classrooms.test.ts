@@ -182,6 +182,27 @@ describe('naming people for school roles', () => {
     expect(await grants('reviewer@evenhand.test')).toEqual(['reviewer@-']);
   });
 
+  it('when an existing account is named teacher of a second classroom while its offer is open, then the first link stands and no second e-mail goes out', async () => {
+    const email = 'teacher4@evenhand.test';
+    const offered = async () => (await mailTo(email)).filter((m) => m.subject === `Accept your role at ${siteName}`);
+    await send(s.coordinator, 'post', `/api/studies/${s.studyId}/classrooms`, room('Twin Room A', email), 201);
+    await expect.poll(async () => (await offered()).length, { timeout: 30_000 }).toBe(1);
+    const second = await send(s.coordinator, 'post', `/api/studies/${s.studyId}/classrooms`, room('Twin Room B', email), 201);
+    expect(second.teacher).toMatchObject({ email, invitationPending: true });
+    const [pending] = await t.db.query(
+      `SELECT count(*)::int AS n FROM role_invitations i JOIN users u ON u.id = i.user_id WHERE u.email = $1 AND i.site_id = $2 AND i.state = 'pending'`,
+      [email, siteId],
+    );
+    expect(pending.n).toBe(1);
+    // The mail job has had its chance to send a second message; the first link still works.
+    await new Promise((r) => setTimeout(r, 1500));
+    const mails = await offered();
+    expect(mails).toHaveLength(1);
+    const teacher = await signIn(t.app, email);
+    const accepted = await teacher.agent.post('/api/role-invitations/accept').set('x-csrf-token', teacher.csrf).send({ token: acceptLink(mails[0].text) });
+    expect(accepted.status).toBe(200);
+  });
+
   it('when an existing account is named teacher, then it gets a link and no role until it accepts; replacing it removes the role', async () => {
     const email = 'teacher3@evenhand.test';
     const before = await grants(email);

@@ -61,8 +61,8 @@ export async function ensurePerson(
  * after another. An existing account is offered the role by an e-mailed link and holds it only once it accepts; a new
  * address gets an account with the first role named for it but no password, usable once the person accepts the
  * invitation by choosing a password (any other role named for it in the same list is offered like an existing
- * account's). A person who already holds the role there is simply named; the same person, role and school named
- * twice is one naming. If anyone named is the actor or holds a conflicting role, `refuse` throws and nothing is
+ * account's). A person who already holds the role there is simply named, and one with an open offer of it keeps that
+ * offer (no second e-mail); the same person, role and school named twice is one naming. If anyone named is the actor or holds a conflicting role, `refuse` throws and nothing is
  * written. Everything goes into the outbox within the caller's transaction. Answers each naming's account, and
  * whether that naming sent mail.
  */
@@ -135,14 +135,24 @@ export async function ensurePeople(
     );
   }
 
-  // Everyone else not yet holding the role there: an offer each (a newer offer of the same role replaces an open
-  // one: only the newest link works).
+  // Everyone else not yet holding the role there: an offer each. An offer of the same role at the same school still
+  // open stands (the link already sent keeps working, and no second e-mail goes out, e.g. for a second classroom); an
+  // expired one is replaced.
   const mailed = new Set(newcomers.map((n) => `${n.person.email}|${n.offered.role}|${n.offered.siteId}`));
+  const candidates = named.filter((n) => !newcomers.includes(n) && !accounts.get(n.person.email)!.held.has(`${n.offered.role}@${n.offered.siteId}`));
+  const open: { key: string }[] = candidates.length
+    ? await manager.query(
+        `SELECT u.email || '|' || i.role || '|' || i.site_id AS key FROM role_invitations i JOIN users u ON u.id = i.user_id
+          WHERE i.state = 'pending' AND i.expires_at > now() AND (u.email, i.role, i.site_id) IN (SELECT * FROM unnest($1::text[], $2::text[], $3::uuid[]))`,
+        [candidates.map((n) => n.person.email), candidates.map((n) => n.offered.role), candidates.map((n) => n.offered.siteId)],
+      )
+    : [];
+  const standing = new Set(open.map((o) => o.key));
   const offers: (Naming & { userId: string; name: string; token: string })[] = [];
-  for (const n of named) {
+  for (const n of candidates) {
     const key = `${n.person.email}|${n.offered.role}|${n.offered.siteId}`;
+    if (mailed.has(key) || standing.has(key)) continue;
     const account = accounts.get(n.person.email)!;
-    if (mailed.has(key) || account.held.has(`${n.offered.role}@${n.offered.siteId}`)) continue;
     mailed.add(key);
     offers.push({ ...n, userId: account.id, name: account.name, token: randomBytes(32).toString('base64url') });
   }
