@@ -1,5 +1,5 @@
 import { expect, test, type Page } from '@playwright/test';
-import { DEMO_STUDY, acceptRoleOffer, apiAs, expectAccessible, expectStatus, isoDay, signIn } from './support';
+import { DEMO_STUDY, acceptRoleOffer, apiAs, expectAccessible, expectStatus, isoDay, queryDatabase, signIn } from './support';
 
 /**
  * Phones and tablets: sign-in, My classes, the score sheet (typing, pasting a block, autosave, submit) and My school
@@ -106,6 +106,16 @@ for (const size of sizes) {
       await expectNoSidewaysScroll(page);
       await expectAccessible(page);
       if (size.width === 390) await page.screenshot({ path: test.info().outputPath('my-school-390.png'), fullPage: true });
+    });
+
+    test('the research lead reads the study report, its effect-size chart included, without the page scrolling sideways', async ({ page }) => {
+      test.setTimeout(60_000);
+      const [{ id }] = await queryDatabase<{ id: string }>(`SELECT id FROM studies WHERE title = $1`, [DEMO_STUDY]);
+      await signIn(page, 'lead@evenhand.test');
+      await page.goto(`/studies/${id}/report`);
+      await expect(page.getByRole('heading', { name: 'Study report' })).toBeVisible({ timeout: 30_000 });
+      await expect(page.getByText(/^Each dot is a comparison’s Hedges’ g/)).toBeVisible();
+      await expectNoSidewaysScroll(page);
     });
   });
 }

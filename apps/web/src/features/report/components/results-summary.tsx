@@ -93,7 +93,8 @@ export function EffectSizeChart({ items }: { items: ReportedComparison[] }) {
         height: 70 + 40 * rows.length,
         marginLeft: Math.min(360, width / 2),
         marginBottom: 42,
-        x: { label: 'Effect size (intervention − comparison), 95% CI', labelAnchor: 'center', labelArrow: 'none', grid: true, nice: true },
+        // Centred under a narrow plot area (half of a phone's width), the label would run past the page's right edge.
+        x: { label: 'Effect size (intervention − comparison), 95% CI', labelAnchor: width < 560 ? 'right' : 'center', labelArrow: 'none', grid: true, nice: true },
         y: { domain: rows.map((r) => r.label), label: null, tickFormat: (d: string) => (d.length > 48 ? `${d.slice(0, 46)}…` : d) },
         color: { domain: ['Pre-specified', 'Exploratory'], range: [chartColors.intervention, chartColors.comparison], legend: true },
         marks: [
