@@ -7,6 +7,16 @@ import { uniqueAddress } from './mail.js';
 import { acceptOpenInvitations } from '../src/users/role-invitations.js';
 
 /** Sends a state-changing request with the session's CSRF header and checks the status. */
+/** Polls a run until a worker has finished (or failed) it, and answers its body as `who` reads it. */
+export async function waitForRun(who: SignedIn, runId: string) {
+  for (let i = 0; i < 150; i++) {
+    const res = await who.agent.get(`/api/runs/${runId}`);
+    if (['finished', 'failed'].includes(res.body.state)) return res.body;
+    await new Promise((r) => setTimeout(r, 200));
+  }
+  throw new Error(`run ${runId} did not finish`);
+}
+
 export async function send(s: SignedIn, method: 'post' | 'put' | 'patch', url: string, body: object, status: number) {
   const res = await s.agent[method](url).set('x-csrf-token', s.csrf).send(body);
   if (res.status !== status) throw new Error(`${method.toUpperCase()} ${url} answered ${res.status}, expected ${status}: ${JSON.stringify(res.body)}`);

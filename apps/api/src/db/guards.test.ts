@@ -2,7 +2,7 @@ import pg from 'pg';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { startTestApp, type TestApp } from '../../test/app.js';
 import { urlForDatabase } from '../../test/database.js';
-import { createStudy, enrolClassrooms, fillSheet, send, type StudySetup } from '../../test/fixtures.js';
+import { createStudy, enrolClassrooms, fillSheet, send, waitForRun, type StudySetup } from '../../test/fixtures.js';
 
 let t: TestApp;
 let s: StudySetup;
@@ -10,15 +10,6 @@ let owner: pg.Client;
 let runId: string;
 let comparisonId: string;
 const rooms: { id: string; arm: string }[] = [];
-
-async function waitFor(id: string) {
-  for (let i = 0; i < 100; i++) {
-    const res = await s.lead.agent.get(`/api/runs/${id}`);
-    if (['finished', 'failed'].includes(res.body.state)) return res.body;
-    await new Promise((r) => setTimeout(r, 200));
-  }
-  throw new Error(`run ${id} did not finish`);
-}
 
 beforeAll(async () => {
   t = await startTestApp({ workers: true });
@@ -36,7 +27,7 @@ beforeAll(async () => {
   }
   [{ id: comparisonId }] = (await s.lead.agent.get(`/api/studies/${s.studyId}/comparisons`)).body.items;
   const queued = await send(s.lead, 'post', `/api/comparisons/${comparisonId}/runs`, { kind: 'confirmatory' }, 202);
-  expect((await waitFor(queued.run.id)).state).toBe('finished');
+  expect((await waitForRun(s.lead, queued.run.id)).state).toBe('finished');
   runId = queued.run.id;
   await send(s.lead, 'post', `/api/runs/${runId}/lock`, {}, 200);
 }, 60_000);

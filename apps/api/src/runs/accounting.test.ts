@@ -2,7 +2,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { attrition } from '@evenhand/stats';
 import { lossReasons, type Accounting, type Arm, type LossReason, type RunResults } from '@evenhand/entities';
 import { signIn, startTestApp, type SignedIn, type TestApp } from '../../test/app.js';
-import { createStudy, enrolClassrooms, fillSheet, samplePlan, send } from '../../test/fixtures.js';
+import { createStudy, enrolClassrooms, fillSheet, samplePlan, send, waitForRun } from '../../test/fixtures.js';
 import { account } from './accounting.js';
 
 // One definition of "analysed" and "lost": the run stores it, the Checks and the report read it, the bundle ships it.
@@ -10,15 +10,6 @@ import { account } from './accounting.js';
 
 let t: TestApp;
 let reviewer: SignedIn;
-
-async function waitFor(runId: string, who: SignedIn) {
-  for (let i = 0; i < 150; i++) {
-    const res = await who.agent.get(`/api/runs/${runId}`);
-    if (['finished', 'failed'].includes(res.body.state)) return res.body;
-    await new Promise((r) => setTimeout(r, 200));
-  }
-  throw new Error(`run ${runId} did not finish`);
-}
 
 beforeAll(async () => {
   t = await startTestApp({ workers: true });
@@ -105,7 +96,7 @@ describe('who was analysed and who was lost', () => {
 
     const [comparison] = (await s.lead.agent.get(`/api/studies/${s.studyId}/comparisons`)).body.items;
     const queued = await send(s.lead, 'post', `/api/comparisons/${comparison.id}/runs`, { kind: 'confirmatory' }, 202);
-    const run = await waitFor(queued.run.id, s.lead);
+    const run = await waitForRun(s.lead, queued.run.id);
     expect(run.error).toBeNull();
     const r: RunResults = run.results;
     const stored = r.accounting!;

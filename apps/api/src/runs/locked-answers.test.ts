@@ -1,6 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { signIn, startTestApp, type SignedIn, type TestApp } from '../../test/app.js';
-import { createStudy, enrolClassrooms, fillSheet, send, type StudySetup } from '../../test/fixtures.js';
+import { createStudy, enrolClassrooms, fillSheet, send, waitForRun, type StudySetup } from '../../test/fixtures.js';
 import { loadSessionUser } from '../auth/service.js';
 import { getRun } from './service.js';
 
@@ -8,15 +8,6 @@ let t: TestApp;
 let s: StudySetup;
 let runId: string;
 let principal: SignedIn;
-
-async function finished(id: string) {
-  for (let i = 0; i < 100; i++) {
-    const res = await s.lead.agent.get(`/api/runs/${id}`);
-    if (['finished', 'failed'].includes(res.body.state)) return res.body;
-    await new Promise((r) => setTimeout(r, 200));
-  }
-  throw new Error(`run ${id} did not finish`);
-}
 
 beforeAll(async () => {
   t = await startTestApp({ workers: true });
@@ -32,7 +23,7 @@ beforeAll(async () => {
   }
   const [comparison] = (await s.lead.agent.get(`/api/studies/${s.studyId}/comparisons`).expect(200)).body.items;
   const { run: queued } = await send(s.lead, 'post', `/api/comparisons/${comparison.id}/runs`, { kind: 'confirmatory' }, 202);
-  expect((await finished(queued.id)).state).toBe('finished');
+  expect((await waitForRun(s.lead, queued.id)).state).toBe('finished');
   await send(s.lead, 'post', `/api/runs/${queued.id}/lock`, {}, 200);
   runId = queued.id;
   // The demo principal leads the study's first school.

@@ -2,22 +2,13 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { decidingTest, type RunResults } from '@evenhand/entities';
 import { clusterRobustFromRows, twoLevelFromRows } from '@evenhand/stats';
 import { signIn, startTestApp, type SignedIn, type TestApp } from '../../test/app.js';
-import { createStudy, enrolClassrooms, fillSheet, samplePlan, send, type StudySetup } from '../../test/fixtures.js';
+import { createStudy, enrolClassrooms, fillSheet, samplePlan, send, waitForRun, type StudySetup } from '../../test/fixtures.js';
 
 // The two-level model and CR2 are checked against lme4/lmerTest and clubSandwich in packages/stats; here a run must
 // equal the engine's row-based entry points on the same students, and a bundle must be enough to recompute it.
 
 let t: TestApp;
 let reviewer: SignedIn;
-
-async function waitFor(runId: string, who: SignedIn) {
-  for (let i = 0; i < 150; i++) {
-    const res = await who.agent.get(`/api/runs/${runId}`);
-    if (['finished', 'failed'].includes(res.body.state)) return res.body;
-    await new Promise((r) => setTimeout(r, 200));
-  }
-  throw new Error(`run ${runId} did not finish`);
-}
 
 /** A sealed study registering the two-level model, enrolled, drawn and scored; returns the rows written. */
 async function twoLevelStudy(unitOfAssignment: 'classroom' | 'school', sites: number, perSite: number, seed: string) {
@@ -67,7 +58,7 @@ describe('two-level runs', () => {
     const { s, rows, comparisonId, primaryTest } = await twoLevelStudy('classroom', 3, 4, 'two-level-classrooms');
     expect(primaryTest).toBe('two-level');
     const queued = await send(s.lead, 'post', `/api/comparisons/${comparisonId}/runs`, { kind: 'confirmatory' }, 202);
-    const run = await waitFor(queued.run.id, s.lead);
+    const run = await waitForRun(s.lead, queued.run.id);
     expect(run.error).toBeNull();
     const r: RunResults = run.results;
     const expected = twoLevelFromRows({ y: rows.y, arm: rows.arm, cluster: rows.cluster, block: rows.site, covariates: [rows.pretest] }, { confidence: 0.95 });
@@ -117,7 +108,7 @@ describe('two-level runs', () => {
   it('when whole schools were assigned, the units of the model are the schools, without blocks', async () => {
     const { s, rows, comparisonId } = await twoLevelStudy('school', 6, 2, 'two-level-schools');
     const queued = await send(s.lead, 'post', `/api/comparisons/${comparisonId}/runs`, { kind: 'monitoring' }, 202);
-    const run = await waitFor(queued.run.id, s.lead);
+    const run = await waitForRun(s.lead, queued.run.id);
     expect(run.error).toBeNull();
     const r: RunResults = run.results;
     const expected = twoLevelFromRows({ y: rows.y, arm: rows.arm, cluster: rows.site, covariates: [rows.pretest] });

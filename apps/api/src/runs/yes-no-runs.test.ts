@@ -2,7 +2,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { decidingTest, type RunResults } from '@evenhand/entities';
 import { baselineEquivalenceYesNo, chiSquareTest, clusterRobustFromRows, coxIndexFromCounts, fisherExactTest, oddsRatio, proportionDifference, proportionWithInterval, twoProportionZTest } from '@evenhand/stats';
 import { startTestApp, type TestApp } from '../../test/app.js';
-import { createStudy, enrolClassrooms, fillSheet, samplePlan, send } from '../../test/fixtures.js';
+import { createStudy, enrolClassrooms, fillSheet, samplePlan, send, waitForRun } from '../../test/fixtures.js';
 import { principalView } from './principal-view.js';
 import { buildSiteFacts, resultSentences, siteResult } from '../digests/facts.js';
 import { renderDigest } from '../digests/templates.js';
@@ -17,15 +17,6 @@ import { seedDemoStudies } from '../seed/demo-study.js';
 // run must equal the engine's functions on the same counts, and the cluster-assigned one the engine's CR2 on 0/1 rows.
 
 let t: TestApp;
-
-async function waitFor(runId: string, who: { agent: { get: (url: string) => Promise<{ body: { state: string } & Record<string, unknown> }> } }) {
-  for (let i = 0; i < 150; i++) {
-    const res = await who.agent.get(`/api/runs/${runId}`);
-    if (['finished', 'failed'].includes(res.body.state)) return res.body;
-    await new Promise((r) => setTimeout(r, 200));
-  }
-  throw new Error(`run ${runId} did not finish`);
-}
 
 beforeAll(async () => {
   t = await startTestApp({ workers: true });
@@ -109,7 +100,7 @@ describe('yes/no comparisons', () => {
     }
     const [comparison] = (await s.lead.agent.get(`/api/studies/${s.studyId}/comparisons`)).body.items;
     const queued = await send(s.lead, 'post', `/api/comparisons/${comparison.id}/runs`, { kind: 'confirmatory' }, 202);
-    const run = await waitFor(queued.run.id, s.lead);
+    const run = await waitForRun(s.lead, queued.run.id);
     expect(run.error).toBeNull();
     const r = run.results as RunResults;
     expect(r.measure.scale).toBe('yes-no');
@@ -148,7 +139,7 @@ describe('yes/no comparisons', () => {
     expect(counts.intervention.yes).toBe(counts.intervention.n);
     const comparison = (await s.lead.agent.get(`/api/studies/${s.studyId}/comparisons`)).body.items.find((k: { measureId: string }) => k.measureId === measure.id);
     const queued = await send(s.lead, 'post', `/api/comparisons/${comparison.id}/runs`, { kind: 'confirmatory' }, 202);
-    const run = await waitFor(queued.run.id, s.lead);
+    const run = await waitForRun(s.lead, queued.run.id);
     expect(run.state).toBe('finished');
     expect(run.error).toBeNull();
     const y = (run.results as RunResults).yesNo!;
@@ -180,7 +171,7 @@ describe('yes/no comparisons', () => {
     for (const [k, c] of classrooms.entries()) await fillSheet(t.db, { classroomId: c.id, waveId: s.outcomeId, measureId: measure.id }, Array(11).fill(1), `EV${k}`);
     const comparison = (await s.lead.agent.get(`/api/studies/${s.studyId}/comparisons`)).body.items.find((k: { measureId: string }) => k.measureId === measure.id);
     const queued = await send(s.lead, 'post', `/api/comparisons/${comparison.id}/runs`, { kind: 'confirmatory' }, 202);
-    const run = await waitFor(queued.run.id, s.lead);
+    const run = await waitForRun(s.lead, queued.run.id);
     expect(run.state).toBe('failed');
     expect(run.error).toBe('Every student in both arms answered yes: the difference is 0 percentage points and Fisher’s exact p is 1, but no registered test can compare arms without any spread');
   });

@@ -2,7 +2,8 @@ import { attrition, baselineEquivalence, type AttritionBoundary, type AttritionR
 
 /**
  * The evidence-standard rating of one confirmatory comparison, rule by rule, from a plain description of it. Sources and
- * how sure each is: `SOURCES.md` beside this file (V seen in the source, T third-party transcription, M memory).
+ * how sure each is: `SOURCES.md` beside this file (V: read in the published text, T: read in a third-party summary,
+ * M: from memory).
  */
 
 export type ArmPair<T> = { intervention: T; comparison: T };
