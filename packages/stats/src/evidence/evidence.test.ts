@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { attritionMargin, evidenceVerdict, planPreview, rateComparison, ratingRisks, type ComparisonDescription, type EvidenceReason } from './index.js';
+import { attritionMargin, evidenceVerdict, planPreview, rateComparison, ratingRisks, verdictWording, type ComparisonDescription, type EvidenceReason } from './index.js';
 
 // Sources: SOURCES.md beside this file. Attrition boundaries: WWC Handbook v4.1 Table II.1 (T, as in standards.md);
 // equivalence bands: WWC FAQ citing Handbook v3.0 (V); tiers: 20 U.S.C. 7801(21)(A) (V) and the 2016 guidance (T/M).
@@ -160,8 +160,8 @@ describe('clustering and the tier', () => {
   it('when there is no result yet, then the verdict is not settled and says so', () => {
     const v = evidenceVerdict(base({ effect: null }));
     expect(v.settled).toBe(false);
-    expect(v.wording).toContain('cannot be told yet');
-    expect(v.wording).toContain('a preview, not a review');
+    expect(v.wording).toContain('its evidence tier cannot be told yet.');
+    expect(v.wording).toContain('preview, not a review (the evidence reviewers decide)');
   });
   it('when there are no outcome data yet, then the rating cannot be told', () => {
     expect(evidenceVerdict(base({ students: null })).rating).toBe('cannot-tell');
@@ -208,7 +208,7 @@ describe('three invented studies, worked by hand', () => {
     expect(v.rating).toBe('without-reservations');
     expect(v.tier).toBe('strong');
     expect(v.wording).toBe(
-      'This comparison would meet the evidence standards without reservations. It would count as strong evidence under federal education law. This is a preview, not a review: the evidence reviewers decide.',
+      'Evidence preview, not a review (the evidence reviewers decide): this comparison would meet the evidence standards without reservations and would count as strong evidence under federal education law.',
     );
   });
 
@@ -245,6 +245,19 @@ describe('three invented studies, worked by hand', () => {
     expect(reason(v.reasons, 'large-sample').passed).toBe(false);
     expect(reason(v.reasons, 'multi-site').passed).toBe(true);
     expect(v.tier).toBe('promising');
+    expect(v.wording).toBe(
+      'Evidence preview, not a review (the evidence reviewers decide): this comparison would meet the evidence standards with reservations and would count as promising evidence under federal education law.',
+    );
+  });
+
+  it('the wording is one sentence, joined by "but" where the tier goes against the rating', () => {
+    expect(verdictWording({ rating: 'with-reservations', tier: 'none', settled: true })).toBe(
+      'Evidence preview, not a review (the evidence reviewers decide): this comparison would meet the evidence standards with reservations but would not reach any of the evidence tiers of federal education law.',
+    );
+    expect(verdictWording({ rating: 'does-not-meet', tier: 'promising', settled: true })).toContain('would not meet the evidence standards but would count as promising evidence');
+    expect(verdictWording({ rating: 'cannot-tell', tier: 'none', settled: false })).toBe(
+      'Evidence preview, not a review (the evidence reviewers decide): this comparison cannot be rated yet; its evidence tier cannot be told yet.',
+    );
   });
 
   it('Study C — two schools, one per arm, not randomised: does not meet, no tier', () => {
@@ -276,8 +289,9 @@ describe('three invented studies, worked by hand', () => {
     expect(reason(v.reasons, 'confound-school-comparison').passed).toBe(false);
     expect(v.rating).toBe('does-not-meet');
     expect(v.tier).toBe('none');
-    expect(v.wording).toContain('would not meet the evidence standards');
-    expect(v.wording).toContain('It would not reach any of the evidence tiers of federal education law.');
+    expect(v.wording).toBe(
+      'Evidence preview, not a review (the evidence reviewers decide): this comparison would not meet the evidence standards and would not reach any of the evidence tiers of federal education law.',
+    );
   });
 });
 

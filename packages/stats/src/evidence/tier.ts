@@ -39,15 +39,23 @@ export const tierWords: Record<Tier, string> = {
 };
 
 export const PREVIEW_CAUTION = 'This is a preview, not a review: the evidence reviewers decide.';
+/** How the one-sentence wording opens: the same caution, in a clause. */
+export const PREVIEW_CAUTION_LEAD = 'Evidence preview, not a review (the evidence reviewers decide)';
 
-/** One sentence every screen, e-mail and export uses for a verdict. */
+/**
+ * The one sentence every screen, e-mail and export uses for a verdict (the principal's view and digests carry only it):
+ * no counts, and the caution that it is a preview the evidence reviewers decide on.
+ */
 export function verdictWording(v: Pick<Verdict, 'rating' | 'tier' | 'settled'>): string {
+  const meets = v.rating === 'without-reservations' || v.rating === 'with-reservations';
   const tier = !v.settled
-    ? 'Its evidence tier cannot be told yet.'
+    ? 'its evidence tier cannot be told yet'
     : v.tier === 'none'
-      ? 'It would not reach any of the evidence tiers of federal education law.'
-      : `It would count as ${tierWords[v.tier]} under federal education law.`;
-  return `This comparison ${ratingWords[v.rating]}. ${tier} ${PREVIEW_CAUTION}`;
+      ? 'would not reach any of the evidence tiers of federal education law'
+      : `would count as ${tierWords[v.tier]} under federal education law`;
+  // "but" where the tier goes against the rating (meets, no tier; misses, a tier), "and" otherwise.
+  const joint = !v.settled ? '; ' : meets === (v.tier !== 'none') ? ' and ' : ' but ';
+  return `${PREVIEW_CAUTION_LEAD}: this comparison ${ratingWords[v.rating]}${joint}${tier}.`;
 }
 
 /** The rating, then the tier from the rating, the effect's sign and significance, and the sample. */
