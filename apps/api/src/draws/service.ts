@@ -2,19 +2,12 @@ import { randomBytes } from 'node:crypto';
 import type { DataSource, EntityManager } from 'typeorm';
 import { blockedDraw } from '@evenhand/stats';
 import type { Arm, BalanceRow, Draw, DrawRequest, Reassignment, SessionUser } from '@evenhand/entities';
-import { ClassroomEntity, DrawEntity, DrawReassignmentEntity, PlanVersionEntity, StudyEntity } from '@evenhand/entities/orm';
+import { ClassroomEntity, DrawEntity, DrawReassignmentEntity, PlanVersionEntity, StudyEntity, UserEntity } from '@evenhand/entities/orm';
 import { recordAudit } from '../audit/service.js';
 import { AppError } from '../errors.js';
 import { findVisibleStudy } from '../studies/access.js';
 import { advanceStatus } from '../studies/service.js';
-
-interface UnitRow {
-  classroom_id: string;
-  classroom_name: string;
-  site_id: string;
-  site_name: string;
-  expected_size: number;
-}
+import { drawUnits, lockedResultsReading, reassignmentRows, type UnitRow } from './queries.js';
 
 interface DrawDesign {
   unit: 'classroom' | 'school';
@@ -28,11 +21,7 @@ async function design(manager: EntityManager, study: StudyEntity): Promise<DrawD
   if (study.unitOfAssignment === 'student') {
     throw AppError.conflict('Student-level assignment needs class rosters, which Evenhand does not hold; assign classrooms or schools');
   }
-  const classrooms: UnitRow[] = await manager.query(
-    `SELECT c.id AS classroom_id, c.name AS classroom_name, s.id AS site_id, s.name AS site_name, c.expected_size
-       FROM classrooms c JOIN sites s ON s.id = c.site_id WHERE c.study_id = $1 ORDER BY s.name, c.name`,
-    [study.id],
-  );
+  const classrooms = await drawUnits(manager, study.id);
   const names = new Map<string, string>();
   const bySite = new Map<string, string[]>();
   for (const c of classrooms) {
@@ -144,12 +133,8 @@ export async function listDraws(db: DataSource, user: SessionUser, studyId: stri
   const d = await design(db.manager, study);
   const names = d.names;
   const rederived = run(saved.seed, saved.blocks);
-  const reassignments: (DrawReassignmentEntity & { by_name: string })[] = await db.manager.query(
-    `SELECT r.id, r.classroom_id AS "classroomId", r.from_arm AS "fromArm", r.to_arm AS arm, r.reason, r.by_user AS by, r.at, u.name AS by_name
-       FROM draw_reassignments r JOIN users u ON u.id = r.by_user WHERE r.draw_id = $1 ORDER BY r.at`,
-    [saved.id],
-  );
-  const committedBy: { name: string }[] = await db.manager.query(`SELECT name FROM users WHERE id = $1`, [saved.committedBy]);
+  const reassignments = await reassignmentRows(db.manager, saved.id);
+  const committedBy = await db.manager.findOne(UserEntity, { where: { id: saved.committedBy }, select: { id: true, name: true } });
   const currentArm = new Map(
     (await db.manager.findBy(ClassroomEntity, { studyId })).map((c) => [c.id, c.arm]),
   );
@@ -165,7 +150,7 @@ export async function listDraws(db: DataSource, user: SessionUser, studyId: stri
     assignments: saved.assignments.map((a) => ({ ...a, unitName: names.get(a.unitId) ?? a.unitId })),
     balance: balance(d, (c) => currentArm.get(c.classroom_id) ?? null),
     committedAt: saved.committedAt.toISOString(),
-    committedBy: { id: saved.committedBy, name: committedBy[0]?.name ?? '(unknown)' },
+    committedBy: { id: saved.committedBy, name: committedBy?.name ?? '(unknown)' },
     verified: rederived.algorithm === saved.algorithm && rederived.version === saved.algorithmVersion && sameAssignments(rederived.assignments, saved.assignments),
     reassignments: reassignments.map((r) => ({
       id: r.id,
@@ -185,12 +170,7 @@ export async function listDraws(db: DataSource, user: SessionUser, studyId: stri
  * study with a locked result cannot turn quasi-experimental (the database refuses both too).
  */
 async function refuseIfLockedResultReads(manager: EntityManager, studyId: string, classroomId: string): Promise<void> {
-  const locked: { id: string; label: string; locked_at: Date; read: boolean; quasi: boolean }[] = await manager.query(
-    `SELECT r.id, k.label, r.locked_at, r.classroom_arms ? $2 AS read, s.quasi_experimental AS quasi
-       FROM runs r JOIN comparisons k ON k.id = r.comparison_id JOIN studies s ON s.id = r.study_id
-      WHERE r.study_id = $1 AND r.state = 'locked' ORDER BY r.locked_at`,
-    [studyId, classroomId],
-  );
+  const locked = await lockedResultsReading(manager, studyId, classroomId);
   const hit = locked.find((r) => r.read) ?? (locked[0] && !locked[0].quasi ? locked[0] : undefined);
   if (!hit) return;
   const day = new Date(hit.locked_at).toISOString().slice(0, 10);

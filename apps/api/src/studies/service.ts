@@ -1,5 +1,5 @@
 import type { CreateStudy, SessionUser, Study, StudyStatus, UpdateStudy } from '@evenhand/entities';
-import { StudyEntity } from '@evenhand/entities/orm';
+import { PlanVersionEntity, StudyEntity } from '@evenhand/entities/orm';
 import type { DataSource, EntityManager } from 'typeorm';
 import { recordAudit } from '../audit/service.js';
 import { AppError } from '../errors.js';
@@ -88,8 +88,8 @@ export async function updateStudy(db: DataSource, user: SessionUser, id: string,
   return db.transaction(async (manager) => {
     const study = await findVisibleStudy(manager, user, id, true);
     const { archived, ...fields } = input;
-    const sealed = await manager.query(`SELECT 1 FROM plan_versions WHERE study_id = $1 LIMIT 1`, [id]);
-    if (sealed.length && (fields.unitOfAssignment || fields.intervention || fields.comparisonCondition)) {
+    const sealed = await manager.existsBy(PlanVersionEntity, { studyId: id });
+    if (sealed && (fields.unitOfAssignment || fields.intervention || fields.comparisonCondition)) {
       // These are part of what was pre-registered.
       throw AppError.conflict('The plan is sealed: the intervention, comparison and unit of assignment can no longer change');
     }
@@ -109,9 +109,9 @@ export async function updateStudy(db: DataSource, user: SessionUser, id: string,
 export async function advanceStatus(manager: EntityManager, studyId: string, to: StudyStatus, actorId: string | null): Promise<boolean> {
   const order: StudyStatus[] = ['drafting', 'registered', 'enrolling', 'collecting', 'analysing', 'reported', 'archived'];
   const lower = order.slice(0, order.indexOf(to));
-  const [row]: { status: StudyStatus }[] = await manager.query(`SELECT status FROM studies WHERE id = $1 FOR UPDATE`, [studyId]);
+  const row = await manager.findOne(StudyEntity, { where: { id: studyId }, select: { id: true, status: true }, lock: { mode: 'pessimistic_write' } });
   if (!row || !lower.includes(row.status)) return false;
-  await manager.query(`UPDATE studies SET status = $2, updated_at = now() WHERE id = $1`, [studyId, to]);
+  await manager.update(StudyEntity, studyId, { status: to });
   await recordAudit(manager, { actorId, studyId, action: 'study.status_changed', entityType: 'study', entityId: studyId, before: { status: row.status }, after: { status: to } });
   return true;
 }
