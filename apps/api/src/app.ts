@@ -26,7 +26,7 @@ import { requestLog } from './http/request-log.js';
 import { homeRouter } from './home/router.js';
 import { openApiRouter } from './openapi/router.js';
 import { sitesRouter } from './sites/router.js';
-import { usersRouter } from './users/router.js';
+import { accountsRouter } from './accounts/router.js';
 
 /** Builds the Express app without listening; tests import this. */
 export function createApp(deps: Deps) {
@@ -45,7 +45,7 @@ export function createApp(deps: Deps) {
     healthRouter(deps, registry),
     authRouter(deps, registry),
     districtSignInRouter(deps, registry),
-    usersRouter(deps, registry),
+    accountsRouter(deps, registry),
     studiesRouter(deps, registry),
     plansRouter(deps, registry),
     measuresRouter(deps, registry),

@@ -4,7 +4,7 @@ import { expect } from 'vitest';
 import type { SignedIn } from './app.js';
 import { signIn } from './app.js';
 import { uniqueAddress } from './mail.js';
-import { acceptOpenInvitations } from '../src/users/role-invitations.js';
+import { acceptOpenInvitations } from '../src/accounts/role-invitations.js';
 
 /** Sends a state-changing request with the session's CSRF header and checks the status. */
 /** Polls a run until a worker has finished (or failed) it, and answers its body as `who` reads it. */

@@ -39,7 +39,7 @@ test('a teacher cannot open the accounts screen, in the browser or through the A
   await page.goto('/accounts');
   await expect(page.getByText(/not available for your role/i)).toBeVisible();
   await expect(page.getByRole('table')).toHaveCount(0);
-  const api = await page.request.get('/api/users');
+  const api = await page.request.get('/api/accounts');
   expect(api.status()).toBe(403);
   expect((await api.json()).error.code).toBe('forbidden');
 });

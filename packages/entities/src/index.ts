@@ -3,7 +3,7 @@ export * from './schemas/common.js';
 export * from './schemas/roles.js';
 export * from './schemas/auth.js';
 export * from './schemas/district-sign-in.js';
-export * from './schemas/users.js';
+export * from './schemas/accounts.js';
 export * from './schemas/audit.js';
 export * from './schemas/sites.js';
 export * from './schemas/studies.js';

@@ -69,7 +69,7 @@ describe('sessions', () => {
   it('when a token is forged with another secret, then it is refused with a clear 401', async () => {
     const { userId } = await signIn(t.app, 'admin@evenhand.test');
     const forged = jwt.sign({}, 'someone-elses-secret-of-enough-length!!', { subject: userId, expiresIn: 600 });
-    const res = await request(t.app).get('/api/users').set('authorization', `Bearer ${forged}`);
+    const res = await request(t.app).get('/api/accounts').set('authorization', `Bearer ${forged}`);
     expect(res.status).toBe(401);
     expect(res.body.error.message).toMatch(/not valid or has expired/);
   });
@@ -136,11 +136,11 @@ describe('sessions', () => {
   it('when an admin changes an account’s roles or deactivates it, then its sessions end', async () => {
     const admin = await signIn(t.app, 'admin@evenhand.test');
     const s = await signIn(t.app, 'teacher6@evenhand.test');
-    const roles = (await admin.agent.get(`/api/users?q=teacher6@evenhand.test`)).body.items[0].roles;
-    await admin.agent.patch(`/api/users/${s.userId}`).set('x-csrf-token', admin.csrf).send({ roles: [...roles, { role: 'research_lead', siteId: null }] }).expect(200);
+    const roles = (await admin.agent.get(`/api/accounts?q=teacher6@evenhand.test`)).body.items[0].roles;
+    await admin.agent.patch(`/api/accounts/${s.userId}`).set('x-csrf-token', admin.csrf).send({ roles: [...roles, { role: 'research_lead', siteId: null }] }).expect(200);
     expect((await request(t.app).get('/api/auth/me').set('authorization', `Bearer ${s.token}`)).status).toBe(401);
     const again = await signIn(t.app, 'teacher6@evenhand.test');
-    await admin.agent.patch(`/api/users/${s.userId}`).set('x-csrf-token', admin.csrf).send({ roles }).expect(200);
+    await admin.agent.patch(`/api/accounts/${s.userId}`).set('x-csrf-token', admin.csrf).send({ roles }).expect(200);
     expect((await request(t.app).get('/api/auth/me').set('authorization', `Bearer ${again.token}`)).status).toBe(401);
   });
 

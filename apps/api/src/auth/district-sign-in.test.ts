@@ -213,7 +213,7 @@ describe('sign-in with the district account', () => {
   });
 
   it('refuses a return path that leaves the app', async () => {
-    for (const next of ['//elsewhere.example/', 'https://elsewhere.example/', '/api/users', '/\\elsewhere.example']) {
+    for (const next of ['//elsewhere.example/', 'https://elsewhere.example/', '/api/accounts', '/\\elsewhere.example']) {
       const res = await request(app).get('/api/auth/district/start').query({ next });
       expect([next, res.status]).toEqual([next, 400]);
     }

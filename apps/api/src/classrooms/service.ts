@@ -16,7 +16,7 @@ import type { Deps } from '../deps.js';
 import { AppError } from '../errors.js';
 import { readSmallCsv } from '../lib/csv.js';
 import { findVisibleStudy, hasRole, sitesOf } from '../studies/access.js';
-import { ensurePerson, releaseRole } from '../users/role-invitations.js';
+import { ensurePerson, releaseRole } from '../accounts/role-invitations.js';
 
 interface ClassroomRow {
   id: string;

@@ -6,7 +6,7 @@ import type { Deps } from '../deps.js';
 import { AppError } from '../errors.js';
 import { findVisibleStudy } from '../studies/access.js';
 import { advanceStatus } from '../studies/service.js';
-import { ensurePeople, type Naming, type NamingRefusal } from '../users/role-invitations.js';
+import { ensurePeople, type Naming, type NamingRefusal } from '../accounts/role-invitations.js';
 import type { Bundle } from './bundle.js';
 import { refuseRows, stageBundle } from './parser.js';
 

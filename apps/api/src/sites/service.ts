@@ -7,7 +7,7 @@ import type { Deps } from '../deps.js';
 import { AppError } from '../errors.js';
 import { findVisibleStudy, hasRole, sitesOf } from '../studies/access.js';
 import { advanceStatus } from '../studies/service.js';
-import { ensurePerson, releaseRole } from '../users/role-invitations.js';
+import { ensurePerson, releaseRole } from '../accounts/role-invitations.js';
 import { districtWideRoles } from '@evenhand/entities';
 
 interface SiteRow {

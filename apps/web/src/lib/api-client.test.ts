@@ -40,8 +40,8 @@ describe('apiRequest', () => {
 
   it('puts the query into the URL and leaves out empty values', async () => {
     fetchMock.mockResolvedValue(json(200, { message: 'ok' }));
-    await apiRequest('/users', { query: { q: 'ada', role: undefined, limit: 25, sort: '' }, schema: messageResponseSchema });
-    expect(fetchMock.mock.calls[0][0]).toBe('/api/users?q=ada&limit=25');
+    await apiRequest('/accounts', { query: { q: 'ada', role: undefined, limit: 25, sort: '' }, schema: messageResponseSchema });
+    expect(fetchMock.mock.calls[0][0]).toBe('/api/accounts?q=ada&limit=25');
   });
 
   it("turns the API's error shape into an ApiError with its code, message and field issues", async () => {
@@ -54,7 +54,7 @@ describe('apiRequest', () => {
         },
       }),
     );
-    const error = await apiRequest('/users', { method: 'POST', body: {} }).catch((e: unknown) => e);
+    const error = await apiRequest('/accounts', { method: 'POST', body: {} }).catch((e: unknown) => e);
     expect(error).toBeInstanceOf(ApiError);
     expect(error).toMatchObject({
       status: 400,

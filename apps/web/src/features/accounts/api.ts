@@ -1,29 +1,29 @@
 import {
   pageOf,
   signInSettingsSchema,
-  userSchema,
-  type InviteUser,
+  accountSchema,
+  type InviteAccount,
   type PasswordSignIn,
-  type UpdateUser,
-  type UsersQuery,
+  type UpdateAccount,
+  type AccountsQuery,
 } from '@evenhand/entities';
 import { keepPreviousData, queryOptions, useMutation, useQueryClient } from '@tanstack/react-query';
 import { apiRequest } from '@/lib/api-client';
 
-const usersPageSchema = pageOf(userSchema);
+const accountsPageSchema = pageOf(accountSchema);
 
 // No details/detail(id) keys: the API has no single-account read, and the table's rows carry all an edit needs.
 export const accountKeys = {
   all: ['accounts'] as const,
   lists: () => [...accountKeys.all, 'list'] as const,
-  list: (query: UsersQuery) => [...accountKeys.lists(), query] as const,
+  list: (query: AccountsQuery) => [...accountKeys.lists(), query] as const,
   signInSettings: () => [...accountKeys.all, 'sign-in-settings'] as const,
 };
 
-export function accountsQueryOptions(query: UsersQuery) {
+export function accountsQueryOptions(query: AccountsQuery) {
   return queryOptions({
     queryKey: accountKeys.list(query),
-    queryFn: ({ signal }) => apiRequest('/users', { query, schema: usersPageSchema, signal }),
+    queryFn: ({ signal }) => apiRequest('/accounts', { query, schema: accountsPageSchema, signal }),
     placeholderData: keepPreviousData,
   });
 }
@@ -31,7 +31,7 @@ export function accountsQueryOptions(query: UsersQuery) {
 export function useInviteAccount() {
   const queryClient = useQueryClient();
   return useMutation({
-    mutationFn: (input: InviteUser) => apiRequest('/users', { method: 'POST', body: input, schema: userSchema }),
+    mutationFn: (input: InviteAccount) => apiRequest('/accounts', { method: 'POST', body: input, schema: accountSchema }),
     onSuccess: () => queryClient.invalidateQueries({ queryKey: accountKeys.lists() }),
   });
 }
@@ -39,8 +39,8 @@ export function useInviteAccount() {
 export function useUpdateAccount() {
   const queryClient = useQueryClient();
   return useMutation({
-    mutationFn: ({ id, changes }: { id: string; changes: UpdateUser }) =>
-      apiRequest(`/users/${id}`, { method: 'PATCH', body: changes, schema: userSchema }),
+    mutationFn: ({ id, changes }: { id: string; changes: UpdateAccount }) =>
+      apiRequest(`/accounts/${id}`, { method: 'PATCH', body: changes, schema: accountSchema }),
     onSuccess: () => queryClient.invalidateQueries({ queryKey: accountKeys.lists() }),
   });
 }

@@ -1,4 +1,4 @@
-import { usersQuerySchema, type User, type UsersQuery } from '@evenhand/entities';
+import { accountsQuerySchema, type Account, type AccountsQuery } from '@evenhand/entities';
 import { useQuery, type QueryClient } from '@tanstack/react-query';
 import { useCallback, useState, type ReactNode } from 'react';
 import { useSearchParams, type LoaderFunctionArgs, type ShouldRevalidateFunction } from 'react-router-dom';
@@ -15,12 +15,12 @@ import { SignInSettings } from '@/features/accounts/components/sign-in-settings'
 import { districtSitesQueryOptions } from '@/lib/queries';
 
 const PAGE_SIZE = 25;
-const defaults = usersQuerySchema.parse({ limit: PAGE_SIZE });
+const defaults = accountsQuerySchema.parse({ limit: PAGE_SIZE });
 
 /** The table's state lives in the address (?q=&role=&sort=&order=&page=), so it survives reloads and can be shared. */
-function queryFromSearch(params: URLSearchParams): UsersQuery {
+function queryFromSearch(params: URLSearchParams): AccountsQuery {
   const page = Math.max(1, Math.floor(Number(params.get('page'))) || 1);
-  const parsed = usersQuerySchema.safeParse({
+  const parsed = accountsQuerySchema.safeParse({
     q: params.get('q') || undefined,
     role: params.get('role') || undefined,
     sort: params.get('sort') || undefined,
@@ -31,7 +31,7 @@ function queryFromSearch(params: URLSearchParams): UsersQuery {
   return parsed.success ? parsed.data : defaults;
 }
 
-function searchFromQuery(query: UsersQuery): Record<string, string> {
+function searchFromQuery(query: AccountsQuery): Record<string, string> {
   const search: Record<string, string> = {};
   if (query.q) search.q = query.q;
   if (query.role) search.role = query.role;
@@ -67,14 +67,14 @@ export function AccountsPage({ toDo }: { toDo?: ReactNode }) {
   const invite = useInviteAccount();
   const update = useUpdateAccount();
   const [inviting, setInviting] = useState(false);
-  const [editing, setEditing] = useState<User | null>(null);
+  const [editing, setEditing] = useState<Account | null>(null);
   const [notice, setNotice] = useState<string | null>(null);
 
-  const onQueryChange = (changes: Partial<UsersQuery>) => setParams(searchFromQuery({ ...query, ...changes }));
+  const onQueryChange = (changes: Partial<AccountsQuery>) => setParams(searchFromQuery({ ...query, ...changes }));
 
-  const onEdit = useCallback((user: User) => {
+  const onEdit = useCallback((account: Account) => {
     setNotice(null);
-    setEditing(user);
+    setEditing(account);
   }, []);
 
   const siteList = sites.data?.items ?? [];
@@ -126,9 +126,9 @@ export function AccountsPage({ toDo }: { toDo?: ReactNode }) {
           sites={siteList}
           onCancel={() => setInviting(false)}
           onInvite={async (input) => {
-            const user = await invite.mutateAsync(input);
+            const account = await invite.mutateAsync(input);
             setInviting(false);
-            setNotice(`An invitation is on its way to ${user.name} at ${user.email}.`);
+            setNotice(`An invitation is on its way to ${account.name} at ${account.email}.`);
           }}
         />
       </Dialog>
@@ -136,23 +136,23 @@ export function AccountsPage({ toDo }: { toDo?: ReactNode }) {
       <Dialog open={editing !== null} title={`Edit ${editing?.name ?? 'account'}`} onClose={() => setEditing(null)}>
         {editing && (
           <EditAccountForm
-            user={editing}
+            account={editing}
             sites={siteList}
             onCancel={() => setEditing(null)}
             onSave={async (changes) => {
-              const user = await update.mutateAsync({ id: editing.id, changes });
+              const account = await update.mutateAsync({ id: editing.id, changes });
               setEditing(null);
-              setNotice(`The changes to ${user.name}'s account are saved.`);
+              setNotice(`The changes to ${account.name}'s account are saved.`);
             }}
           />
         )}
         {editing && (
           <AccountAccess
-            user={editing}
+            account={editing}
             onSetActive={async (active) => {
-              const user = await update.mutateAsync({ id: editing.id, changes: { active } });
+              const account = await update.mutateAsync({ id: editing.id, changes: { active } });
               setEditing(null);
-              setNotice(active ? `${user.name} can sign in again.` : `${user.name} is deactivated and can no longer sign in.`);
+              setNotice(active ? `${account.name} can sign in again.` : `${account.name} is deactivated and can no longer sign in.`);
             }}
           />
         )}

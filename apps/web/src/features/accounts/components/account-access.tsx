@@ -1,15 +1,15 @@
-import type { User } from '@evenhand/entities';
+import type { Account } from '@evenhand/entities';
 import { useState } from 'react';
 import { Alert } from '@/components/ui/alert';
 import { Button } from '@/components/ui/button';
 
 interface AccountAccessProps {
-  user: User;
+  account: Account;
   onSetActive: (active: boolean) => Promise<unknown>;
 }
 
 /** Deactivation is reversible and keeps everything the person did; it only stops them signing in. */
-export function AccountAccess({ user, onSetActive }: AccountAccessProps) {
+export function AccountAccess({ account, onSetActive }: AccountAccessProps) {
   const [busy, setBusy] = useState(false);
   const [problem, setProblem] = useState<string | null>(null);
 
@@ -17,7 +17,7 @@ export function AccountAccess({ user, onSetActive }: AccountAccessProps) {
     setBusy(true);
     setProblem(null);
     try {
-      await onSetActive(!user.active);
+      await onSetActive(!account.active);
     } catch (error) {
       setProblem(error instanceof Error ? error.message : 'The change could not be saved.');
       setBusy(false);
@@ -31,12 +31,12 @@ export function AccountAccess({ user, onSetActive }: AccountAccessProps) {
       </h3>
       {problem && <Alert tone="error">{problem}</Alert>}
       <p className="text-ink-muted">
-        {user.active
-          ? `Deactivating stops ${user.name} from signing in. Their records and the audit trail stay, and you can reactivate the account at any time.`
-          : `${user.name}'s account is deactivated: they cannot sign in. Reactivating lets them sign in again with the same roles.`}
+        {account.active
+          ? `Deactivating stops ${account.name} from signing in. Their records and the audit trail stay, and you can reactivate the account at any time.`
+          : `${account.name}'s account is deactivated: they cannot sign in. Reactivating lets them sign in again with the same roles.`}
       </p>
-      <Button variant={user.active ? 'danger' : 'secondary'} busy={busy} onClick={change}>
-        {user.active ? 'Deactivate account' : 'Reactivate account'}
+      <Button variant={account.active ? 'danger' : 'secondary'} busy={busy} onClick={change}>
+        {account.active ? 'Deactivate account' : 'Reactivate account'}
       </Button>
     </section>
   );

@@ -1,4 +1,4 @@
-import { roleLabels, roles, roleSchema, usersQuerySchema, type Site, type User, type UsersQuery } from '@evenhand/entities';
+import { roleLabels, roles, roleSchema, accountsQuerySchema, type Site, type Account, type AccountsQuery } from '@evenhand/entities';
 import { createColumnHelper, type SortingState } from '@tanstack/react-table';
 import { useMemo } from 'react';
 import { Badge } from '@/components/ui/badge';
@@ -7,22 +7,22 @@ import { DataTable } from '@/components/ui/data-table';
 import { Field, Select } from '@/components/ui/field';
 import { formatDate, formatDateTime } from '@/lib/format';
 
-const column = createColumnHelper<User>();
+const column = createColumnHelper<Account>();
 
 interface AccountsTableProps {
-  page: { items: User[]; total: number } | undefined;
+  page: { items: Account[]; total: number } | undefined;
   loading: boolean;
   refreshing: boolean;
   error: Error | null;
-  query: UsersQuery;
-  onQueryChange: (changes: Partial<UsersQuery>) => void;
+  query: AccountsQuery;
+  onQueryChange: (changes: Partial<AccountsQuery>) => void;
   sites: Site[];
-  onEdit: (user: User) => void;
+  onEdit: (account: Account) => void;
 }
 
-function StatusBadge({ user }: { user: User }) {
-  if (!user.active) return <Badge tone="muted">Deactivated</Badge>;
-  if (user.invitationPending) return <Badge tone="caution">Invitation pending</Badge>;
+function StatusBadge({ account }: { account: Account }) {
+  if (!account.active) return <Badge tone="muted">Deactivated</Badge>;
+  if (account.invitationPending) return <Badge tone="caution">Invitation pending</Badge>;
   return <Badge tone="accent">Active</Badge>;
 }
 
@@ -51,7 +51,7 @@ export function AccountsTable(props: AccountsTableProps) {
           </ul>
         ),
       }),
-      column.display({ id: 'status', header: 'Status', cell: ({ row }) => <StatusBadge user={row.original} /> }),
+      column.display({ id: 'status', header: 'Status', cell: ({ row }) => <StatusBadge account={row.original} /> }),
       column.accessor('lastSignInAt', {
         header: 'Last signed in',
         sortDescFirst: true,
@@ -86,7 +86,7 @@ export function AccountsTable(props: AccountsTableProps) {
       columns={columns}
       rows={page?.items ?? []}
       total={page?.total ?? 0}
-      getRowId={(user) => user.id}
+      getRowId={(account) => account.id}
       loading={loading}
       refreshing={refreshing}
       error={error}
@@ -94,7 +94,7 @@ export function AccountsTable(props: AccountsTableProps) {
       empty={filtered ? 'No account matches this search. Try fewer letters or another role.' : 'There are no accounts yet.'}
       sorting={sorting}
       onSortingChange={([next]) => {
-        const sort = usersQuerySchema.shape.sort.safeParse(next?.id);
+        const sort = accountsQuerySchema.shape.sort.safeParse(next?.id);
         if (sort.success) onQueryChange({ sort: sort.data, order: next.desc ? 'desc' : 'asc', offset: 0 });
       }}
       pagination={{ pageIndex: Math.floor(query.offset / query.limit), pageSize: query.limit }}

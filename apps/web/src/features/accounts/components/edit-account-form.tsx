@@ -1,4 +1,4 @@
-import { updateUserSchema, type Site, type UpdateUser, type User } from '@evenhand/entities';
+import { updateAccountSchema, type Site, type UpdateAccount, type Account } from '@evenhand/entities';
 import { zodResolver } from '@hookform/resolvers/zod';
 import { FormProvider, useForm } from 'react-hook-form';
 import { Button } from '@/components/ui/button';
@@ -8,16 +8,16 @@ import { GrantsFieldset } from '@/features/accounts/components/grants-fieldset';
 import { useApiSubmit } from '@/lib/use-api-submit';
 
 interface EditAccountFormProps {
-  user: User;
+  account: Account;
   sites: Site[];
-  onSave: (changes: UpdateUser) => Promise<unknown>;
+  onSave: (changes: UpdateAccount) => Promise<unknown>;
   onCancel: () => void;
 }
 
-export function EditAccountForm({ user, sites, onSave, onCancel }: EditAccountFormProps) {
+export function EditAccountForm({ account, sites, onSave, onCancel }: EditAccountFormProps) {
   const form = useForm({
-    resolver: zodResolver(updateUserSchema),
-    defaultValues: { name: user.name, roles: user.roles },
+    resolver: zodResolver(updateAccountSchema),
+    defaultValues: { name: account.name, roles: account.roles },
   });
   const {
     register,
@@ -34,7 +34,7 @@ export function EditAccountForm({ user, sites, onSave, onCancel }: EditAccountFo
       <form noValidate onSubmit={onSubmit} className="space-y-5">
         {problem && <FormProblemAlert problem={problem} />}
         <p>
-          <span className="font-semibold">E-mail address:</span> {user.email}
+          <span className="font-semibold">E-mail address:</span> {account.email}
         </p>
         <Field label="Name" error={errors.name?.message}>
           {(control) => <TextInput {...control} autoComplete="off" {...register('name')} />}

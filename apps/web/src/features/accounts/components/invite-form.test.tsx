@@ -1,4 +1,4 @@
-import type { InviteUser, Site } from '@evenhand/entities';
+import type { InviteAccount, Site } from '@evenhand/entities';
 import { fireEvent, render, screen, waitFor } from '@testing-library/react';
 import { describe, expect, it, vi } from 'vitest';
 import { InviteForm } from '@/features/accounts/components/invite-form';
@@ -13,7 +13,7 @@ function fillIn(label: string, value: string) {
   fireEvent.change(screen.getByLabelText(label), { target: { value } });
 }
 
-function renderForm(onInvite: (input: InviteUser) => Promise<unknown>) {
+function renderForm(onInvite: (input: InviteAccount) => Promise<unknown>) {
   render(<InviteForm sites={sites} onInvite={onInvite} onCancel={vi.fn()} />);
   fillIn('Name', 'Dana Whitfield');
   fillIn('E-mail address', 'Dana@Example.org');

@@ -1,4 +1,4 @@
-import { inviteUserSchema, type InviteUser, type Site } from '@evenhand/entities';
+import { inviteAccountSchema, type InviteAccount, type Site } from '@evenhand/entities';
 import { zodResolver } from '@hookform/resolvers/zod';
 import { FormProvider, useForm } from 'react-hook-form';
 import { Button } from '@/components/ui/button';
@@ -9,13 +9,13 @@ import { useApiSubmit } from '@/lib/use-api-submit';
 
 interface InviteFormProps {
   sites: Site[];
-  onInvite: (input: InviteUser) => Promise<unknown>;
+  onInvite: (input: InviteAccount) => Promise<unknown>;
   onCancel: () => void;
 }
 
 export function InviteForm({ sites, onInvite, onCancel }: InviteFormProps) {
   const form = useForm({
-    resolver: zodResolver(inviteUserSchema),
+    resolver: zodResolver(inviteAccountSchema),
     defaultValues: { email: '', name: '', roles: [{ role: 'teacher' as const, siteId: null }] },
   });
   const {

@@ -1,12 +1,12 @@
 import { In, type EntityManager } from 'typeorm';
-import type { InviteUser, RoleGrant, SessionUser, UpdateUser, User, UsersQuery } from '@evenhand/entities';
+import type { InviteAccount, RoleGrant, SessionUser, UpdateAccount, Account, AccountsQuery } from '@evenhand/entities';
 import { RoleGrantEntity, SiteEntity, UserEntity } from '@evenhand/entities/orm';
 import type { Deps } from '../deps.js';
 import { AppError } from '../errors.js';
 import { recordAudit } from '../audit/service.js';
 import { endSessions, issueToken, queueInvitation, sessionChanging } from '../auth/service.js';
 
-function toUser(u: UserEntity): User {
+function toAccount(u: UserEntity): Account {
   return {
     id: u.id,
     email: u.email,
@@ -21,14 +21,14 @@ function toUser(u: UserEntity): User {
 
 const byGrant = (a: RoleGrant, b: RoleGrant) => `${a.role}:${a.siteId ?? ''}`.localeCompare(`${b.role}:${b.siteId ?? ''}`);
 
-const sortColumn: Record<UsersQuery['sort'], string> = {
+const sortColumn: Record<AccountsQuery['sort'], string> = {
   name: 'u.name',
   email: 'u.email',
   createdAt: 'u.created_at',
   lastSignInAt: 'u.last_sign_in_at',
 };
 
-export async function listUsers({ db }: Deps, query: UsersQuery): Promise<{ items: User[]; total: number }> {
+export async function listAccounts({ db }: Deps, query: AccountsQuery): Promise<{ items: Account[]; total: number }> {
   const qb = db.getRepository(UserEntity).createQueryBuilder('u');
   if (query.q) qb.andWhere('(u.name ILIKE :q OR u.email ILIKE :q)', { q: `%${query.q.replace(/[\\%_]/g, '\\$&')}%` });
   if (query.role) qb.andWhere('EXISTS (SELECT 1 FROM role_grants g WHERE g.user_id = u.id AND g.role = :role)', { role: query.role });
@@ -41,7 +41,7 @@ export async function listUsers({ db }: Deps, query: UsersQuery): Promise<{ item
     .getMany();
   const grants = page.length ? await db.getRepository(RoleGrantEntity).findBy({ userId: In(page.map((u) => u.id)) }) : [];
   for (const u of page) u.grants = grants.filter((g) => g.userId === u.id);
-  return { items: page.map(toUser), total };
+  return { items: page.map(toAccount), total };
 }
 
 async function assertSitesExist(manager: EntityManager, grants: RoleGrant[]) {
@@ -57,7 +57,7 @@ async function replaceGrants(manager: EntityManager, userId: string, grants: Rol
 }
 
 /** Creates the account without a password and e-mails a set-password link. */
-export async function inviteUser(deps: Deps, actor: SessionUser, input: InviteUser): Promise<User> {
+export async function inviteAccount(deps: Deps, actor: SessionUser, input: InviteAccount): Promise<Account> {
   const user = await deps.db.transaction(async (manager) => {
     if (await manager.existsBy(UserEntity, { email: input.email })) {
       throw AppError.conflict('An account with this e-mail address already exists', { issues: [{ path: 'email', message: 'This address already has an account' }] });
@@ -77,14 +77,14 @@ export async function inviteUser(deps: Deps, actor: SessionUser, input: InviteUs
     created.grants = await manager.findBy(RoleGrantEntity, { userId: created.id });
     return created;
   });
-  return toUser(user);
+  return toAccount(user);
 }
 
-export async function updateUser(deps: Deps, actor: SessionUser, id: string, input: UpdateUser): Promise<User> {
+export async function updateAccount(deps: Deps, actor: SessionUser, id: string, input: UpdateAccount): Promise<Account> {
   return deps.db.transaction(async (manager) => {
     const user = await manager.findOne(UserEntity, { where: { id }, relations: { grants: true }, lock: { mode: 'pessimistic_write', tables: ['users'] } });
-    if (!user) throw AppError.notFound('The user');
-    const before = toUser(user);
+    if (!user) throw AppError.notFound('The account');
+    const before = toAccount(user);
     if (id === actor.id && (input.active === false || (input.roles && !input.roles.some((g) => g.role === 'admin')))) {
       throw AppError.conflict('You cannot deactivate yourself or remove your own admin role');
     }
@@ -97,7 +97,7 @@ export async function updateUser(deps: Deps, actor: SessionUser, id: string, inp
       await replaceGrants(manager, id, input.roles);
     }
     const updated = await manager.findOneOrFail(UserEntity, { where: { id }, relations: { grants: true } });
-    const after = toUser(updated);
+    const after = toAccount(updated);
     const changes: [string, unknown, unknown][] = [
       ['user.roles_changed', before.roles, after.roles],
       ['user.activation_changed', before.active, after.active],

@@ -19,22 +19,22 @@ const audit = (entityId: string) =>
 
 describe('accounts (admin)', () => {
   it('lists accounts with a total, filters by role and text, sorts and paginates', async () => {
-    const all = await admin.agent.get('/api/users?limit=100');
+    const all = await admin.agent.get('/api/accounts?limit=100');
     expect(all.status).toBe(200);
     expect(all.body.total).toBe(demoAccounts.length);
-    const principals = await admin.agent.get('/api/users?role=principal&sort=email&order=desc');
+    const principals = await admin.agent.get('/api/accounts?role=principal&sort=email&order=desc');
     expect(principals.body.items.map((u: { email: string }) => u.email)).toEqual([6, 5, 4, 3, 2, 1].map((i) => `principal${i}@evenhand.test`));
-    const page = await admin.agent.get('/api/users?role=principal&sort=email&limit=2&offset=2');
+    const page = await admin.agent.get('/api/accounts?role=principal&sort=email&limit=2&offset=2');
     expect(page.body).toMatchObject({ total: 6, items: [{ email: 'principal3@evenhand.test' }, { email: 'principal4@evenhand.test' }] });
-    const search = await admin.agent.get('/api/users?q=PRINCIPAL2');
+    const search = await admin.agent.get('/api/accounts?q=PRINCIPAL2');
     expect(search.body.items.map((u: { email: string }) => u.email)).toEqual(['principal2@evenhand.test']);
-    expect((await admin.agent.get('/api/users?q=%25')).body.total).toBe(0); // a literal %, not a wildcard
+    expect((await admin.agent.get('/api/accounts?q=%25')).body.total).toBe(0); // a literal %, not a wildcard
   });
 
   it('when an admin invites a teacher, then an e-mail link lets them choose a password and sign in, and the invitation is audited', async () => {
     const email = uniqueAddress('new-teacher');
     const res = await admin.agent
-      .post('/api/users')
+      .post('/api/accounts')
       .set('x-csrf-token', admin.csrf)
       .send({ email, name: 'Nadia Brightwater', roles: [{ role: 'teacher', siteId }] });
     expect(res.status).toBe(201);
@@ -59,7 +59,7 @@ describe('accounts (admin)', () => {
   it('when the e-mail already has an account, then the invitation is refused with 409 and nothing is written', async () => {
     const count = (await t.db.query('SELECT count(*)::int AS n FROM users'))[0].n;
     const res = await admin.agent
-      .post('/api/users')
+      .post('/api/accounts')
       .set('x-csrf-token', admin.csrf)
       .send({ email: 'TEACHER1@evenhand.test', name: 'Duplicate', roles: [{ role: 'reviewer' }] });
     expect(res.status).toBe(409);
@@ -69,13 +69,13 @@ describe('accounts (admin)', () => {
 
   it('when a teacher grant has no site or names an unknown site, then it is refused with field issues', async () => {
     const noSite = await admin.agent
-      .post('/api/users')
+      .post('/api/accounts')
       .set('x-csrf-token', admin.csrf)
       .send({ email: uniqueAddress('x'), name: 'X', roles: [{ role: 'teacher' }] });
     expect(noSite.status).toBe(400);
     expect(noSite.body.error.details.issues).toEqual([{ path: 'roles.0.siteId', message: 'A teacher grant needs a site' }]);
     const unknownSite = await admin.agent
-      .post('/api/users')
+      .post('/api/accounts')
       .set('x-csrf-token', admin.csrf)
       .send({ email: uniqueAddress('y'), name: 'Y', roles: [{ role: 'principal', siteId: '00000000-0000-4000-8000-000000000000' }] });
     expect(unknownSite.status).toBe(400);
@@ -85,7 +85,7 @@ describe('accounts (admin)', () => {
   it('when grants change, then the change is audited with before and after, the live session ends, and the next one has the new roles', async () => {
     const reviewer = await signIn(t.app, 'reviewer@evenhand.test');
     const res = await admin.agent
-      .patch(`/api/users/${reviewer.userId}`)
+      .patch(`/api/accounts/${reviewer.userId}`)
       .set('x-csrf-token', admin.csrf)
       .send({ roles: [{ role: 'reviewer' }, { role: 'principal', siteId }] });
     expect(res.status).toBe(200);
@@ -101,7 +101,7 @@ describe('accounts (admin)', () => {
 
   it('when an account is deactivated, then its live session stops working at once and it cannot sign in', async () => {
     const teacher = await signIn(t.app, 'teacher2@evenhand.test');
-    const res = await admin.agent.patch(`/api/users/${teacher.userId}`).set('x-csrf-token', admin.csrf).send({ active: false });
+    const res = await admin.agent.patch(`/api/accounts/${teacher.userId}`).set('x-csrf-token', admin.csrf).send({ active: false });
     expect(res.status).toBe(200);
     const me = await teacher.agent.get('/api/auth/me');
     expect(me.status).toBe(401);
@@ -111,13 +111,13 @@ describe('accounts (admin)', () => {
   });
 
   it('when the admin tries to deactivate themself, then it is refused', async () => {
-    const res = await admin.agent.patch(`/api/users/${admin.userId}`).set('x-csrf-token', admin.csrf).send({ active: false });
+    const res = await admin.agent.patch(`/api/accounts/${admin.userId}`).set('x-csrf-token', admin.csrf).send({ active: false });
     expect(res.status).toBe(409);
   });
 
   it('when the user does not exist, then PATCH answers 404', async () => {
     const res = await admin.agent
-      .patch('/api/users/00000000-0000-4000-8000-000000000000')
+      .patch('/api/accounts/00000000-0000-4000-8000-000000000000')
       .set('x-csrf-token', admin.csrf)
       .send({ name: 'Nobody' });
     expect(res.status).toBe(404);
@@ -125,7 +125,7 @@ describe('accounts (admin)', () => {
 
   it('when a teacher calls the accounts API, then it is forbidden', async () => {
     const teacher = await signIn(t.app, 'teacher1@evenhand.test');
-    const res = await teacher.agent.get('/api/users');
+    const res = await teacher.agent.get('/api/accounts');
     expect(res.status).toBe(403);
     expect(res.body.error.code).toBe('forbidden');
   });

@@ -1,52 +1,52 @@
 import type { OpenAPIRegistry } from '@asteasolutions/zod-to-openapi';
-import { acceptedRoleSchema, acceptRoleInvitationSchema, idParamsSchema, inviteUserSchema, pageOf, updateUserSchema, userSchema, usersQuerySchema } from '@evenhand/entities';
+import { acceptedRoleSchema, acceptRoleInvitationSchema, idParamsSchema, inviteAccountSchema, pageOf, updateAccountSchema, accountSchema, accountsQuerySchema } from '@evenhand/entities';
 import type { Deps } from '../deps.js';
 import { ResourceRouter } from '../http/route.js';
 import { acceptRoleInvitation } from './role-invitations.js';
-import { inviteUser, listUsers, updateUser } from './service.js';
+import { inviteAccount, listAccounts, updateAccount } from './service.js';
 
-export function usersRouter(deps: Deps, registry: OpenAPIRegistry) {
+export function accountsRouter(deps: Deps, registry: OpenAPIRegistry) {
   const r = new ResourceRouter(registry);
   const tag = 'Accounts';
 
   r.route(
     {
       method: 'get',
-      path: '/users',
+      path: '/accounts',
       summary: 'List accounts (search, filter by role, sort, paginate)',
       access: ['admin'],
       tag,
-      query: usersQuerySchema,
-      responses: { 200: { description: 'A page of accounts', schema: pageOf(userSchema) } },
+      query: accountsQuerySchema,
+      responses: { 200: { description: 'A page of accounts', schema: pageOf(accountSchema) } },
     },
-    async ({ query }) => ({ body: await listUsers(deps, query) }),
+    async ({ query }) => ({ body: await listAccounts(deps, query) }),
   );
 
   r.route(
     {
       method: 'post',
-      path: '/users',
+      path: '/accounts',
       summary: 'Invite a person: creates the account and e-mails a set-password link',
       access: ['admin'],
       tag,
-      body: inviteUserSchema,
-      responses: { 201: { description: 'Invited', schema: userSchema } },
+      body: inviteAccountSchema,
+      responses: { 201: { description: 'Invited', schema: accountSchema } },
     },
-    async ({ body, user }) => ({ status: 201, body: await inviteUser(deps, user!, body) }),
+    async ({ body, user }) => ({ status: 201, body: await inviteAccount(deps, user!, body) }),
   );
 
   r.route(
     {
       method: 'patch',
-      path: '/users/:id',
+      path: '/accounts/:id',
       summary: 'Rename, deactivate or reactivate an account, or change its role grants',
       access: ['admin'],
       tag,
       params: idParamsSchema,
-      body: updateUserSchema,
-      responses: { 200: { description: 'The account as it is now', schema: userSchema } },
+      body: updateAccountSchema,
+      responses: { 200: { description: 'The account as it is now', schema: accountSchema } },
     },
-    async ({ params, body, user }) => ({ body: await updateUser(deps, user!, params.id, body) }),
+    async ({ params, body, user }) => ({ body: await updateAccount(deps, user!, params.id, body) }),
   );
 
   r.route(

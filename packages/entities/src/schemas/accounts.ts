@@ -19,7 +19,7 @@ const grantsSchema = z
     });
   });
 
-export const userSchema = z
+export const accountSchema = z
   .object({
     id: idSchema,
     email: z.string(),
@@ -30,29 +30,29 @@ export const userSchema = z
     createdAt: z.iso.datetime({ offset: true }),
     lastSignInAt: z.iso.datetime({ offset: true }).nullable(),
   })
-  .meta({ id: 'User' });
-export type User = z.infer<typeof userSchema>;
+  .meta({ id: 'Account' });
+export type Account = z.infer<typeof accountSchema>;
 
-export const inviteUserSchema = z.object({
+export const inviteAccountSchema = z.object({
   email: emailSchema,
   name: plainText().trim().min(1, 'Enter a name').max(120),
   roles: grantsSchema,
 });
-export type InviteUser = z.infer<typeof inviteUserSchema>;
+export type InviteAccount = z.infer<typeof inviteAccountSchema>;
 
-export const updateUserSchema = z
+export const updateAccountSchema = z
   .object({
     name: plainText().trim().min(1).max(120).optional(),
     active: z.boolean().optional(),
     roles: grantsSchema.optional(),
   })
   .refine((v) => Object.keys(v).length > 0, 'Change at least one field');
-export type UpdateUser = z.infer<typeof updateUserSchema>;
+export type UpdateAccount = z.infer<typeof updateAccountSchema>;
 
-export const usersQuerySchema = paginationQuerySchema.extend({
+export const accountsQuerySchema = paginationQuerySchema.extend({
   q: plainText().trim().max(100).optional(),
   role: roleSchema.optional(),
   sort: z.enum(['name', 'email', 'createdAt', 'lastSignInAt']).default('name'),
   order: z.enum(['asc', 'desc']).default('asc'),
 });
-export type UsersQuery = z.infer<typeof usersQuerySchema>;
+export type AccountsQuery = z.infer<typeof accountsQuerySchema>;
