@@ -16,24 +16,8 @@ import type { Deps } from '../deps.js';
 import { AppError } from '../errors.js';
 import { readSmallCsv } from '../lib/csv.js';
 import { findVisibleStudy, hasRole, sitesOf } from '../studies/access.js';
+import { classroomNameTaken, classroomRow, cohortNameTaken, enrolledSiteCodes, visibleClassroomRows, type ClassroomRow } from './queries.js';
 import { ensurePerson, releaseRole } from '../accounts/role-invitations.js';
-
-interface ClassroomRow {
-  id: string;
-  study_id: string;
-  site_id: string;
-  site_name: string;
-  cohort_id: string;
-  cohort_name: string;
-  name: string;
-  grade: string;
-  expected_size: number;
-  teacher_id: string;
-  teacher_name: string;
-  teacher_email: string;
-  teacher_pending: boolean;
-  arm: Classroom['arm'];
-}
 
 const toClassroom = (r: ClassroomRow): Classroom => ({
   id: r.id,
@@ -49,26 +33,23 @@ const toClassroom = (r: ClassroomRow): Classroom => ({
   arm: r.arm,
 });
 
-const classroomSelect = `SELECT c.id, c.study_id, c.site_id, s.name AS site_name, c.cohort_id, h.name AS cohort_name, c.name, c.grade,
-    c.expected_size, c.teacher_id, u.name AS teacher_name, u.email AS teacher_email, (u.password_hash IS NULL OR NOT EXISTS (SELECT 1 FROM role_grants tg WHERE tg.user_id = c.teacher_id AND tg.role = 'teacher' AND tg.site_id = c.site_id)) AS teacher_pending, c.arm
-  FROM classrooms c JOIN sites s ON s.id = c.site_id JOIN cohorts h ON h.id = c.cohort_id JOIN users u ON u.id = c.teacher_id`;
-
 /** Teachers see their own classrooms, principals their school's; district roles all of the study's. */
 export async function listClassrooms(db: DataSource, user: SessionUser, studyId: string): Promise<{ items: Classroom[]; total: number }> {
   await findVisibleStudy(db.manager, user, studyId);
   const districtWide = hasRole(user, ...districtWideRoles);
-  const rows: ClassroomRow[] = await db.query(
-    `${classroomSelect} WHERE c.study_id = $1 AND ($2 OR (c.teacher_id = $3 AND c.site_id = ANY($5)) OR c.site_id = ANY($4))
-     ORDER BY s.name, h.name, c.name`,
-    [studyId, districtWide, user.id, sitesOf(user, 'principal'), sitesOf(user, 'teacher')],
-  );
+  const rows = await visibleClassroomRows(db.manager, studyId, {
+    districtWide,
+    userId: user.id,
+    principalSites: sitesOf(user, 'principal'),
+    teacherSites: sitesOf(user, 'teacher'),
+  });
   return { items: rows.map(toClassroom), total: rows.length };
 }
 
 async function classroomById(manager: EntityManager, id: string): Promise<Classroom> {
-  const rows: ClassroomRow[] = await manager.query(`${classroomSelect} WHERE c.id = $1`, [id]);
-  if (!rows.length) throw AppError.notFound('The classroom');
-  return toClassroom(rows[0]);
+  const row = await classroomRow(manager, id);
+  if (!row) throw AppError.notFound('The classroom');
+  return toClassroom(row);
 }
 
 async function refuseAfterDraw(manager: EntityManager, studyId: string) {
@@ -86,8 +67,7 @@ export async function listCohorts(db: DataSource, user: SessionUser, studyId: st
 export async function createCohort(db: DataSource, user: SessionUser, studyId: string, name: string): Promise<Cohort> {
   return db.transaction(async (manager) => {
     await findVisibleStudy(manager, user, studyId, true);
-    const clash = await manager.query(`SELECT 1 FROM cohorts WHERE study_id = $1 AND lower(name) = lower($2)`, [studyId, name]);
-    if (clash.length) throw AppError.conflict(`This study already has a cohort named “${name}”`);
+    if (await cohortNameTaken(manager, studyId, name)) throw AppError.conflict(`This study already has a cohort named “${name}”`);
     const cohort = await manager.save(manager.create(CohortEntity, { studyId, name }));
     await recordAudit(manager, { actorId: user.id, studyId, action: 'cohort.created', entityType: 'cohort', entityId: cohort.id, after: { name } });
     return { id: cohort.id, studyId, name };
@@ -96,8 +76,7 @@ export async function createCohort(db: DataSource, user: SessionUser, studyId: s
 
 async function insertClassroom(manager: EntityManager, deps: Pick<Deps, 'config' | 'jobs'>, actor: SessionUser, studyId: string, input: CreateClassroom) {
   const { userId } = await ensurePerson(manager, deps, actor, input.teacher, { role: 'teacher', siteId: input.siteId }, studyId);
-  const clash = await manager.query(`SELECT 1 FROM classrooms WHERE study_id = $1 AND site_id = $2 AND lower(name) = lower($3)`, [studyId, input.siteId, input.name]);
-  if (clash.length) throw AppError.conflict(`This site already has a classroom named “${input.name}”`, { issues: [{ path: 'name', message: 'Already used at this site' }] });
+  if (await classroomNameTaken(manager, studyId, input.siteId, input.name)) throw AppError.conflict(`This site already has a classroom named “${input.name}”`, { issues: [{ path: 'name', message: 'Already used at this site' }] });
   const saved = await manager.save(
     manager.create(ClassroomEntity, {
       studyId,
@@ -132,10 +111,7 @@ export async function importClassrooms(deps: Deps, actor: SessionUser, studyId: 
   const created = await deps.db.transaction(async (manager) => {
     await findVisibleStudy(manager, actor, studyId, true);
     await refuseAfterDraw(manager, studyId);
-    const enrolled: { id: string; code: string }[] = await manager.query(
-      `SELECT s.id, s.code FROM sites s JOIN study_sites ss ON ss.site_id = s.id WHERE ss.study_id = $1`,
-      [studyId],
-    );
+    const enrolled = await enrolledSiteCodes(manager, studyId);
     const siteByCode = new Map(enrolled.map((s) => [s.code.toUpperCase(), s.id]));
     const problems: CsvRowIssue[] = [];
     const seen = new Map<string, number>();

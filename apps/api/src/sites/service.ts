@@ -8,19 +8,8 @@ import { AppError } from '../errors.js';
 import { findVisibleStudy, hasRole, sitesOf } from '../studies/access.js';
 import { advanceStatus } from '../studies/service.js';
 import { ensurePerson, releaseRole } from '../accounts/role-invitations.js';
+import { districtSiteRows, siteRow, studySiteRows, type SiteRow } from './queries.js';
 import { districtWideRoles } from '@evenhand/entities';
-
-interface SiteRow {
-  id: string;
-  name: string;
-  code: string;
-  principal_id: string | null;
-  principal_name: string | null;
-  principal_email: string | null;
-  principal_pending: boolean | null;
-  classrooms?: number;
-  expected_students?: number;
-}
 
 const toSite = (r: SiteRow): Site => ({
   id: r.id,
@@ -31,31 +20,21 @@ const toSite = (r: SiteRow): Site => ({
     : null,
 });
 
-const siteSelect = `SELECT s.id, s.name, s.code, s.principal_id, u.name AS principal_name, u.email AS principal_email,
-  (u.password_hash IS NULL OR NOT EXISTS (SELECT 1 FROM role_grants pg WHERE pg.user_id = s.principal_id AND pg.role = 'principal' AND pg.site_id = s.id)) AS principal_pending FROM sites s LEFT JOIN users u ON u.id = s.principal_id`;
-
 export async function listDistrictSites(db: DataSource): Promise<{ items: Site[]; total: number }> {
-  const rows: SiteRow[] = await db.query(`${siteSelect} ORDER BY s.name`);
+  const rows = await districtSiteRows(db.manager);
   return { items: rows.map(toSite), total: rows.length };
 }
 
 export async function listStudySites(db: DataSource, user: SessionUser, studyId: string): Promise<{ items: StudySite[]; total: number }> {
   await findVisibleStudy(db.manager, user, studyId);
-  const rows: SiteRow[] = await db.query(
-    `SELECT x.*, count(c.id)::int AS classrooms, coalesce(sum(c.expected_size), 0)::int AS expected_students
-       FROM (${siteSelect} JOIN study_sites ss ON ss.site_id = s.id AND ss.study_id = $1) x
-       LEFT JOIN classrooms c ON c.site_id = x.id AND c.study_id = $1
-      GROUP BY x.id, x.name, x.code, x.principal_id, x.principal_name, x.principal_email, x.principal_pending
-      ORDER BY x.name`,
-    [studyId],
-  );
+  const rows = await studySiteRows(db.manager, studyId);
   return { items: rows.map((r) => ({ ...toSite(r), classrooms: r.classrooms ?? 0, expectedStudents: r.expected_students ?? 0 })), total: rows.length };
 }
 
 async function siteById(manager: EntityManager, id: string): Promise<Site> {
-  const rows: SiteRow[] = await manager.query(`${siteSelect} WHERE s.id = $1`, [id]);
-  if (!rows.length) throw AppError.notFound('The site');
-  return toSite(rows[0]);
+  const row = await siteRow(manager, id);
+  if (!row) throw AppError.notFound('The site');
+  return toSite(row);
 }
 
 async function assignPrincipal(
@@ -68,7 +47,7 @@ async function assignPrincipal(
 ) {
   if (!principal) return;
   const { userId } = await ensurePerson(manager, deps, actor, principal, { role: 'principal', siteId }, studyId);
-  const [{ principal_id: before }] = await manager.query(`SELECT principal_id FROM sites WHERE id = $1 FOR UPDATE`, [siteId]);
+  const before = (await manager.findOne(SiteEntity, { where: { id: siteId }, select: { id: true, principalId: true }, lock: { mode: 'pessimistic_write' } }))?.principalId;
   await manager.update(SiteEntity, siteId, { principalId: userId });
   // The school's previous principal loses the role there.
   if (before && before !== userId) await releaseRole(manager, actor, before, 'principal', siteId, studyId);
