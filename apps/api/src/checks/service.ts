@@ -1,10 +1,11 @@
 import type { DataSource } from 'typeorm';
 import { baselineEquivalence, baselineEquivalenceYesNo, coxIndexFromCounts, hedgesGFromSummary, normalQuantile } from '@evenhand/stats';
-import type { Accounting, Arm, SessionUser } from '@evenhand/entities';
+import type { Accounting, SessionUser } from '@evenhand/entities';
 import { currentPlan } from '../plans/service.js';
 import { findVisibleStudy } from '../studies/access.js';
 import { accountFor, needsPretest } from '../runs/accounting.js';
-import { ensureSheets } from '../score-sheets/service.js';
+import { ensureSheets } from '../score-sheets/queries.js';
+import { baselineOfAnalysed, boxPlotRows, dataQuality, lockedAccounting, studyMeasures, studyWaves } from './queries.js';
 
 const bandAdvice = {
   satisfies: 'Equivalent at baseline (|g| ≤ 0.05).',
@@ -23,11 +24,7 @@ const coxAdvice = {
  * result never changes), else that of today's accepted sheets under the plan's rule for the pretest.
  */
 export async function accountingOf(db: DataSource, scope: { studyId: string; measureId: string; waveId: string; pretest: string | null }): Promise<{ accounting: Accounting; runId: string | null }> {
-  const [locked]: { id: string; accounting: Accounting | null }[] = await db.query(
-    `SELECT r.id, r.results->'accounting' AS accounting FROM runs r JOIN comparisons k ON k.id = r.comparison_id
-      WHERE k.study_id = $1 AND k.measure_id = $2 AND k.wave_id = $3 AND k.prespecified AND r.state = 'locked'`,
-    [scope.studyId, scope.measureId, scope.waveId],
-  );
+  const locked = await lockedAccounting(db.manager, scope);
   if (locked?.accounting) return { accounting: locked.accounting, runId: locked.id };
   const { pretest, ...where } = scope;
   return { accounting: await accountFor(db.manager, { ...where, reads: ['accepted'], pretestWaveId: pretest }), runId: null };
@@ -38,36 +35,13 @@ export async function studyChecks(db: DataSource, user: SessionUser, studyId: st
   const study = await findVisibleStudy(db.manager, user, studyId);
   await ensureSheets(db.manager, studyId);
   const plan = await currentPlan(db.manager, studyId);
-  const measures: { id: string; name: string; scale: 'score' | 'yes-no'; min_score: string; max_score: string }[] = await db.query(
-    `SELECT id, name, scale, min_score, max_score FROM measures WHERE study_id = $1 ORDER BY created_at`,
-    [studyId],
-  );
-  const waves: { id: string; name: string; kind: string }[] = await db.query(`SELECT id, name, kind FROM waves WHERE study_id = $1 ORDER BY opens_on`, [studyId]);
+  const measures = await studyMeasures(db.manager, studyId);
+  const waves = await studyWaves(db.manager, studyId);
   const baseline = waves.find((w) => w.kind === 'baseline');
   const outcomeWaveId = plan?.content.primaryWaveId ?? waves.find((w) => w.kind === 'outcome')?.id;
 
-  const quality: { measure_id: string; wave_id: string; sheets: number; missing: number; waiting: number; returned: number; accepted: number; scores: number; left_count: number; out_of_range: number }[] = await db.query(
-    `SELECT sh.measure_id, sh.wave_id, count(*)::int AS sheets,
-            count(*) FILTER (WHERE sh.state = 'open' AND NOT EXISTS (SELECT 1 FROM scores x WHERE x.sheet_id = sh.id) AND sh.mode = 'rows')::int AS missing,
-            count(*) FILTER (WHERE sh.state = 'submitted')::int AS waiting,
-            count(*) FILTER (WHERE sh.state = 'returned')::int AS returned,
-            count(*) FILTER (WHERE sh.state = 'accepted')::int AS accepted,
-            (SELECT count(*) FROM scores x WHERE x.study_id = $1 AND x.measure_id = sh.measure_id AND x.wave_id = sh.wave_id AND x.score IS NOT NULL)::int AS scores,
-            (SELECT count(*) FROM scores x WHERE x.study_id = $1 AND x.measure_id = sh.measure_id AND x.wave_id = sh.wave_id AND x.left_study)::int AS left_count,
-            (SELECT count(*) FROM scores x JOIN measures m ON m.id = x.measure_id
-              WHERE x.study_id = $1 AND x.measure_id = sh.measure_id AND x.wave_id = sh.wave_id AND (x.score < m.min_score OR x.score > m.max_score))::int AS out_of_range
-       FROM score_sheets sh WHERE sh.study_id = $1 GROUP BY sh.measure_id, sh.wave_id`,
-    [studyId],
-  );
-
-  const boxes: { measure_id: string; wave_id: string; arm: Arm; site_id: string | null; site_name: string | null; n: number; q: number[] }[] = await db.query(
-    `SELECT x.measure_id, x.wave_id, c.arm, c.site_id, s.name AS site_name, count(*)::int AS n,
-            percentile_cont(ARRAY[0, 0.25, 0.5, 0.75, 1]) WITHIN GROUP (ORDER BY x.score::float8) AS q
-       FROM scores x JOIN classrooms c ON c.id = x.classroom_id JOIN sites s ON s.id = c.site_id
-      WHERE x.study_id = $1 AND x.score IS NOT NULL AND c.arm IS NOT NULL
-      GROUP BY GROUPING SETS ((x.measure_id, x.wave_id, c.arm), (x.measure_id, x.wave_id, c.arm, c.site_id, s.name))`,
-    [studyId],
-  );
+  const quality = await dataQuality(db.manager, studyId);
+  const boxes = await boxPlotRows(db.manager, studyId);
 
   const perMeasure = [];
   for (const m of measures) {
@@ -79,14 +53,7 @@ export async function studyChecks(db: DataSource, user: SessionUser, studyId: st
     // Baseline equivalence on the analytic sample: students with both a baseline and an outcome score.
     let equivalence = null;
     if (baseline && outcomeWaveId) {
-      const rows: { arm: Arm; n: number; mean: number; sd: number; yes: number }[] = await db.query(
-        `SELECT c.arm, count(*)::int AS n, avg(b.score::float8) AS mean, stddev_samp(b.score::float8) AS sd, sum(b.score)::int AS yes
-           FROM scores b JOIN scores o ON o.student_code = b.student_code AND o.study_id = b.study_id AND o.wave_id = $3 AND o.measure_id = b.measure_id AND o.score IS NOT NULL
-           JOIN classrooms c ON c.id = b.classroom_id
-          WHERE b.study_id = $1 AND b.wave_id = $2 AND b.measure_id = $4 AND b.score IS NOT NULL AND c.arm IS NOT NULL
-          GROUP BY c.arm`,
-        [studyId, baseline.id, outcomeWaveId, m.id],
-      );
+      const rows = await baselineOfAnalysed(db.manager, { studyId, baselineWaveId: baseline.id, outcomeWaveId, measureId: m.id });
       const bi = rows.find((r) => r.arm === 'intervention');
       const bc = rows.find((r) => r.arm === 'comparison');
       if (m.scale === 'yes-no' && bi && bc) {

@@ -4,44 +4,11 @@ import type { Deps } from '../deps.js';
 import { queueMail } from '../mail/outbox.js';
 import { reminderMail } from '../mail/templates.js';
 import { findVisibleStudy } from '../studies/access.js';
-import { ensureSheets } from './service.js';
-
-interface CellRow {
-  sheet_id: string;
-  classroom_id: string;
-  classroom_name: string;
-  site_id: string;
-  site_name: string;
-  teacher_id: string;
-  teacher_name: string;
-  teacher_email: string;
-  arm: string | null;
-  wave_id: string;
-  wave_name: string;
-  measure_id: string;
-  measure_name: string;
-  state: SheetState;
-  rows: number;
-  left_count: number;
-  wave_started: boolean;
-}
+import { completionCells, ensureSheets, type CellRow } from './queries.js';
 
 async function cells(db: DataSource, studyId: string): Promise<CellRow[]> {
   await ensureSheets(db.manager, studyId);
-  return db.query(
-    `SELECT sh.id AS sheet_id, c.id AS classroom_id, c.name AS classroom_name, s.id AS site_id, s.name AS site_name,
-            u.id AS teacher_id, u.name AS teacher_name, u.email AS teacher_email, c.arm,
-            w.id AS wave_id, w.name AS wave_name, m.id AS measure_id, m.name AS measure_name, sh.state,
-            (CASE WHEN sh.mode = 'summary' THEN sh.summary_n ELSE (SELECT count(*) FROM scores x WHERE x.sheet_id = sh.id) END)::int AS rows,
-            (SELECT count(*) FROM scores x WHERE x.sheet_id = sh.id AND x.left_study)::int AS left_count,
-            (w.opens_on <= current_date) AS wave_started
-       FROM score_sheets sh
-       JOIN classrooms c ON c.id = sh.classroom_id JOIN sites s ON s.id = c.site_id JOIN users u ON u.id = c.teacher_id
-       JOIN waves w ON w.id = sh.wave_id JOIN measures m ON m.id = sh.measure_id
-      WHERE sh.study_id = $1
-      ORDER BY s.name, c.name, w.opens_on, m.name`,
-    [studyId],
-  );
+  return completionCells(db.manager, studyId);
 }
 
 /** The coordinator's matrix: one row per classroom, one cell per wave and measure. */

@@ -6,64 +6,9 @@ import { AppError } from '../errors.js';
 import { csvBatches } from '../lib/csv.js';
 import { currentPlan } from '../plans/service.js';
 import { findVisibleStudy, hasRole, sitesOf, teaches } from '../studies/access.js';
-import { storeSheetDigests } from './digest.js';
+import { ensureSheets, sheetRow, sheetScoreRows, storeSheetDigests, studentsWithoutScore, visibleSheetRows, type SheetRow } from './queries.js';
 import { rowFromCsv } from './rows.js';
 import { applyStaged, stageRows } from './write.js';
-
-interface SheetRow {
-  id: string;
-  study_id: string;
-  classroom_id: string;
-  classroom_name: string;
-  site_id: string;
-  site_name: string;
-  teacher_id: string;
-  teacher_name: string;
-  arm: ScoreSheet['arm'];
-  wave_id: string;
-  wave_name: string;
-  wave_kind: ScoreSheet['waveKind'];
-  opens_on: string;
-  closes_on: string;
-  measure_id: string;
-  measure_name: string;
-  scale: ScoreSheet['scale'];
-  min_score: string;
-  max_score: string;
-  state: ScoreSheet['state'];
-  mode: ScoreSheet['mode'];
-  locked: boolean;
-  return_reasons: string | null;
-  summary_n: number | null;
-  summary_mean: string | null;
-  summary_sd: string | null;
-  updated_at: Date;
-  submitted_at: Date | null;
-  rows: number;
-  scored: number;
-  left_count: number;
-  wave_open: boolean;
-  summary_allowed: boolean;
-}
-
-// Counts come from the scores table; the window is judged on the database's calendar date.
-const sheetSelect = `
-  SELECT sh.*, c.name AS classroom_name, c.site_id, s.name AS site_name, c.teacher_id, u.name AS teacher_name, c.arm,
-         w.name AS wave_name, w.kind AS wave_kind, to_char(w.opens_on, 'YYYY-MM-DD') AS opens_on, to_char(w.closes_on, 'YYYY-MM-DD') AS closes_on,
-         m.name AS measure_name, m.scale, m.min_score, m.max_score,
-         (current_date BETWEEN w.opens_on AND w.closes_on) AS wave_open,
-         coalesce((SELECT (pv.content->>'summaryEntryAllowed')::boolean FROM plan_versions pv
-                    WHERE pv.study_id = sh.study_id ORDER BY pv.version DESC LIMIT 1), false) AS summary_allowed,
-         coalesce(k.rows, 0)::int AS rows, coalesce(k.scored, 0)::int AS scored, coalesce(k.left_count, 0)::int AS left_count
-    FROM score_sheets sh
-    JOIN classrooms c ON c.id = sh.classroom_id
-    JOIN sites s ON s.id = c.site_id
-    JOIN users u ON u.id = c.teacher_id
-    JOIN waves w ON w.id = sh.wave_id
-    JOIN measures m ON m.id = sh.measure_id
-    LEFT JOIN LATERAL (
-      SELECT count(*) AS rows, count(score) AS scored, count(*) FILTER (WHERE left_study) AS left_count FROM scores WHERE sheet_id = sh.id
-    ) k ON true`;
 
 function editable(r: SheetRow): boolean {
   if (r.locked || r.state === 'submitted' || r.state === 'accepted') return false;
@@ -104,47 +49,26 @@ function toSheet(r: SheetRow): ScoreSheet {
   };
 }
 
-/** Every classroom has one sheet per wave and measure; missing ones are created on first look. */
-export async function ensureSheets(manager: EntityManager, studyId: string): Promise<void> {
-  await manager.query(
-    `INSERT INTO score_sheets (study_id, classroom_id, wave_id, measure_id)
-     SELECT c.study_id, c.id, w.id, m.id FROM classrooms c
-       JOIN waves w ON w.study_id = c.study_id JOIN measures m ON m.study_id = c.study_id
-      WHERE c.study_id = $1
-     ON CONFLICT (classroom_id, wave_id, measure_id) DO NOTHING`,
-    [studyId],
-  );
-}
-
 const seesWholeStudy = (user: SessionUser) => hasRole(user, ...districtWideRoles);
 
 export async function listSheets(db: DataSource, user: SessionUser, q: { studyId: string; classroomId?: string; waveId?: string; state?: string }) {
   await findVisibleStudy(db.manager, user, q.studyId);
   await ensureSheets(db.manager, q.studyId);
-  const rows: SheetRow[] = await db.query(
-    `${sheetSelect}
-     WHERE sh.study_id = $1 AND ($2::uuid IS NULL OR sh.classroom_id = $2) AND ($3::uuid IS NULL OR sh.wave_id = $3)
-       AND ($4::text IS NULL OR sh.state = $4) AND ($5 OR (c.teacher_id = $6 AND c.site_id = ANY($7)))
-     ORDER BY s.name, c.name, w.opens_on, m.name`,
-    [q.studyId, q.classroomId ?? null, q.waveId ?? null, q.state ?? null, seesWholeStudy(user), user.id, sitesOf(user, 'teacher')],
-  );
+  const rows = await visibleSheetRows(db.manager, q, { wholeStudy: seesWholeStudy(user), userId: user.id, teacherSites: sitesOf(user, 'teacher') });
   return { items: rows.map(toSheet), total: rows.length };
 }
 
 /** The sheet if the user may see it: teachers their own classrooms' only; others' IDs answer 404. */
 async function loadSheet(manager: EntityManager, user: SessionUser, id: string, lock = false): Promise<SheetRow> {
-  if (lock) await manager.query(`SELECT 1 FROM score_sheets WHERE id = $1 FOR UPDATE`, [id]);
-  const [row]: SheetRow[] = await manager.query(`${sheetSelect} WHERE sh.id = $1`, [id]);
+  if (lock) await manager.findOne(ScoreSheetEntity, { where: { id }, select: { id: true }, lock: { mode: 'pessimistic_write' } });
+  const row = await sheetRow(manager, id);
   if (!row || (!seesWholeStudy(user) && !teaches(user, row))) throw AppError.notFound('The score sheet');
   await findVisibleStudy(manager, user, row.study_id);
   return row;
 }
 
 async function readRows(manager: EntityManager, sheetId: string): Promise<ScoreRow[]> {
-  const rows: { student_code: string; score: string | null; left_study: boolean; note: string }[] = await manager.query(
-    `SELECT student_code, score, left_study, note FROM scores WHERE sheet_id = $1 ORDER BY student_code`,
-    [sheetId],
-  );
+  const rows = await sheetScoreRows(manager, sheetId);
   return rows.map((r) => ({ studentCode: r.student_code, score: r.score === null ? null : Number(r.score), left: r.left_study, note: r.note }));
 }
 
@@ -199,17 +123,14 @@ export async function uploadRows(db: DataSource, user: SessionUser, id: string, 
     }
     await applyStaged(manager, user.id, sheet, staged.rows, sheet.rows === 0);
     await markMode(manager, id, null);
-    const [updated]: SheetRow[] = await manager.query(`${sheetSelect} WHERE sh.id = $1`, [id]);
-    return { dryRun: false, rows: staged.rows, preview: staged.preview, sheet: toSheet(updated) };
+    const updated = await sheetRow(manager, id);
+    return { dryRun: false, rows: staged.rows, preview: staged.preview, sheet: toSheet(updated!) };
   });
 }
 
 /** Rows, or a class summary instead of rows. */
 async function markMode(manager: EntityManager, id: string, summary: SheetSummary | null) {
-  await manager.query(
-    `UPDATE score_sheets SET mode = $2, summary_n = $3, summary_mean = $4, summary_sd = $5, updated_at = now() WHERE id = $1`,
-    [id, summary ? 'summary' : 'rows', summary?.n ?? null, summary?.mean ?? null, summary?.sd ?? null],
-  );
+  await manager.update(ScoreSheetEntity, id, { mode: summary ? 'summary' : 'rows', summaryN: summary?.n ?? null, summaryMean: summary?.mean ?? null, summarySd: summary?.sd ?? null });
 }
 
 export async function saveSummary(db: DataSource, user: SessionUser, id: string, summary: SheetSummary): Promise<ScoreSheetDetail> {
@@ -245,7 +166,7 @@ export async function moveSheet(db: DataSource, user: SessionUser, id: string, s
       if (row.state !== 'open' && row.state !== 'returned') throw AppError.conflict(`A ${row.state} sheet cannot be submitted`);
       if (!editable(row)) throw AppError.conflict(`The ${row.wave_name} wave is closed; ask the coordinator to reopen it`);
       if (row.mode === 'rows' && row.rows === 0) throw AppError.conflict('Enter at least one student before submitting');
-      const [{ waiting }] = await manager.query(`SELECT count(*)::int AS waiting FROM scores WHERE sheet_id = $1 AND score IS NULL AND NOT left_study`, [id]);
+      const waiting = await studentsWithoutScore(manager, id);
       if (waiting > 0) {
         throw AppError.conflict(`${waiting} student${waiting === 1 ? ' has' : 's have'} no score yet: ${MISSING_SCORE.toLowerCase()}, then submit`, { studentsWithoutScore: waiting });
       }
@@ -273,7 +194,7 @@ export async function moveSheet(db: DataSource, user: SessionUser, id: string, s
       after: { state: patch.state, ...(reasons ? { reasons } : {}) },
     });
   });
-  const [updated]: SheetRow[] = await db.query(`${sheetSelect} WHERE sh.id = $1`, [id]);
-  return toSheet(updated);
+  const updated = await sheetRow(db.manager, id);
+  return toSheet(updated!);
 }
 

@@ -4,7 +4,21 @@ import type { PoolClient } from 'pg';
 import { from as copyFrom } from 'pg-copy-streams';
 import type { EntityManager } from 'typeorm';
 import { scoreProblem, type RowIssue, type ScoreRow } from '@evenhand/entities';
+import { ClassroomEntity } from '@evenhand/entities/orm';
 import { AppError } from '../errors.js';
+import {
+  analyzeStaging,
+  auditStagedChanges,
+  copyStagedSql,
+  deleteUnstagedRows,
+  insertStagedRows,
+  prepareStaging,
+  registerStagedCodes,
+  stagedCodesOfOtherClassrooms,
+  stagedDuplicates,
+  updateChangedRows,
+  type SheetKeys,
+} from './queries.js';
 import { rowsRefused } from './rows.js';
 
 /**
@@ -20,17 +34,6 @@ export interface ArrivingRow {
   line: number;
   row?: ScoreRow;
   issues: RowIssue[];
-}
-
-export interface SheetKeys {
-  id: string;
-  study_id: string;
-  classroom_id: string;
-  wave_id: string;
-  measure_id: string;
-  scale: 'score' | 'yes-no';
-  min_score: string;
-  max_score: string;
 }
 
 const REPORTED = 500;
@@ -61,17 +64,7 @@ export interface Staged {
  * to the sheet here; the staging table is emptied when the transaction ends.
  */
 export async function stageRows(manager: EntityManager, sheet: SheetKeys, source: Iterable<ArrivingRow[]> | AsyncIterable<ArrivingRow[]>): Promise<Staged> {
-  // One staging table per connection, emptied at every commit: a table made and dropped per write
-  // would churn the system catalogs at every autosave.
-  await manager.query(
-    `CREATE TEMP TABLE IF NOT EXISTS staged_scores (
-       line int NOT NULL, student_code varchar(40) NOT NULL, score numeric, left_study boolean NOT NULL, note varchar(500) NOT NULL
-     ) ON COMMIT DELETE ROWS`,
-  );
-  // A transaction may write several sheets (the demo seed does).
-  await manager.query(`TRUNCATE staged_scores`);
-  // Room for the sorts and hashes of a large sheet's set-wise checks, for this transaction only.
-  await manager.query(`SET LOCAL work_mem = '64MB'`);
+  await prepareStaging(manager);
   const range = { minScore: Number(sheet.min_score), maxScore: Number(sheet.max_score), scale: sheet.scale };
   const problems = new Problems();
   const preview: ScoreRow[] = [];
@@ -80,7 +73,7 @@ export async function stageRows(manager: EntityManager, sheet: SheetKeys, source
   // Rows go to the staging table through COPY on the transaction's own connection, batch by batch.
   if (!manager.queryRunner) throw new Error('stageRows runs inside a transaction');
   const client = (await manager.queryRunner.connect()) as PoolClient;
-  const copy = client.query(copyFrom(`COPY staged_scores (line, student_code, score, left_study, note) FROM STDIN`));
+  const copy = client.query(copyFrom(copyStagedSql));
   const copied = finished(copy);
   try {
     for await (const arriving of source) {
@@ -104,8 +97,7 @@ export async function stageRows(manager: EntityManager, sheet: SheetKeys, source
     await copied.catch(() => {});
     throw err;
   }
-  // Temporary tables get no statistics of their own; without them a large sheet gets poor plans.
-  if (rows > ANALYZE_FROM) await manager.query(`ANALYZE staged_scores`);
+  if (rows > ANALYZE_FROM) await analyzeStaging(manager);
 
   const found = [...problems.list, ...(await duplicates(manager)), ...(await codesOfOtherClassrooms(manager, sheet))];
   if (found.length) throw rowsRefused(found.sort((a, b) => a.row - b.row).slice(0, REPORTED), problems.total + found.length - problems.list.length);
@@ -117,11 +109,7 @@ const copyText = (value: string) => value.replace(/[\\\t\n\r]/g, (c) => ({ '\\':
 
 /** A code used twice on one sheet (letter case aside), reported on every line after its first. */
 async function duplicates(manager: EntityManager): Promise<RowIssue[]> {
-  const rows: { line: number; student_code: string; first: number }[] = await manager.query(
-    `SELECT line, student_code, first FROM (
-       SELECT line, student_code, min(line) OVER (PARTITION BY upper(student_code)) AS first FROM staged_scores
-     ) d WHERE line <> first ORDER BY line LIMIT ${REPORTED}`,
-  );
+  const rows = await stagedDuplicates(manager, REPORTED);
   return rows.map((r) => ({ row: r.line, column: 'student_code', message: `Student code ${r.student_code} is also on row ${r.first}` }));
 }
 
@@ -130,12 +118,7 @@ async function duplicates(manager: EntityManager): Promise<RowIssue[]> {
  * say which classroom (nor that another one has it): the writer is a teacher, who sees only their own classrooms.
  */
 async function codesOfOtherClassrooms(manager: EntityManager, sheet: SheetKeys): Promise<RowIssue[]> {
-  const rows: { line: number; student_code: string }[] = await manager.query(
-    `SELECT n.line, n.student_code
-       FROM staged_scores n JOIN students st ON st.study_id = $1 AND st.student_code = n.student_code
-      WHERE st.classroom_id <> $2 ORDER BY n.line LIMIT ${REPORTED}`,
-    [sheet.study_id, sheet.classroom_id],
-  );
+  const rows = await stagedCodesOfOtherClassrooms(manager, sheet, REPORTED);
   return rows.map((r) => ({ row: r.line, column: 'student_code', message: `Student code ${r.student_code} cannot be used in this classroom` }));
 }
 
@@ -149,30 +132,11 @@ const isPg = (err: unknown, code: string) => (err as { code?: string; driverErro
 export async function applyStaged(manager: EntityManager, actorId: string, sheet: SheetKeys, rows: number, sheetWasEmpty: boolean): Promise<void> {
   // One writer per classroom at a time (the key triggers take the same lock): the codes it releases
   // and registers cannot cross another writer's.
-  await manager.query(`SELECT 1 FROM classrooms WHERE id = $1 FOR NO KEY UPDATE`, [sheet.classroom_id]);
-  // Built as text: per-row jsonb objects made a 100 000-row audit entry the slowest step of an upload.
-  await manager.query(
-    `WITH now_on AS (SELECT student_code, score, left_study FROM scores WHERE sheet_id = $1),
-          changes AS (
-            SELECT coalesce(n.student_code, c.student_code) AS code,
-                   CASE WHEN c.student_code IS NULL THEN 'null' ELSE format('{"score":%s,"left":%s}', coalesce(to_json(c.score)::text, 'null'), to_json(c.left_study)) END AS was,
-                   CASE WHEN n.student_code IS NULL THEN 'null' ELSE format('{"score":%s,"left":%s}', coalesce(to_json(n.score)::text, 'null'), to_json(n.left_study)) END AS becomes
-              FROM staged_scores n FULL JOIN now_on c ON c.student_code = n.student_code
-             WHERE c.student_code IS NULL OR n.student_code IS NULL OR c.score IS DISTINCT FROM n.score OR c.left_study <> n.left_study)
-     INSERT INTO audit_events (actor_id, study_id, action, entity_type, entity_id, after)
-     SELECT $2, $3, 'scores.changed', 'score_sheet', $1,
-            format('{"rows":%s,"changes":[%s]}', $4::int, string_agg(format('{"studentCode":%s,"from":%s,"to":%s}', to_json(code), was, becomes), ',' ORDER BY code COLLATE "C"))::jsonb
-       FROM changes HAVING count(*) > 0`,
-    [sheet.id, actorId, sheet.study_id, rows],
-  );
+  await manager.findOne(ClassroomEntity, { where: { id: sheet.classroom_id }, select: { id: true }, lock: { mode: 'for_no_key_update' } });
+  await auditStagedChanges(manager, actorId, sheet, rows);
   try {
     // Two writers claiming the same new codes wait for each other here; the second is refused.
-    await manager.query(
-      `INSERT INTO students (study_id, student_code, classroom_id)
-       SELECT $1, n.student_code, $2 FROM staged_scores n
-        WHERE NOT EXISTS (SELECT 1 FROM students st WHERE st.study_id = $1 AND st.student_code = n.student_code)`,
-      [sheet.study_id, sheet.classroom_id],
-    );
+    await registerStagedCodes(manager, sheet);
   } catch (err) {
     if (isPg(err, '23505') || isPg(err, '40P01')) {
       throw AppError.conflict('Another classroom registered some of these student codes at the same moment; save again to see which');
@@ -181,36 +145,11 @@ export async function applyStaged(manager: EntityManager, actorId: string, sheet
   }
   if (sheetWasEmpty) {
     // A first write has nothing to remove or update.
-    await insertNew(manager, sheet, false);
+    await insertStagedRows(manager, sheet, false);
     return;
   }
-  // Codes dropped from this sheet that no other sheet of the classroom uses are free again. The
-  // outer statement still sees the rows its CTE deletes, hence `sh.id <> $1`.
-  await manager.query(
-    `WITH gone AS (
-       DELETE FROM scores s WHERE s.sheet_id = $1 AND NOT EXISTS (SELECT 1 FROM staged_scores n WHERE n.student_code = s.student_code)
-       RETURNING s.student_code)
-     DELETE FROM students st USING gone
-      WHERE st.study_id = $2 AND st.classroom_id = $3 AND st.student_code = gone.student_code
-        AND NOT EXISTS (SELECT 1 FROM score_sheets sh JOIN scores x ON x.sheet_id = sh.id AND x.student_code = st.student_code
-                         WHERE sh.classroom_id = $3 AND sh.id <> $1)`,
-    [sheet.id, sheet.study_id, sheet.classroom_id],
-  );
-  await manager.query(
-    `UPDATE scores s SET score = n.score, left_study = n.left_study, note = n.note
-       FROM staged_scores n
-      WHERE s.sheet_id = $1 AND s.student_code = n.student_code
-        AND (s.score IS DISTINCT FROM n.score OR s.left_study <> n.left_study OR s.note <> n.note)`,
-    [sheet.id],
-  );
-  await insertNew(manager, sheet, true);
-}
-
-async function insertNew(manager: EntityManager, sheet: SheetKeys, skipExisting: boolean) {
-  await manager.query(
-    `INSERT INTO scores (sheet_id, study_id, classroom_id, wave_id, measure_id, student_code, score, left_study, note)
-     SELECT $1, $2, $3, $4, $5, n.student_code, n.score, n.left_study, n.note FROM staged_scores n
-      ${skipExisting ? 'WHERE NOT EXISTS (SELECT 1 FROM scores s WHERE s.sheet_id = $1 AND s.student_code = n.student_code)' : ''}`,
-    [sheet.id, sheet.study_id, sheet.classroom_id, sheet.wave_id, sheet.measure_id],
-  );
+  // Codes dropped from this sheet that no other sheet of the classroom uses are free again.
+  await deleteUnstagedRows(manager, sheet);
+  await updateChangedRows(manager, sheet.id);
+  await insertStagedRows(manager, sheet, true);
 }

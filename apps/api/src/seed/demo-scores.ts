@@ -1,6 +1,6 @@
 import seedrandom from 'seedrandom';
 import type { DataSource, EntityManager } from 'typeorm';
-import { ensureSheets } from '../score-sheets/service.js';
+import { ensureSheets } from '../score-sheets/queries.js';
 import { addDays, REVIEW_DAYS, type DemoTimeline, type DemoWindow } from './demo-timeline.js';
 
 type Phase = 'collection' | 'follow-up';
