@@ -31,6 +31,20 @@ describe('accounts (admin)', () => {
     expect((await admin.agent.get('/api/accounts?q=%25')).body.total).toBe(0); // a literal %, not a wildcard
   });
 
+  it('when sorted by last sign-in, then accounts that never signed in come last either way, ties by ID; a page past the end keeps the total', async () => {
+    const ids = async (order: string) => (await t.db.query(`SELECT id FROM users WHERE last_sign_in_at IS NOT NULL ORDER BY last_sign_in_at ${order}, id`)).map((r: { id: string }) => r.id);
+    const signedIn = await ids('DESC');
+    const never = (await t.db.query(`SELECT id FROM users WHERE last_sign_in_at IS NULL ORDER BY id`)).map((r: { id: string }) => r.id);
+    expect(signedIn.length).toBeGreaterThan(0);
+    expect(never.length).toBeGreaterThan(0);
+    const desc = await admin.agent.get('/api/accounts?sort=lastSignInAt&order=desc&limit=100');
+    expect(desc.body.items.map((u: { id: string }) => u.id)).toEqual([...signedIn, ...never]);
+    const asc = await admin.agent.get('/api/accounts?sort=lastSignInAt&order=asc&limit=100');
+    expect(asc.body.items.map((u: { id: string }) => u.id)).toEqual([...(await ids('ASC')), ...never]);
+    const beyond = await admin.agent.get('/api/accounts?role=principal&offset=50');
+    expect(beyond.body).toEqual({ items: [], total: 6 });
+  });
+
   it('when an admin invites a teacher, then an e-mail link lets them choose a password and sign in, and the invitation is audited', async () => {
     const email = uniqueAddress('new-teacher');
     const res = await admin.agent

@@ -1,12 +1,29 @@
 import { createHash, randomBytes } from 'node:crypto';
-import type { EntityManager } from 'typeorm';
+import { In, type EntityManager } from 'typeorm';
 import { roleLabels, type RoleGrant, type SessionUser } from '@evenhand/entities';
+import { SiteEntity } from '@evenhand/entities/orm';
 import { recordAudit, recordAudits } from '../audit/service.js';
 import { endSessions, issueTokens, queueInvitations, sessionChanging } from '../auth/service.js';
 import type { Deps } from '../deps.js';
 import { AppError } from '../errors.js';
 import { queueMails } from '../mail/outbox.js';
 import { roleInvitationMail } from '../mail/templates.js';
+import {
+  grantIfAbsent,
+  insertGrants,
+  insertInvitedAccounts,
+  insertOffers,
+  lockAccountsByEmail,
+  lockOpenOfferByToken,
+  lockOpenOffersOf,
+  openOfferKeys,
+  removeGrant,
+  rolesAmong,
+  settleOffer,
+  stillNamed,
+  withdrawOffers,
+  type OpenOfferRow,
+} from './queries.js';
 
 /** The school roles a coordinator can offer by naming a person. */
 type SchoolRole = 'teacher' | 'principal';
@@ -75,14 +92,7 @@ export async function ensurePeople(
   refuse: (refused: NamingRefusal[]) => never = refuseNaming,
 ): Promise<{ userId: string; invited: boolean }[]> {
   if (!named.length) return [];
-  // Locked in one order, so two imports naming the same people cannot deadlock.
-  const found: { id: string; email: string; name: string; roles: string[]; held: string[] }[] = await manager.query(
-    `SELECT u.id, u.email, u.name,
-            ARRAY(SELECT g.role FROM role_grants g WHERE g.user_id = u.id) AS roles,
-            ARRAY(SELECT g.role || '@' || g.site_id FROM role_grants g WHERE g.user_id = u.id AND g.site_id IS NOT NULL) AS held
-       FROM users u WHERE u.email = ANY($1) ORDER BY u.id FOR UPDATE`,
-    [[...new Set(named.map((n) => n.person.email))]],
-  );
+  const found = await lockAccountsByEmail(manager, [...new Set(named.map((n) => n.person.email))]);
   const accounts = new Map(found.map((u) => [u.email, { ...u, held: new Set(u.held) }]));
 
   const refused: NamingRefusal[] = [];
@@ -112,17 +122,10 @@ export async function ensurePeople(
   for (const n of named) if (!accounts.has(n.person.email) && !fresh.has(n.person.email)) fresh.set(n.person.email, n);
   const newcomers = [...fresh.values()];
   if (newcomers.length) {
-    const made: { id: string; email: string; name: string }[] = await manager.query(
-      `INSERT INTO users (email, name, password_hash) SELECT email, name, NULL FROM unnest($1::text[], $2::text[]) AS p(email, name) RETURNING id, email, name`,
-      [newcomers.map((n) => n.person.email), newcomers.map((n) => n.person.name)],
-    );
+    const made = await insertInvitedAccounts(manager, newcomers.map((n) => n.person));
     for (const u of made) accounts.set(u.email, { ...u, roles: [], held: new Set([`${fresh.get(u.email)!.offered.role}@${fresh.get(u.email)!.offered.siteId}`]) });
     const ids = newcomers.map((n) => accounts.get(n.person.email)!.id);
-    await manager.query(`INSERT INTO role_grants (user_id, role, site_id) SELECT * FROM unnest($1::uuid[], $2::text[], $3::uuid[])`, [
-      ids,
-      newcomers.map((n) => n.offered.role),
-      newcomers.map((n) => n.offered.siteId),
-    ]);
+    await insertGrants(manager, newcomers.map((n, i) => ({ userId: ids[i], role: n.offered.role, siteId: n.offered.siteId })));
     const tokens = await issueTokens(manager, ids, 'invitation');
     await recordAudits(
       manager,
@@ -140,14 +143,7 @@ export async function ensurePeople(
   // expired one is replaced.
   const mailed = new Set(newcomers.map((n) => `${n.person.email}|${n.offered.role}|${n.offered.siteId}`));
   const candidates = named.filter((n) => !newcomers.includes(n) && !accounts.get(n.person.email)!.held.has(`${n.offered.role}@${n.offered.siteId}`));
-  const open: { key: string }[] = candidates.length
-    ? await manager.query(
-        `SELECT u.email || '|' || i.role || '|' || i.site_id AS key FROM role_invitations i JOIN users u ON u.id = i.user_id
-          WHERE i.state = 'pending' AND i.expires_at > now() AND (u.email, i.role, i.site_id) IN (SELECT * FROM unnest($1::text[], $2::text[], $3::uuid[]))`,
-        [candidates.map((n) => n.person.email), candidates.map((n) => n.offered.role), candidates.map((n) => n.offered.siteId)],
-      )
-    : [];
-  const standing = new Set(open.map((o) => o.key));
+  const standing = await openOfferKeys(manager, candidates.map((n) => ({ email: n.person.email, role: n.offered.role, siteId: n.offered.siteId })));
   const offers: (Naming & { userId: string; name: string; token: string })[] = [];
   for (const n of candidates) {
     const key = `${n.person.email}|${n.offered.role}|${n.offered.siteId}`;
@@ -157,22 +153,14 @@ export async function ensurePeople(
     offers.push({ ...n, userId: account.id, name: account.name, token: randomBytes(32).toString('base64url') });
   }
   if (offers.length) {
-    const columns = [offers.map((o) => o.userId), offers.map((o) => o.offered.role), offers.map((o) => o.offered.siteId)];
-    await manager.query(
-      `UPDATE role_invitations i SET state = 'withdrawn', decided_at = now() FROM unnest($1::uuid[], $2::text[], $3::uuid[]) AS o(user_id, role, site_id)
-        WHERE i.user_id = o.user_id AND i.role = o.role AND i.site_id = o.site_id AND i.state = 'pending'`,
-      columns,
-    );
-    await manager.query(
-      `INSERT INTO role_invitations (user_id, role, site_id, invited_by, token_hash, expires_at)
-       SELECT user_id, role, site_id, $5, token_hash, now() + $6 * interval '1 day' FROM unnest($1::uuid[], $2::text[], $3::uuid[], $4::text[]) AS o(user_id, role, site_id, token_hash)`,
-      [...columns, offers.map((o) => hashToken(o.token)), actor.id, INVITATION_DAYS],
-    );
+    const grants = offers.map((o) => ({ userId: o.userId, role: o.offered.role, siteId: o.offered.siteId }));
+    await withdrawOffers(manager, grants);
+    await insertOffers(manager, grants.map((g, i) => ({ ...g, tokenHash: hashToken(offers[i].token) })), actor.id, INVITATION_DAYS);
     await recordAudits(
       manager,
       offers.map((o) => ({ actorId: actor.id, studyId, action: 'user.role_offered', entityType: 'user', entityId: o.userId, after: { email: o.person.email, offered: o.offered } })),
     );
-    const sites: { id: string; name: string }[] = await manager.query(`SELECT id, name FROM sites WHERE id = ANY($1)`, [[...new Set(columns[2])]]);
+    const sites = await manager.findBy(SiteEntity, { id: In([...new Set(grants.map((g) => g.siteId))]) });
     const siteName = new Map(sites.map((x) => [x.id, x.name]));
     await queueMails(
       manager,
@@ -203,39 +191,23 @@ export async function ensurePeople(
   });
 }
 
-interface OpenInvitation {
-  id: string;
-  user_id: string;
-  role: SchoolRole;
-  site_id: string;
-  site_name: string;
-  expired: boolean;
-}
-
 /** Grants an open invitation's role if it still stands (the person is still named, holds no conflicting role). */
-async function grant(manager: EntityManager, inv: OpenInvitation): Promise<boolean> {
-  const stillNamed =
-    inv.role === 'teacher'
-      ? (await manager.query(`SELECT 1 FROM classrooms WHERE site_id = $1 AND teacher_id = $2 LIMIT 1`, [inv.site_id, inv.user_id])).length > 0
-      : (await manager.query(`SELECT 1 FROM sites WHERE id = $1 AND principal_id = $2`, [inv.site_id, inv.user_id])).length > 0;
-  const [conflict] = await manager.query(`SELECT role FROM role_grants WHERE user_id = $1 AND role = ANY($2)`, [inv.user_id, conflictingRoles]);
-  const stands = stillNamed && !conflict && !inv.expired;
-  await manager.query(`UPDATE role_invitations SET state = $2, decided_at = now() WHERE id = $1`, [inv.id, stands ? 'accepted' : 'withdrawn']);
+async function grant(manager: EntityManager, inv: OpenOfferRow): Promise<boolean> {
+  const offered = { userId: inv.user_id, role: inv.role, siteId: inv.site_id };
+  const stands = (await stillNamed(manager, offered)) && !(await rolesAmong(manager, inv.user_id, conflictingRoles)).length && !inv.expired;
+  await settleOffer(manager, inv.id, stands ? 'accepted' : 'withdrawn');
   if (!stands) return false;
   // The accepted role works in the sessions the person already has, from the next request on.
   sessionChanging(manager, inv.user_id);
-  await manager.query(`INSERT INTO role_grants (user_id, role, site_id) VALUES ($1, $2, $3) ON CONFLICT DO NOTHING`, [inv.user_id, inv.role, inv.site_id]);
+  await grantIfAbsent(manager, offered);
   await recordAudit(manager, { actorId: inv.user_id, action: 'user.role_accepted', entityType: 'user', entityId: inv.user_id, after: { role: inv.role, siteId: inv.site_id } });
   return true;
 }
 
-const openSelect = `SELECT i.id, i.user_id, i.role, i.site_id, s.name AS site_name, i.expires_at < now() AS expired
-  FROM role_invitations i JOIN sites s ON s.id = i.site_id WHERE i.state = 'pending'`;
-
 /** The signed-in person accepts the role offered by a link sent to them. */
 export async function acceptRoleInvitation(deps: Pick<Deps, 'db'>, user: SessionUser, token: string): Promise<{ role: SchoolRole; siteId: string; siteName: string }> {
   return deps.db.transaction(async (manager) => {
-    const [inv]: OpenInvitation[] = await manager.query(`${openSelect} AND i.token_hash = $1 FOR UPDATE OF i`, [hashToken(token)]);
+    const inv = await lockOpenOfferByToken(manager, hashToken(token));
     // Someone else's link answers as an unknown one: it says nothing about the other account.
     if (!inv || inv.user_id !== user.id) throw AppError.notFound('The invitation (it may have been used, replaced by a newer one, or sent to another account)');
     if (!(await grant(manager, inv))) {
@@ -247,8 +219,7 @@ export async function acceptRoleInvitation(deps: Pick<Deps, 'db'>, user: Session
 
 /** Accepts every open role invitation of an account, as its owner would by each link (test set-up only). */
 export async function acceptOpenInvitations(manager: EntityManager, userId: string): Promise<void> {
-  const open: OpenInvitation[] = await manager.query(`${openSelect} AND i.user_id = $1 ORDER BY i.created_at FOR UPDATE OF i`, [userId]);
-  for (const inv of open) await grant(manager, inv);
+  for (const inv of await lockOpenOffersOf(manager, userId)) await grant(manager, inv);
 }
 
 /**
@@ -256,14 +227,10 @@ export async function acceptOpenInvitations(manager: EntityManager, userId: stri
  * that school goes once nothing there names them any more, open offers are withdrawn, and their sessions end.
  */
 export async function releaseRole(manager: EntityManager, actor: SessionUser, userId: string, role: SchoolRole, siteId: string, studyId: string | null): Promise<void> {
-  const named =
-    role === 'teacher'
-      ? (await manager.query(`SELECT 1 FROM classrooms WHERE site_id = $1 AND teacher_id = $2 LIMIT 1`, [siteId, userId])).length > 0
-      : (await manager.query(`SELECT 1 FROM sites WHERE id = $1 AND principal_id = $2`, [siteId, userId])).length > 0;
-  if (named) return;
-  await manager.query(`UPDATE role_invitations SET state = 'withdrawn', decided_at = now() WHERE user_id = $1 AND role = $2 AND site_id = $3 AND state = 'pending'`, [userId, role, siteId]);
-  const removed = await manager.query(`DELETE FROM role_grants WHERE user_id = $1 AND role = $2 AND site_id = $3 RETURNING id`, [userId, role, siteId]);
-  if (!removed.length) return;
+  const held = { userId, role, siteId };
+  if (await stillNamed(manager, held)) return;
+  await withdrawOffers(manager, [held]);
+  if (!(await removeGrant(manager, held))) return;
   await endSessions(manager, userId);
   await recordAudit(manager, { actorId: actor.id, studyId, action: 'user.roles_changed', entityType: 'user', entityId: userId, before: { role, siteId }, after: { removed: { role, siteId } } });
 }

@@ -4,6 +4,7 @@ import { RoleGrantEntity, SiteEntity, UserEntity } from '@evenhand/entities/orm'
 import type { Deps } from '../deps.js';
 import { AppError } from '../errors.js';
 import { recordAudit } from '../audit/service.js';
+import { accountPage } from './queries.js';
 import { endSessions, issueToken, queueInvitation, sessionChanging } from '../auth/service.js';
 
 function toAccount(u: UserEntity): Account {
@@ -21,27 +22,11 @@ function toAccount(u: UserEntity): Account {
 
 const byGrant = (a: RoleGrant, b: RoleGrant) => `${a.role}:${a.siteId ?? ''}`.localeCompare(`${b.role}:${b.siteId ?? ''}`);
 
-const sortColumn: Record<AccountsQuery['sort'], string> = {
-  name: 'u.name',
-  email: 'u.email',
-  createdAt: 'u.created_at',
-  lastSignInAt: 'u.last_sign_in_at',
-};
-
 export async function listAccounts({ db }: Deps, query: AccountsQuery): Promise<{ items: Account[]; total: number }> {
-  const qb = db.getRepository(UserEntity).createQueryBuilder('u');
-  if (query.q) qb.andWhere('(u.name ILIKE :q OR u.email ILIKE :q)', { q: `%${query.q.replace(/[\\%_]/g, '\\$&')}%` });
-  if (query.role) qb.andWhere('EXISTS (SELECT 1 FROM role_grants g WHERE g.user_id = u.id AND g.role = :role)', { role: query.role });
-  const total = await qb.getCount();
-  const page = await qb
-    .orderBy(sortColumn[query.sort], query.order === 'asc' ? 'ASC' : 'DESC', 'NULLS LAST')
-    .addOrderBy('u.id', 'ASC')
-    .limit(query.limit)
-    .offset(query.offset)
-    .getMany();
-  const grants = page.length ? await db.getRepository(RoleGrantEntity).findBy({ userId: In(page.map((u) => u.id)) }) : [];
-  for (const u of page) u.grants = grants.filter((g) => g.userId === u.id);
-  return { items: page.map(toAccount), total };
+  const { total, ids } = await accountPage(db.manager, query);
+  const found = ids.length ? await db.manager.find(UserEntity, { where: { id: In(ids) }, relations: { grants: true } }) : [];
+  const byId = new Map(found.map((u) => [u.id, u]));
+  return { items: ids.map((id) => toAccount(byId.get(id)!)), total };
 }
 
 async function assertSitesExist(manager: EntityManager, grants: RoleGrant[]) {
