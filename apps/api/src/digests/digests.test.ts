@@ -125,6 +125,12 @@ describe('small-cell suppression', () => {
   });
 });
 
+/** The locked result's evidence wording as the report shows it (the research lead's evidence answer). */
+async function verdictWording(): Promise<string> {
+  const evidence = (await s.lead.agent.get(`/api/studies/${s.studyId}/evidence`)).body;
+  return evidence.comparisons.find((c: { runId: string }) => c.runId === runId).verdict.wording;
+}
+
 describe('digests on lock', () => {
   let mails: Record<string, CaughtMail>;
 
@@ -152,6 +158,14 @@ describe('digests on lock', () => {
       expect(mail.html).toContain(`${g} (95% interval`);
       expect(mail.html).not.toMatch(/<img/i);
       expect(mail.text).toContain(`${t.config.appUrl}/my-school`);
+    }
+    // The evidence verdict's final wording, stored at the lock: the report's headline for this result, one sentence, no counts.
+    const wording = await verdictWording();
+    expect(wording).toMatch(/^Evidence preview, not a review \(the evidence reviewers decide\): this comparison [^.]+\.$/);
+    expect(wording).not.toMatch(/\d/);
+    for (const mail of Object.values(mails)) {
+      expect(mail.text).toContain(wording);
+      expect(mail.html).toContain(wording);
     }
     const status = await t.db.query(`SELECT state, attempts, sent_at FROM digests WHERE study_id = $1`, [s.studyId]);
     expect(status.every((d: { state: string; attempts: number }) => d.state === 'sent' && d.attempts === 1)).toBe(true);
@@ -242,6 +256,7 @@ describe('My school', () => {
     expect(facts.results[0].site.arms.every((a: { mean: number | null }) => a.mean === null)).toBe(true);
     const text = await lockText(sites[0].id);
     for (const sentence of facts.results[0].sentences) expect(text).toContain(sentence);
+    expect(facts.results[0].evidence).toBe(await verdictWording());
     expect(JSON.stringify(res.body)).not.toContain(sites[1].name);
     expect(res.body.digests.frequency).toBe('weekly');
   });

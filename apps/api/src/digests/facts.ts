@@ -1,18 +1,11 @@
 import type { EntityManager } from 'typeorm';
 import { SUPPRESSED_WORDS, decidingAnalysisNames, decidingTest, type Arm, type RunResults, type SiteFacts, type SiteResult } from '@evenhand/entities';
 import { AppError } from '../errors.js';
+import { lockedRunsSql, siteArmsSql, siteSheetsSql, studySiteSql, waveStatusSql, type LockedRunRow, type SiteArmRow, type SiteSheetRow, type StudySiteRow, type WaveStatusRow } from './queries.js';
 import { countWords, formatAlpha, formatNumber, formatPStatement, formatSigned, suppressCounts } from './wording.js';
 
 const sidedness: Record<string, string> = { 'two-sided': 'two-sided', greater: 'one-sided', less: 'one-sided' };
 const armOrder = (arm: Arm | null) => (arm === 'intervention' ? 0 : arm === 'comparison' ? 1 : 2);
-
-export interface LockedRunRow {
-  id: string;
-  results: RunResults;
-  locked_at: Date;
-  label: string;
-  is_primary: boolean;
-}
 
 /** The plain-language result a principal reads, from the run's own numbers. */
 export function resultSentences(r: RunResults, favours: SiteResult['district']['favours']): string[] {
@@ -148,6 +141,8 @@ export function siteResult(run: LockedRunRow, siteId: string): SiteResult {
         }
       : null,
     sentences: resultSentences(r, favours),
+    // The verdict's final wording as stored at the lock: the report's headline for this result, and no counts.
+    evidence: run.evidence ?? null,
     site,
   };
 }
@@ -158,50 +153,16 @@ export function siteResult(run: LockedRunRow, siteId: string): SiteResult {
  * Reads through the caller's manager, so inside a lock it sees the run as locked.
  */
 export async function buildSiteFacts(manager: EntityManager, studyId: string, siteId: string): Promise<SiteFacts> {
-  const [study] = await manager.query(
-    `SELECT s.id, s.title, s.intervention, s.comparison_condition, s.status, s.unit_of_assignment, s.quasi_experimental, x.name AS site_name
-       FROM studies s JOIN study_sites ss ON ss.study_id = s.id AND ss.site_id = $2 JOIN sites x ON x.id = ss.site_id
-      WHERE s.id = $1`,
-    [studyId, siteId],
-  );
+  const [study]: StudySiteRow[] = await manager.query(studySiteSql, [studyId, siteId]);
   if (!study) throw AppError.notFound('The school in this study');
 
-  const armRows: { arm: Arm | null; classrooms: number; students: number }[] = await manager.query(
-    `SELECT c.arm, count(DISTINCT c.id)::int AS classrooms, count(st.student_code)::int AS students
-       FROM classrooms c LEFT JOIN students st ON st.study_id = c.study_id AND st.classroom_id = c.id
-      WHERE c.study_id = $1 AND c.site_id = $2
-      GROUP BY c.arm`,
-    [studyId, siteId],
-  );
+  const armRows: SiteArmRow[] = await manager.query(siteArmsSql, [studyId, siteId]);
   armRows.sort((a, b) => armOrder(a.arm) - armOrder(b.arm));
   const counts = suppressCounts(armRows.map((a) => a.students));
 
-  const waves: { id: string; name: string; kind: SiteFacts['waves'][number]['kind']; opens_on: string; closes_on: string; status: 'upcoming' | 'open' | 'closed' }[] =
-    await manager.query(
-      `SELECT id, name, kind, to_char(opens_on, 'YYYY-MM-DD') AS opens_on, to_char(closes_on, 'YYYY-MM-DD') AS closes_on,
-              CASE WHEN current_date < opens_on THEN 'upcoming' WHEN current_date > closes_on THEN 'closed' ELSE 'open' END AS status
-         FROM waves WHERE study_id = $1 ORDER BY opens_on, name`,
-      [studyId],
-    );
-  // Every classroom owes one sheet per wave and measure, whether or not its row exists yet.
-  const sheets: { wave_id: string; classroom_name: string; measure_name: string; state: string }[] = await manager.query(
-    `SELECT w.id AS wave_id, c.name AS classroom_name, m.name AS measure_name, coalesce(sh.state, 'open') AS state
-       FROM classrooms c
-       JOIN measures m ON m.study_id = c.study_id
-       JOIN waves w ON w.study_id = c.study_id
-       LEFT JOIN score_sheets sh ON sh.classroom_id = c.id AND sh.measure_id = m.id AND sh.wave_id = w.id
-      WHERE c.study_id = $1 AND c.site_id = $2
-      ORDER BY c.name, m.name`,
-    [studyId, siteId],
-  );
-
-  const runs: LockedRunRow[] = await manager.query(
-    `SELECT r.id, r.results, r.locked_at, k.label, k.is_primary
-       FROM runs r JOIN comparisons k ON k.id = r.comparison_id
-      WHERE r.study_id = $1 AND r.state = 'locked' AND r.results IS NOT NULL
-      ORDER BY k.is_primary DESC, r.locked_at, r.id`,
-    [studyId],
-  );
+  const waves: WaveStatusRow[] = await manager.query(waveStatusSql, [studyId]);
+  const sheets: SiteSheetRow[] = await manager.query(siteSheetsSql, [studyId, siteId]);
+  const runs: LockedRunRow[] = await manager.query(lockedRunsSql, [studyId]);
   const results = runs.map((run) => siteResult(run, siteId));
 
   const cautions: string[] = [];

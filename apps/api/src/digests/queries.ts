@@ -1,4 +1,4 @@
-import type { Digest, DigestFrequency, DigestKind } from '@evenhand/entities';
+import type { Arm, Digest, DigestFrequency, DigestKind, RunResults, SiteFacts } from '@evenhand/entities';
 
 // The digests' named SQL and the rows it answers (DEVELOPERS.md, "Data access").
 
@@ -73,3 +73,85 @@ export const studySchedulesSql = `
          coalesce(d.hour, $3) AS hour, coalesce(d.timezone, $4) AS timezone
     FROM studies s LEFT JOIN digest_schedules d ON d.study_id = s.id
    WHERE s.status <> 'archived'`;
+
+// What a principal is told about one school (facts.ts).
+
+export interface StudySiteRow {
+  id: string;
+  title: string;
+  intervention: string;
+  comparison_condition: string;
+  status: SiteFacts['study']['status'];
+  unit_of_assignment: SiteFacts['study']['unitOfAssignment'];
+  quasi_experimental: boolean;
+  site_name: string;
+}
+
+/** A study ($1) with one of its schools ($2); nothing when the school is not enrolled. */
+export const studySiteSql = `
+  SELECT s.id, s.title, s.intervention, s.comparison_condition, s.status, s.unit_of_assignment, s.quasi_experimental, x.name AS site_name
+    FROM studies s JOIN study_sites ss ON ss.study_id = s.id AND ss.site_id = $2 JOIN sites x ON x.id = ss.site_id
+   WHERE s.id = $1`;
+
+export interface SiteArmRow {
+  arm: Arm | null;
+  classrooms: number;
+  students: number;
+}
+
+/** A school's classrooms and registered students per arm (null: not drawn yet). $1 study, $2 site. */
+export const siteArmsSql = `
+  SELECT c.arm, count(DISTINCT c.id)::int AS classrooms, count(st.student_code)::int AS students
+    FROM classrooms c LEFT JOIN students st ON st.study_id = c.study_id AND st.classroom_id = c.id
+   WHERE c.study_id = $1 AND c.site_id = $2
+   GROUP BY c.arm`;
+
+export interface WaveStatusRow {
+  id: string;
+  name: string;
+  kind: SiteFacts['waves'][number]['kind'];
+  opens_on: string;
+  closes_on: string;
+  status: 'upcoming' | 'open' | 'closed';
+}
+
+/** A study's waves with whether each is upcoming, open or closed today. $1 study. */
+export const waveStatusSql = `
+  SELECT id, name, kind, to_char(opens_on, 'YYYY-MM-DD') AS opens_on, to_char(closes_on, 'YYYY-MM-DD') AS closes_on,
+         CASE WHEN current_date < opens_on THEN 'upcoming' WHEN current_date > closes_on THEN 'closed' ELSE 'open' END AS status
+    FROM waves WHERE study_id = $1 ORDER BY opens_on, name`;
+
+export interface SiteSheetRow {
+  wave_id: string;
+  classroom_name: string;
+  measure_name: string;
+  state: string;
+}
+
+/** Every sheet a school's classrooms owe (one per wave and measure, 'open' until its row exists). $1 study, $2 site. */
+export const siteSheetsSql = `
+  SELECT w.id AS wave_id, c.name AS classroom_name, m.name AS measure_name, coalesce(sh.state, 'open') AS state
+    FROM classrooms c
+    JOIN measures m ON m.study_id = c.study_id
+    JOIN waves w ON w.study_id = c.study_id
+    LEFT JOIN score_sheets sh ON sh.classroom_id = c.id AND sh.measure_id = m.id AND sh.wave_id = w.id
+   WHERE c.study_id = $1 AND c.site_id = $2
+   ORDER BY c.name, m.name`;
+
+export interface LockedRunRow {
+  id: string;
+  results: RunResults;
+  locked_at: Date;
+  label: string;
+  is_primary: boolean;
+  /** The final wording of the verdict stored at the lock, against the boundary its plan registered. */
+  evidence?: string | null;
+}
+
+/** A study's locked results with their stored verdict's wording, the primary first. $1 study. */
+export const lockedRunsSql = `
+  SELECT r.id, r.results, r.locked_at, k.label, k.is_primary,
+         CASE v.boundary WHEN 'optimistic' THEN v.optimistic->>'wording' ELSE v.cautious->>'wording' END AS evidence
+    FROM runs r JOIN comparisons k ON k.id = r.comparison_id LEFT JOIN run_verdicts v ON v.run_id = r.id
+   WHERE r.study_id = $1 AND r.state = 'locked' AND r.results IS NOT NULL
+   ORDER BY k.is_primary DESC, r.locked_at, r.id`;

@@ -94,7 +94,8 @@ function blocks(facts: SiteFacts, kind: DigestKind, newlyLocked: string[]): Bloc
   const resultBlocks: Block[] = ordered.flatMap((r) => [
     {
       heading: resultHeading(r, kind, newlyLocked),
-      paragraphs: r.sentences,
+      // The evidence verdict's final wording only, as the report's headline for this result says it.
+      paragraphs: r.evidence ? [...r.sentences, r.evidence] : r.sentences,
       table: {
         head: ['All schools in the study', 'Figure'],
         rows: r.yesNo ? yesNoDistrictRows(r, r.yesNo) : scoreDistrictRows(r),

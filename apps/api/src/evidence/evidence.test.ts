@@ -11,6 +11,7 @@ let t: TestApp;
 let s: StudySetup;
 let classrooms: { id: string; siteId: string }[];
 let lost: string;
+let lockedRun: string;
 
 async function evidence(query = ''): Promise<StudyEvidence> {
   const res = await s.lead.agent.get(`/api/studies/${s.studyId}/evidence${query}`);
@@ -46,8 +47,17 @@ afterAll(() => t.close());
 describe('GET /studies/:id/evidence', () => {
   it('when one of six intervention classrooms has no outcome sheet, then classroom attrition is the Checks’ figure, high, and one more sheet would bring it back to low', async () => {
     const e = await evidence();
+    // The plan registers the cautious boundary unless the research lead chose otherwise, and the answer says so.
     expect(e.boundary).toBe('cautious');
+    expect(e.plan).toEqual({
+      boundary: 'cautious',
+      chosenBy: 'plan',
+      planVersion: 1,
+      reason: '',
+      explanation: 'Judged against the cautious attrition boundary, which plan version 1 registers: the intervention could affect which students leave.',
+    });
     expect(e.comparisons).toHaveLength(1);
+    expect(e.comparisons[0].boundary).toEqual(e.plan);
     const checks = (await s.lead.agent.get(`/api/studies/${s.studyId}/checks`)).body;
     const measure = checks.measures.find((m: { measureId: string }) => m.measureId === s.measureId);
     const fromChecks = measure.accounting.attrition.classrooms;
@@ -63,7 +73,8 @@ describe('GET /studies/:id/evidence', () => {
     expect(e.comparisons[0].verdict.rating).toBe(band === 'fails' ? 'does-not-meet' : 'with-reservations');
     // No run yet: the tier is not settled, and the wording says it is a preview.
     expect(e.comparisons[0].verdict.settled).toBe(false);
-    expect(e.comparisons[0].verdict.wording).toContain('This is a preview, not a review: the evidence reviewers decide.');
+    const rated = e.comparisons[0].verdict.rating === 'does-not-meet' ? 'would not meet the evidence standards' : 'would meet the evidence standards with reservations';
+    expect(e.comparisons[0].verdict.wording).toBe(`Evidence preview, not a review (the evidence reviewers decide): this comparison ${rated}; its evidence tier cannot be told yet.`);
     expect(reason(e, 'confound-teacher-intervention').passed).toBe(true);
     expect(reason(e, 'multi-site').numbers).toBe('3 schools with analysed students');
   });
@@ -72,6 +83,10 @@ describe('GET /studies/:id/evidence', () => {
     const e = await evidence('?boundary=optimistic');
     expect(e.boundary).toBe('optimistic');
     expect(reason(e, 'cluster-attrition').rule).toContain('optimistic boundary');
+    expect(e.comparisons[0].boundary).toMatchObject({ boundary: 'optimistic', chosenBy: 'reader', planVersion: 1 });
+    expect(e.comparisons[0].boundary.explanation).toBe('Judged against the optimistic attrition boundary, as asked here; plan version 1 registers the cautious one.');
+    // The plan's choice is unchanged by what a reader asks for.
+    expect(e.plan.boundary).toBe('cautious');
   });
 
   it('when the last sheet arrives and the result is locked, then the verdict reads the locked run: no attrition, its deciding analysis and no risks', async () => {
@@ -102,7 +117,31 @@ describe('GET /studies/:id/evidence', () => {
     expect(e.comparisons[0].verdict.tier).toBe(d.significant && d.estimate > 0 ? 'promising' : 'none');
     // The bundle carries the same verdict with every reason.
     const bundle = (await s.lead.agent.get(`/api/runs/${run.id}/bundle`)).body;
-    expect(bundle.evidence).toEqual({ boundary: 'cautious', ...e.comparisons[0].verdict });
+    expect(bundle.evidence).toEqual({ boundary: 'cautious', boundaryExplanation: e.comparisons[0].boundary.explanation, ...e.comparisons[0].verdict });
+    // Stored with the lock, against both boundaries, with the boundary the run's plan registers.
+    const [stored] = await t.db.query(`SELECT plan_version, boundary, cautious, optimistic FROM run_verdicts WHERE run_id = $1`, [run.id]);
+    expect(stored).toMatchObject({ plan_version: 1, boundary: 'cautious' });
+    expect(stored.cautious).toEqual(e.comparisons[0].verdict);
+    expect(stored.optimistic).toEqual((await evidence('?boundary=optimistic')).comparisons[0].verdict);
+    lockedRun = run.id;
+  });
+
+  it('when something changes after the lock, then the locked verdict does not: it is the one stored when the result was locked', async () => {
+    const before = await evidence();
+    const beforeOptimistic = await evidence('?boundary=optimistic');
+    expect(reason(before, 'confound-teacher-intervention').passed).toBe(true);
+    // One teacher now delivers every intervention classroom: judged live, that confound fails the rating (WWC v4.1
+    // Handbook, confounding factor: one unit in a condition; packages/stats tests the rule itself).
+    const [{ teacher_id: teacher }] = await t.db.query(`SELECT teacher_id FROM classrooms WHERE study_id = $1 AND arm = 'intervention' LIMIT 1`, [s.studyId]);
+    await t.db.query(`UPDATE classrooms SET teacher_id = $2 WHERE study_id = $1 AND arm = 'intervention'`, [s.studyId, teacher]);
+    const after = await evidence();
+    expect(after.comparisons[0]).toEqual(before.comparisons[0]);
+    expect((await evidence('?boundary=optimistic')).comparisons[0]).toEqual(beforeOptimistic.comparisons[0]);
+    const bundle = (await s.lead.agent.get(`/api/runs/${lockedRun}/bundle`)).body;
+    expect(bundle.evidence.wording).toBe(before.comparisons[0].verdict.wording);
+    // The database keeps it: a stored verdict can be neither changed nor removed.
+    await expect(t.db.query(`UPDATE run_verdicts SET boundary = 'optimistic' WHERE run_id = $1`, [lockedRun])).rejects.toThrow(/cannot be changed/);
+    await expect(t.db.query(`DELETE FROM run_verdicts WHERE run_id = $1`, [lockedRun])).rejects.toThrow(/cannot be changed/);
   });
 
   it('when the boundary is not one of the two, then 400 in the one error shape; a principal is refused', async () => {

@@ -1,11 +1,39 @@
-import type { DataSource } from 'typeorm';
+import type { DataSource, EntityManager } from 'typeorm';
 import { evidenceVerdict, ratingRisks, type ArmCounts, type ArmPair, type AttritionBoundary, type ComparisonDescription } from '@evenhand/stats';
-import { decidingTest, type Accounting, type Arm, type RunResults, type SessionUser, type StudyEvidence } from '@evenhand/entities';
+import {
+  decidingTest,
+  planBoundary,
+  type Accounting,
+  type Arm,
+  type BoundaryChoice,
+  type ComparisonEvidence,
+  type RunResults,
+  type SessionUser,
+  type StudyEvidence,
+  type VerdictAnswer,
+} from '@evenhand/entities';
+import { DrawEntity, PlanDraftEntity, WaveEntity, type StudyEntity } from '@evenhand/entities/orm';
 import { accountingOf, studyChecks } from '../checks/service.js';
+import { currentPlan } from '../plans/service.js';
 import { needsPretest } from '../runs/accounting.js';
 import { listComparisons } from '../runs/comparisons.js';
 import { findVisibleStudy } from '../studies/access.js';
-import { analysedPerClassroomSql, confirmatoryComparisonsSql, deliverersSql, joinersSql, reassignmentCountSql } from './queries.js';
+import {
+  analysedPerClassroomSql,
+  confirmatoryComparisonsSql,
+  deliverersSql,
+  joinersSql,
+  planVersionBoundarySql,
+  reassignmentCountSql,
+  runStudySql,
+  storedVerdictsSql,
+  storeVerdictsSql,
+  type StoredVerdictRow,
+} from './queries.js';
+
+/** What the verdict reads through: the pool, or a transaction (a lock stores its verdicts in its own). */
+type Reader = Pick<DataSource, 'query' | 'manager'>;
+const within = (manager: EntityManager): Reader => ({ query: ((sql: string, params?: unknown[]) => manager.query(sql, params)) as DataSource['query'], manager });
 
 interface ComparisonRow {
   id: string;
@@ -23,6 +51,7 @@ interface ComparisonRow {
   classroom_arms: Record<string, Arm> | null;
   input_sheet_ids: string[] | null;
   started_at: Date | null;
+  plan_version: number | null;
 }
 
 /** Analyses that account for students being clustered in the assigned units (the evidence standards' clustering rule). */
@@ -30,30 +59,35 @@ const clusterAware = new Set(['two-level', 'clustering-corrected', 'classroom-me
 
 const pair = <T>(f: (arm: Arm) => T): ArmPair<T> => ({ intervention: f('intervention'), comparison: f('comparison') });
 
+interface Described {
+  k: ComparisonRow;
+  locked: boolean;
+  description: Omit<ComparisonDescription, 'boundary'>;
+}
+
 /**
- * The evidence verdict of each pre-specified comparison, from what Evenhand already holds: for a locked run, what the
- * run read (its accounting, arms, input sheets and the reassignments before it started); otherwise today's accepted
- * sheets, with the effect of the newest finished run when there is one. Baseline equivalence is the Checks' figure.
+ * Each pre-specified comparison described from what Evenhand already holds: for a locked run (or `locking`, the run being
+ * locked), what the run read (its accounting, arms, input sheets and the reassignments before it started); otherwise
+ * today's accepted sheets, with the effect of the newest finished run when there is one. Baseline equivalence is the
+ * Checks' figure.
  */
-export async function studyEvidence(db: DataSource, user: SessionUser, studyId: string, boundary: AttritionBoundary): Promise<StudyEvidence> {
-  const study = await findVisibleStudy(db.manager, user, studyId);
+async function describeComparisons(db: Reader, user: SessionUser, study: StudyEntity, locking: string | null = null): Promise<Described[]> {
+  const studyId = study.id;
   const checks = await studyChecks(db, user, studyId);
-  // The sealed plan's pre-specified comparisons are made on first listing.
-  await listComparisons(db, user, studyId);
-  const rows: ComparisonRow[] = await db.query(confirmatoryComparisonsSql, [studyId]);
-  const [draw]: { id: string }[] = await db.query(`SELECT id FROM draws WHERE study_id = $1`, [studyId]);
-  const [baselineWave]: { id: string }[] = await db.query(`SELECT id FROM waves WHERE study_id = $1 AND kind = 'baseline' ORDER BY opens_on LIMIT 1`, [studyId]);
+  const rows: ComparisonRow[] = await db.query(confirmatoryComparisonsSql, [studyId, locking]);
+  const draw = await db.manager.findOneBy(DrawEntity, { studyId });
+  const baselineWave = await db.manager.findOne(WaveEntity, { where: { studyId, kind: 'baseline' }, order: { opensOn: 'ASC' } });
   const classrooms: { id: string; arm: Arm; teacher_id: string; site_id: string }[] = await db.query(deliverersSql, [studyId]);
   const clustered = study.unitOfAssignment !== 'student';
 
-  const comparisons = [];
+  const described: Described[] = [];
   for (const k of rows) {
-    const locked = k.run_state === 'locked';
+    const locked = k.run_state === 'locked' || (locking !== null && k.run_id === locking);
     const results = k.results;
     const sheets = locked ? (k.input_sheet_ids ?? []) : null;
     const pretest = needsPretest({ primaryTest: k.primary_test, covariate: k.covariate, scale: k.measure_scale, hasBaselineWave: Boolean(baselineWave) });
     // Who was analysed and lost: the locked run's stored accounting, else the accepted sheets as they stand (the Checks' own definition).
-    const accounting = locked && results?.accounting ? results.accounting : (await accountingOf(db, { studyId, measureId: k.measure_id, waveId: k.wave_id, pretest: pretest ? baselineWave.id : null })).accounting;
+    const accounting = locked && results?.accounting ? results.accounting : (await accountingOf(db, { studyId, measureId: k.measure_id, waveId: k.wave_id, pretest: pretest ? baselineWave!.id : null })).accounting;
     const [{ n: reassignments }]: { n: number }[] = await db.query(reassignmentCountSql, [studyId, locked ? k.started_at : null]);
     const perClassroom: { classroom_id: string; n: number }[] = await db.query(analysedPerClassroomSql, [studyId, k.wave_id, k.measure_id, sheets]);
     const [{ n: joiners }]: { n: number | null }[] = await db.query(joinersSql, [studyId, k.wave_id, k.measure_id, sheets]);
@@ -86,44 +120,143 @@ export async function studyEvidence(db: DataSource, user: SessionUser, studyId: 
     const measureChecks = checks.measures.find((m) => m.measureId === k.measure_id);
     const equivalence = measureChecks?.baselineEquivalence ?? null;
     const deciding = results ? decidingTest(results) : null;
-    const description: ComparisonDescription = {
-      randomised: Boolean(draw) && !(study.quasiExperimental && reassignments === 0),
-      unitOfAssignment: study.unitOfAssignment,
-      reassignments,
-      boundary,
-      clusters: clustered ? clusterCounts : null,
-      students: studentCounts && studentCounts.intervention.randomised + studentCounts.comparison.randomised > 0 ? studentCounts : null,
-      joiners: clustered ? joiners : null,
-      baseline: !baselineWave ? 'not-measured' : equivalence ? { effectSize: equivalence.g, kind: equivalence.effectSize ?? 'hedges-g' } : null,
-      adjustsForBaseline: results?.twoLevel ? results.twoLevel.covariate === 'baseline' : pretest,
-      accountsForClustering: !clustered || (deciding ? clusterAware.has(deciding.analysis) : k.primary_test === 'two-level'),
-      teachers: pair((arm) => [...new Set(inArm(arm).map((c) => c.teacher_id))]),
-      schools: pair((arm) => [...new Set(inArm(arm).map((c) => c.site_id))]),
-      effect: deciding ? { estimate: deciding.estimate, favourable: deciding.estimate !== 0 && deciding.estimate > 0 === k.higher_is_better, p: deciding.p, significant: deciding.significant } : null,
-      sample: { groupsOfTenOrMore: [...perUnit.values()].filter((n) => n >= 10).length, sites },
-    };
-    comparisons.push({
-      comparisonId: k.id,
-      label: k.label,
-      measureName: k.measure_name,
-      runId: k.run_id,
+    described.push({
+      k,
       locked,
-      verdict: evidenceVerdict(description),
-      // Risks are about data still arriving: a locked result has none.
-      risks: locked ? [] : ratingRisks(description),
+      description: {
+        randomised: Boolean(draw) && !(study.quasiExperimental && reassignments === 0),
+        unitOfAssignment: study.unitOfAssignment,
+        reassignments,
+        clusters: clustered ? clusterCounts : null,
+        students: studentCounts && studentCounts.intervention.randomised + studentCounts.comparison.randomised > 0 ? studentCounts : null,
+        joiners: clustered ? joiners : null,
+        baseline: !baselineWave ? 'not-measured' : equivalence ? { effectSize: equivalence.g, kind: equivalence.effectSize ?? 'hedges-g' } : null,
+        adjustsForBaseline: results?.twoLevel ? results.twoLevel.covariate === 'baseline' : pretest,
+        accountsForClustering: !clustered || (deciding ? clusterAware.has(deciding.analysis) : k.primary_test === 'two-level'),
+        teachers: pair((arm) => [...new Set(inArm(arm).map((c) => c.teacher_id))]),
+        schools: pair((arm) => [...new Set(inArm(arm).map((c) => c.site_id))]),
+        effect: deciding ? { estimate: deciding.estimate, favourable: deciding.estimate !== 0 && deciding.estimate > 0 === k.higher_is_better, p: deciding.p, significant: deciding.significant } : null,
+        sample: { groupsOfTenOrMore: [...perUnit.values()].filter((n) => n >= 10).length, sites },
+      },
     });
   }
-  return { studyId, boundary, comparisons };
+  return described;
+}
+
+const CAUTIOUS_WHY = 'the intervention could affect which students leave';
+
+interface PlanChoice {
+  boundary: AttritionBoundary;
+  reason: string;
+  /** The sealed version that registers it; null for a draft's choice ('draft') or the default before any ('none'). */
+  version: number | null;
+  source: 'sealed' | 'draft' | 'none';
+}
+
+/** Which boundary applies and why, in one sentence: the plan's (with its reason), or the other one asked for. */
+export function boundaryChoice(plan: PlanChoice, asked?: AttritionBoundary): BoundaryChoice {
+  const boundary = asked ?? plan.boundary;
+  const whose = plan.source === 'sealed' ? `plan version ${plan.version}` : 'the plan’s draft';
+  let explanation: string;
+  if (boundary !== plan.boundary) {
+    explanation = `Judged against the ${boundary} attrition boundary, as asked here; ${plan.source === 'none' ? 'until a plan chooses one, the cautious one applies' : `${whose} registers the ${plan.boundary} one`}.`;
+  } else if (plan.source === 'none') {
+    explanation = `Judged against the cautious attrition boundary, the one that applies until a plan chooses: ${CAUTIOUS_WHY}.`;
+  } else {
+    explanation =
+      boundary === 'cautious'
+        ? `Judged against the cautious attrition boundary, which ${whose} registers: ${CAUTIOUS_WHY}.`
+        : `Judged against the optimistic attrition boundary, which ${whose} registers with the reason “${plan.reason}”.`;
+  }
+  return { boundary, chosenBy: boundary === plan.boundary ? 'plan' : 'reader', planVersion: plan.version, reason: plan.reason, explanation };
+}
+
+/** The boundary the plan now registers: the latest sealed version's, else the draft's, else the cautious default. */
+async function planChoiceOf(manager: EntityManager, studyId: string): Promise<PlanChoice> {
+  const sealed = await currentPlan(manager, studyId);
+  if (sealed) return { ...planBoundary(sealed.content), version: sealed.version, source: 'sealed' };
+  const draft = await manager.findOneBy(PlanDraftEntity, { studyId });
+  return draft ? { ...planBoundary(draft.content), version: null, source: 'draft' } : { boundary: 'cautious', reason: '', version: null, source: 'none' };
+}
+
+/** The boundary of the plan version a run followed (its registered analysis), cautious for plans sealed before the choice. */
+async function runPlanChoice(db: Reader, studyId: string, version: number | null): Promise<PlanChoice> {
+  if (version === null) return { boundary: 'cautious', reason: '', version: null, source: 'none' };
+  const [row]: { boundary: AttritionBoundary | null; reason: string | null }[] = await db.query(planVersionBoundarySql, [studyId, version]);
+  return { ...planBoundary({ attritionBoundary: row?.boundary ?? undefined, attritionBoundaryReason: row?.reason ?? undefined }), version, source: 'sealed' };
+}
+
+/** Stores a locked comparison's verdicts, judged against both boundaries, with its plan's choice. */
+async function storeVerdicts(db: Reader, studyId: string, d: Described): Promise<StoredVerdictRow> {
+  const plan = await runPlanChoice(db, studyId, d.k.plan_version);
+  const row: StoredVerdictRow = {
+    run_id: d.k.run_id!,
+    plan_version: plan.version,
+    boundary: plan.boundary,
+    boundary_reason: plan.reason,
+    cautious: evidenceVerdict({ ...d.description, boundary: 'cautious' }),
+    optimistic: evidenceVerdict({ ...d.description, boundary: 'optimistic' }),
+  };
+  await db.query(storeVerdictsSql, [row.run_id, row.plan_version, row.boundary, row.boundary_reason, row.cautious, row.optimistic]);
+  // Another reader may have stored it first: theirs stands.
+  const [stored]: StoredVerdictRow[] = await db.query(storedVerdictsSql, [[row.run_id]]);
+  return stored;
+}
+
+const storedChoice = (v: StoredVerdictRow): PlanChoice => ({ boundary: v.boundary, reason: v.boundary_reason, version: v.plan_version, source: v.plan_version === null ? 'none' : 'sealed' });
+
+/**
+ * Inside a run's lock: its comparison's verdict, judged against both boundaries, is stored with the run, so nothing
+ * that changes later (a sheet accepted, a teacher changed, a roster import) moves a locked result's verdict.
+ */
+export async function storeLockedVerdicts(manager: EntityManager, user: SessionUser, studyId: string, runId: string): Promise<void> {
+  const db = within(manager);
+  const study = await findVisibleStudy(manager, user, studyId);
+  const mine = (await describeComparisons(db, user, study, runId)).find((d) => d.k.run_id === runId);
+  if (mine) await storeVerdicts(db, studyId, mine);
 }
 
 /**
- * The verdict a run's bundle carries: its comparison's, when the verdict reads this run (the locked one, else the newest
- * finished), judged against the cautious boundary; null otherwise (an exploratory comparison, or an older run).
+ * The evidence verdict of each pre-specified comparison, judged against `asked` or else the boundary the plan registers.
+ * A locked result answers with the verdict stored when it was locked (a result locked before verdicts were stored gets
+ * them now, once).
  */
-export async function runEvidence(db: DataSource, user: SessionUser, runId: string) {
-  const [run]: { study_id: string }[] = await db.query(`SELECT study_id FROM runs WHERE id = $1`, [runId]);
+export async function studyEvidence(db: DataSource, user: SessionUser, studyId: string, asked?: AttritionBoundary): Promise<StudyEvidence> {
+  const study = await findVisibleStudy(db.manager, user, studyId);
+  // The sealed plan's pre-specified comparisons are made on first listing.
+  await listComparisons(db, user, studyId);
+  const plan = await planChoiceOf(db.manager, studyId);
+  const described = await describeComparisons(db, user, study);
+  const lockedRuns = described.filter((d) => d.locked).map((d) => d.k.run_id!);
+  const stored = new Map<string, StoredVerdictRow>();
+  if (lockedRuns.length) for (const v of (await db.query(storedVerdictsSql, [lockedRuns])) as StoredVerdictRow[]) stored.set(v.run_id, v);
+
+  const comparisons: ComparisonEvidence[] = [];
+  for (const d of described) {
+    const base = { comparisonId: d.k.id, label: d.k.label, measureName: d.k.measure_name, runId: d.k.run_id, locked: d.locked };
+    if (d.locked) {
+      const v = stored.get(d.k.run_id!) ?? (await storeVerdicts(db, studyId, d));
+      const choice = boundaryChoice(storedChoice(v), asked);
+      // Risks are about data still arriving: a locked result has none.
+      comparisons.push({ ...base, boundary: choice, verdict: v[choice.boundary], risks: [] });
+    } else {
+      const choice = boundaryChoice(plan, asked);
+      const description = { ...d.description, boundary: choice.boundary };
+      comparisons.push({ ...base, boundary: choice, verdict: evidenceVerdict(description), risks: ratingRisks(description) });
+    }
+  }
+  return { studyId, boundary: asked ?? plan.boundary, plan: boundaryChoice(plan), comparisons };
+}
+
+/**
+ * The verdict a run's bundle carries: for a locked run the one stored at its lock, against its plan's boundary; for a
+ * finished run its comparison's live verdict when the verdict reads this run (the newest finished), against the plan's
+ * boundary; null otherwise (an exploratory comparison, or an older run).
+ */
+export async function runEvidence(db: DataSource, user: SessionUser, runId: string): Promise<(VerdictAnswer & { boundary: AttritionBoundary; boundaryExplanation: string }) | null> {
+  const [run]: { study_id: string }[] = await db.query(runStudySql, [runId]);
   if (!run) return null;
-  const answer = await studyEvidence(db, user, run.study_id, 'cautious');
+  const answer = await studyEvidence(db, user, run.study_id);
   const mine = answer.comparisons.find((c) => c.runId === runId);
-  return mine ? { boundary: answer.boundary, ...mine.verdict } : null;
+  return mine ? { boundary: mine.boundary.boundary, boundaryExplanation: mine.boundary.explanation, ...mine.verdict } : null;
 }

@@ -84,6 +84,57 @@ describe('the plan', () => {
     expect(res.body.error.details.issues.map((i: { path: string }) => i.path)).toEqual(['primaryMeasureId', 'primaryWaveId']);
   });
 
+  it('when sealed, then the attrition boundary is registered with it: cautious unless chosen, the optimistic one only with a reason', async () => {
+    const s = await createStudy(t.app, { seal: false });
+    const bare = await s.lead.agent
+      .put(`/api/studies/${s.studyId}/plan`)
+      .set('x-csrf-token', s.lead.csrf)
+      .send({ ...samplePlan(s.measureId, s.outcomeId), attritionBoundary: 'optimistic' });
+    expect(bare.status).toBe(400);
+    expect(bare.body.error.details.issues).toEqual([{ path: 'attritionBoundaryReason', message: 'Say why the intervention is unlikely to affect which students leave' }]);
+    const unknown = await s.lead.agent.put(`/api/studies/${s.studyId}/plan`).set('x-csrf-token', s.lead.csrf).send({ ...samplePlan(s.measureId, s.outcomeId), attritionBoundary: 'lenient' });
+    expect(unknown.status).toBe(400);
+    expect(unknown.body.error.details.issues[0].path).toBe('attritionBoundary');
+    // Neither refusal changed the draft createStudy saved.
+    expect((await s.lead.agent.get(`/api/studies/${s.studyId}/plan`)).body.draft.attritionBoundary).toBe('cautious');
+
+    await send(s.lead, 'put', `/api/studies/${s.studyId}/plan`, samplePlan(s.measureId, s.outcomeId), 200);
+    const sealed = await send(s.lead, 'post', `/api/studies/${s.studyId}/plan/seal`, {}, 200);
+    expect(sealed.versions[0].content).toMatchObject({ attritionBoundary: 'cautious', attritionBoundaryReason: '' });
+    const [{ content }] = await t.db.query(`SELECT content FROM plan_versions WHERE study_id = $1`, [s.studyId]);
+    // In the sealed content itself, so the SHA-256 covers it.
+    expect(content.attritionBoundary).toBe('cautious');
+  });
+
+  it('when an amendment chooses the optimistic boundary, then the change and its reason are a new version and audited', async () => {
+    const s = await createStudy(t.app);
+    const reason = 'Classrooms are assigned inside schools and the practice runs in regular lessons, so it cannot change who is tested.';
+    const plan = { ...samplePlan(s.measureId, s.outcomeId), attritionBoundary: 'optimistic', attritionBoundaryReason: reason };
+    const res = await send(s.lead, 'post', `/api/studies/${s.studyId}/plan/amendments`, { reason: 'The review protocol for this topic sets the optimistic boundary.', plan }, 201);
+    expect(res.versions[1].changes).toEqual([
+      { field: 'attritionBoundary', from: 'cautious', to: 'optimistic' },
+      { field: 'attritionBoundaryReason', from: '', to: reason },
+    ]);
+    const [audit] = await t.db.query(`SELECT after FROM audit_events WHERE study_id = $1 AND action = 'plan.amended'`, [s.studyId]);
+    expect(audit.after.changes.map((c: { field: string }) => c.field)).toEqual(['attritionBoundary', 'attritionBoundaryReason']);
+  });
+
+  it('when a version was sealed before the boundary could be chosen, then it means the cautious one: restating it is no amendment', async () => {
+    const s = await createStudy(t.app, { seal: false });
+    const { attritionBoundary: _b, attritionBoundaryReason: _r, ...older } = (await send(s.lead, 'put', `/api/studies/${s.studyId}/plan`, samplePlan(s.measureId, s.outcomeId), 200)).draft;
+    const [{ id: leadId }] = await t.db.query(`SELECT id FROM users WHERE email = 'lead@evenhand.test'`);
+    await t.db.query(`INSERT INTO plan_versions (study_id, version, content, sha256, created_by) VALUES ($1, 1, $2, repeat('0', 64), $3)`, [s.studyId, older, leadId]);
+    const same = await s.lead.agent
+      .post(`/api/studies/${s.studyId}/plan/amendments`)
+      .set('x-csrf-token', s.lead.csrf)
+      .send({ reason: 'Restating the plan with its boundary.', plan: { ...older, attritionBoundary: 'cautious' } });
+    expect(same.status).toBe(400);
+    expect(same.body.error.message).toBe('The amendment changes nothing in the plan');
+    const evidence = (await s.lead.agent.get(`/api/studies/${s.studyId}/evidence`)).body;
+    expect(evidence.plan).toMatchObject({ boundary: 'cautious', chosenBy: 'plan', planVersion: 1 });
+    expect(evidence.plan.explanation).toBe('Judged against the cautious attrition boundary, which plan version 1 registers: the intervention could affect which students leave.');
+  });
+
   it('when nothing was saved, then sealing answers 409', async () => {
     const lead = await signIn(t.app, 'lead@evenhand.test');
     const study = await send(lead, 'post', '/api/studies', { title: 'Empty', intervention: 'x', comparisonCondition: 'y' }, 201);

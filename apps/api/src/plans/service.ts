@@ -1,5 +1,5 @@
 import type { DataSource, EntityManager } from 'typeorm';
-import type { Amendment, Plan, PlanContent, PlanFieldChange, PlanVersion, SessionUser } from '@evenhand/entities';
+import { planContentSchema, type Amendment, type Plan, type PlanContent, type PlanFieldChange, type PlanVersion, type SessionUser } from '@evenhand/entities';
 import { MeasureEntity, PlanDraftEntity, PlanVersionEntity, StudyEntity, UserEntity, WaveEntity } from '@evenhand/entities/orm';
 import { recordAudit } from '../audit/service.js';
 import { AppError } from '../errors.js';
@@ -96,7 +96,9 @@ export async function amendPlan(db: DataSource, user: SessionUser, studyId: stri
     const latest = await manager.findOne(PlanVersionEntity, { where: { studyId }, order: { version: 'DESC' } });
     if (!latest) throw AppError.conflict('The plan is not sealed yet; edit the draft instead');
     await assertReferencesBelong(manager, studyId, amendment.plan);
-    const changes = planChanges(latest.content, amendment.plan);
+    // A version sealed before a field existed means that field's default (a boundary: cautious), so restating it is no change.
+    const before = planContentSchema.safeParse(latest.content);
+    const changes = planChanges(before.success ? before.data : latest.content, amendment.plan);
     if (!changes.length) throw AppError.validation('The amendment changes nothing in the plan');
     const version = latest.version + 1;
     const sha256 = canonicalSha256(amendment.plan);

@@ -5,6 +5,7 @@ import { recordAudit } from '../audit/service.js';
 import { changeFeed } from '../db/change-feed.js';
 import type { Deps } from '../deps.js';
 import { createLockDigests } from '../digests/service.js';
+import { storeLockedVerdicts } from '../evidence/service.js';
 import { AppError } from '../errors.js';
 import type { Logger } from '../logger.js';
 import { currentPlan } from '../plans/service.js';
@@ -165,6 +166,8 @@ export async function lockRun(deps: Pick<Deps, 'db' | 'config' | 'jobs'>, user: 
       entityId: runId,
       after: { dataSha256: run.data_sha256, engineVersion: run.engine_version, planVersion: run.plan_version },
     });
+    // The evidence verdict is stored with the lock, so the principals' digests below and every later reader show it as locked.
+    await storeLockedVerdicts(manager, user, run.study_id, runId);
     await createLockDigests(manager, deps, run.study_id, runId);
     // Every pre-specified comparison locked: the study's result is reported.
     const [open] = await manager.query(

@@ -85,6 +85,9 @@ export async function seedDemoStudies(deps: Deps, today = new Date()): Promise<S
     shareIntervention: 0.5,
     summaryEntryAllowed: false,
     covariateR2: 0.5,
+    // Reading help could change which pupils stay in the study: the cautious attrition boundary.
+    attritionBoundary: 'cautious' as const,
+    attritionBoundaryReason: '',
   };
   await step(timeline.planDrafted);
   await saveDraft(deps.db, lead, study.id, plan);

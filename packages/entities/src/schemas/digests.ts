@@ -73,6 +73,11 @@ export const siteResultSchema = z.object({
     .optional(),
   /** The same result in plain language, as the digest says it. */
   sentences: z.array(z.string()),
+  /**
+   * The final wording of the evidence verdict stored when the result was locked (the report's headline for it, with the
+   * caution that it is a preview): no counts. Null only for a result locked before verdicts were stored and not yet read.
+   */
+  evidence: z.string().nullable(),
   /** The site's own descriptive figures for this measure and wave (a yes/no mean is the share answering yes); null when the site has no analysed students. */
   site: z
     .object({

@@ -1,5 +1,6 @@
 import { z } from 'zod';
 import { idSchema, plainText } from './common.js';
+import { attritionBoundaries } from './evidence.js';
 import { unitOfAssignmentSchema } from './studies.js';
 
 export const alternatives = ['two-sided', 'greater', 'less'] as const;
@@ -42,6 +43,14 @@ export const planContentSchema = z
     summaryEntryAllowed: z.boolean().default(false),
     /** Expected R² of the baseline covariate (student level), for the power calculation. */
     covariateR2: z.number().min(0).lt(1).default(0),
+    /**
+     * The attrition boundary the evidence verdict judges by, registered as a review protocol chooses it: cautious when
+     * the intervention could affect which students leave; optimistic only with a reason. Plans sealed before it existed
+     * mean cautious (`planBoundary`).
+     */
+    attritionBoundary: z.enum(attritionBoundaries).default('cautious'),
+    /** Required when the optimistic boundary is chosen. */
+    attritionBoundaryReason: plainText().trim().max(4000).default(''),
   })
   .superRefine((p, ctx) => {
     if (p.alternative !== 'two-sided' && p.alternativeJustification.length < 10) {
@@ -50,12 +59,24 @@ export const planContentSchema = z
     if (p.primaryTest === 'student' && p.primaryTestReason.length < 10) {
       ctx.addIssue({ code: 'custom', path: ['primaryTestReason'], message: "Say why Student's pooled test is preferred over Welch's" });
     }
+    if (p.attritionBoundary === 'optimistic' && p.attritionBoundaryReason.length < 10) {
+      ctx.addIssue({ code: 'custom', path: ['attritionBoundaryReason'], message: 'Say why the intervention is unlikely to affect which students leave' });
+    }
     if (p.iccSource === 'assumed' && p.icc === null) {
       ctx.addIssue({ code: 'custom', path: ['icc'], message: 'Enter the ICC to assume' });
     }
   });
 export type PlanContent = z.infer<typeof planContentSchema>;
 export type PlanContentInput = z.input<typeof planContentSchema>;
+
+/** The boundary a plan registers, with the reason; a plan sealed before the choice existed registers the cautious one. */
+export function planBoundary(plan: Partial<Pick<PlanContent, 'attritionBoundary' | 'attritionBoundaryReason'>> | null | undefined): {
+  boundary: (typeof attritionBoundaries)[number];
+  reason: string;
+} {
+  const boundary = plan?.attritionBoundary ?? 'cautious';
+  return { boundary, reason: boundary === 'optimistic' ? (plan?.attritionBoundaryReason ?? '') : '' };
+}
 
 export const amendmentSchema = z.object({
   reason: plainText().trim().min(10, 'Explain the amendment in a sentence or more').max(4000),
