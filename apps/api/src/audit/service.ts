@@ -1,6 +1,7 @@
 import type { EntityManager } from 'typeorm';
 import { studentValueViewerRoles, type AuditEvent, type AuditQuery, type SessionUser } from '@evenhand/entities';
 import { AuditEventEntity, UserEntity } from '@evenhand/entities/orm';
+import { insertAuditEvents } from './queries.js';
 
 export interface AuditEntry {
   actorId: string | null;
@@ -22,18 +23,9 @@ export async function recordAudits(manager: EntityManager, entries: readonly Aud
   if (!entries.length) return;
   // jsonb columns take any JSON value; undefined (an absent before or after) is stored as null.
   const json = (v: unknown) => (v === undefined || v === null ? null : JSON.stringify(v));
-  await manager.query(
-    `INSERT INTO audit_events (actor_id, action, entity_type, entity_id, study_id, before, after)
-     SELECT * FROM unnest($1::uuid[], $2::text[], $3::text[], $4::text[], $5::uuid[], $6::jsonb[], $7::jsonb[])`,
-    [
-      entries.map((e) => e.actorId),
-      entries.map((e) => e.action),
-      entries.map((e) => e.entityType),
-      entries.map((e) => e.entityId ?? null),
-      entries.map((e) => e.studyId ?? null),
-      entries.map((e) => json(e.before)),
-      entries.map((e) => json(e.after)),
-    ],
+  await insertAuditEvents(
+    manager,
+    entries.map((e) => ({ ...e, entityId: e.entityId ?? null, studyId: e.studyId ?? null, before: json(e.before), after: json(e.after) })),
   );
 }
 

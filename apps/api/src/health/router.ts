@@ -2,6 +2,7 @@ import type { OpenAPIRegistry } from '@asteasolutions/zod-to-openapi';
 import { healthSchema } from '@evenhand/entities';
 import type { Deps } from '../deps.js';
 import { ResourceRouter } from '../http/route.js';
+import { ping } from './queries.js';
 
 const PROBE_TIMEOUT_MS = 2000;
 
@@ -10,7 +11,7 @@ async function databaseAnswers({ db }: Deps): Promise<boolean> {
   let timer: NodeJS.Timeout | undefined;
   const timeout = new Promise<false>((resolve) => (timer = setTimeout(() => resolve(false), PROBE_TIMEOUT_MS)));
   try {
-    return await Promise.race([db.query('SELECT 1').then(() => true), timeout]);
+    return await Promise.race([ping(db.manager).then(() => true), timeout]);
   } catch {
     return false;
   } finally {

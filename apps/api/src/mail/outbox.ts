@@ -2,6 +2,7 @@ import { randomUUID } from 'node:crypto';
 import type { EntityManager } from 'typeorm';
 import { recordAudits } from '../audit/service.js';
 import type { JobQueue } from '../jobs/queue.js';
+import { insertOutboxMails } from './queries.js';
 
 /** Kinds of mail besides digests; each goes through the outbox like a digest does. */
 export type MailKind = 'invitation' | 'role_invitation' | 'password_reset' | 'reminder';
@@ -34,11 +35,9 @@ export async function queueMail(manager: EntityManager, ctx: MailContext, mail: 
 export async function queueMails(manager: EntityManager, ctx: MailContext, mails: readonly QueuedMail[]): Promise<string[]> {
   if (!mails.length) return [];
   const ids = mails.map(() => randomUUID());
-  await manager.query(
-    `INSERT INTO digests (id, recipient_id, recipient_email, kind, unique_key, subject, html, text)
-     SELECT id, recipient_id, recipient_email, kind, 'mail:' || id, subject, html, text
-       FROM unnest($1::uuid[], $2::uuid[], $3::text[], $4::text[], $5::text[], $6::text[], $7::text[]) AS m(id, recipient_id, recipient_email, kind, subject, html, text)`,
-    [ids, mails.map((m) => m.recipient.id), mails.map((m) => m.recipient.email), mails.map((m) => m.kind), mails.map((m) => m.message.subject), mails.map((m) => m.message.html), mails.map((m) => m.message.text)],
+  await insertOutboxMails(
+    manager,
+    mails.map((m, i) => ({ id: ids[i], recipientId: m.recipient.id, recipientEmail: m.recipient.email, kind: m.kind, ...m.message })),
   );
   await ctx.jobs.enqueueDigest(manager, ids);
   await recordAudits(
