@@ -2,10 +2,12 @@ import { createHash, timingSafeEqual } from 'node:crypto';
 import jwt from 'jsonwebtoken';
 import * as oidc from 'openid-client';
 import type { PasswordSignIn, SessionUser, SignInSettings } from '@evenhand/entities';
+import { UserEntity } from '@evenhand/entities/orm';
 import type { Config } from '../config.js';
 import type { Deps } from '../deps.js';
 import { AppError } from '../errors.js';
 import { recordAudit } from '../audit/service.js';
+import { adminContacts, lockSettings, saveSettings, settingsRow, settingsRowWithEditor, startSignInRequest, takeSignInRequest } from './queries.js';
 import { loadSessionUser } from './service.js';
 import type { NewSession } from './session.js';
 
@@ -58,12 +60,7 @@ export async function startDistrictSignIn(
   const state = oidc.randomState();
   const nonce = oidc.randomNonce();
   const verifier = oidc.randomPKCECodeVerifier();
-  await db.query(`DELETE FROM district_sign_in_requests WHERE expires_at < now()`);
-  await db.query(
-    `INSERT INTO district_sign_in_requests (state_hash, nonce, code_verifier, return_path, expires_at)
-     VALUES ($1, $2, $3, $4, now() + make_interval(mins => $5))`,
-    [hashState(state), nonce, verifier, returnPath ?? null, REQUEST_MINUTES],
-  );
+  await startSignInRequest(db, { stateHash: hashState(state), nonce, verifier, returnPath: returnPath ?? null }, REQUEST_MINUTES);
   const url = oidc.buildAuthorizationUrl(client, {
     redirect_uri: callbackUrl(config),
     scope: 'openid email',
@@ -97,11 +94,7 @@ export async function finishDistrictSignIn(
   url.search = query;
   const state = url.searchParams.get('state');
   if (!state || !browserState || !sameString(state, browserState)) throw new DistrictSignInProblem('expired');
-  const [request]: { nonce: string; code_verifier: string; return_path: string | null }[] = await db.query(
-    `WITH used AS (DELETE FROM district_sign_in_requests WHERE state_hash = $1 AND expires_at > now() RETURNING *)
-     SELECT nonce, code_verifier, return_path FROM used`,
-    [hashState(state)],
-  );
+  const request = await takeSignInRequest(db, hashState(state));
   if (!request) throw new DistrictSignInProblem('expired');
 
   let claims: oidc.IDToken;
@@ -121,16 +114,13 @@ export async function finishDistrictSignIn(
 
   const email = typeof claims.email === 'string' ? claims.email.trim().toLowerCase() : '';
   if (!email || claims.email_verified !== true) throw new DistrictSignInProblem('unverified_email', email || undefined);
-  const [account]: { id: string; active: boolean; session_version: number }[] = await db.query(
-    `SELECT id, active, session_version FROM users WHERE email = $1`,
-    [email],
-  );
+  const account = await db.getRepository(UserEntity).findOne({ where: { email }, select: { id: true, active: true, sessionVersion: true } });
   if (!account) throw new DistrictSignInProblem('no_account', email);
   if (!account.active) throw new DistrictSignInProblem('deactivated', email);
-  await db.query(`UPDATE users SET last_sign_in_at = now() WHERE id = $1`, [account.id]);
+  await db.getRepository(UserEntity).update(account.id, { lastSignInAt: new Date() });
   const user = await loadSessionUser(db, account.id);
   if (!user) throw new DistrictSignInProblem('deactivated', email);
-  return { user, session: { userId: account.id, sessionVersion: account.session_version }, returnPath: request.return_path };
+  return { user, session: { userId: account.id, sessionVersion: account.sessionVersion }, returnPath: request.return_path };
 }
 
 const TICKET_AUDIENCE = 'evenhand:district-sign-in-problem';
@@ -152,10 +142,7 @@ export async function describeProblem({ db, config }: Pick<Deps, 'db' | 'config'
     throw AppError.validation('This sign-in message has expired; sign in again');
   }
   const email = claims.email ?? 'your address';
-  const admins: { name: string; email: string }[] = await db.query(
-    `SELECT DISTINCT u.name, u.email FROM users u JOIN role_grants g ON g.user_id = u.id
-      WHERE g.role = 'admin' AND u.active ORDER BY u.name, u.email LIMIT 3`,
-  );
+  const admins = await adminContacts(db);
   const whom = admins.length
     ? `your district's Evenhand administrator (${admins.map((a) => `${a.name}, ${a.email}`).join('; ')})`
     : "your district's Evenhand administrator";
@@ -175,20 +162,8 @@ export async function describeProblem({ db, config }: Pick<Deps, 'db' | 'config'
   }
 }
 
-interface SettingsRow {
-  password_sign_in: PasswordSignIn;
-  updated_at: Date | null;
-  updated_by: string | null;
-}
-
-// The settings' one row; without it (a database emptied by `seed --reset`), passwords are for everyone.
-const SETTINGS = `SELECT coalesce(s.password_sign_in, 'everyone') AS password_sign_in, s.updated_at, s.updated_by
-                    FROM (VALUES (true)) AS one (singleton) LEFT JOIN sign_in_settings s USING (singleton)`;
-
 export async function signInSettings({ db, config }: Pick<Deps, 'db' | 'config'>): Promise<SignInSettings> {
-  const [row]: SettingsRow[] = await db.query(
-    `SELECT s.password_sign_in, s.updated_at, u.name AS updated_by FROM (${SETTINGS}) s LEFT JOIN users u ON u.id = s.updated_by`,
-  );
+  const row = await settingsRowWithEditor(db);
   return {
     passwordSignIn: row.password_sign_in,
     districtSignIn: config.districtSignIn !== null,
@@ -205,14 +180,10 @@ export async function updateSignInSettings(deps: Pick<Deps, 'db' | 'config'>, ac
     ]);
   }
   await deps.db.transaction(async (manager) => {
-    await manager.query(`SELECT 1 FROM sign_in_settings FOR UPDATE`);
-    const [before]: SettingsRow[] = await manager.query(SETTINGS);
+    await lockSettings(manager);
+    const before = await settingsRow(manager);
     if (before.password_sign_in === passwordSignIn) return;
-    await manager.query(
-      `INSERT INTO sign_in_settings (singleton, password_sign_in, updated_at, updated_by) VALUES (true, $1, now(), $2)
-       ON CONFLICT (singleton) DO UPDATE SET password_sign_in = $1, updated_at = now(), updated_by = $2`,
-      [passwordSignIn, actorId],
-    );
+    await saveSettings(manager, passwordSignIn, actorId);
     await recordAudit(manager, {
       actorId,
       action: 'sign_in_settings.changed',
@@ -226,19 +197,8 @@ export async function updateSignInSettings(deps: Pick<Deps, 'db' | 'config'>, ac
 
 /** What the sign-in page offers besides the demo accounts. */
 export async function districtSignInOptions({ db, config }: Pick<Deps, 'db' | 'config'>) {
-  const [row]: SettingsRow[] = await db.query(SETTINGS);
+  const row = await settingsRow(db);
   return { districtSignIn: config.districtSignIn !== null, passwordSignIn: row.password_sign_in };
-}
-
-/** Whether this account may sign in with its password under the district's settings (the admin always may). */
-export async function passwordSignInAllowed(db: Deps['db'], userId: string): Promise<boolean> {
-  const [row]: { allowed: boolean }[] = await db.query(
-    `SELECT s.password_sign_in = 'everyone'
-            OR EXISTS (SELECT 1 FROM role_grants g WHERE g.user_id = $1 AND g.role = 'admin') AS allowed
-       FROM (${SETTINGS}) s`,
-    [userId],
-  );
-  return row.allowed;
 }
 
 export const PASSWORD_SIGN_IN_OFF = 'Your district signs in with its own accounts: use "Sign in with your district account"';

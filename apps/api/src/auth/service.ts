@@ -1,6 +1,6 @@
 import { createHash, randomBytes } from 'node:crypto';
 import { DataSource, IsNull, MoreThan, type EntityManager } from 'typeorm';
-import type { Role, SessionUser, SignInOptions } from '@evenhand/entities';
+import type { SessionUser, SignInOptions } from '@evenhand/entities';
 import { AuthTokenEntity, UserEntity, type AuthTokenKind } from '@evenhand/entities/orm';
 import type { Deps } from '../deps.js';
 import { AppError } from '../errors.js';
@@ -9,25 +9,12 @@ import { changeFeed, TaggedCache } from '../db/change-feed.js';
 import { queueMail, queueMails, type MailContext } from '../mail/outbox.js';
 import { invitationMail, passwordResetMail } from '../mail/templates.js';
 import { DEMO_PASSWORD, featuredDemoAccounts } from '../seed/demo.js';
-import { districtSignInOptions, PASSWORD_SIGN_IN_OFF, passwordSignInAllowed } from './district-sign-in.js';
+import { districtSignInOptions, PASSWORD_SIGN_IN_OFF } from './district-sign-in.js';
+import { demoAccountRows, insertTokens, passwordSignInAllowed, sessionRow } from './queries.js';
 import { burnPasswordCheck, checkPassword, hashPassword } from './passwords.js';
 import type { NewSession } from './session.js';
 
 const TOKEN_HOURS: Record<AuthTokenKind, number> = { password_reset: 1, invitation: 72 };
-
-/** The account with its grants and their schools' names, in one query on indexed keys (it runs on every request). */
-async function sessionRow(db: DataSource | EntityManager, id: string): Promise<(SessionUser & { active: boolean; session_version: number }) | undefined> {
-  const [row] = await db.query(
-    `SELECT u.id, u.email, u.name, u.active, u.session_version,
-            coalesce(json_agg(json_build_object('role', g.role, 'siteId', g.site_id, 'siteName', s.name) ORDER BY g.created_at, g.id)
-                     FILTER (WHERE g.id IS NOT NULL), '[]') AS roles
-       FROM users u LEFT JOIN role_grants g ON g.user_id = u.id LEFT JOIN sites s ON s.id = g.site_id
-      WHERE u.id = $1
-      GROUP BY u.id`,
-    [id],
-  );
-  return row;
-}
 
 const sessionUser = ({ id, email, name, roles }: SessionUser): SessionUser => ({ id, email, name, roles });
 
@@ -66,7 +53,7 @@ export function sessionChanging(manager: DataSource | EntityManager, userId: str
 /** Ends every session of the account (all its tokens and cookies), inside the caller's transaction. */
 export async function endSessions(manager: DataSource | EntityManager, userId: string): Promise<void> {
   sessionChanging(manager, userId);
-  await manager.query(`UPDATE users SET session_version = session_version + 1 WHERE id = $1`, [userId]);
+  await (manager instanceof DataSource ? manager.manager : manager).increment(UserEntity, { id: userId }, 'sessionVersion', 1);
 }
 
 const WRONG_CREDENTIALS = 'The e-mail address or password is not right';
@@ -97,10 +84,7 @@ export async function issueToken(manager: EntityManager, userId: string, kind: A
 export async function issueTokens(manager: EntityManager, userIds: readonly string[], kind: AuthTokenKind): Promise<string[]> {
   const tokens = userIds.map(() => randomBytes(32).toString('base64url'));
   if (!tokens.length) return tokens;
-  await manager.query(
-    `INSERT INTO auth_tokens (user_id, kind, token_hash, expires_at) SELECT user_id, $2, token_hash, $4 FROM unnest($1::uuid[], $3::text[]) AS t(user_id, token_hash)`,
-    [userIds, kind, tokens.map(hashToken), new Date(Date.now() + TOKEN_HOURS[kind] * 3600_000)],
-  );
+  await insertTokens(manager, userIds, kind, tokens.map(hashToken), new Date(Date.now() + TOKEN_HOURS[kind] * 3600_000));
   return tokens;
 }
 
@@ -190,13 +174,7 @@ export async function signInOptions({ config, db }: Pick<Deps, 'config' | 'db'>)
   const district = await districtSignInOptions({ config, db });
   if (config.production) return { demo: null, ...district };
   const emails = featuredDemoAccounts.map((a) => a.email);
-  const rows: { email: string; name: string; role: Role; site_name: string | null }[] = await db.query(
-    `SELECT DISTINCT ON (u.email) u.email, u.name, g.role, s.name AS site_name
-       FROM users u JOIN role_grants g ON g.user_id = u.id LEFT JOIN sites s ON s.id = g.site_id
-      WHERE u.email = ANY($1) AND u.active
-      ORDER BY u.email, g.role`,
-    [emails],
-  );
+  const rows = await demoAccountRows(db, emails);
   const accounts = rows
     .sort((a, b) => emails.indexOf(a.email) - emails.indexOf(b.email))
     .map((r) => ({ email: r.email, name: r.name, role: r.role, siteName: r.site_name }));
