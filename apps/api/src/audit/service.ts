@@ -1,7 +1,6 @@
 import type { EntityManager } from 'typeorm';
 import { studentValueViewerRoles, type AuditEvent, type AuditQuery, type SessionUser } from '@evenhand/entities';
-import { AuditEventEntity, UserEntity } from '@evenhand/entities/orm';
-import { insertAuditEvents } from './queries.js';
+import { auditPage, insertAuditEvents } from './queries.js';
 
 export interface AuditEntry {
   actorId: string | null;
@@ -43,25 +42,15 @@ function withoutStudentValues(event: AuditEvent): AuditEvent {
 }
 
 export async function listAudit(manager: EntityManager, viewer: SessionUser, query: AuditQuery): Promise<{ items: AuditEvent[]; total: number }> {
-  const qb = manager
-    .createQueryBuilder(AuditEventEntity, 'e')
-    .leftJoin(UserEntity, 'u', 'u.id = e.actor_id')
-    .select(['e.id', 'e.at', 'e.action', 'e.entityType', 'e.entityId', 'e.studyId', 'e.before', 'e.after', 'e.actorId'])
-    .addSelect('u.email', 'actor_email')
-    .orderBy('e.at', 'DESC')
-    .addOrderBy('e.id', 'DESC')
-    .limit(query.limit)
-    .offset(query.offset);
-  if (query.studyId) qb.where('e.study_id = :studyId', { studyId: query.studyId });
-  const [{ entities, raw }, total] = await Promise.all([qb.getRawAndEntities(), qb.getCount()]);
-  const items = entities.map((e, i) => ({
+  const { rows, total } = await auditPage(manager, query);
+  const items = rows.map((e) => ({
     id: e.id,
-    at: e.at.toISOString(),
-    actor: e.actorId ? { id: e.actorId, email: (raw[i] as { actor_email: string | null }).actor_email ?? '(deleted)' } : null,
+    at: new Date(e.at).toISOString(),
+    actor: e.actor_id ? { id: e.actor_id, email: e.actor_email ?? '(deleted)' } : null,
     action: e.action,
-    entityType: e.entityType,
-    entityId: e.entityId,
-    studyId: e.studyId,
+    entityType: e.entity_type,
+    entityId: e.entity_id,
+    studyId: e.study_id,
     before: e.before ?? null,
     after: e.after ?? null,
   }));
