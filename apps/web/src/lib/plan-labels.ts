@@ -21,6 +21,14 @@ export const planFieldLabels: Record<keyof PlanContent, string> = {
   shareIntervention: 'Share in the intervention',
   covariateR2: 'Expected R² of the baseline score',
   summaryEntryAllowed: 'Classrooms may report only summaries',
+  attritionBoundary: 'Attrition boundary for the evidence verdict',
+  attritionBoundaryReason: 'Why the optimistic boundary',
+};
+
+/** The two attrition boundaries of the evidence standards, in the plan's words (the Checks offer the same two). */
+export const attritionBoundaryLabels: Record<PlanContent['attritionBoundary'], string> = {
+  cautious: 'Cautious: the intervention could affect which students leave',
+  optimistic: 'Optimistic: the intervention is unlikely to affect which students leave',
 };
 
 export const alternativeLabels: Record<PlanContent['alternative'], string> = {
@@ -70,6 +78,8 @@ export function formatPlanValue(field: string, value: unknown, refs: { measures:
       return unitOfAnalysisLabels[value as PlanContent['unitOfAnalysis']] ?? String(value);
     case 'iccSource':
       return iccSourceLabels[value as PlanContent['iccSource']] ?? String(value);
+    case 'attritionBoundary':
+      return attritionBoundaryLabels[value as PlanContent['attritionBoundary']] ?? String(value);
     case 'shareIntervention':
       return `${Math.round(Number(value) * 100)}%`;
     default:

@@ -13,7 +13,7 @@ export const sharedKeys = {
   measures: (studyId: string) => [...studyKeys.detail(studyId), 'measures'] as const,
   waves: (studyId: string) => [...studyKeys.detail(studyId), 'waves'] as const,
   /** The evidence verdict per pre-specified comparison: keyed under the study, so every change to its sheets or runs refreshes it. */
-  evidence: (studyId: string, boundary: 'cautious' | 'optimistic') => [...studyKeys.detail(studyId), 'evidence', boundary] as const,
+  evidence: (studyId: string, boundary: 'cautious' | 'optimistic' | 'plan') => [...studyKeys.detail(studyId), 'evidence', boundary] as const,
   /** The district's schools; invalidate after a school is added or changed. */
   districtSites: () => ['sites', 'district'] as const,
 };
@@ -44,10 +44,13 @@ export function districtSitesQueryOptions() {
   });
 }
 
-/** The evidence verdict of each pre-specified comparison (the report, and the Checks' risks), judged against `boundary`. */
-export function studyEvidenceQueryOptions(studyId: string, boundary: 'cautious' | 'optimistic' = 'cautious') {
+/**
+ * The evidence verdict of each pre-specified comparison (the report, and the Checks' risks), judged against the boundary
+ * the plan registers, or against `boundary` when a reader asks for the other one.
+ */
+export function studyEvidenceQueryOptions(studyId: string, boundary?: 'cautious' | 'optimistic') {
   return queryOptions({
-    queryKey: sharedKeys.evidence(studyId, boundary),
-    queryFn: ({ signal }) => apiRequest(`/studies/${studyId}/evidence?boundary=${boundary}`, { schema: studyEvidenceSchema, signal }),
+    queryKey: sharedKeys.evidence(studyId, boundary ?? 'plan'),
+    queryFn: ({ signal }) => apiRequest(`/studies/${studyId}/evidence${boundary ? `?boundary=${boundary}` : ''}`, { schema: studyEvidenceSchema, signal }),
   });
 }

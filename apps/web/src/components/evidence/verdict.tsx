@@ -30,8 +30,11 @@ export function SeeOnLink({ studyId, runId, seeOn }: { studyId: string; runId: s
   );
 }
 
-/** A verdict with every reason (rule, numbers, what it does, source, where to see it) and what the reviewers must still check. */
-export function EvidenceVerdictView({ studyId, runId, verdict, headingId, title }: { studyId: string; runId: string | null; verdict: VerdictAnswer; headingId: string; title: string }) {
+/**
+ * A verdict with every reason (rule, numbers, what it does, source, where to see it) and what the reviewers must still
+ * check; `boundary` says which attrition boundary it was judged against and why.
+ */
+export function EvidenceVerdictView({ studyId, runId, verdict, boundary, headingId, title }: { studyId: string; runId: string | null; verdict: VerdictAnswer; boundary: string; headingId: string; title: string }) {
   return (
     <section aria-labelledby={headingId} className="space-y-4" data-testid="evidence-verdict">
       <h4 id={headingId} className="text-xl font-semibold">
@@ -42,6 +45,9 @@ export function EvidenceVerdictView({ studyId, runId, verdict, headingId, title 
         <Badge tone={verdict.tier === 'none' ? 'muted' : 'accent'}>{verdict.settled ? tierLabels[verdict.tier] : 'Tier not settled yet'}</Badge>
       </div>
       <p className="max-w-prose font-semibold">{verdict.wording}</p>
+      <p className="max-w-prose text-ink-muted" data-testid="evidence-boundary">
+        {boundary}
+      </p>
       <ol className="space-y-3" aria-label="Reasons, rule by rule">
         {verdict.reasons.map((r) => (
           <li key={r.id} className="rounded-md border border-line px-4 py-3 break-words" data-reason={r.id}>

@@ -1,4 +1,4 @@
-import type { Measure, PlanContent, UnitOfAssignment, Wave } from '@evenhand/entities';
+import { planBoundary, type Measure, type PlanContent, type UnitOfAssignment, type Wave } from '@evenhand/entities';
 import { useQuery, type QueryClient } from '@tanstack/react-query';
 import { useState, type ReactNode } from 'react';
 import type { LoaderFunctionArgs } from 'react-router-dom';
@@ -87,7 +87,7 @@ export function PlanPage() {
         >
           {lead ? (
             <PlanForm
-              initial={draft ?? blankPlan(study.unitOfAssignment)}
+              initial={{ ...blankPlan(study.unitOfAssignment), ...draft }}
               {...refs}
               unit={study.unitOfAssignment}
               quasiExperimental={study.quasiExperimental}
@@ -145,7 +145,7 @@ export function PlanPage() {
           description="An amendment is a new version of the whole plan with the reason for the change. Earlier versions stay readable, and reviewers see what changed."
         >
           <PlanForm
-            initial={{ ...current.content, reason: '' }}
+            initial={{ ...current.content, attritionBoundary: planBoundary(current.content).boundary, reason: '' }}
             {...refs}
             unit={study.unitOfAssignment}
             quasiExperimental={study.quasiExperimental}

@@ -57,6 +57,8 @@ function facts(overrides: Partial<SiteFacts> = {}): SiteFacts {
           classrooms: 16,
         },
         sentences: ['Across all schools in the study, students in intervention classrooms scored higher on Reading fluency at Spring.'],
+        evidence:
+          'Evidence preview, not a review (the evidence reviewers decide): this comparison would meet the evidence standards with reservations and would count as promising evidence under federal education law.',
         site: {
           arms: [
             { arm: 'intervention', students: hidden, mean: null },
@@ -97,6 +99,16 @@ describe('SchoolFacts', () => {
     expect(screen.getByText('+12')).toBeInTheDocument();
     expect(screen.getByText('p = .040')).toBeInTheDocument();
     expect(screen.getByText(/Room 2/).closest('li')).toHaveTextContent('returned for corrections');
+  });
+
+  it('shows the evidence verdict’s one-sentence wording under the result, and nothing when a result has none', () => {
+    const { unmount } = render(<SchoolFacts facts={facts()} />);
+    expect(screen.getByTestId('evidence-wording')).toHaveTextContent(
+      'Evidence preview, not a review (the evidence reviewers decide): this comparison would meet the evidence standards with reservations and would count as promising evidence under federal education law.',
+    );
+    unmount();
+    render(<SchoolFacts facts={facts({ results: [{ ...facts().results[0], evidence: null }] })} />);
+    expect(screen.queryByTestId('evidence-wording')).not.toBeInTheDocument();
   });
 
   it('shows a yes/no result as each group’s share answering yes, its yes count of the students, the difference in points and the Cox index — no Hedges’ g or average score', () => {

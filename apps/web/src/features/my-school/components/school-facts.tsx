@@ -79,6 +79,11 @@ function ResultPanel({ result, siteName }: { result: SiteResult; siteName: strin
         {result.sentences.map((s) => (
           <p key={s}>{s}</p>
         ))}
+        {result.evidence && (
+          <p className="font-semibold" data-testid="evidence-wording">
+            {result.evidence}
+          </p>
+        )}
       </div>
       {result.site ? (
         <div className="max-w-2xl space-y-2">

@@ -46,6 +46,27 @@ describe('PlanForm', { timeout: 20_000 }, () => {
     expect(onSaveDraft).not.toHaveBeenCalled();
   });
 
+  it('registers the cautious attrition boundary unless chosen; the optimistic one needs a reason, and the evidence preview follows the choice', async () => {
+    const user = userEvent.setup();
+    const onSaveDraft = renderForm();
+    await fillInTheRequiredFields(user);
+    expect(screen.getByLabelText('Cautious: the intervention could affect which students leave')).toBeChecked();
+    const preview = screen.getByTestId('evidence-preview');
+    expect(preview).toHaveTextContent('the cautious boundary allows');
+
+    await user.click(screen.getByLabelText('Optimistic: the intervention is unlikely to affect which students leave'));
+    expect(preview).toHaveTextContent('the optimistic boundary allows');
+    await user.click(screen.getByRole('button', { name: 'Save draft' }));
+    expect(await screen.findByText('Say why the intervention is unlikely to affect which students leave')).toBeInTheDocument();
+    expect(onSaveDraft).not.toHaveBeenCalled();
+
+    await user.click(screen.getByLabelText('Why the optimistic boundary'));
+    await user.paste('Students are tested in regular lessons whatever their classroom does.');
+    await user.click(screen.getByRole('button', { name: 'Save draft' }));
+    await waitFor(() => expect(onSaveDraft).toHaveBeenCalledTimes(1));
+    expect(onSaveDraft.mock.calls[0][0]).toMatchObject({ attritionBoundary: 'optimistic', attritionBoundaryReason: 'Students are tested in regular lessons whatever their classroom does.' });
+  });
+
   it("asks why Student's pooled test is chosen over Welch's, and refuses to save without a reason", async () => {
     const user = userEvent.setup();
     const onSaveDraft = renderForm();

@@ -1,6 +1,7 @@
 import {
   alternatives,
   amendmentSchema,
+  attritionBoundaries,
   defaultPrimaryTest,
   planContentSchema,
   primaryTests,
@@ -23,6 +24,7 @@ import { EvidencePreview } from '@/features/plan/components/evidence-preview';
 import { PlanningPanel } from '@/features/plan/components/planning-panel';
 import {
   alternativeLabels,
+  attritionBoundaryLabels,
   covariateLabels,
   iccSourceLabels,
   planFieldLabels,
@@ -50,6 +52,7 @@ function tidy(plan: PlanContent): PlanContent {
     primaryTestReason: plan.primaryTest === 'student' ? plan.primaryTestReason : '',
     icc: plan.iccSource === 'assumed' ? plan.icc : null,
     covariateR2: plan.covariate === 'baseline' ? plan.covariateR2 : 0,
+    attritionBoundaryReason: plan.attritionBoundary === 'optimistic' ? plan.attritionBoundaryReason : '',
   };
 }
 
@@ -76,6 +79,8 @@ export function blankPlan(unit: UnitOfAssignment): FormValues {
     shareIntervention: 0.5,
     summaryEntryAllowed: false,
     covariateR2: 0,
+    attritionBoundary: 'cautious',
+    attritionBoundaryReason: '',
   };
 }
 
@@ -91,9 +96,9 @@ function PlanFields({ measures, waves, unit }: RefsProps) {
     control,
     formState: { errors },
   } = useFormContext<FormValues>();
-  const [alternative, primaryTest, covariate, iccSource, primaryMeasureId] = useWatch({
+  const [alternative, primaryTest, covariate, iccSource, primaryMeasureId, attritionBoundary] = useWatch({
     control,
-    name: ['alternative', 'primaryTest', 'covariate', 'iccSource', 'primaryMeasureId'],
+    name: ['alternative', 'primaryTest', 'covariate', 'iccSource', 'primaryMeasureId', 'attritionBoundary'],
   });
   const measure = measures.find((m) => m.id === primaryMeasureId) ?? null;
   const outcomeWaves = waves.filter((w) => w.kind !== 'baseline');
@@ -300,6 +305,30 @@ function PlanFields({ measures, waves, unit }: RefsProps) {
         </div>
       </fieldset>
 
+      <fieldset className="space-y-5">
+        <legend className="text-lg font-semibold">Evidence standards</legend>
+        <ChoiceGroup
+          legend={planFieldLabels.attritionBoundary}
+          hint="The evidence verdict judges lost classrooms and students against this boundary, registered with the plan as a review protocol would choose it."
+          error={errors.attritionBoundary?.message}
+          input={register('attritionBoundary')}
+          choices={attritionBoundaries.map((b) => ({
+            value: b,
+            label: attritionBoundaryLabels[b],
+            hint: b === 'cautious' ? 'Recommended unless you can say why leaving cannot depend on the intervention.' : undefined,
+          }))}
+        />
+        {attritionBoundary === 'optimistic' && (
+          <Field
+            label={planFieldLabels.attritionBoundaryReason}
+            hint="The optimistic boundary tolerates more attrition; say why which students leave cannot depend on the intervention."
+            error={errors.attritionBoundaryReason?.message}
+          >
+            {(control) => <TextArea {...control} rows={2} {...register('attritionBoundaryReason')} />}
+          </Field>
+        )}
+      </fieldset>
+
       <fieldset className="space-y-3">
         <legend className="text-lg font-semibold">Data entry</legend>
         <Checkbox
@@ -324,9 +353,9 @@ function LivePlanningPanel({ unit, measures }: { unit: UnitOfAssignment; measure
 /** What the design can reach under the evidence standards, live from the fields it depends on. */
 function LiveEvidencePreview({ unit, measures, waves, quasi }: RefsProps & { quasi: boolean }) {
   const { control } = useFormContext<FormValues>();
-  const [plannedSites, plannedClassrooms, plannedStudentsPerClassroom, shareIntervention, covariate, primaryTest, primaryMeasureId] = useWatch({
+  const [plannedSites, plannedClassrooms, plannedStudentsPerClassroom, shareIntervention, covariate, primaryTest, primaryMeasureId, attritionBoundary] = useWatch({
     control,
-    name: ['plannedSites', 'plannedClassrooms', 'plannedStudentsPerClassroom', 'shareIntervention', 'covariate', 'primaryTest', 'primaryMeasureId'],
+    name: ['plannedSites', 'plannedClassrooms', 'plannedStudentsPerClassroom', 'shareIntervention', 'covariate', 'primaryTest', 'primaryMeasureId', 'attritionBoundary'],
   });
   const counts = [plannedSites, plannedClassrooms, plannedStudentsPerClassroom].map(Number);
   if (counts.some((n) => !Number.isInteger(n) || n < 1) || !(Number(shareIntervention) > 0 && Number(shareIntervention) < 1)) return null;
@@ -346,7 +375,7 @@ function LiveEvidencePreview({ unit, measures, waves, quasi }: RefsProps & { qua
         adjustsForBaseline: primaryTest === 'two-level' && covariate === 'baseline' && !yesNo && baselineMeasured,
         // Cluster-assigned studies are decided by the two-level model or with the clustering correction.
         accountsForClustering: true,
-        boundary: 'cautious',
+        boundary: attritionBoundary ?? 'cautious',
       }}
     />
   );

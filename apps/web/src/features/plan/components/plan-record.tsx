@@ -1,4 +1,4 @@
-import type { Measure, PlanContent, PlanVersion, Wave } from '@evenhand/entities';
+import { planBoundary, type Measure, type PlanContent, type PlanVersion, type Wave } from '@evenhand/entities';
 import { FigureTable } from '@/components/ui/figure-table';
 import { fieldLabel, formatPlanValue, planFieldLabels } from '@/lib/plan-labels';
 import { formatDateTime } from '@/lib/format';
@@ -14,11 +14,14 @@ function applies(field: keyof PlanContent, plan: PlanContent): boolean {
   if (field === 'primaryTestReason') return plan.primaryTest === 'student';
   if (field === 'icc') return plan.iccSource === 'assumed';
   if (field === 'covariateR2') return plan.covariate === 'baseline';
+  if (field === 'attritionBoundaryReason') return plan.attritionBoundary === 'optimistic';
   return true;
 }
 
 /** A plan, read-only, field by field in the form's order. */
-export function PlanSummary({ plan, measures, waves }: { plan: PlanContent } & Refs) {
+export function PlanSummary({ plan: given, measures, waves }: { plan: PlanContent } & Refs) {
+  // A plan sealed before the boundary could be chosen registers the cautious one.
+  const plan = { ...given, attritionBoundary: planBoundary(given).boundary };
   const fields = (Object.keys(planFieldLabels) as (keyof PlanContent)[]).filter((f) => applies(f, plan));
   return (
     <dl className="grid gap-x-8 gap-y-4 sm:grid-cols-2">
