@@ -132,6 +132,31 @@ describe('previewing and importing a OneRoster bundle', () => {
     expect(refused.status).toBe(400);
     expect(refused.body.error.details.issues[0].message).toContain('The draw is committed');
   });
+
+  // The rule is checked once per statement by triggers (migration 1796500000000), not by a row-by-row foreign key.
+  it('when a roster student is linked to a classroom of another study, or to none, then the database refuses it', async () => {
+    const [linked] = await t.db.query(`SELECT link_hash FROM roster_students WHERE study_id = $1 LIMIT 1`, [s.studyId]);
+    const other = await createStudy(t.app, { seal: false });
+    const refusedKey = { driverError: { code: '23503' } };
+    // The same classroom, but the link moved to another study.
+    await expect(t.db.query(`UPDATE roster_students SET study_id = $3 WHERE study_id = $1 AND link_hash = $2`, [s.studyId, linked.link_hash, other.studyId])).rejects.toMatchObject(refusedKey);
+    await expect(
+      t.db.query(`INSERT INTO roster_students (study_id, link_hash, student_code, classroom_id) VALUES ($1, sha256('another'::bytea), 'R9999999', gen_random_uuid())`, [s.studyId]),
+    ).rejects.toMatchObject(refusedKey);
+    const [{ n }] = await t.db.query(`SELECT count(*)::int AS n FROM roster_students WHERE study_id = $1 OR student_code = 'R9999999'`, [other.studyId]);
+    expect(n).toBe(0);
+  });
+
+  it('when a classroom still has roster students, then it cannot be deleted, even once its codes are gone', async () => {
+    const [linked] = await t.db.query(`SELECT classroom_id FROM roster_students WHERE study_id = $1 AND left_at IS NULL LIMIT 1`, [s.studyId]);
+    await expect(
+      t.db.transaction(async (m) => {
+        await m.query(`DELETE FROM students WHERE study_id = $1 AND classroom_id = $2`, [s.studyId, linked.classroom_id]);
+        await m.query(`DELETE FROM classrooms WHERE id = $1`, [linked.classroom_id]);
+      }),
+    ).rejects.toThrow('a classroom with roster students cannot be deleted');
+    expect((await t.db.query(`SELECT count(*)::int AS n FROM classrooms WHERE id = $1`, [linked.classroom_id]))[0].n).toBe(1);
+  });
 });
 
 describe('a student moving between classrooms before the draw', () => {
