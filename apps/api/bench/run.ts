@@ -15,7 +15,7 @@ import { pipeline } from 'node:stream/promises';
 import { createWriteStream } from 'node:fs';
 import { listComparisons } from '../src/runs/comparisons.js';
 import { executeRun } from '../src/runs/service.js';
-import { storeSheetDigests } from '../src/score-sheets/digest.js';
+import { storeSheetDigestsAndSums } from '../src/score-sheets/sums.js';
 import { median, openBench, time } from './setup.js';
 
 /** The whole run benchmark, or only its yes/no or two-level part (`npm run bench -w apps/api -- two-level`). */
@@ -37,7 +37,7 @@ export async function benchRun(only?: 'yes-no' | 'two-level') {
   async function acceptSheets(s: Study) {
     await db.query('ANALYZE');
     const sheetIds: string[] = (await db.query(`SELECT id FROM score_sheets WHERE study_id = $1`, [s.studyId])).map((r: { id: string }) => r.id);
-    await storeSheetDigests(db.manager, sheetIds);
+    await storeSheetDigestsAndSums(db.manager, sheetIds);
   }
   const queueRun = async (s: Study, comparisonId: string): Promise<string> =>
     (await db.query(`INSERT INTO runs (comparison_id, study_id, kind, plan_version) VALUES ($1, $2, 'confirmatory', 1) RETURNING id`, [comparisonId, s.studyId]))[0].id;

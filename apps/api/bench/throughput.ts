@@ -10,7 +10,7 @@ import express from 'express';
 import request from 'supertest';
 import { listComparisons } from '../src/runs/comparisons.js';
 import { executeRun } from '../src/runs/service.js';
-import { storeSheetDigests } from '../src/score-sheets/digest.js';
+import { storeSheetDigestsAndSums } from '../src/score-sheets/sums.js';
 import { DEMO_PASSWORD } from '../src/seed/demo.js';
 import { openBench } from './setup.js';
 
@@ -64,7 +64,7 @@ export async function benchThroughput() {
     [s.studyId, s.waveId, s.measureId],
   );
   const sheetIds: string[] = (await db.query(`SELECT id FROM score_sheets WHERE study_id = $1`, [s.studyId])).map((r: { id: string }) => r.id);
-  await storeSheetDigests(db.manager, sheetIds);
+  await storeSheetDigestsAndSums(db.manager, sheetIds);
   const comparisonId = (await listComparisons(db, lead, s.studyId)).items[0].id;
   const [{ id: runId }] = await db.query(`INSERT INTO runs (comparison_id, study_id, kind, plan_version) VALUES ($1, $2, 'confirmatory', 1) RETURNING id`, [comparisonId, s.studyId]);
   await executeRun(db, b.logger, runId);

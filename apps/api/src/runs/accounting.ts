@@ -1,5 +1,6 @@
 import type { EntityManager } from 'typeorm';
 import { attrition } from '@evenhand/stats';
+import { readSheetMoments } from '../score-sheets/sums.js';
 import { arms, lossReasons, type Accounting, type Arm, type AttritionCheck, type LossReason, type PrimaryTest, type SheetState, type UnitAccount } from '@evenhand/entities';
 
 /**
@@ -102,49 +103,27 @@ export function account(classrooms: readonly ClassroomStanding[], reads: readonl
 }
 
 /**
- * Each classroom with an arm: its registered codes, its outcome sheet's state and, on a sheet read, its scored, left and
- * pretest-paired rows (a student's pretest is their score on the classroom's baseline sheet, as the run pairs them).
- * $1 study, $2 outcome wave, $3 measure, $4 sheet states read, $5 baseline wave (only with `withPretest`).
+ * Each classroom with an arm: its registered codes and its outcome sheet (state, summary n, whether anything was
+ * entered: looked up only for an open sheet, the one state whose loss reason depends on it). What was read from its
+ * rows comes from the sheet's sums (`ReadCounts`). $1 study, $2 outcome wave, $3 measure, $4 sheet states read.
  */
-const standingsSql = (withPretest: boolean) => standingsWith(`
-         SELECT o.classroom_id, count(*) FILTER (WHERE o.score IS NOT NULL)::int AS scored,
-                count(*) FILTER (WHERE o.score IS NULL AND o.left_study)::int AS "left",
-                ${withPretest ? 'count(b.score) FILTER (WHERE o.score IS NOT NULL)::int' : '0'} AS with_pretest
-           FROM scores o JOIN score_sheets sh ON sh.id = o.sheet_id AND sh.state = ANY($4) AND sh.mode = 'rows'
-           ${
-             withPretest
-               ? `LEFT JOIN score_sheets bs ON bs.classroom_id = sh.classroom_id AND bs.study_id = $1 AND bs.wave_id = $5 AND bs.measure_id = $3 AND bs.state = ANY($4)
-           LEFT JOIN scores b ON b.sheet_id = bs.id AND b.student_code = o.student_code AND b.score IS NOT NULL AND b.study_id = $1 AND b.wave_id = $5 AND b.measure_id = $3`
-               : ''
-           }
-          WHERE o.study_id = $1 AND o.wave_id = $2 AND o.measure_id = $3
-          GROUP BY o.classroom_id`);
-
-/**
- * The same standings when a run's classroom pass has already counted the scored rows and their pretests: only the
- * rows marked as left without a score are counted here, so the outcome scores are not joined to their pretests twice.
- */
-const standingsAfterRunSql = standingsWith(`
-         SELECT o.classroom_id, 0 AS scored, count(*)::int AS "left", 0 AS with_pretest
-           FROM scores o JOIN score_sheets sh ON sh.id = o.sheet_id AND sh.state = ANY($4) AND sh.mode = 'rows'
-          WHERE o.study_id = $1 AND o.wave_id = $2 AND o.measure_id = $3 AND o.score IS NULL AND o.left_study
-          GROUP BY o.classroom_id`);
-
-function standingsWith(rowed: string): string {
-  return `
+const standingsSql = `
   -- One pass over the registry, materialized: inlined, the planner sometimes reran the count per classroom (minutes at 8 000).
-  WITH registered AS MATERIALIZED (SELECT classroom_id, count(*)::int AS n FROM students WHERE study_id = $1 GROUP BY classroom_id),
-       rowed AS (${rowed})
+  WITH registered AS MATERIALIZED (SELECT classroom_id, count(*)::int AS n FROM students WHERE study_id = $1 GROUP BY classroom_id)
   SELECT c.id AS classroom_id, c.arm, coalesce(r.n, 0)::int AS registered, sh.state AS sheet_state,
-         (sh.summary_n IS NOT NULL OR EXISTS (SELECT 1 FROM scores x WHERE x.sheet_id = sh.id)) AS entered,
-         CASE WHEN sh.mode = 'summary' AND sh.state = ANY($4) THEN sh.summary_n END AS summary_n,
-         coalesce(w.scored, 0) AS scored, coalesce(w."left", 0) AS "left", coalesce(w.with_pretest, 0) AS with_pretest
+         (sh.summary_n IS NOT NULL OR (sh.state = 'open' AND EXISTS (SELECT 1 FROM scores x WHERE x.sheet_id = sh.id))) AS entered,
+         CASE WHEN sh.mode = 'summary' AND sh.state = ANY($4) THEN sh.summary_n END AS summary_n
     FROM classrooms c
     LEFT JOIN registered r ON r.classroom_id = c.id
     LEFT JOIN score_sheets sh ON sh.classroom_id = c.id AND sh.study_id = $1 AND sh.wave_id = $2 AND sh.measure_id = $3
-    LEFT JOIN rowed w ON w.classroom_id = c.id
    WHERE c.study_id = $1 AND c.arm IS NOT NULL`;
-}
+
+/** The row sheets read (classrooms with an arm) with the classroom's baseline sheet when read; $5 the baseline wave or null. */
+const readSheetsSql = `
+  SELECT sh.id, sh.classroom_id, bs.id AS pretest_sheet_id
+    FROM score_sheets sh JOIN classrooms c ON c.id = sh.classroom_id AND c.arm IS NOT NULL
+    LEFT JOIN score_sheets bs ON bs.classroom_id = sh.classroom_id AND bs.wave_id = $5 AND bs.measure_id = $3 AND bs.state = ANY($4)
+   WHERE sh.study_id = $1 AND sh.wave_id = $2 AND sh.measure_id = $3 AND sh.state = ANY($4) AND sh.mode = 'rows'`;
 
 export interface AccountingScope {
   studyId: string;
@@ -155,36 +134,54 @@ export interface AccountingScope {
   pretestWaveId: string | null;
 }
 
-/** Per classroom, what a run's classroom pass counted on the row sheets it read: scored outcomes and those with a pretest. */
-export type ReadCounts = ReadonlyMap<string, { scored: number; withPretest: number }>;
+/** Per classroom, what was read from its row sheet: scored outcomes, those with a pretest, and rows marked as left without a score. */
+export type ReadCounts = ReadonlyMap<string, { scored: number; withPretest: number; left: number }>;
 
 /**
  * The accounting of the sheets as they stand (a run calls it in its own snapshot, so it counts exactly what it read,
- * and passes the counts its classroom pass already made).
+ * and passes the counts its sheets' sums gave; the Checks read those sums here).
  */
 export async function accountFor(manager: EntityManager, scope: AccountingScope, read?: ReadCounts): Promise<Accounting> {
   const withPretest = scope.pretestWaveId !== null;
-  const params: unknown[] = [scope.studyId, scope.waveId, scope.measureId, scope.reads];
-  const rows: { classroom_id: string; arm: Arm; registered: number; sheet_state: SheetState | null; entered: boolean | null; summary_n: number | null; scored: number; left: number; with_pretest: number }[] = read
-    ? await manager.query(standingsAfterRunSql, params)
-    : await manager.query(standingsSql(withPretest), withPretest ? [...params, scope.pretestWaveId] : params);
-  if (read) {
-    for (const r of rows) {
-      const counted = read.get(r.classroom_id);
-      r.scored = counted?.scored ?? 0;
-      r.with_pretest = withPretest ? (counted?.withPretest ?? 0) : 0;
-    }
-  }
-  const standings = rows.map((r) => ({
-    classroomId: r.classroom_id,
-    arm: r.arm,
-    registered: r.registered,
-    sheetState: r.sheet_state,
-    entered: r.entered === true,
-    summaryN: r.summary_n,
-    scored: r.scored,
-    left: r.left,
-    withPretest: r.with_pretest,
-  }));
+  const rows: { classroom_id: string; arm: Arm; registered: number; sheet_state: SheetState | null; entered: boolean | null; summary_n: number | null }[] = await manager.query(standingsSql, [
+    scope.studyId,
+    scope.waveId,
+    scope.measureId,
+    scope.reads,
+  ]);
+  const counts = read ?? (await readCounts(manager, scope));
+  const standings = rows.map((r) => {
+    const counted = counts.get(r.classroom_id);
+    return {
+      classroomId: r.classroom_id,
+      arm: r.arm,
+      registered: r.registered,
+      sheetState: r.sheet_state,
+      entered: r.entered === true,
+      summaryN: r.summary_n,
+      scored: counted?.scored ?? 0,
+      left: counted?.left ?? 0,
+      withPretest: withPretest ? (counted?.withPretest ?? 0) : 0,
+    };
+  });
   return account(standings, scope.reads, withPretest);
+}
+
+/** What the row sheets in scope give, from their sums. */
+async function readCounts(manager: EntityManager, scope: AccountingScope): Promise<ReadCounts> {
+  const sheets: { id: string; classroom_id: string; pretest_sheet_id: string | null }[] = await manager.query(readSheetsSql, [
+    scope.studyId,
+    scope.waveId,
+    scope.measureId,
+    scope.reads,
+    scope.pretestWaveId,
+  ]);
+  const moments = await readSheetMoments(
+    manager,
+    sheets.map((s) => ({ sheetId: s.id, pretestSheetId: s.pretest_sheet_id })),
+  );
+  return new Map(sheets.map((s) => {
+    const m = moments.get(s.id)!;
+    return [s.classroom_id, { scored: m.n, withPretest: m.pairs, left: m.left_n }];
+  }));
 }

@@ -2,7 +2,9 @@ import type { EntityManager } from 'typeorm';
 import { createHash } from 'node:crypto';
 import { mergePairedSummaries, sampleRanks, type PairedSummary } from '@evenhand/stats';
 import type { Arm } from '@evenhand/entities';
-import { sheetDigestsSql } from '../score-sheets/digest.js';
+import { sheetDigestsSql } from '../score-sheets/queries.js';
+import { yesCount } from './yes-no.js';
+import { readSheetMoments, type SheetMoments } from '../score-sheets/sums.js';
 
 /** Which sheets a run reads: a confirmatory run only accepted ones; monitoring also those awaiting review. */
 export const sheetStatesFor = (kind: 'monitoring' | 'confirmatory'): ('accepted' | 'submitted')[] => (kind === 'confirmatory' ? ['accepted'] : ['accepted', 'submitted']);
@@ -20,6 +22,8 @@ export interface ClassroomAggregate {
   mean: number | null;
   m2: number | null;
   fromSummary: boolean;
+  /** Rows of a read row sheet marked as left without an outcome score (the accounting's leavers). */
+  left: number;
   /** Students with both an outcome and a pretest: their count, means and within-classroom centred sums (null without a baseline). */
   pairs: PairedSummary | null;
 }
@@ -53,13 +57,16 @@ interface Scope {
   waveId: string;
   baselineWaveId: string | null;
   states: string[];
+  /** A yes/no measure: its value-based statistics come from the counts, with no scan of the answers. */
+  yesNo: boolean;
 }
 
 /**
- * Reads what a run needs inside PostgreSQL, in two parallel scans of the outcome scores: per classroom the count,
- * mean, M2 and baseline pairs' sums; then, over the count of each distinct score per arm, the ranks, quartiles,
- * absolute deviations and the values of a bounded normality sample. The data hash comes from the sheets' digests,
- * stored when they were submitted or accepted (computed here for any sheet without one). Node never holds every row.
+ * Reads what a run needs inside PostgreSQL: per classroom the count, mean, M2, leavers and baseline pairs' sums from
+ * its sheet's sums (stored when the sheet was submitted or accepted, else summed now); then, in one parallel scan of
+ * the outcome scores, over the count of each distinct score per arm, the ranks, quartiles, absolute deviations and the
+ * values of a bounded normality sample. The data hash comes from the sheets' digests, stored the same way. Node never
+ * holds every row.
  */
 export async function gather(manager: EntityManager, scope: Scope): Promise<Gathered> {
   // The distinct-score table stays in memory; JIT compiling these plans costs more than it saves.
@@ -103,8 +110,13 @@ export async function gather(manager: EntityManager, scope: Scope): Promise<Gath
   const baselineOf = new Map(baselineSheets.map((b) => [b.classroom_id, b]));
   await fillMissingDigests(manager, [...rowSheets, ...rowSheets.flatMap((s) => baselineOf.get(s.classroom_id) ?? [])]);
 
-  const perClassroom: ClassroomRow[] = await manager.query(classroomPassSql(scope.baselineWaveId !== null), scope.baselineWaveId ? [...p, scope.baselineWaveId] : p);
-  const byClassroom = new Map(perClassroom.map((c) => [c.classroom_id, c]));
+  const moments = await readSheetMoments(
+    manager,
+    rowSheets.map((s) => ({ sheetId: s.id, pretestSheetId: scope.baselineWaveId ? (baselineOf.get(s.classroom_id)?.id ?? null) : null })),
+  );
+  const ofClassroom = new Map(rowSheets.map((s) => [s.classroom_id, moments.get(s.id)!]));
+  // A classroom is analysed when its sheet has a scored row.
+  const byClassroom = new Map([...ofClassroom].filter(([, m]) => m.n > 0));
   const analysedSheets = rowSheets.filter((s) => byClassroom.has(s.classroom_id));
 
   const summaryLines: { line: string }[] = await manager.query(`SELECT line FROM (${canonicalSummariesSql}) s ORDER BY line COLLATE "C"`, [sheets.map((s) => s.id), null]);
@@ -115,6 +127,56 @@ export async function gather(manager: EntityManager, scope: Scope): Promise<Gath
 
   const counted = { intervention: 0, comparison: 0 } as Record<Arm, number>;
   for (const s of analysedSheets) counted[s.arm!] += byClassroom.get(s.classroom_id)!.n;
+  const { values, ranks } = scope.yesNo
+    ? yesNoValues({ intervention: yesOf(analysedSheets, byClassroom, 'intervention'), comparison: yesOf(analysedSheets, byClassroom, 'comparison') }, counted)
+    : await scoreValues(manager, p, counted, dataSha256);
+
+  let pairs: Gathered['pairs'] = null;
+  if (scope.baselineWaveId) {
+    pairs = { intervention: null, comparison: null };
+    for (const arm of ['intervention', 'comparison'] as const) {
+      const parts = analysedSheets
+        .filter((s) => s.arm === arm)
+        .map((s) => byClassroom.get(s.classroom_id)!)
+        .filter((c) => c.pairs > 0)
+        .map(pairedOf);
+      pairs[arm] = parts.length ? mergePairedSummaries(parts) : null;
+    }
+  }
+
+  return {
+    sheetIds: [...sheets, ...baselineSheets].map((s) => s.id),
+    classrooms: classrooms.map((c) => {
+      const rows = byClassroom.get(c.classroom_id);
+      const fromSummary = c.summary_n !== null;
+      return {
+        classroomId: c.classroom_id,
+        siteId: c.site_id,
+        siteName: c.site_name,
+        arm: c.arm,
+        n: fromSummary ? c.summary_n! : (rows?.n ?? 0),
+        mean: fromSummary ? c.summary_mean : (rows?.mean ?? null),
+        m2: fromSummary ? c.summary_m2 : (rows?.m2 ?? null),
+        fromSummary,
+        left: fromSummary ? 0 : (ofClassroom.get(c.classroom_id)?.left_n ?? 0),
+        pairs: !fromSummary && rows && rows.pairs > 0 ? pairedOf(rows) : null,
+      };
+    }),
+    values,
+    ranks,
+    pairs,
+    dataSha256,
+    analysed: counted.intervention + counted.comparison,
+  };
+}
+
+const QUARTILES = [0, 0.25, 0.5, 0.75, 1];
+
+/**
+ * The value-based statistics of a score: one parallel scan of the outcome scores, grouped by distinct score per arm,
+ * gives the ranks, quartiles, absolute deviations and the values at the ranks of the normality sample.
+ */
+async function scoreValues(manager: EntityManager, p: unknown[], counted: Record<Arm, number>, dataSha256: string): Promise<Pick<Gathered, 'values' | 'ranks'>> {
   const wanted = (arm: Arm) => {
     const n = counted[arm];
     if (n === 0) return [];
@@ -148,47 +210,53 @@ export async function gather(manager: EntityManager, scope: Scope): Promise<Gath
     ranks = { rankSumA: r.rank_sum, tieTerm: r.tie_term };
   }
 
-  let pairs: Gathered['pairs'] = null;
-  if (scope.baselineWaveId) {
-    pairs = { intervention: null, comparison: null };
-    for (const arm of ['intervention', 'comparison'] as const) {
-      const parts = analysedSheets
-        .filter((s) => s.arm === arm)
-        .map((s) => byClassroom.get(s.classroom_id)!)
-        .filter((c) => c.pairs > 0)
-        .map(pairedOf);
-      pairs[arm] = parts.length ? mergePairedSummaries(parts) : null;
-    }
-  }
-
-  return {
-    sheetIds: [...sheets, ...baselineSheets].map((s) => s.id),
-    classrooms: classrooms.map((c) => {
-      const rows = byClassroom.get(c.classroom_id);
-      const fromSummary = c.summary_n !== null;
-      return {
-        classroomId: c.classroom_id,
-        siteId: c.site_id,
-        siteName: c.site_name,
-        arm: c.arm,
-        n: fromSummary ? c.summary_n! : (rows?.n ?? 0),
-        mean: fromSummary ? c.summary_mean : (rows?.mean ?? null),
-        m2: fromSummary ? c.summary_m2 : (rows?.m2 ?? null),
-        fromSummary,
-        pairs: !fromSummary && rows && rows.pairs > 0 ? pairedOf(rows) : null,
-      };
-    }),
-    values,
-    ranks,
-    pairs,
-    dataSha256,
-    analysed: counted.intervention + counted.comparison,
-  };
+  return { values, ranks };
 }
 
-const QUARTILES = [0, 0.25, 0.5, 0.75, 1];
+const yesOf = (sheets: SheetRow[], byClassroom: ReadonlyMap<string, SheetMoments>, arm: Arm) =>
+  sheets.filter((s) => s.arm === arm).reduce((k, s) => k + yesCount(byClassroom.get(s.classroom_id)!), 0);
 
-const pairedOf = (c: ClassroomRow): PairedSummary => ({ n: c.pairs, meanY: c.pair_mean_y!, meanX: c.pair_mean_x!, syy: c.pair_syy!, sxx: c.pair_sxx!, sxy: c.pair_sxy! });
+/**
+ * The same statistics of a yes/no measure from its counts alone (answers are 0 and 1), with no second scan: k yes and
+ * z = n − k no per arm. Quartiles read the sorted answers (z zeros, then k ones) at the same ranks as a score's; about
+ * the mean k/n, Σ|x − mean| = 2kz/n and Σ(x − mean)² = kz/n; about the median m, Σ|x − m| = z·m + k·(1 − m) and
+ * Σ(x − m)² = z·m² + k·(1 − m)²; the mid-ranks of the pooled 2×2 table and Σ(t³ − t) over its two tied values.
+ */
+export function yesNoValues(yes: Record<Arm, number>, counted: Record<Arm, number>): Pick<Gathered, 'values' | 'ranks'> {
+  const values = { intervention: null, comparison: null } as Gathered['values'];
+  for (const arm of ['intervention', 'comparison'] as const) {
+    const n = counted[arm];
+    if (n === 0) continue;
+    const k = yes[arm];
+    const z = n - k;
+    const at = (rank: number) => (rank < z ? 0 : 1);
+    const quantile = (f: number) => {
+      const pos = f * (n - 1);
+      const lo = at(Math.floor(pos));
+      return lo + (at(Math.ceil(pos)) - lo) * (pos - Math.floor(pos));
+    };
+    const median = (at(Math.floor((n - 1) / 2)) + at(Math.floor(n / 2))) / 2;
+    const spread = (s: number, q: number) => ({ n, meanDeviation: s / n, ssDeviation: (n * q - s * s) / n });
+    values[arm] = {
+      n,
+      quantiles: QUARTILES.map(quantile) as ArmValues['quantiles'],
+      deviations: {
+        mean: spread((2 * k * z) / n, (k * z) / n),
+        median: spread(z * median + k * (1 - median), z * median * median + k * (1 - median) * (1 - median)),
+      },
+      // A yes/no answer's normality is not tested.
+      normalitySample: [],
+    };
+  }
+  if (counted.intervention + counted.comparison === 0) return { values, ranks: null };
+  const [a1, b1] = [yes.intervention, yes.comparison];
+  const [a0, b0] = [counted.intervention - a1, counted.comparison - b1];
+  const rankSumA = (a0 * (a0 + b0 + 1)) / 2 + (a1 * (2 * (a0 + b0) + a1 + b1 + 1)) / 2;
+  const tie = (t: number) => t * t * t - t;
+  return { values, ranks: { rankSumA, tieTerm: tie(a0 + b0) + tie(a1 + b1) } };
+}
+
+const pairedOf = (c: SheetMoments): PairedSummary => ({ n: c.pairs, meanY: c.pair_mean_y!, meanX: c.pair_mean_x!, syy: c.pair_syy!, sxx: c.pair_sxx!, sxy: c.pair_sxy! });
 
 interface SheetRow {
   id: string;
@@ -224,19 +292,6 @@ export function dataHash(classrooms: { classroomId: string; arm: Arm; outcome: s
   return createHash('sha256').update([...lines, ...summaryLines].join('\n')).digest('hex');
 }
 
-interface ClassroomRow {
-  classroom_id: string;
-  n: number;
-  mean: number;
-  m2: number;
-  pairs: number;
-  pair_mean_y: number | null;
-  pair_mean_x: number | null;
-  pair_syy: number | null;
-  pair_sxx: number | null;
-  pair_sxy: number | null;
-}
-
 interface ValueRow {
   arm: Arm;
   n: string;
@@ -257,30 +312,6 @@ interface ValueRow {
 const outcomeJoins = `scores o JOIN score_sheets sh ON sh.id = o.sheet_id AND sh.state = ANY($4) AND sh.mode = 'rows'
            JOIN classrooms c ON c.id = sh.classroom_id AND c.arm IS NOT NULL`;
 const outcomeFilter = `o.study_id = $1 AND o.wave_id = $2 AND o.measure_id = $3 AND o.score IS NOT NULL`;
-/** $5: the baseline wave; a student's pretest is their score on the classroom's baseline sheet (the repeated keys let the planner hash only that wave's scores). */
-const baselineJoins = `LEFT JOIN score_sheets bs ON bs.classroom_id = sh.classroom_id AND bs.study_id = $1 AND bs.wave_id = $5 AND bs.measure_id = $3 AND bs.state = ANY($4)
-      LEFT JOIN scores b ON b.sheet_id = bs.id AND b.student_code = o.student_code AND b.score IS NOT NULL
-                         AND b.study_id = $1 AND b.wave_id = $5 AND b.measure_id = $3`;
-
-// Sums are numeric, so exact; each moment is one division of an exact numerator: (nΣx² − (Σx)²)/n keeps its digits for scores far from zero.
-// Without a baseline the pairs' columns are constant nulls and the join is left out: it costs a lookup per student.
-const classroomPassSql = (withBaseline: boolean) => `
-  SELECT a.classroom_id, a.n::int, (a.sy / a.n)::float8 AS mean, ((a.n * a.syy - a.sy * a.sy) / a.n)::float8 AS m2,
-         a.np::int AS pairs, (a.py / nullif(a.np, 0))::float8 AS pair_mean_y, (a.px / nullif(a.np, 0))::float8 AS pair_mean_x,
-         ((a.np * a.pyy - a.py * a.py) / nullif(a.np, 0))::float8 AS pair_syy, ((a.np * a.pxx - a.px * a.px) / nullif(a.np, 0))::float8 AS pair_sxx,
-         ((a.np * a.pxy - a.px * a.py) / nullif(a.np, 0))::float8 AS pair_sxy
-    FROM (
-     SELECT sh.classroom_id, count(*) AS n, sum(o.score) AS sy, sum(o.score * o.score) AS syy,
-            ${
-              withBaseline
-                ? `count(b.score) AS np, sum(o.score) FILTER (WHERE b.score IS NOT NULL) AS py, sum(b.score) AS px,
-            sum(o.score * o.score) FILTER (WHERE b.score IS NOT NULL) AS pyy, sum(b.score * b.score) AS pxx, sum(o.score * b.score) AS pxy`
-                : `0 AS np, NULL::numeric AS py, NULL::numeric AS px, NULL::numeric AS pyy, NULL::numeric AS pxx, NULL::numeric AS pxy`
-            }
-       FROM ${outcomeJoins} ${withBaseline ? baselineJoins : ''}
-      WHERE ${outcomeFilter}
-      GROUP BY sh.classroom_id) a`;
-
 /**
  * One row per arm from the count of each distinct outcome score: n; the arm's mid-rank sum ×2 and Σ(t³ − t) over the
  * pooled table; mean and median; Σ|x − c| and Σ(x − c)² for both centres (exact numeric); the values at the requested

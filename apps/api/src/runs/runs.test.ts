@@ -5,7 +5,7 @@ import { ancova, hedgesG, levene, mannWhitney, mergeAllSummaries, sampleRanks, s
 import { signIn, startTestApp, type SignedIn, type TestApp } from '../../test/app.js';
 import { createStudy, enrolClassrooms, fillSheet, send, type StudySetup } from '../../test/fixtures.js';
 import { startQueue } from '../jobs/queue.js';
-import { storeSheetDigests } from '../score-sheets/digest.js';
+import { storeSheetDigestsAndSums } from '../score-sheets/sums.js';
 import { startWorkers } from '../jobs/workers.js';
 import { createLogger } from '../logger.js';
 
@@ -182,24 +182,35 @@ describe('comparison runs', () => {
     expect(bundle.readme).toMatch(/SHA-256/);
   });
 
-  it('hashes the same from the digests stored when sheets are accepted as from the rows, and forgets a digest when a score changes', async () => {
+  it('computes the same from the digests and sums stored when sheets are accepted as from the rows, and forgets them when a score changes', async () => {
     const first = (await s.lead.agent.get(`/api/runs/${runId}`)).body;
     // The fixture wrote the rows directly, so that run hashed every sheet itself; now store them as accepting does.
     const sheetIds: string[] = (await t.db.query(`SELECT id FROM score_sheets WHERE study_id = $1`, [s.studyId])).map((r: { id: string }) => r.id);
-    await storeSheetDigests(t.db.manager, sheetIds);
+    await storeSheetDigestsAndSums(t.db.manager, sheetIds);
     const stored = await t.db.query(`SELECT count(*)::int AS n FROM score_sheets WHERE study_id = $1 AND rows_sha256 IS NOT NULL`, [s.studyId]);
     expect(stored[0].n).toBe(sheetIds.length);
+    const summed = await t.db.query(`SELECT count(*)::int AS n, count(pretest_sheet_id)::int AS paired FROM sheet_sums WHERE sheet_id = ANY($1)`, [sheetIds]);
+    // Every sheet has its sums; each outcome sheet (half of them) names its classroom's baseline sheet.
+    expect(summed[0]).toEqual({ n: sheetIds.length, paired: sheetIds.length / 2 });
     const queued = await send(s.lead, 'post', `/api/comparisons/${primaryComparison}/runs`, { kind: 'monitoring' }, 202);
     const second = await waitFor(queued.run.id, s.lead);
     expect(second.state).toBe('finished');
     expect(second.dataSha256).toBe(first.dataSha256);
     expect(second.results.primary).toEqual(first.results.primary);
+    expect(second.results.sensitivity.ancova).toEqual(first.results.sensitivity.ancova);
+    expect(second.results.descriptives).toEqual(first.results.descriptives);
+    expect(second.results.accounting.arms).toEqual(first.results.accounting.arms);
 
     // Any write to a sheet's scores, even one that changes no value, clears its stored digest in the same statement.
     const [one] = await t.db.query(`SELECT sheet_id FROM scores WHERE study_id = $1 AND wave_id = $2 LIMIT 1`, [s.studyId, s.outcomeId]);
     await t.db.query(`UPDATE scores SET score = score WHERE sheet_id = $1`, [one.sheet_id]);
     const [cleared] = await t.db.query(`SELECT rows_sha256 FROM score_sheets WHERE id = $1`, [one.sheet_id]);
     expect(cleared.rows_sha256).toBeNull();
+    expect(await t.db.query(`SELECT 1 FROM sheet_sums WHERE sheet_id = $1`, [one.sheet_id])).toHaveLength(0);
+    // A write to a baseline sheet forgets the sums of the outcome sheet paired with it.
+    const [paired] = await t.db.query(`SELECT sheet_id, pretest_sheet_id FROM sheet_sums WHERE pretest_sheet_id IS NOT NULL LIMIT 1`);
+    await t.db.query(`UPDATE scores SET note = note WHERE sheet_id = $1`, [paired.pretest_sheet_id]);
+    expect(await t.db.query(`SELECT 1 FROM sheet_sums WHERE sheet_id = $1 OR sheet_id = $2`, [paired.sheet_id, paired.pretest_sheet_id])).toHaveLength(0);
   });
 
   it('hides unlocked runs from principals', async () => {

@@ -68,10 +68,11 @@ export async function executeRun(db: DataSource, logger: Logger, runId: string):
         waveId: k.wave_id,
         baselineWaveId: k.covariate === 'baseline' ? (baseline?.id ?? null) : null,
         states,
+        yesNo: k.measure_scale === 'yes-no',
       });
       // Who was analysed and who was lost, and why, in the same snapshot as the data: the run stores what it read.
       const pretest = needsPretest({ primaryTest: k.primary_test, covariate: k.covariate, scale: k.measure_scale, hasBaselineWave: Boolean(baseline) });
-      const read = new Map(data.classrooms.filter((c) => !c.fromSummary).map((c) => [c.classroomId, { scored: c.n, withPretest: c.pairs?.n ?? 0 }]));
+      const read = new Map(data.classrooms.filter((c) => !c.fromSummary).map((c) => [c.classroomId, { scored: c.n, withPretest: c.pairs?.n ?? 0, left: c.left }]));
       const accounting = await accountFor(manager, { studyId: k.study_id, measureId: k.measure_id, waveId: k.wave_id, reads: states, pretestWaveId: pretest ? baseline.id : null }, read);
       const computed = analyse(
         {

@@ -1,13 +1,27 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { decidingTest, type RunResults } from '@evenhand/entities';
-import { baselineEquivalenceYesNo, chiSquareTest, clusterRobustFromRows, coxIndexFromCounts, fisherExactTest, oddsRatio, proportionDifference, proportionWithInterval, twoProportionZTest } from '@evenhand/stats';
+import {
+  baselineEquivalenceYesNo,
+  chiSquareTest,
+  clusterRobustFromRows,
+  coxIndexFromCounts,
+  fisherExactTest,
+  levene,
+  leveneFromDeviations,
+  mannWhitney,
+  mannWhitneyFromRanks,
+  oddsRatio,
+  proportionDifference,
+  proportionWithInterval,
+  twoProportionZTest,
+} from '@evenhand/stats';
 import { startTestApp, type TestApp } from '../../test/app.js';
 import { createStudy, enrolClassrooms, fillSheet, samplePlan, send, waitForRun } from '../../test/fixtures.js';
 import { principalView } from './principal-view.js';
 import { buildSiteFacts, resultSentences, siteResult } from '../digests/facts.js';
 import { renderDigest } from '../digests/templates.js';
 import { yesNoAnalysis } from './yes-no.js';
-import type { ClassroomAggregate } from './gather.js';
+import { yesNoValues, type ClassroomAggregate } from './gather.js';
 import { rowFromCsv } from '../score-sheets/rows.js';
 import { createLogger } from '../logger.js';
 import { createMailer } from '../mail/mailer.js';
@@ -26,7 +40,7 @@ afterAll(() => t.close());
 /** A classroom's aggregate as the classroom pass reads it: n, mean and M2 of 0/1 answers. */
 function classroom(id: string, arm: 'intervention' | 'comparison', yes: number, n: number): ClassroomAggregate {
   const mean = yes / n;
-  return { classroomId: id, siteId: 's', siteName: 'S', arm, n, mean, m2: yes * (1 - mean), fromSummary: false, pairs: null };
+  return { classroomId: id, siteId: 's', siteName: 'S', arm, n, mean, m2: yes * (1 - mean), fromSummary: false, left: 0, pairs: null };
 }
 
 describe('yes/no comparisons', () => {
@@ -69,6 +83,34 @@ describe('yes/no comparisons', () => {
     expect(JSON.stringify(yesNo)).not.toMatch(/NaN|Infinity/);
   });
 
+  it('when the answers are only counted, then the rank, spread and quartile figures equal the engine on the 0/1 rows, with no scan of the answers', () => {
+    for (const [k1, n1, k2, n2] of [
+      [7, 20, 4, 18],
+      [10, 10, 2, 12],
+      [1, 2, 2, 3],
+      [13, 25, 0, 24],
+    ]) {
+      const rows = (k: number, n: number) => [...Array(n - k).fill(0), ...Array(k).fill(1)] as number[];
+      const [a, b] = [rows(k1, n1), rows(k2, n2)];
+      const { values, ranks } = yesNoValues({ intervention: k1, comparison: k2 }, { intervention: n1, comparison: n2 });
+      const m = mannWhitney(a, b);
+      const fromCounts = mannWhitneyFromRanks({ n1, n2, ...ranks! });
+      expect(fromCounts.u).toBeCloseTo(m.u, 10);
+      expect(fromCounts.p).toBeCloseTo(m.p, 12);
+      for (const center of ['mean', 'median'] as const) {
+        const l = levene([a, b], { center });
+        const got = leveneFromDeviations([values.intervention!.deviations[center], values.comparison!.deviations[center]], center);
+        // Relative: with an arm all no, W is in the ten thousands.
+        expect(Math.abs(got.statistic - l.statistic) / l.statistic).toBeLessThan(1e-12);
+        expect(got.p).toBeCloseTo(l.p, 12);
+      }
+      // Quartiles by linear interpolation between order statistics, as the score path reads them.
+      const quantile = (xs: number[], f: number) => xs[Math.floor(f * (xs.length - 1))] + (xs[Math.ceil(f * (xs.length - 1))] - xs[Math.floor(f * (xs.length - 1))]) * (f * (xs.length - 1) - Math.floor(f * (xs.length - 1)));
+      expect(values.intervention!.quantiles).toEqual([0, 0.25, 0.5, 0.75, 1].map((f) => quantile(a, f)));
+      expect(values.comparison!.quantiles).toEqual([0, 0.25, 0.5, 0.75, 1].map((f) => quantile(b, f)));
+    }
+  });
+
   it('when classrooms were assigned, then a run decides by the linear probability regression with CR2 errors, equal to the engine on the 0/1 rows', async () => {
     const s = await createStudy(t.app, { seal: false, unitOfAssignment: 'classroom' });
     const measure = await send(s.lead, 'post', `/api/studies/${s.studyId}/measures`, { name: 'Read at grade level by spring', scale: 'yes-no', higherIsBetter: true, kind: 'achievement' }, 201);
@@ -76,7 +118,7 @@ describe('yes/no comparisons', () => {
     await send(s.lead, 'put', `/api/studies/${s.studyId}/plan`, samplePlan(measure.id, s.outcomeId), 200);
     await send(s.lead, 'post', `/api/studies/${s.studyId}/plan/seal`, {}, 200);
     const { classrooms } = await enrolClassrooms(s, 3, 4);
-    await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draws`, { seed: 'yes-no-classrooms', commit: true }, 201);
+    await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draw`, { seed: 'yes-no-classrooms', commit: true }, 201);
     await s.coordinator.agent.get(`/api/studies/${s.studyId}/completion`).expect(200);
     const arms: { id: string; arm: 'intervention' | 'comparison' }[] = await t.db.query(`SELECT id, arm FROM classrooms WHERE study_id = $1`, [s.studyId]);
     const rows = { y: [] as number[], arm: [] as number[], cluster: [] as string[], block: [] as string[] };
@@ -125,7 +167,7 @@ describe('yes/no comparisons', () => {
     await send(s.lead, 'put', `/api/studies/${s.studyId}/plan`, samplePlan(measure.id, s.outcomeId), 200);
     await send(s.lead, 'post', `/api/studies/${s.studyId}/plan/seal`, {}, 200);
     const { classrooms } = await enrolClassrooms(s, 2, 3);
-    await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draws`, { seed: 'yes-no-all-yes', commit: true }, 201);
+    await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draw`, { seed: 'yes-no-all-yes', commit: true }, 201);
     await s.coordinator.agent.get(`/api/studies/${s.studyId}/completion`).expect(200);
     const arms: { id: string; arm: 'intervention' | 'comparison' }[] = await t.db.query(`SELECT id, arm FROM classrooms WHERE study_id = $1`, [s.studyId]);
     const counts = { intervention: { yes: 0, n: 0 }, comparison: { yes: 0, n: 0 } };
@@ -166,7 +208,7 @@ describe('yes/no comparisons', () => {
     await send(s.lead, 'put', `/api/studies/${s.studyId}/plan`, samplePlan(measure.id, s.outcomeId), 200);
     await send(s.lead, 'post', `/api/studies/${s.studyId}/plan/seal`, {}, 200);
     const { classrooms } = await enrolClassrooms(s, 1, 2);
-    await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draws`, { seed: 'yes-no-everyone', commit: true }, 201);
+    await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draw`, { seed: 'yes-no-everyone', commit: true }, 201);
     await s.coordinator.agent.get(`/api/studies/${s.studyId}/completion`).expect(200);
     for (const [k, c] of classrooms.entries()) await fillSheet(t.db, { classroomId: c.id, waveId: s.outcomeId, measureId: measure.id }, Array(11).fill(1), `EV${k}`);
     const comparison = (await s.lead.agent.get(`/api/studies/${s.studyId}/comparisons`)).body.items.find((k: { measureId: string }) => k.measureId === measure.id);
@@ -196,7 +238,7 @@ describe('checks of a yes/no measure', () => {
     await send(s.lead, 'put', `/api/studies/${s.studyId}/plan`, samplePlan(measure.id, s.outcomeId), 200);
     await send(s.lead, 'post', `/api/studies/${s.studyId}/plan/seal`, {}, 200);
     const { classrooms } = await enrolClassrooms(s, 1, 2);
-    await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draws`, { seed: 'yes-no-checks', commit: true }, 201);
+    await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draw`, { seed: 'yes-no-checks', commit: true }, 201);
     await s.coordinator.agent.get(`/api/studies/${s.studyId}/completion`).expect(200);
     const arms: { id: string; arm: 'intervention' | 'comparison' }[] = await t.db.query(`SELECT id, arm FROM classrooms WHERE study_id = $1`, [s.studyId]);
     const counts = { intervention: { yes: 0, n: 0 }, comparison: { yes: 0, n: 0 } };

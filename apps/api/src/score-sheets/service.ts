@@ -6,7 +6,8 @@ import { AppError } from '../errors.js';
 import { csvBatches } from '../lib/csv.js';
 import { currentPlan } from '../plans/service.js';
 import { findVisibleStudy, hasRole, sitesOf, teaches } from '../studies/access.js';
-import { ensureSheets, sheetRow, sheetScoreRows, storeSheetDigests, studentsWithoutScore, visibleSheetRows, type SheetRow } from './queries.js';
+import { ensureSheets, sheetRow, sheetScoreRows, studentsWithoutScore, visibleSheetRows, type SheetRow } from './queries.js';
+import { storeSheetDigestsAndSums } from './sums.js';
 import { rowFromCsv } from './rows.js';
 import { applyStaged, stageRows } from './write.js';
 
@@ -183,7 +184,7 @@ export async function moveSheet(db: DataSource, user: SessionUser, id: string, s
       });
     }
     await manager.update(ScoreSheetEntity, id, patch);
-    if (patch.state === 'submitted' || patch.state === 'accepted') await storeSheetDigests(manager, [id]);
+    if (patch.state === 'submitted' || patch.state === 'accepted') await storeSheetDigestsAndSums(manager, [id]);
     await recordAudit(manager, {
       actorId: user.id,
       studyId: row.study_id,

@@ -1,0 +1,107 @@
+import type { EntityManager } from 'typeorm';
+import { storeSheetDigests } from './queries.js';
+
+/**
+ * A sheet's exact sums, what a run's classroom pass needs from it: scored rows (n), Σy and Σy², rows marked as left
+ * without a score, and over the students who also have a score on the paired pretest sheet, their count and Σy, Σx,
+ * Σy², Σx², Σxy (numeric, so exact). Stored when a sheet is submitted or accepted (as its digest is) and forgotten by
+ * any write to its scores or its pretest sheet's (migration 1796600000000); a run computes any it lacks.
+ * $1: sheet IDs; $2: the pretest sheet paired with each (null: none). Each sheet's rows are read by the primary key.
+ */
+const sheetSumsSql = `
+  SELECT u.sheet_id, u.pretest_sheet_id, a.*
+    FROM unnest($1::uuid[], $2::uuid[]) AS u(sheet_id, pretest_sheet_id)
+   CROSS JOIN LATERAL (
+     SELECT count(o.score)::int AS n, sum(o.score) AS sy, sum(o.score * o.score) AS syy,
+            count(*) FILTER (WHERE o.score IS NULL AND o.left_study)::int AS left_n,
+            count(b.score) FILTER (WHERE o.score IS NOT NULL)::int AS np,
+            sum(o.score) FILTER (WHERE b.score IS NOT NULL) AS py, sum(b.score) FILTER (WHERE o.score IS NOT NULL) AS px,
+            sum(o.score * o.score) FILTER (WHERE b.score IS NOT NULL) AS pyy, sum(b.score * b.score) FILTER (WHERE o.score IS NOT NULL) AS pxx,
+            sum(o.score * b.score) AS pxy
+       FROM scores o LEFT JOIN scores b ON b.sheet_id = u.pretest_sheet_id AND b.student_code = o.student_code AND b.score IS NOT NULL
+      WHERE o.sheet_id = u.sheet_id) a`;
+
+// Each moment is one division of an exact numerator: (nΣx² − (Σx)²)/n keeps its digits for scores far from zero.
+const momentsOf = (a: string) => `
+  ${a}.sheet_id, ${a}.n, ${a}.left_n, (${a}.sy / nullif(${a}.n, 0))::float8 AS mean, ((${a}.n * ${a}.syy - ${a}.sy * ${a}.sy) / nullif(${a}.n, 0))::float8 AS m2,
+  ${a}.np AS pairs, (${a}.py / nullif(${a}.np, 0))::float8 AS pair_mean_y, (${a}.px / nullif(${a}.np, 0))::float8 AS pair_mean_x,
+  ((${a}.np * ${a}.pyy - ${a}.py * ${a}.py) / nullif(${a}.np, 0))::float8 AS pair_syy, ((${a}.np * ${a}.pxx - ${a}.px * ${a}.px) / nullif(${a}.np, 0))::float8 AS pair_sxx,
+  ((${a}.np * ${a}.pxy - ${a}.px * ${a}.py) / nullif(${a}.np, 0))::float8 AS pair_sxy`;
+
+/** What a sheet's rows give once they stop changing (submitted, accepted), stored so runs need not read them again. */
+export async function storeSheetDigestsAndSums(manager: EntityManager, sheetIds: string[]): Promise<void> {
+  await storeSheetDigests(manager, sheetIds);
+  await storeSheetSums(manager, sheetIds);
+}
+
+/**
+ * Stores the sums of sheets whose rows stop changing (submitted, accepted); when one of them is a baseline sheet, also
+ * of its classroom's submitted or accepted sheets of the same measure in the other waves, which pair with it. Takes the
+ * classrooms' writer lock first, so no write to these sheets commits between reading the rows and storing their sums.
+ */
+async function storeSheetSums(manager: EntityManager, sheetIds: string[]): Promise<void> {
+  // The writers' lock on the sheets' classrooms, in its own statement: the sums below then read the rows as committed after it.
+  await manager.query(`SELECT 1 FROM classrooms WHERE id IN (SELECT classroom_id FROM score_sheets WHERE id = ANY($1::uuid[])) ORDER BY id FOR NO KEY UPDATE`, [sheetIds]);
+  const targets: { sheet_id: string; pretest_sheet_id: string | null }[] = await manager.query(
+    `WITH given AS (SELECT sh.* FROM score_sheets sh WHERE sh.id = ANY($1::uuid[])),
+          targets AS (
+            SELECT id, study_id, classroom_id, wave_id, measure_id FROM given
+            UNION
+            SELECT o.id, o.study_id, o.classroom_id, o.wave_id, o.measure_id
+              FROM given g JOIN waves w ON w.id = g.wave_id AND w.kind = 'baseline'
+              JOIN score_sheets o ON o.classroom_id = g.classroom_id AND o.measure_id = g.measure_id AND o.wave_id <> g.wave_id
+             WHERE o.state IN ('submitted', 'accepted'))
+     SELECT t.id AS sheet_id, p.id AS pretest_sheet_id
+       FROM targets t
+       LEFT JOIN waves bw ON bw.study_id = t.study_id AND bw.kind = 'baseline' AND bw.id <> t.wave_id
+       LEFT JOIN score_sheets p ON p.classroom_id = t.classroom_id AND p.measure_id = t.measure_id AND p.wave_id = bw.id`,
+    [sheetIds],
+  );
+  if (targets.length === 0) return;
+  await manager.query(
+    `INSERT INTO sheet_sums (sheet_id, pretest_sheet_id, n, sy, syy, left_n, np, py, px, pyy, pxx, pxy)
+     SELECT sheet_id, pretest_sheet_id, n, sy, syy, left_n, np, py, px, pyy, pxx, pxy FROM (${sheetSumsSql}) s
+     ON CONFLICT (sheet_id) DO UPDATE SET pretest_sheet_id = excluded.pretest_sheet_id, n = excluded.n, sy = excluded.sy, syy = excluded.syy,
+       left_n = excluded.left_n, np = excluded.np, py = excluded.py, px = excluded.px, pyy = excluded.pyy, pxx = excluded.pxx, pxy = excluded.pxy`,
+    [targets.map((t) => t.sheet_id), targets.map((t) => t.pretest_sheet_id)],
+  );
+}
+
+/** One sheet's count, mean and M2 of its scores, its leavers, and its students paired with a pretest: count, means and centred sums. */
+export interface SheetMoments {
+  sheet_id: string;
+  n: number;
+  left_n: number;
+  mean: number | null;
+  m2: number | null;
+  pairs: number;
+  pair_mean_y: number | null;
+  pair_mean_x: number | null;
+  pair_syy: number | null;
+  pair_sxx: number | null;
+  pair_sxy: number | null;
+}
+
+/**
+ * The moments of the row sheets a run or the Checks read, each paired with the pretest sheet given (null: no pairs
+ * wanted, and none returned): stored sums where they were taken with that pretest sheet, the rest summed now from the
+ * rows (not stored: a reader only reads).
+ */
+export async function readSheetMoments(manager: EntityManager, wanted: { sheetId: string; pretestSheetId: string | null }[]): Promise<Map<string, SheetMoments>> {
+  const ids = wanted.map((w) => w.sheetId);
+  const pretests = wanted.map((w) => w.pretestSheetId);
+  const stored: SheetMoments[] = await manager.query(
+    `SELECT ${momentsOf('a')} FROM unnest($1::uuid[], $2::uuid[]) AS u(sheet_id, pretest_sheet_id)
+       JOIN sheet_sums a ON a.sheet_id = u.sheet_id AND (u.pretest_sheet_id IS NULL OR a.pretest_sheet_id = u.pretest_sheet_id)`,
+    [ids, pretests],
+  );
+  const out = new Map(stored.map((m) => [m.sheet_id, m]));
+  const missing = wanted.filter((w) => !out.has(w.sheetId));
+  if (missing.length > 0) {
+    const fresh: SheetMoments[] = await manager.query(`SELECT ${momentsOf('a')} FROM (${sheetSumsSql}) a`, [missing.map((w) => w.sheetId), missing.map((w) => w.pretestSheetId)]);
+    for (const m of fresh) out.set(m.sheet_id, m);
+  }
+  // Pairs taken with a pretest sheet the reader does not read are not its pairs.
+  for (const w of wanted) if (w.pretestSheetId === null) Object.assign(out.get(w.sheetId)!, { pairs: 0, pair_mean_y: null, pair_mean_x: null, pair_syy: null, pair_sxx: null, pair_sxy: null });
+  return out;
+}
