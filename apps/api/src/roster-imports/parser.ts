@@ -2,12 +2,12 @@ import { createHmac } from 'node:crypto';
 import { once } from 'node:events';
 import { finished } from 'node:stream/promises';
 import type { PoolClient } from 'pg';
-import { from as copyFrom } from 'pg-copy-streams';
 import type { EntityManager } from 'typeorm';
 import { emailSchema, type CsvRowIssue } from '@evenhand/entities';
 import { AppError } from '../errors.js';
 import { csvStreamBatches, type CsvRecord } from '../lib/csv.js';
 import type { Bundle, RosterFile } from './bundle.js';
+import { analyseStaging, bundleProblems, copyIntoStaging, createStagingTables, type StagingTable } from './queries.js';
 
 /**
  * Reads a OneRoster 1.1 bulk bundle into temporary tables on the transaction's connection, batch by
@@ -116,8 +116,8 @@ async function readManifest(bundle: Bundle) {
 }
 
 /** Streams one file's rows into a temporary table; `toLine` turns a record into a COPY line, or null to skip it. */
-async function copyRows(client: PoolClient, bundle: Bundle, file: RosterFile, table: string, toLine: (r: CsvRecord) => string | null): Promise<number> {
-  const copy = client.query(copyFrom(`COPY ${table} FROM STDIN`));
+async function copyRows(client: PoolClient, bundle: Bundle, file: RosterFile, table: StagingTable, toLine: (r: CsvRecord) => string | null): Promise<number> {
+  const copy = copyIntoStaging(client, table);
   const copied = finished(copy);
   let rows = 0;
   try {
@@ -150,14 +150,7 @@ async function copyRows(client: PoolClient, bundle: Bundle, file: RosterFile, ta
 export async function stageBundle(manager: EntityManager, bundle: Bundle, secret: string): Promise<void> {
   if (!manager.queryRunner) throw new Error('stageBundle runs inside a transaction');
   await readManifest(bundle);
-  await manager.query(`SET LOCAL work_mem = '64MB'`);
-  await manager.query(`CREATE TEMP TABLE roster_orgs (line int, sourced_id text, name text, type text, identifier text) ON COMMIT DROP`);
-  await manager.query(`CREATE TEMP TABLE roster_classes (line int, sourced_id text, title text, grade text, school text) ON COMMIT DROP`);
-  // Join keys are hashes: compared byte by byte ("C"), they sort without the locale's rules (the duplicate checks sort them).
-  await manager.query(`CREATE TEMP TABLE roster_users (line int, key text COLLATE "C", link bytea, role text, email text, name text, orgs text) ON COMMIT DROP`);
-  await manager.query(
-    `CREATE TEMP TABLE roster_enrolments (line int, key text COLLATE "C", class text, user_key text COLLATE "C", role text, is_primary boolean) ON COMMIT DROP`,
-  );
+  await createStagingTables(manager);
   const client = (await manager.queryRunner.connect()) as PoolClient;
   const problems = new Problems();
 
@@ -214,33 +207,7 @@ export async function stageBundle(manager: EntityManager, bundle: Bundle, secret
   });
   if (problems.total) throw refuseRows(problems.list, problems.total);
 
-  // Statistics for the join columns only, from a small sample (row counts and distinct keys are what the plans need):
-  // the checks and the preview then plan hash joins.
-  await manager.query(`SET LOCAL default_statistics_target = 10`);
-  await manager.query(`ANALYZE roster_orgs, roster_classes, roster_users (key, role), roster_enrolments (class, user_key, role)`);
-  const found: { file: RosterFile; line: number; col: string; message: string; total: number }[] = await manager.query(
-    `WITH issues AS (
-       SELECT 'orgs.csv' AS file, line, 'sourcedId' AS col, format('sourcedId %s is also on line %s', sourced_id, first) AS message
-         FROM roster_orgs JOIN (SELECT sourced_id, min(line) AS first FROM roster_orgs GROUP BY 1 HAVING count(*) > 1) d USING (sourced_id) WHERE line <> first
-       UNION ALL
-       SELECT 'classes.csv', line, 'sourcedId', format('sourcedId %s is also on line %s', sourced_id, first)
-         FROM roster_classes JOIN (SELECT sourced_id, min(line) AS first FROM roster_classes GROUP BY 1 HAVING count(*) > 1) d USING (sourced_id) WHERE line <> first
-       UNION ALL
-       SELECT 'users.csv', line, 'sourcedId', format('the same sourcedId is also on line %s', first)
-         FROM roster_users JOIN (SELECT key, min(line) AS first FROM roster_users GROUP BY 1 HAVING count(*) > 1) d USING (key) WHERE line <> first
-       UNION ALL
-       SELECT 'enrollments.csv', line, 'sourcedId', format('the same sourcedId is also on line %s', first)
-         FROM roster_enrolments JOIN (SELECT key, min(line) AS first FROM roster_enrolments GROUP BY 1 HAVING count(*) > 1) d USING (key) WHERE line <> first
-       UNION ALL
-       SELECT 'classes.csv', c.line, 'schoolSourcedId', format('schoolSourcedId %s is not a school in orgs.csv', c.school)
-         FROM roster_classes c WHERE NOT EXISTS (SELECT 1 FROM roster_orgs o WHERE o.sourced_id = c.school AND o.type = 'school')
-       UNION ALL
-       SELECT 'enrollments.csv', e.line, 'classSourcedId', format('classSourcedId %s is not in classes.csv', e.class)
-         FROM roster_enrolments e WHERE NOT EXISTS (SELECT 1 FROM roster_classes c WHERE c.sourced_id = e.class)
-       UNION ALL
-       SELECT 'enrollments.csv', e.line, 'userSourcedId', 'userSourcedId is not in users.csv'
-         FROM roster_enrolments e WHERE NOT EXISTS (SELECT 1 FROM roster_users u WHERE u.key = e.user_key))
-     SELECT file, line, col, message, count(*) OVER ()::int AS total FROM issues ORDER BY file, line LIMIT ${REPORTED}`,
-  );
+  await analyseStaging(manager);
+  const found = await bundleProblems(manager, REPORTED);
   if (found.length) throw refuseRows(found.map((f) => ({ row: f.line, column: `${f.file}: ${f.col}`, message: f.message })), found[0].total);
 }
