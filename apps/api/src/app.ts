@@ -10,9 +10,9 @@ import { evidenceRouter } from './evidence/router.js';
 import { classroomsRouter } from './classrooms/router.js';
 import { rosterImportsRouter } from './roster-imports/router.js';
 import { digestsRouter } from './digests/router.js';
-import { drawsRouter } from './draws/router.js';
+import { drawRouter } from './draw/router.js';
 import { measuresRouter } from './measures/router.js';
-import { plansRouter } from './plans/router.js';
+import { planRouter } from './plan/router.js';
 import { runsRouter } from './runs/router.js';
 import { scoreSheetsRouter } from './score-sheets/router.js';
 import { studiesRouter } from './studies/router.js';
@@ -47,12 +47,12 @@ export function createApp(deps: Deps) {
     districtSignInRouter(deps, registry),
     accountsRouter(deps, registry),
     studiesRouter(deps, registry),
-    plansRouter(deps, registry),
+    planRouter(deps, registry),
     measuresRouter(deps, registry),
     sitesRouter(deps, registry),
     classroomsRouter(deps, registry),
     rosterImportsRouter(deps, registry),
-    drawsRouter(deps, registry),
+    drawRouter(deps, registry),
     scoreSheetsRouter(deps, registry),
     runsRouter(deps, registry),
     checksRouter(deps, registry),

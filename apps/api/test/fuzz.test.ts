@@ -52,7 +52,7 @@ beforeAll(async () => {
   t = await startTestApp();
   s = await createStudy(t.app);
   await enrolClassrooms(s, 1, 2, ['teacher1@evenhand.test']);
-  await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draws`, { seed: 'fuzz', commit: true }, 201);
+  await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draw`, { seed: 'fuzz', commit: true }, 201);
   await s.coordinator.agent.get(`/api/studies/${s.studyId}/completion`).expect(200);
   coordinator = s.coordinator;
   teacher = await signIn(t.app, 'teacher1@evenhand.test');

@@ -9,7 +9,7 @@ export * from './schemas/sites.js';
 export * from './schemas/studies.js';
 export * from './schemas/plan.js';
 export * from './schemas/classrooms.js';
-export * from './schemas/draws.js';
+export * from './schemas/draw.js';
 export * from './schemas/score-sheets.js';
 export * from './schemas/accounting.js';
 export * from './schemas/runs.js';

@@ -11,8 +11,8 @@ describe('audit trail', () => {
   it('lists events newest first, filtered by study, for admins, leads and reviewers', async () => {
     const admin = await signIn(t.app, 'admin@evenhand.test');
     const lead = await signIn(t.app, 'lead@evenhand.test');
-    await admin.agent.patch(`/api/users/${lead.userId}`).set('x-csrf-token', admin.csrf).send({ name: 'Leigh Marsh' });
-    await admin.agent.patch(`/api/users/${lead.userId}`).set('x-csrf-token', admin.csrf).send({ name: 'Leigh Pennyquill' });
+    await admin.agent.patch(`/api/accounts/${lead.userId}`).set('x-csrf-token', admin.csrf).send({ name: 'Leigh Marsh' });
+    await admin.agent.patch(`/api/accounts/${lead.userId}`).set('x-csrf-token', admin.csrf).send({ name: 'Leigh Pennyquill' });
     const res = await lead.agent.get('/api/audit?limit=2');
     expect(res.status).toBe(200);
     expect(res.body.items.map((e: { after: unknown }) => e.after)).toEqual(['Leigh Pennyquill', 'Leigh Marsh']);

@@ -1,7 +1,7 @@
 import type { DataSource } from 'typeorm';
 import { baselineEquivalence, baselineEquivalenceYesNo, coxIndexFromCounts, hedgesGFromSummary, normalQuantile } from '@evenhand/stats';
 import type { Accounting, SessionUser } from '@evenhand/entities';
-import { currentPlan } from '../plans/service.js';
+import { currentPlan } from '../plan/service.js';
 import { findVisibleStudy } from '../studies/access.js';
 import { accountFor, needsPretest } from '../runs/accounting.js';
 import { ensureSheets } from '../score-sheets/queries.js';

@@ -18,7 +18,7 @@ beforeAll(async () => {
   await owner.connect();
   s = await createStudy(t.app);
   await enrolClassrooms(s, 1, 4);
-  await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draws`, { seed: 'guards', commit: true }, 201);
+  await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draw`, { seed: 'guards', commit: true }, 201);
   await s.coordinator.agent.get(`/api/studies/${s.studyId}/completion`).expect(200);
   rooms.push(...(await t.db.query(`SELECT id, arm FROM classrooms WHERE study_id = $1 ORDER BY arm, id`, [s.studyId])));
   for (const [k, c] of rooms.entries()) {

@@ -72,7 +72,7 @@ beforeAll(async () => {
   await startWorkers(t.jobs, t.db, logger, 0.5, { mailer, config: t.config, schedule: false, delivery: { maxAttempts: 3, baseDelaySeconds: 1, maxDelaySeconds: 2 } });
   s = await createStudy(t.app);
   const { classrooms } = await enrolClassrooms(s, 2, 4);
-  await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draws`, { seed: 'digests-test', commit: true }, 201);
+  await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draw`, { seed: 'digests-test', commit: true }, 201);
   await s.coordinator.agent.get(`/api/studies/${s.studyId}/completion`).expect(200);
   const arms: { id: string; arm: string; site_id: string; site_name: string }[] = await t.db.query(
     `SELECT c.id, c.arm, c.site_id, x.name AS site_name FROM classrooms c JOIN sites x ON x.id = c.site_id WHERE c.study_id = $1 ORDER BY x.name, c.name`,

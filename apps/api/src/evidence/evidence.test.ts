@@ -27,7 +27,7 @@ beforeAll(async () => {
   await send(s.lead, 'put', `/api/studies/${s.studyId}/plan`, { ...samplePlan(s.measureId, s.outcomeId), ...(plan ?? {}), primaryTest: 'two-level' }, 200);
   await send(s.lead, 'post', `/api/studies/${s.studyId}/plan/seal`, {}, 200);
   ({ classrooms } = await enrolClassrooms(s, 3, 4));
-  await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draws`, { seed: 'evidence-verdict', commit: true }, 201);
+  await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draw`, { seed: 'evidence-verdict', commit: true }, 201);
   await s.coordinator.agent.get(`/api/studies/${s.studyId}/completion`).expect(200);
   const arms: { id: string; arm: string }[] = await t.db.query(`SELECT id, arm FROM classrooms WHERE study_id = $1`, [s.studyId]);
   lost = arms.find((a) => a.arm === 'intervention')!.id;

@@ -14,7 +14,7 @@ import {
 } from '@evenhand/entities';
 import { DrawEntity, PlanDraftEntity, WaveEntity, type StudyEntity } from '@evenhand/entities/orm';
 import { accountingOf, studyChecks } from '../checks/service.js';
-import { currentPlan } from '../plans/service.js';
+import { currentPlan } from '../plan/service.js';
 import { needsPretest } from '../runs/accounting.js';
 import { listComparisons } from '../runs/comparisons.js';
 import { findVisibleStudy } from '../studies/access.js';

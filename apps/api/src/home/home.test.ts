@@ -42,7 +42,7 @@ describe('the to-do list on a person’s home', () => {
   it('when classrooms are enrolled, then the coordinator is asked to run the draw, and no longer once it is committed', async () => {
     await enrolClassrooms(s, 2, 2);
     expect(kindsFor(await toDo(s.coordinator), s.studyId)).toEqual([['draw_to_run', 1]]);
-    await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draws`, { seed: 'to-do-list', commit: true }, 201);
+    await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draw`, { seed: 'to-do-list', commit: true }, 201);
     expect(kindsFor(await toDo(s.coordinator), s.studyId)).toEqual([]);
   });
 

@@ -36,7 +36,7 @@ describe('text that is not plain text', () => {
       [s.lead, 'patch', `/api/studies/${s.studyId}`, { intervention: `Paired ${NUL} reading` }, 'intervention'],
       [s.coordinator, 'patch', `/api/classrooms/${classrooms[0].id}`, { name: `Room${NUL}` }, 'name'],
       [s.coordinator, 'post', `/api/studies/${s.studyId}/cohorts`, { name: `Grade 5${NUL}` }, 'name'],
-      [admin, 'post', '/api/users', { email: 'nul.test@example.org', name: `Ada${NUL}`, roles: [{ role: 'reviewer' }] }, 'name'],
+      [admin, 'post', '/api/accounts', { email: 'nul.test@example.org', name: `Ada${NUL}`, roles: [{ role: 'reviewer' }] }, 'name'],
       [teacher, 'put', `/api/score-sheets/${sheetId}`, { rows: [{ studentCode: 'NU-1', score: 50, note: `absent${NUL}` }] }, 'rows.0.note'],
     ];
     for (const [who, method, url, body, field] of cases) {
@@ -60,11 +60,10 @@ describe('text that is not plain text', () => {
   });
 
   it('refuses a lone UTF-16 surrogate in fields that go into the audit trail', async () => {
-    await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draws`, { seed: 'bad-input', commit: true }, 201);
-    const drawId = (await s.coordinator.agent.get(`/api/studies/${s.studyId}/draws`)).body.items[0].id;
+    await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draw`, { seed: 'bad-input', commit: true }, 201);
     const before = await auditCount();
     const reassign = await s.coordinator.agent
-      .post(`/api/draws/${drawId}/reassignments`)
+      .post(`/api/studies/${s.studyId}/draw/reassignments`)
       .set('x-csrf-token', s.coordinator.csrf)
       .send({ classroomId: classrooms[0].id, arm: 'comparison', reason: `The teacher left ${LONE} mid-year.` });
     expect(reassign.status).toBe(400);
@@ -89,7 +88,7 @@ describe('clashes and forged tokens', () => {
   it('makes one account from 20 simultaneous invitations of one e-mail address; the others get 409, none 500', async () => {
     const email = `race-${randomBytes(4).toString('hex')}@example.org`;
     const answers = await Promise.all(
-      Array.from({ length: 20 }, () => admin.agent.post('/api/users').set('x-csrf-token', admin.csrf).send({ email, name: 'Rae Simultaneous', roles: [{ role: 'reviewer' }] })),
+      Array.from({ length: 20 }, () => admin.agent.post('/api/accounts').set('x-csrf-token', admin.csrf).send({ email, name: 'Rae Simultaneous', roles: [{ role: 'reviewer' }] })),
     );
     const statuses = answers.map((a) => a.status).sort();
     expect(statuses.filter((x) => x === 201)).toHaveLength(1);

@@ -12,7 +12,7 @@ type Method = 'get' | 'post' | 'put' | 'patch' | 'delete';
 
 export interface RouteSpec<P extends z.ZodType, Q extends z.ZodType, B extends z.ZodType> {
   method: Method;
-  /** Express-style path relative to /api, e.g. `/users/:id`. */
+  /** Express-style path relative to /api, e.g. `/accounts/:id`. */
   path: string;
   summary: string;
   access: Access;

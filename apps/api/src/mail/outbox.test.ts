@@ -49,7 +49,7 @@ describe('the outbox', () => {
   it('when the mail server is down, then an invitation waits in the outbox and, once it is up, arrives exactly once, audited', async () => {
     const email = uniqueAddress('outbox-invitee');
     const [{ id: siteId }] = await t.db.query(`SELECT id FROM sites ORDER BY code LIMIT 1`);
-    const res = await admin.agent.post('/api/users').set('x-csrf-token', admin.csrf).send({ email, name: 'Ottilie Brambleford', roles: [{ role: 'teacher', siteId }] });
+    const res = await admin.agent.post('/api/accounts').set('x-csrf-token', admin.csrf).send({ email, name: 'Ottilie Brambleford', roles: [{ role: 'teacher', siteId }] });
     expect(res.status).toBe(201);
 
     // The server is down: the first attempt fails and the message waits for its retry.

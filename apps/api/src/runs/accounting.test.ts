@@ -26,7 +26,7 @@ describe('who was analysed and who was lost', () => {
     await send(s.lead, 'put', `/api/studies/${s.studyId}/plan`, { ...samplePlan(s.measureId, s.outcomeId), primaryTest: 'two-level', covariate: 'baseline' }, 200);
     await send(s.lead, 'post', `/api/studies/${s.studyId}/plan/seal`, {}, 200);
     await enrolClassrooms(s, 2, 6);
-    await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draws`, { seed: 'accounting-test', commit: true }, 201);
+    await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draw`, { seed: 'accounting-test', commit: true }, 201);
     await s.coordinator.agent.get(`/api/studies/${s.studyId}/completion`).expect(200);
     const drawn: { id: string; arm: Arm }[] = await t.db.query(`SELECT id, arm FROM classrooms WHERE study_id = $1 ORDER BY arm, id`, [s.studyId]);
     const byArm = { intervention: drawn.filter((c) => c.arm === 'intervention'), comparison: drawn.filter((c) => c.arm === 'comparison') };

@@ -2,7 +2,7 @@ import type { DataSource, EntityManager } from 'typeorm';
 import type { Comparison, ComparisonSchedule, CreateComparison, SessionUser } from '@evenhand/entities';
 import { recordAudit } from '../audit/service.js';
 import { AppError } from '../errors.js';
-import { currentPlan } from '../plans/service.js';
+import { currentPlan } from '../plan/service.js';
 import { findVisibleStudy } from '../studies/access.js';
 import { comparisonSelect, latestFinishedRunsSql, latestRunsSql, toRun, type ComparisonRow, type RunRow } from './queries.js';
 import { checkSchedule, nextSlot, windowOf } from './schedule.js';

@@ -13,7 +13,7 @@ beforeAll(async () => {
   t = await startTestApp({ workers: true });
   s = await createStudy(t.app);
   const { classrooms } = await enrolClassrooms(s, 2, 2);
-  await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draws`, { seed: 'locked-answers', commit: true }, 201);
+  await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draw`, { seed: 'locked-answers', commit: true }, 201);
   await s.coordinator.agent.get(`/api/studies/${s.studyId}/completion`).expect(200);
   let k = 0;
   for (const c of classrooms) {

@@ -65,7 +65,7 @@ beforeAll(async () => {
   s = await createStudy(t.app);
   await send(s.lead, 'post', `/api/studies/${s.studyId}/measures`, { name: 'Extra', minScore: 0, maxScore: 10 }, 409); // sealed: no new measures
   const { classrooms } = await enrolClassrooms(s, 2, 4);
-  await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draws`, { seed: 'runs-test', commit: true }, 201);
+  await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draw`, { seed: 'runs-test', commit: true }, 201);
   await s.coordinator.agent.get(`/api/studies/${s.studyId}/completion`).expect(200); // creates the score sheets
   const arms: { id: string; arm: string }[] = await t.db.query(`SELECT id, arm FROM classrooms WHERE study_id = $1 ORDER BY name, id`, [s.studyId]);
   let k = 0;
@@ -238,10 +238,9 @@ describe('comparison runs', () => {
 
   it('refuses a reassignment of a classroom a locked result read (409 naming it): the bundle, its hash and the study stay as they were', async () => {
     const before = (await reviewer.agent.get(`/api/runs/${runId}/bundle`)).body;
-    const [draw] = (await s.coordinator.agent.get(`/api/studies/${s.studyId}/draws`)).body.items;
     const [room] = await t.db.query(`SELECT id, arm FROM classrooms WHERE study_id = $1 ORDER BY name, id LIMIT 1`, [s.studyId]);
     const res = await s.coordinator.agent
-      .post(`/api/draws/${draw.id}/reassignments`)
+      .post(`/api/studies/${s.studyId}/draw/reassignments`)
       .set('x-csrf-token', s.coordinator.csrf)
       .send({ classroomId: room.id, arm: room.arm === 'intervention' ? 'comparison' : 'intervention', reason: 'The teacher moved to the other programme mid-year.' });
     expect(res.status).toBe(409);
@@ -297,7 +296,7 @@ describe('comparison runs', () => {
   it('ends a run whose arm has one student as failed, with a clear message', async () => {
     const other = await createStudy(t.app);
     const { classrooms } = await enrolClassrooms(other, 1, 2);
-    await send(other.coordinator, 'post', `/api/studies/${other.studyId}/draws`, { commit: true }, 201);
+    await send(other.coordinator, 'post', `/api/studies/${other.studyId}/draw`, { commit: true }, 201);
     await other.coordinator.agent.get(`/api/studies/${other.studyId}/completion`).expect(200);
     const [a, b] = await t.db.query(`SELECT id FROM classrooms WHERE study_id = $1 ORDER BY arm`, [other.studyId]);
     await fill(a.id, other.outcomeId, other.measureId, [50, 60, 70], 'F1');
@@ -313,7 +312,7 @@ describe('comparison runs', () => {
   it('finishes a run whose classroom means are identical within each arm; the classroom-means check says it could not be computed and why', async () => {
     const other = await createStudy(t.app);
     await enrolClassrooms(other, 1, 4);
-    await send(other.coordinator, 'post', `/api/studies/${other.studyId}/draws`, { seed: 'equal-means', commit: true }, 201);
+    await send(other.coordinator, 'post', `/api/studies/${other.studyId}/draw`, { seed: 'equal-means', commit: true }, 201);
     await other.coordinator.agent.get(`/api/studies/${other.studyId}/completion`).expect(200);
     const rooms: { id: string; arm: string }[] = await t.db.query(`SELECT id, arm FROM classrooms WHERE study_id = $1 ORDER BY arm, id`, [other.studyId]);
     const raw: Record<string, number[]> = { intervention: [], comparison: [] };
@@ -337,7 +336,7 @@ describe('comparison runs', () => {
   it('puts a summary-only classroom in the bundle and the data hash, and the bundle alone recomputes the primary result', async () => {
     const other = await createStudy(t.app);
     await enrolClassrooms(other, 2, 2);
-    await send(other.coordinator, 'post', `/api/studies/${other.studyId}/draws`, { seed: 'summary-bundle', commit: true }, 201);
+    await send(other.coordinator, 'post', `/api/studies/${other.studyId}/draw`, { seed: 'summary-bundle', commit: true }, 201);
     await other.coordinator.agent.get(`/api/studies/${other.studyId}/completion`).expect(200);
     const rooms: { id: string; arm: string }[] = await t.db.query(`SELECT id, arm FROM classrooms WHERE study_id = $1 ORDER BY arm, name, id`, [other.studyId]);
     const raw: Record<string, number[]> = { intervention: [], comparison: [] };
@@ -393,7 +392,7 @@ describe('comparison runs', () => {
   it('keeps in a finished run’s bundle the arms it read after a reassignment, and refuses to lock it until it is run again', async () => {
     const other = await createStudy(t.app);
     await enrolClassrooms(other, 1, 4);
-    await send(other.coordinator, 'post', `/api/studies/${other.studyId}/draws`, { seed: 'arms-read', commit: true }, 201);
+    await send(other.coordinator, 'post', `/api/studies/${other.studyId}/draw`, { seed: 'arms-read', commit: true }, 201);
     await other.coordinator.agent.get(`/api/studies/${other.studyId}/completion`).expect(200);
     const rooms: { id: string; arm: string }[] = await t.db.query(`SELECT id, arm FROM classrooms WHERE study_id = $1 ORDER BY arm, id`, [other.studyId]);
     for (const [k, c] of rooms.entries()) await fill(c.id, other.outcomeId, other.measureId, Array.from({ length: 6 }, (_, i) => 40 + ((i * 7 + k * 5) % 19)), `A${k}`);
@@ -402,9 +401,8 @@ describe('comparison runs', () => {
     const run = await waitFor(queued.run.id, other.lead);
     expect(run).toMatchObject({ state: 'finished', error: null });
     const before = (await other.lead.agent.get(`/api/runs/${run.id}/bundle`)).body;
-    const [draw] = (await other.coordinator.agent.get(`/api/studies/${other.studyId}/draws`)).body.items;
     const moved = rooms[0];
-    await send(other.coordinator, 'post', `/api/draws/${draw.id}/reassignments`, { classroomId: moved.id, arm: moved.arm === 'intervention' ? 'comparison' : 'intervention', reason: 'The school swapped this teacher’s programme.' }, 201);
+    await send(other.coordinator, 'post', `/api/studies/${other.studyId}/draw/reassignments`, { classroomId: moved.id, arm: moved.arm === 'intervention' ? 'comparison' : 'intervention', reason: 'The school swapped this teacher’s programme.' }, 201);
     const after = (await other.lead.agent.get(`/api/runs/${run.id}/bundle`)).body;
     expect(after.rows).toEqual(before.rows);
     expect(after.rows.filter((line: string) => line.startsWith(moved.id)).every((line: string) => line.split(',')[1] === moved.arm)).toBe(true);
@@ -418,7 +416,7 @@ describe('comparison runs', () => {
   it('tests normality of an arm above 5 000 students on a seeded sample that the bundle alone reproduces', async () => {
     const other = await createStudy(t.app);
     await enrolClassrooms(other, 1, 2);
-    await send(other.coordinator, 'post', `/api/studies/${other.studyId}/draws`, { seed: 'large-arm', commit: true }, 201);
+    await send(other.coordinator, 'post', `/api/studies/${other.studyId}/draw`, { seed: 'large-arm', commit: true }, 201);
     await other.coordinator.agent.get(`/api/studies/${other.studyId}/completion`).expect(200);
     const [big, small] = await t.db.query(`SELECT id, arm FROM classrooms WHERE study_id = $1 ORDER BY arm, id`, [other.studyId]);
     await fill(big.id, other.outcomeId, other.measureId, Array.from({ length: 5200 }, (_, i) => 40 + ((i * 7919) % 61)), 'L');

@@ -58,7 +58,7 @@ beforeAll(async () => {
   t = await startTestApp({ workers: true });
   s = await createStudy(t.app);
   const { classrooms } = await enrolClassrooms(s, 2, 2);
-  await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draws`, { seed: 'schedule-test', commit: true }, 201);
+  await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draw`, { seed: 'schedule-test', commit: true }, 201);
   await s.coordinator.agent.get(`/api/studies/${s.studyId}/completion`).expect(200);
   for (const [k, c] of classrooms.entries()) {
     // Submitted, not accepted: a monitoring run reads them, a confirmatory run would not.

@@ -8,7 +8,7 @@ import { createLockDigests } from '../digests/service.js';
 import { storeLockedVerdicts } from '../evidence/service.js';
 import { AppError } from '../errors.js';
 import type { Logger } from '../logger.js';
-import { currentPlan } from '../plans/service.js';
+import { currentPlan } from '../plan/service.js';
 import { findVisibleStudy, hasRole, sitesOf } from '../studies/access.js';
 import { advanceStatus } from '../studies/service.js';
 import { accountFor, needsPretest } from './accounting.js';

@@ -17,7 +17,7 @@ async function twoLevelStudy(unitOfAssignment: 'classroom' | 'school', sites: nu
   await send(s.lead, 'put', `/api/studies/${s.studyId}/plan`, { ...samplePlan(s.measureId, s.outcomeId), ...(plan ?? {}), primaryTest: 'two-level' }, 200);
   await send(s.lead, 'post', `/api/studies/${s.studyId}/plan/seal`, {}, 200);
   const { classrooms } = await enrolClassrooms(s, sites, perSite);
-  await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draws`, { seed, commit: true }, 201);
+  await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draw`, { seed, commit: true }, 201);
   await s.coordinator.agent.get(`/api/studies/${s.studyId}/completion`).expect(200);
   const arms: { id: string; arm: 'intervention' | 'comparison' }[] = await t.db.query(`SELECT id, arm FROM classrooms WHERE study_id = $1`, [s.studyId]);
   const rows = { y: [] as number[], arm: [] as number[], cluster: [] as string[], site: [] as string[], pretest: [] as number[] };

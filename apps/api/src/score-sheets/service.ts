@@ -4,7 +4,7 @@ import { ScoreSheetEntity } from '@evenhand/entities/orm';
 import { recordAudit } from '../audit/service.js';
 import { AppError } from '../errors.js';
 import { csvBatches } from '../lib/csv.js';
-import { currentPlan } from '../plans/service.js';
+import { currentPlan } from '../plan/service.js';
 import { findVisibleStudy, hasRole, sitesOf, teaches } from '../studies/access.js';
 import { ensureSheets, sheetRow, sheetScoreRows, studentsWithoutScore, visibleSheetRows, type SheetRow } from './queries.js';
 import { storeSheetDigestsAndSums } from './sums.js';

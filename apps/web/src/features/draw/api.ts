@@ -1,9 +1,7 @@
-import { drawSchema, pageOf, type DrawRequest, type Reassignment } from '@evenhand/entities';
+import { drawSchema, type DrawRequest, type Reassignment } from '@evenhand/entities';
 import { queryOptions, useMutation, useQueryClient } from '@tanstack/react-query';
 import { apiRequest } from '@/lib/api-client';
 import { studyKeys } from '@/lib/study';
-
-const drawsPageSchema = pageOf(drawSchema);
 
 // A study has at most one committed draw; previews are never stored, so they are mutations, not queries.
 export const drawKeys = {
@@ -16,17 +14,14 @@ export const drawKeys = {
 export function drawQueryOptions(studyId: string) {
   return queryOptions({
     queryKey: drawKeys.detail(studyId),
-    queryFn: async ({ signal }) => {
-      const { items } = await apiRequest(`/studies/${studyId}/draws`, { schema: drawsPageSchema, signal });
-      return items[0] ?? null;
-    },
+    queryFn: ({ signal }) => apiRequest(`/studies/${studyId}/draw`, { schema: drawSchema.nullable(), signal }),
   });
 }
 
 export function usePreviewDraw(studyId: string) {
   return useMutation({
     mutationFn: (seed: string | undefined) =>
-      apiRequest(`/studies/${studyId}/draws`, { method: 'POST', body: { seed, commit: false } satisfies DrawRequest, schema: drawSchema }),
+      apiRequest(`/studies/${studyId}/draw`, { method: 'POST', body: { seed, commit: false } satisfies DrawRequest, schema: drawSchema }),
   });
 }
 
@@ -45,7 +40,7 @@ export function useCommitDraw(studyId: string) {
   const refresh = useRefresh(studyId);
   return useMutation({
     mutationFn: (seed: string) =>
-      apiRequest(`/studies/${studyId}/draws`, { method: 'POST', body: { seed, commit: true } satisfies DrawRequest, schema: drawSchema }),
+      apiRequest(`/studies/${studyId}/draw`, { method: 'POST', body: { seed, commit: true } satisfies DrawRequest, schema: drawSchema }),
     onSuccess: refresh,
   });
 }
@@ -53,8 +48,7 @@ export function useCommitDraw(studyId: string) {
 export function useReassign(studyId: string) {
   const refresh = useRefresh(studyId);
   return useMutation({
-    mutationFn: ({ drawId, input }: { drawId: string; input: Reassignment }) =>
-      apiRequest(`/draws/${drawId}/reassignments`, { method: 'POST', body: input, schema: drawSchema }),
+    mutationFn: (input: Reassignment) => apiRequest(`/studies/${studyId}/draw/reassignments`, { method: 'POST', body: input, schema: drawSchema }),
     onSuccess: refresh,
   });
 }

@@ -211,7 +211,7 @@ export function DrawPage() {
       >
         <ReassignmentsList reassignments={committed.reassignments} classrooms={classroomList} />
         {coordinator && committed.id && (
-          <ReassignForm classrooms={classroomList} onReassign={(input) => reassign.mutateAsync({ drawId: committed.id!, input })} />
+          <ReassignForm classrooms={classroomList} onReassign={(input) => reassign.mutateAsync(input)} />
         )}
       </Section>
     </div>

@@ -4,7 +4,7 @@ import type { Deps } from '../deps.js';
 import { ResourceRouter } from '../http/route.js';
 import { amendPlan, getPlan, saveDraft, sealPlan } from './service.js';
 
-export function plansRouter(deps: Deps, registry: OpenAPIRegistry) {
+export function planRouter(deps: Deps, registry: OpenAPIRegistry) {
   const r = new ResourceRouter(registry);
   const tag = 'Plan';
   const responses = { 200: { description: 'The plan: draft or sealed versions', schema: planSchema } };

@@ -125,11 +125,11 @@ export async function drawAssignment(db: DataSource, user: SessionUser, studyId:
   });
 }
 
-/** The committed draw, re-derived from its seed on every read so anyone can see it is what the seed gives. */
-export async function listDraws(db: DataSource, user: SessionUser, studyId: string): Promise<{ items: Draw[]; total: number }> {
+/** The committed draw, re-derived from its seed on every read so anyone can see it is what the seed gives; null before it is committed. */
+export async function readDraw(db: DataSource, user: SessionUser, studyId: string): Promise<Draw | null> {
   const study = await findVisibleStudy(db.manager, user, studyId);
   const saved = await db.manager.findOneBy(DrawEntity, { studyId });
-  if (!saved) return { items: [], total: 0 };
+  if (!saved) return null;
   const d = await design(db.manager, study);
   const names = d.names;
   const rederived = run(saved.seed, saved.blocks);
@@ -162,7 +162,7 @@ export async function listDraws(db: DataSource, user: SessionUser, studyId: stri
       at: new Date(r.at).toISOString(),
     })),
   };
-  return { items: [draw], total: 1 };
+  return draw;
 }
 
 /**
@@ -183,28 +183,27 @@ async function refuseIfLockedResultReads(manager: EntityManager, studyId: string
 }
 
 /** A manual change of one classroom's arm: needs a reason, is audited, and makes the study quasi-experimental. */
-export async function reassign(db: DataSource, user: SessionUser, drawId: string, input: Reassignment): Promise<Draw> {
-  const studyId = await db.transaction(async (manager) => {
-    const saved = await manager.findOneBy(DrawEntity, { id: drawId });
-    if (!saved) throw AppError.notFound('The draw');
-    await findVisibleStudy(manager, user, saved.studyId, true);
-    const classroom = await manager.findOneBy(ClassroomEntity, { id: input.classroomId, studyId: saved.studyId });
+export async function reassign(db: DataSource, user: SessionUser, studyId: string, input: Reassignment): Promise<Draw> {
+  await db.transaction(async (manager) => {
+    await findVisibleStudy(manager, user, studyId, true);
+    const saved = await manager.findOneBy(DrawEntity, { studyId });
+    if (!saved) throw AppError.conflict('The study has no committed draw yet; commit the draw before reassigning a classroom');
+    const classroom = await manager.findOneBy(ClassroomEntity, { id: input.classroomId, studyId: studyId });
     if (!classroom) throw AppError.validation('Choose a classroom of this study', [{ path: 'classroomId', message: 'Not a classroom of this study' }]);
     if (classroom.arm === input.arm) throw AppError.validation(`This classroom is already in the ${input.arm} arm`, [{ path: 'arm', message: 'No change' }]);
-    await refuseIfLockedResultReads(manager, saved.studyId, classroom.id);
-    await manager.insert(DrawReassignmentEntity, { drawId, classroomId: classroom.id, fromArm: classroom.arm!, arm: input.arm, reason: input.reason, by: user.id });
+    await refuseIfLockedResultReads(manager, studyId, classroom.id);
+    await manager.insert(DrawReassignmentEntity, { drawId: saved.id, classroomId: classroom.id, fromArm: classroom.arm!, arm: input.arm, reason: input.reason, by: user.id });
     await manager.update(ClassroomEntity, classroom.id, { arm: input.arm });
-    await manager.update(StudyEntity, saved.studyId, { quasiExperimental: true });
+    await manager.update(StudyEntity, studyId, { quasiExperimental: true });
     await recordAudit(manager, {
       actorId: user.id,
-      studyId: saved.studyId,
+      studyId: studyId,
       action: 'draw.reassigned',
       entityType: 'classroom',
       entityId: classroom.id,
       before: { arm: classroom.arm },
       after: { arm: input.arm, reason: input.reason },
     });
-    return saved.studyId;
   });
-  return (await listDraws(db, user, studyId)).items[0];
+  return (await readDraw(db, user, studyId))!;
 }

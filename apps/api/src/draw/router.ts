@@ -1,17 +1,17 @@
 import type { OpenAPIRegistry } from '@asteasolutions/zod-to-openapi';
-import { drawRequestSchema, drawSchema, idParamsSchema, pageOf, reassignmentSchema, studyParamsSchema, studyReaderRoles } from '@evenhand/entities';
+import { drawRequestSchema, drawSchema, reassignmentSchema, studyParamsSchema, studyReaderRoles } from '@evenhand/entities';
 import type { Deps } from '../deps.js';
 import { ResourceRouter } from '../http/route.js';
-import { drawAssignment, listDraws, reassign } from './service.js';
+import { drawAssignment, readDraw, reassign } from './service.js';
 
-export function drawsRouter(deps: Deps, registry: OpenAPIRegistry) {
+export function drawRouter(deps: Deps, registry: OpenAPIRegistry) {
   const r = new ResourceRouter(registry);
   const tag = 'Draw';
 
   r.route(
     {
       method: 'post',
-      path: '/studies/:id/draws',
+      path: '/studies/:id/draw',
       summary: 'Preview (commit: false) or commit the seeded random assignment, blocked by site',
       access: ['coordinator'],
       tag,
@@ -31,24 +31,24 @@ export function drawsRouter(deps: Deps, registry: OpenAPIRegistry) {
   r.route(
     {
       method: 'get',
-      path: '/studies/:id/draws',
-      summary: 'The committed draw with its balance table, re-derived from the seed (`verified`)',
+      path: '/studies/:id/draw',
+      summary: 'The committed draw with its balance table, re-derived from the seed (`verified`); null before it is committed',
       access: studyReaderRoles,
       tag,
       params: studyParamsSchema,
-      responses: { 200: { description: 'The draw (none before it is committed)', schema: pageOf(drawSchema) } },
+      responses: { 200: { description: 'The draw, or null before it is committed', schema: drawSchema.nullable() } },
     },
-    async ({ user, params }) => ({ body: await listDraws(deps.db, user!, params.id) }),
+    async ({ user, params }) => ({ body: await readDraw(deps.db, user!, params.id) }),
   );
 
   r.route(
     {
       method: 'post',
-      path: '/draws/:id/reassignments',
+      path: '/studies/:id/draw/reassignments',
       summary: 'Move one classroom to the other arm, with a reason; marks the study quasi-experimental',
       access: ['coordinator'],
       tag,
-      params: idParamsSchema,
+      params: studyParamsSchema,
       body: reassignmentSchema,
       responses: { 201: { description: 'The draw with the reassignment recorded', schema: drawSchema } },
     },
