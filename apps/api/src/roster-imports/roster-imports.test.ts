@@ -357,6 +357,11 @@ describe('refusing bad bundles: a clear 4xx and nothing changes', () => {
     expect(error.message).toBe('The choice of schools and classes does not fit the bundle');
   });
 
+  it('refuses a choice that names the same class twice (400, not a database error)', async () => {
+    const error = await refusedWith(zip(good()), 400, { schools: ['org-ald'], classes: ['cls-ald-1', 'cls-ald-1'] });
+    expect((error.details as { issues?: unknown }).issues).toEqual([{ path: 'classes', message: 'Class cls-ald-1 is chosen twice' }]);
+  });
+
   it('refuses the preview to a teacher (403)', async () => {
     const { signIn } = await import('../../test/app.js');
     const teacher = await signIn(t.app, 'teacher1@evenhand.test');

@@ -146,11 +146,14 @@ export async function commitRoster(deps: Deps, actor: SessionUser, studyId: stri
     const schools = new Map(preview.schools.map((s) => [s.sourcedId, s]));
     const classes = new Map(preview.schools.flatMap((s) => s.classes.map((c) => [c.sourcedId, { ...c, school: s.sourcedId }] as const)));
     for (const id of selection.schools) if (!schools.has(id)) issues.push({ path: 'schools', message: `School ${id} is not in the bundle` });
+    const named = new Set<string>();
     for (const id of selection.classes) {
       const c = classes.get(id);
-      if (!c) issues.push({ path: 'classes', message: `Class ${id} is not in the bundle` });
+      if (named.has(id)) issues.push({ path: 'classes', message: `Class ${id} is chosen twice` });
+      else if (!c) issues.push({ path: 'classes', message: `Class ${id} is not in the bundle` });
       else if (!selection.schools.includes(c.school)) issues.push({ path: 'classes', message: `Class “${c.title}” belongs to a school that was not chosen` });
       else if (c.blocked) issues.push({ path: 'classes', message: `Class “${c.title}” cannot take part: ${c.blocked}` });
+      named.add(id);
     }
     for (const id of Object.keys(selection.principals ?? {})) {
       const school = schools.get(id);
