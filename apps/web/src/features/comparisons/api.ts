@@ -16,14 +16,18 @@ import { apiRequest } from '@/lib/api-client';
 const comparisonsPageSchema = pageOf(comparisonSchema);
 const queuedRunSchema = z.object({ run: runSchema });
 
-// A comparison has no single read of its own; its runs do, so runs are this feature's details.
+// A comparison has no single read of its own (a study's list carries each one whole); a run does.
 export const comparisonKeys = {
   all: ['comparisons'] as const,
   lists: () => [...comparisonKeys.all, 'list'] as const,
   list: (studyId: string) => [...comparisonKeys.lists(), studyId] as const,
-  details: () => [...comparisonKeys.all, 'run'] as const,
-  detail: (runId: string) => [...comparisonKeys.details(), runId] as const,
   choices: (studyId: string) => [...comparisonKeys.all, 'choices', studyId] as const,
+};
+
+export const runKeys = {
+  all: ['runs'] as const,
+  details: () => [...runKeys.all, 'detail'] as const,
+  detail: (runId: string) => [...runKeys.details(), runId] as const,
 };
 
 export function comparisonsQueryOptions(studyId: string) {
@@ -38,7 +42,7 @@ export const inProgress = (state: Run['state'] | undefined) => state === 'queued
 /** One run; asked again every second and a half while it waits or runs, until it finishes or fails. */
 export function runQueryOptions(runId: string) {
   return queryOptions({
-    queryKey: comparisonKeys.detail(runId),
+    queryKey: runKeys.detail(runId),
     queryFn: ({ signal }) => apiRequest(`/runs/${runId}`, { schema: runSchema, signal }),
     refetchInterval: (query) => (inProgress(query.state.data?.state) ? 1_500 : false),
   });
@@ -65,7 +69,7 @@ export function useQueueRun(studyId: string) {
     mutationFn: ({ comparisonId, input }: { comparisonId: string; input: QueueRun }) =>
       apiRequest(`/comparisons/${comparisonId}/runs`, { method: 'POST', body: input, schema: queuedRunSchema }),
     onSuccess: ({ run }) => {
-      queryClient.setQueryData(comparisonKeys.detail(run.id), run);
+      queryClient.setQueryData(runKeys.detail(run.id), run);
       return queryClient.invalidateQueries({ queryKey: comparisonKeys.list(studyId) });
     },
   });
@@ -76,7 +80,7 @@ export function useLockRun(studyId: string) {
   return useMutation({
     mutationFn: (runId: string) => apiRequest(`/runs/${runId}/lock`, { method: 'POST', schema: runSchema }),
     onSuccess: (run) => {
-      queryClient.setQueryData(comparisonKeys.detail(run.id), run);
+      queryClient.setQueryData(runKeys.detail(run.id), run);
       return queryClient.invalidateQueries({ queryKey: comparisonKeys.list(studyId) });
     },
   });
