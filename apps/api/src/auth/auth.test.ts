@@ -144,6 +144,22 @@ describe('sessions', () => {
     expect((await request(t.app).get('/api/auth/me').set('authorization', `Bearer ${again.token}`)).status).toBe(401);
   });
 
+  it('when a token already checked (kept in memory) has its session ended or its account deactivated, then the very next request is refused', async () => {
+    const admin = await signIn(t.app, 'admin@evenhand.test');
+    const me = (token: string) => request(t.app).get('/api/auth/me').set('authorization', `Bearer ${token}`);
+    const s = await signIn(t.app, 'teacher7@evenhand.test');
+    await me(s.token).expect(200);
+    await me(s.token).expect(200);
+    await s.agent.post('/api/auth/logout').set('x-csrf-token', s.csrf).expect(204);
+    expect((await me(s.token)).body.error.message).toMatch(/session has ended/);
+    const again = await signIn(t.app, 'teacher7@evenhand.test');
+    await me(again.token).expect(200);
+    await admin.agent.patch(`/api/accounts/${again.userId}`).set('x-csrf-token', admin.csrf).send({ active: false }).expect(200);
+    const refused = await me(again.token);
+    expect(refused.status).toBe(401);
+    expect(refused.body.error.message).toMatch(/no longer active|session has ended/);
+  });
+
   it('when a token is older than the absolute lifetime, then it is refused, and a renewal never goes past that lifetime', async () => {
     const s = await signIn(t.app, 'lead@evenhand.test');
     const { jti, sv, auth_time } = jwt.decode(s.token) as { jti: string; sv: number; auth_time: number };

@@ -1,11 +1,11 @@
 import { timingSafeEqual } from 'node:crypto';
-import type { RequestHandler } from 'express';
+import type { Request, RequestHandler, Response } from 'express';
 import type { SessionUser } from '@evenhand/entities';
 import type { Deps } from '../deps.js';
 import { AppError } from '../errors.js';
 import type { Access } from '../http/route.js';
-import { checkSession } from './service.js';
-import { CSRF_HEADER, csrfTokenFor, renewSession, SESSION_COOKIE, setSessionCookies, verifySession } from './session.js';
+import { checkSession, type SessionCheck } from './service.js';
+import { CSRF_HEADER, csrfTokenFor, renewSession, SESSION_COOKIE, setSessionCookies, verifySession, type SessionClaims } from './session.js';
 
 declare global {
   // eslint-disable-next-line @typescript-eslint/no-namespace
@@ -24,7 +24,24 @@ declare global {
 
 /** Reads the bearer token or the session cookie; never rejects by itself (routes decide, via `authorize`). */
 export function authenticate({ config, db }: Deps): RequestHandler {
-  return async (req, res, next) => {
+  function admit(req: Request, res: Response, claims: SessionClaims, via: 'cookie' | 'bearer', session: SessionCheck): void {
+    if ('problem' in session) {
+      req.authProblem = session.problem;
+      return;
+    }
+    req.user = session.user;
+    req.authVia = via;
+    // Only a cookie caller is asked for it (a bearer token cannot be sent by another site's page).
+    if (via === 'cookie') req.csrfToken = csrfTokenFor(config, claims.jti);
+    // Sliding session for the browser: renew once half of the lifetime has passed, within the sign-in's absolute lifetime.
+    const remaining = claims.exp * 1000 - Date.now();
+    if (via === 'cookie' && remaining < (config.sessionMinutes * 60 * 1000) / 2) {
+      const renewed = renewSession(config, claims);
+      if (renewed) setSessionCookies(res, config, renewed);
+    }
+  }
+
+  return (req, res, next) => {
     const header = req.get('authorization');
     const bearer = header?.match(/^Bearer\s+(\S+)$/i)?.[1];
     const token = bearer ?? (req.cookies?.[SESSION_COOKIE] as string | undefined);
@@ -34,23 +51,17 @@ export function authenticate({ config, db }: Deps): RequestHandler {
       req.authProblem = 'Your session is not valid or has expired; please sign in again';
       return next();
     }
-    // One indexed query: the account, still active, at the token's session version, with its grants.
-    const session = await checkSession(db, claims.sub, claims.sv);
-    if ('problem' in session) {
-      req.authProblem = session.problem;
-      return next();
+    const via = bearer ? 'bearer' : 'cookie';
+    // One indexed query at most: the account, still active, at the token's session version, with its grants. Mostly
+    // answered from memory at once, so the request goes on without waiting for a promise.
+    const session = checkSession(db, claims.sub, claims.sv);
+    if (session instanceof Promise) {
+      return session.then((s) => {
+        admit(req, res, claims, via, s);
+        next();
+      });
     }
-    const { user } = session;
-    req.user = user;
-    req.authVia = bearer ? 'bearer' : 'cookie';
-    // Only a cookie caller is asked for it (a bearer token cannot be sent by another site's page).
-    if (req.authVia === 'cookie') req.csrfToken = csrfTokenFor(config, claims.jti);
-    // Sliding session for the browser: renew once half of the lifetime has passed, within the sign-in's absolute lifetime.
-    const remaining = claims.exp * 1000 - Date.now();
-    if (req.authVia === 'cookie' && remaining < (config.sessionMinutes * 60 * 1000) / 2) {
-      const renewed = renewSession(config, claims);
-      if (renewed) setSessionCookies(res, config, renewed);
-    }
+    admit(req, res, claims, via, session);
     next();
   };
 }

@@ -27,22 +27,27 @@ export async function loadSessionUser(db: DataSource | EntityManager, id: string
 type SessionRow = Awaited<ReturnType<typeof sessionRow>>;
 const sessionRows = new WeakMap<DataSource, TaggedCache<SessionRow>>();
 
-/**
- * The session check's row from memory when nothing it holds has changed since it was read (the change feed drops
- * it at the commit of any change to the account, its grants or their schools), else from the database.
- */
-function cachedSessionRow(db: DataSource, id: string): Promise<SessionRow> {
-  let cache = sessionRows.get(db);
-  if (!cache) sessionRows.set(db, (cache = new TaggedCache<SessionRow>(changeFeed(db), 10_000)));
-  return cache.read(id, () => sessionRow(db, id), (row) => (row ? [`user:${id}`, ...row.roles.flatMap((g) => (g.siteId ? [`site:${g.siteId}`] : []))] : null));
-}
+export type SessionCheck = { user: SessionUser } | { problem: string };
 
-/** A token's account, if it is active and still at the token's session version; else why the token is refused. */
-export async function checkSession(db: DataSource, id: string, sessionVersion: number): Promise<{ user: SessionUser } | { problem: string }> {
-  const row = await cachedSessionRow(db, id);
+function judgeSession(row: SessionRow, sessionVersion: number): SessionCheck {
   if (!row?.active) return { problem: 'This account is no longer active' };
   if (row.session_version !== sessionVersion) return { problem: 'Your session has ended (signed out, or the password or roles changed); please sign in again' };
   return { user: sessionUser(row) };
+}
+
+/**
+ * A token's account, if it is active and still at the token's session version; else why the token is refused. The
+ * row comes from memory when nothing it holds has changed since it was read (the change feed drops it at the commit
+ * of any change to the account, its grants or their schools), and then the answer is given at once, not as a promise.
+ */
+export function checkSession(db: DataSource, id: string, sessionVersion: number): SessionCheck | Promise<SessionCheck> {
+  let cache = sessionRows.get(db);
+  if (!cache) sessionRows.set(db, (cache = new TaggedCache<SessionRow>(changeFeed(db), 10_000)));
+  const kept = cache.peek(id);
+  if (kept) return judgeSession(kept.value, sessionVersion);
+  return cache
+    .read(id, () => sessionRow(db, id), (row) => (row ? [`user:${id}`, ...row.roles.flatMap((g) => (g.siteId ? [`site:${g.siteId}`] : []))] : null))
+    .then((row) => judgeSession(row, sessionVersion));
 }
 
 /** Marks the account's session row as changing, before the caller's transaction commits (see ChangeFeed.expect). */

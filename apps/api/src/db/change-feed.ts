@@ -123,10 +123,16 @@ export class TaggedCache<V> {
     feed.register(this as TaggedCache<unknown>);
   }
 
+  /** The kept value if it may be served now, without waiting (so a caller on every request needs no promise). */
+  peek(key: string): { readonly value: V } | undefined {
+    const hit = this.entries.get(key);
+    return hit && this.feed.usable(hit.tags) ? hit : undefined;
+  }
+
   /** The kept value, or a fresh one from `load`, kept if `tagsOf` gives its tags (null: do not keep it). */
   async read(key: string, load: () => Promise<V>, tagsOf: (value: V) => readonly string[] | null): Promise<V> {
-    const hit = this.entries.get(key);
-    if (hit && this.feed.usable(hit.tags)) return hit.value;
+    const hit = this.peek(key);
+    if (hit) return hit.value;
     const generation = this.feed.generation;
     const value = await load();
     const tags = tagsOf(value);
