@@ -5,7 +5,9 @@ import { DEMO_STUDY, expectAccessible, queryDatabase, signIn } from './support';
 /**
  * "Will it count as evidence?": the report shows each pre-specified comparison's verdict with every reason, each
  * linking to the screen that shows its numbers; Checks say what puts the rating at risk; the Plan previews what the
- * design can reach at best, live as the numbers are typed. Also at 390 px, without sideways scroll, axe clean.
+ * design can reach at best, live as the numbers are typed; each says which attrition boundary applies and why. A
+ * principal's My school carries only each locked result's one-sentence wording. Also at 390 px, without sideways
+ * scroll, axe clean.
  */
 
 const DRAFT_STUDY = 'Number Journal Prompts in grade 5';
@@ -45,8 +47,12 @@ test('the report shows each verdict with every reason, linking to the Checks and
   await expect(verdicts).toHaveCount(answer.comparisons.length);
   const first = answer.comparisons[0];
   const card = verdicts.first();
-  // The same wording and every reason the API gives, in the same order.
+  // The same wording and every reason the API gives, in the same order, judged against the plan's boundary, saying why.
   await expect(card.getByText(first.verdict.wording)).toBeVisible();
+  expect(first.boundary).toMatchObject({ boundary: answer.plan.boundary, chosenBy: 'plan' });
+  await expect(card.getByTestId('evidence-boundary')).toHaveText(first.boundary.explanation);
+  // The demo plan registers the cautious boundary (its seed), sealed in version 1 and kept by the amendment.
+  expect(first.boundary.explanation).toMatch(/^Judged against the cautious attrition boundary, which plan version \d+ registers: the intervention could affect which students leave\.$/);
   await expect(card.locator('[data-reason]')).toHaveCount(first.verdict.reasons.length);
   for (const [i, r] of first.verdict.reasons.entries()) {
     const item = card.locator('[data-reason]').nth(i);
@@ -72,10 +78,13 @@ test('the report shows each verdict with every reason, linking to the Checks and
   const risks = page.getByTestId('evidence-risks');
   await expect(risks.getByText(first.verdict.wording).first()).toBeVisible({ timeout: 30_000 });
   await expect(risks.getByText('Its result is locked: nothing arriving now changes the verdict.').first()).toBeVisible();
-  // Judging by the optimistic boundary asks the API again.
-  await risks.getByLabel('Optimistic: it is unlikely to').check();
+  await expect(risks.getByLabel('Cautious: the intervention could affect which students leave (the plan’s)')).toBeChecked();
+  // Judging by the optimistic boundary asks the API again; the screen says it is not the plan's.
+  await risks.getByLabel('Optimistic: the intervention is unlikely to affect which students leave').check();
   const optimistic: StudyEvidence = await (await page.request.get(`/api/studies/${studyId}/evidence?boundary=optimistic`)).json();
   await expect(risks.getByText(optimistic.comparisons[0].verdict.wording).first()).toBeVisible();
+  await expect(risks.getByTestId('evidence-boundary').first()).toHaveText(optimistic.comparisons[0].boundary.explanation);
+  expect(optimistic.comparisons[0].boundary.explanation).toContain('as asked here');
   await expectAccessible(page);
 });
 
@@ -119,4 +128,36 @@ test('at 390 px the report’s verdicts, the Checks’ risks and the plan previe
   await expectNoSidewaysScroll(page);
   await expectAccessible(page);
   await context.close();
+});
+
+test('My school shows each locked result’s evidence wording, the report’s headline for it, also at 390 px', async ({ browser }) => {
+  test.setTimeout(120_000);
+  const studyId = await studyIdOf(DEMO_STUDY);
+  const lead = await browser.newPage();
+  await signIn(lead, 'lead@evenhand.test');
+  const answer: StudyEvidence = await (await lead.request.get(`/api/studies/${studyId}/evidence`)).json();
+  await lead.close();
+  const locked = answer.comparisons.filter((c) => c.locked);
+  expect(locked.length).toBeGreaterThan(0);
+  for (const width of [390, 1280]) {
+    const context = await browser.newContext({ viewport: { width, height: 900 } });
+    const page = await context.newPage();
+    await signIn(page, 'principal1@evenhand.test');
+    await expect(page.getByRole('heading', { level: 1, name: 'My school' })).toBeVisible({ timeout: 30_000 });
+    const wordings = page.getByRole('main').getByTestId('evidence-wording');
+    await expect(wordings).toHaveCount(locked.length);
+    // One sentence per locked result, the same words the report gives, and nothing else of the verdict (no counts).
+    expect((await wordings.allTextContents()).sort()).toEqual(locked.map((c) => c.verdict.wording).sort());
+    for (const text of await wordings.allTextContents()) expect(text).not.toMatch(/\d/);
+    await expect(page.getByRole('main').getByTestId('evidence-verdict')).toHaveCount(0);
+    await expectNoSidewaysScroll(page);
+    await expectAccessible(page);
+    await context.close();
+  }
+  // The principal's lock digest of this database carries the same sentences.
+  const [digest] = await queryDatabase<{ text: string }>(
+    `SELECT d.text FROM digests d WHERE d.study_id = $1 AND d.kind = 'lock' AND d.recipient_email = 'principal1@evenhand.test' ORDER BY d.created_at DESC LIMIT 1`,
+    [studyId],
+  );
+  for (const c of locked) expect(digest.text.replace(/\s+/g, ' ')).toContain(c.verdict.wording);
 });
