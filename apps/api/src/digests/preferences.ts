@@ -1,11 +1,13 @@
 import { createHmac, timingSafeEqual } from 'node:crypto';
 import type { DataSource, EntityManager } from 'typeorm';
 import type { DigestFrequency, DigestPreference, MySchool, SessionUser, SiteFacts } from '@evenhand/entities';
+import { UserEntity } from '@evenhand/entities/orm';
 import { recordAudit } from '../audit/service.js';
 import type { Config } from '../config.js';
 import { AppError } from '../errors.js';
 import { sitesOf } from '../studies/access.js';
 import { buildSiteFacts } from './facts.js';
+import { frequencySql, principalStudySitesSql, savePreferenceSql } from './queries.js';
 import type { DigestLinks } from './templates.js';
 
 // Preference links: a single-purpose signature over the user id, so they work without signing in and forever.
@@ -42,7 +44,7 @@ export function linksFor(config: Pick<Config, 'appUrl' | 'jwtSecret'>, userId: s
 // The principal's side: My school and the e-mail preferences
 
 async function frequencyOf(manager: EntityManager, userId: string): Promise<DigestFrequency> {
-  const [row] = await manager.query(`SELECT frequency FROM digest_preferences WHERE user_id = $1`, [userId]);
+  const [row]: { frequency: DigestFrequency }[] = await manager.query(frequencySql, [userId]);
   return row?.frequency ?? 'weekly';
 }
 
@@ -50,11 +52,7 @@ async function frequencyOf(manager: EntityManager, userId: string): Promise<Dige
 export async function mySchool(db: DataSource, config: Pick<Config, 'jwtSecret'>, user: SessionUser): Promise<MySchool> {
   const sites = sitesOf(user, 'principal');
   const pairs: { study_id: string; site_id: string }[] = sites.length
-    ? await db.query(
-        `SELECT ss.study_id, ss.site_id FROM study_sites ss JOIN studies s ON s.id = ss.study_id JOIN sites x ON x.id = ss.site_id
-          WHERE ss.site_id = ANY($1) AND s.status <> 'archived' ORDER BY s.created_at DESC, x.name`,
-        [sites],
-      )
+    ? await db.query(principalStudySitesSql, [sites])
     : [];
   const items: SiteFacts[] = [];
   for (const p of pairs) items.push(await buildSiteFacts(db.manager, p.study_id, p.site_id));
@@ -63,7 +61,7 @@ export async function mySchool(db: DataSource, config: Pick<Config, 'jwtSecret'>
 
 export async function getPreference(db: DataSource, config: Pick<Config, 'jwtSecret'>, token: string): Promise<DigestPreference> {
   const userId = userOfToken(config, token);
-  const [user] = await db.query(`SELECT name FROM users WHERE id = $1`, [userId]);
+  const user = await db.manager.findOne(UserEntity, { where: { id: userId }, select: { name: true } });
   if (!user) throw AppError.validation('This link is not valid any more');
   return { name: user.name, frequency: await frequencyOf(db.manager, userId) };
 }
@@ -72,13 +70,10 @@ export async function getPreference(db: DataSource, config: Pick<Config, 'jwtSec
 export async function setPreference(db: DataSource, config: Pick<Config, 'jwtSecret'>, token: string, frequency: DigestFrequency, via: string): Promise<DigestPreference> {
   const userId = userOfToken(config, token);
   return db.transaction(async (manager) => {
-    const [user] = await manager.query(`SELECT name FROM users WHERE id = $1 FOR UPDATE`, [userId]);
+    const user = await manager.findOne(UserEntity, { where: { id: userId }, select: { name: true }, lock: { mode: 'pessimistic_write' } });
     if (!user) throw AppError.validation('This link is not valid any more');
     const before = await frequencyOf(manager, userId);
-    await manager.query(
-      `INSERT INTO digest_preferences (user_id, frequency) VALUES ($1, $2) ON CONFLICT (user_id) DO UPDATE SET frequency = $2, updated_at = now()`,
-      [userId, frequency],
-    );
+    await manager.query(savePreferenceSql, [userId, frequency]);
     await recordAudit(manager, { actorId: userId, action: 'digest.preference_changed', entityType: 'user', entityId: userId, before: { frequency: before }, after: { frequency, via } });
     return { name: user.name, frequency };
   });

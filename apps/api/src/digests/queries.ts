@@ -47,10 +47,60 @@ export interface DigestRow {
   sent_at: Date | null;
 }
 
-export const digestSelect = `
-  SELECT d.id, d.study_id, d.site_id, s.name AS site_name, d.recipient_id, u.name AS recipient_name, d.recipient_email,
-         d.kind, d.subject, d.state, d.attempts, d.last_error, d.next_attempt_at, d.created_at, d.sent_at
-    FROM digests d JOIN sites s ON s.id = d.site_id JOIN users u ON u.id = d.recipient_id`;
+const digestColumns = `d.id, d.study_id, d.site_id, s.name AS site_name, d.recipient_id, u.name AS recipient_name, d.recipient_email,
+         d.kind, d.subject, d.state, d.attempts, d.last_error, d.next_attempt_at, d.created_at, d.sent_at`;
+const digestJoins = `FROM digests d JOIN sites s ON s.id = d.site_id JOIN users u ON u.id = d.recipient_id`;
+
+/** A study's digests (not the other mail in the outbox), to be filtered further and paged. $1 study. */
+export const studyDigestsSql = `SELECT ${digestColumns} ${digestJoins} WHERE d.study_id = $1 AND d.kind = ANY('{weekly,lock,manual}')`;
+/** How many digests a study has (filtered as studyDigestsSql). $1 study. */
+export const studyDigestCountSql = `SELECT count(*)::int AS total FROM digests d WHERE d.study_id = $1 AND d.kind = ANY('{weekly,lock,manual}')`;
+/** One message with its bodies. $1 digest. */
+export const digestWithBodySql = `SELECT ${digestColumns}, d.html, d.text ${digestJoins} WHERE d.id = $1`;
+
+/** Whether a message with this unique key was written already. $1 key. */
+export const digestKeyTakenSql = `SELECT 1 FROM digests WHERE unique_key = $1`;
+/** Rewrites a lock digest still waiting to name every result locked since. $1 digest, $2 subject, $3 html, $4 text. */
+export const rewriteDigestSql = `UPDATE digests SET subject = $2, html = $3, text = $4 WHERE id = $1`;
+/** Writes one message into the outbox, once per unique key ($6). */
+export const insertDigestSql = `
+  INSERT INTO digests (study_id, site_id, recipient_id, recipient_email, kind, unique_key, run_id, subject, html, text)
+  VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10)
+  ON CONFLICT (unique_key) DO NOTHING RETURNING id`;
+
+/** Claims a message for one delivery attempt; nothing when it is sent, undeliverable or another worker holds it. $1 digest. */
+export const claimDeliverySql = `
+  SELECT id, kind, recipient_id, recipient_email, subject, html, text, attempts FROM digests
+   WHERE id = $1 AND state IN ('queued', 'retrying') FOR UPDATE SKIP LOCKED`;
+/** $1 digest, $2 attempts, $3 error. */
+export const markUndeliverableSql = `UPDATE digests SET state = 'undeliverable', attempts = $2, last_error = $3, next_attempt_at = NULL WHERE id = $1`;
+/** $1 digest, $2 attempts, $3 error, $4 seconds to wait. */
+export const markRetryingSql = `UPDATE digests SET state = 'retrying', attempts = $2, last_error = $3, next_attempt_at = now() + $4 * interval '1 second' WHERE id = $1`;
+/** $1 digest, $2 attempts. */
+export const markSentSql = `UPDATE digests SET state = 'sent', attempts = $2, sent_at = now(), next_attempt_at = NULL WHERE id = $1`;
+
+/** Messages whose delivery job was lost: due for more than 10 minutes. */
+export const stuckDigestsSql = `
+  SELECT id FROM digests WHERE state IN ('queued', 'retrying') AND next_attempt_at < now() - interval '10 minutes'
+   ORDER BY next_attempt_at LIMIT 500`;
+/** Whether a study has a wave open on a day. $1 study, $2 date. */
+export const waveOpenOnSql = `SELECT 1 FROM waves WHERE study_id = $1 AND opens_on <= $2::date AND closes_on >= $2::date LIMIT 1`;
+/** A study's own digest schedule, if it has one. $1 study. */
+export const studyScheduleSql = `SELECT weekly_enabled, weekday, hour, timezone FROM digest_schedules WHERE study_id = $1`;
+/** $1 study, $2 weekly, $3 weekday, $4 hour, $5 time zone, $6 who. */
+export const saveScheduleSql = `
+  INSERT INTO digest_schedules (study_id, weekly_enabled, weekday, hour, timezone, updated_by) VALUES ($1, $2, $3, $4, $5, $6)
+  ON CONFLICT (study_id) DO UPDATE SET weekly_enabled = $2, weekday = $3, hour = $4, timezone = $5, updated_by = $6, updated_at = now()`;
+
+/** A principal's digest frequency, if chosen. $1 user. */
+export const frequencySql = `SELECT frequency FROM digest_preferences WHERE user_id = $1`;
+/** $1 user, $2 frequency. */
+export const savePreferenceSql = `
+  INSERT INTO digest_preferences (user_id, frequency) VALUES ($1, $2) ON CONFLICT (user_id) DO UPDATE SET frequency = $2, updated_at = now()`;
+/** The studies (not archived) a principal's schools ($1 uuid[]) take part in, newest first. */
+export const principalStudySitesSql = `
+  SELECT ss.study_id, ss.site_id FROM study_sites ss JOIN studies s ON s.id = ss.study_id JOIN sites x ON x.id = ss.site_id
+   WHERE ss.site_id = ANY($1) AND s.status <> 'archived' ORDER BY s.created_at DESC, x.name`;
 
 /** The outbox's messages by state, with the last error. */
 export const outboxCountsSql = `

@@ -3,7 +3,7 @@ import { defaultDigestSchedule, type DigestSchedule, type SessionUser } from '@e
 import { recordAudit } from '../audit/service.js';
 import type { Logger } from '../logger.js';
 import { findVisibleStudy } from '../studies/access.js';
-import { studySchedulesSql, type ScheduleRow } from './queries.js';
+import { saveScheduleSql, stuckDigestsSql, studyScheduleSql, studySchedulesSql, waveOpenOnSql, type ScheduleRow } from './queries.js';
 import { createDigests, type DigestContext } from './service.js';
 
 // The weekly schedule
@@ -50,7 +50,7 @@ export async function runDigestTick(ctx: TickContext, now = new Date()): Promise
     if (!slot) continue;
     try {
       weekly += await ctx.db.transaction(async (manager) => {
-        const [open] = await manager.query(`SELECT 1 FROM waves WHERE study_id = $1 AND opens_on <= $2::date AND closes_on >= $2::date LIMIT 1`, [s.study_id, slot]);
+        const [open] = await manager.query(waveOpenOnSql, [s.study_id, slot]);
         if (!open) return 0;
         return (await createDigests(manager, ctx, { studyId: s.study_id, kind: 'weekly', key: `weekly:${s.study_id}:${slot}` })).queued;
       });
@@ -59,16 +59,14 @@ export async function runDigestTick(ctx: TickContext, now = new Date()): Promise
     }
   }
   // A digest whose job was lost (a queue outage, a job dropped after its own retries) is picked up again here.
-  const stuck: { id: string }[] = await ctx.db.query(
-    `SELECT id FROM digests WHERE state IN ('queued', 'retrying') AND next_attempt_at < now() - interval '10 minutes' ORDER BY next_attempt_at LIMIT 500`,
-  );
+  const stuck: { id: string }[] = await ctx.db.query(stuckDigestsSql);
   for (const d of stuck) await ctx.jobs.enqueueDigest(ctx.db.manager, d.id);
   return { weekly, requeued: stuck.length };
 }
 
 export async function getSchedule(db: DataSource, user: SessionUser, studyId: string): Promise<DigestSchedule> {
   await findVisibleStudy(db.manager, user, studyId);
-  const [row]: ScheduleRow[] = await db.query(`SELECT weekly_enabled, weekday, hour, timezone FROM digest_schedules WHERE study_id = $1`, [studyId]);
+  const [row]: ScheduleRow[] = await db.query(studyScheduleSql, [studyId]);
   return row ? { weeklyEnabled: row.weekly_enabled, weekday: row.weekday, hour: row.hour, timezone: row.timezone } : { ...defaultDigestSchedule };
 }
 
@@ -76,11 +74,7 @@ export async function saveSchedule(db: DataSource, user: SessionUser, studyId: s
   const before = await getSchedule(db, user, studyId);
   await db.transaction(async (manager) => {
     await findVisibleStudy(manager, user, studyId, true);
-    await manager.query(
-      `INSERT INTO digest_schedules (study_id, weekly_enabled, weekday, hour, timezone, updated_by) VALUES ($1, $2, $3, $4, $5, $6)
-       ON CONFLICT (study_id) DO UPDATE SET weekly_enabled = $2, weekday = $3, hour = $4, timezone = $5, updated_by = $6, updated_at = now()`,
-      [studyId, input.weeklyEnabled, input.weekday, input.hour, input.timezone, user.id],
-    );
+    await manager.query(saveScheduleSql, [studyId, input.weeklyEnabled, input.weekday, input.hour, input.timezone, user.id]);
     await recordAudit(manager, { actorId: user.id, studyId, action: 'digest_schedule.changed', entityType: 'study', entityId: studyId, before, after: input });
   });
   return input;

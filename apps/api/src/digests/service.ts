@@ -10,7 +10,23 @@ import type { Mailer } from '../mail/mailer.js';
 import { findVisibleStudy } from '../studies/access.js';
 import { buildSiteFacts } from './facts.js';
 import { linksFor, preferenceToken } from './preferences.js';
-import { digestSelect, outboxCountsSql, recipientsSql, waitingLockDigestSql, type DigestRow, type Recipient } from './queries.js';
+import {
+  claimDeliverySql,
+  digestKeyTakenSql,
+  digestWithBodySql,
+  insertDigestSql,
+  markRetryingSql,
+  markSentSql,
+  markUndeliverableSql,
+  outboxCountsSql,
+  recipientsSql,
+  rewriteDigestSql,
+  studyDigestCountSql,
+  studyDigestsSql,
+  waitingLockDigestSql,
+  type DigestRow,
+  type Recipient,
+} from './queries.js';
 import { renderDigest } from './templates.js';
 
 // Digests in the outbox: written per principal and school, delivered with retries (every other e-mail too), read back.
@@ -64,7 +80,7 @@ export async function createDigests(
       continue;
     }
     const key = `${input.key}:${r.site_id}:${r.user_id}`;
-    const [exists] = await manager.query(`SELECT 1 FROM digests WHERE unique_key = $1`, [key]);
+    const [exists] = await manager.query(digestKeyTakenSql, [key]);
     if (exists) continue;
     if (!facts.has(r.site_id)) facts.set(r.site_id, await buildSiteFacts(manager, input.studyId, r.site_id));
     const siteFacts = facts.get(r.site_id)!;
@@ -79,7 +95,7 @@ export async function createDigests(
         const since = new Date(waiting.locked_at).getTime();
         const newly = siteFacts.results.filter((x) => x.runId === input.runId || Date.parse(x.lockedAt) >= since).map((x) => x.runId);
         const merged = await renderDigest(siteFacts, 'lock', r.name, linksFor(ctx.config, r.user_id), newly);
-        await manager.query(`UPDATE digests SET subject = $2, html = $3, text = $4 WHERE id = $1`, [waiting.id, merged.subject, merged.html, merged.text]);
+        await manager.query(rewriteDigestSql, [waiting.id, merged.subject, merged.html, merged.text]);
         // A worker that skipped the row while this transaction held it has finished its job: queue the delivery again.
         await ctx.jobs.enqueueDigest(manager, waiting.id);
         continue;
@@ -87,9 +103,7 @@ export async function createDigests(
     }
     const message = await renderDigest(siteFacts, input.kind, r.name, linksFor(ctx.config, r.user_id), input.runId ? [input.runId] : []);
     const rows: { id: string }[] = await manager.query(
-      `INSERT INTO digests (study_id, site_id, recipient_id, recipient_email, kind, unique_key, run_id, subject, html, text)
-       VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10)
-       ON CONFLICT (unique_key) DO NOTHING RETURNING id`,
+      insertDigestSql,
       [input.studyId, r.site_id, r.user_id, r.email, input.kind, key, input.runId ?? null, message.subject, message.html, message.text],
     );
     if (!rows.length) continue;
@@ -145,11 +159,7 @@ export interface DeliveryContext {
  */
 export async function deliverDigest(ctx: DeliveryContext, digestId: string): Promise<void> {
   await ctx.db.transaction(async (manager) => {
-    const [d]: DigestRow[] = await manager.query(
-      `SELECT id, kind, recipient_id, recipient_email, subject, html, text, attempts FROM digests
-        WHERE id = $1 AND state IN ('queued', 'retrying') FOR UPDATE SKIP LOCKED`,
-      [digestId],
-    );
+    const [d]: DigestRow[] = await manager.query(claimDeliverySql, [digestId]);
     if (!d) return; // already sent or undeliverable, or another worker holds it right now
     const attempts = d.attempts + 1;
     try {
@@ -166,19 +176,16 @@ export async function deliverDigest(ctx: DeliveryContext, digestId: string): Pro
     } catch (err) {
       const error = describeFailure(err);
       if (attempts >= ctx.delivery.maxAttempts) {
-        await manager.query(`UPDATE digests SET state = 'undeliverable', attempts = $2, last_error = $3, next_attempt_at = NULL WHERE id = $1`, [d.id, attempts, error]);
+        await manager.query(markUndeliverableSql, [d.id, attempts, error]);
         ctx.logger.warn({ digestId, kind: d.kind, attempts, error }, 'outbox message undeliverable');
       } else {
         const wait = retryDelaySeconds(ctx.delivery, attempts);
-        await manager.query(
-          `UPDATE digests SET state = 'retrying', attempts = $2, last_error = $3, next_attempt_at = now() + $4 * interval '1 second' WHERE id = $1`,
-          [d.id, attempts, error, wait],
-        );
+        await manager.query(markRetryingSql, [d.id, attempts, error, wait]);
         await ctx.jobs.enqueueDigest(manager, d.id, wait);
       }
       return;
     }
-    await manager.query(`UPDATE digests SET state = 'sent', attempts = $2, sent_at = now(), next_attempt_at = NULL WHERE id = $1`, [d.id, attempts]);
+    await manager.query(markSentSql, [d.id, attempts]);
   });
 }
 
@@ -209,15 +216,15 @@ export async function listDigests(db: DataSource, user: SessionUser, studyId: st
   const filter = query.state ? 'AND d.state = $2' : '';
   const params: unknown[] = query.state ? [studyId, query.state] : [studyId];
   const rows: DigestRow[] = await db.query(
-    `${digestSelect} WHERE d.study_id = $1 AND d.kind = ANY('{weekly,lock,manual}') ${filter} ORDER BY d.created_at DESC, s.name, d.recipient_email LIMIT ${query.limit} OFFSET ${query.offset}`,
+    `${studyDigestsSql} ${filter} ORDER BY d.created_at DESC, s.name, d.recipient_email LIMIT ${query.limit} OFFSET ${query.offset}`,
     params,
   );
-  const [{ total }] = await db.query(`SELECT count(*)::int AS total FROM digests d WHERE d.study_id = $1 AND d.kind = ANY('{weekly,lock,manual}') ${filter}`, params);
+  const [{ total }] = await db.query(`${studyDigestCountSql} ${filter}`, params);
   return { items: rows.map(toDigest), total };
 }
 
 export async function getDigest(db: DataSource, user: SessionUser, id: string): Promise<DigestDetail> {
-  const [row]: DigestRow[] = await db.query(`${digestSelect.replace('d.sent_at', 'd.sent_at, d.html, d.text')} WHERE d.id = $1`, [id]);
+  const [row]: DigestRow[] = await db.query(digestWithBodySql, [id]);
   if (!row) throw AppError.notFound('The digest');
   await findVisibleStudy(db.manager, user, row.study_id);
   return { ...toDigest(row), html: row.html!, text: row.text! };
