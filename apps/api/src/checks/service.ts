@@ -23,7 +23,7 @@ const coxAdvice = {
  * The accounting of a measure at the outcome wave: its pre-specified comparison's locked run's, as stored (a locked
  * result never changes), else that of today's accepted sheets under the plan's rule for the pretest.
  */
-export async function accountingOf(db: DataSource, scope: { studyId: string; measureId: string; waveId: string; pretest: string | null }): Promise<{ accounting: Accounting; runId: string | null }> {
+export async function accountingOf(db: Pick<DataSource, 'query' | 'manager'>, scope: { studyId: string; measureId: string; waveId: string; pretest: string | null }): Promise<{ accounting: Accounting; runId: string | null }> {
   const locked = await lockedAccounting(db.manager, scope);
   if (locked?.accounting) return { accounting: locked.accounting, runId: locked.id };
   const { pretest, ...where } = scope;
@@ -31,7 +31,7 @@ export async function accountingOf(db: DataSource, scope: { studyId: string; mea
 }
 
 /** The research lead's data checks: completeness, box plots, attrition against the published boundaries, baseline equivalence. */
-export async function studyChecks(db: DataSource, user: SessionUser, studyId: string) {
+export async function studyChecks(db: Pick<DataSource, 'query' | 'manager'>, user: SessionUser, studyId: string) {
   const study = await findVisibleStudy(db.manager, user, studyId);
   await ensureSheets(db.manager, studyId);
   const plan = await currentPlan(db.manager, studyId);
