@@ -38,6 +38,7 @@ export const tierWords: Record<Tier, string> = {
   none: 'none of the law’s evidence tiers',
 };
 
+/** The caution beside a preview on its own (the plan's). */
 export const PREVIEW_CAUTION = 'This is a preview, not a review: the evidence reviewers decide.';
 /** How the one-sentence wording opens: the same caution, in a clause. */
 export const PREVIEW_CAUTION_LEAD = 'Evidence preview, not a review (the evidence reviewers decide)';

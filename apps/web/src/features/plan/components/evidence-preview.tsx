@@ -1,4 +1,4 @@
-import { planPreview, type PlannedDesign } from '@evenhand/stats';
+import { PREVIEW_CAUTION, planPreview, type PlannedDesign } from '@evenhand/stats';
 
 const tierWords = { strong: 'strong evidence', moderate: 'moderate evidence', promising: 'promising evidence', none: 'no evidence tier' } as const;
 
@@ -34,7 +34,7 @@ export function EvidencePreview({ design }: { design: PlannedDesign }) {
           ))}
         </ul>
       </details>
-      <p className="text-sm text-ink-muted">This is a preview, not a review: the evidence reviewers decide.</p>
+      <p className="text-sm text-ink-muted">{PREVIEW_CAUTION}</p>
     </section>
   );
 }
