@@ -2,6 +2,8 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { decidingTest, type RunResults, type StudyEvidence } from '@evenhand/entities';
 import { attrition } from '@evenhand/stats';
 import { signIn, startTestApp, type TestApp } from '../../test/app.js';
+import { urlForDatabase } from '../../test/database.js';
+import { createDataSource } from '../db/data-source.js';
 import { createStudy, enrolClassrooms, fillSheet, samplePlan, send, type StudySetup } from '../../test/fixtures.js';
 
 // The rules themselves are tested at their boundaries in packages/stats/src/evidence; here the answer must be built
@@ -142,6 +144,27 @@ describe('GET /studies/:id/evidence', () => {
     // The database keeps it: a stored verdict can be neither changed nor removed.
     await expect(t.db.query(`UPDATE run_verdicts SET boundary = 'optimistic' WHERE run_id = $1`, [lockedRun])).rejects.toThrow(/cannot be changed/);
     await expect(t.db.query(`DELETE FROM run_verdicts WHERE run_id = $1`, [lockedRun])).rejects.toThrow(/cannot be changed/);
+  });
+
+  it('when a result was locked before verdicts were stored, then its first read judges it once, and that verdict stays', async () => {
+    // Stands in for a lock made before the run_verdicts table existed: the owner removes the stored row, triggers off.
+    const owner = createDataSource(urlForDatabase(new URL(t.databaseUrl).pathname.slice(1)));
+    await owner.initialize();
+    await owner.transaction(async (m) => {
+      await m.query(`SET LOCAL session_replication_role = replica`);
+      await m.query(`DELETE FROM run_verdicts WHERE run_id = $1`, [lockedRun]);
+    });
+    await owner.destroy();
+    // Judged now, the one teacher delivering every intervention classroom (set in the previous test) is a confound:
+    // the arm cannot be told apart from its teacher (WWC v4.1 Handbook, confounding factor), so the standards are not met.
+    const first = await evidence();
+    expect(reason(first, 'confound-teacher-intervention').passed).toBe(false);
+    expect(first.comparisons[0].verdict.rating).toBe('does-not-meet');
+    const [stored] = await t.db.query(`SELECT cautious FROM run_verdicts WHERE run_id = $1`, [lockedRun]);
+    expect(stored.cautious).toEqual(first.comparisons[0].verdict);
+    // A later change no longer moves it: the teachers differ again, the stored verdict stands.
+    await t.db.query(`UPDATE classrooms SET teacher_id = $2 WHERE id = $1`, [lost, (await t.db.query(`SELECT teacher_id FROM classrooms WHERE study_id = $1 AND arm = 'comparison' LIMIT 1`, [s.studyId]))[0].teacher_id]);
+    expect((await evidence()).comparisons[0]).toEqual(first.comparisons[0]);
   });
 
   it('when the boundary is not one of the two, then 400 in the one error shape; a principal is refused', async () => {
