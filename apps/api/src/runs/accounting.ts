@@ -1,6 +1,6 @@
 import type { EntityManager } from 'typeorm';
 import { attrition } from '@evenhand/stats';
-import { readSheetMoments } from '../score-sheets/sums.js';
+import { readClassrooms, type ClassroomRead } from './gather.js';
 import { arms, lossReasons, type Accounting, type Arm, type AttritionCheck, type LossReason, type PrimaryTest, type SheetState, type UnitAccount } from '@evenhand/entities';
 
 /**
@@ -102,29 +102,6 @@ export function account(classrooms: readonly ClassroomStanding[], reads: readonl
   };
 }
 
-/**
- * Each classroom with an arm: its registered codes and its outcome sheet (state, summary n, whether anything was
- * entered: looked up only for an open sheet, the one state whose loss reason depends on it). What was read from its
- * rows comes from the sheet's sums (`ReadCounts`). $1 study, $2 outcome wave, $3 measure, $4 sheet states read.
- */
-const standingsSql = `
-  -- One pass over the registry, materialized: inlined, the planner sometimes reran the count per classroom (minutes at 8 000).
-  WITH registered AS MATERIALIZED (SELECT classroom_id, count(*)::int AS n FROM students WHERE study_id = $1 GROUP BY classroom_id)
-  SELECT c.id AS classroom_id, c.arm, coalesce(r.n, 0)::int AS registered, sh.state AS sheet_state,
-         (sh.summary_n IS NOT NULL OR (sh.state = 'open' AND EXISTS (SELECT 1 FROM scores x WHERE x.sheet_id = sh.id))) AS entered,
-         CASE WHEN sh.mode = 'summary' AND sh.state = ANY($4) THEN sh.summary_n END AS summary_n
-    FROM classrooms c
-    LEFT JOIN registered r ON r.classroom_id = c.id
-    LEFT JOIN score_sheets sh ON sh.classroom_id = c.id AND sh.study_id = $1 AND sh.wave_id = $2 AND sh.measure_id = $3
-   WHERE c.study_id = $1 AND c.arm IS NOT NULL`;
-
-/** The row sheets read (classrooms with an arm) with the classroom's baseline sheet when read; $5 the baseline wave or null. */
-const readSheetsSql = `
-  SELECT sh.id, sh.classroom_id, bs.id AS pretest_sheet_id
-    FROM score_sheets sh JOIN classrooms c ON c.id = sh.classroom_id AND c.arm IS NOT NULL
-    LEFT JOIN score_sheets bs ON bs.classroom_id = sh.classroom_id AND bs.wave_id = $5 AND bs.measure_id = $3 AND bs.state = ANY($4)
-   WHERE sh.study_id = $1 AND sh.wave_id = $2 AND sh.measure_id = $3 AND sh.state = ANY($4) AND sh.mode = 'rows'`;
-
 export interface AccountingScope {
   studyId: string;
   measureId: string;
@@ -134,54 +111,24 @@ export interface AccountingScope {
   pretestWaveId: string | null;
 }
 
-/** Per classroom, what was read from its row sheet: scored outcomes, those with a pretest, and rows marked as left without a score. */
-export type ReadCounts = ReadonlyMap<string, { scored: number; withPretest: number; left: number }>;
-
 /**
- * The accounting of the sheets as they stand (a run calls it in its own snapshot, so it counts exactly what it read,
- * and passes the counts its sheets' sums gave; the Checks read those sums here).
+ * The accounting of the sheets as they stand. A run passes the classrooms it read in its own snapshot, so it counts
+ * exactly what it analysed; the Checks read them here.
  */
-export async function accountFor(manager: EntityManager, scope: AccountingScope, read?: ReadCounts): Promise<Accounting> {
+export async function accountFor(manager: EntityManager, scope: AccountingScope, read?: ClassroomRead[]): Promise<Accounting> {
+  const classrooms =
+    read ?? (await readClassrooms(manager, { studyId: scope.studyId, waveId: scope.waveId, measureId: scope.measureId, states: [...scope.reads], baselineWaveId: scope.pretestWaveId }));
   const withPretest = scope.pretestWaveId !== null;
-  const rows: { classroom_id: string; arm: Arm; registered: number; sheet_state: SheetState | null; entered: boolean | null; summary_n: number | null }[] = await manager.query(standingsSql, [
-    scope.studyId,
-    scope.waveId,
-    scope.measureId,
-    scope.reads,
-  ]);
-  const counts = read ?? (await readCounts(manager, scope));
-  const standings = rows.map((r) => {
-    const counted = counts.get(r.classroom_id);
-    return {
-      classroomId: r.classroom_id,
-      arm: r.arm,
-      registered: r.registered,
-      sheetState: r.sheet_state,
-      entered: r.entered === true,
-      summaryN: r.summary_n,
-      scored: counted?.scored ?? 0,
-      left: counted?.left ?? 0,
-      withPretest: withPretest ? (counted?.withPretest ?? 0) : 0,
-    };
-  });
-  return account(standings, scope.reads, withPretest);
-}
-
-/** What the row sheets in scope give, from their sums. */
-async function readCounts(manager: EntityManager, scope: AccountingScope): Promise<ReadCounts> {
-  const sheets: { id: string; classroom_id: string; pretest_sheet_id: string | null }[] = await manager.query(readSheetsSql, [
-    scope.studyId,
-    scope.waveId,
-    scope.measureId,
-    scope.reads,
-    scope.pretestWaveId,
-  ]);
-  const moments = await readSheetMoments(
-    manager,
-    sheets.map((s) => ({ sheetId: s.id, pretestSheetId: s.pretest_sheet_id })),
-  );
-  return new Map(sheets.map((s) => {
-    const m = moments.get(s.id)!;
-    return [s.classroom_id, { scored: m.n, withPretest: m.pairs, left: m.left_n }];
+  const standings = classrooms.map((c) => ({
+    classroomId: c.classroomId,
+    arm: c.arm,
+    registered: c.registered,
+    sheetState: c.sheetState,
+    entered: c.entered,
+    summaryN: c.summary?.n ?? null,
+    scored: c.rows?.moments.n ?? 0,
+    left: c.rows?.moments.left_n ?? 0,
+    withPretest: withPretest ? (c.rows?.moments.pairs ?? 0) : 0,
   }));
+  return account(standings, scope.reads, withPretest);
 }

@@ -1,10 +1,10 @@
 import type { EntityManager } from 'typeorm';
 import { createHash } from 'node:crypto';
 import { mergePairedSummaries, sampleRanks, type PairedSummary } from '@evenhand/stats';
-import type { Arm } from '@evenhand/entities';
+import type { Arm, SheetState } from '@evenhand/entities';
 import { sheetDigestsSql } from '../score-sheets/queries.js';
 import { yesCount } from './yes-no.js';
-import { readSheetMoments, type SheetMoments } from '../score-sheets/sums.js';
+import { momentsColumns, sumSheets, withoutPairs, type SheetMoments } from '../score-sheets/sums.js';
 
 /** Which sheets a run reads: a confirmatory run only accepted ones; monitoring also those awaiting review. */
 export const sheetStatesFor = (kind: 'monitoring' | 'confirmatory'): ('accepted' | 'submitted')[] => (kind === 'confirmatory' ? ['accepted'] : ['accepted', 'submitted']);
@@ -22,8 +22,6 @@ export interface ClassroomAggregate {
   mean: number | null;
   m2: number | null;
   fromSummary: boolean;
-  /** Rows of a read row sheet marked as left without an outcome score (the accounting's leavers). */
-  left: number;
   /** Students with both an outcome and a pretest: their count, means and within-classroom centred sums (null without a baseline). */
   pairs: PairedSummary | null;
 }
@@ -39,7 +37,8 @@ export interface ArmValues {
 }
 
 export interface Gathered {
-  sheetIds: string[];
+  /** Every classroom with an arm as read (the accounting's standings come from these). */
+  read: ClassroomRead[];
   classrooms: ClassroomAggregate[];
   /** Per arm, null when the arm has no student rows. */
   values: Record<Arm, ArmValues | null>;
@@ -61,105 +60,118 @@ interface Scope {
   yesNo: boolean;
 }
 
+/** One classroom the draw gave an arm, as a run or the Checks read it. */
+export interface ClassroomRead {
+  classroomId: string;
+  siteId: string;
+  siteName: string;
+  arm: Arm;
+  /** Student codes registered to the classroom: its randomised students. */
+  registered: number;
+  /** Its outcome sheet: state (null: no sheet), and whether anything was entered (looked up only on an open sheet, the one state whose loss reason depends on it). */
+  sheetId: string | null;
+  sheetState: SheetState | null;
+  entered: boolean;
+  /** The sheet's class summary when the sheet read is a summary. */
+  summary: { n: number; mean: number; m2: number } | null;
+  /** When the sheet read has student rows: its digest (hex), the baseline sheet paired with it and that sheet's digest, and its sums. */
+  rows: { digest: string | null; pretestSheetId: string | null; pretestDigest: string | null; moments: SheetMoments } | null;
+}
+
+/**
+ * Every classroom with an arm, in the order of sites and classroom names, with what a reader of the sheets in
+ * `states` needs: registered codes, the outcome sheet, its class summary or its rows' sums paired with the classroom's
+ * baseline sheet (when `baselineWaveId`): stored sums where they were taken with that baseline sheet, else summed now.
+ */
+export async function readClassrooms(manager: EntityManager, scope: Omit<Scope, 'yesNo'>): Promise<ClassroomRead[]> {
+  const rows: ClassroomRow[] = await manager.query(classroomsSql, [scope.studyId, scope.waveId, scope.measureId, scope.states, scope.baselineWaveId]);
+  const missing = rows.filter((r) => r.mode === 'rows' && r.read && r.moments_stored === null);
+  const fresh = await sumSheets(
+    manager,
+    missing.map((r) => ({ sheetId: r.sheet_id!, pretestSheetId: r.pretest_sheet_id })),
+  );
+  return rows.map((r) => {
+    const read = r.read === true;
+    const moments = read && r.mode === 'rows' ? (r.moments_stored ?? fresh.get(r.sheet_id!)!) : null;
+    return {
+      classroomId: r.classroom_id,
+      siteId: r.site_id,
+      siteName: r.site_name,
+      arm: r.arm,
+      registered: r.registered,
+      sheetId: r.sheet_id,
+      sheetState: r.sheet_state,
+      entered: r.entered === true,
+      summary: read && r.mode === 'summary' ? { n: r.summary_n!, mean: r.summary_mean!, m2: r.summary_m2! } : null,
+      rows: moments
+        ? {
+            digest: r.digest,
+            pretestSheetId: r.pretest_sheet_id,
+            pretestDigest: r.pretest_digest,
+            // Pairs taken with a baseline sheet this reader does not read are not its pairs.
+            moments: r.pretest_sheet_id === null ? withoutPairs(moments) : moments,
+          }
+        : null,
+    };
+  });
+}
+
 /**
  * Reads what a run needs inside PostgreSQL: per classroom the count, mean, M2, leavers and baseline pairs' sums from
  * its sheet's sums (stored when the sheet was submitted or accepted, else summed now); then, in one parallel scan of
  * the outcome scores, over the count of each distinct score per arm, the ranks, quartiles, absolute deviations and the
- * values of a bounded normality sample. The data hash comes from the sheets' digests, stored the same way. Node never
- * holds every row.
+ * values of a bounded normality sample (a yes/no measure's come from its counts). The data hash comes from the
+ * sheets' digests, stored the same way. Node never holds every row.
  */
 export async function gather(manager: EntityManager, scope: Scope): Promise<Gathered> {
   // The distinct-score table stays in memory; JIT compiling these plans costs more than it saves.
   await manager.query(`SET LOCAL work_mem = '64MB'`);
   await manager.query(`SET LOCAL jit = off`);
-  const p = [scope.studyId, scope.waveId, scope.measureId, scope.states];
-  const sheets: SheetRow[] = await manager.query(
-    `SELECT sh.id, sh.classroom_id, sh.mode, c.arm, encode(sh.rows_sha256, 'hex') AS digest FROM score_sheets sh JOIN classrooms c ON c.id = sh.classroom_id
-      WHERE sh.study_id = $1 AND sh.wave_id = $2 AND sh.measure_id = $3 AND sh.state = ANY($4) ORDER BY sh.id`,
-    p,
-  );
-  const baselineSheets: SheetRow[] = scope.baselineWaveId
-    ? await manager.query(`SELECT id, classroom_id, encode(rows_sha256, 'hex') AS digest FROM score_sheets WHERE study_id = $1 AND wave_id = $2 AND measure_id = $3 AND state = ANY($4) ORDER BY id`, [
-        scope.studyId,
-        scope.baselineWaveId,
-        scope.measureId,
-        scope.states,
-      ])
-    : [];
-
-  const classrooms: {
-    classroom_id: string;
-    site_id: string;
-    site_name: string;
-    arm: Arm;
-    summary_n: number | null;
-    summary_mean: number | null;
-    summary_m2: number | null;
-  }[] = await manager.query(
-    `WITH sh AS (SELECT * FROM score_sheets WHERE study_id = $1 AND wave_id = $2 AND measure_id = $3 AND state = ANY($4) AND mode = 'summary')
-     SELECT c.id AS classroom_id, c.site_id, s.name AS site_name, c.arm,
-            sh.summary_n, sh.summary_mean::float8 AS summary_mean, (sh.summary_sd::float8 ^ 2) * (sh.summary_n - 1) AS summary_m2
-       FROM classrooms c JOIN sites s ON s.id = c.site_id
-       LEFT JOIN sh ON sh.classroom_id = c.id
-      WHERE c.study_id = $1 AND c.arm IS NOT NULL
-      ORDER BY s.name, c.name`,
-    p,
-  );
-
-  const rowSheets = sheets.filter((s) => s.mode === 'rows' && s.arm !== null);
-  const baselineOf = new Map(baselineSheets.map((b) => [b.classroom_id, b]));
-  await fillMissingDigests(manager, [...rowSheets, ...rowSheets.flatMap((s) => baselineOf.get(s.classroom_id) ?? [])]);
-
-  const moments = await readSheetMoments(
-    manager,
-    rowSheets.map((s) => ({ sheetId: s.id, pretestSheetId: scope.baselineWaveId ? (baselineOf.get(s.classroom_id)?.id ?? null) : null })),
-  );
-  const ofClassroom = new Map(rowSheets.map((s) => [s.classroom_id, moments.get(s.id)!]));
+  const read = await readClassrooms(manager, scope);
+  const withRows = read.filter((c) => c.rows !== null);
+  await fillMissingDigests(manager, withRows);
   // A classroom is analysed when its sheet has a scored row.
-  const byClassroom = new Map([...ofClassroom].filter(([, m]) => m.n > 0));
-  const analysedSheets = rowSheets.filter((s) => byClassroom.has(s.classroom_id));
+  const analysed = withRows.filter((c) => c.rows!.moments.n > 0);
 
-  const summaryLines: { line: string }[] = await manager.query(`SELECT line FROM (${canonicalSummariesSql}) s ORDER BY line COLLATE "C"`, [sheets.map((s) => s.id), null]);
+  const summarySheets = read.filter((c) => c.summary !== null).map((c) => c.sheetId!);
+  const summaryLines: { line: string }[] = summarySheets.length ? await manager.query(`SELECT line FROM (${canonicalSummariesSql}) s ORDER BY line COLLATE "C"`, [summarySheets, null]) : [];
   const dataSha256 = dataHash(
-    analysedSheets.map((s) => ({ classroomId: s.classroom_id, arm: s.arm!, outcome: s.digest!, baseline: baselineOf.get(s.classroom_id)?.digest ?? null })),
+    analysed.map((c) => ({ classroomId: c.classroomId, arm: c.arm, outcome: c.rows!.digest!, baseline: c.rows!.pretestDigest })),
     summaryLines.map((l) => l.line),
   );
 
   const counted = { intervention: 0, comparison: 0 } as Record<Arm, number>;
-  for (const s of analysedSheets) counted[s.arm!] += byClassroom.get(s.classroom_id)!.n;
+  for (const c of analysed) counted[c.arm] += c.rows!.moments.n;
+  const yesIn = (arm: Arm) => analysed.filter((c) => c.arm === arm).reduce((k, c) => k + yesCount(c.rows!.moments), 0);
   const { values, ranks } = scope.yesNo
-    ? yesNoValues({ intervention: yesOf(analysedSheets, byClassroom, 'intervention'), comparison: yesOf(analysedSheets, byClassroom, 'comparison') }, counted)
-    : await scoreValues(manager, p, counted, dataSha256);
+    ? yesNoValues({ intervention: yesIn('intervention'), comparison: yesIn('comparison') }, counted)
+    : await scoreValues(manager, [scope.studyId, scope.waveId, scope.measureId, scope.states], counted, dataSha256);
 
   let pairs: Gathered['pairs'] = null;
   if (scope.baselineWaveId) {
     pairs = { intervention: null, comparison: null };
     for (const arm of ['intervention', 'comparison'] as const) {
-      const parts = analysedSheets
-        .filter((s) => s.arm === arm)
-        .map((s) => byClassroom.get(s.classroom_id)!)
-        .filter((c) => c.pairs > 0)
-        .map(pairedOf);
+      const parts = analysed
+        .filter((c) => c.arm === arm && c.rows!.moments.pairs > 0)
+        .map((c) => pairedOf(c.rows!.moments));
       pairs[arm] = parts.length ? mergePairedSummaries(parts) : null;
     }
   }
 
   return {
-    sheetIds: [...sheets, ...baselineSheets].map((s) => s.id),
-    classrooms: classrooms.map((c) => {
-      const rows = byClassroom.get(c.classroom_id);
-      const fromSummary = c.summary_n !== null;
+    read,
+    classrooms: read.map((c) => {
+      const m = c.rows && c.rows.moments.n > 0 ? c.rows.moments : null;
       return {
-        classroomId: c.classroom_id,
-        siteId: c.site_id,
-        siteName: c.site_name,
+        classroomId: c.classroomId,
+        siteId: c.siteId,
+        siteName: c.siteName,
         arm: c.arm,
-        n: fromSummary ? c.summary_n! : (rows?.n ?? 0),
-        mean: fromSummary ? c.summary_mean : (rows?.mean ?? null),
-        m2: fromSummary ? c.summary_m2 : (rows?.m2 ?? null),
-        fromSummary,
-        left: fromSummary ? 0 : (ofClassroom.get(c.classroom_id)?.left_n ?? 0),
-        pairs: !fromSummary && rows && rows.pairs > 0 ? pairedOf(rows) : null,
+        n: c.summary ? c.summary.n : (m?.n ?? 0),
+        mean: c.summary ? c.summary.mean : (m?.mean ?? null),
+        m2: c.summary ? c.summary.m2 : (m?.m2 ?? null),
+        fromSummary: c.summary !== null,
+        pairs: m && m.pairs > 0 ? pairedOf(m) : null,
       };
     }),
     values,
@@ -213,9 +225,6 @@ async function scoreValues(manager: EntityManager, p: unknown[], counted: Record
   return { values, ranks };
 }
 
-const yesOf = (sheets: SheetRow[], byClassroom: ReadonlyMap<string, SheetMoments>, arm: Arm) =>
-  sheets.filter((s) => s.arm === arm).reduce((k, s) => k + yesCount(byClassroom.get(s.classroom_id)!), 0);
-
 /**
  * The same statistics of a yes/no measure from its counts alone (answers are 0 and 1), with no second scan: k yes and
  * z = n − k no per arm. Quartiles read the sorted answers (z zeros, then k ones) at the same ranks as a score's; about
@@ -258,22 +267,59 @@ export function yesNoValues(yes: Record<Arm, number>, counted: Record<Arm, numbe
 
 const pairedOf = (c: SheetMoments): PairedSummary => ({ n: c.pairs, meanY: c.pair_mean_y!, meanX: c.pair_mean_x!, syy: c.pair_syy!, sxx: c.pair_sxx!, sxy: c.pair_sxy! });
 
-interface SheetRow {
-  id: string;
+interface ClassroomRow {
   classroom_id: string;
-  mode?: string;
-  arm?: Arm | null;
-  /** Stored digest (hex), null until the sheet is submitted or accepted through the API. */
+  site_id: string;
+  site_name: string;
+  arm: Arm;
+  registered: number;
+  sheet_id: string | null;
+  sheet_state: SheetState | null;
+  mode: 'rows' | 'summary' | null;
+  /** The sheet is in the states read. */
+  read: boolean | null;
+  entered: boolean | null;
+  summary_n: number | null;
+  summary_mean: number | null;
+  summary_m2: number | null;
   digest: string | null;
+  pretest_sheet_id: string | null;
+  pretest_digest: string | null;
+  /** The sheet's stored sums as moments, when stored with the baseline sheet read (or no pairs are wanted); else null. */
+  moments_stored: SheetMoments | null;
 }
 
+/**
+ * Every classroom with an arm: registered codes (one pass over the registry, materialized: inlined, the planner once
+ * reran the count per classroom), its outcome sheet, and the baseline sheet read with it. $1 study, $2 outcome wave,
+ * $3 measure, $4 sheet states read, $5 baseline wave (null: no pairs).
+ */
+const classroomsSql = `
+  WITH registered AS MATERIALIZED (SELECT classroom_id, count(*)::int AS n FROM students WHERE study_id = $1 GROUP BY classroom_id)
+  SELECT c.id AS classroom_id, c.site_id, s.name AS site_name, c.arm, coalesce(r.n, 0)::int AS registered,
+         sh.id AS sheet_id, sh.state AS sheet_state, sh.mode, sh.state = ANY($4) AS read,
+         (sh.summary_n IS NOT NULL OR (sh.state = 'open' AND EXISTS (SELECT 1 FROM scores x WHERE x.sheet_id = sh.id))) AS entered,
+         sh.summary_n, sh.summary_mean::float8 AS summary_mean, (sh.summary_sd::float8 ^ 2) * (sh.summary_n - 1) AS summary_m2,
+         encode(sh.rows_sha256, 'hex') AS digest, bs.id AS pretest_sheet_id, encode(bs.rows_sha256, 'hex') AS pretest_digest,
+         CASE WHEN a.sheet_id IS NOT NULL THEN json_build_object(${momentsColumns('a')}) END AS moments_stored
+    FROM classrooms c JOIN sites s ON s.id = c.site_id
+    LEFT JOIN registered r ON r.classroom_id = c.id
+    LEFT JOIN score_sheets sh ON sh.classroom_id = c.id AND sh.wave_id = $2 AND sh.measure_id = $3
+    LEFT JOIN score_sheets bs ON $5::uuid IS NOT NULL AND bs.classroom_id = c.id AND bs.wave_id = $5 AND bs.measure_id = $3 AND bs.state = ANY($4)
+    LEFT JOIN sheet_sums a ON a.sheet_id = sh.id AND (bs.id IS NULL OR a.pretest_sheet_id = bs.id)
+   WHERE c.study_id = $1 AND c.arm IS NOT NULL
+   ORDER BY s.name, c.name`;
+
 /** Digests of sheets that have none stored (rows written some other way than the submit/accept path). */
-async function fillMissingDigests(manager: EntityManager, sheets: SheetRow[]): Promise<void> {
-  const missing = sheets.filter((s) => s.digest === null);
+async function fillMissingDigests(manager: EntityManager, classrooms: ClassroomRead[]): Promise<void> {
+  const missing = classrooms.flatMap((c) => [
+    ...(c.rows!.digest === null ? [{ id: c.sheetId!, set: (d: string) => (c.rows!.digest = d) }] : []),
+    ...(c.rows!.pretestSheetId !== null && c.rows!.pretestDigest === null ? [{ id: c.rows!.pretestSheetId, set: (d: string) => (c.rows!.pretestDigest = d) }] : []),
+  ]);
   if (missing.length === 0) return;
-  const computed: { id: string; digest: string }[] = await manager.query(`SELECT id, encode(digest, 'hex') AS digest FROM (${sheetDigestsSql}) d`, [missing.map((s) => s.id)]);
+  const computed: { id: string; digest: string }[] = await manager.query(`SELECT id, encode(digest, 'hex') AS digest FROM (${sheetDigestsSql}) d`, [missing.map((m) => m.id)]);
   const byId = new Map(computed.map((d) => [d.id, d.digest]));
-  for (const s of missing) s.digest = byId.get(s.id)!;
+  for (const m of missing) m.set(byId.get(m.id)!);
 }
 
 /** The digest of a sheet without scored rows: the SHA-256 of the empty text. */

@@ -15,7 +15,7 @@ import { accountFor, needsPretest } from './accounting.js';
 import { AnalysisError, analyse } from './engine.js';
 import { bundleRowsSql, canonicalSummariesSql, gather, sheetStatesFor } from './gather.js';
 import { principalView } from './principal-view.js';
-import { comparisonSelect, multiplicityRunsSql, toRun, type ComparisonRow, type RunRow } from './queries.js';
+import { comparisonSelect, finishRunSql, multiplicityRunsSql, toRun, type ComparisonRow, type RunRow } from './queries.js';
 
 // Runs of a comparison: queued, executed once by a worker, read (whole or as a principal's view), locked, bundled.
 // The comparisons themselves are in ./comparisons.ts.
@@ -55,25 +55,25 @@ export async function executeRun(db: DataSource, logger: Logger, runId: string):
   const claimed = claimedRows[0];
   if (!claimed) return;
   try {
-    const results = await db.transaction('REPEATABLE READ', async (manager) => {
+    await db.transaction('REPEATABLE READ', async (manager) => {
       const [k]: ComparisonRow[] = await manager.query(`${comparisonSelect} WHERE k.id = $1`, [claimed.comparison_id]);
       const [study] = await manager.query(`SELECT unit_of_assignment, quasi_experimental FROM studies WHERE id = $1`, [k.study_id]);
       const [planRow] = await manager.query(`SELECT content FROM plan_versions WHERE study_id = $1 AND version = $2`, [k.study_id, claimed.plan_version]);
       const plan = planRow.content as PlanContent;
       const [baseline] = await manager.query(`SELECT id FROM waves WHERE study_id = $1 AND kind = 'baseline' LIMIT 1`, [k.study_id]);
       const states = sheetStatesFor(claimed.kind);
+      const baselineWaveId: string | null = k.covariate === 'baseline' ? (baseline?.id ?? null) : null;
       const data = await gather(manager, {
         studyId: k.study_id,
         measureId: k.measure_id,
         waveId: k.wave_id,
-        baselineWaveId: k.covariate === 'baseline' ? (baseline?.id ?? null) : null,
+        baselineWaveId,
         states,
         yesNo: k.measure_scale === 'yes-no',
       });
       // Who was analysed and who was lost, and why, in the same snapshot as the data: the run stores what it read.
       const pretest = needsPretest({ primaryTest: k.primary_test, covariate: k.covariate, scale: k.measure_scale, hasBaselineWave: Boolean(baseline) });
-      const read = new Map(data.classrooms.filter((c) => !c.fromSummary).map((c) => [c.classroomId, { scored: c.n, withPretest: c.pairs?.n ?? 0, left: c.left }]));
-      const accounting = await accountFor(manager, { studyId: k.study_id, measureId: k.measure_id, waveId: k.wave_id, reads: states, pretestWaveId: pretest ? baseline.id : null }, read);
+      const accounting = await accountFor(manager, { studyId: k.study_id, measureId: k.measure_id, waveId: k.wave_id, reads: states, pretestWaveId: pretest ? baseline.id : null }, data.read);
       const computed = analyse(
         {
           kind: claimed.kind,
@@ -87,14 +87,11 @@ export async function executeRun(db: DataSource, logger: Logger, runId: string):
         },
         data,
       );
-      return { computed: { ...computed, accounting }, data };
+      // A finished confirmatory run moves its study's adjusted figures: cached locked answers are read afresh.
+      changeFeed(db).expect(`runs:${claimed.study_id}`);
+      const results = { ...computed, accounting };
+      await manager.query(finishRunSql, [runId, results, results.engineVersion, data.dataSha256, k.study_id, k.wave_id, baselineWaveId, k.measure_id, states]);
     });
-    // A finished confirmatory run moves its study's adjusted figures: cached locked answers are read afresh.
-    changeFeed(db).expect(`runs:${claimed.study_id}`);
-    await db.query(
-      `UPDATE runs SET state = 'finished', finished_at = now(), results = $2, engine_version = $3, data_sha256 = $4, input_sheet_ids = $5, classroom_arms = $6 WHERE id = $1`,
-      [runId, results.computed, results.computed.engineVersion, results.data.dataSha256, results.data.sheetIds, Object.fromEntries(results.data.classrooms.map((c) => [c.classroomId, c.arm]))],
-    );
   } catch (err) {
     const known = err instanceof AnalysisError || (err as Error).name === 'StatsInputError';
     if (!known) logger.error({ err, runId }, 'run failed unexpectedly');

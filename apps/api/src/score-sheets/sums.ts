@@ -22,11 +22,22 @@ const sheetSumsSql = `
       WHERE o.sheet_id = u.sheet_id) a`;
 
 // Each moment is one division of an exact numerator: (nΣx² − (Σx)²)/n keeps its digits for scores far from zero.
-const momentsOf = (a: string) => `
-  ${a}.sheet_id, ${a}.n, ${a}.left_n, (${a}.sy / nullif(${a}.n, 0))::float8 AS mean, ((${a}.n * ${a}.syy - ${a}.sy * ${a}.sy) / nullif(${a}.n, 0))::float8 AS m2,
-  ${a}.np AS pairs, (${a}.py / nullif(${a}.np, 0))::float8 AS pair_mean_y, (${a}.px / nullif(${a}.np, 0))::float8 AS pair_mean_x,
-  ((${a}.np * ${a}.pyy - ${a}.py * ${a}.py) / nullif(${a}.np, 0))::float8 AS pair_syy, ((${a}.np * ${a}.pxx - ${a}.px * ${a}.px) / nullif(${a}.np, 0))::float8 AS pair_sxx,
-  ((${a}.np * ${a}.pxy - ${a}.px * ${a}.py) / nullif(${a}.np, 0))::float8 AS pair_sxy`;
+const moments = (a: string): [keyof SheetMoments, string][] => [
+  ['sheet_id', `${a}.sheet_id`],
+  ['n', `${a}.n`],
+  ['left_n', `${a}.left_n`],
+  ['mean', `(${a}.sy / nullif(${a}.n, 0))::float8`],
+  ['m2', `((${a}.n * ${a}.syy - ${a}.sy * ${a}.sy) / nullif(${a}.n, 0))::float8`],
+  ['pairs', `${a}.np`],
+  ['pair_mean_y', `(${a}.py / nullif(${a}.np, 0))::float8`],
+  ['pair_mean_x', `(${a}.px / nullif(${a}.np, 0))::float8`],
+  ['pair_syy', `((${a}.np * ${a}.pyy - ${a}.py * ${a}.py) / nullif(${a}.np, 0))::float8`],
+  ['pair_sxx', `((${a}.np * ${a}.pxx - ${a}.px * ${a}.px) / nullif(${a}.np, 0))::float8`],
+  ['pair_sxy', `((${a}.np * ${a}.pxy - ${a}.px * ${a}.py) / nullif(${a}.np, 0))::float8`],
+];
+
+/** The moments of the sums in `a` as arguments of json_build_object (float8 prints its shortest exact form). */
+export const momentsColumns = (a: string) => moments(a).map(([name, expr]) => `'${name}', ${expr}`).join(', ');
 
 /** What a sheet's rows give once they stop changing (submitted, accepted), stored so runs need not read them again. */
 export async function storeSheetDigestsAndSums(manager: EntityManager, sheetIds: string[]): Promise<void> {
@@ -82,26 +93,15 @@ export interface SheetMoments {
   pair_sxy: number | null;
 }
 
-/**
- * The moments of the row sheets a run or the Checks read, each paired with the pretest sheet given (null: no pairs
- * wanted, and none returned): stored sums where they were taken with that pretest sheet, the rest summed now from the
- * rows (not stored: a reader only reads).
- */
-export async function readSheetMoments(manager: EntityManager, wanted: { sheetId: string; pretestSheetId: string | null }[]): Promise<Map<string, SheetMoments>> {
-  const ids = wanted.map((w) => w.sheetId);
-  const pretests = wanted.map((w) => w.pretestSheetId);
-  const stored: SheetMoments[] = await manager.query(
-    `SELECT ${momentsOf('a')} FROM unnest($1::uuid[], $2::uuid[]) AS u(sheet_id, pretest_sheet_id)
-       JOIN sheet_sums a ON a.sheet_id = u.sheet_id AND (u.pretest_sheet_id IS NULL OR a.pretest_sheet_id = u.pretest_sheet_id)`,
-    [ids, pretests],
-  );
-  const out = new Map(stored.map((m) => [m.sheet_id, m]));
-  const missing = wanted.filter((w) => !out.has(w.sheetId));
-  if (missing.length > 0) {
-    const fresh: SheetMoments[] = await manager.query(`SELECT ${momentsOf('a')} FROM (${sheetSumsSql}) a`, [missing.map((w) => w.sheetId), missing.map((w) => w.pretestSheetId)]);
-    for (const m of fresh) out.set(m.sheet_id, m);
-  }
-  // Pairs taken with a pretest sheet the reader does not read are not its pairs.
-  for (const w of wanted) if (w.pretestSheetId === null) Object.assign(out.get(w.sheetId)!, { pairs: 0, pair_mean_y: null, pair_mean_x: null, pair_syy: null, pair_sxx: null, pair_sxy: null });
-  return out;
+/** Sums the given row sheets now, each paired with the baseline sheet given (null: none), for readers of sheets without valid stored sums. */
+export async function sumSheets(manager: EntityManager, wanted: { sheetId: string; pretestSheetId: string | null }[]): Promise<Map<string, SheetMoments>> {
+  if (wanted.length === 0) return new Map();
+  const rows: SheetMoments[] = await manager.query(`SELECT ${moments('a').map(([name, expr]) => `${expr} AS ${name}`).join(', ')} FROM (${sheetSumsSql}) a`, [
+    wanted.map((w) => w.sheetId),
+    wanted.map((w) => w.pretestSheetId),
+  ]);
+  return new Map(rows.map((m) => [m.sheet_id, m]));
 }
+
+/** The same moments without the pairs: those taken with a baseline sheet the reader does not read are not its pairs. */
+export const withoutPairs = (m: SheetMoments): SheetMoments => ({ ...m, pairs: 0, pair_mean_y: null, pair_mean_x: null, pair_syy: null, pair_sxx: null, pair_sxy: null });
