@@ -68,7 +68,7 @@ export function authRouter(deps: Deps, registry: OpenAPIRegistry) {
     {
       method: 'get',
       path: '/auth/me',
-      summary: 'The signed-in user and their role grants',
+      summary: 'The signed-in account and its role grants',
       access: 'signed-in',
       tag,
       responses: { 200: { description: 'The user', schema: meResponseSchema } },
