@@ -20,9 +20,9 @@ export const planFieldLabels: Record<keyof PlanContent, string> = {
   plannedStudentsPerClassroom: 'Planned students per classroom',
   shareIntervention: 'Share in the intervention',
   covariateR2: 'Expected R² of the baseline score',
-  summaryEntryAllowed: 'Classrooms may report only summaries',
   attritionBoundary: 'Attrition boundary for the evidence verdict',
   attritionBoundaryReason: 'Why the optimistic boundary',
+  summaryEntryAllowed: 'Classrooms may report only summaries',
 };
 
 /** The two attrition boundaries of the evidence standards, in the plan's words (the Checks offer the same two). */
