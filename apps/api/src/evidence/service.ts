@@ -157,16 +157,17 @@ interface PlanChoice {
 export function boundaryChoice(plan: PlanChoice, asked?: AttritionBoundary): BoundaryChoice {
   const boundary = asked ?? plan.boundary;
   const whose = plan.source === 'sealed' ? `plan version ${plan.version}` : 'the plan’s draft';
+  const registers = plan.source === 'sealed' ? 'registers' : 'chooses';
   let explanation: string;
   if (boundary !== plan.boundary) {
-    explanation = `Judged against the ${boundary} attrition boundary, as asked here; ${plan.source === 'none' ? 'until a plan chooses one, the cautious one applies' : `${whose} registers the ${plan.boundary} one`}.`;
+    explanation = `Judged against the ${boundary} attrition boundary, as asked here; ${plan.source === 'none' ? 'until a plan chooses one, the cautious one applies' : `${whose} ${registers} the ${plan.boundary} one`}.`;
   } else if (plan.source === 'none') {
     explanation = `Judged against the cautious attrition boundary, the one that applies until a plan chooses: ${CAUTIOUS_WHY}.`;
   } else {
     explanation =
       boundary === 'cautious'
-        ? `Judged against the cautious attrition boundary, which ${whose} registers: ${CAUTIOUS_WHY}.`
-        : `Judged against the optimistic attrition boundary, which ${whose} registers with the reason “${plan.reason}”.`;
+        ? `Judged against the cautious attrition boundary, which ${whose} ${registers}: ${CAUTIOUS_WHY}.`
+        : `Judged against the optimistic attrition boundary, which ${whose} ${registers} with the reason “${plan.reason}”.`;
   }
   return { boundary, chosenBy: boundary === plan.boundary ? 'plan' : 'reader', planVersion: plan.version, reason: plan.reason, explanation };
 }

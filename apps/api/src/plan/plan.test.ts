@@ -98,6 +98,14 @@ describe('the plan', () => {
     // Neither refusal changed the draft createStudy saved.
     expect((await s.lead.agent.get(`/api/studies/${s.studyId}/plan`)).body.draft.attritionBoundary).toBe('cautious');
 
+    // Before sealing, the verdict follows the draft's choice and says so.
+    const why = 'Students are tested in regular lessons whatever their classroom does.';
+    await send(s.lead, 'put', `/api/studies/${s.studyId}/plan`, { ...samplePlan(s.measureId, s.outcomeId), attritionBoundary: 'optimistic', attritionBoundaryReason: why }, 200);
+    const draftEvidence = (await s.lead.agent.get(`/api/studies/${s.studyId}/evidence`)).body;
+    expect(draftEvidence.boundary).toBe('optimistic');
+    expect(draftEvidence.plan).toMatchObject({ boundary: 'optimistic', chosenBy: 'plan', planVersion: null, reason: why });
+    expect(draftEvidence.plan.explanation).toBe(`Judged against the optimistic attrition boundary, which the plan’s draft chooses with the reason “${why}”.`);
+
     await send(s.lead, 'put', `/api/studies/${s.studyId}/plan`, samplePlan(s.measureId, s.outcomeId), 200);
     const sealed = await send(s.lead, 'post', `/api/studies/${s.studyId}/plan/seal`, {}, 200);
     expect(sealed.versions[0].content).toMatchObject({ attritionBoundary: 'cautious', attritionBoundaryReason: '' });
@@ -117,6 +125,10 @@ describe('the plan', () => {
     ]);
     const [audit] = await t.db.query(`SELECT after FROM audit_events WHERE study_id = $1 AND action = 'plan.amended'`, [s.studyId]);
     expect(audit.after.changes.map((c: { field: string }) => c.field)).toEqual(['attritionBoundary', 'attritionBoundaryReason']);
+    // From then on the verdict is judged against it, saying which version registers it and why.
+    const evidence = (await s.lead.agent.get(`/api/studies/${s.studyId}/evidence`)).body;
+    expect(evidence.plan.explanation).toBe(`Judged against the optimistic attrition boundary, which plan version 2 registers with the reason “${reason}”.`);
+    expect((await s.lead.agent.get(`/api/studies/${s.studyId}/evidence?boundary=cautious`)).body.plan.boundary).toBe('optimistic');
   });
 
   it('when a version was sealed before the boundary could be chosen, then it means the cautious one: restating it is no amendment', async () => {
