@@ -36,8 +36,15 @@ const moments = (a: string): [keyof SheetMoments, string][] => [
   ['pair_sxy', `((${a}.np * ${a}.pxy - ${a}.px * ${a}.py) / nullif(${a}.np, 0))::float8`],
 ];
 
-/** The moments of the sums in `a` as arguments of json_build_object (float8 prints its shortest exact form). */
-export const momentsColumns = (a: string) => moments(a).map(([name, expr]) => `'${name}', ${expr}`).join(', ');
+/** The moments of the sums in `a` as select-list columns, each name prefixed (a row holding other columns too). */
+export const momentsColumns = (a: string, prefix = '') => moments(a).map(([name, expr]) => `${expr} AS ${prefix}${name}`).join(', ');
+
+/** The moments of a row selected with `momentsColumns(…, prefix)`, or null when it has none. */
+export function momentsOfRow(row: object, prefix: string): SheetMoments | null {
+  const columns = row as Record<string, unknown>;
+  if (columns[`${prefix}sheet_id`] === null) return null;
+  return Object.fromEntries(moments('').map(([name]) => [name, columns[`${prefix}${name}`]])) as unknown as SheetMoments;
+}
 
 /** What a sheet's rows give once they stop changing (submitted, accepted), stored so runs need not read them again. */
 export async function storeSheetDigestsAndSums(manager: EntityManager, sheetIds: string[]): Promise<void> {
@@ -96,7 +103,7 @@ export interface SheetMoments {
 /** Sums the given row sheets now, each paired with the baseline sheet given (null: none), for readers of sheets without valid stored sums. */
 export async function sumSheets(manager: EntityManager, wanted: { sheetId: string; pretestSheetId: string | null }[]): Promise<Map<string, SheetMoments>> {
   if (wanted.length === 0) return new Map();
-  const rows: SheetMoments[] = await manager.query(`SELECT ${moments('a').map(([name, expr]) => `${expr} AS ${name}`).join(', ')} FROM (${sheetSumsSql}) a`, [
+  const rows: SheetMoments[] = await manager.query(`SELECT ${momentsColumns('a')} FROM (${sheetSumsSql}) a`, [
     wanted.map((w) => w.sheetId),
     wanted.map((w) => w.pretestSheetId),
   ]);
