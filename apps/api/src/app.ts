@@ -22,6 +22,7 @@ import { districtSignInRouter } from './auth/district-sign-in-router.js';
 import type { Deps } from './deps.js';
 import { apiNotFound, AppError, errorHandler } from './errors.js';
 import { healthRouter } from './health/router.js';
+import { listenOnOwnPrototypes } from './http/listen.js';
 import { requestLog } from './http/request-log.js';
 import { homeRouter } from './home/router.js';
 import { openApiRouter } from './openapi/router.js';
@@ -31,6 +32,7 @@ import { accountsRouter } from './accounts/router.js';
 /** Builds the Express app without listening; tests import this. */
 export function createApp(deps: Deps) {
   const app = express();
+  listenOnOwnPrototypes(app);
   app.disable('x-powered-by');
   // Every API answer is `no-store`, so hashing each body for a weak ETag is wasted work; a locked run sets its own.
   app.set('etag', false);
