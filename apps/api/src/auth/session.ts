@@ -86,8 +86,9 @@ function checkToken(key: KeyObject, token: string): SessionClaims | null {
 /**
  * Returns the claims of a valid token, or null for a forged, malformed, expired or too old one. A token is the same
  * signed text on every request of a sign-in, so its signature is checked once and the claims kept by that exact text
- * until it expires: checking it cost a fifth of a signed-in request. Only a token this secret signed is kept, and
- * whether its session still stands (sign-out, reset, deactivation, role change) is asked on every request.
+ * until it expires: checking it cost about a quarter of a signed-in request's time (CPU profile at 50 connections).
+ * Only a token this secret signed is kept, and whether its session still stands (sign-out, reset, deactivation, role
+ * change) is asked on every request.
  */
 export function verifySession(config: Config, token: string): SessionClaims | null {
   const { key, verified } = secretOf(config);
