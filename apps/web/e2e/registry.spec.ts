@@ -216,6 +216,22 @@ test.describe.serial('a study from its start to its draw', () => {
     const api = await page.request.get(`/api${studyPath}/classrooms`);
     expect((await api.json()).items.map((c: { name: string }) => c.name)).toEqual(['Room 1']);
   });
+
+  test('the coordinator moves a classroom to the other arm with a reason; the draw lists the move and the study turns quasi-experimental', async ({ page }) => {
+    await signIn(page, 'coordinator@evenhand.test');
+    await page.goto(`${studyPath}/draw`);
+    await expect(page.getByText('No classroom has been moved by hand: the study follows the random draw.')).toBeVisible();
+    const form = page.getByRole('form', { name: 'Reassign a classroom' });
+    const room = await form.getByRole('option', { name: /^Room 1, / }).getAttribute('value');
+    await form.getByLabel('Classroom', { exact: true }).selectOption(room!);
+    const reason = 'The teacher of Room 1 moved to a school that runs the programme everywhere.';
+    await form.getByLabel('Reason').fill(reason);
+    await form.getByRole('button', { name: 'Reassign the classroom' }).click();
+    await expect(form.getByText(/^Room 1 is now in the (intervention|comparison) arm\. The study is marked quasi-experimental\.$/)).toBeVisible();
+    await expect(page.getByRole('table', { name: 'Reassignments' }).getByRole('row', { name: new RegExp(reason) })).toBeVisible();
+    const study = await page.request.get(`/api${studyPath}`);
+    expect((await study.json()).quasiExperimental).toBe(true);
+  });
 });
 
 test.describe('the registry screens of the demo study are accessible', () => {
