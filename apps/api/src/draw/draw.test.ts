@@ -16,6 +16,8 @@ describe('the draw', () => {
     const preview = await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draw`, { seed: 'larkspur-2026', commit: false }, 200);
     expect(preview.committed).toBe(false);
     expect((await t.db.query(`SELECT count(*)::int AS n FROM draws`))[0].n).toBe(0);
+    const none = await s.lead.agent.get(`/api/studies/${s.studyId}/draw`);
+    expect([none.status, none.body]).toEqual([200, null]);
     // Blocked by site: every site of 4 classrooms splits 2 / 2.
     for (const row of preview.balance) expect([row.intervention.units, row.comparison.units]).toEqual([2, 2]);
 
@@ -68,6 +70,12 @@ describe('the draw', () => {
   it('when a classroom is reassigned with a reason, then it is audited and the study is quasi-experimental', async () => {
     const s = await createStudy(t.app);
     const { classrooms } = await enrolClassrooms(s, 1, 2);
+    const early = await s.coordinator.agent
+      .post(`/api/studies/${s.studyId}/draw/reassignments`)
+      .set('x-csrf-token', s.coordinator.csrf)
+      .send({ classroomId: classrooms[0].id, arm: 'comparison', reason: 'Before any draw there is nothing to reassign.' });
+    expect([early.status, early.body.error.message]).toEqual([409, 'The study has no committed draw yet; commit the draw before reassigning a classroom']);
+    expect((await s.lead.agent.get(`/api/studies/${s.studyId}`)).body.quasiExperimental).toBe(false);
     const draw = await send(s.coordinator, 'post', `/api/studies/${s.studyId}/draw`, { commit: true }, 201);
     const target = classrooms[0].id;
     const from = draw.assignments.find((a: { unitId: string }) => a.unitId === target).arm;
