@@ -71,7 +71,7 @@ export function authRouter(deps: Deps, registry: OpenAPIRegistry) {
       summary: 'The signed-in account and its role grants',
       access: 'signed-in',
       tag,
-      responses: { 200: { description: 'The user', schema: meResponseSchema } },
+      responses: { 200: { description: 'The account', schema: meResponseSchema } },
     },
     ({ user }) => ({ body: { user } }),
   );
