@@ -46,14 +46,23 @@ export function assignedUnits(classrooms: ClassroomAggregate[], unit: 'classroom
       : { unit: c.classroomId, arm: armCode(c.arm), block: c.siteId, n: c.n, meanY: c.mean ?? 0, ssY: c.m2 ?? 0, meanX: [], spXY: [], spXX: [] },
   );
   if (unit === 'school') {
-    const bySchool = new Map<string, UnitMoments[]>();
-    for (const u of classroomUnits) bySchool.set(u.block!, [...(bySchool.get(u.block!) ?? []), u]);
-    const units = [...bySchool].map(([siteId, parts]) => withoutBlock(combineUnitMoments(parts, siteId)));
+    const units = [...groupBy(classroomUnits, (u) => u.block!)].map(([siteId, parts]) => withoutBlock(combineUnitMoments(parts, siteId)));
     return { unit, units, withPretest, blocks: 0, notes };
   }
   const sites = new Set(classroomUnits.map((u) => u.block));
   if (sites.size < 2) return { unit, units: classroomUnits.map(withoutBlock), withPretest, blocks: 0, notes };
   return { unit, units: classroomUnits, withPretest, blocks: sites.size, notes };
+}
+
+/** The items grouped by key, groups in order of first appearance (one pass: filtering per site cost 41 passes over 80 000 classrooms). */
+export function groupBy<T>(items: readonly T[], key: (item: T) => string): Map<string, T[]> {
+  const groups = new Map<string, T[]>();
+  for (const item of items) {
+    const group = groups.get(key(item));
+    if (group) group.push(item);
+    else groups.set(key(item), [item]);
+  }
+  return groups;
 }
 
 function withoutBlock(u: UnitMoments): UnitMoments {
@@ -142,9 +151,8 @@ export function siteEstimatesFromComponents(
 ): RunResults['sites'] {
   const omega = hedgesCorrection(totalStudents - 2);
   const z = normalQuantile(0.975);
-  const siteIds = [...new Set(classrooms.map((c) => c.siteId))];
-  return siteIds.flatMap((siteId) => {
-    const rows = classrooms.filter((c) => c.siteId === siteId && c.n > 0 && c.mean !== null);
+  return [...groupBy(classrooms, (c) => c.siteId)].flatMap(([siteId, all]) => {
+    const rows = all.filter((c) => c.n > 0 && c.mean !== null);
     const side = (arm: Arm) => {
       const mine = rows.filter((c) => c.arm === arm);
       const weights = mine.map((c) => 1 / (components.tau2 + components.sigma2 / c.n));

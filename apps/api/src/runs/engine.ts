@@ -22,7 +22,7 @@ import {
   type Summary,
 } from '@evenhand/stats';
 import { arms, type Arm, type Deciding, type PlanContent, type PrimaryTest, type RunResults } from '@evenhand/entities';
-import { ClusteredAnalysisError, assignedUnits, clusterRobust, siteEstimatesFromComponents, twoLevel, type AssignedUnits, type ModelEffect } from './clustered.js';
+import { ClusteredAnalysisError, assignedUnits, clusterRobust, groupBy, siteEstimatesFromComponents, twoLevel, type AssignedUnits, type ModelEffect } from './clustered.js';
 import { NORMALITY_SAMPLE, type ClassroomAggregate, type Gathered } from './gather.js';
 import { YesNoAnalysisError, yesNoAnalysis } from './yes-no.js';
 
@@ -333,9 +333,7 @@ function unadjustedComponents(classrooms: ClassroomAggregate[]): { tau2: number;
 
 /** Students assigned one by one: each site's Hedges' g over its students. */
 function studentSiteEstimates(classrooms: ClassroomAggregate[]): RunResults['sites'] {
-  const siteIds = [...new Set(classrooms.map((c) => c.siteId))];
-  return siteIds.flatMap((siteId) => {
-    const rows = classrooms.filter((c) => c.siteId === siteId);
+  return [...groupBy(classrooms, (c) => c.siteId)].flatMap(([siteId, rows]) => {
     const x = armSummary(rows, 'intervention');
     const y = armSummary(rows, 'comparison');
     if (!x || !y || x.n < 2 || y.n < 2 || !(x.m2 + y.m2 > 0)) return [];

@@ -4,7 +4,7 @@ import { mergePairedSummaries, sampleRanks, type PairedSummary } from '@evenhand
 import type { Arm, SheetState } from '@evenhand/entities';
 import { sheetDigestsSql } from '../score-sheets/queries.js';
 import { yesCount } from './yes-no.js';
-import { momentsColumns, momentsOfRow, sumSheets, withoutPairs, type SheetMoments } from '../score-sheets/sums.js';
+import { momentsColumns, storedMomentsOf, sumSheets, withoutPairs, type SheetMoments } from '../score-sheets/sums.js';
 
 /** Which sheets a run reads: a confirmatory run only accepted ones; monitoring also those awaiting review. */
 export const sheetStatesFor = (kind: 'monitoring' | 'confirmatory'): ('accepted' | 'submitted')[] => (kind === 'confirmatory' ? ['accepted'] : ['accepted', 'submitted']);
@@ -88,7 +88,7 @@ export async function readClassrooms(manager: EntityManager, scope: Omit<Scope, 
   // By site name, then classroom name, in character-code order (sorted here: sorting 80 000 wide rows cost PostgreSQL a second).
   const before = (a: string, b: string) => (a < b ? -1 : a > b ? 1 : 0);
   rows.sort((a, b) => before(a.site_name, b.site_name) || before(a.classroom_name, b.classroom_name));
-  const stored = rows.map((r) => momentsOfRow(r, 'stored_'));
+  const stored = rows.map(storedMomentsOf);
   const missing = rows.filter((r, i) => r.mode === 'rows' && r.read && stored[i] === null);
   const fresh = await sumSheets(
     manager,
@@ -337,7 +337,10 @@ export function dataHash(classrooms: { classroomId: string; arm: Arm; outcome: s
   const lines = [...classrooms]
     .sort((a, b) => (a.classroomId < b.classroomId ? -1 : a.classroomId > b.classroomId ? 1 : 0))
     .map((c) => `${c.classroomId},${c.arm},${c.outcome},${c.baseline === null || c.baseline === EMPTY_DIGEST ? '' : c.baseline}`);
-  return createHash('sha256').update([...lines, ...summaryLines].join('\n')).digest('hex');
+  // Line by line: joining 80 000 lines into one text first took ten times as long.
+  const hash = createHash('sha256');
+  [...lines, ...summaryLines].forEach((line, i) => hash.update(i === 0 ? line : `\n${line}`));
+  return hash.digest('hex');
 }
 
 interface ValueRow {

@@ -39,11 +39,23 @@ const moments = (a: string): [keyof SheetMoments, string][] => [
 /** The moments of the sums in `a` as select-list columns, each name prefixed (a row holding other columns too). */
 export const momentsColumns = (a: string, prefix = '') => moments(a).map(([name, expr]) => `${expr} AS ${prefix}${name}`).join(', ');
 
-/** The moments of a row selected with `momentsColumns(…, prefix)`, or null when it has none. */
-export function momentsOfRow(row: object, prefix: string): SheetMoments | null {
-  const columns = row as Record<string, unknown>;
-  if (columns[`${prefix}sheet_id`] === null) return null;
-  return Object.fromEntries(moments('').map(([name]) => [name, columns[`${prefix}${name}`]])) as unknown as SheetMoments;
+/** The moments of a row selected with `momentsColumns(a, 'stored_')`, or null when it has none (written out: a generic copy cost a quarter second at 80 000 rows). */
+export function storedMomentsOf(row: object): SheetMoments | null {
+  const r = row as Record<`stored_${keyof SheetMoments}`, never>;
+  if (r.stored_sheet_id === null) return null;
+  return {
+    sheet_id: r.stored_sheet_id,
+    n: r.stored_n,
+    left_n: r.stored_left_n,
+    mean: r.stored_mean,
+    m2: r.stored_m2,
+    pairs: r.stored_pairs,
+    pair_mean_y: r.stored_pair_mean_y,
+    pair_mean_x: r.stored_pair_mean_x,
+    pair_syy: r.stored_pair_syy,
+    pair_sxx: r.stored_pair_sxx,
+    pair_sxy: r.stored_pair_sxy,
+  };
 }
 
 /** What a sheet's rows give once they stop changing (submitted, accepted), stored so runs need not read them again. */
