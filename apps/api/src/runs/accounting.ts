@@ -5,7 +5,7 @@ import { arms, lossReasons, type Accounting, type Arm, type AttritionCheck, type
 
 /**
  * Who was analysed and who was lost, and why: the one definition the run stores (`results.accounting`), the Checks
- * show and the report and bundle repeat. `standingsSql` reads each randomised classroom; `account` (pure) turns those
+ * show and the report and bundle repeat. `readClassrooms` (gather.ts) reads each randomised classroom; `account` (pure) turns those
  * into counts, reasons and attrition.
  */
 

@@ -24,7 +24,7 @@ export interface AssignedUnits {
 const armCode = (arm: Arm): 0 | 1 => (arm === 'intervention' ? 1 : 0);
 
 /**
- * Per-unit moments from the classroom pass: each classroom's outcome (and, with a pretest, its students who have
+ * Per-unit moments from the classrooms' sums: each classroom's outcome (and, with a pretest, its students who have
  * both scores); whole schools when schools were assigned. Classrooms were drawn within their school, so with two
  * or more schools the school is the block; schools drawn in one district block have none.
  */

@@ -331,7 +331,7 @@ const EMPTY_DIGEST = createHash('sha256').digest('hex');
  * The data hash: SHA-256 over one line per classroom with analysed rows, "classroom_id,arm,outcome digest,pretest
  * digest" (the pretest digest empty without pretest scores), in byte order of classroom ID, followed by the summary
  * lines (byte order), all joined with "\n". A digest is the lowercase hex SHA-256 of the sheet's "student_code,score"
- * lines in byte order of student code, joined with "\n" (see score-sheets/digest.ts), so the bundle's rows rebuild it.
+ * lines in byte order of student code, joined with "\n" (see sheetDigestsSql in score-sheets/queries.ts), so the bundle's rows rebuild it.
  */
 export function dataHash(classrooms: { classroomId: string; arm: Arm; outcome: string; baseline: string | null }[], summaryLines: string[]): string {
   const lines = [...classrooms]

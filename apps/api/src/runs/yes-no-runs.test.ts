@@ -37,7 +37,7 @@ beforeAll(async () => {
 });
 afterAll(() => t.close());
 
-/** A classroom's aggregate as the classroom pass reads it: n, mean and M2 of 0/1 answers. */
+/** A classroom's aggregate as a run reads it: n, mean and M2 of 0/1 answers. */
 function classroom(id: string, arm: 'intervention' | 'comparison', yes: number, n: number): ClassroomAggregate {
   const mean = yes / n;
   return { classroomId: id, siteId: 's', siteName: 'S', arm, n, mean, m2: yes * (1 - mean), fromSummary: false, pairs: null };

@@ -2,7 +2,7 @@ import type { EntityManager } from 'typeorm';
 import { storeSheetDigests } from './queries.js';
 
 /**
- * A sheet's exact sums, what a run's classroom pass needs from it: scored rows (n), Σy and Σy², rows marked as left
+ * A sheet's exact sums, what a run needs from it per classroom: scored rows (n), Σy and Σy², rows marked as left
  * without a score, and over the students who also have a score on the paired pretest sheet, their count and Σy, Σx,
  * Σy², Σx², Σxy (numeric, so exact). Stored when a sheet is submitted or accepted (as its digest is) and forgotten by
  * any write to its scores or its pretest sheet's (migration 1796600000000); a run computes any it lacks.
