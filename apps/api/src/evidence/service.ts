@@ -62,27 +62,35 @@ const pair = <T>(f: (arm: Arm) => T): ArmPair<T> => ({ intervention: f('interven
 interface Described {
   k: ComparisonRow;
   locked: boolean;
-  description: Omit<ComparisonDescription, 'boundary'>;
+  /** The verdicts stored at its lock (then the comparison is not described again), else null. */
+  stored: StoredVerdictRow | null;
+  description: Omit<ComparisonDescription, 'boundary'> | null;
 }
 
 /**
  * Each pre-specified comparison described from what Evenhand already holds: for a locked run (or `locking`, the run being
  * locked), what the run read (its accounting, arms, input sheets and the reassignments before it started); otherwise
  * today's accepted sheets, with the effect of the newest finished run when there is one. Baseline equivalence is the
- * Checks' figure.
+ * Checks' figure. A locked comparison whose verdicts were stored at its lock comes with them, undescribed.
  */
 async function describeComparisons(db: Reader, user: SessionUser, study: StudyEntity, locking: string | null = null): Promise<Described[]> {
   const studyId = study.id;
-  const checks = await studyChecks(db, user, studyId);
   const rows: ComparisonRow[] = await db.query(confirmatoryComparisonsSql, [studyId, locking]);
+  const isLocked = (k: ComparisonRow) => k.run_state === 'locked' || (locking !== null && k.run_id === locking);
+  const lockedRuns = rows.filter(isLocked).map((k) => k.run_id!);
+  const stored = new Map<string, StoredVerdictRow>();
+  if (lockedRuns.length) for (const v of (await db.query(storedVerdictsSql, [lockedRuns])) as StoredVerdictRow[]) stored.set(v.run_id, v);
+  const described: Described[] = rows.filter((k) => stored.has(k.run_id!)).map((k) => ({ k, locked: true, stored: stored.get(k.run_id!)!, description: null }));
+  const toDescribe = rows.filter((k) => !stored.has(k.run_id!));
+  if (toDescribe.length === 0) return described;
+  const checks = await studyChecks(db, user, studyId);
   const draw = await db.manager.findOneBy(DrawEntity, { studyId });
   const baselineWave = await db.manager.findOne(WaveEntity, { where: { studyId, kind: 'baseline' }, order: { opensOn: 'ASC' } });
   const classrooms: { id: string; arm: Arm; teacher_id: string; site_id: string }[] = await db.query(deliverersSql, [studyId]);
   const clustered = study.unitOfAssignment !== 'student';
 
-  const described: Described[] = [];
-  for (const k of rows) {
-    const locked = k.run_state === 'locked' || (locking !== null && k.run_id === locking);
+  for (const k of toDescribe) {
+    const locked = isLocked(k);
     const results = k.results;
     const sheets = locked ? (k.input_sheet_ids ?? []) : null;
     const pretest = needsPretest({ primaryTest: k.primary_test, covariate: k.covariate, scale: k.measure_scale, hasBaselineWave: Boolean(baselineWave) });
@@ -123,6 +131,7 @@ async function describeComparisons(db: Reader, user: SessionUser, study: StudyEn
     described.push({
       k,
       locked,
+      stored: null,
       description: {
         randomised: Boolean(draw) && !(study.quasiExperimental && reassignments === 0),
         unitOfAssignment: study.unitOfAssignment,
@@ -140,7 +149,8 @@ async function describeComparisons(db: Reader, user: SessionUser, study: StudyEn
       },
     });
   }
-  return described;
+  // In the confirmatory comparisons' own order.
+  return rows.map((k) => described.find((d) => d.k === k)!);
 }
 
 const CAUTIOUS_WHY = 'the intervention could affect which students leave';
@@ -188,7 +198,7 @@ async function runPlanChoice(db: Reader, studyId: string, version: number | null
 }
 
 /** Stores a locked comparison's verdicts, judged against both boundaries, with its plan's choice. */
-async function storeVerdicts(db: Reader, studyId: string, d: Described): Promise<StoredVerdictRow> {
+async function storeVerdicts(db: Reader, studyId: string, d: Described & { description: NonNullable<Described['description']> }): Promise<StoredVerdictRow> {
   const plan = await runPlanChoice(db, studyId, d.k.plan_version);
   const row: StoredVerdictRow = {
     run_id: d.k.run_id!,
@@ -214,7 +224,7 @@ export async function storeLockedVerdicts(manager: EntityManager, user: SessionU
   const db = within(manager);
   const study = await findVisibleStudy(manager, user, studyId);
   const mine = (await describeComparisons(db, user, study, runId)).find((d) => d.k.run_id === runId);
-  if (mine) await storeVerdicts(db, studyId, mine);
+  if (mine?.description) await storeVerdicts(db, studyId, { ...mine, description: mine.description });
 }
 
 /**
@@ -228,21 +238,18 @@ export async function studyEvidence(db: DataSource, user: SessionUser, studyId: 
   await listComparisons(db, user, studyId);
   const plan = await planChoiceOf(db.manager, studyId);
   const described = await describeComparisons(db, user, study);
-  const lockedRuns = described.filter((d) => d.locked).map((d) => d.k.run_id!);
-  const stored = new Map<string, StoredVerdictRow>();
-  if (lockedRuns.length) for (const v of (await db.query(storedVerdictsSql, [lockedRuns])) as StoredVerdictRow[]) stored.set(v.run_id, v);
 
   const comparisons: ComparisonEvidence[] = [];
   for (const d of described) {
     const base = { comparisonId: d.k.id, label: d.k.label, measureName: d.k.measure_name, runId: d.k.run_id, locked: d.locked };
     if (d.locked) {
-      const v = stored.get(d.k.run_id!) ?? (await storeVerdicts(db, studyId, d));
+      const v = d.stored ?? (await storeVerdicts(db, studyId, { ...d, description: d.description! }));
       const choice = boundaryChoice(storedChoice(v), asked);
       // Risks are about data still arriving: a locked result has none.
       comparisons.push({ ...base, boundary: choice, verdict: v[choice.boundary], risks: [] });
     } else {
       const choice = boundaryChoice(plan, asked);
-      const description = { ...d.description, boundary: choice.boundary };
+      const description = { ...d.description!, boundary: choice.boundary };
       comparisons.push({ ...base, boundary: choice, verdict: evidenceVerdict(description), risks: ratingRisks(description) });
     }
   }
