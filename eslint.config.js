@@ -72,6 +72,23 @@ export default tseslint.config(
   },
   { files: ['packages/entities/**/*.ts'], rules: forbid(anyApp) },
   { files: ['apps/api/**/*.ts'], rules: forbid(webApp) },
+
+  // ── Data access (DEVELOPERS.md, "Data access") ─────────────────────────────────────────────────
+  // A service runs SQL only by name: the statement's text lives in its resource's queries.ts, where a reader finds every
+  // statement a table sees. Migrations, the seed, the job queue's and change feed's plumbing and tests write their own.
+  {
+    files: ['apps/api/src/**/*.ts'],
+    ignores: ['apps/api/src/**/queries.ts', 'apps/api/src/**/*.test.ts', 'apps/api/src/db/**', 'apps/api/src/seed/**', 'apps/api/src/jobs/**'],
+    rules: {
+      'no-restricted-syntax': [
+        'error',
+        {
+          selector: "CallExpression[callee.property.name='query'][arguments.0.type=/^(Literal|TemplateLiteral)$/]",
+          message: "Write the SQL in this resource's queries.ts and run it by name (DEVELOPERS.md, \"Data access\").",
+        },
+      ],
+    },
+  },
   {
     files: ['apps/web/src/lib/**/*.{ts,tsx}', 'apps/web/src/components/**/*.{ts,tsx}'],
     rules: forbid(

@@ -51,10 +51,14 @@ const digestColumns = `d.id, d.study_id, d.site_id, s.name AS site_name, d.recip
          d.kind, d.subject, d.state, d.attempts, d.last_error, d.next_attempt_at, d.created_at, d.sent_at`;
 const digestJoins = `FROM digests d JOIN sites s ON s.id = d.site_id JOIN users u ON u.id = d.recipient_id`;
 
-/** A study's digests (not the other mail in the outbox), to be filtered further and paged. $1 study. */
-export const studyDigestsSql = `SELECT ${digestColumns} ${digestJoins} WHERE d.study_id = $1 AND d.kind = ANY('{weekly,lock,manual}')`;
-/** How many digests a study has (filtered as studyDigestsSql). $1 study. */
-export const studyDigestCountSql = `SELECT count(*)::int AS total FROM digests d WHERE d.study_id = $1 AND d.kind = ANY('{weekly,lock,manual}')`;
+/** One page of a study's digests (not the other mail in the outbox), newest first. $1 study, $2 state or null (all), $3 limit, $4 offset. */
+export const studyDigestsSql = `
+  SELECT ${digestColumns} ${digestJoins}
+   WHERE d.study_id = $1 AND d.kind = ANY('{weekly,lock,manual}') AND ($2::text IS NULL OR d.state = $2)
+   ORDER BY d.created_at DESC, s.name, d.recipient_email LIMIT $3 OFFSET $4`;
+/** How many digests a study has in a state, or in all. $1 study, $2 state or null. */
+export const studyDigestCountSql = `
+  SELECT count(*)::int AS total FROM digests d WHERE d.study_id = $1 AND d.kind = ANY('{weekly,lock,manual}') AND ($2::text IS NULL OR d.state = $2)`;
 /** One message with its bodies. $1 digest. */
 export const digestWithBodySql = `SELECT ${digestColumns}, d.html, d.text ${digestJoins} WHERE d.id = $1`;
 

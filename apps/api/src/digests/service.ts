@@ -213,13 +213,9 @@ function toDigest(r: DigestRow): Digest {
 
 export async function listDigests(db: DataSource, user: SessionUser, studyId: string, query: DigestsQuery): Promise<{ items: Digest[]; total: number }> {
   await findVisibleStudy(db.manager, user, studyId);
-  const filter = query.state ? 'AND d.state = $2' : '';
-  const params: unknown[] = query.state ? [studyId, query.state] : [studyId];
-  const rows: DigestRow[] = await db.query(
-    `${studyDigestsSql} ${filter} ORDER BY d.created_at DESC, s.name, d.recipient_email LIMIT ${query.limit} OFFSET ${query.offset}`,
-    params,
-  );
-  const [{ total }] = await db.query(`${studyDigestCountSql} ${filter}`, params);
+  const state = query.state ?? null;
+  const rows: DigestRow[] = await db.query(studyDigestsSql, [studyId, state, query.limit, query.offset]);
+  const [{ total }] = await db.query(studyDigestCountSql, [studyId, state]);
   return { items: rows.map(toDigest), total };
 }
 
@@ -237,9 +233,7 @@ export async function getDigest(db: DataSource, user: SessionUser, id: string): 
 export async function waitForOutbox(db: DataSource, timeoutMs: number): Promise<{ sent: number; queued: number; retrying: number; undeliverable: number; lastError: string | null }> {
   const until = Date.now() + timeoutMs;
   for (;;) {
-    const [c] = await db.query(
-      outboxCountsSql,
-    );
+    const [c] = await db.query(outboxCountsSql);
     if (c.queued === 0 || Date.now() > until) return { sent: c.sent, queued: c.queued, retrying: c.retrying, undeliverable: c.undeliverable, lastError: c.last_error };
     await new Promise((r) => setTimeout(r, 200));
   }

@@ -1,10 +1,23 @@
 import type { DataSource, EntityManager } from 'typeorm';
 import type { Comparison, ComparisonSchedule, CreateComparison, SessionUser } from '@evenhand/entities';
+import { MeasureEntity, StudyEntity, WaveEntity } from '@evenhand/entities/orm';
 import { recordAudit } from '../audit/service.js';
 import { AppError } from '../errors.js';
 import { currentPlan } from '../plan/service.js';
 import { findVisibleStudy } from '../studies/access.js';
-import { comparisonSelect, latestFinishedRunsSql, latestRunsSql, toRun, type ComparisonRow, type RunRow } from './queries.js';
+import {
+  comparisonForUpdateSql,
+  insertExploratorySql,
+  insertPrespecifiedSql,
+  latestFinishedRunsSql,
+  latestRunsSql,
+  lockedRunsSql,
+  setScheduleSql,
+  studyComparisonsSql,
+  toRun,
+  type ComparisonRow,
+  type RunRow,
+} from './queries.js';
 import { checkSchedule, nextSlot, windowOf } from './schedule.js';
 
 // A study's comparisons: the sealed plan's pre-specified ones, exploratory ones added later, and their monitoring schedules.
@@ -14,29 +27,17 @@ async function ensurePrespecified(manager: EntityManager, studyId: string): Prom
   const plan = await currentPlan(manager, studyId);
   if (!plan) return;
   const p = plan.content;
-  await manager.query(
-    `INSERT INTO comparisons (study_id, measure_id, wave_id, label, unit_of_analysis, primary_test, covariate, prespecified, is_primary, created_by)
-     SELECT $1, m.id, $2, m.name || ' at ' || w.name, $3, $4, $5, true, m.id = $6, $7
-       FROM measures m JOIN waves w ON w.id = $2 WHERE m.study_id = $1
-     ON CONFLICT (study_id, measure_id, wave_id) WHERE prespecified DO NOTHING`,
-    [studyId, p.primaryWaveId, p.unitOfAnalysis, p.primaryTest, p.covariate, p.primaryMeasureId, plan.createdBy],
-  );
+  await manager.query(insertPrespecifiedSql, [studyId, p.primaryWaveId, p.unitOfAnalysis, p.primaryTest, p.covariate, p.primaryMeasureId, plan.createdBy]);
 }
 
 export async function listComparisons(db: DataSource, user: SessionUser, studyId: string): Promise<{ items: Comparison[]; total: number }> {
   await findVisibleStudy(db.manager, user, studyId);
   await ensurePrespecified(db.manager, studyId);
-  const rows: ComparisonRow[] = await db.query(`${comparisonSelect} WHERE k.study_id = $1 ORDER BY k.prespecified DESC, k.is_primary DESC, k.created_at`, [studyId]);
-  const runs: RunRow[] = await db.query(
-    latestRunsSql,
-    [studyId],
-  );
-  const locked: { comparison_id: string; id: string }[] = await db.query(`SELECT comparison_id, id FROM runs WHERE study_id = $1 AND state = 'locked'`, [studyId]);
-  const finished: { comparison_id: string; id: string }[] = await db.query(
-    latestFinishedRunsSql,
-    [studyId],
-  );
-  const [study]: { status: string }[] = await db.query(`SELECT status FROM studies WHERE id = $1`, [studyId]);
+  const rows: ComparisonRow[] = await db.query(studyComparisonsSql, [studyId]);
+  const runs: RunRow[] = await db.query(latestRunsSql, [studyId]);
+  const locked: { comparison_id: string; id: string }[] = await db.query(lockedRunsSql, [studyId]);
+  const finished: { comparison_id: string; id: string }[] = await db.query(latestFinishedRunsSql, [studyId]);
+  const study = await db.manager.findOneByOrFail(StudyEntity, { id: studyId });
   const now = new Date();
   return {
     items: rows.map((k) => {
@@ -83,19 +84,26 @@ export async function createComparison(db: DataSource, user: SessionUser, studyI
   const id = await db.transaction(async (manager) => {
     await findVisibleStudy(manager, user, studyId, true);
     if (!(await currentPlan(manager, studyId))) throw AppError.conflict('Seal the plan first: its comparisons are the pre-specified ones');
-    const [m] = await manager.query(`SELECT name FROM measures WHERE id = $1 AND study_id = $2`, [input.measureId, studyId]);
-    const [w] = await manager.query(`SELECT name, kind FROM waves WHERE id = $1 AND study_id = $2`, [input.waveId, studyId]);
+    const m = await manager.findOneBy(MeasureEntity, { id: input.measureId, studyId });
+    const w = await manager.findOneBy(WaveEntity, { id: input.waveId, studyId });
     const issues = [];
     if (!m) issues.push({ path: 'measureId', message: 'Choose one of this study’s measures' });
     if (!w) issues.push({ path: 'waveId', message: 'Choose one of this study’s waves' });
     else if (w.kind === 'baseline') issues.push({ path: 'waveId', message: 'Compare outcomes after baseline' });
     if (issues.length) throw AppError.validation('The comparison refers to things outside this study', issues);
     checkSchedule(input.scheduleCron, input.scheduleTimezone);
-    const [row] = await manager.query(
-      `INSERT INTO comparisons (study_id, measure_id, wave_id, label, unit_of_analysis, primary_test, covariate, prespecified, schedule_cron, schedule_timezone, schedule_set_at, created_by)
-       VALUES ($1, $2, $3, $4, $5, $6, $7, false, $8, $9, CASE WHEN $8::varchar IS NULL THEN NULL ELSE now() END, $10) RETURNING id`,
-      [studyId, input.measureId, input.waveId, input.label ?? `${m.name} at ${w.name} (exploratory)`, input.unitOfAnalysis, input.primaryTest, input.covariate, input.scheduleCron, input.scheduleTimezone, user.id],
-    );
+    const [row] = await manager.query(insertExploratorySql, [
+      studyId,
+      input.measureId,
+      input.waveId,
+      input.label ?? `${m!.name} at ${w!.name} (exploratory)`,
+      input.unitOfAnalysis,
+      input.primaryTest,
+      input.covariate,
+      input.scheduleCron,
+      input.scheduleTimezone,
+      user.id,
+    ]);
     await recordAudit(manager, { actorId: user.id, studyId, action: 'comparison.created', entityType: 'comparison', entityId: row.id, after: input });
     return row.id as string;
   });
@@ -108,14 +116,11 @@ export async function createComparison(db: DataSource, user: SessionUser, studyI
  */
 export async function setSchedule(db: DataSource, user: SessionUser, comparisonId: string, input: ComparisonSchedule): Promise<Comparison> {
   const studyId = await db.transaction(async (manager) => {
-    const [k]: ComparisonRow[] = await manager.query(`${comparisonSelect} WHERE k.id = $1 FOR UPDATE OF k`, [comparisonId]);
+    const [k]: ComparisonRow[] = await manager.query(comparisonForUpdateSql, [comparisonId]);
     if (!k) throw AppError.notFound('The comparison');
     await findVisibleStudy(manager, user, k.study_id, true);
     checkSchedule(input.scheduleCron, input.scheduleTimezone);
-    await manager.query(
-      `UPDATE comparisons SET schedule_cron = $2, schedule_timezone = $3, schedule_set_at = CASE WHEN $2::varchar IS NULL THEN NULL ELSE now() END WHERE id = $1`,
-      [comparisonId, input.scheduleCron, input.scheduleTimezone],
-    );
+    await manager.query(setScheduleSql, [comparisonId, input.scheduleCron, input.scheduleTimezone]);
     await recordAudit(manager, {
       actorId: user.id,
       studyId: k.study_id,

@@ -2,9 +2,10 @@ import type { EntityManager } from 'typeorm';
 import { createHash } from 'node:crypto';
 import { mergePairedSummaries, sampleRanks, type PairedSummary } from '@evenhand/stats';
 import type { Arm, SheetState } from '@evenhand/entities';
-import { sheetDigestsSql } from '../score-sheets/queries.js';
+import { sheetDigestsHexSql, type SheetMoments } from '../score-sheets/queries.js';
+import { storedMomentsOf, sumSheets, withoutPairs } from '../score-sheets/sums.js';
+import { aggregateSettingsSql, classroomsSql, summaryLinesSql, valuePassSql, type ClassroomRow, type ValueRow } from './queries.js';
 import { yesCount } from './yes-no.js';
-import { momentsColumns, storedMomentsOf, sumSheets, withoutPairs, type SheetMoments } from '../score-sheets/sums.js';
 
 /** Which sheets a run reads: a confirmatory run only accepted ones; monitoring also those awaiting review. */
 export const sheetStatesFor = (kind: 'monitoring' | 'confirmatory'): ('accepted' | 'submitted')[] => (kind === 'confirmatory' ? ['accepted'] : ['accepted', 'submitted']);
@@ -128,9 +129,7 @@ export async function readClassrooms(manager: EntityManager, scope: Omit<Scope, 
  * sheets' digests, stored the same way. Node never holds every row.
  */
 export async function gather(manager: EntityManager, scope: Scope): Promise<Gathered> {
-  // The distinct-score table stays in memory; JIT compiling these plans costs more than it saves.
-  await manager.query(`SET LOCAL work_mem = '64MB'`);
-  await manager.query(`SET LOCAL jit = off`);
+  for (const setting of aggregateSettingsSql) await manager.query(setting);
   const read = await readClassrooms(manager, scope);
   const withRows = read.filter((c) => c.rows !== null);
   await fillMissingDigests(manager, withRows);
@@ -138,7 +137,7 @@ export async function gather(manager: EntityManager, scope: Scope): Promise<Gath
   const analysed = withRows.filter((c) => c.rows!.moments.n > 0);
 
   const summarySheets = read.filter((c) => c.summary !== null).map((c) => c.sheetId!);
-  const summaryLines: { line: string }[] = summarySheets.length ? await manager.query(`SELECT line FROM (${canonicalSummariesSql}) s ORDER BY line COLLATE "C"`, [summarySheets, null]) : [];
+  const summaryLines: { line: string }[] = summarySheets.length ? await manager.query(summaryLinesSql, [summarySheets, null]) : [];
   const dataSha256 = dataHash(
     analysed.map((c) => ({ classroomId: c.classroomId, arm: c.arm, outcome: c.rows!.digest!, baseline: c.rows!.pretestDigest })),
     summaryLines.map((l) => l.line),
@@ -271,47 +270,6 @@ export function yesNoValues(yes: Record<Arm, number>, counted: Record<Arm, numbe
 
 const pairedOf = (c: SheetMoments): PairedSummary => ({ n: c.pairs, meanY: c.pair_mean_y!, meanX: c.pair_mean_x!, syy: c.pair_syy!, sxx: c.pair_sxx!, sxy: c.pair_sxy! });
 
-interface ClassroomRow {
-  classroom_id: string;
-  classroom_name: string;
-  site_id: string;
-  site_name: string;
-  arm: Arm;
-  registered: number;
-  sheet_id: string | null;
-  sheet_state: SheetState | null;
-  mode: 'rows' | 'summary' | null;
-  /** The sheet is in the states read. */
-  read: boolean | null;
-  entered: boolean | null;
-  summary_n: number | null;
-  summary_mean: number | null;
-  summary_m2: number | null;
-  digest: string | null;
-  pretest_sheet_id: string | null;
-  pretest_digest: string | null;
-  /** Then the sheet's stored sums as moments (`stored_…`, null when none were stored with the baseline sheet read). */
-  [stored: `stored_${string}`]: unknown;
-}
-
-/**
- * Every classroom with an arm: its registered codes (kept by the registry's triggers), its outcome sheet, and the
- * baseline sheet read with it. $1 study, $2 outcome wave, $3 measure, $4 sheet states read, $5 baseline wave (null: no pairs).
- */
-const classroomsSql = `
-  SELECT c.id AS classroom_id, c.name AS classroom_name, c.site_id, s.name AS site_name, c.arm, coalesce(r.n, 0)::int AS registered,
-         sh.id AS sheet_id, sh.state AS sheet_state, sh.mode, sh.state = ANY($4) AS read,
-         (sh.summary_n IS NOT NULL OR (sh.state = 'open' AND EXISTS (SELECT 1 FROM scores x WHERE x.sheet_id = sh.id))) AS entered,
-         sh.summary_n, sh.summary_mean::float8 AS summary_mean, (sh.summary_sd::float8 ^ 2) * (sh.summary_n - 1) AS summary_m2,
-         encode(sh.rows_sha256, 'hex') AS digest, bs.id AS pretest_sheet_id, encode(bs.rows_sha256, 'hex') AS pretest_digest,
-         ${momentsColumns('a', 'stored_')}
-    FROM classrooms c JOIN sites s ON s.id = c.site_id
-    LEFT JOIN registered_counts r ON r.classroom_id = c.id
-    LEFT JOIN score_sheets sh ON sh.classroom_id = c.id AND sh.wave_id = $2 AND sh.measure_id = $3
-    LEFT JOIN score_sheets bs ON $5::uuid IS NOT NULL AND bs.classroom_id = c.id AND bs.wave_id = $5 AND bs.measure_id = $3 AND bs.state = ANY($4)
-    LEFT JOIN sheet_sums a ON a.sheet_id = sh.id AND (bs.id IS NULL OR a.pretest_sheet_id = bs.id)
-   WHERE c.study_id = $1 AND c.arm IS NOT NULL`;
-
 /** Digests of sheets that have none stored (rows written some other way than the submit/accept path). */
 async function fillMissingDigests(manager: EntityManager, classrooms: ClassroomRead[]): Promise<void> {
   const missing = classrooms.flatMap((c) => [
@@ -319,7 +277,7 @@ async function fillMissingDigests(manager: EntityManager, classrooms: ClassroomR
     ...(c.rows!.pretestSheetId !== null && c.rows!.pretestDigest === null ? [{ id: c.rows!.pretestSheetId, set: (d: string) => (c.rows!.pretestDigest = d) }] : []),
   ]);
   if (missing.length === 0) return;
-  const computed: { id: string; digest: string }[] = await manager.query(`SELECT id, encode(digest, 'hex') AS digest FROM (${sheetDigestsSql}) d`, [missing.map((m) => m.id)]);
+  const computed: { id: string; digest: string }[] = await manager.query(sheetDigestsHexSql, [missing.map((m) => m.id)]);
   const byId = new Map(computed.map((d) => [d.id, d.digest]));
   for (const m of missing) m.set(byId.get(m.id)!);
 }
@@ -342,78 +300,3 @@ export function dataHash(classrooms: { classroomId: string; arm: Arm; outcome: s
   [...lines, ...summaryLines].forEach((line, i) => hash.update(i === 0 ? line : `\n${line}`));
   return hash.digest('hex');
 }
-
-interface ValueRow {
-  arm: Arm;
-  n: string;
-  rank_sum: number;
-  tie_term: number;
-  mean_deviation: number;
-  mean_ss: number;
-  median_deviation: number;
-  median_ss: number;
-  picked: number[];
-}
-
-/**
- * The analysed outcome scores, with their classroom's arm: scored rows of the wave's row-mode sheets in the run's
- * states, of classrooms with an arm. Plain joins, so PostgreSQL scans and aggregates them in parallel.
- * $1 study, $2 wave, $3 measure, $4 sheet states.
- */
-const outcomeJoins = `scores o JOIN score_sheets sh ON sh.id = o.sheet_id AND sh.state = ANY($4) AND sh.mode = 'rows'
-           JOIN classrooms c ON c.id = sh.classroom_id AND c.arm IS NOT NULL`;
-const outcomeFilter = `o.study_id = $1 AND o.wave_id = $2 AND o.measure_id = $3 AND o.score IS NOT NULL`;
-/**
- * One row per arm from the count of each distinct outcome score: n; the arm's mid-rank sum ×2 and Σ(t³ − t) over the
- * pooled table; mean and median; Σ|x − c| and Σ(x − c)² for both centres (exact numeric); the values at the requested
- * ranks ($5 intervention, $6 comparison), found by binary search (width_bucket) over the cumulative counts.
- */
-const valuePassSql = `
-  WITH h AS (
-    SELECT o.score AS v, count(*) FILTER (WHERE c.arm = 'intervention') AS a, count(*) FILTER (WHERE c.arm = 'comparison') AS b
-      FROM ${outcomeJoins} WHERE ${outcomeFilter} GROUP BY o.score),
-  r AS (
-    SELECT v, a, b, (sum(a + b) OVER w - (a + b))::bigint AS below, (sum(a) OVER w - a)::bigint AS a_below, (sum(b) OVER w - b)::bigint AS b_below
-      FROM h WINDOW w AS (ORDER BY v)),
-  ranks AS (SELECT sum(a * (2 * below + a + b + 1)) / 2 AS rank_sum, sum((a + b)::numeric * (a + b) * (a + b) - (a + b)) AS tie_term FROM r),
-  g AS (SELECT 'intervention' AS arm, v, a AS k, a_below AS below FROM r WHERE a > 0 UNION ALL SELECT 'comparison', v, b, b_below FROM r WHERE b > 0),
-  -- The picked values are read from a float8 copy: subscripting a numeric[] walks its variable-width elements each time.
-  c AS (SELECT arm, sum(k)::bigint AS n, sum(k * v) / sum(k) AS mean, array_agg(below ORDER BY v) AS belows, array_agg(v ORDER BY v) AS vs,
-               array_agg(v::float8 ORDER BY v) AS fvs FROM g GROUP BY arm),
-  m AS (SELECT arm, n, mean, belows, fvs, (vs[width_bucket((n - 1) / 2, belows)] + vs[width_bucket(n / 2, belows)]) / 2 AS median FROM c),
-  d AS (
-    SELECT g.arm, sum(g.k * abs(g.v - m.mean)) AS s1, sum(g.k * (g.v - m.mean) * (g.v - m.mean)) AS q1,
-           sum(g.k * abs(g.v - m.median)) AS s2, sum(g.k * (g.v - m.median) * (g.v - m.median)) AS q2
-      FROM g JOIN m USING (arm) GROUP BY g.arm)
-  SELECT m.arm, m.n, ranks.rank_sum::float8 AS rank_sum, ranks.tie_term::float8 AS tie_term,
-         (d.s1 / m.n)::float8 AS mean_deviation, ((m.n * d.q1 - d.s1 * d.s1) / m.n)::float8 AS mean_ss,
-         (d.s2 / m.n)::float8 AS median_deviation, ((m.n * d.q2 - d.s2 * d.s2) / m.n)::float8 AS median_ss,
-         (SELECT array_agg(m.fvs[width_bucket(p.rank, m.belows)] ORDER BY p.i)
-            FROM unnest(CASE m.arm WHEN 'intervention' THEN $5::bigint[] ELSE $6::bigint[] END) WITH ORDINALITY AS p(rank, i)) AS picked
-    FROM m JOIN d USING (arm) CROSS JOIN ranks`;
-
-/**
- * One text line per classroom that reported only a summary of the outcome: summary,classroom_id,arm,n,mean,sd. They count
- * in the t tests and effect sizes, so they are part of the data hash and of the bundle. $1: the outcome sheets; $2: the
- * arms a finished run read (classroom id → arm), or null for today's arms (a run reading now).
- */
-export const canonicalSummariesSql = `
-  SELECT concat_ws(',', 'summary', sh.classroom_id, a.arm, sh.summary_n::text, sh.summary_mean::text, sh.summary_sd::text) AS line
-    FROM unnest($1::uuid[]) AS ids(id) JOIN score_sheets sh ON sh.id = ids.id JOIN classrooms c ON c.id = sh.classroom_id
-         CROSS JOIN LATERAL (SELECT CASE WHEN $2::jsonb IS NULL THEN c.arm ELSE $2::jsonb ->> c.id::text END AS arm) a
-   WHERE sh.mode = 'summary' AND a.arm IS NOT NULL`;
-
-/**
- * The bundle's rows: classroom_id,arm,student_code,outcome,pretest for every student with an outcome or a pretest
- * score in a classroom with analysed rows (either score empty when missing), scores as PostgreSQL prints numeric, in
- * byte order of classroom ID then student code: the lines the sheets' digests are rebuilt from.
- * $1: outcome sheets with student rows, $2: the matching baseline sheet of each (or null), $3: the arms the run read.
- */
-export const bundleRowsSql = `
-  WITH sh AS (SELECT u.id, u.baseline_id, s.classroom_id FROM unnest($1::uuid[], $2::uuid[]) AS u(id, baseline_id) JOIN score_sheets s ON s.id = u.id),
-       o AS (SELECT sh.classroom_id, x.student_code, x.score FROM sh JOIN scores x ON x.sheet_id = sh.id WHERE x.score IS NOT NULL),
-       b AS (SELECT sh.classroom_id, x.student_code, x.score FROM sh JOIN scores x ON x.sheet_id = sh.baseline_id
-              WHERE x.score IS NOT NULL AND sh.classroom_id IN (SELECT classroom_id FROM o))
-  SELECT concat_ws(',', classroom_id, $3::jsonb ->> classroom_id::text, student_code, coalesce(o.score::text, ''), coalesce(b.score::text, '')) AS line
-    FROM o FULL JOIN b USING (classroom_id, student_code)
-   ORDER BY classroom_id::text COLLATE "C", student_code COLLATE "C"`;

@@ -4,6 +4,7 @@ import type { DataSource } from 'typeorm';
 import { districtWideRoles, smallCellViewerRoles, type SessionUser } from '@evenhand/entities';
 import { changeFeed, TaggedCache } from '../db/change-feed.js';
 import { findVisibleStudy, hasRole, sitesOf } from '../studies/access.js';
+import { lockedRunProbeSql } from './queries.js';
 import { getRun } from './service.js';
 
 /**
@@ -36,14 +37,7 @@ function probeRun(db: DataSource, runId: string): Promise<LockedRunProbe | undef
   let cache = probes.get(db);
   if (!cache) probes.set(db, (cache = new TaggedCache<LockedRunProbe | undefined>(changeFeed(db), 5_000)));
   const load = async () =>
-    ((await db.query(
-      `SELECT r.state, r.study_id,
-              (SELECT count(*) || '/' || coalesce(max(coalesce(x.locked_at, x.finished_at))::text, '')
-                 FROM runs x JOIN comparisons k ON k.id = x.comparison_id
-                WHERE x.study_id = r.study_id AND x.kind = 'confirmatory' AND x.state IN ('finished', 'locked') AND k.prespecified) AS version
-         FROM runs r WHERE r.id = $1`,
-      [runId],
-    )) as LockedRunProbe[])[0];
+    ((await db.query(lockedRunProbeSql, [runId])) as LockedRunProbe[])[0];
   return cache.read(runId, load, (probe) => (probe?.state === 'locked' ? [`runs:${probe.study_id}`] : null));
 }
 

@@ -4,6 +4,7 @@ import { recordAudit } from '../audit/service.js';
 import { AppError } from '../errors.js';
 import type { JobQueue } from '../jobs/queue.js';
 import type { Logger } from '../logger.js';
+import { insertScheduledRunSql, scheduledComparisonsSql, type ScheduledRow } from './queries.js';
 
 /**
  * Scheduled monitoring runs. pg-boss 10 keys a schedule by its queue name, so instead of one pg-boss schedule per
@@ -90,25 +91,6 @@ export function isDue(w: ScheduleWindow, slot: Date, now: Date): boolean {
   return day >= w.opensOn && day <= w.closesOn;
 }
 
-interface ScheduledRow {
-  comparison_id: string;
-  study_id: string;
-  schedule_cron: string;
-  schedule_timezone: string;
-  schedule_set_at: Date;
-  opens_on: string;
-  closes_on: string;
-  plan_version: number | null;
-}
-
-/** The comparisons a schedule may run now: a cron, a sealed plan, a study still going, and no locked result yet. */
-export const scheduledComparisonsSql = `
-  SELECT k.id AS comparison_id, k.study_id, k.schedule_cron, k.schedule_timezone, k.schedule_set_at,
-         w.opens_on::text AS opens_on, w.closes_on::text AS closes_on,
-         (SELECT max(version) FROM plan_versions p WHERE p.study_id = k.study_id) AS plan_version
-    FROM comparisons k JOIN waves w ON w.id = k.wave_id JOIN studies s ON s.id = k.study_id
-   WHERE k.schedule_cron IS NOT NULL AND s.status <> 'archived'
-     AND NOT EXISTS (SELECT 1 FROM runs r WHERE r.comparison_id = k.id AND r.state = 'locked')`;
 
 export const windowOf = (r: Pick<ScheduledRow, 'schedule_cron' | 'schedule_timezone' | 'schedule_set_at' | 'opens_on' | 'closes_on'>): ScheduleWindow => ({
   cron: r.schedule_cron,
@@ -145,11 +127,7 @@ export async function runMonitoringTick(deps: TickDeps, now = new Date()): Promi
     try {
       queued += await deps.db.transaction(async (manager) => {
         // TypeORM answers INSERT … RETURNING with the rows; a slot already taken answers none.
-        const inserted: { id: string }[] = await manager.query(
-          `INSERT INTO runs (comparison_id, study_id, kind, plan_version, scheduled_for) VALUES ($1, $2, 'monitoring', $3, $4)
-           ON CONFLICT (comparison_id, scheduled_for) WHERE scheduled_for IS NOT NULL DO NOTHING RETURNING id`,
-          [row.comparison_id, row.study_id, row.plan_version, slot],
-        );
+        const inserted: { id: string }[] = await manager.query(insertScheduledRunSql, [row.comparison_id, row.study_id, row.plan_version, slot]);
         if (!inserted.length) return 0;
         await deps.jobs.enqueueRun(manager, inserted[0].id);
         await recordAudit(manager, {

@@ -1,6 +1,7 @@
 import type { DataSource, EntityManager } from 'typeorm';
 import { benjaminiHochberg } from '@evenhand/stats';
-import { decidingTest, smallCellViewerRoles, type PlanContent, type PrincipalRun, type QueueRun, type Run, type RunResults, type SessionUser } from '@evenhand/entities';
+import { decidingTest, smallCellViewerRoles, type PrincipalRun, type QueueRun, type Run, type RunResults, type SessionUser } from '@evenhand/entities';
+import { PlanVersionEntity, StudyEntity, WaveEntity } from '@evenhand/entities/orm';
 import { recordAudit } from '../audit/service.js';
 import { changeFeed } from '../db/change-feed.js';
 import type { Deps } from '../deps.js';
@@ -13,29 +14,50 @@ import { findVisibleStudy, hasRole, sitesOf } from '../studies/access.js';
 import { advanceStatus } from '../studies/service.js';
 import { accountFor, needsPretest } from './accounting.js';
 import { AnalysisError, analyse } from './engine.js';
-import { bundleRowsSql, canonicalSummariesSql, gather, sheetStatesFor } from './gather.js';
+import { gather, sheetStatesFor } from './gather.js';
 import { principalView } from './principal-view.js';
-import { comparisonSelect, finishRunSql, multiplicityRunsSql, toRun, type ComparisonRow, type RunRow } from './queries.js';
+import {
+  bundleDrawSql,
+  bundlePlanSql,
+  bundleRowsSql,
+  claimRunSql,
+  classroomSchoolsSql,
+  comparisonSql,
+  failRunSql,
+  finishRunSql,
+  inputSheetsSql,
+  insertRunSql,
+  lockedRunOfComparisonSql,
+  lockSheetsSql,
+  markLockedSql,
+  multiplicityRunsSql,
+  openPrespecifiedSql,
+  reassignedSinceSql,
+  reassignmentsBeforeSql,
+  runForUpdateSql,
+  runSql,
+  summaryLinesSql,
+  toRun,
+  type ComparisonRow,
+  type RunRow,
+} from './queries.js';
 
 // Runs of a comparison: queued, executed once by a worker, read (whole or as a principal's view), locked, bundled.
 // The comparisons themselves are in ./comparisons.ts.
 
 export async function queueRun(deps: Deps, user: SessionUser, comparisonId: string, input: QueueRun): Promise<Run> {
   const run = await deps.db.transaction(async (manager) => {
-    const [k]: ComparisonRow[] = await manager.query(`${comparisonSelect} WHERE k.id = $1`, [comparisonId]);
+    const [k]: ComparisonRow[] = await manager.query(comparisonSql, [comparisonId]);
     if (!k) throw AppError.notFound('The comparison');
     await findVisibleStudy(manager, user, k.study_id, true);
     const plan = await currentPlan(manager, k.study_id);
     if (!plan) throw AppError.conflict('Seal the plan before running comparisons');
     if (input.kind === 'confirmatory' && !k.prespecified) throw AppError.conflict('Only a pre-specified comparison can have a confirmatory run; exploratory ones run as monitoring');
-    const [locked] = await manager.query(`SELECT 1 FROM runs WHERE comparison_id = $1 AND state = 'locked'`, [comparisonId]);
+    const [locked] = await manager.query(lockedRunOfComparisonSql, [comparisonId]);
     if (locked && !(input.reason && input.reason.length >= 10)) {
       throw AppError.validation('This comparison already has a locked result; say why it is analysed again', [{ path: 'reason', message: 'Give the reason for the re-analysis' }]);
     }
-    const [row]: RunRow[] = await manager.query(
-      `INSERT INTO runs (comparison_id, study_id, kind, reason, plan_version, queued_by) VALUES ($1, $2, $3, $4, $5, $6) RETURNING *`,
-      [comparisonId, k.study_id, input.kind, input.reason ?? null, plan.version, user.id],
-    );
+    const [row]: RunRow[] = await manager.query(insertRunSql, [comparisonId, k.study_id, input.kind, input.reason ?? null, plan.version, user.id]);
     await deps.jobs.enqueueRun(manager, row.id);
     await recordAudit(manager, { actorId: user.id, studyId: k.study_id, action: 'run.queued', entityType: 'run', entityId: row.id, after: input });
     // The first confirmatory run starts the analysis of the study.
@@ -51,16 +73,15 @@ export async function queueRun(deps: Deps, user: SessionUser, comparisonId: stri
  */
 export async function executeRun(db: DataSource, logger: Logger, runId: string): Promise<void> {
   // TypeORM answers an UPDATE … RETURNING with [rows, affected].
-  const [claimedRows]: [RunRow[], number] = await db.query(`UPDATE runs SET state = 'running', started_at = now() WHERE id = $1 AND state = 'queued' RETURNING *`, [runId]);
+  const [claimedRows]: [RunRow[], number] = await db.query(claimRunSql, [runId]);
   const claimed = claimedRows[0];
   if (!claimed) return;
   try {
     await db.transaction('REPEATABLE READ', async (manager) => {
-      const [k]: ComparisonRow[] = await manager.query(`${comparisonSelect} WHERE k.id = $1`, [claimed.comparison_id]);
-      const [study] = await manager.query(`SELECT unit_of_assignment, quasi_experimental FROM studies WHERE id = $1`, [k.study_id]);
-      const [planRow] = await manager.query(`SELECT content FROM plan_versions WHERE study_id = $1 AND version = $2`, [k.study_id, claimed.plan_version]);
-      const plan = planRow.content as PlanContent;
-      const [baseline] = await manager.query(`SELECT id FROM waves WHERE study_id = $1 AND kind = 'baseline' LIMIT 1`, [k.study_id]);
+      const [k]: ComparisonRow[] = await manager.query(comparisonSql, [claimed.comparison_id]);
+      const study = await manager.findOneByOrFail(StudyEntity, { id: k.study_id });
+      const { content: plan } = await manager.findOneByOrFail(PlanVersionEntity, { studyId: k.study_id, version: claimed.plan_version! });
+      const baseline = await manager.findOneBy(WaveEntity, { studyId: k.study_id, kind: 'baseline' });
       const states = sheetStatesFor(claimed.kind);
       const baselineWaveId: string | null = k.covariate === 'baseline' ? (baseline?.id ?? null) : null;
       const data = await gather(manager, {
@@ -73,14 +94,14 @@ export async function executeRun(db: DataSource, logger: Logger, runId: string):
       });
       // Who was analysed and who was lost, and why, in the same snapshot as the data: the run stores what it read.
       const pretest = needsPretest({ primaryTest: k.primary_test, covariate: k.covariate, scale: k.measure_scale, hasBaselineWave: Boolean(baseline) });
-      const accounting = await accountFor(manager, { studyId: k.study_id, measureId: k.measure_id, waveId: k.wave_id, reads: states, pretestWaveId: pretest ? baseline.id : null }, data.read);
+      const accounting = await accountFor(manager, { studyId: k.study_id, measureId: k.measure_id, waveId: k.wave_id, reads: states, pretestWaveId: pretest ? baseline!.id : null }, data.read);
       const computed = analyse(
         {
           kind: claimed.kind,
           plan,
           planVersion: claimed.plan_version,
-          unitOfAssignment: study.unit_of_assignment,
-          quasiExperimental: study.quasi_experimental,
+          unitOfAssignment: study.unitOfAssignment,
+          quasiExperimental: study.quasiExperimental,
           comparison: { unitOfAnalysis: k.unit_of_analysis, primaryTest: k.primary_test, covariate: k.covariate },
           measure: { id: k.measure_id, name: k.measure_name, kind: k.measure_kind, higherIsBetter: k.higher_is_better, scale: k.measure_scale },
           wave: { id: k.wave_id, name: k.wave_name },
@@ -96,12 +117,12 @@ export async function executeRun(db: DataSource, logger: Logger, runId: string):
     const known = err instanceof AnalysisError || (err as Error).name === 'StatsInputError';
     if (!known) logger.error({ err, runId }, 'run failed unexpectedly');
     const message = known ? (err as Error).message : 'The run failed on our side; the error has been logged';
-    await db.query(`UPDATE runs SET state = 'failed', finished_at = now(), error = $2 WHERE id = $1`, [runId, message]);
+    await db.query(failRunSql, [runId, message]);
   }
 }
 
-async function loadRun(manager: EntityManager, user: SessionUser, runId: string): Promise<RunRow> {
-  const [run]: RunRow[] = await manager.query(`SELECT * FROM runs WHERE id = $1`, [runId]);
+async function loadRun(manager: EntityManager, user: SessionUser, runId: string, forUpdate = false): Promise<RunRow> {
+  const [run]: RunRow[] = await manager.query(forUpdate ? runForUpdateSql : runSql, [runId]);
   if (!run) throw AppError.notFound('The run');
   await findVisibleStudy(manager, user, run.study_id);
   return run;
@@ -140,22 +161,18 @@ export async function getRun(db: DataSource, user: SessionUser, runId: string): 
 export async function lockRun(deps: Pick<Deps, 'db' | 'config' | 'jobs'>, user: SessionUser, runId: string): Promise<Run | PrincipalRun> {
   const { db } = deps;
   await db.transaction(async (manager) => {
-    await manager.query(`SELECT 1 FROM runs WHERE id = $1 FOR UPDATE`, [runId]);
-    const run = await loadRun(manager, user, runId);
+    const run = await loadRun(manager, user, runId, true);
     if (run.state === 'locked') throw AppError.conflict('This run is already locked');
     if (run.kind !== 'confirmatory') throw AppError.conflict('Only a confirmatory run can be locked; monitoring runs are interim');
     if (run.state !== 'finished') throw AppError.conflict(`Only a finished run can be locked; this one is ${run.state}`);
-    const [other] = await manager.query(`SELECT id FROM runs WHERE comparison_id = $1 AND state = 'locked'`, [run.comparison_id]);
+    const [other] = await manager.query(lockedRunOfComparisonSql, [run.comparison_id]);
     if (other) throw AppError.conflict('This comparison already has a locked result; a re-analysis stays unlocked');
     // A result computed on arms that have since changed by hand would be locked on an allocation that no longer holds.
-    const [moved] = await manager.query(
-      `SELECT c.name FROM draw_reassignments x JOIN draws d ON d.id = x.draw_id JOIN classrooms c ON c.id = x.classroom_id WHERE d.study_id = $1 AND x.at >= $2 ORDER BY x.at LIMIT 1`,
-      [run.study_id, run.started_at],
-    );
+    const [moved] = await manager.query(reassignedSinceSql, [run.study_id, run.started_at]);
     if (moved) throw AppError.conflict(`Classroom ${moved.name} was reassigned after this run read the data; run the comparison again and lock that run`);
-    await manager.query(`UPDATE score_sheets SET locked = true WHERE id = ANY($1) AND NOT locked`, [run.input_sheet_ids]);
+    await manager.query(lockSheetsSql, [run.input_sheet_ids]);
     changeFeed(db).expect(`runs:${run.study_id}`);
-    await manager.query(`UPDATE runs SET state = 'locked', locked_at = now(), locked_by = $2 WHERE id = $1`, [runId, user.id]);
+    await manager.query(markLockedSql, [runId, user.id]);
     await recordAudit(manager, {
       actorId: user.id,
       studyId: run.study_id,
@@ -168,10 +185,7 @@ export async function lockRun(deps: Pick<Deps, 'db' | 'config' | 'jobs'>, user: 
     await storeLockedVerdicts(manager, user, run.study_id, runId);
     await createLockDigests(manager, deps, run.study_id, runId);
     // Every pre-specified comparison locked: the study's result is reported.
-    const [open] = await manager.query(
-      `SELECT 1 FROM comparisons k WHERE k.study_id = $1 AND k.prespecified AND NOT EXISTS (SELECT 1 FROM runs r WHERE r.comparison_id = k.id AND r.state = 'locked') LIMIT 1`,
-      [run.study_id],
-    );
+    const [open] = await manager.query(openPrespecifiedSql, [run.study_id]);
     if (!open) await advanceStatus(manager, run.study_id, 'reported', user.id);
   });
   return getRun(db, user, runId);
@@ -226,29 +240,21 @@ the deciding difference is clusterRobustFromRows({ y, arm, cluster, block }) on 
 export async function runBundle(db: DataSource, user: SessionUser, runId: string) {
   const run = await loadRun(db.manager, user, runId);
   if (run.state !== 'locked' && run.state !== 'finished') throw AppError.conflict('Only a finished or locked run has a bundle');
-  const [k]: ComparisonRow[] = await db.query(`${comparisonSelect} WHERE k.id = $1`, [run.comparison_id]);
-  const [plan] = await db.query(`SELECT version, content, sha256, created_at FROM plan_versions WHERE study_id = $1 AND version = $2`, [run.study_id, run.plan_version]);
-  const [draw] = await db.query(`SELECT seed, algorithm, algorithm_version, unit, blocks, assignments, committed_at FROM draws WHERE study_id = $1`, [run.study_id]);
+  const [k]: ComparisonRow[] = await db.query(comparisonSql, [run.comparison_id]);
+  const [plan] = await db.query(bundlePlanSql, [run.study_id, run.plan_version]);
+  const [draw] = await db.query(bundleDrawSql, [run.study_id]);
   // The reassignments the run saw; later ones (refused once a result is locked) did not change what it read.
-  const reassignments = draw
-    ? await db.query(`SELECT classroom_id, from_arm, to_arm, reason, at FROM draw_reassignments r JOIN draws d ON d.id = r.draw_id WHERE d.study_id = $1 AND r.at < $2 ORDER BY at`, [run.study_id, run.started_at])
-    : [];
-  const inputs: { id: string; classroom_id: string; mode: string; outcome: boolean }[] = await db.query(
-    `SELECT sh.id, sh.classroom_id, sh.mode, sh.wave_id = $2 AS outcome FROM unnest($1::uuid[]) AS ids(id) JOIN score_sheets sh ON sh.id = ids.id`,
-    [run.input_sheet_ids, k.wave_id],
-  );
+  const reassignments = draw ? await db.query(reassignmentsBeforeSql, [run.study_id, run.started_at]) : [];
+  const inputs: { id: string; classroom_id: string; mode: string; outcome: boolean }[] = await db.query(inputSheetsSql, [run.input_sheet_ids, k.wave_id]);
   const baselineOf = new Map(inputs.filter((s) => !s.outcome).map((s) => [s.classroom_id, s.id]));
   const outcomes = inputs.filter((s) => s.outcome);
   const rowSheets = outcomes.filter((s) => s.mode === 'rows');
   // The arms the run read, never today's: a later reassignment does not change a result's bundle.
   const arms = run.classroom_arms ?? {};
   const lines: { line: string }[] = await db.query(bundleRowsSql, [rowSheets.map((s) => s.id), rowSheets.map((s) => baselineOf.get(s.classroom_id) ?? null), arms]);
-  const summaries: { line: string }[] = await db.query(`SELECT line FROM (${canonicalSummariesSql}) summaries ORDER BY line COLLATE "C"`, [outcomes.map((s) => s.id), arms]);
+  const summaries: { line: string }[] = await db.query(summaryLinesSql, [outcomes.map((s) => s.id), arms]);
   // Each classroom's school: the two-level model's blocks (classroom assignment) or units (school assignment).
-  const schools: { classroom_id: string; site_id: string }[] = await db.query(
-    `SELECT c.id AS classroom_id, c.site_id FROM unnest($1::uuid[]) AS ids(id) JOIN classrooms c ON c.id = ids.id ORDER BY c.id::text COLLATE "C"`,
-    [outcomes.map((s) => s.classroom_id)],
-  );
+  const schools: { classroom_id: string; site_id: string }[] = await db.query(classroomSchoolsSql, [outcomes.map((s) => s.classroom_id)]);
   return {
     readme: README,
     run: { id: run.id, kind: run.kind, state: run.state, lockedAt: run.locked_at, reason: run.reason },

@@ -284,3 +284,92 @@ export async function insertStagedRows(manager: EntityManager, sheet: SheetKeys,
     [sheet.id, sheet.study_id, sheet.classroom_id, sheet.wave_id, sheet.measure_id],
   );
 }
+
+// A sheet's stored sums (./sums.ts).
+
+/**
+ * A sheet's exact sums, what a run needs from it per classroom: scored rows (n), Σy and Σy², rows marked as left
+ * without a score, and over the students who also have a score on the paired pretest sheet, their count and Σy, Σx,
+ * Σy², Σx², Σxy (numeric, so exact). Stored when a sheet is submitted or accepted (as its digest is) and forgotten by
+ * any write to its scores or its pretest sheet's (migration 1796600000000); a run computes any it lacks.
+ * $1: sheet IDs; $2: the pretest sheet paired with each (null: none). Each sheet's rows are read by the primary key.
+ */
+const sheetSumsSql = `
+  SELECT u.sheet_id, u.pretest_sheet_id, a.*
+    FROM unnest($1::uuid[], $2::uuid[]) AS u(sheet_id, pretest_sheet_id)
+   CROSS JOIN LATERAL (
+     SELECT count(o.score)::int AS n, sum(o.score) AS sy, sum(o.score * o.score) AS syy,
+            count(*) FILTER (WHERE o.score IS NULL AND o.left_study)::int AS left_n,
+            count(b.score) FILTER (WHERE o.score IS NOT NULL)::int AS np,
+            sum(o.score) FILTER (WHERE b.score IS NOT NULL) AS py, sum(b.score) FILTER (WHERE o.score IS NOT NULL) AS px,
+            sum(o.score * o.score) FILTER (WHERE b.score IS NOT NULL) AS pyy, sum(b.score * b.score) FILTER (WHERE o.score IS NOT NULL) AS pxx,
+            sum(o.score * b.score) AS pxy
+       FROM scores o LEFT JOIN scores b ON b.sheet_id = u.pretest_sheet_id AND b.student_code = o.student_code AND b.score IS NOT NULL
+      WHERE o.sheet_id = u.sheet_id) a`;
+
+// Each moment is one division of an exact numerator: (nΣx² − (Σx)²)/n keeps its digits for scores far from zero.
+const moments = (a: string): [keyof SheetMoments, string][] => [
+  ['sheet_id', `${a}.sheet_id`],
+  ['n', `${a}.n`],
+  ['left_n', `${a}.left_n`],
+  ['mean', `(${a}.sy / nullif(${a}.n, 0))::float8`],
+  ['m2', `((${a}.n * ${a}.syy - ${a}.sy * ${a}.sy) / nullif(${a}.n, 0))::float8`],
+  ['pairs', `${a}.np`],
+  ['pair_mean_y', `(${a}.py / nullif(${a}.np, 0))::float8`],
+  ['pair_mean_x', `(${a}.px / nullif(${a}.np, 0))::float8`],
+  ['pair_syy', `((${a}.np * ${a}.pyy - ${a}.py * ${a}.py) / nullif(${a}.np, 0))::float8`],
+  ['pair_sxx', `((${a}.np * ${a}.pxx - ${a}.px * ${a}.px) / nullif(${a}.np, 0))::float8`],
+  ['pair_sxy', `((${a}.np * ${a}.pxy - ${a}.px * ${a}.py) / nullif(${a}.np, 0))::float8`],
+];
+
+/** The moments of the sums in `a` as select-list columns, each name prefixed (a row holding other columns too). */
+export const momentsColumns = (a: string, prefix = '') => moments(a).map(([name, expr]) => `${expr} AS ${prefix}${name}`).join(', ');
+
+/** One sheet's count, mean and M2 of its scores, its leavers, and its students paired with a pretest: count, means and centred sums. */
+export interface SheetMoments {
+  sheet_id: string;
+  n: number;
+  left_n: number;
+  mean: number | null;
+  m2: number | null;
+  pairs: number;
+  pair_mean_y: number | null;
+  pair_mean_x: number | null;
+  pair_syy: number | null;
+  pair_sxx: number | null;
+  pair_sxy: number | null;
+}
+
+/** Each given sheet's moments, summed now. $1 sheet IDs, $2 the pretest sheet paired with each (null: none). */
+export const sheetMomentsSql = `SELECT ${momentsColumns('a')} FROM (${sheetSumsSql}) a`;
+
+/** The writers' lock on the given sheets' classrooms. $1 sheet IDs. */
+export const lockSheetClassroomsSql = `SELECT 1 FROM classrooms WHERE id IN (SELECT classroom_id FROM score_sheets WHERE id = ANY($1::uuid[])) ORDER BY id FOR NO KEY UPDATE`;
+
+/**
+ * The sheets whose sums to store for the given ones, each with the pretest sheet it pairs with: the given sheets, and
+ * when one is a baseline sheet, its classroom's submitted or accepted sheets of the same measure in the other waves. $1 sheet IDs.
+ */
+export const sumTargetsSql = `
+  WITH given AS (SELECT sh.* FROM score_sheets sh WHERE sh.id = ANY($1::uuid[])),
+       targets AS (
+         SELECT id, study_id, classroom_id, wave_id, measure_id FROM given
+         UNION
+         SELECT o.id, o.study_id, o.classroom_id, o.wave_id, o.measure_id
+           FROM given g JOIN waves w ON w.id = g.wave_id AND w.kind = 'baseline'
+           JOIN score_sheets o ON o.classroom_id = g.classroom_id AND o.measure_id = g.measure_id AND o.wave_id <> g.wave_id
+          WHERE o.state IN ('submitted', 'accepted'))
+  SELECT t.id AS sheet_id, p.id AS pretest_sheet_id
+    FROM targets t
+    LEFT JOIN waves bw ON bw.study_id = t.study_id AND bw.kind = 'baseline' AND bw.id <> t.wave_id
+    LEFT JOIN score_sheets p ON p.classroom_id = t.classroom_id AND p.measure_id = t.measure_id AND p.wave_id = bw.id`;
+
+/** Stores (or replaces) the sums of sheets, each with its pretest sheet. $1 sheet IDs, $2 pretest sheets. */
+export const storeSheetSumsSql = `
+  INSERT INTO sheet_sums (sheet_id, pretest_sheet_id, n, sy, syy, left_n, np, py, px, pyy, pxx, pxy)
+  SELECT sheet_id, pretest_sheet_id, n, sy, syy, left_n, np, py, px, pyy, pxx, pxy FROM (${sheetSumsSql}) s
+  ON CONFLICT (sheet_id) DO UPDATE SET pretest_sheet_id = excluded.pretest_sheet_id, n = excluded.n, sy = excluded.sy, syy = excluded.syy,
+    left_n = excluded.left_n, np = excluded.np, py = excluded.py, px = excluded.px, pyy = excluded.pyy, pxx = excluded.pxx, pxy = excluded.pxy`;
+
+/** Digests of the given sheets as lowercase hex. $1 sheet IDs. */
+export const sheetDigestsHexSql = `SELECT id, encode(digest, 'hex') AS digest FROM (${sheetDigestsSql}) d`;
