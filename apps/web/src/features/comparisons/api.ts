@@ -1,9 +1,7 @@
 import {
   comparisonSchema,
-  measureSchema,
   pageOf,
   runSchema,
-  waveSchema,
   type ComparisonSchedule,
   type CreateComparison,
   type QueueRun,
@@ -21,7 +19,6 @@ export const comparisonKeys = {
   all: ['comparisons'] as const,
   lists: () => [...comparisonKeys.all, 'list'] as const,
   list: (studyId: string) => [...comparisonKeys.lists(), studyId] as const,
-  choices: (studyId: string) => [...comparisonKeys.all, 'choices', studyId] as const,
 };
 
 export const runKeys = {
@@ -45,21 +42,6 @@ export function runQueryOptions(runId: string) {
     queryKey: runKeys.detail(runId),
     queryFn: ({ signal }) => apiRequest(`/runs/${runId}`, { schema: runSchema, signal }),
     refetchInterval: (query) => (inProgress(query.state.data?.state) ? 1_500 : false),
-  });
-}
-
-/** The measures and the waves after baseline an exploratory comparison can use. */
-export function comparisonChoicesQueryOptions(studyId: string) {
-  return queryOptions({
-    queryKey: comparisonKeys.choices(studyId),
-    queryFn: async ({ signal }) => {
-      const [measures, waves] = await Promise.all([
-        apiRequest(`/studies/${studyId}/measures`, { schema: pageOf(measureSchema), signal }),
-        apiRequest(`/studies/${studyId}/waves`, { schema: pageOf(waveSchema), signal }),
-      ]);
-      return { measures: measures.items, waves: waves.items.filter((w) => w.kind !== 'baseline') };
-    },
-    staleTime: 5 * 60_000,
   });
 }
 

@@ -8,7 +8,7 @@ import { Dialog } from '@/components/ui/dialog';
 import { EmptyState } from '@/components/ui/empty-state';
 import { Loading } from '@/components/ui/spinner';
 import { useSession } from '@/features/auth/api';
-import { comparisonChoicesQueryOptions, comparisonsQueryOptions, inProgress, runQueryOptions, useCreateComparison, useLockRun, useQueueRun, useSetSchedule } from '@/features/comparisons/api';
+import { comparisonsQueryOptions, inProgress, runQueryOptions, useCreateComparison, useLockRun, useQueueRun, useSetSchedule } from '@/features/comparisons/api';
 import { AddComparisonForm } from '@/features/comparisons/components/add-comparison-form';
 import { ComparisonBadges } from '@/features/comparisons/components/comparison-badges';
 import { ComparisonCard } from '@/features/comparisons/components/comparison-card';
@@ -17,6 +17,7 @@ import { RunResultsView } from '@/features/comparisons/components/results/run-re
 import { RunKindBadge, runKindLabels, RunStateBadge } from '@/features/comparisons/components/run-state';
 import { formatDateTime } from '@/lib/format';
 import { hasRole, studyPath } from '@/lib/navigation';
+import { measuresQueryOptions, wavesQueryOptions } from '@/lib/queries';
 import { reportPath } from '@/lib/results';
 import { useStudyId } from '@/lib/study';
 
@@ -78,8 +79,10 @@ function ComparisonList({ title, description, items, studyId, canRun }: { title:
 }
 
 function AddComparisonDialog({ studyId, open, onClose }: { studyId: string; open: boolean; onClose: () => void }) {
-  const choices = useQuery({ ...comparisonChoicesQueryOptions(studyId), enabled: open });
+  const measures = useQuery({ ...measuresQueryOptions(studyId), enabled: open });
+  const waves = useQuery({ ...wavesQueryOptions(studyId), enabled: open });
   const create = useCreateComparison(studyId);
+  const problem = measures.error ?? waves.error;
   return (
     <Dialog
       open={open}
@@ -87,19 +90,19 @@ function AddComparisonDialog({ studyId, open, onClose }: { studyId: string; open
       description="An analysis the sealed plan did not name. It is marked exploratory everywhere, runs only as a monitoring check and never counts as the study’s confirmatory result."
       onClose={onClose}
     >
-      {choices.data ? (
+      {measures.data && waves.data ? (
         <AddComparisonForm
-          measures={choices.data.measures}
-          waves={choices.data.waves}
+          measures={measures.data.items}
+          waves={waves.data.items.filter((w) => w.kind !== 'baseline')}
           onCancel={onClose}
           onAdd={async (input) => {
             await create.mutateAsync(input);
             onClose();
           }}
         />
-      ) : choices.error ? (
+      ) : problem ? (
         <p role="alert" className="text-danger">
-          {choices.error.message}
+          {problem.message}
         </p>
       ) : (
         <Loading label="Loading the study’s measures and waves…" />

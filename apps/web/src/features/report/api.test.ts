@@ -1,6 +1,6 @@
 import type { Comparison } from '@evenhand/entities';
 import { describe, expect, it } from 'vitest';
-import { reportedRunId } from '@/features/report/api';
+import { reportedRunId, reportedRunIds } from '@/features/report/api';
 
 const base = { lockedRunId: null, latestFinishedRunId: null } as Pick<Comparison, 'lockedRunId' | 'latestFinishedRunId'>;
 const locked = '0b8a3f0e-8f5e-4b7f-9d0e-1c2b3a4d5e6f';
@@ -17,5 +17,12 @@ describe('reportedRunId', () => {
 
   it('reports nothing when no run has finished', () => {
     expect(reportedRunId(base as Comparison)).toBeNull();
+  });
+});
+
+describe('reportedRunIds', () => {
+  it('when some comparisons have no finished run, then it lists the reported runs of the others only', () => {
+    const comparisons = [{ ...base, lockedRunId: locked, latestFinishedRunId: finished }, base, { ...base, latestFinishedRunId: finished }] as Comparison[];
+    expect(reportedRunIds(comparisons)).toEqual([locked, finished]);
   });
 });

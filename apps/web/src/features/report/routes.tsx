@@ -1,12 +1,15 @@
 import type { Accounting, MeasureChecks, PlanVersion } from '@evenhand/entities';
-import { useSuspenseQuery, type QueryClient } from '@tanstack/react-query';
+import type { QueryClient } from '@tanstack/react-query';
 import type { ReactNode } from 'react';
 import { Link, type LoaderFunctionArgs } from 'react-router-dom';
 import { Alert } from '@/components/ui/alert';
 import { Button } from '@/components/ui/button';
 import { EmptyState } from '@/components/ui/empty-state';
 import { FigureTable } from '@/components/ui/figure-table';
-import { studyReportQueryOptions, type StudyReport } from '@/features/report/api';
+import { studyChecksQueryOptions } from '@/features/checks/api';
+import { comparisonsQueryOptions, runQueryOptions } from '@/features/comparisons/api';
+import { planQueryOptions } from '@/features/plan/api';
+import { reportedRunIds, useStudyReport, type StudyReport } from '@/features/report/api';
 import { EvidenceSection } from '@/features/report/components/evidence-section';
 import { FlowDiagram } from '@/features/report/components/flow-diagram';
 import { EffectSizeChart, ResultsTable } from '@/features/report/components/results-summary';
@@ -14,14 +17,24 @@ import { classroomsWithoutReadSheet, totalAccount } from '@/lib/accounting';
 import { formatAlpha, formatCount, formatDateTime, formatInterval, formatNumber, formatPercent } from '@/lib/format';
 import { studyPath } from '@/lib/navigation';
 import { fieldLabel, formatPlanValue } from '@/lib/plan-labels';
-import { studyEvidenceQueryOptions } from '@/lib/queries';
+import { measuresQueryOptions, studyEvidenceQueryOptions, wavesQueryOptions } from '@/lib/queries';
 import { effectSizeWords, iccSourceWords, resultHeadline, testNames } from '@/lib/result-wording';
 import { runPath } from '@/lib/results';
 import { unitLabels, useCurrentStudy, useStudyId } from '@/lib/study';
 
 export function reportLoader(queryClient: QueryClient) {
   return async ({ params }: LoaderFunctionArgs) => {
-    await Promise.all([queryClient.ensureQueryData(studyReportQueryOptions(params.studyId!)), queryClient.ensureQueryData(studyEvidenceQueryOptions(params.studyId!))]);
+    const studyId = params.studyId!;
+    await Promise.all([
+      queryClient.ensureQueryData(planQueryOptions(studyId)),
+      queryClient
+        .ensureQueryData(comparisonsQueryOptions(studyId))
+        .then(({ items }) => Promise.all(reportedRunIds(items).map((runId) => queryClient.ensureQueryData(runQueryOptions(runId))))),
+      queryClient.ensureQueryData(studyChecksQueryOptions(studyId)),
+      queryClient.ensureQueryData(measuresQueryOptions(studyId)),
+      queryClient.ensureQueryData(wavesQueryOptions(studyId)),
+      queryClient.ensureQueryData(studyEvidenceQueryOptions(studyId)),
+    ]);
     return null;
   };
 }
@@ -193,7 +206,7 @@ function primaryOf(report: StudyReport) {
 export function StudyReportPage() {
   const studyId = useStudyId();
   const study = useCurrentStudy();
-  const { data: report } = useSuspenseQuery(studyReportQueryOptions(studyId));
+  const report = useStudyReport(studyId);
   const plan = report.plan.versions.length ? [...report.plan.versions].sort((a, b) => b.version - a.version)[0].content : null;
   const primary = primaryOf(report);
   const primaryResults = primary?.run?.results ?? null;
