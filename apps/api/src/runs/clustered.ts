@@ -40,11 +40,7 @@ export function assignedUnits(classrooms: ClassroomAggregate[], unit: 'classroom
         : `${scored.length - usable.length} classroom(s) without students who have both scores are left out of the two-level model, which adjusts for the pretest.`,
     );
   }
-  const classroomUnits: UnitMoments[] = usable.map((c) =>
-    withPretest && c.pairs
-      ? { unit: c.classroomId, arm: armCode(c.arm), block: c.siteId, n: c.pairs.n, meanY: c.pairs.meanY, ssY: c.pairs.syy, meanX: [c.pairs.meanX], spXY: [c.pairs.sxy], spXX: [[c.pairs.sxx]] }
-      : { unit: c.classroomId, arm: armCode(c.arm), block: c.siteId, n: c.n, meanY: c.mean ?? 0, ssY: c.m2 ?? 0, meanX: [], spXY: [], spXX: [] },
-  );
+  const classroomUnits = outcomeUnits(usable, withPretest, true);
   if (unit === 'school') {
     const units = [...groupBy(classroomUnits, (u) => u.block!)].map(([siteId, parts]) => withoutBlock(combineUnitMoments(parts, siteId)));
     return { unit, units, withPretest, blocks: 0, notes };
@@ -52,6 +48,22 @@ export function assignedUnits(classrooms: ClassroomAggregate[], unit: 'classroom
   const sites = new Set(classroomUnits.map((u) => u.block));
   if (sites.size < 2) return { unit, units: classroomUnits.map(withoutBlock), withPretest, blocks: 0, notes };
   return { unit, units: classroomUnits, withPretest, blocks: sites.size, notes };
+}
+
+// Units without covariates share these (never written): three fresh arrays per unit cost a tenth of a second at 80 000.
+const NONE: number[] = [];
+const NONE_SQUARE: number[][] = [];
+
+/** Each classroom's moments as a unit: the outcome, or with the pretest its students who have both scores; its school as block if asked. */
+export function outcomeUnits(classrooms: ClassroomAggregate[], withPretest: boolean, withBlock = false): UnitMoments[] {
+  return classrooms.map((c) => {
+    const u: UnitMoments =
+      withPretest && c.pairs
+        ? { unit: c.classroomId, arm: armCode(c.arm), n: c.pairs.n, meanY: c.pairs.meanY, ssY: c.pairs.syy, meanX: [c.pairs.meanX], spXY: [c.pairs.sxy], spXX: [[c.pairs.sxx]] }
+        : { unit: c.classroomId, arm: armCode(c.arm), n: c.n, meanY: c.mean ?? 0, ssY: c.m2 ?? 0, meanX: NONE, spXY: NONE, spXX: NONE_SQUARE };
+    if (withBlock) u.block = c.siteId;
+    return u;
+  });
 }
 
 /** The items grouped by key, groups in order of first appearance (one pass: filtering per site cost 41 passes over 80 000 classrooms). */

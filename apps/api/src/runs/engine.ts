@@ -22,7 +22,7 @@ import {
   type Summary,
 } from '@evenhand/stats';
 import { arms, type Arm, type Deciding, type PlanContent, type PrimaryTest, type RunResults } from '@evenhand/entities';
-import { ClusteredAnalysisError, assignedUnits, clusterRobust, groupBy, siteEstimatesFromComponents, twoLevel, type AssignedUnits, type ModelEffect } from './clustered.js';
+import { ClusteredAnalysisError, assignedUnits, clusterRobust, groupBy, outcomeUnits, siteEstimatesFromComponents, twoLevel, type AssignedUnits, type ModelEffect } from './clustered.js';
 import { NORMALITY_SAMPLE, type ClassroomAggregate, type Gathered } from './gather.js';
 import { YesNoAnalysisError, yesNoAnalysis } from './yes-no.js';
 
@@ -95,8 +95,12 @@ export function analyse(ctx: AnalysisContext, data: Gathered): RunResults {
   const notes: string[] = [];
   const cautions: string[] = [];
 
-  const perClass = (arm: Arm) => data.classrooms.filter((c) => c.arm === arm && c.n > 0);
-  const meansOf = (arm: Arm) => perClass(arm).map((c) => c.mean as number);
+  // Each arm's scored classrooms and their means, once: at 80 000 classrooms every pass over them counts.
+  const scoredIn: Record<Arm, ClassroomAggregate[]> = { intervention: [], comparison: [] };
+  for (const c of data.classrooms) if (c.n > 0) scoredIn[c.arm].push(c);
+  const meansIn: Record<Arm, number[]> = { intervention: scoredIn.intervention.map((c) => c.mean as number), comparison: scoredIn.comparison.map((c) => c.mean as number) };
+  const perClass = (arm: Arm) => scoredIn[arm];
+  const meansOf = (arm: Arm) => meansIn[arm];
   // A sensitivity check that cannot be computed says so, and why; the run goes on.
   const notComputed: { check: string; why: string }[] = [];
   const enoughClassrooms = meansOf('intervention').length >= 2 && meansOf('comparison').length >= 2;
@@ -322,7 +326,7 @@ function decidingOf(primary: RunResults['primary'], clustering: RunResults['clus
 
 /** Variance components of the outcome between and within classrooms, without pretest or blocks: the per-site weights. */
 function unadjustedComponents(classrooms: ClassroomAggregate[]): { tau2: number; sigma2: number } | null {
-  const units = assignedUnits(classrooms, 'classroom', false).units.map(({ block: _block, ...u }) => u);
+  const units = outcomeUnits(classrooms.filter((c) => c.n > 0), false);
   try {
     const m = twoLevelFromMoments(units);
     return { tau2: m.tau2, sigma2: m.sigma2 };

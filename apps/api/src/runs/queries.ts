@@ -1,5 +1,5 @@
 import type { Arm, Comparison, Run, RunResults, SheetState } from '@evenhand/entities';
-import { momentsColumns } from '../score-sheets/queries.js';
+import { storedMomentsColumns } from '../score-sheets/queries.js';
 
 // The comparisons' and runs' named SQL and the rows it answers (DEVELOPERS.md, "Data access").
 
@@ -234,7 +234,7 @@ export const classroomsSql = `
          (sh.summary_n IS NOT NULL OR (sh.state = 'open' AND EXISTS (SELECT 1 FROM scores x WHERE x.sheet_id = sh.id))) AS entered,
          sh.summary_n, sh.summary_mean::float8 AS summary_mean, (sh.summary_sd::float8 ^ 2) * (sh.summary_n - 1) AS summary_m2,
          encode(sh.rows_sha256, 'hex') AS digest, bs.id AS pretest_sheet_id, encode(bs.rows_sha256, 'hex') AS pretest_digest,
-         ${momentsColumns('a', 'stored_')}
+         ${storedMomentsColumns('a', 'stored_')}
     FROM classrooms c JOIN sites s ON s.id = c.site_id
     LEFT JOIN registered_counts r ON r.classroom_id = c.id
     LEFT JOIN score_sheets sh ON sh.classroom_id = c.id AND sh.wave_id = $2 AND sh.measure_id = $3
@@ -256,12 +256,13 @@ export interface ValueRow {
 
 /**
  * The analysed outcome scores, with their classroom's arm: scored rows of the wave's row-mode sheets in the run's
- * states, of classrooms with an arm. Plain joins, so PostgreSQL scans and aggregates them in parallel.
- * $1 study, $2 wave, $3 measure, $4 sheet states.
+ * states, of classrooms with an arm. A score's classroom is its sheet's (check_score_keys), so the sheets only filter
+ * (a semi-join) and the arm comes straight from the classroom: a quarter faster than joining both at 2 000 000 scores.
+ * Plain joins, so PostgreSQL scans and aggregates them in parallel. $1 study, $2 wave, $3 measure, $4 sheet states.
  */
-const outcomeJoins = `scores o JOIN score_sheets sh ON sh.id = o.sheet_id AND sh.state = ANY($4) AND sh.mode = 'rows'
-           JOIN classrooms c ON c.id = sh.classroom_id AND c.arm IS NOT NULL`;
-const outcomeFilter = `o.study_id = $1 AND o.wave_id = $2 AND o.measure_id = $3 AND o.score IS NOT NULL`;
+const outcomeJoins = `scores o JOIN classrooms c ON c.id = o.classroom_id AND c.arm IS NOT NULL`;
+const outcomeFilter = `o.study_id = $1 AND o.wave_id = $2 AND o.measure_id = $3 AND o.score IS NOT NULL
+   AND o.sheet_id IN (SELECT sh.id FROM score_sheets sh WHERE sh.study_id = $1 AND sh.wave_id = $2 AND sh.measure_id = $3 AND sh.state = ANY($4) AND sh.mode = 'rows')`;
 /**
  * One row per arm from the count of each distinct outcome score: n; the arm's mid-rank sum ×2 and Σ(t³ − t) over the
  * pooled table; mean and median; Σ|x − c| and Σ(x − c)² for both centres (exact numeric); the values at the requested

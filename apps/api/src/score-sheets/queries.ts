@@ -308,6 +308,7 @@ const sheetSumsSql = `
       WHERE o.sheet_id = u.sheet_id) a`;
 
 // Each moment is one division of an exact numerator: (nΣx² − (Σx)²)/n keeps its digits for scores far from zero.
+// Stored sums carry the same moments as generated columns (migration 1796700000000), so a reader of many takes them as they are.
 const moments = (a: string): [keyof SheetMoments, string][] => [
   ['sheet_id', `${a}.sheet_id`],
   ['n', `${a}.n`],
@@ -322,8 +323,11 @@ const moments = (a: string): [keyof SheetMoments, string][] => [
   ['pair_sxy', `((${a}.np * ${a}.pxy - ${a}.px * ${a}.py) / nullif(${a}.np, 0))::float8`],
 ];
 
-/** The moments of the sums in `a` as select-list columns, each name prefixed (a row holding other columns too). */
-export const momentsColumns = (a: string, prefix = '') => moments(a).map(([name, expr]) => `${expr} AS ${prefix}${name}`).join(', ');
+/** The moments of the stored sums in `a` (a sheet_sums row) as select-list columns, each name prefixed (a row holding other columns too). */
+export const storedMomentsColumns = (a: string, prefix: string) =>
+  moments(a)
+    .map(([name]) => `${a}.${name === 'pairs' ? 'np' : name} AS ${prefix}${name}`)
+    .join(', ');
 
 /** One sheet's count, mean and M2 of its scores, its leavers, and its students paired with a pretest: count, means and centred sums. */
 export interface SheetMoments {
@@ -341,7 +345,7 @@ export interface SheetMoments {
 }
 
 /** Each given sheet's moments, summed now. $1 sheet IDs, $2 the pretest sheet paired with each (null: none). */
-export const sheetMomentsSql = `SELECT ${momentsColumns('a')} FROM (${sheetSumsSql}) a`;
+export const sheetMomentsSql = `SELECT ${moments('a').map(([name, expr]) => `${expr} AS ${name}`).join(', ')} FROM (${sheetSumsSql}) a`;
 
 /** The writers' lock on the given sheets' classrooms. $1 sheet IDs. */
 export const lockSheetClassroomsSql = `SELECT 1 FROM classrooms WHERE id IN (SELECT classroom_id FROM score_sheets WHERE id = ANY($1::uuid[])) ORDER BY id FOR NO KEY UPDATE`;

@@ -3,7 +3,7 @@ import { lockSheetClassroomsSql, sheetMomentsSql, storeSheetDigests, storeSheetS
 
 // A sheet's exact sums (n, Σy, Σy², leavers, and the pairs with its pretest sheet): stored when it stops changing, read by runs.
 
-/** The moments of a row selected with `momentsColumns(a, 'stored_')`, or null when it has none (written out: a generic copy cost a quarter second at 80 000 rows). */
+/** The moments of a row selected with `storedMomentsColumns(a, 'stored_')`, or null when it has none (written out: a generic copy cost a quarter second at 80 000 rows). */
 export function storedMomentsOf(row: object): SheetMoments | null {
   const r = row as Record<`stored_${keyof SheetMoments}`, never>;
   if (r.stored_sheet_id === null) return null;
