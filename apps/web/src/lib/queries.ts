@@ -1,5 +1,5 @@
-import { measureSchema, pageOf, siteSchema, studyEvidenceSchema, waveSchema } from '@evenhand/entities';
-import { queryOptions } from '@tanstack/react-query';
+import { measureSchema, pageOf, siteSchema, studyChecksSchema, studyEvidenceSchema, waveSchema } from '@evenhand/entities';
+import { queryOptions, type QueryClient } from '@tanstack/react-query';
 import { apiRequest } from '@/lib/api-client';
 import { studyKeys } from '@/lib/study';
 
@@ -12,8 +12,11 @@ import { studyKeys } from '@/lib/study';
 export const sharedKeys = {
   measures: (studyId: string) => [...studyKeys.detail(studyId), 'measures'] as const,
   waves: (studyId: string) => [...studyKeys.detail(studyId), 'waves'] as const,
-  /** The evidence verdict per pre-specified comparison: keyed under the study, so every change to its sheets or runs refreshes it. */
-  evidence: (studyId: string, boundary: 'cautious' | 'optimistic' | 'plan') => [...studyKeys.detail(studyId), 'evidence', boundary] as const,
+  /** The evidence verdicts per pre-specified comparison, under either boundary: invalidate after a sheet moves or a run locks. */
+  evidenceAll: (studyId: string) => [...studyKeys.detail(studyId), 'evidence'] as const,
+  evidence: (studyId: string, boundary: 'cautious' | 'optimistic' | 'plan') => [...sharedKeys.evidenceAll(studyId), boundary] as const,
+  /** The Checks (the Checks page and the report): invalidate after a sheet changes or a run locks. */
+  checks: (studyId: string) => [...studyKeys.detail(studyId), 'checks'] as const,
   /** The district's schools; invalidate after a school is added or changed. */
   districtSites: () => ['sites', 'district'] as const,
 };
@@ -44,6 +47,14 @@ export function districtSitesQueryOptions() {
   });
 }
 
+/** The study's Checks: balance, attrition, who was analysed and lost, as today's accepted sheets or the locked run give them. */
+export function studyChecksQueryOptions(studyId: string) {
+  return queryOptions({
+    queryKey: sharedKeys.checks(studyId),
+    queryFn: ({ signal }) => apiRequest(`/studies/${studyId}/checks`, { schema: studyChecksSchema, signal }),
+  });
+}
+
 /**
  * The evidence verdict of each pre-specified comparison (the report, and the Checks' risks), judged against the boundary
  * the plan registers, or against `boundary` when a reader asks for the other one.
@@ -53,4 +64,10 @@ export function studyEvidenceQueryOptions(studyId: string, boundary?: 'cautious'
     queryKey: sharedKeys.evidence(studyId, boundary ?? 'plan'),
     queryFn: ({ signal }) => apiRequest(`/studies/${studyId}/evidence${boundary ? `?boundary=${boundary}` : ''}`, { schema: studyEvidenceSchema, signal }),
   });
+}
+
+/** What a study's sheets and locked runs decide, read again after either changes (only a page showing it asks at once). */
+export function invalidateStudyFindings(queryClient: QueryClient, studyId: string): void {
+  void queryClient.invalidateQueries({ queryKey: sharedKeys.checks(studyId) });
+  void queryClient.invalidateQueries({ queryKey: sharedKeys.evidenceAll(studyId) });
 }

@@ -3,7 +3,7 @@ import { useSuspenseQuery, type QueryClient } from '@tanstack/react-query';
 import type { LoaderFunctionArgs } from 'react-router-dom';
 import { Alert } from '@/components/ui/alert';
 import { EmptyState } from '@/components/ui/empty-state';
-import { studyChecksQueryOptions } from '@/features/checks/api';
+import { studyChecksQueryOptions } from '@/lib/queries';
 import { AttritionPanel, type ArmCounts } from '@/features/checks/components/attrition-panel';
 import { BaselinePanel } from '@/features/checks/components/baseline-panel';
 import { BoxPlots } from '@/features/checks/components/box-plots';

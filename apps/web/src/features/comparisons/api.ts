@@ -10,6 +10,8 @@ import {
 import { queryOptions, useMutation, useQueryClient } from '@tanstack/react-query';
 import { z } from 'zod';
 import { apiRequest } from '@/lib/api-client';
+import { invalidateStudyFindings } from '@/lib/queries';
+import { studyKeys } from '@/lib/study';
 
 const comparisonsPageSchema = pageOf(comparisonSchema);
 const queuedRunSchema = z.object({ run: runSchema });
@@ -52,6 +54,8 @@ export function useQueueRun(studyId: string) {
       apiRequest(`/comparisons/${comparisonId}/runs`, { method: 'POST', body: input, schema: queuedRunSchema }),
     onSuccess: ({ run }) => {
       queryClient.setQueryData(runKeys.detail(run.id), run);
+      // The first confirmatory run moves the study to analysing.
+      void queryClient.invalidateQueries({ queryKey: studyKeys.detail(studyId), exact: true });
       return queryClient.invalidateQueries({ queryKey: comparisonKeys.list(studyId) });
     },
   });
@@ -63,6 +67,9 @@ export function useLockRun(studyId: string) {
     mutationFn: (runId: string) => apiRequest(`/runs/${runId}/lock`, { method: 'POST', schema: runSchema }),
     onSuccess: (run) => {
       queryClient.setQueryData(runKeys.detail(run.id), run);
+      // A lock stores the evidence verdict, freezes the Checks' figures and may report the study.
+      invalidateStudyFindings(queryClient, studyId);
+      void queryClient.invalidateQueries({ queryKey: studyKeys.detail(studyId), exact: true });
       return queryClient.invalidateQueries({ queryKey: comparisonKeys.list(studyId) });
     },
   });

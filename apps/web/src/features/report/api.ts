@@ -1,9 +1,8 @@
 import type { Comparison, Run } from '@evenhand/entities';
 import { useSuspenseQueries } from '@tanstack/react-query';
-import { studyChecksQueryOptions } from '@/features/checks/api';
 import { comparisonsQueryOptions, runQueryOptions } from '@/features/comparisons/api';
 import { planQueryOptions } from '@/features/plan/api';
-import { measuresQueryOptions, wavesQueryOptions } from '@/lib/queries';
+import { measuresQueryOptions, studyChecksQueryOptions, wavesQueryOptions } from '@/lib/queries';
 
 /** The run a report shows for a comparison: its locked run, else its latest finished one (a newer run may have failed or still wait). */
 export function reportedRunId(c: Comparison): string | null {

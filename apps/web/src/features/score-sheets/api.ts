@@ -13,6 +13,7 @@ import {
 } from '@evenhand/entities';
 import { queryOptions, useMutation, useQueryClient, type QueryClient } from '@tanstack/react-query';
 import { apiRequest } from '@/lib/api-client';
+import { invalidateStudyFindings } from '@/lib/queries';
 import { uploadFile } from '@/lib/upload';
 
 const sheetsPageSchema = pageOf(scoreSheetSchema);
@@ -55,11 +56,15 @@ export function completionQueryOptions(studyId: string) {
   });
 }
 
-/** After a sheet changed: its detail holds the answer, and every list and matrix is read again. */
+/**
+ * After a sheet changed: its detail holds the answer, and every list and matrix is read again, as are the Checks and
+ * the evidence verdicts, which count its classroom's students.
+ */
 function sheetChanged(queryClient: QueryClient, sheet: ScoreSheet | ScoreSheetDetail) {
   queryClient.setQueryData(scoreSheetKeys.detail(sheet.id), (old) => (old ? { ...old, ...sheet } : 'rows' in sheet ? sheet : undefined));
   void queryClient.invalidateQueries({ queryKey: scoreSheetKeys.lists() });
   void queryClient.invalidateQueries({ queryKey: scoreSheetKeys.completions() });
+  invalidateStudyFindings(queryClient, sheet.studyId);
 }
 
 export function saveRows(id: string, rows: ScoreRowInput[], signal?: AbortSignal) {
@@ -125,8 +130,8 @@ export function useUploadSheet(id: string) {
       if (result.dryRun) return;
       // The rows changed on the server: the editor starts again from them.
       await queryClient.invalidateQueries({ queryKey: scoreSheetKeys.detail(id) });
-      void queryClient.invalidateQueries({ queryKey: scoreSheetKeys.lists() });
-      void queryClient.invalidateQueries({ queryKey: scoreSheetKeys.completions() });
+      const sheet = queryClient.getQueryData<ScoreSheetDetail>(scoreSheetKeys.detail(id));
+      if (sheet) sheetChanged(queryClient, sheet);
     },
   });
 }
