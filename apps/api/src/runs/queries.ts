@@ -92,16 +92,17 @@ export const multiplicityRunsSql = `
    ORDER BY r.comparison_id, (r.state = 'locked') DESC, r.finished_at DESC`;
 
 /**
- * A run's end: its results, and from the same snapshot the sheets it read (the outcome wave's and, with the pretest,
- * the baseline wave's sheets in the states read) and the arm of every classroom then; built in SQL, since sending
- * 80 000 classrooms' IDs from Node costs seconds. $1 run, $2 results, $3 engine version, $4 data hash, $5 study,
- * $6 outcome wave, $7 baseline wave or null, $8 measure, $9 sheet states read.
+ * A run's end: its results, the arm of every classroom it read (classroom id → arm, as JSON text built from the rows it
+ * read: PostgreSQL parses 80 000 pairs in a tenth of the time it aggregates them), and from the same snapshot the sheets
+ * it read (the outcome wave's and, with the pretest, the baseline wave's sheets in the states read), built in SQL since
+ * sending 80 000 IDs from Node costs seconds. $1 run, $2 results, $3 engine version, $4 data hash, $5 study, $6 outcome
+ * wave, $7 baseline wave or null, $8 measure, $9 sheet states read, $10 the arms.
  */
 export const finishRunSql = `
   UPDATE runs SET state = 'finished', finished_at = now(), results = $2, engine_version = $3, data_sha256 = $4,
          input_sheet_ids = (SELECT coalesce(array_agg(id), '{}') FROM score_sheets
                              WHERE study_id = $5 AND measure_id = $8 AND state = ANY($9) AND (wave_id = $6 OR wave_id = $7)),
-         classroom_arms = (SELECT coalesce(jsonb_object_agg(id, arm), '{}') FROM classrooms WHERE study_id = $5 AND arm IS NOT NULL)
+         classroom_arms = $10::jsonb
    WHERE id = $1`;
 
 // Comparisons.

@@ -111,7 +111,9 @@ export async function executeRun(db: DataSource, logger: Logger, runId: string):
       // A finished confirmatory run moves its study's adjusted figures: cached locked answers are read afresh.
       changeFeed(db).expect(`runs:${claimed.study_id}`);
       const results = { ...computed, accounting };
-      await manager.query(finishRunSql, [runId, results, results.engineVersion, data.dataSha256, k.study_id, k.wave_id, baselineWaveId, k.measure_id, states]);
+      // Every classroom with an arm as this run read it: the arms its bundle and the reassignment guard use.
+      const arms = JSON.stringify(Object.fromEntries(data.read.map((c) => [c.classroomId, c.arm])));
+      await manager.query(finishRunSql, [runId, results, results.engineVersion, data.dataSha256, k.study_id, k.wave_id, baselineWaveId, k.measure_id, states, arms]);
     });
   } catch (err) {
     const known = err instanceof AnalysisError || (err as Error).name === 'StatsInputError';
