@@ -1,5 +1,5 @@
 import { expect, test, type Page } from '@playwright/test';
-import { DEMO_STUDY, acceptRoleOffer, apiAs, demoWaveName, expectAccessible, expectStatus, isoDay, signIn } from './support';
+import { DEMO_STUDY, acceptRoleInvitation, apiAs, demoWaveName, expectAccessible, expectStatus, isoDay, signIn } from './support';
 
 const MAILDEV = process.env.MAILDEV_URL ?? 'http://127.0.0.1:1080';
 
@@ -50,7 +50,7 @@ async function createOpenStudy(baseURL: string): Promise<OwnStudy> {
   );
   await lead.dispose();
   await coordinator.dispose();
-  await acceptRoleOffer(baseURL, 'teacher1@evenhand.test', `Juniper Lane ${suffix}`);
+  await acceptRoleInvitation(baseURL, 'teacher1@evenhand.test', `Juniper Lane ${suffix}`);
   return { id: study.id, title };
 }
 

@@ -1,5 +1,5 @@
 import { expect, test, type Page } from '@playwright/test';
-import { DEMO_STUDY, acceptRoleOffer, apiAs, expectAccessible, expectStatus, isoDay, queryDatabase, signIn } from './support';
+import { DEMO_STUDY, acceptRoleInvitation, apiAs, expectAccessible, expectStatus, isoDay, queryDatabase, signIn } from './support';
 
 /**
  * Phones and tablets: sign-in, My classes, the score sheet (typing, pasting a block, autosave, submit) and My school
@@ -50,7 +50,7 @@ test.beforeAll(async ({ baseURL }) => {
   }
   await lead.dispose();
   await coordinator.dispose();
-  await acceptRoleOffer(baseURL!, 'teacher1@evenhand.test', `Quillhaven Pocket School ${suffix}`);
+  await acceptRoleInvitation(baseURL!, 'teacher1@evenhand.test', `Quillhaven Pocket School ${suffix}`);
 });
 
 for (const size of sizes) {

@@ -76,9 +76,9 @@ export async function demoWaveName(kind: 'baseline' | 'outcome' | 'follow-up'): 
 
 /**
  * An existing account named as a school's teacher or principal holds the role only once it follows the e-mailed
- * offer: reads the offer for `siteName` from the mail catcher and accepts it as the person would.
+ * invitation: reads it for `siteName` from the mail catcher and accepts it as the person would.
  */
-export async function acceptRoleOffer(baseURL: string, email: string, siteName: string) {
+export async function acceptRoleInvitation(baseURL: string, email: string, siteName: string) {
   const maildev = process.env.MAILDEV_URL ?? 'http://127.0.0.1:1080';
   const mail = await playwrightRequest.newContext();
   let token: string | null = null;
@@ -92,7 +92,7 @@ export async function acceptRoleOffer(baseURL: string, email: string, siteName: 
     if (!token) await new Promise((r) => setTimeout(r, 200));
   }
   await mail.dispose();
-  expect(token, `no role offer for ${siteName} e-mailed to ${email}`).not.toBeNull();
+  expect(token, `no role invitation for ${siteName} e-mailed to ${email}`).not.toBeNull();
   const api = await playwrightRequest.newContext({ baseURL });
   const login = await api.post('/api/auth/login', { data: { email, password: DEMO_PASSWORD } });
   expect(login.status()).toBe(200);

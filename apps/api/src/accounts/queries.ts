@@ -97,19 +97,19 @@ export async function stillNamed(manager: EntityManager, grant: SchoolGrant): Pr
   return rows.length > 0;
 }
 
-/** Of these offers (by e-mail, role and school), the `email|role|site` keys of those still open and unexpired. */
-export async function openOfferKeys(manager: EntityManager, offers: readonly { email: string; role: string; siteId: string }[]): Promise<Set<string>> {
-  if (!offers.length) return new Set();
+/** Of these invitations (by e-mail, role and school), the `email|role|site` keys of those still open and unexpired. */
+export async function openInvitationKeys(manager: EntityManager, invitations: readonly { email: string; role: string; siteId: string }[]): Promise<Set<string>> {
+  if (!invitations.length) return new Set();
   const rows: { key: string }[] = await manager.query(
     `SELECT u.email || '|' || i.role || '|' || i.site_id AS key FROM role_invitations i JOIN users u ON u.id = i.user_id
       WHERE i.state = 'pending' AND i.expires_at > now() AND (u.email, i.role, i.site_id) IN (SELECT * FROM unnest($1::text[], $2::text[], $3::uuid[]))`,
-    [offers.map((o) => o.email), offers.map((o) => o.role), offers.map((o) => o.siteId)],
+    [invitations.map((o) => o.email), invitations.map((o) => o.role), invitations.map((o) => o.siteId)],
   );
   return new Set(rows.map((r) => r.key));
 }
 
-/** Withdraws the open offers of these roles at these schools to these accounts. */
-export async function withdrawOffers(manager: EntityManager, grants: readonly SchoolGrant[]): Promise<void> {
+/** Withdraws the open invitations of these roles at these schools to these accounts. */
+export async function withdrawInvitations(manager: EntityManager, grants: readonly SchoolGrant[]): Promise<void> {
   await manager.query(
     `UPDATE role_invitations i SET state = 'withdrawn', decided_at = now() FROM unnest($1::uuid[], $2::text[], $3::uuid[]) AS o(user_id, role, site_id)
       WHERE i.user_id = o.user_id AND i.role = o.role AND i.site_id = o.site_id AND i.state = 'pending'`,
@@ -117,27 +117,27 @@ export async function withdrawOffers(manager: EntityManager, grants: readonly Sc
   );
 }
 
-/** Records an offer per grant, open for `days` days, keeping only the hash of its link's token. */
-export async function insertOffers(
+/** Records an invitation per grant, open for `days` days, keeping only the hash of its link's token. */
+export async function insertInvitations(
   manager: EntityManager,
-  offers: readonly (SchoolGrant & { tokenHash: string })[],
+  invitations: readonly (SchoolGrant & { tokenHash: string })[],
   invitedBy: string,
   days: number,
 ): Promise<void> {
   await manager.query(
     `INSERT INTO role_invitations (user_id, role, site_id, invited_by, token_hash, expires_at)
      SELECT user_id, role, site_id, $5, token_hash, now() + $6 * interval '1 day' FROM unnest($1::uuid[], $2::text[], $3::uuid[], $4::text[]) AS o(user_id, role, site_id, token_hash)`,
-    [offers.map((o) => o.userId), offers.map((o) => o.role), offers.map((o) => o.siteId), offers.map((o) => o.tokenHash), invitedBy, days],
+    [invitations.map((o) => o.userId), invitations.map((o) => o.role), invitations.map((o) => o.siteId), invitations.map((o) => o.tokenHash), invitedBy, days],
   );
 }
 
-/** Closes an open offer: accepted, or withdrawn when it no longer stands. */
-export async function settleOffer(manager: EntityManager, id: string, state: 'accepted' | 'withdrawn'): Promise<void> {
+/** Closes an open invitation: accepted, or withdrawn when it no longer stands. */
+export async function settleInvitation(manager: EntityManager, id: string, state: 'accepted' | 'withdrawn'): Promise<void> {
   await manager.query(`UPDATE role_invitations SET state = $2, decided_at = now() WHERE id = $1`, [id, state]);
 }
 
-/** An open offer with its school's name and whether it has expired. */
-export interface OpenOfferRow {
+/** An open invitation with its school's name and whether it has expired. */
+export interface OpenInvitationRow {
   id: string;
   user_id: string;
   role: 'teacher' | 'principal';
@@ -149,13 +149,13 @@ export interface OpenOfferRow {
 const openSelect = `SELECT i.id, i.user_id, i.role, i.site_id, s.name AS site_name, i.expires_at < now() AS expired
   FROM role_invitations i JOIN sites s ON s.id = i.site_id WHERE i.state = 'pending'`;
 
-/** The open offer a link's token (by its hash) opens, locked for deciding. */
-export async function lockOpenOfferByToken(manager: EntityManager, tokenHash: string): Promise<OpenOfferRow | undefined> {
-  const [row]: OpenOfferRow[] = await manager.query(`${openSelect} AND i.token_hash = $1 FOR UPDATE OF i`, [tokenHash]);
+/** The open invitation a link's token (by its hash) opens, locked for deciding. */
+export async function lockOpenInvitationByToken(manager: EntityManager, tokenHash: string): Promise<OpenInvitationRow | undefined> {
+  const [row]: OpenInvitationRow[] = await manager.query(`${openSelect} AND i.token_hash = $1 FOR UPDATE OF i`, [tokenHash]);
   return row;
 }
 
-/** An account's open offers, oldest first, locked for deciding. */
-export function lockOpenOffersOf(manager: EntityManager, userId: string): Promise<OpenOfferRow[]> {
+/** An account's open invitations, oldest first, locked for deciding. */
+export function lockOpenInvitationsOf(manager: EntityManager, userId: string): Promise<OpenInvitationRow[]> {
   return manager.query(`${openSelect} AND i.user_id = $1 ORDER BY i.created_at FOR UPDATE OF i`, [userId]);
 }

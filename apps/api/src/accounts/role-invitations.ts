@@ -12,17 +12,17 @@ import {
   grantIfAbsent,
   insertGrants,
   insertInvitedAccounts,
-  insertOffers,
+  insertInvitations,
   lockAccountsByEmail,
-  lockOpenOfferByToken,
-  lockOpenOffersOf,
-  openOfferKeys,
+  lockOpenInvitationByToken,
+  lockOpenInvitationsOf,
+  openInvitationKeys,
   removeGrant,
   rolesAmong,
-  settleOffer,
+  settleInvitation,
   stillNamed,
-  withdrawOffers,
-  type OpenOfferRow,
+  withdrawInvitations,
+  type OpenInvitationRow,
 } from './queries.js';
 
 /** The school roles a coordinator can offer by naming a person. */
@@ -78,8 +78,8 @@ export async function ensurePerson(
  * after another. An existing account is offered the role by an e-mailed link and holds it only once it accepts; a new
  * address gets an account with the first role named for it but no password, usable once the person accepts the
  * invitation by choosing a password (any other role named for it in the same list is offered like an existing
- * account's). A person who already holds the role there is simply named, and one with an open offer of it keeps that
- * offer (no second e-mail); the same person, role and school named twice is one naming. If anyone named is the actor or holds a conflicting role, `refuse` throws and nothing is
+ * account's). A person who already holds the role there is simply named, and one with an open invitation of it keeps that
+ * invitation (no second e-mail); the same person, role and school named twice is one naming. If anyone named is the actor or holds a conflicting role, `refuse` throws and nothing is
  * written. Everything goes into the outbox within the caller's transaction. Answers each naming's account, and
  * whether that naming sent mail.
  */
@@ -138,34 +138,35 @@ export async function ensurePeople(
     );
   }
 
-  // Everyone else not yet holding the role there: an offer each. An offer of the same role at the same school still
+  // Everyone else not yet holding the role there: an invitation each. An invitation of the same role at the same school still
   // open stands (the link already sent keeps working, and no second e-mail goes out, e.g. for a second classroom); an
   // expired one is replaced.
   const mailed = new Set(newcomers.map((n) => `${n.person.email}|${n.offered.role}|${n.offered.siteId}`));
   const candidates = named.filter((n) => !newcomers.includes(n) && !accounts.get(n.person.email)!.held.has(`${n.offered.role}@${n.offered.siteId}`));
-  const standing = await openOfferKeys(manager, candidates.map((n) => ({ email: n.person.email, role: n.offered.role, siteId: n.offered.siteId })));
-  const offers: (Naming & { userId: string; name: string; token: string })[] = [];
+  const standing = await openInvitationKeys(manager, candidates.map((n) => ({ email: n.person.email, role: n.offered.role, siteId: n.offered.siteId })));
+  const invitations: (Naming & { userId: string; name: string; token: string })[] = [];
   for (const n of candidates) {
     const key = `${n.person.email}|${n.offered.role}|${n.offered.siteId}`;
     if (mailed.has(key) || standing.has(key)) continue;
     const account = accounts.get(n.person.email)!;
     mailed.add(key);
-    offers.push({ ...n, userId: account.id, name: account.name, token: randomBytes(32).toString('base64url') });
+    invitations.push({ ...n, userId: account.id, name: account.name, token: randomBytes(32).toString('base64url') });
   }
-  if (offers.length) {
-    const grants = offers.map((o) => ({ userId: o.userId, role: o.offered.role, siteId: o.offered.siteId }));
-    await withdrawOffers(manager, grants);
-    await insertOffers(manager, grants.map((g, i) => ({ ...g, tokenHash: hashToken(offers[i].token) })), actor.id, INVITATION_DAYS);
+  if (invitations.length) {
+    const grants = invitations.map((o) => ({ userId: o.userId, role: o.offered.role, siteId: o.offered.siteId }));
+    await withdrawInvitations(manager, grants);
+    await insertInvitations(manager, grants.map((g, i) => ({ ...g, tokenHash: hashToken(invitations[i].token) })), actor.id, INVITATION_DAYS);
+    // The audit trail keeps the action's recorded name, 'user.role_offered', so old and new entries read alike.
     await recordAudits(
       manager,
-      offers.map((o) => ({ actorId: actor.id, studyId, action: 'user.role_offered', entityType: 'user', entityId: o.userId, after: { email: o.person.email, offered: o.offered } })),
+      invitations.map((o) => ({ actorId: actor.id, studyId, action: 'user.role_offered', entityType: 'user', entityId: o.userId, after: { email: o.person.email, offered: o.offered } })),
     );
     const sites = await manager.findBy(SiteEntity, { id: In([...new Set(grants.map((g) => g.siteId))]) });
     const siteName = new Map(sites.map((x) => [x.id, x.name]));
     await queueMails(
       manager,
       ctx,
-      offers.map((o) => ({
+      invitations.map((o) => ({
         kind: 'role_invitation' as const,
         recipient: { id: o.userId, email: o.person.email },
         message: roleInvitationMail({
@@ -192,10 +193,10 @@ export async function ensurePeople(
 }
 
 /** Grants an open invitation's role if it still stands (the person is still named, holds no conflicting role). */
-async function grant(manager: EntityManager, inv: OpenOfferRow): Promise<boolean> {
+async function grant(manager: EntityManager, inv: OpenInvitationRow): Promise<boolean> {
   const offered = { userId: inv.user_id, role: inv.role, siteId: inv.site_id };
   const stands = (await stillNamed(manager, offered)) && !(await rolesAmong(manager, inv.user_id, conflictingRoles)).length && !inv.expired;
-  await settleOffer(manager, inv.id, stands ? 'accepted' : 'withdrawn');
+  await settleInvitation(manager, inv.id, stands ? 'accepted' : 'withdrawn');
   if (!stands) return false;
   // The accepted role works in the sessions the person already has, from the next request on.
   sessionChanging(manager, inv.user_id);
@@ -204,10 +205,10 @@ async function grant(manager: EntityManager, inv: OpenOfferRow): Promise<boolean
   return true;
 }
 
-/** The signed-in person accepts the role offered by a link sent to them. */
+/** The signed-in person accepts the role invitationed by a link sent to them. */
 export async function acceptRoleInvitation(deps: Pick<Deps, 'db'>, user: SessionUser, token: string): Promise<{ role: SchoolRole; siteId: string; siteName: string }> {
   return deps.db.transaction(async (manager) => {
-    const inv = await lockOpenOfferByToken(manager, hashToken(token));
+    const inv = await lockOpenInvitationByToken(manager, hashToken(token));
     // Someone else's link answers as an unknown one: it says nothing about the other account.
     if (!inv || inv.user_id !== user.id) throw AppError.notFound('The invitation (it may have been used, replaced by a newer one, or sent to another account)');
     if (!(await grant(manager, inv))) {
@@ -219,17 +220,17 @@ export async function acceptRoleInvitation(deps: Pick<Deps, 'db'>, user: Session
 
 /** Accepts every open role invitation of an account, as its owner would by each link (test set-up only). */
 export async function acceptOpenInvitations(manager: EntityManager, userId: string): Promise<void> {
-  for (const inv of await lockOpenOffersOf(manager, userId)) await grant(manager, inv);
+  for (const inv of await lockOpenInvitationsOf(manager, userId)) await grant(manager, inv);
 }
 
 /**
  * Someone is no longer named (another teacher for the classroom, another principal for the school): their grant for
- * that school goes once nothing there names them any more, open offers are withdrawn, and their sessions end.
+ * that school goes once nothing there names them any more, open invitations are withdrawn, and their sessions end.
  */
 export async function releaseRole(manager: EntityManager, actor: SessionUser, userId: string, role: SchoolRole, siteId: string, studyId: string | null): Promise<void> {
   const held = { userId, role, siteId };
   if (await stillNamed(manager, held)) return;
-  await withdrawOffers(manager, [held]);
+  await withdrawInvitations(manager, [held]);
   if (!(await removeGrant(manager, held))) return;
   await endSessions(manager, userId);
   await recordAudit(manager, { actorId: actor.id, studyId, action: 'user.roles_changed', entityType: 'user', entityId: userId, before: { role, siteId }, after: { removed: { role, siteId } } });

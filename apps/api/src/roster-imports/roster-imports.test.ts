@@ -226,7 +226,7 @@ describe('teachers named by the export, all at once', () => {
     (await t.db.query(`SELECT g.role, s.code FROM role_grants g JOIN users u ON u.id = g.user_id JOIN sites s ON s.id = g.site_id WHERE u.email = $1 ORDER BY s.code`, [email])).map(
       (g: { role: string; code: string }) => `${g.role}@${g.code}`,
     );
-  const offersOf = async (email: string) =>
+  const invitationsOf = async (email: string) =>
     (await t.db.query(`SELECT i.role, s.code FROM role_invitations i JOIN users u ON u.id = i.user_id JOIN sites s ON s.id = i.site_id WHERE u.email = $1 AND i.state = 'pending' ORDER BY s.code`, [email])).map(
       (g: { role: string; code: string }) => `${g.role}@${g.code}`,
     );
@@ -245,7 +245,7 @@ describe('teachers named by the export, all at once', () => {
     expect(teachers[0].email).toBe(shared);
     // Named one after another it would be the same: the account comes with the first school's role, the second is offered.
     expect(await grantsOf(shared)).toEqual(['teacher@ALD']);
-    expect(await offersOf(shared)).toEqual(['teacher@BRK']);
+    expect(await invitationsOf(shared)).toEqual(['teacher@BRK']);
     expect(await outbox(shared)).toEqual(['invitation', 'role_invitation']);
     expect([await auditCount('user.invited', shared), await auditCount('user.role_offered', shared)]).toEqual([1, 1]);
     const invitation = (await waitForMail(shared, 2)).find((m) => m.subject === 'You are invited to Evenhand');
@@ -261,7 +261,7 @@ describe('teachers named by the export, all at once', () => {
     expect(res.status).toBe(201);
     expect(res.body).toMatchObject({ classroomsCreated: 2, invitationsSent: 1 });
     expect(await grantsOf(existing)).toEqual([]);
-    expect(await offersOf(existing)).toEqual(['teacher@ALD']);
+    expect(await invitationsOf(existing)).toEqual(['teacher@ALD']);
     expect(await outbox(existing)).toEqual(['role_invitation']);
     expect([await auditCount('user.invited', existing), await auditCount('user.role_offered', existing)]).toEqual([0, 1]);
     expect((await t.db.query(`SELECT count(*)::int AS n FROM users WHERE email = $1`, [existing]))[0].n).toBe(1);
