@@ -111,8 +111,9 @@ export async function executeRun(db: DataSource, logger: Logger, runId: string):
       // A finished confirmatory run moves its study's adjusted figures: cached locked answers are read afresh.
       changeFeed(db).expect(`runs:${claimed.study_id}`);
       const results = { ...computed, accounting };
-      // Every classroom with an arm as this run read it: the arms its bundle and the reassignment guard use.
-      const arms = JSON.stringify(Object.fromEntries(data.read.map((c) => [c.classroomId, c.arm])));
+      // Every classroom with an arm as this run read it: the arms its bundle and the reassignment guard use. Written
+      // out (IDs and arms need no escaping): an object of 80 000 keys cost a fifth of a second to build and encode.
+      const arms = `{${data.read.map((c) => `"${c.classroomId}":"${c.arm}"`).join(',')}}`;
       await manager.query(finishRunSql, [runId, results, results.engineVersion, data.dataSha256, k.study_id, k.wave_id, baselineWaveId, k.measure_id, states, arms]);
     });
   } catch (err) {
