@@ -130,8 +130,9 @@ export function useUploadSheet(id: string) {
       if (result.dryRun) return;
       // The rows changed on the server: the editor starts again from them.
       await queryClient.invalidateQueries({ queryKey: scoreSheetKeys.detail(id) });
-      const sheet = queryClient.getQueryData<ScoreSheetDetail>(scoreSheetKeys.detail(id));
-      if (sheet) sheetChanged(queryClient, sheet);
+      void queryClient.invalidateQueries({ queryKey: scoreSheetKeys.lists() });
+      void queryClient.invalidateQueries({ queryKey: scoreSheetKeys.completions() });
+      if (result.sheet) invalidateStudyFindings(queryClient, result.sheet.studyId);
     },
   });
 }
