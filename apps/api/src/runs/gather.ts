@@ -3,7 +3,7 @@ import { createHash } from 'node:crypto';
 import { mergePairedSummaries, sampleRanks, type PairedSummary } from '@evenhand/stats';
 import type { Arm, SheetState } from '@evenhand/entities';
 import { sheetDigestsHexSql, type SheetMoments } from '../score-sheets/queries.js';
-import { storedMomentsOf, sumSheets, withoutPairs } from '../score-sheets/sums.js';
+import { storedMomentsOf, sumSheets } from '../score-sheets/sums.js';
 import { aggregateSettingsSql, classroomsSql, summaryLinesSql, valuePassSql, type ClassroomRow, type ValueRow } from './queries.js';
 import { yesCount } from './yes-no.js';
 
@@ -89,7 +89,8 @@ export async function readClassrooms(manager: EntityManager, scope: Omit<Scope, 
   // By site name, then classroom name, in character-code order (sorted here: sorting 80 000 wide rows cost PostgreSQL a second).
   const before = (a: string, b: string) => (a < b ? -1 : a > b ? 1 : 0);
   rows.sort((a, b) => before(a.site_name, b.site_name) || before(a.classroom_name, b.classroom_name));
-  const stored = rows.map(storedMomentsOf);
+  // Pairs taken with a baseline sheet this reader does not read are not its pairs (summed now, such a sheet has none).
+  const stored = rows.map((r) => storedMomentsOf(r, r.pretest_sheet_id !== null));
   const missing = rows.filter((r, i) => r.mode === 'rows' && r.read && stored[i] === null);
   const fresh = await sumSheets(
     manager,
@@ -113,8 +114,7 @@ export async function readClassrooms(manager: EntityManager, scope: Omit<Scope, 
             digest: r.digest,
             pretestSheetId: r.pretest_sheet_id,
             pretestDigest: r.pretest_digest,
-            // Pairs taken with a baseline sheet this reader does not read are not its pairs.
-            moments: r.pretest_sheet_id === null ? withoutPairs(moments) : moments,
+            moments,
           }
         : null,
     };
@@ -272,10 +272,13 @@ const pairedOf = (c: SheetMoments): PairedSummary => ({ n: c.pairs, meanY: c.pai
 
 /** Digests of sheets that have none stored (rows written some other way than the submit/accept path). */
 async function fillMissingDigests(manager: EntityManager, classrooms: ClassroomRead[]): Promise<void> {
-  const missing = classrooms.flatMap((c) => [
-    ...(c.rows!.digest === null ? [{ id: c.sheetId!, set: (d: string) => (c.rows!.digest = d) }] : []),
-    ...(c.rows!.pretestSheetId !== null && c.rows!.pretestDigest === null ? [{ id: c.rows!.pretestSheetId, set: (d: string) => (c.rows!.pretestDigest = d) }] : []),
-  ]);
+  // A plain loop: building two small arrays per classroom cost a tenth of a second at 80 000 classrooms.
+  const missing: { id: string; set: (digest: string) => void }[] = [];
+  for (const c of classrooms) {
+    const rows = c.rows!;
+    if (rows.digest === null) missing.push({ id: c.sheetId!, set: (d) => (rows.digest = d) });
+    if (rows.pretestSheetId !== null && rows.pretestDigest === null) missing.push({ id: rows.pretestSheetId, set: (d) => (rows.pretestDigest = d) });
+  }
   if (missing.length === 0) return;
   const computed: { id: string; digest: string }[] = await manager.query(sheetDigestsHexSql, [missing.map((m) => m.id)]);
   const byId = new Map(computed.map((d) => [d.id, d.digest]));
@@ -292,11 +295,17 @@ const EMPTY_DIGEST = createHash('sha256').digest('hex');
  * lines in byte order of student code, joined with "\n" (see sheetDigestsSql in score-sheets/queries.ts), so the bundle's rows rebuild it.
  */
 export function dataHash(classrooms: { classroomId: string; arm: Arm; outcome: string; baseline: string | null }[], summaryLines: string[]): string {
-  const lines = [...classrooms]
-    .sort((a, b) => (a.classroomId < b.classroomId ? -1 : a.classroomId > b.classroomId ? 1 : 0))
-    .map((c) => `${c.classroomId},${c.arm},${c.outcome},${c.baseline === null || c.baseline === EMPTY_DIGEST ? '' : c.baseline}`);
-  // Line by line: joining 80 000 lines into one text first took ten times as long.
+  const sorted = [...classrooms].sort((a, b) => (a.classroomId < b.classroomId ? -1 : a.classroomId > b.classroomId ? 1 : 0));
+  const lines = sorted.map((c) => `${c.classroomId},${c.arm},${c.outcome},${c.baseline === null || c.baseline === EMPTY_DIGEST ? '' : c.baseline}`).concat(summaryLines);
+  // Hashed in pieces of about 64 KB: one text of 80 000 lines took ten times as long to build, one update per line twice as long.
   const hash = createHash('sha256');
-  [...lines, ...summaryLines].forEach((line, i) => hash.update(i === 0 ? line : `\n${line}`));
-  return hash.digest('hex');
+  let piece = '';
+  for (let i = 0; i < lines.length; i++) {
+    piece += i === 0 ? lines[i] : `\n${lines[i]}`;
+    if (piece.length >= 65_536) {
+      hash.update(piece);
+      piece = '';
+    }
+  }
+  return hash.update(piece).digest('hex');
 }
