@@ -51,7 +51,7 @@ export interface LockedReadRow {
 /** A study's locked results, oldest first, each saying whether it read the classroom and whether the study is quasi-experimental. */
 export function lockedResultsReading(manager: EntityManager, studyId: string, classroomId: string): Promise<LockedReadRow[]> {
   return manager.query(
-    `SELECT r.id, k.label, r.locked_at, r.classroom_arms ? $2 AS read, s.quasi_experimental AS quasi
+    `SELECT r.id, k.label, r.locked_at, (r.classroom_arms ->> $2) IS NOT NULL AS read, s.quasi_experimental AS quasi
        FROM runs r JOIN comparisons k ON k.id = r.comparison_id JOIN studies s ON s.id = r.study_id
       WHERE r.study_id = $1 AND r.state = 'locked' ORDER BY r.locked_at`,
     [studyId, classroomId],

@@ -102,7 +102,7 @@ export const finishRunSql = `
   UPDATE runs SET state = 'finished', finished_at = now(), results = $2, engine_version = $3, data_sha256 = $4,
          input_sheet_ids = (SELECT coalesce(array_agg(id), '{}') FROM score_sheets
                              WHERE study_id = $5 AND measure_id = $8 AND state = ANY($9) AND (wave_id = $6 OR wave_id = $7)),
-         classroom_arms = $10::jsonb
+         classroom_arms = $10::json
    WHERE id = $1`;
 
 // Comparisons.
