@@ -101,8 +101,10 @@ export async function stillNamed(manager: EntityManager, grant: SchoolGrant): Pr
 export async function openInvitationKeys(manager: EntityManager, invitations: readonly { email: string; role: string; siteId: string }[]): Promise<Set<string>> {
   if (!invitations.length) return new Set();
   const rows: { key: string }[] = await manager.query(
-    `SELECT u.email || '|' || i.role || '|' || i.site_id AS key FROM role_invitations i JOIN users u ON u.id = i.user_id
-      WHERE i.state = 'pending' AND i.expires_at > now() AND (u.email, i.role, i.site_id) IN (SELECT * FROM unnest($1::text[], $2::text[], $3::uuid[]))`,
+    `SELECT u.email || '|' || o.role || '|' || o.site_id AS key
+       FROM unnest($1::text[], $2::text[], $3::uuid[]) AS o(email, role, site_id) JOIN users u ON u.email = o.email
+      WHERE EXISTS (SELECT 1 FROM role_invitations i
+                     WHERE i.user_id = u.id AND i.role = o.role AND i.site_id = o.site_id AND i.state = 'pending' AND i.expires_at > now())`,
     [invitations.map((o) => o.email), invitations.map((o) => o.role), invitations.map((o) => o.siteId)],
   );
   return new Set(rows.map((r) => r.key));

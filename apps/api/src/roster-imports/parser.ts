@@ -84,8 +84,10 @@ export function refuseRows(list: CsvRowIssue[], total: number): AppError {
   return new AppError('validation_failed', `${total} problem(s) in the bundle; nothing was imported`, { rows: list.slice(0, REPORTED) });
 }
 
-/** A value in COPY's text format. */
-const t = (value: string | null) => (value === null ? '\\N' : value.replace(/[\\\t\n\r]/g, (c) => ({ '\\': '\\\\', '\t': '\\t', '\n': '\\n', '\r': '\\r' })[c]!));
+/** A value in COPY's text format (tested first: most values have nothing to escape, and a test costs less than a replace). */
+const SPECIAL = /[\\\t\n\r]/;
+const ESCAPED: Record<string, string> = { '\\': '\\\\', '\t': '\\t', '\n': '\\n', '\r': '\\r' };
+const t = (value: string | null) => (value === null ? '\\N' : SPECIAL.test(value) ? value.replace(/[\\\t\n\r]/g, (c) => ESCAPED[c]) : value);
 const bytes = (b: Buffer) => `\\\\x${b.toString('hex')}`;
 
 async function* records(bundle: Bundle, file: RosterFile): AsyncGenerator<CsvRecord[]> {

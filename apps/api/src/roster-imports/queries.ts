@@ -63,11 +63,16 @@ export interface BundleProblemRow {
   total: number;
 }
 
-/** Each class's students as the export lists them (by keyed hash) and as earlier imports left them in the study, as tables with statistics: comparing the two then plans as hash joins at any size. */
+/**
+ * Each class's students as the export lists them (by keyed hash, with the first enrollments.csv line that lists the
+ * student there) and as earlier imports left them in the study, as tables with statistics: comparing the two then plans
+ * as hash joins at any size.
+ */
 export async function stageMembers(manager: EntityManager, studyId: string): Promise<void> {
   await manager.query(`
     CREATE TEMP TABLE roster_members_all ON COMMIT DROP AS
-      SELECT DISTINCT e.class, u.link AS user_link FROM roster_enrolments e JOIN roster_users u ON u.key = e.user_key AND u.role = 'student' WHERE e.role = 'student'`);
+      SELECT e.class, u.link AS user_link, min(e.line) AS line FROM roster_enrolments e JOIN roster_users u ON u.key = e.user_key AND u.role = 'student'
+       WHERE e.role = 'student' GROUP BY e.class, u.link`);
   await manager.query(
     `
       CREATE TEMP TABLE roster_current ON COMMIT DROP AS
@@ -139,13 +144,11 @@ export async function stageChosen(manager: EntityManager, classes: string[]): Pr
   await manager.query(`INSERT INTO roster_chosen (sourced_id) SELECT unnest($1::text[])`, [classes]);
 }
 
-/** Enrolment lines of a student who is in more than one chosen class (or twice in one), each with the first such line; at most 500. */
+/** Enrolment lines of a student who is in more than one chosen class, each with the line of the first such class; at most 500. */
 export async function studentsChosenTwice(manager: EntityManager): Promise<{ line: number; first: number }[]> {
   return manager.query(`
-    WITH chosen AS (
-      SELECT e.line, e.user_key FROM roster_enrolments e JOIN roster_chosen k ON k.sourced_id = e.class JOIN roster_users u ON u.key = e.user_key AND u.role = 'student'
-       WHERE e.role = 'student')
-    SELECT line, first FROM chosen JOIN (SELECT user_key, min(line) AS first FROM chosen GROUP BY 1 HAVING count(*) > 1) d USING (user_key)
+    SELECT line, first FROM (
+      SELECT m.line, min(m.line) OVER (PARTITION BY m.user_link) AS first FROM roster_members_all m JOIN roster_chosen k ON k.sourced_id = m.class) x
      WHERE line <> first ORDER BY line LIMIT 500`);
 }
 

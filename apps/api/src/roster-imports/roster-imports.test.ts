@@ -320,6 +320,18 @@ describe('refusing bad bundles: a clear 4xx and nothing changes', () => {
     expect(error.details!.rows).toEqual([{ row: 7, column: 'users.csv: sourcedId', message: 'the same sourcedId is also on line 5' }]);
   });
 
+  it('refuses a student enrolled in two chosen classes, naming both lines; listed twice in one class, the student is one member of it', async () => {
+    const files = oneRosterFiles({ schools: 1, classesPerSchool: 2, studentsPerClass: 3 });
+    const inTwo = { ...files, 'enrollments.csv': `${files['enrollments.csv']}enr-x,,,cls-ald-2,org-ald,stu-000001,student,false,,\r\n` };
+    const error = await refusedWith(zip(inTwo), 400, { schools: ['org-ald'], classes: ['cls-ald-1', 'cls-ald-2'] });
+    expect(error.details!.rows).toEqual([
+      { row: 10, column: 'enrollments.csv: userSourcedId', message: 'The student is also in another chosen class (line 3); a student belongs to one classroom of a study' },
+    ]);
+    const twiceInOne = { ...files, 'enrollments.csv': `${files['enrollments.csv']}enr-y,,,cls-ald-1,org-ald,stu-000002,student,false,,\r\n` };
+    const preview = (await upload(s.coordinator, previewUrl(), zip(twiceInOne))).body as RosterPreview;
+    expect(preview.schools[0].classes.map((c) => [c.sourcedId, c.students])).toEqual([['cls-ald-1', 3], ['cls-ald-2', 3]]);
+  });
+
   it('refuses a delta export and another OneRoster version', async () => {
     const delta = good();
     delta['manifest.csv'] = delta['manifest.csv'].replace('file.users,bulk', 'file.users,delta');
