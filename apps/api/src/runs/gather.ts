@@ -89,8 +89,7 @@ export async function readClassrooms(manager: EntityManager, scope: Omit<Scope, 
   // By site name, then classroom name, in character-code order (sorted here: sorting 80 000 wide rows cost PostgreSQL a second).
   const before = (a: string, b: string) => (a < b ? -1 : a > b ? 1 : 0);
   rows.sort((a, b) => before(a.site_name, b.site_name) || before(a.classroom_name, b.classroom_name));
-  // Pairs taken with a baseline sheet this reader does not read are not its pairs (summed now, such a sheet has none).
-  const stored = rows.map((r) => storedMomentsOf(r, r.pretest_sheet_id !== null));
+  const stored = rows.map(storedMomentsOf);
   const missing = rows.filter((r, i) => r.mode === 'rows' && r.read && stored[i] === null);
   const fresh = await sumSheets(
     manager,

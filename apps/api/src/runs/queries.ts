@@ -221,7 +221,7 @@ export interface ClassroomRow {
   digest: string | null;
   pretest_sheet_id: string | null;
   pretest_digest: string | null;
-  /** Then the sheet's stored sums as moments (`stored_…`, null when none were stored with the baseline sheet read). */
+  /** Then the sheet's stored sums as moments (`stored_…`; `stored_present` false when none were stored with the baseline sheet read). */
   [stored: `stored_${string}`]: unknown;
 }
 
@@ -235,7 +235,7 @@ export const classroomsSql = `
          (sh.summary_n IS NOT NULL OR (sh.state = 'open' AND EXISTS (SELECT 1 FROM scores x WHERE x.sheet_id = sh.id))) AS entered,
          sh.summary_n, sh.summary_mean::float8 AS summary_mean, (sh.summary_sd::float8 ^ 2) * (sh.summary_n - 1) AS summary_m2,
          encode(sh.rows_sha256, 'hex') AS digest, bs.id AS pretest_sheet_id, encode(bs.rows_sha256, 'hex') AS pretest_digest,
-         ${storedMomentsColumns('a', 'stored_')}
+         ${storedMomentsColumns('a', 'stored_', 'bs.id IS NOT NULL')}
     FROM classrooms c JOIN sites s ON s.id = c.site_id
     LEFT JOIN registered_counts r ON r.classroom_id = c.id
     LEFT JOIN score_sheets sh ON sh.classroom_id = c.id AND sh.wave_id = $2 AND sh.measure_id = $3

@@ -323,11 +323,23 @@ const moments = (a: string): [keyof SheetMoments, string][] => [
   ['pair_sxy', `((${a}.np * ${a}.pxy - ${a}.px * ${a}.py) / nullif(${a}.np, 0))::float8`],
 ];
 
-/** The moments of the stored sums in `a` (a sheet_sums row) as select-list columns, each name prefixed (a row holding other columns too). */
-export const storedMomentsColumns = (a: string, prefix: string) =>
-  moments(a)
-    .map(([name]) => `${a}.${name === 'pairs' ? 'np' : name} AS ${prefix}${name}`)
-    .join(', ');
+/**
+ * The moments of the stored sums in `a` (a sheet_sums row of the row's own `sheet_id`) as select-list columns, each name
+ * prefixed, and `${prefix}present` saying whether there are any. The pairs only where `pairsRead` holds, else none:
+ * pairs taken with a baseline sheet the reader does not read are not its pairs (and not sending them spares a run at
+ * 80 000 classrooms half a million numbers to parse).
+ */
+export const storedMomentsColumns = (a: string, prefix: string, pairsRead: string) =>
+  [
+    `${a}.sheet_id IS NOT NULL AS ${prefix}present`,
+    ...moments(a)
+      .filter(([name]) => name !== 'sheet_id')
+      .map(([name]) => {
+        const column = `${a}.${name === 'pairs' ? 'np' : name}`;
+        if (name === 'pairs') return `CASE WHEN ${pairsRead} THEN ${column} ELSE 0 END AS ${prefix}${name}`;
+        return name.startsWith('pair_') ? `CASE WHEN ${pairsRead} THEN ${column} END AS ${prefix}${name}` : `${column} AS ${prefix}${name}`;
+      }),
+  ].join(', ');
 
 /** One sheet's count, mean and M2 of its scores, its leavers, and its students paired with a pretest: count, means and centred sums. */
 export interface SheetMoments {
