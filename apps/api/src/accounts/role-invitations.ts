@@ -78,7 +78,7 @@ export async function ensurePerson(
  * after another. An existing account is offered the role by an e-mailed link and holds it only once it accepts; a new
  * address gets an account with the first role named for it but no password, usable once the person accepts the
  * invitation by choosing a password (any other role named for it in the same list is offered like an existing
- * account's). A person who already holds the role there is simply named, and one with an open invitation of it keeps that
+ * account's). A person who already holds the role there is simply named, and one with an open invitation to it keeps that
  * invitation (no second e-mail); the same person, role and school named twice is one naming. If anyone named is the actor or holds a conflicting role, `refuse` throws and nothing is
  * written. Everything goes into the outbox within the caller's transaction. Answers each naming's account, and
  * whether that naming sent mail.
@@ -205,7 +205,7 @@ async function grant(manager: EntityManager, inv: OpenInvitationRow): Promise<bo
   return true;
 }
 
-/** The signed-in person accepts the role invitationed by a link sent to them. */
+/** The signed-in person accepts the role an invitation link sent to them offers. */
 export async function acceptRoleInvitation(deps: Pick<Deps, 'db'>, user: SessionUser, token: string): Promise<{ role: SchoolRole; siteId: string; siteName: string }> {
   return deps.db.transaction(async (manager) => {
     const inv = await lockOpenInvitationByToken(manager, hashToken(token));
