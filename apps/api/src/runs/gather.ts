@@ -147,7 +147,7 @@ export async function gather(manager: EntityManager, scope: Scope): Promise<Gath
   const yesIn = (arm: Arm) => analysed.filter((c) => c.arm === arm).reduce((k, c) => k + yesCount(c.rows!.moments), 0);
   const { values, ranks } = scope.yesNo
     ? yesNoValues({ intervention: yesIn('intervention'), comparison: yesIn('comparison') }, counted)
-    : await scoreValues(manager, [scope.studyId, scope.waveId, scope.measureId, scope.states], counted, dataSha256);
+    : await scoreValues(manager, [scope.studyId, scope.waveId, scope.measureId, unreadSheets(read)], counted, dataSha256);
 
   let pairs: Gathered['pairs'] = null;
   if (scope.baselineWaveId) {
@@ -182,6 +182,13 @@ export async function gather(manager: EntityManager, scope: Scope): Promise<Gath
     dataSha256,
     analysed: counted.intervention + counted.comparison,
   };
+}
+
+/** The outcome sheets of these classrooms that a run does not read: not in its states, or a class summary. */
+function unreadSheets(read: ClassroomRead[]): string[] {
+  const unread: string[] = [];
+  for (const c of read) if (c.sheetId !== null && c.rows === null) unread.push(c.sheetId);
+  return unread;
 }
 
 const QUARTILES = [0, 0.25, 0.5, 0.75, 1];

@@ -389,6 +389,40 @@ describe('comparison runs', () => {
     expect(again.p).toBeCloseTo(bundle.results.primary.p, 12);
   });
 
+  it('leaves the rows of sheets a run does not read out of its rank, spread and quartile figures: a submitted sheet in a confirmatory run, a summary sheet that kept rows', async () => {
+    const other = await createStudy(t.app);
+    await enrolClassrooms(other, 2, 3);
+    await send(other.coordinator, 'post', `/api/studies/${other.studyId}/draw`, { seed: 'unread-sheets', commit: true }, 201);
+    await other.coordinator.agent.get(`/api/studies/${other.studyId}/completion`).expect(200);
+    const rooms: { id: string; arm: string }[] = await t.db.query(`SELECT id, arm FROM classrooms WHERE study_id = $1 ORDER BY arm, name, id`, [other.studyId]);
+    const readValues: Record<string, number[]> = { intervention: [], comparison: [] };
+    for (const [k, c] of rooms.entries()) {
+      // Far-off scores in the two unread sheets, so that counting them would move every figure checked below.
+      const unread = k === 0 || k === rooms.length - 1;
+      const scores = Array.from({ length: 8 }, (_, i) => (unread ? 95 - i : 40 + ((i * 7 + k * 5) % 23) + (c.arm === 'intervention' ? 3 : 0)));
+      await fillSheet(t.db, { classroomId: c.id, waveId: other.outcomeId, measureId: other.measureId }, scores, `U${k}`, k === 0 ? 'submitted' : 'accepted');
+      if (k === rooms.length - 1) {
+        await t.db.query(`UPDATE score_sheets SET mode = 'summary', summary_n = 8, summary_mean = 50, summary_sd = 5 WHERE classroom_id = $1 AND wave_id = $2`, [c.id, other.outcomeId]);
+      } else if (!unread) readValues[c.arm].push(...scores);
+    }
+    const [k] = (await other.lead.agent.get(`/api/studies/${other.studyId}/comparisons`)).body.items;
+    const queued = await send(other.lead, 'post', `/api/comparisons/${k.id}/runs`, { kind: 'confirmatory' }, 202);
+    const run = await waitFor(queued.run.id, other.lead);
+    expect(run.state).toBe('finished');
+    const r = run.results;
+    // Against the engine's own checks on the rows the run reads (each checked against SciPy in packages/stats).
+    const mw = mannWhitney(readValues.intervention, readValues.comparison);
+    expect(r.sensitivity.mannWhitney.u).toBe(mw.u);
+    expect(r.sensitivity.mannWhitney.p).toBeCloseTo(mw.p, 12);
+    const l = levene([readValues.intervention, readValues.comparison], { center: 'median' });
+    expect(r.diagnostics.leveneMedian.statistic).toBeCloseTo(l.statistic, 10);
+    for (const [i, arm] of (['intervention', 'comparison'] as const).entries()) {
+      const sorted = [...readValues[arm]].sort((a, b) => a - b);
+      expect(r.descriptives[i].quantiles).toMatchObject({ min: sorted[0], max: sorted[sorted.length - 1] });
+      expect(r.diagnostics.shapiroWilk[i]).toMatchObject({ arm, n: sorted.length });
+    }
+  });
+
   it('keeps in a finished run’s bundle the arms it read after a reassignment, and refuses to lock it until it is run again', async () => {
     const other = await createStudy(t.app);
     await enrolClassrooms(other, 1, 4);
