@@ -233,6 +233,8 @@ export function analyse(ctx: AnalysisContext, data: Gathered): RunResults {
   // are weighted by the two-level model's variance components, so a site's estimate respects the clustering.
   const components = assigned && ctx.unitOfAssignment === 'classroom' ? unadjustedComponents(data.classrooms) : null;
   const siteRows = components ? siteEstimatesFromComponents(data.classrooms, components, pooledSd(a, b), a.n + b.n) : studentSiteEstimates(data.classrooms);
+  // By school name in character-code order (the classrooms come in the order of their IDs).
+  siteRows.sort((x, y) => (x.siteName < y.siteName ? -1 : x.siteName > y.siteName ? 1 : x.siteId < y.siteId ? -1 : 1));
   let pooled: RunResults['pooled'] = null;
   if (siteRows.length >= 2) {
     const re = randomEffects(siteRows.map((s) => ({ y: s.g, v: s.se * s.se })));

@@ -1,5 +1,5 @@
 import type { Arm, Comparison, Run, RunResults, SheetState } from '@evenhand/entities';
-import { storedMomentsColumns } from '../score-sheets/queries.js';
+import { storedMomentsColumns, type SheetMoments } from '../score-sheets/queries.js';
 
 // The comparisons' and runs' named SQL and the rows it answers (DEVELOPERS.md, "Data access").
 
@@ -202,9 +202,11 @@ export const lockedRunProbeSql = `
 /** The run's statements aggregate in memory: a larger sort and hash area, and no JIT (compiling these plans costs more than it saves). */
 export const aggregateSettingsSql = [`SET LOCAL work_mem = '64MB'`, `SET LOCAL jit = off`];
 
-export interface ClassroomRow {
+/** The stored moments' columns of a classroom row (see storedMomentsColumns): null where none are stored. */
+type StoredMomentsColumns = { [K in Exclude<keyof SheetMoments, 'sheet_id'>]: SheetMoments[K] | null };
+
+export interface ClassroomRow extends StoredMomentsColumns {
   classroom_id: string;
-  classroom_name: string;
   site_id: string;
   site_name: string;
   arm: Arm;
@@ -221,8 +223,8 @@ export interface ClassroomRow {
   digest: string | null;
   pretest_sheet_id: string | null;
   pretest_digest: string | null;
-  /** Then the sheet's stored sums as moments (`stored_…`; `stored_present` false when none were stored with the baseline sheet read). */
-  [stored: `stored_${string}`]: unknown;
+  /** Then the sheet's stored sums, named as its moments (all null and `stored_present` false when none were stored with the baseline sheet read). */
+  stored_present: boolean | null;
 }
 
 /**
@@ -230,12 +232,12 @@ export interface ClassroomRow {
  * baseline sheet read with it. $1 study, $2 outcome wave, $3 measure, $4 sheet states read, $5 baseline wave (null: no pairs).
  */
 export const classroomsSql = `
-  SELECT c.id AS classroom_id, c.name AS classroom_name, c.site_id, s.name AS site_name, c.arm, coalesce(r.n, 0)::int AS registered,
+  SELECT c.id AS classroom_id, c.site_id, s.name AS site_name, c.arm, coalesce(r.n, 0)::int AS registered,
          sh.id AS sheet_id, sh.state AS sheet_state, sh.mode, sh.state = ANY($4) AS read,
          (sh.summary_n IS NOT NULL OR (sh.state = 'open' AND EXISTS (SELECT 1 FROM scores x WHERE x.sheet_id = sh.id))) AS entered,
          sh.summary_n, sh.summary_mean::float8 AS summary_mean, (sh.summary_sd::float8 ^ 2) * (sh.summary_n - 1) AS summary_m2,
          encode(sh.rows_sha256, 'hex') AS digest, bs.id AS pretest_sheet_id, encode(bs.rows_sha256, 'hex') AS pretest_digest,
-         ${storedMomentsColumns('a', 'stored_', 'bs.id IS NOT NULL')}
+         ${storedMomentsColumns('a', 'bs.id IS NOT NULL')}
     FROM classrooms c JOIN sites s ON s.id = c.site_id
     LEFT JOIN registered_counts r ON r.classroom_id = c.id
     LEFT JOIN score_sheets sh ON sh.classroom_id = c.id AND sh.wave_id = $2 AND sh.measure_id = $3

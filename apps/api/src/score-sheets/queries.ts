@@ -324,20 +324,20 @@ const moments = (a: string): [keyof SheetMoments, string][] => [
 ];
 
 /**
- * The moments of the stored sums in `a` (a sheet_sums row of the row's own `sheet_id`) as select-list columns, each name
- * prefixed, and `${prefix}present` saying whether there are any. The pairs only where `pairsRead` holds, else none:
- * pairs taken with a baseline sheet the reader does not read are not its pairs (and not sending them spares a run at
- * 80 000 classrooms half a million numbers to parse).
+ * The moments of the stored sums in `a` (a sheet_sums row of the row's own `sheet_id`) as select-list columns named as
+ * SheetMoments names them, so the row itself serves as the sheet's moments, and `stored_present` saying whether there
+ * are any. The pairs only where `pairsRead` holds, else none: pairs taken with a baseline sheet the reader does not read
+ * are not its pairs (and not sending them spares a run at 80 000 classrooms half a million numbers to parse).
  */
-export const storedMomentsColumns = (a: string, prefix: string, pairsRead: string) =>
+export const storedMomentsColumns = (a: string, pairsRead: string) =>
   [
-    `${a}.sheet_id IS NOT NULL AS ${prefix}present`,
+    `${a}.sheet_id IS NOT NULL AS stored_present`,
     ...moments(a)
       .filter(([name]) => name !== 'sheet_id')
       .map(([name]) => {
         const column = `${a}.${name === 'pairs' ? 'np' : name}`;
-        if (name === 'pairs') return `CASE WHEN ${pairsRead} THEN ${column} ELSE 0 END AS ${prefix}${name}`;
-        return name.startsWith('pair_') ? `CASE WHEN ${pairsRead} THEN ${column} END AS ${prefix}${name}` : `${column} AS ${prefix}${name}`;
+        if (name === 'pairs') return `CASE WHEN ${pairsRead} THEN ${column} ELSE 0 END AS ${name}`;
+        return name.startsWith('pair_') ? `CASE WHEN ${pairsRead} THEN ${column} END AS ${name}` : `${column} AS ${name}`;
       }),
   ].join(', ');
 

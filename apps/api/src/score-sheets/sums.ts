@@ -3,23 +3,9 @@ import { lockSheetClassroomsSql, sheetMomentsSql, storeSheetDigests, storeSheetS
 
 // A sheet's exact sums (n, Σy, Σy², leavers, and the pairs with its pretest sheet): stored when it stops changing, read by runs.
 
-/** The moments of a row selected with `storedMomentsColumns(a, 'stored_', …)`, or null when it has none (written out: a generic copy cost a quarter second at 80 000 rows). */
-export function storedMomentsOf(row: { sheet_id: string | null }): SheetMoments | null {
-  const r = row as unknown as Record<`stored_${Exclude<keyof SheetMoments, 'sheet_id'> | 'present'}`, never>;
-  if (!r.stored_present) return null;
-  return {
-    sheet_id: row.sheet_id!,
-    n: r.stored_n,
-    left_n: r.stored_left_n,
-    mean: r.stored_mean,
-    m2: r.stored_m2,
-    pairs: r.stored_pairs,
-    pair_mean_y: r.stored_pair_mean_y,
-    pair_mean_x: r.stored_pair_mean_x,
-    pair_syy: r.stored_pair_syy,
-    pair_sxx: r.stored_pair_sxx,
-    pair_sxy: r.stored_pair_sxy,
-  };
+/** The moments of a row selected with `storedMomentsColumns`: the row itself, or null when it has none stored (no copy: 80 000 copies cost a tenth of a second). */
+export function storedMomentsOf(row: { sheet_id: string | null; stored_present: boolean | null }): SheetMoments | null {
+  return row.stored_present ? (row as unknown as SheetMoments) : null;
 }
 
 /** What a sheet's rows give once they stop changing (submitted, accepted), stored so runs need not read them again. */
