@@ -2,7 +2,7 @@ import { readFileSync } from 'node:fs';
 import { deflateRawSync } from 'node:zlib';
 import type { RosterImport, RosterPreview } from '@evenhand/entities';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { startTestApp, type SignedIn, type TestApp } from '../../test/app.js';
+import { signIn, startTestApp, type SignedIn, type TestApp } from '../../test/app.js';
 import { createStudy, type StudySetup } from '../../test/fixtures.js';
 import { uniqueAddress, waitForMail } from '../../test/mail.js';
 import { DEMO_BUNDLE, DEMO_SHAPE, oneRosterFiles, zipBundle, zipEntries } from '../../dev/oneroster-bundle.js';
@@ -184,6 +184,35 @@ describe('a student moving between classrooms before the draw', () => {
     expect(await codeOf()).toEqual({ student_code: before.student_code, class: 'cls-ald-2', registered_there: true });
     const changes = await t.db.query(`SELECT after FROM audit_events WHERE study_id = $1 AND action = 'roster.students_changed' ORDER BY at DESC, id DESC LIMIT 2`, [study.studyId]);
     expect(changes.map((c: { after: { joined: string[]; movedOut: string[] } }) => [c.after.joined, c.after.movedOut]).sort()).toEqual([[[], [before.student_code]], [[before.student_code], []]].sort());
+  });
+});
+
+describe('a roster student left out of a score sheet', () => {
+  it('when a teacher saves a sheet without a roster student’s row, then the code stays registered and linked, and a newer export adds no one twice', async () => {
+    const study = await createStudy(t.app);
+    const url = `/api/studies/${study.studyId}/roster-imports`;
+    const files = oneRosterFiles({ schools: 1, classesPerSchool: 1, studentsPerClass: 4 });
+    const choice = { schools: ['org-ald'], classes: ['cls-ald-1'] };
+    expect((await upload(study.coordinator, url, zip(files), choice)).status).toBe(201);
+    // The class's teacher, as a demo teacher who can sign in here.
+    const teacher = await signIn(t.app, 'teacher1@evenhand.test');
+    const [room] = await t.db.query(`SELECT id FROM classrooms WHERE study_id = $1 AND roster_sourced_id = 'cls-ald-1'`, [study.studyId]);
+    await t.db.query(`UPDATE classrooms SET teacher_id = $2 WHERE id = $1`, [room.id, teacher.userId]);
+    await study.coordinator.agent.get(`/api/studies/${study.studyId}/completion`).expect(200); // creates the score sheets
+    const [sheet] = await t.db.query(`SELECT id FROM score_sheets WHERE classroom_id = $1 AND wave_id = $2`, [room.id, study.baselineId]);
+    const codes: string[] = (await t.db.query(`SELECT student_code FROM roster_students WHERE study_id = $1 ORDER BY student_code`, [study.studyId])).map((r: { student_code: string }) => r.student_code);
+    expect(codes).toHaveLength(4);
+    const save = (rows: string[]) => teacher.agent.put(`/api/score-sheets/${sheet.id}`).set('x-csrf-token', teacher.csrf).send({ rows: rows.map((studentCode, i) => ({ studentCode, score: 50 + i })) });
+    expect((await save(codes)).status).toBe(200);
+    expect((await save(codes.slice(1))).status).toBe(200);
+
+    const registered = async () => (await t.db.query(`SELECT student_code FROM students WHERE study_id = $1 AND classroom_id = $2 ORDER BY student_code`, [study.studyId, room.id])).map((r: { student_code: string }) => r.student_code);
+    expect(await registered()).toEqual(codes);
+    expect((await t.db.query(`SELECT n FROM registered_counts WHERE classroom_id = $1`, [room.id]))[0].n).toBe(4);
+    const again = await upload(study.coordinator, url, zip(files), choice);
+    expect(again.status).toBe(201);
+    expect(again.body).toMatchObject({ studentsJoined: 0, studentsRemoved: 0, studentsLeft: 0 });
+    expect(await registered()).toEqual(codes);
   });
 });
 

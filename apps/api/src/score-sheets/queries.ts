@@ -249,7 +249,7 @@ export async function registerStagedCodes(manager: EntityManager, sheet: SheetKe
   );
 }
 
-/** Deletes the sheet's rows not staged, and frees their codes when no other sheet of the classroom uses them. */
+/** Deletes the sheet's rows not staged, and frees their codes when no other sheet of the classroom uses them and no roster import registered them. */
 export async function deleteUnstagedRows(manager: EntityManager, sheet: SheetKeys): Promise<void> {
   // The outer statement still sees the rows its CTE deletes, hence `sh.id <> $1`.
   await manager.query(
@@ -259,7 +259,8 @@ export async function deleteUnstagedRows(manager: EntityManager, sheet: SheetKey
      DELETE FROM students st USING gone
       WHERE st.study_id = $2 AND st.classroom_id = $3 AND st.student_code = gone.student_code
         AND NOT EXISTS (SELECT 1 FROM score_sheets sh JOIN scores x ON x.sheet_id = sh.id AND x.student_code = st.student_code
-                         WHERE sh.classroom_id = $3 AND sh.id <> $1)`,
+                         WHERE sh.classroom_id = $3 AND sh.id <> $1)
+        AND NOT EXISTS (SELECT 1 FROM roster_students rs WHERE rs.study_id = $2 AND rs.student_code = st.student_code)`,
     [sheet.id, sheet.study_id, sheet.classroom_id],
   );
 }

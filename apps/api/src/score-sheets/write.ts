@@ -148,7 +148,8 @@ export async function applyStaged(manager: EntityManager, actorId: string, sheet
     await insertStagedRows(manager, sheet, false);
     return;
   }
-  // Codes dropped from this sheet that no other sheet of the classroom uses are free again.
+  // Codes dropped from this sheet that no other sheet of the classroom uses are free again, unless a roster import
+  // registered them: the district's roster, not a sheet, says who is in the class.
   await deleteUnstagedRows(manager, sheet);
   await updateChangedRows(manager, sheet.id);
   await insertStagedRows(manager, sheet, true);
