@@ -42,12 +42,12 @@ export const analysedPerClassroomSql = `
  * then cannot tell). $1 study, $2 wave, $3 measure, $4 uuid[] or null (as above).
  */
 export const joinersSql = `
-  SELECT CASE WHEN NOT EXISTS (SELECT 1 FROM roster_students WHERE study_id = $1) THEN NULL ELSE (
-    SELECT count(*)::int FROM roster_students rs
-      JOIN draws d ON d.study_id = rs.study_id
-      JOIN scores x ON x.study_id = rs.study_id AND x.student_code = rs.student_code AND x.wave_id = $2 AND x.measure_id = $3 AND x.score IS NOT NULL
+  SELECT CASE WHEN NOT EXISTS (SELECT 1 FROM students WHERE study_id = $1 AND roster_link IS NOT NULL) THEN NULL ELSE (
+    SELECT count(*)::int FROM students st
+      JOIN draws d ON d.study_id = st.study_id
+      JOIN scores x ON x.study_id = st.study_id AND x.student_code = st.student_code AND x.wave_id = $2 AND x.measure_id = $3 AND x.score IS NOT NULL
       JOIN score_sheets sh ON sh.id = x.sheet_id
-     WHERE rs.study_id = $1 AND rs.joined_at > d.committed_at
+     WHERE st.study_id = $1 AND st.roster_joined_at > d.committed_at
        AND (CASE WHEN $4::uuid[] IS NULL THEN sh.state = 'accepted' ELSE sh.id = ANY($4::uuid[]) END)) END AS n`;
 
 /** A run's study and state. $1 run. */

@@ -76,8 +76,8 @@ export async function stageMembers(manager: EntityManager, studyId: string): Pro
   await manager.query(
     `
       CREATE TEMP TABLE roster_current ON COMMIT DROP AS
-        SELECT c.roster_sourced_id AS class, rs.link_hash FROM roster_students rs JOIN classrooms c ON c.id = rs.classroom_id
-         WHERE rs.study_id = $1 AND rs.left_at IS NULL`,
+        SELECT c.roster_sourced_id AS class, st.roster_link AS link_hash FROM students st JOIN classrooms c ON c.id = st.classroom_id
+         WHERE st.study_id = $1 AND st.roster_link IS NOT NULL AND st.roster_left_at IS NULL`,
     [studyId],
   );
   await manager.query(`ANALYZE roster_members_all; ANALYZE roster_current`);
@@ -298,13 +298,13 @@ export async function recordLeaving(manager: EntityManager, studyId: string, dra
   await manager.query(
     `
       INSERT INTO roster_changes
-      SELECT rs.student_code, rs.classroom_id, CASE WHEN $2 OR EXISTS (SELECT 1 FROM scores x JOIN score_sheets sh ON sh.id = x.sheet_id
-                                                                        WHERE sh.classroom_id = rs.classroom_id AND x.student_code = rs.student_code)
+      SELECT st.student_code, st.classroom_id, CASE WHEN $2 OR EXISTS (SELECT 1 FROM scores x JOIN score_sheets sh ON sh.id = x.sheet_id
+                                                                        WHERE sh.classroom_id = st.classroom_id AND x.student_code = st.student_code)
                                                      THEN 'left' ELSE 'removed' END
-        FROM roster_students rs LEFT JOIN roster_members m ON m.link = rs.link_hash
-       WHERE rs.study_id = $1 AND rs.left_at IS NULL
-         AND (m.link IS NULL OR m.classroom_id <> rs.classroom_id)
-         AND (m.link IS NOT NULL OR rs.classroom_id IN (SELECT classroom_id FROM roster_chosen))
+        FROM students st LEFT JOIN roster_members m ON m.link = st.roster_link
+       WHERE st.study_id = $1 AND st.roster_link IS NOT NULL AND st.roster_left_at IS NULL
+         AND (m.link IS NULL OR m.classroom_id <> st.classroom_id)
+         AND (m.link IS NOT NULL OR st.classroom_id IN (SELECT classroom_id FROM roster_chosen))
          AND ($2 OR m.link IS NULL)`,
     [studyId, drawCommitted],
   );
@@ -315,51 +315,39 @@ export async function recordMoves(manager: EntityManager, studyId: string): Prom
   const moved: unknown[] = await manager.query(
     `
       INSERT INTO roster_changes
-      SELECT rs.student_code, x.classroom_id, x.change FROM roster_students rs JOIN roster_members m ON m.link = rs.link_hash
-       CROSS JOIN LATERAL (VALUES (rs.classroom_id, 'moved'), (m.classroom_id, 'joined')) AS x(classroom_id, change)
-       WHERE rs.study_id = $1 AND rs.left_at IS NULL AND rs.classroom_id <> m.classroom_id
+      SELECT st.student_code, x.classroom_id, x.change FROM students st JOIN roster_members m ON m.link = st.roster_link
+       CROSS JOIN LATERAL (VALUES (st.classroom_id, 'moved'), (m.classroom_id, 'joined')) AS x(classroom_id, change)
+       WHERE st.study_id = $1 AND st.roster_left_at IS NULL AND st.classroom_id <> m.classroom_id
       RETURNING 1`,
     [studyId],
   );
   return moved.length;
 }
 
-/** Moves the links of students the export lists in another chosen classroom. */
-export async function moveLinks(manager: EntityManager, studyId: string): Promise<void> {
+/** Moves the students the export lists in another chosen classroom there, code and link together. */
+export async function moveStudents(manager: EntityManager, studyId: string): Promise<void> {
   await manager.query(
     `
-      UPDATE roster_students rs SET classroom_id = m.classroom_id FROM roster_members m
-      WHERE rs.study_id = $1 AND rs.link_hash = m.link AND rs.left_at IS NULL AND rs.classroom_id <> m.classroom_id`,
+      UPDATE students st SET classroom_id = m.classroom_id FROM roster_members m
+      WHERE st.study_id = $1 AND st.roster_link = m.link AND st.roster_left_at IS NULL AND st.classroom_id <> m.classroom_id`,
     [studyId],
   );
 }
 
-/** Moves the registered codes after their links. */
-export async function moveCodes(manager: EntityManager, studyId: string): Promise<void> {
-  await manager.query(
-    `
-      UPDATE students st SET classroom_id = rs.classroom_id FROM roster_students rs
-      WHERE st.study_id = $1 AND rs.study_id = $1 AND st.student_code = rs.student_code AND st.classroom_id <> rs.classroom_id`,
-    [studyId],
-  );
-}
-
-/** Marks the links of students who left as left (attrition). */
+/** Marks the students who left as left (attrition). */
 export async function markLeft(manager: EntityManager, studyId: string): Promise<void> {
   await manager.query(
     `
-      UPDATE roster_students rs SET left_at = now() FROM roster_changes x WHERE rs.study_id = $1 AND rs.student_code = x.student_code AND x.change = 'left'`,
+      UPDATE students st SET roster_left_at = now() FROM roster_changes x WHERE st.study_id = $1 AND st.student_code = x.student_code AND x.change = 'left'`,
     [studyId],
   );
 }
 
-/** Deletes the links and codes of removed students. */
+/** Deletes removed students, code and link. */
 export async function removeStudents(manager: EntityManager, studyId: string): Promise<void> {
   await manager.query(
     `
-      WITH gone AS (DELETE FROM roster_students rs USING roster_changes x
-                     WHERE rs.study_id = $1 AND rs.student_code = x.student_code AND x.change = 'removed' RETURNING rs.student_code)
-      DELETE FROM students st USING gone WHERE st.study_id = $1 AND st.student_code = gone.student_code`,
+      DELETE FROM students st USING roster_changes x WHERE st.study_id = $1 AND st.student_code = x.student_code AND x.change = 'removed'`,
     [studyId],
   );
 }
@@ -369,25 +357,25 @@ export async function restoreReturning(manager: EntityManager, studyId: string):
   await manager.query(
     `
       WITH back AS (
-        UPDATE roster_students rs SET left_at = NULL FROM roster_members m
-         WHERE rs.study_id = $1 AND rs.link_hash = m.link AND rs.left_at IS NOT NULL AND rs.classroom_id = m.classroom_id
-        RETURNING rs.student_code, rs.classroom_id)
+        UPDATE students st SET roster_left_at = NULL FROM roster_members m
+         WHERE st.study_id = $1 AND st.roster_link = m.link AND st.roster_left_at IS NOT NULL AND st.classroom_id = m.classroom_id
+        RETURNING st.student_code, st.classroom_id)
       INSERT INTO roster_changes SELECT student_code, classroom_id, 'joined' FROM back`,
     [studyId],
   );
 }
 
-/** New students get the next free codes R0000001…, in the registry and linked, and are recorded as joining. */
+/** New students get the next free codes R0000001…, registered with their link, and are recorded as joining. */
 export async function registerNewStudents(manager: EntityManager, studyId: string): Promise<void> {
   await manager.query(
     `
       WITH last AS (SELECT coalesce(max(substr(student_code, 2)::int), 0) AS n FROM students WHERE study_id = $1 AND student_code ~ '^R[0-9]{7}$'),
       fresh AS (
         SELECT m.link, m.classroom_id, 'R' || lpad(((SELECT n FROM last) + row_number() OVER (ORDER BY m.classroom_id, m.link))::text, 7, '0') AS code
-          FROM roster_members m WHERE NOT EXISTS (SELECT 1 FROM roster_students rs WHERE rs.study_id = $1 AND rs.link_hash = m.link)),
-      registered AS (INSERT INTO students (study_id, student_code, classroom_id) SELECT $1, code, classroom_id FROM fresh RETURNING student_code),
-      linked AS (INSERT INTO roster_students (study_id, link_hash, student_code, classroom_id) SELECT $1, link, code, classroom_id FROM fresh RETURNING student_code, classroom_id)
-      INSERT INTO roster_changes SELECT student_code, classroom_id, 'joined' FROM linked`,
+          FROM roster_members m WHERE NOT EXISTS (SELECT 1 FROM students st WHERE st.study_id = $1 AND st.roster_link = m.link)),
+      registered AS (
+        INSERT INTO students (study_id, student_code, classroom_id, roster_link, roster_joined_at) SELECT $1, code, classroom_id, link, now() FROM fresh)
+      INSERT INTO roster_changes SELECT code, classroom_id, 'joined' FROM fresh`,
     [studyId],
   );
 }

@@ -31,7 +31,7 @@ const zip = (files: Record<string, string>) => [{ name: 'roster.zip', data: zipB
 async function footprint() {
   const [row] = await t.db.query(
     `SELECT (SELECT count(*) FROM sites)::int AS sites, (SELECT count(*) FROM study_sites)::int AS study_sites, (SELECT count(*) FROM classrooms)::int AS classrooms,
-            (SELECT count(*) FROM students)::int AS students, (SELECT count(*) FROM roster_students)::int AS roster_students,
+            (SELECT count(*) FROM students)::int AS students, (SELECT count(*) FROM students WHERE roster_link IS NOT NULL)::int AS linked_students,
             (SELECT count(*) FROM users)::int AS users, (SELECT count(*) FROM audit_events)::int AS audit, (SELECT count(*) FROM roster_imports)::int AS imports`,
   );
   return row;
@@ -75,7 +75,7 @@ describe('previewing and importing a OneRoster bundle', () => {
     await waitForMail('teacher.ald1@roster.evenhand.test');
 
     // The link is the keyed hash of the export's sourcedId, never the sourcedId itself.
-    const [first] = await t.db.query(`SELECT rs.student_code, rs.link_hash FROM roster_students rs WHERE rs.study_id = $1 AND rs.link_hash = $2`, [s.studyId, linkHash(t.config.rosterLinkSecret, 'stu-000001')]);
+    const [first] = await t.db.query(`SELECT student_code FROM students WHERE study_id = $1 AND roster_link = $2`, [s.studyId, linkHash(t.config.rosterLinkSecret, 'stu-000001')]);
     expect(first.student_code).toMatch(/^R\d{7}$/);
     expect((await t.db.query(`SELECT count(*)::int AS n FROM students WHERE study_id = $1 AND student_code LIKE 'R%'`, [s.studyId]))[0].n).toBe(36);
     const [{ dump }] = await t.db.query(
@@ -98,7 +98,7 @@ describe('previewing and importing a OneRoster bundle', () => {
     const res = await upload(s.coordinator, commitUrl(), zip(newer), { schools: ['org-ald', 'org-brk'], classes: ['cls-ald-1', 'cls-ald-2', 'cls-brk-1'] });
     expect(res.status).toBe(201);
     expect(res.body).toMatchObject({ classroomsCreated: 0, classroomsUpdated: 1, studentsJoined: 1, studentsRemoved: 2, studentsLeft: 0 });
-    expect((await t.db.query(`SELECT count(*)::int AS n FROM roster_students WHERE study_id = $1`, [s.studyId]))[0].n).toBe(35);
+    expect((await t.db.query(`SELECT count(*)::int AS n FROM students WHERE study_id = $1 AND roster_link IS NOT NULL`, [s.studyId]))[0].n).toBe(35);
     expect((await t.db.query(`SELECT count(*)::int AS n FROM classrooms WHERE study_id = $1 AND roster_sourced_id IS NOT NULL`, [s.studyId]))[0].n).toBe(3);
     const [entry] = await t.db.query(`SELECT after FROM audit_events WHERE study_id = $1 AND action = 'roster.students_changed' ORDER BY at DESC, id DESC LIMIT 1`, [s.studyId]);
     expect(entry.after.joined).toHaveLength(1);
@@ -121,7 +121,7 @@ describe('previewing and importing a OneRoster bundle', () => {
     const res = await upload(s.coordinator, commitUrl(), zip(latest), { schools: ['org-ald', 'org-brk'], classes: ['cls-ald-1', 'cls-ald-2', 'cls-brk-1'] });
     expect(res.status).toBe(201);
     expect(res.body).toMatchObject({ studentsJoined: 0, studentsRemoved: 0, studentsLeft: 1 });
-    const [gone] = await t.db.query(`SELECT student_code, left_at FROM roster_students WHERE study_id = $1 AND link_hash = $2`, [s.studyId, linkHash(t.config.rosterLinkSecret, 'stu-000003')]);
+    const [gone] = await t.db.query(`SELECT student_code, roster_left_at AS left_at FROM students WHERE study_id = $1 AND roster_link = $2`, [s.studyId, linkHash(t.config.rosterLinkSecret, 'stu-000003')]);
     expect(gone.left_at).not.toBeNull();
     expect((await t.db.query(`SELECT count(*)::int AS n FROM students WHERE study_id = $1 AND student_code = $2`, [s.studyId, gone.student_code]))[0].n).toBe(1);
     const [entry] = await t.db.query(`SELECT after FROM audit_events WHERE study_id = $1 AND action = 'roster.students_changed' ORDER BY at DESC, id DESC LIMIT 1`, [s.studyId]);
@@ -133,29 +133,30 @@ describe('previewing and importing a OneRoster bundle', () => {
     expect(refused.body.error.details.issues[0].message).toContain('The draw is committed');
   });
 
-  // The rule is checked once per statement by triggers (migration 1796500000000), not by a row-by-row foreign key.
-  it('when a roster student is linked to a classroom of another study, or to none, then the database refuses it', async () => {
-    const [linked] = await t.db.query(`SELECT link_hash FROM roster_students WHERE study_id = $1 LIMIT 1`, [s.studyId]);
+  // A link lives on its student's registry row (migration 1796900000000), whose classroom the registry's triggers check.
+  it('when a roster student is moved to another study, or registered with a classroom that is none of its study, then the database refuses it', async () => {
+    const [linked] = await t.db.query(`SELECT roster_link FROM students WHERE study_id = $1 AND roster_link IS NOT NULL LIMIT 1`, [s.studyId]);
     const other = await createStudy(t.app, { seal: false });
     const refusedKey = { driverError: { code: '23503' } };
-    // The same classroom, but the link moved to another study.
-    await expect(t.db.query(`UPDATE roster_students SET study_id = $3 WHERE study_id = $1 AND link_hash = $2`, [s.studyId, linked.link_hash, other.studyId])).rejects.toMatchObject(refusedKey);
+    // The same classroom, but the student moved to another study.
+    await expect(t.db.query(`UPDATE students SET study_id = $3 WHERE study_id = $1 AND roster_link = $2`, [s.studyId, linked.roster_link, other.studyId])).rejects.toMatchObject(refusedKey);
     await expect(
-      t.db.query(`INSERT INTO roster_students (study_id, link_hash, student_code, classroom_id) VALUES ($1, sha256('another'::bytea), 'R9999999', gen_random_uuid())`, [s.studyId]),
+      t.db.query(`INSERT INTO students (study_id, student_code, classroom_id, roster_link, roster_joined_at) VALUES ($1, 'R9999999', gen_random_uuid(), sha256('another'::bytea), now())`, [s.studyId]),
     ).rejects.toMatchObject(refusedKey);
-    const [{ n }] = await t.db.query(`SELECT count(*)::int AS n FROM roster_students WHERE study_id = $1 OR student_code = 'R9999999'`, [other.studyId]);
+    const [{ n }] = await t.db.query(`SELECT count(*)::int AS n FROM students WHERE study_id = $1 OR student_code = 'R9999999'`, [other.studyId]);
     expect(n).toBe(0);
   });
 
-  it('when a classroom still has roster students, then it cannot be deleted, even once its codes are gone', async () => {
-    const [linked] = await t.db.query(`SELECT classroom_id FROM roster_students WHERE study_id = $1 AND left_at IS NULL LIMIT 1`, [s.studyId]);
-    await expect(
-      t.db.transaction(async (m) => {
-        await m.query(`DELETE FROM students WHERE study_id = $1 AND classroom_id = $2`, [s.studyId, linked.classroom_id]);
-        await m.query(`DELETE FROM classrooms WHERE id = $1`, [linked.classroom_id]);
-      }),
-    ).rejects.toThrow('a classroom with roster students cannot be deleted');
+  it('when a classroom still has roster students, then it cannot be deleted', async () => {
+    const [linked] = await t.db.query(`SELECT classroom_id FROM students WHERE study_id = $1 AND roster_link IS NOT NULL AND roster_left_at IS NULL LIMIT 1`, [s.studyId]);
+    await expect(t.db.query(`DELETE FROM classrooms WHERE id = $1`, [linked.classroom_id])).rejects.toThrow('a classroom with registered student codes cannot be deleted');
     expect((await t.db.query(`SELECT count(*)::int AS n FROM classrooms WHERE id = $1`, [linked.classroom_id]))[0].n).toBe(1);
+  });
+
+  it('when a link would be given without the date it joined, or to a second student, then the database refuses it', async () => {
+    const [a, b] = await t.db.query(`SELECT student_code, roster_link FROM students WHERE study_id = $1 AND roster_link IS NOT NULL ORDER BY student_code LIMIT 2`, [s.studyId]);
+    await expect(t.db.query(`UPDATE students SET roster_joined_at = NULL WHERE study_id = $1 AND student_code = $2`, [s.studyId, a.student_code])).rejects.toThrow(/students_roster_dates/);
+    await expect(t.db.query(`UPDATE students SET roster_link = $3 WHERE study_id = $1 AND student_code = $2`, [s.studyId, b.student_code, a.roster_link])).rejects.toThrow(/students_roster_link/);
   });
 });
 
@@ -168,20 +169,19 @@ describe('a student moving between classrooms before the draw', () => {
     expect((await upload(study.coordinator, url, zip(oneRosterFiles(shape)), choice)).status).toBe(201);
     const codeOf = async () =>
       (await t.db.query(
-        `SELECT rs.student_code, c.roster_sourced_id AS class, st.classroom_id = rs.classroom_id AS registered_there
-           FROM roster_students rs JOIN classrooms c ON c.id = rs.classroom_id JOIN students st ON st.study_id = rs.study_id AND st.student_code = rs.student_code
-          WHERE rs.study_id = $1 AND rs.link_hash = $2`,
+        `SELECT st.student_code, c.roster_sourced_id AS class FROM students st JOIN classrooms c ON c.id = st.classroom_id
+          WHERE st.study_id = $1 AND st.roster_link = $2`,
         [study.studyId, linkHash(t.config.rosterLinkSecret, 'stu-000001')],
       ))[0];
     const before = await codeOf();
-    expect(before).toMatchObject({ class: 'cls-ald-1', registered_there: true });
+    expect(before).toMatchObject({ class: 'cls-ald-1' });
 
     const moved = oneRosterFiles(shape);
     moved['enrollments.csv'] = moved['enrollments.csv'].replace('enr-cls-ald-1-stu-000001,,,cls-ald-1,', 'enr-cls-ald-1-stu-000001,,,cls-ald-2,');
     const res = await upload(study.coordinator, url, zip(moved), choice);
     expect(res.status).toBe(201);
     expect(res.body).toMatchObject({ studentsJoined: 1, studentsRemoved: 0, studentsLeft: 0 });
-    expect(await codeOf()).toEqual({ student_code: before.student_code, class: 'cls-ald-2', registered_there: true });
+    expect(await codeOf()).toEqual({ student_code: before.student_code, class: 'cls-ald-2' });
     const changes = await t.db.query(`SELECT after FROM audit_events WHERE study_id = $1 AND action = 'roster.students_changed' ORDER BY at DESC, id DESC LIMIT 2`, [study.studyId]);
     expect(changes.map((c: { after: { joined: string[]; movedOut: string[] } }) => [c.after.joined, c.after.movedOut]).sort()).toEqual([[[], [before.student_code]], [[before.student_code], []]].sort());
   });
@@ -200,13 +200,13 @@ describe('a roster student left out of a score sheet', () => {
     await t.db.query(`UPDATE classrooms SET teacher_id = $2 WHERE id = $1`, [room.id, teacher.userId]);
     await study.coordinator.agent.get(`/api/studies/${study.studyId}/completion`).expect(200); // creates the score sheets
     const [sheet] = await t.db.query(`SELECT id FROM score_sheets WHERE classroom_id = $1 AND wave_id = $2`, [room.id, study.baselineId]);
-    const codes: string[] = (await t.db.query(`SELECT student_code FROM roster_students WHERE study_id = $1 ORDER BY student_code`, [study.studyId])).map((r: { student_code: string }) => r.student_code);
+    const codes: string[] = (await t.db.query(`SELECT student_code FROM students WHERE study_id = $1 AND roster_link IS NOT NULL ORDER BY student_code`, [study.studyId])).map((r: { student_code: string }) => r.student_code);
     expect(codes).toHaveLength(4);
     const save = (rows: string[]) => teacher.agent.put(`/api/score-sheets/${sheet.id}`).set('x-csrf-token', teacher.csrf).send({ rows: rows.map((studentCode, i) => ({ studentCode, score: 50 + i })) });
     expect((await save(codes)).status).toBe(200);
     expect((await save(codes.slice(1))).status).toBe(200);
 
-    const registered = async () => (await t.db.query(`SELECT student_code FROM students WHERE study_id = $1 AND classroom_id = $2 ORDER BY student_code`, [study.studyId, room.id])).map((r: { student_code: string }) => r.student_code);
+    const registered = async () => (await t.db.query(`SELECT student_code FROM students WHERE study_id = $1 AND classroom_id = $2 AND roster_link IS NOT NULL ORDER BY student_code`, [study.studyId, room.id])).map((r: { student_code: string }) => r.student_code);
     expect(await registered()).toEqual(codes);
     expect((await t.db.query(`SELECT n FROM registered_counts WHERE classroom_id = $1`, [room.id]))[0].n).toBe(4);
     const again = await upload(study.coordinator, url, zip(files), choice);

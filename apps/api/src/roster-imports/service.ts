@@ -24,8 +24,7 @@ import {
   linkChosenClassrooms,
   linkSites,
   markLeft,
-  moveCodes,
-  moveLinks,
+  moveStudents,
   prepareStudentChanges,
   recordLeaving,
   recordMoves,
@@ -48,7 +47,7 @@ import {
  * Rosters from a OneRoster export. A preview stages the bundle and reports what it would enrol, then
  * rolls back; a commit stages it again with the coordinator's choice of schools and classes and writes
  * everything in one transaction. Students are matched across exports by the keyed hash of their
- * sourcedId (`roster_students`): a newer export adds the students who joined a classroom and, for
+ * sourcedId (`students.roster_link`): a newer export adds the students who joined a classroom and, for
  * those who left, removes them before the draw or, after it, records the leaving as attrition and
  * keeps their codes and scores.
  */
@@ -297,9 +296,8 @@ async function applyStudents(manager: EntityManager, studyId: string, actorId: s
   await recordLeaving(manager, studyId, drawCommitted);
   // Before the draw a student listed in another chosen classroom moves there, with the code (recorded as moving out and joining).
   if (!drawCommitted && (await recordMoves(manager, studyId))) {
-    await moveLinks(manager, studyId);
     try {
-      await moveCodes(manager, studyId);
+      await moveStudents(manager, studyId);
     } catch (err) {
       if ((err as { driverError?: { code?: string } }).driverError?.code === '23503') {
         throw AppError.conflict('The export moves a student who already has scores in their classroom; scores stay with the classroom they were given in');

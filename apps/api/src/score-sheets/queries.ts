@@ -260,7 +260,7 @@ export async function deleteUnstagedRows(manager: EntityManager, sheet: SheetKey
       WHERE st.study_id = $2 AND st.classroom_id = $3 AND st.student_code = gone.student_code
         AND NOT EXISTS (SELECT 1 FROM score_sheets sh JOIN scores x ON x.sheet_id = sh.id AND x.student_code = st.student_code
                          WHERE sh.classroom_id = $3 AND sh.id <> $1)
-        AND NOT EXISTS (SELECT 1 FROM roster_students rs WHERE rs.study_id = $2 AND rs.student_code = st.student_code)`,
+        AND st.roster_link IS NULL`,
     [sheet.id, sheet.study_id, sheet.classroom_id],
   );
 }
