@@ -94,3 +94,24 @@ describe('database guards', () => {
     await expect(t.db.query(`DELETE FROM students WHERE study_id = $1 AND student_code = 'G0-1'`, [s.studyId])).rejects.toThrow(/G0-1 is read by a locked result/);
   });
 });
+
+// Codes are upper-case; only codes a locked result read before that rule kept another spelling (migrations
+// student-code-case, student-code-case-check).
+describe('a student code kept in another spelling', () => {
+  it('is one student with any new code of its study spelled in another case: refused as a duplicate; other codes and other studies are free', async () => {
+    await owner.query(`ALTER TABLE students DROP CONSTRAINT students_code_normalised`);
+    try {
+      await owner.query(`INSERT INTO students (study_id, student_code, classroom_id) VALUES ($1, 'old-Spelt', $2)`, [s.studyId, rooms[0].id]);
+    } finally {
+      await owner.query(`ALTER TABLE students ADD CONSTRAINT students_code_normalised CHECK (student_code = upper(btrim(student_code))) NOT VALID`);
+    }
+    const register = (studyId: string, code: string, classroomId: string) => t.db.query(`INSERT INTO students (study_id, student_code, classroom_id) VALUES ($1, $2, $3)`, [studyId, code, classroomId]);
+    await expect(register(s.studyId, 'OLD-SPELT', rooms[1].id)).rejects.toMatchObject({ driverError: { code: '23505' } });
+    await register(s.studyId, 'OLD-SPELT-2', rooms[1].id);
+    await expect(t.db.query(`UPDATE students SET student_code = 'OLD-SPELT' WHERE study_id = $1 AND student_code = 'OLD-SPELT-2'`, [s.studyId])).rejects.toMatchObject({ driverError: { code: '23505' } });
+    const other = await createStudy(t.app);
+    const { classrooms } = await enrolClassrooms(other, 1, 1);
+    await register(other.studyId, 'OLD-SPELT', classrooms[0].id);
+    expect((await t.db.query(`SELECT count(*)::int AS n FROM students WHERE upper(student_code) = 'OLD-SPELT'`))[0].n).toBe(2);
+  });
+});
