@@ -50,9 +50,10 @@ export const linkHash = (secret: string, sourcedId: string) => createHmac('sha25
  * A fast unkeyed 106-bit hash (two seeds of the public-domain cyrb53) that joins enrolments to users and
  * finds duplicate enrolments inside the import's transaction, where it is dropped; a keyed hash per
  * enrolment row would double the import's cryptography. Collisions among a district's IDs: about n²/2¹⁰⁷.
+ * Two COPY fields, each half as one 53-bit integer: PostgreSQL groups and joins two bigints faster than a text.
  */
 function joinKey(id: string): string {
-  // Both seeds in one pass; each half is printed as its 21 + 32 bits in decimal (any other radix is four times slower to print).
+  // Both seeds in one pass; each half is its 21 + 32 bits as one integer (exact in a double), printed in decimal.
   let a1 = 0xdeadbeef ^ 1;
   let a2 = 0x41c6ce57 ^ 1;
   let b1 = 0xdeadbeef ^ 2;
@@ -68,7 +69,7 @@ function joinKey(id: string): string {
   a2 = Math.imul(a2 ^ (a2 >>> 16), 2246822507) ^ Math.imul(a1 ^ (a1 >>> 13), 3266489909);
   b1 = Math.imul(b1 ^ (b1 >>> 16), 2246822507) ^ Math.imul(b2 ^ (b2 >>> 13), 3266489909);
   b2 = Math.imul(b2 ^ (b2 >>> 16), 2246822507) ^ Math.imul(b1 ^ (b1 >>> 13), 3266489909);
-  return `${a2 & 2097151}.${a1}.${b2 & 2097151}.${b1}`;
+  return `${(a2 & 2097151) * 4294967296 + (a1 >>> 0)}\t${(b2 & 2097151) * 4294967296 + (b1 >>> 0)}`;
 }
 
 class Problems {

@@ -71,7 +71,7 @@ export interface BundleProblemRow {
 export async function stageMembers(manager: EntityManager, studyId: string): Promise<void> {
   await manager.query(`
     CREATE TEMP TABLE roster_members_all ON COMMIT DROP AS
-      SELECT e.class, u.link AS user_link, min(e.line) AS line FROM roster_enrolments e JOIN roster_users u ON u.key = e.user_key AND u.role = 'student'
+      SELECT e.class, u.link AS user_link, min(e.line) AS line FROM roster_enrolments e JOIN roster_users u ON u.key_a = e.user_a AND u.key_b = e.user_b AND u.role = 'student'
        WHERE e.role = 'student' GROUP BY e.class, u.link`);
   await manager.query(
     `
@@ -89,7 +89,7 @@ export async function classesPreview(manager: EntityManager, studyId: string): P
     `
       WITH teachers AS (
         SELECT DISTINCT ON (e.class) e.class, u.email, u.name, u.line
-          FROM roster_enrolments e JOIN roster_users u ON u.key = e.user_key AND u.role = 'teacher'
+          FROM roster_enrolments e JOIN roster_users u ON u.key_a = e.user_a AND u.key_b = e.user_b AND u.role = 'teacher'
          WHERE e.role = 'teacher' ORDER BY e.class, e.is_primary DESC, e.line),
       counts AS (
         SELECT m.class, count(*)::int AS students, count(*) FILTER (WHERE x.class IS NULL)::int AS joining
@@ -433,15 +433,15 @@ export function copyIntoStaging(client: PoolClient, table: StagingTable) {
   return client.query(copyFrom(`COPY ${table} FROM STDIN`));
 }
 
-/** The bundle's staging tables, one per file. Join keys are hashes: compared byte by byte ("C"), they group without the locale's rules. */
+/** The bundle's staging tables, one per file. Join keys are hashes, each as two bigints (`joinKey` in parser.ts): they group and join faster than text. */
 export async function createStagingTables(manager: EntityManager): Promise<void> {
   await manager.query(
     `
       SET LOCAL work_mem = '64MB';
       CREATE TEMP TABLE roster_orgs (line int, sourced_id text, name text, type text, identifier text) ON COMMIT DROP;
       CREATE TEMP TABLE roster_classes (line int, sourced_id text, title text, grade text, school text) ON COMMIT DROP;
-      CREATE TEMP TABLE roster_users (line int, key text COLLATE "C", link bytea, role text, email text, name text, orgs text) ON COMMIT DROP;
-      CREATE TEMP TABLE roster_enrolments (line int, key text COLLATE "C", class text, user_key text COLLATE "C", role text, is_primary boolean) ON COMMIT DROP`,
+      CREATE TEMP TABLE roster_users (line int, key_a bigint, key_b bigint, link bytea, role text, email text, name text, orgs text) ON COMMIT DROP;
+      CREATE TEMP TABLE roster_enrolments (line int, key_a bigint, key_b bigint, class text, user_a bigint, user_b bigint, role text, is_primary boolean) ON COMMIT DROP`,
   );
 }
 
@@ -450,7 +450,7 @@ export async function analyseStaging(manager: EntityManager): Promise<void> {
   await manager.query(
     `
       SET LOCAL default_statistics_target = 10;
-      ANALYZE roster_orgs, roster_classes, roster_users (key, role), roster_enrolments (class, user_key, role)`,
+      ANALYZE roster_orgs, roster_classes, roster_users (key_a, key_b, role), roster_enrolments (class, user_a, user_b, role)`,
   );
 }
 
@@ -466,10 +466,10 @@ export async function bundleProblems(manager: EntityManager, limit: number): Pro
           FROM roster_classes JOIN (SELECT sourced_id, min(line) AS first FROM roster_classes GROUP BY 1 HAVING count(*) > 1) d USING (sourced_id) WHERE line <> first
         UNION ALL
         SELECT 'users.csv', line, 'sourcedId', format('the same sourcedId is also on line %s', first)
-          FROM roster_users JOIN (SELECT key, min(line) AS first FROM roster_users GROUP BY 1 HAVING count(*) > 1) d USING (key) WHERE line <> first
+          FROM roster_users JOIN (SELECT key_a, key_b, min(line) AS first FROM roster_users GROUP BY 1, 2 HAVING count(*) > 1) d USING (key_a, key_b) WHERE line <> first
         UNION ALL
         SELECT 'enrollments.csv', line, 'sourcedId', format('the same sourcedId is also on line %s', first)
-          FROM roster_enrolments JOIN (SELECT key, min(line) AS first FROM roster_enrolments GROUP BY 1 HAVING count(*) > 1) d USING (key) WHERE line <> first
+          FROM roster_enrolments JOIN (SELECT key_a, key_b, min(line) AS first FROM roster_enrolments GROUP BY 1, 2 HAVING count(*) > 1) d USING (key_a, key_b) WHERE line <> first
         UNION ALL
         SELECT 'classes.csv', c.line, 'schoolSourcedId', format('schoolSourcedId %s is not a school in orgs.csv', c.school)
           FROM roster_classes c WHERE NOT EXISTS (SELECT 1 FROM roster_orgs o WHERE o.sourced_id = c.school AND o.type = 'school')
@@ -478,7 +478,7 @@ export async function bundleProblems(manager: EntityManager, limit: number): Pro
           FROM roster_enrolments e WHERE NOT EXISTS (SELECT 1 FROM roster_classes c WHERE c.sourced_id = e.class)
         UNION ALL
         SELECT 'enrollments.csv', e.line, 'userSourcedId', 'userSourcedId is not in users.csv'
-          FROM roster_enrolments e WHERE NOT EXISTS (SELECT 1 FROM roster_users u WHERE u.key = e.user_key))
+          FROM roster_enrolments e WHERE NOT EXISTS (SELECT 1 FROM roster_users u WHERE u.key_a = e.user_a AND u.key_b = e.user_b))
       SELECT file, line, col, message, count(*) OVER ()::int AS total FROM issues ORDER BY file, line LIMIT $1`,
     [limit],
   );
