@@ -1,6 +1,6 @@
 import type { EntityManager } from 'typeorm';
 import { attrition } from '@evenhand/stats';
-import { readClassrooms, type ClassroomRead } from './gather.js';
+import { byteOrder, readClassrooms, type ClassroomRead } from './gather.js';
 import { arms, lossReasons, type Accounting, type Arm, type AttritionCheck, type LossReason, type PrimaryTest, type SheetState, type UnitAccount } from '@evenhand/entities';
 
 /**
@@ -98,7 +98,7 @@ export function account(classrooms: readonly ClassroomStanding[], reads: readonl
     needsPretest: pretest,
     arms: out,
     attrition: { students: attritionOf(i.students, k.students), classrooms: attritionOf(i.classrooms, k.classrooms) },
-    lostClassrooms: lostClassrooms.sort((x, y) => (x.classroomId < y.classroomId ? -1 : x.classroomId > y.classroomId ? 1 : 0)),
+    lostClassrooms: lostClassrooms.sort((x, y) => byteOrder(x.classroomId, y.classroomId)),
   };
 }
 

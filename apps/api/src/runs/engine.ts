@@ -23,7 +23,7 @@ import {
 } from '@evenhand/stats';
 import { arms, type Arm, type Deciding, type PlanContent, type PrimaryTest, type RunResults } from '@evenhand/entities';
 import { ClusteredAnalysisError, assignedUnits, clusterRobust, groupBy, outcomeUnits, siteEstimatesFromComponents, twoLevel, type AssignedUnits, type ModelEffect } from './clustered.js';
-import { NORMALITY_SAMPLE, type ClassroomAggregate, type Gathered } from './gather.js';
+import { NORMALITY_SAMPLE, byteOrder, type ClassroomAggregate, type Gathered } from './gather.js';
 import { YesNoAnalysisError, yesNoAnalysis } from './yes-no.js';
 
 export interface AnalysisContext {
@@ -234,7 +234,7 @@ export function analyse(ctx: AnalysisContext, data: Gathered): RunResults {
   const components = assigned && ctx.unitOfAssignment === 'classroom' ? unadjustedComponents(data.classrooms) : null;
   const siteRows = components ? siteEstimatesFromComponents(data.classrooms, components, pooledSd(a, b), a.n + b.n) : studentSiteEstimates(data.classrooms);
   // By school name in character-code order (the classrooms come in the order of their IDs).
-  siteRows.sort((x, y) => (x.siteName < y.siteName ? -1 : x.siteName > y.siteName ? 1 : x.siteId < y.siteId ? -1 : 1));
+  siteRows.sort((x, y) => byteOrder(x.siteName, y.siteName) || byteOrder(x.siteId, y.siteId));
   let pooled: RunResults['pooled'] = null;
   if (siteRows.length >= 2) {
     const re = randomEffects(siteRows.map((s) => ({ y: s.g, v: s.se * s.se })));

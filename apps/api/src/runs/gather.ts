@@ -79,8 +79,8 @@ export interface ClassroomRead {
   rows: { digest: string | null; pretestSheetId: string | null; pretestDigest: string | null; moments: SheetMoments } | null;
 }
 
-/** Byte order of two texts of ASCII characters, such as IDs (the order of PostgreSQL's COLLATE "C"). */
-const byteOrder = (a: string, b: string) => (a < b ? -1 : a > b ? 1 : 0);
+/** Byte order of two texts of ASCII characters, such as IDs (the order of PostgreSQL's COLLATE "C"); character-code order of any two. */
+export const byteOrder = (a: string, b: string) => (a < b ? -1 : a > b ? 1 : 0);
 
 /**
  * Every classroom with an arm, in byte order of classroom ID, with what a reader of the sheets in
