@@ -115,3 +115,24 @@ describe('a student code kept in another spelling', () => {
     expect((await t.db.query(`SELECT count(*)::int AS n FROM students WHERE upper(student_code) = 'OLD-SPELT'`))[0].n).toBe(2);
   });
 });
+
+// A registered code's classroom is one of its study's classrooms (check_student_classrooms, one lookup per classroom a
+// statement writes: migration student-classroom-check-per-classroom).
+describe('a registered code’s classroom', () => {
+  it('belongs to the code’s study: a statement that registers or moves any code into another study’s classroom is refused, naming that code', async () => {
+    const other = await createStudy(t.app);
+    const { classrooms } = await enrolClassrooms(other, 1, 1);
+    const refused = { driverError: { code: '23503', message: 'student code ELSEWHERE-2 is registered to a classroom outside its study' } };
+    await expect(
+      t.db.query(`INSERT INTO students (study_id, student_code, classroom_id) VALUES ($1, 'ELSEWHERE-1', $2), ($1, 'ELSEWHERE-2', $3), ($1, 'ELSEWHERE-3', $2)`, [s.studyId, rooms[0].id, classrooms[0].id]),
+    ).rejects.toMatchObject(refused);
+    await t.db.query(`INSERT INTO students (study_id, student_code, classroom_id) VALUES ($1, 'ELSEWHERE-1', $2), ($1, 'ELSEWHERE-2', $2)`, [other.studyId, classrooms[0].id]);
+    await t.db.query(`INSERT INTO students (study_id, student_code, classroom_id) VALUES ($1, 'ELSEWHERE-2', $2)`, [s.studyId, rooms[0].id]);
+    await expect(t.db.query(`UPDATE students SET classroom_id = $2 WHERE study_id = $1 AND student_code = 'ELSEWHERE-2'`, [s.studyId, classrooms[0].id])).rejects.toMatchObject(refused);
+    expect(await t.db.query(`SELECT student_code, classroom_id FROM students WHERE student_code LIKE 'ELSEWHERE-%' ORDER BY study_id = $1, student_code`, [s.studyId])).toEqual([
+      { student_code: 'ELSEWHERE-1', classroom_id: classrooms[0].id },
+      { student_code: 'ELSEWHERE-2', classroom_id: classrooms[0].id },
+      { student_code: 'ELSEWHERE-2', classroom_id: rooms[0].id },
+    ]);
+  });
+});
