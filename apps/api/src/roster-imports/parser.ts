@@ -1,4 +1,4 @@
-import { createHmac } from 'node:crypto';
+import { createHmac, createSecretKey } from 'node:crypto';
 import { once } from 'node:events';
 import { finished } from 'node:stream/promises';
 import type { PoolClient } from 'pg';
@@ -43,8 +43,14 @@ const MAX_ID = 255;
 // eslint-disable-next-line no-control-regex -- finding control characters is the point
 const CONTROL = /[\u0000-\u0008\u000b-\u001f\u007f]/;
 
-/** The district's keyed hash of a user's sourcedId: the only form in which it is stored. */
-export const linkHash = (secret: string, sourcedId: string) => createHmac('sha256', secret).update(sourcedId, 'utf8').digest();
+/**
+ * The district's keyed hash of a user's sourcedId (HMAC-SHA-256, in hex): the only form in which it is stored. The key
+ * is prepared once per import, not once per user, and the digest is hex at once (half the cost of a Buffer turned hex).
+ */
+function linkHasher(secret: string): (sourcedId: string) => string {
+  const key = createSecretKey(Buffer.from(secret, 'utf8'));
+  return (sourcedId) => createHmac('sha256', key).update(sourcedId, 'utf8').digest('hex');
+}
 
 /**
  * A fast unkeyed 106-bit hash (two seeds of the public-domain cyrb53) that joins enrolments to users and
@@ -89,7 +95,6 @@ export function refuseRows(list: CsvRowIssue[], total: number): AppError {
 const SPECIAL = /[\\\t\n\r]/;
 const ESCAPED: Record<string, string> = { '\\': '\\\\', '\t': '\\t', '\n': '\\n', '\r': '\\r' };
 const t = (value: string | null) => (value === null ? '\\N' : SPECIAL.test(value) ? value.replace(/[\\\t\n\r]/g, (c) => ESCAPED[c]) : value);
-const bytes = (b: Buffer) => `\\\\x${b.toString('hex')}`;
 
 async function* records(bundle: Bundle, file: RosterFile): AsyncGenerator<CsvRecord[]> {
   const stream = await bundle.open(file);
@@ -156,6 +161,7 @@ export async function stageBundle(manager: EntityManager, bundle: Bundle, secret
   await createStagingTables(manager);
   const client = (await manager.queryRunner.connect()) as PoolClient;
   const problems = new Problems();
+  const link = linkHasher(secret);
 
   /** The row's value of a column, checked for length and control characters; null (with a problem) when bad. */
   const value = (file: RosterFile, r: CsvRecord, column: string, { required = false, max = MAX_ID } = {}) => {
@@ -186,7 +192,7 @@ export async function stageBundle(manager: EntityManager, bundle: Bundle, secret
     const role = (r.values.role ?? '').toLowerCase();
     if (!USER_ROLES.includes(role)) problems.add('users.csv', r.line, 'role', `role “${role}” is not a OneRoster 1.1 role`);
     if (id === null || !USER_ROLES.includes(role)) return null;
-    const keys = `${joinKey(id)}\t${bytes(linkHash(secret, id))}`;
+    const keys = `${joinKey(id)}\t\\\\x${link(id)}`;
     // A student's names, e-mail, username, identifiers, phone, grades and password are dropped here.
     if (role === 'student') return `${r.line}\t${keys}\tstudent\t\\N\t\\N\t\\N\n`;
     if (role !== 'teacher' && role !== 'administrator') return `${r.line}\t${keys}\t${role}\t\\N\t\\N\t\\N\n`;

@@ -134,7 +134,7 @@ export async function schoolsPreview(manager: EntityManager, studyId: string): P
 
 /** How many students the export lists in any class. */
 export async function exportStudentCount(manager: EntityManager): Promise<number> {
-  const [{ students }] = await manager.query(`SELECT count(DISTINCT user_link)::int AS students FROM roster_members_all`);
+  const [{ students }] = await manager.query(`SELECT count(*)::int AS students FROM (SELECT DISTINCT user_link FROM roster_members_all) x`);
   return students;
 }
 

@@ -1,3 +1,4 @@
+import { createHmac } from 'node:crypto';
 import { readFileSync } from 'node:fs';
 import { deflateRawSync } from 'node:zlib';
 import type { RosterImport, RosterPreview } from '@evenhand/entities';
@@ -7,7 +8,6 @@ import { createStudy, type StudySetup } from '../../test/fixtures.js';
 import { uniqueAddress, waitForMail } from '../../test/mail.js';
 import { DEMO_BUNDLE, DEMO_SHAPE, oneRosterFiles, zipBundle, zipEntries } from '../../dev/oneroster-bundle.js';
 import { MAX_PACKING_RATIO } from './bundle.js';
-import { linkHash } from './parser.js';
 
 let t: TestApp;
 let s: StudySetup;
@@ -25,6 +25,8 @@ const upload = (who: SignedIn, url: string, files: { name: string; data: Buffer 
 };
 const previewUrl = () => `/api/studies/${s.studyId}/roster-imports/preview`;
 const commitUrl = () => `/api/studies/${s.studyId}/roster-imports`;
+/** A user's stored link, computed here as the issue defines it (HMAC-SHA-256 of the sourcedId under the district's secret). */
+const linkOf = (sourcedId: string) => createHmac('sha256', t.config.rosterLinkSecret).update(sourcedId, 'utf8').digest();
 const zip = (files: Record<string, string>) => [{ name: 'roster.zip', data: zipBundle(files) }];
 
 /** Row counts of everything an import could write: a refused bundle must leave them all as they were. */
@@ -75,7 +77,7 @@ describe('previewing and importing a OneRoster bundle', () => {
     await waitForMail('teacher.ald1@roster.evenhand.test');
 
     // The link is the keyed hash of the export's sourcedId, never the sourcedId itself.
-    const [first] = await t.db.query(`SELECT student_code FROM students WHERE study_id = $1 AND roster_link = $2`, [s.studyId, linkHash(t.config.rosterLinkSecret, 'stu-000001')]);
+    const [first] = await t.db.query(`SELECT student_code FROM students WHERE study_id = $1 AND roster_link = $2`, [s.studyId, linkOf('stu-000001')]);
     expect(first.student_code).toMatch(/^R\d{7}$/);
     expect((await t.db.query(`SELECT count(*)::int AS n FROM students WHERE study_id = $1 AND student_code LIKE 'R%'`, [s.studyId]))[0].n).toBe(36);
     const [{ dump }] = await t.db.query(
@@ -121,7 +123,7 @@ describe('previewing and importing a OneRoster bundle', () => {
     const res = await upload(s.coordinator, commitUrl(), zip(latest), { schools: ['org-ald', 'org-brk'], classes: ['cls-ald-1', 'cls-ald-2', 'cls-brk-1'] });
     expect(res.status).toBe(201);
     expect(res.body).toMatchObject({ studentsJoined: 0, studentsRemoved: 0, studentsLeft: 1 });
-    const [gone] = await t.db.query(`SELECT student_code, roster_left_at AS left_at FROM students WHERE study_id = $1 AND roster_link = $2`, [s.studyId, linkHash(t.config.rosterLinkSecret, 'stu-000003')]);
+    const [gone] = await t.db.query(`SELECT student_code, roster_left_at AS left_at FROM students WHERE study_id = $1 AND roster_link = $2`, [s.studyId, linkOf('stu-000003')]);
     expect(gone.left_at).not.toBeNull();
     expect((await t.db.query(`SELECT count(*)::int AS n FROM students WHERE study_id = $1 AND student_code = $2`, [s.studyId, gone.student_code]))[0].n).toBe(1);
     const [entry] = await t.db.query(`SELECT after FROM audit_events WHERE study_id = $1 AND action = 'roster.students_changed' ORDER BY at DESC, id DESC LIMIT 1`, [s.studyId]);
@@ -171,7 +173,7 @@ describe('a student moving between classrooms before the draw', () => {
       (await t.db.query(
         `SELECT st.student_code, c.roster_sourced_id AS class FROM students st JOIN classrooms c ON c.id = st.classroom_id
           WHERE st.study_id = $1 AND st.roster_link = $2`,
-        [study.studyId, linkHash(t.config.rosterLinkSecret, 'stu-000001')],
+        [study.studyId, linkOf('stu-000001')],
       ))[0];
     const before = await codeOf();
     expect(before).toMatchObject({ class: 'cls-ald-1' });
