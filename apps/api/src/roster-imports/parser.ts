@@ -8,6 +8,7 @@ import { AppError } from '../errors.js';
 import { csvStreamBatches, type CsvRecord } from '../lib/csv.js';
 import type { Bundle, RosterFile } from './bundle.js';
 import { analyseStaging, bundleProblems, copyIntoStaging, createStagingTables, type StagingTable } from './queries.js';
+import { RepeatFilter } from './repeats.js';
 
 /**
  * Reads a OneRoster 1.1 bulk bundle into temporary tables on the transaction's connection, batch by
@@ -57,8 +58,9 @@ function linkHasher(secret: string): (sourcedId: string) => string {
  * finds duplicate enrolments inside the import's transaction, where it is dropped; a keyed hash per
  * enrolment row would double the import's cryptography. Collisions among a district's IDs: about n²/2¹⁰⁷.
  * Two COPY fields, each half as one 53-bit integer: PostgreSQL groups and joins two bigints faster than a text.
+ * With a filter, the key (mixed with `salt`, when given) is also noted there.
  */
-function joinKey(id: string): string {
+function joinKey(id: string, seen?: RepeatFilter, salt = 0): string {
   // Both seeds in one pass; each half is its 21 + 32 bits as one integer (exact in a double), printed in decimal.
   let a1 = 0xdeadbeef ^ 1;
   let a2 = 0x41c6ce57 ^ 1;
@@ -75,7 +77,15 @@ function joinKey(id: string): string {
   a2 = Math.imul(a2 ^ (a2 >>> 16), 2246822507) ^ Math.imul(a1 ^ (a1 >>> 13), 3266489909);
   b1 = Math.imul(b1 ^ (b1 >>> 16), 2246822507) ^ Math.imul(b2 ^ (b2 >>> 13), 3266489909);
   b2 = Math.imul(b2 ^ (b2 >>> 16), 2246822507) ^ Math.imul(b1 ^ (b1 >>> 13), 3266489909);
+  seen?.note(a1 ^ salt, b1 ^ Math.imul(salt, 0x9e3779b1));
   return `${(a2 & 2097151) * 4294967296 + (a1 >>> 0)}\t${(b2 & 2097151) * 4294967296 + (b1 >>> 0)}`;
+}
+
+/** A 32-bit FNV-1a hash of a text, to mix a class into its students' keys. */
+function textHash(text: string): number {
+  let h = 0x811c9dc5;
+  for (let i = 0; i < text.length; i++) h = Math.imul(h ^ text.charCodeAt(i), 0x01000193);
+  return h;
 }
 
 class Problems {
@@ -150,18 +160,26 @@ async function copyRows(client: PoolClient, bundle: Bundle, file: RosterFile, ta
   return rows;
 }
 
+/** What staging learnt on the way that later statements can use. */
+export interface StagedBundle {
+  /** Whether a student may be enrolled twice in one class (else the class lists are read without grouping). */
+  studentsMayRepeatInAClass: boolean;
+}
+
 /**
  * Stages a bundle in `roster_orgs`, `roster_classes`, `roster_users` and `roster_enrolments` (dropped at
  * the end of the transaction) and throws a row-numbered 400 for anything wrong. Rows whose status is
- * `tobedeleted` are left out.
+ * `tobedeleted` are left out. The keys of users, of enrolments and of each student's place in a class pass
+ * through fixed-size filters on the way, so that SQL groups them to find repeats only when one may exist.
  */
-export async function stageBundle(manager: EntityManager, bundle: Bundle, secret: string): Promise<void> {
+export async function stageBundle(manager: EntityManager, bundle: Bundle, secret: string): Promise<StagedBundle> {
   if (!manager.queryRunner) throw new Error('stageBundle runs inside a transaction');
   await readManifest(bundle);
   await createStagingTables(manager);
   const client = (await manager.queryRunner.connect()) as PoolClient;
   const problems = new Problems();
   const link = linkHasher(secret);
+  const repeats = { users: new RepeatFilter(), enrolments: new RepeatFilter(), studentsInClasses: new RepeatFilter() };
 
   /** The row's value of a column, checked for length and control characters; null (with a problem) when bad. */
   const value = (file: RosterFile, r: CsvRecord, column: string, { required = false, max = MAX_ID } = {}) => {
@@ -192,7 +210,7 @@ export async function stageBundle(manager: EntityManager, bundle: Bundle, secret
     const role = (r.values.role ?? '').toLowerCase();
     if (!USER_ROLES.includes(role)) problems.add('users.csv', r.line, 'role', `role “${role}” is not a OneRoster 1.1 role`);
     if (id === null || !USER_ROLES.includes(role)) return null;
-    const keys = `${joinKey(id)}\t\\\\x${link(id)}`;
+    const keys = `${joinKey(id, repeats.users)}\t\\\\x${link(id)}`;
     // A student's names, e-mail, username, identifiers, phone, grades and password are dropped here.
     if (role === 'student') return `${r.line}\t${keys}\tstudent\t\\N\t\\N\t\\N\n`;
     if (role !== 'teacher' && role !== 'administrator') return `${r.line}\t${keys}\t${role}\t\\N\t\\N\t\\N\n`;
@@ -212,11 +230,13 @@ export async function stageBundle(manager: EntityManager, bundle: Bundle, secret
     if (!ENROLMENT_ROLES.includes(role)) problems.add('enrollments.csv', r.line, 'role', `role “${role}” is not a OneRoster 1.1 enrolment role`);
     if (id === null || cls === null || user === null || !ENROLMENT_ROLES.includes(role)) return null;
     // An enrolment's own sourcedId often embeds the student's: only join keys reach the database.
-    return `${r.line}\t${joinKey(id)}\t${t(cls)}\t${joinKey(user)}\t${role}\t${r.values.primary?.toLowerCase() === 'true' ? 't' : 'f'}\n`;
+    const userKey = role === 'student' ? joinKey(user, repeats.studentsInClasses, textHash(cls)) : joinKey(user);
+    return `${r.line}\t${joinKey(id, repeats.enrolments)}\t${t(cls)}\t${userKey}\t${role}\t${r.values.primary?.toLowerCase() === 'true' ? 't' : 'f'}\n`;
   });
   if (problems.total) throw refuseRows(problems.list, problems.total);
 
   await analyseStaging(manager);
-  const found = await bundleProblems(manager, REPORTED);
+  const found = await bundleProblems(manager, REPORTED, { users: repeats.users.mayRepeat, enrolments: repeats.enrolments.mayRepeat });
   if (found.length) throw refuseRows(found.map((f) => ({ row: f.line, column: `${f.file}: ${f.col}`, message: f.message })), found[0].total);
+  return { studentsMayRepeatInAClass: repeats.studentsInClasses.mayRepeat };
 }

@@ -63,16 +63,23 @@ export interface BundleProblemRow {
   total: number;
 }
 
+const MEMBERS = {
+  grouped: `
+    SELECT e.class, u.link AS user_link, min(e.line) AS line FROM roster_enrolments e JOIN roster_users u ON u.key_a = e.user_a AND u.key_b = e.user_b AND u.role = 'student'
+     WHERE e.role = 'student' GROUP BY e.class, u.link`,
+  listed: `
+    SELECT e.class, u.link AS user_link, e.line FROM roster_enrolments e JOIN roster_users u ON u.key_a = e.user_a AND u.key_b = e.user_b AND u.role = 'student'
+     WHERE e.role = 'student'`,
+};
+
 /**
  * Each class's students as the export lists them (by keyed hash, with the first enrollments.csv line that lists the
  * student there) and as earlier imports left them in the study, as tables with statistics: comparing the two then plans
  * as hash joins at any size.
  */
-export async function stageMembers(manager: EntityManager, studyId: string): Promise<void> {
-  await manager.query(`
-    CREATE TEMP TABLE roster_members_all ON COMMIT DROP AS
-      SELECT e.class, u.link AS user_link, min(e.line) AS line FROM roster_enrolments e JOIN roster_users u ON u.key_a = e.user_a AND u.key_b = e.user_b AND u.role = 'student'
-       WHERE e.role = 'student' GROUP BY e.class, u.link`);
+export async function stageMembers(manager: EntityManager, studyId: string, studentsMayRepeatInAClass: boolean): Promise<void> {
+  // A student listed twice in a class is one member of it, from the first line: grouped only when staging saw that may happen.
+  await manager.query(`CREATE TEMP TABLE roster_members_all ON COMMIT DROP AS ${studentsMayRepeatInAClass ? MEMBERS.grouped : MEMBERS.listed}`);
   await manager.query(
     `
       CREATE TEMP TABLE roster_current ON COMMIT DROP AS
@@ -454,31 +461,42 @@ export async function analyseStaging(manager: EntityManager): Promise<void> {
   );
 }
 
-/** Duplicate sourcedIds and references to nothing in the staged bundle, in file and line order, at most `limit`, each with the total. */
-export async function bundleProblems(manager: EntityManager, limit: number): Promise<BundleProblemRow[]> {
+// The bundle's problems, one query each, in file and line order in `bundleProblems`.
+const PROBLEM_QUERIES = {
+  orgRepeats: `
+    SELECT 'orgs.csv' AS file, line, 'sourcedId' AS col, format('sourcedId %s is also on line %s', sourced_id, first) AS message
+      FROM roster_orgs JOIN (SELECT sourced_id, min(line) AS first FROM roster_orgs GROUP BY 1 HAVING count(*) > 1) d USING (sourced_id) WHERE line <> first`,
+  classRepeats: `
+    SELECT 'classes.csv', line, 'sourcedId', format('sourcedId %s is also on line %s', sourced_id, first)
+      FROM roster_classes JOIN (SELECT sourced_id, min(line) AS first FROM roster_classes GROUP BY 1 HAVING count(*) > 1) d USING (sourced_id) WHERE line <> first`,
+  userRepeats: `
+    SELECT 'users.csv', line, 'sourcedId', format('the same sourcedId is also on line %s', first)
+      FROM roster_users JOIN (SELECT key_a, key_b, min(line) AS first FROM roster_users GROUP BY 1, 2 HAVING count(*) > 1) d USING (key_a, key_b) WHERE line <> first`,
+  enrolmentRepeats: `
+    SELECT 'enrollments.csv', line, 'sourcedId', format('the same sourcedId is also on line %s', first)
+      FROM roster_enrolments JOIN (SELECT key_a, key_b, min(line) AS first FROM roster_enrolments GROUP BY 1, 2 HAVING count(*) > 1) d USING (key_a, key_b) WHERE line <> first`,
+  classSchools: `
+    SELECT 'classes.csv', c.line, 'schoolSourcedId', format('schoolSourcedId %s is not a school in orgs.csv', c.school)
+      FROM roster_classes c WHERE NOT EXISTS (SELECT 1 FROM roster_orgs o WHERE o.sourced_id = c.school AND o.type = 'school')`,
+  enrolmentClasses: `
+    SELECT 'enrollments.csv', e.line, 'classSourcedId', format('classSourcedId %s is not in classes.csv', e.class)
+      FROM roster_enrolments e WHERE NOT EXISTS (SELECT 1 FROM roster_classes c WHERE c.sourced_id = e.class)`,
+  enrolmentUsers: `
+    SELECT 'enrollments.csv', e.line, 'userSourcedId', 'userSourcedId is not in users.csv'
+      FROM roster_enrolments e WHERE NOT EXISTS (SELECT 1 FROM roster_users u WHERE u.key_a = e.user_a AND u.key_b = e.user_b)`,
+};
+
+/**
+ * Duplicate sourcedIds and references to nothing in the staged bundle, in file and line order, at most `limit`, each
+ * with the total. Users and enrolments are grouped to find repeated sourcedIds only when staging's filters say a key may
+ * have repeated (`RepeatFilter`): the two largest groupings of an import, which a clean export never needs.
+ */
+export async function bundleProblems(manager: EntityManager, limit: number, mayRepeat: { users: boolean; enrolments: boolean }): Promise<BundleProblemRow[]> {
+  const q = PROBLEM_QUERIES;
+  const checks = [q.orgRepeats, q.classRepeats, ...(mayRepeat.users ? [q.userRepeats] : []), ...(mayRepeat.enrolments ? [q.enrolmentRepeats] : []), q.classSchools, q.enrolmentClasses, q.enrolmentUsers];
   return manager.query(
     `
-      WITH issues AS (
-        SELECT 'orgs.csv' AS file, line, 'sourcedId' AS col, format('sourcedId %s is also on line %s', sourced_id, first) AS message
-          FROM roster_orgs JOIN (SELECT sourced_id, min(line) AS first FROM roster_orgs GROUP BY 1 HAVING count(*) > 1) d USING (sourced_id) WHERE line <> first
-        UNION ALL
-        SELECT 'classes.csv', line, 'sourcedId', format('sourcedId %s is also on line %s', sourced_id, first)
-          FROM roster_classes JOIN (SELECT sourced_id, min(line) AS first FROM roster_classes GROUP BY 1 HAVING count(*) > 1) d USING (sourced_id) WHERE line <> first
-        UNION ALL
-        SELECT 'users.csv', line, 'sourcedId', format('the same sourcedId is also on line %s', first)
-          FROM roster_users JOIN (SELECT key_a, key_b, min(line) AS first FROM roster_users GROUP BY 1, 2 HAVING count(*) > 1) d USING (key_a, key_b) WHERE line <> first
-        UNION ALL
-        SELECT 'enrollments.csv', line, 'sourcedId', format('the same sourcedId is also on line %s', first)
-          FROM roster_enrolments JOIN (SELECT key_a, key_b, min(line) AS first FROM roster_enrolments GROUP BY 1, 2 HAVING count(*) > 1) d USING (key_a, key_b) WHERE line <> first
-        UNION ALL
-        SELECT 'classes.csv', c.line, 'schoolSourcedId', format('schoolSourcedId %s is not a school in orgs.csv', c.school)
-          FROM roster_classes c WHERE NOT EXISTS (SELECT 1 FROM roster_orgs o WHERE o.sourced_id = c.school AND o.type = 'school')
-        UNION ALL
-        SELECT 'enrollments.csv', e.line, 'classSourcedId', format('classSourcedId %s is not in classes.csv', e.class)
-          FROM roster_enrolments e WHERE NOT EXISTS (SELECT 1 FROM roster_classes c WHERE c.sourced_id = e.class)
-        UNION ALL
-        SELECT 'enrollments.csv', e.line, 'userSourcedId', 'userSourcedId is not in users.csv'
-          FROM roster_enrolments e WHERE NOT EXISTS (SELECT 1 FROM roster_users u WHERE u.key_a = e.user_a AND u.key_b = e.user_b))
+      WITH issues AS (${checks.join(' UNION ALL ')})
       SELECT file, line, col, message, count(*) OVER ()::int AS total FROM issues ORDER BY file, line LIMIT $1`,
     [limit],
   );

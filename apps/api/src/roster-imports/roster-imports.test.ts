@@ -344,11 +344,15 @@ describe('refusing bad bundles: a clear 4xx and nothing changes', () => {
     expect(error.details!.rows).toEqual([{ row: 6, column: 'enrollments.csv: classSourcedId', message: 'classSourcedId cls-nowhere is not in classes.csv' }]);
   });
 
-  it('refuses a duplicate sourcedId, naming both lines', async () => {
+  it('refuses a duplicate sourcedId in users.csv or enrollments.csv, naming both lines', async () => {
     const files = good();
     files['users.csv'] += 'stu-000002,,,true,org-ald,student,,,Given2,Family2,,,,,,,04,\r\n';
     const error = await refusedWith(zip(files), 400);
     expect(error.details!.rows).toEqual([{ row: 7, column: 'users.csv: sourcedId', message: 'the same sourcedId is also on line 5' }]);
+    const enrolments = good();
+    enrolments['enrollments.csv'] += 'enr-cls-ald-1-stu-000002,,,cls-ald-1,org-ald,stu-000003,student,false,,\r\n';
+    const repeated = await refusedWith(zip(enrolments), 400);
+    expect(repeated.details!.rows).toEqual([{ row: 6, column: 'enrollments.csv: sourcedId', message: 'the same sourcedId is also on line 4' }]);
   });
 
   it('refuses a student enrolled in two chosen classes, naming both lines; listed twice in one class, the student is one member of it', async () => {

@@ -8,7 +8,7 @@ import { findVisibleStudy } from '../studies/access.js';
 import { advanceStatus } from '../studies/service.js';
 import { ensurePeople, type Naming, type NamingRefusal } from '../accounts/role-invitations.js';
 import type { Bundle } from './bundle.js';
-import { refuseRows, stageBundle } from './parser.js';
+import { refuseRows, stageBundle, type StagedBundle } from './parser.js';
 import {
   auditStudentChanges,
   changeCounts,
@@ -61,8 +61,8 @@ interface PeopleLines {
 }
 
 /** The staged schools and classes against the study as it is, and the lines that name their people. */
-async function describe(manager: EntityManager, studyId: string, drawCommitted: boolean): Promise<{ preview: RosterPreview; lines: PeopleLines }> {
-  await stageMembers(manager, studyId);
+async function describe(manager: EntityManager, studyId: string, staged: StagedBundle, drawCommitted: boolean): Promise<{ preview: RosterPreview; lines: PeopleLines }> {
+  await stageMembers(manager, studyId, staged.studentsMayRepeatInAClass);
   const classes = await classesPreview(manager, studyId);
   const schools = await schoolsPreview(manager, studyId);
   const bySchool = new Map<string, RosterSchoolPreview['classes']>();
@@ -121,9 +121,9 @@ export async function previewRoster(deps: Deps, actor: SessionUser, studyId: str
   await runner.startTransaction();
   try {
     await findVisibleStudy(runner.manager, actor, studyId);
-    await stageBundle(runner.manager, bundle, deps.config.rosterLinkSecret);
+    const staged = await stageBundle(runner.manager, bundle, deps.config.rosterLinkSecret);
     const drawCommitted = await runner.manager.existsBy(DrawEntity, { studyId });
-    return (await describe(runner.manager, studyId, drawCommitted)).preview;
+    return (await describe(runner.manager, studyId, staged, drawCommitted)).preview;
   } finally {
     await runner.rollbackTransaction();
     await runner.release();
@@ -136,9 +136,9 @@ const rowError = (row: number, column: string, message: string): CsvRowIssue => 
 export async function commitRoster(deps: Deps, actor: SessionUser, studyId: string, bundle: Bundle, selection: RosterSelection): Promise<RosterImport> {
   const { result } = await deps.db.transaction(async (manager) => {
     await findVisibleStudy(manager, actor, studyId, true);
-    await stageBundle(manager, bundle, deps.config.rosterLinkSecret);
+    const staged = await stageBundle(manager, bundle, deps.config.rosterLinkSecret);
     const drawCommitted = await manager.existsBy(DrawEntity, { studyId });
-    const { preview, lines } = await describe(manager, studyId, drawCommitted);
+    const { preview, lines } = await describe(manager, studyId, staged, drawCommitted);
 
     // The choice must name the bundle's own schools and classes, each class with its school.
     const issues: { path: string; message: string }[] = [];
