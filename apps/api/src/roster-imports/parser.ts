@@ -36,6 +36,10 @@ export const ROSTER_COLUMNS = {
   'enrollments.csv': ['sourcedId', 'status', 'dateLastModified', 'classSourcedId', 'schoolSourcedId', 'userSourcedId', 'role', 'primary', 'beginDate', 'endDate'],
 } as const satisfies Record<RosterFile, readonly string[]>;
 
+type RosterColumn = (typeof ROSTER_COLUMNS)[RosterFile][number];
+/** Each header as records are keyed (lower case), lowered once rather than for every value read. */
+const KEYS = Object.fromEntries(Object.values(ROSTER_COLUMNS).flatMap((columns) => columns.map((c) => [c, c.toLowerCase()]))) as Record<RosterColumn, string>;
+const REQUIRED = { required: true } as const;
 const USER_ROLES = ['administrator', 'aide', 'guardian', 'parent', 'proctor', 'relative', 'student', 'teacher'];
 const ENROLMENT_ROLES = ['administrator', 'proctor', 'student', 'teacher'];
 const REPORTED = 500;
@@ -182,8 +186,8 @@ export async function stageBundle(manager: EntityManager, bundle: Bundle, secret
   const repeats = { users: new RepeatFilter(), enrolments: new RepeatFilter(), studentsInClasses: new RepeatFilter() };
 
   /** The row's value of a column, checked for length and control characters; null (with a problem) when bad. */
-  const value = (file: RosterFile, r: CsvRecord, column: string, { required = false, max = MAX_ID } = {}) => {
-    const v = r.values[column.toLowerCase()] ?? '';
+  const value = (file: RosterFile, r: CsvRecord, column: RosterColumn, { required = false, max = MAX_ID } = {}) => {
+    const v = r.values[KEYS[column]] ?? '';
     if (required && !v) return problems.add(file, r.line, column, `${column} is empty`), null;
     if (v.length > max) return problems.add(file, r.line, column, `${column} is longer than ${max} characters`), null;
     if (CONTROL.test(v)) return problems.add(file, r.line, column, `${column} contains control characters`), null;
@@ -193,20 +197,20 @@ export async function stageBundle(manager: EntityManager, bundle: Bundle, secret
 
   await copyRows(client, bundle, 'orgs.csv', 'roster_orgs', (r) => {
     if (deleted(r)) return null;
-    const [id, name, type, identifier] = [value('orgs.csv', r, 'sourcedId', { required: true }), value('orgs.csv', r, 'name', { required: true, max: 160 }), value('orgs.csv', r, 'type', { required: true }), value('orgs.csv', r, 'identifier', { max: 20 })];
+    const [id, name, type, identifier] = [value('orgs.csv', r, 'sourcedId', REQUIRED), value('orgs.csv', r, 'name', { required: true, max: 160 }), value('orgs.csv', r, 'type', REQUIRED), value('orgs.csv', r, 'identifier', { max: 20 })];
     if (id === null || name === null || type === null || identifier === null) return null;
     return `${r.line}\t${t(id)}\t${t(name)}\t${t(type.toLowerCase())}\t${t(identifier)}\n`;
   });
   await copyRows(client, bundle, 'classes.csv', 'roster_classes', (r) => {
     if (deleted(r)) return null;
-    const [id, title, grades, school] = [value('classes.csv', r, 'sourcedId', { required: true }), value('classes.csv', r, 'title', { required: true, max: 120 }), value('classes.csv', r, 'grades'), value('classes.csv', r, 'schoolSourcedId', { required: true })];
+    const [id, title, grades, school] = [value('classes.csv', r, 'sourcedId', REQUIRED), value('classes.csv', r, 'title', { required: true, max: 120 }), value('classes.csv', r, 'grades'), value('classes.csv', r, 'schoolSourcedId', REQUIRED)];
     if (id === null || title === null || grades === null || school === null) return null;
     const grade = grades.split(',')[0].trim().slice(0, 20) || 'not given';
     return `${r.line}\t${t(id)}\t${t(title)}\t${t(grade)}\t${t(school)}\n`;
   });
   await copyRows(client, bundle, 'users.csv', 'roster_users', (r) => {
     if (deleted(r)) return null;
-    const id = value('users.csv', r, 'sourcedId', { required: true });
+    const id = value('users.csv', r, 'sourcedId', REQUIRED);
     const role = (r.values.role ?? '').toLowerCase();
     if (!USER_ROLES.includes(role)) problems.add('users.csv', r.line, 'role', `role “${role}” is not a OneRoster 1.1 role`);
     if (id === null || !USER_ROLES.includes(role)) return null;
@@ -225,7 +229,9 @@ export async function stageBundle(manager: EntityManager, bundle: Bundle, secret
   });
   await copyRows(client, bundle, 'enrollments.csv', 'roster_enrolments', (r) => {
     if (deleted(r)) return null;
-    const [id, cls, user] = [value('enrollments.csv', r, 'sourcedId', { required: true }), value('enrollments.csv', r, 'classSourcedId', { required: true }), value('enrollments.csv', r, 'userSourcedId', { required: true })];
+    const id = value('enrollments.csv', r, 'sourcedId', REQUIRED);
+    const cls = value('enrollments.csv', r, 'classSourcedId', REQUIRED);
+    const user = value('enrollments.csv', r, 'userSourcedId', REQUIRED);
     const role = (r.values.role ?? '').toLowerCase();
     if (!ENROLMENT_ROLES.includes(role)) problems.add('enrollments.csv', r.line, 'role', `role “${role}” is not a OneRoster 1.1 enrolment role`);
     if (id === null || cls === null || user === null || !ENROLMENT_ROLES.includes(role)) return null;
