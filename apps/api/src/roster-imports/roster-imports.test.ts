@@ -365,6 +365,10 @@ describe('refusing bad bundles: a clear 4xx and nothing changes', () => {
     const twiceInOne = { ...files, 'enrollments.csv': `${files['enrollments.csv']}enr-y,,,cls-ald-1,org-ald,stu-000002,student,false,,\r\n` };
     const preview = (await upload(s.coordinator, previewUrl(), zip(twiceInOne))).body as RosterPreview;
     expect(preview.schools[0].classes.map((c) => [c.sourcedId, c.students])).toEqual([['cls-ald-1', 3], ['cls-ald-2', 3]]);
+    const study = await createStudy(t.app);
+    const imported = await upload(study.coordinator, `/api/studies/${study.studyId}/roster-imports`, zip(twiceInOne), { schools: ['org-ald'], classes: ['cls-ald-1'] });
+    expect(imported.status).toBe(201);
+    expect((imported.body as RosterImport).studentsJoined).toBe(3);
   });
 
   it('refuses a delta export and another OneRoster version', async () => {
