@@ -461,7 +461,8 @@ export async function analyseStaging(manager: EntityManager): Promise<void> {
   );
 }
 
-// The bundle's problems, one query each, in file and line order in `bundleProblems`.
+// The bundle's checks, each selecting (file, line, col, message) of the lines it refuses (the first, always run, names the
+// columns); `bundleProblems` unites those it needs.
 const PROBLEM_QUERIES = {
   orgRepeats: `
     SELECT 'orgs.csv' AS file, line, 'sourcedId' AS col, format('sourcedId %s is also on line %s', sourced_id, first) AS message
