@@ -180,6 +180,11 @@ describe('comparison runs', () => {
     expect(bundle.plan.version).toBe(1);
     expect(bundle.draw.seed).toBe('runs-test');
     expect(bundle.readme).toMatch(/SHA-256/);
+    // The README describes every part of the bundle beyond its identity (run, comparison, engine version, data hash).
+    const identity = ['readme', 'run', 'comparison', 'engineVersion', 'dataSha256'];
+    const parts = Object.keys(bundle).filter((key) => !identity.includes(key));
+    expect(parts).toContain('evidence');
+    expect(parts.filter((key) => !bundle.readme.includes(`- ${key}:`))).toEqual([]);
   });
 
   it('computes the same from the digests and sums stored when sheets are accepted as from the rows, and forgets them when a score changes', async () => {

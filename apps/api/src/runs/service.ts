@@ -216,7 +216,11 @@ This file holds everything needed to recompute a locked comparison:
   "lostClassrooms" lists each classroom not analysed with its reason; "attrition" is worked out from these counts
   (overall and differential, against both published boundaries). The analysed students per arm are the rows with an
   outcome (and a pretest when "needsPretest"), plus the summaries' n when it is false;
-- results: the numbers Evenhand computed, with the statistics engine's version.
+- results: the numbers Evenhand computed, with the statistics engine's version;
+- evidence: the evidence verdict as the report shows it, with every reason and the attrition boundary it was judged
+  against ("cautious" or "optimistic", and why): for a locked run the verdict stored when it was locked, for a finished
+  run its comparison's current verdict when that verdict reads this run, and null otherwise (an exploratory comparison,
+  or an older run). It is Evenhand's preview of a rating; the evidence reviewers decide.
 
 To check the data: for each classroom (its rows are consecutive), take "student_code,outcome" of the rows with an
 outcome, joined with a newline ("\\n"), and compute the SHA-256 as lowercase hex: the outcome digest; the same with
