@@ -63,13 +63,11 @@ export interface BundleProblemRow {
   total: number;
 }
 
+const STUDENT_ENROLMENTS = `
+  roster_enrolments e JOIN roster_users u ON u.key_a = e.user_a AND u.key_b = e.user_b AND u.role = 'student' WHERE e.role = 'student'`;
 const MEMBERS = {
-  grouped: `
-    SELECT e.class, u.link AS user_link, min(e.line) AS line FROM roster_enrolments e JOIN roster_users u ON u.key_a = e.user_a AND u.key_b = e.user_b AND u.role = 'student'
-     WHERE e.role = 'student' GROUP BY e.class, u.link`,
-  listed: `
-    SELECT e.class, u.link AS user_link, e.line FROM roster_enrolments e JOIN roster_users u ON u.key_a = e.user_a AND u.key_b = e.user_b AND u.role = 'student'
-     WHERE e.role = 'student'`,
+  grouped: `SELECT e.class, u.link AS user_link, min(e.line) AS line FROM ${STUDENT_ENROLMENTS} GROUP BY e.class, u.link`,
+  listed: `SELECT e.class, u.link AS user_link, e.line FROM ${STUDENT_ENROLMENTS}`,
 };
 
 /**
